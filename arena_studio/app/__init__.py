@@ -1,0 +1,1 @@
+"""The Qt desktop application: windows, canvas, docks, undo commands, settings."""

@@ -1,0 +1,66 @@
+"""The ``arena-studio`` command: a thin dispatcher over :mod:`arena_studio.commands`.
+
+``arena-studio [PATH] [--screenshot OUT.png]`` opens the app; ``arena-studio COMMAND ...``
+runs a batch command. Every command returns an exit code: 0 fine, 1 problems found in the
+input, 2 the input could not be read or the arguments are wrong.
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from collections.abc import Sequence
+
+from . import __version__
+from .commands import COMMANDS, load_command
+
+
+def _command_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="arena-studio",
+        description=(
+            "Workbench for cooperative multi-robot landmark tasks. Run with no command (or a "
+            "scene/tape path) to open the app, or use one of the commands below."
+        ),
+        epilog="Run 'arena-studio COMMAND --help' for a command's options. Scenes and par "
+        "times are simulation aids, not safety assessments.",
+    )
+    parser.add_argument("--version", action="version", version=f"arena-studio {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND", title="commands")
+    app = sub.add_parser("app", help="open the desktop app (the default with no command)")
+    add_app_arguments(app)
+    for name in COMMANDS:
+        module = load_command(name)
+        cmd = sub.add_parser(name, help=module.HELP, description=module.HELP)
+        module.add_arguments(cmd)
+    return parser
+
+
+def add_app_arguments(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("path", nargs="?", help="a scene (.scene.json/.scene.msgpack) or tape")
+    parser.add_argument("--screenshot", metavar="OUT.png", help="render the window and exit")
+    parser.add_argument("--episode", type=int, default=None, help="tape episode to show")
+    parser.add_argument("--time", type=float, default=None, help="replay time in seconds")
+    parser.add_argument("--theme", choices=("light", "dark"), default=None)
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    args_list = list(sys.argv[1:] if argv is None else argv)
+    if not args_list or (
+        args_list[0] not in COMMANDS and args_list[0] not in ("-h", "--help", "--version", "app")
+    ):
+        args_list = ["app", *args_list]
+    parser = _command_parser()
+    try:
+        args = parser.parse_args(args_list)
+    except SystemExit as exc:  # argparse already printed one line of usage error
+        return int(exc.code or 0)
+    if args.command == "app":
+        from .app.launch import launch_app
+
+        return launch_app(args)
+    return int(load_command(args.command).run(args))
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())
