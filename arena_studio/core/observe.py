@@ -1,0 +1,188 @@
+"""Reference observations and success tests for simulators, metrics and the replay viewer.
+
+These functions are the single source of truth for "what an agent sees" and "did the team
+reach its goal": the replay viewer, the metrics and any simulator that imports this package
+all call them, so they cannot disagree. Everything is vectorised with numpy over leading
+axes (time, batch); nothing loops over steps in Python.
+
+Conventions (DESIGN.md): metres, x right, y up, heading counter-clockwise from +x. The body
+frame has x forward and y to the left, so a landmark on the agent's left has a positive
+bearing. Bearings are wrapped into the half-open interval (-pi, pi].
+
+Public API::
+
+    from arena_studio.core.observe import observe, coverage, goal_reached, wrap_angle
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+import numpy as np
+
+from .scene import RULES, Scene
+
+TWO_PI = 2.0 * math.pi
+
+
+def wrap_angle(angle: Any) -> np.ndarray:
+    """Wrap angles into (-pi, pi].
+
+    The common ``((a + pi) % 2pi) - pi`` maps pi to -pi (the wrong end of the interval), so
+    we use ``pi - ((pi - a) % 2pi)``, whose range is (-pi, pi], and repair the one rounding
+    case where ``%`` returns 2pi for a tiny negative argument. Values already inside the
+    interval are returned unchanged (bit for bit).
+    """
+    a = np.asarray(angle, dtype=np.float64)
+    wrapped = math.pi - np.mod(math.pi - a, TWO_PI)
+    wrapped = np.where(wrapped <= -math.pi, wrapped + TWO_PI, wrapped)
+    inside = (a > -math.pi) & (a <= math.pi)
+    return np.where(inside, a, wrapped)
+
+
+def _landmark_arrays(scene: Scene) -> tuple[np.ndarray, np.ndarray]:
+    if scene.landmarks:
+        pos = np.array([lm.position for lm in scene.landmarks], dtype=np.float64)
+        reach = np.array([lm.reach_radius for lm in scene.landmarks], dtype=np.float64)
+    else:
+        pos = np.zeros((0, 2), dtype=np.float64)
+        reach = np.zeros((0,), dtype=np.float64)
+    return pos, reach
+
+
+def _as_array(values: Any, last: int, name: str, min_ndim: int = 2) -> np.ndarray:
+    arr = np.asarray(values, dtype=np.float64)
+    if arr.ndim < min_ndim or arr.shape[-1] != last:
+        raise ValueError(
+            f"{name}: expected an array of shape (..., A, {last}), got shape {arr.shape}"
+        )
+    return arr
+
+
+def observe(scene: Scene, poses: Any) -> dict[str, np.ndarray]:
+    """Range and body-frame bearing from every agent to every landmark and every other agent.
+
+    ``poses`` is (A, 3) for one step or (T, A, 3) (any leading axes) of (x, y, heading).
+    Returns ``landmark_range`` / ``landmark_bearing`` of shape (..., A, L) and
+    ``agent_range`` / ``agent_bearing`` of shape (..., A, A), where ``[..., i, j]`` is what
+    agent i observes of j. An agent's entry for itself has range 0 and bearing 0.
+    Bearing = wrap(atan2(dy, dx) - heading).
+    """
+    p = _as_array(poses, 3, "poses")
+    x, y, heading = p[..., 0], p[..., 1], p[..., 2]
+    lm_pos, _ = _landmark_arrays(scene)
+
+    dx = lm_pos[:, 0] - x[..., :, None]  # (..., A, L)
+    dy = lm_pos[:, 1] - y[..., :, None]
+    landmark_range = np.hypot(dx, dy)
+    landmark_bearing = wrap_angle(np.arctan2(dy, dx) - heading[..., :, None])
+
+    adx = x[..., None, :] - x[..., :, None]  # (..., A, A): [i, j] = x_j - x_i
+    ady = y[..., None, :] - y[..., :, None]
+    agent_range = np.hypot(adx, ady)
+    agent_bearing = wrap_angle(np.arctan2(ady, adx) - heading[..., :, None])
+    count = p.shape[-2]
+    eye = np.eye(count, dtype=bool)
+    agent_range = np.where(eye, 0.0, agent_range)
+    agent_bearing = np.where(eye, 0.0, agent_bearing)
+    return {
+        "landmark_range": landmark_range,
+        "landmark_bearing": landmark_bearing,
+        "agent_range": agent_range,
+        "agent_bearing": agent_bearing,
+    }
+
+
+def coverage(scene: Scene, positions: Any) -> np.ndarray:
+    """(..., A, L) bool: agent a's centre is within landmark l's reach radius (inclusive).
+
+    ``positions`` is (..., A, 2); poses (..., A, 3) are accepted too (heading ignored).
+    """
+    arr = np.asarray(positions, dtype=np.float64)
+    if arr.ndim >= 2 and arr.shape[-1] == 3:
+        arr = arr[..., :2]
+    arr = _as_array(arr, 2, "positions")
+    lm_pos, reach = _landmark_arrays(scene)
+    dx = lm_pos[:, 0] - arr[..., :, 0, None]
+    dy = lm_pos[:, 1] - arr[..., :, 1, None]
+    return np.hypot(dx, dy) <= reach
+
+
+def _targets(scene: Scene, goal: Any) -> np.ndarray:
+    g = np.asarray(goal).reshape(-1)
+    count = len(scene.landmarks)
+    if g.shape[0] != count:
+        raise ValueError(f"goal has {g.shape[0]} entries but the scene has {count} landmarks")
+    targets = np.flatnonzero(g)
+    if targets.size == 0:
+        raise ValueError("goal has no targets (every entry is 0)")
+    return targets
+
+
+def _run_lengths(cond: np.ndarray) -> np.ndarray:
+    """For a (T, ...) bool array: how many consecutive steps up to and including t are True."""
+    steps = cond.shape[0]
+    idx = np.arange(steps).reshape((steps,) + (1,) * (cond.ndim - 1))
+    last_false = np.maximum.accumulate(np.where(cond, -1, idx), axis=0)
+    return idx - last_false
+
+
+def hold_steps(hold_time: float, dt: float | None) -> int:
+    """Extra steps a condition must stay true after it first holds to count as held.
+
+    A condition true from step s to step t has held for (t - s) * dt seconds; it counts as
+    held once that reaches ``hold_time`` (with a 1e-9 s tolerance for rounding). With
+    ``hold_time`` 0 a single step is enough.
+    """
+    if hold_time <= 0:
+        return 0
+    if dt is None or not dt > 0:
+        raise ValueError("dt (step length, s) > 0 is needed to apply a hold time")
+    return max(0, math.ceil(hold_time / dt - 1e-9))
+
+
+def goal_reached(
+    scene: Scene,
+    goal: Any,
+    positions: Any,
+    rule: str | None = None,
+    dt: float | None = None,
+    hold_time: float | None = None,
+) -> Any:
+    """Whether the team goal ``goal`` (L,) multi-hot is met under a success rule.
+
+    A target counts as covered at a step when any agent's centre is within its reach radius
+    (one agent may cover several targets at once).
+
+    - ``positions`` (A, 2): returns a bool for that step: every target covered now (the
+      instantaneous condition of every rule; hold time does not apply to one step).
+    - ``positions`` (T, A, 2): returns (T,) bool, True at step t when the rule's success
+      condition holds at t. ``all_at_end`` / ``all_at_once``: every target covered, held
+      for ``hold_time`` up to t. ``all_visited``: every target has been covered, each for
+      ``hold_time`` without a break, at some step <= t. Episode success: ``all_at_end`` ->
+      ``result[-1]``; the others -> ``result.any()``; time to success = first True step * dt.
+
+    ``rule`` and ``hold_time`` default to the scene's goal set; ``dt`` is needed only when
+    the hold time is positive. Bad shapes or rules raise ValueError with a clear message.
+    """
+    rule = scene.goals.rule if rule is None else rule
+    if rule not in RULES:
+        raise ValueError(f"unknown success rule {rule!r} (expected one of {', '.join(RULES)})")
+    hold = scene.goals.hold_time if hold_time is None else float(hold_time)
+    targets = _targets(scene, goal)
+    arr = np.asarray(positions, dtype=np.float64)
+    if arr.ndim not in (2, 3):
+        raise ValueError(f"positions: expected (A, 2) or (T, A, 2), got shape {arr.shape}")
+    covered = coverage(scene, arr).any(axis=-2)[..., targets]  # (K,) or (T, K)
+    if arr.ndim == 2:
+        return bool(covered.all())
+    extra = hold_steps(hold, dt)
+    if rule in ("all_at_end", "all_at_once"):
+        return _run_lengths(covered.all(axis=-1)) > extra
+    held = _run_lengths(covered) > extra  # (T, K)
+    visited = np.logical_or.accumulate(held, axis=0)
+    return visited.all(axis=-1)
+
+
+__all__ = ["coverage", "goal_reached", "hold_steps", "observe", "wrap_angle"]
