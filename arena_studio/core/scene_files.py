@@ -34,6 +34,8 @@ def _refuse_constant(name: str) -> float:
 
 def decode_scene_bytes(data: bytes, kind: str) -> Any:
     """Bytes to a plain document; raises SceneFormatError naming the line for bad JSON."""
+    if not data.strip():
+        raise SceneFormatError("", "the file is empty")
     if kind == "json":
         try:
             text = data.decode("utf-8")
