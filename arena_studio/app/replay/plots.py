@@ -1,0 +1,177 @@
+"""Plots dock: distance to targets, reward so far and free channels over episode time.
+
+pyqtgraph plots share one x axis in seconds. A vertical cursor follows the playback clock;
+dragging it or clicking anywhere in a plot seeks the replay. Each distance curve is drawn in
+its agent's identity colour, with a dashed reach-radius line so "reached" reads at a glance.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pyqtgraph as pg
+from PySide6.QtCore import Qt
+from PySide6.QtWidgets import QLabel, QVBoxLayout, QWidget
+
+from ...core.scene import Scene
+from ...render.theme import Theme, load_theme
+from .prepared import PreparedEpisode
+from .transport import PlaybackClock
+
+MAX_PLOT_POINTS = 4000  # long episodes are decimated for drawing (the data stay intact)
+
+
+def decimate(t: np.ndarray, y: np.ndarray, limit: int = MAX_PLOT_POINTS):
+    """Keep every k-th sample (and the last) so a curve has at most ``limit`` points."""
+    n = len(t)
+    if n <= limit:
+        return t, y
+    k = int(np.ceil(n / limit))
+    idx = np.r_[np.arange(0, n, k), n - 1]
+    return t[idx], y[idx]
+
+
+class PlotsPanel(QWidget):
+    """Stacked pyqtgraph plots linked to a :class:`PlaybackClock`."""
+
+    def __init__(self, clock: PlaybackClock, theme: Theme | None = None, parent=None) -> None:
+        super().__init__(parent)
+        self._clock = clock
+        self._theme = theme or load_theme("light")
+        self._prepared: PreparedEpisode | None = None
+        self._scene: Scene | None = None
+        layout = QVBoxLayout(self)
+        layout.setContentsMargins(2, 2, 2, 2)
+        self.graphics = pg.GraphicsLayoutWidget(self)
+        layout.addWidget(self.graphics, 1)
+        self.empty_label = QLabel("Select an episode to see its plots.", self)
+        self.empty_label.setAlignment(Qt.AlignmentFlag.AlignCenter)
+        layout.addWidget(self.empty_label)
+        self.plots: dict[str, pg.PlotItem] = {}
+        self.cursors: dict[str, pg.InfiniteLine] = {}
+        clock.stepChanged.connect(self._on_step)
+        self._apply_theme()
+
+    # -- public ------------------------------------------------------------------------
+    def set_theme(self, theme: Theme) -> None:
+        self._theme = theme
+        self._apply_theme()
+        if self._prepared is not None and self._scene is not None:
+            self.set_episode(self._scene, self._prepared)
+
+    def set_episode(self, scene: Scene, prepared: PreparedEpisode | None) -> None:
+        self._scene, self._prepared = scene, prepared
+        self.graphics.clear()
+        self.plots.clear()
+        self.cursors.clear()
+        self.empty_label.setVisible(prepared is None)
+        if prepared is None:
+            return
+        ep = prepared.episode
+        t = np.arange(ep.steps) * ep.dt
+        first: pg.PlotItem | None = None
+
+        dist = self._add_plot("distance", "distance to target (m)", first)
+        first = dist
+        for (agent, lm), d in sorted(prepared.distances.items()):
+            landmark = scene.landmarks[lm]
+            name = f"{_agent_name(scene, agent)} → {landmark.label or landmark.id}"
+            pen = pg.mkPen(self._theme.agent_color(agent), width=2)
+            tt, dd = decimate(t, d)
+            dist.plot(tt, dd, pen=pen, name=name)
+        radii = {scene.landmarks[lm].reach_radius for (_a, lm) in prepared.distances}
+        for r in sorted(radii):
+            dist.addItem(
+                pg.InfiniteLine(
+                    pos=r,
+                    angle=0,
+                    pen=pg.mkPen(
+                        self._theme.qcolor("target_highlight"),
+                        width=1,
+                        style=Qt.PenStyle.DashLine,
+                    ),
+                )
+            )
+        if prepared.reward_so_far is not None:
+            rew = self._add_plot("reward", "reward so far", first)
+            for a in range(prepared.reward_so_far.shape[1]):
+                tt, rr = decimate(t, prepared.reward_so_far[:, a])
+                rew.plot(
+                    tt,
+                    rr,
+                    pen=pg.mkPen(self._theme.agent_color(a), width=2),
+                    name=_agent_name(scene, a),
+                )
+        for name, values in sorted(ep.channels.items()):
+            arr = np.asarray(values, dtype=np.float64)
+            plot = self._add_plot(f"channel:{name}", name, first)
+            if arr.ndim == 1:
+                tt, vv = decimate(t[: len(arr)], arr)
+                plot.plot(tt, vv, pen=pg.mkPen(self._theme.qcolor("text"), width=2))
+            else:
+                for a in range(arr.shape[1]):
+                    tt, vv = decimate(t[: len(arr)], arr[:, a])
+                    plot.plot(tt, vv, pen=pg.mkPen(self._theme.agent_color(a), width=2))
+        last = list(self.plots.values())[-1]
+        last.setLabel("bottom", "time (s)")
+        for plot in self.plots.values():
+            plot.setXRange(0.0, max(ep.duration, ep.dt), padding=0.01)
+        self._apply_theme()
+        self._on_step(self._clock.step)
+
+    # -- internals ---------------------------------------------------------------------
+    def _add_plot(self, key: str, title: str, link: pg.PlotItem | None) -> pg.PlotItem:
+        row = len(self.plots)
+        plot = self.graphics.addPlot(row=row, col=0)
+        plot.setLabel("left", title)
+        plot.showGrid(x=True, y=True, alpha=0.25)
+        plot.setMenuEnabled(False)
+        plot.setMouseEnabled(x=True, y=False)
+        if key == "distance":
+            plot.addLegend(offset=(-10, 10), labelTextSize="8pt")
+        if link is not None:
+            plot.setXLink(link)
+        cursor = pg.InfiniteLine(
+            angle=90, movable=True, pen=pg.mkPen(self._theme.qcolor("selection"), width=2)
+        )
+        cursor.setZValue(10)
+        cursor.sigDragged.connect(lambda line: self._seek_seconds(line.value()))
+        plot.addItem(cursor, ignoreBounds=True)
+        plot.scene().sigMouseClicked.connect(self._on_click)
+        self.plots[key] = plot
+        self.cursors[key] = cursor
+        return plot
+
+    def _seek_seconds(self, seconds: float) -> None:
+        self._clock.pause()
+        self._clock.seek_time(seconds)
+
+    def _on_click(self, event) -> None:
+        if event.button() != Qt.MouseButton.LeftButton:
+            return
+        pos = event.scenePos()
+        for plot in self.plots.values():
+            if plot.sceneBoundingRect().contains(pos):
+                x = plot.vb.mapSceneToView(pos).x()
+                self._seek_seconds(float(x))
+                event.accept()
+                return
+
+    def _on_step(self, step: int) -> None:
+        t = step * self._clock.dt
+        for cursor in self.cursors.values():
+            cursor.blockSignals(True)
+            cursor.setValue(t)
+            cursor.blockSignals(False)
+
+    def _apply_theme(self) -> None:
+        self.graphics.setBackground(self._theme.qcolor("room_fill"))
+        fg = self._theme.qcolor("text")
+        for plot in self.plots.values():
+            for axis in ("left", "bottom"):
+                ax = plot.getAxis(axis)
+                ax.setPen(fg)
+                ax.setTextPen(fg)
+
+
+def _agent_name(scene: Scene, agent: int) -> str:
+    return scene.agents[agent].id if agent < len(scene.agents) else f"agent {agent}"

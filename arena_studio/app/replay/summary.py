@@ -1,0 +1,85 @@
+"""One row of the episode list: the few numbers a researcher sorts and filters by.
+
+Rows are filled from :func:`arena_studio.core.metrics.episode_metrics` (the same numbers as
+``arena-studio stats``). Whatever metrics do not say stays ``None`` and shows as a dash.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from ...core.episode import Episode
+from ...core.scene import Scene
+from .prepared import goal_label, goal_targets
+
+
+@dataclass(frozen=True)
+class EpisodeSummary:
+    index: int
+    goal: tuple[int, ...] | None = None  # team goal landmark indices; None when unknown
+    goal_label: str = ""
+    kind: str = ""  # "individual" | "cooperative" | "" (no team goal)
+    success: bool | None = None
+    time_to_success: float | None = None
+    par_ratio: float | None = None
+    aligned: bool | None = None
+    diagnosis: str | None = None
+    diagnosis_step: int | None = None
+    steps: int | None = None
+    loaded: bool = False  # False: placeholder row while metrics are being computed
+
+    @property
+    def failed_cooperative(self) -> bool:
+        return self.kind == "cooperative" and self.success is False
+
+
+def goal_kind(goal: np.ndarray | None) -> str:
+    """One target: an individual goal; two or more: a cooperative goal (DESIGN.md terms)."""
+    n = len(goal_targets(goal))
+    if n == 0:
+        return ""
+    return "individual" if n == 1 else "cooperative"
+
+
+def _opt_float(value: Any) -> float | None:
+    if value is None:
+        return None
+    try:
+        out = float(value)
+    except (TypeError, ValueError):
+        return None
+    return out if np.isfinite(out) else None
+
+
+def _opt_bool(value: Any) -> bool | None:
+    return None if value is None else bool(value)
+
+
+def summary_from_metrics(scene: Scene, episode: Episode, metrics: Any) -> EpisodeSummary:
+    """Build a row from an ``EpisodeMetrics`` (read by attribute name, per api_contracts)."""
+    diag = getattr(metrics, "diagnosis", None)
+    diag_step = getattr(metrics, "diagnosis_step", None)
+    return EpisodeSummary(
+        index=int(episode.index),
+        goal=goal_targets(episode.team_goal) if episode.team_goal is not None else None,
+        goal_label=goal_label(scene, episode.team_goal),
+        kind=goal_kind(episode.team_goal),
+        success=_opt_bool(getattr(metrics, "success", None)),
+        time_to_success=_opt_float(getattr(metrics, "time_to_success", None)),
+        par_ratio=_opt_float(getattr(metrics, "par_ratio", None)),
+        aligned=_opt_bool(getattr(metrics, "aligned", None)),
+        diagnosis=None if diag is None else str(diag),
+        diagnosis_step=None if diag_step is None else int(diag_step),
+        steps=episode.steps,
+        loaded=True,
+    )
+
+
+def summarise_episode(scene: Scene, episode: Episode) -> EpisodeSummary:
+    """Metrics row for one episode, computed with core.metrics."""
+    from ...core.metrics import episode_metrics
+
+    return summary_from_metrics(scene, episode, episode_metrics(scene, episode))

@@ -1,0 +1,251 @@
+"""The scrub bar: a time ruler with the episode's events drawn as small glyphs.
+
+Two lanes: the upper lane holds team-level events (success, diagnosis, collisions), the lower
+lane holds per-agent events in the agent's identity colour (target reached: filled wedge up;
+target left: open wedge down; role change: short bar). The diagnosis is a flag across both
+lanes so the moment the team lost its chance stands out. Press or drag anywhere to seek.
+"""
+
+from __future__ import annotations
+
+import math
+
+from PySide6.QtCore import QPointF, QRectF, QSize, Qt
+from PySide6.QtGui import QColor, QMouseEvent, QPainter, QPainterPath, QPaintEvent, QPen
+from PySide6.QtWidgets import QSizePolicy, QToolTip, QWidget
+
+from ...render.theme import Theme, load_theme
+from .prepared import EventMark
+from .transport import PlaybackClock
+
+MARGIN_X = 14.0
+TEAM_KINDS = ("success", "diagnosis", "collision", "other")
+HIT_RADIUS_PX = 6.0
+
+
+def nice_tick(span_s: float, width_px: float, min_gap_px: float = 60.0) -> float:
+    """Ruler spacing (1, 2 or 5 x 10^k seconds) that keeps labels ``min_gap_px`` apart."""
+    if span_s <= 0 or width_px <= 0:
+        return 1.0
+    raw = span_s * min_gap_px / width_px
+    base = 10 ** math.floor(math.log10(raw))
+    for mult in (1, 2, 5, 10):
+        if mult * base >= raw:
+            return mult * base
+    return 10 * base
+
+
+class TimelineBar(QWidget):
+    """Scrub bar bound to a :class:`PlaybackClock`."""
+
+    def __init__(self, clock: PlaybackClock, theme: Theme | None = None, parent=None) -> None:
+        super().__init__(parent)
+        self._clock = clock
+        self._theme = theme or load_theme("light")
+        self._events: tuple[EventMark, ...] = ()
+        self._agent_count = 0
+        self.setMinimumHeight(58)
+        self.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Fixed)
+        self.setMouseTracking(True)
+        self.setFocusPolicy(Qt.FocusPolicy.NoFocus)  # keys go to the window's actions
+        self.setToolTip("")
+        clock.stepChanged.connect(self.update)
+        clock.loopChanged.connect(self.update)
+        clock.lengthChanged.connect(self.update)
+
+    def sizeHint(self) -> QSize:
+        return QSize(600, 58)
+
+    # -- data --------------------------------------------------------------------------
+    def set_theme(self, theme: Theme) -> None:
+        self._theme = theme
+        self.update()
+
+    def set_events(self, events: tuple[EventMark, ...], agent_count: int = 0) -> None:
+        self._events = tuple(events)
+        self._agent_count = agent_count
+        self.update()
+
+    @property
+    def events(self) -> tuple[EventMark, ...]:
+        return self._events
+
+    # -- geometry ----------------------------------------------------------------------
+    def _track(self) -> QRectF:
+        return QRectF(MARGIN_X, 4.0, max(self.width() - 2 * MARGIN_X, 1.0), self.height() - 22.0)
+
+    def x_of_step(self, step: float) -> float:
+        track = self._track()
+        last = max(self._clock.steps - 1, 1)
+        return track.left() + track.width() * (step / last)
+
+    def step_at_x(self, x: float) -> int:
+        track = self._track()
+        last = max(self._clock.steps - 1, 1)
+        frac = (x - track.left()) / track.width()
+        return round(min(max(frac, 0.0), 1.0) * last)
+
+    def _lane_y(self, kind: str) -> float:
+        track = self._track()
+        upper = kind in TEAM_KINDS
+        return track.top() + track.height() * (0.27 if upper else 0.73)
+
+    def event_at(self, pos: QPointF) -> EventMark | None:
+        best, best_d = None, HIT_RADIUS_PX
+        for mark in self._events:
+            dx = abs(self.x_of_step(mark.step) - pos.x())
+            dy = abs(self._lane_y(mark.kind) - pos.y())
+            track = self._track()
+            if mark.kind == "diagnosis" and track.top() <= pos.y() <= track.bottom():
+                dy = 0.0  # the flag's pole spans both lanes
+            d = max(dx, dy)
+            if d <= best_d:
+                best, best_d = mark, d
+        return best
+
+    # -- input -------------------------------------------------------------------------
+    def mousePressEvent(self, event: QMouseEvent) -> None:
+        if event.button() == Qt.MouseButton.LeftButton:
+            self._clock.pause()
+            self._clock.seek(self.step_at_x(event.position().x()))
+
+    def mouseMoveEvent(self, event: QMouseEvent) -> None:
+        if event.buttons() & Qt.MouseButton.LeftButton:
+            self._clock.seek(self.step_at_x(event.position().x()))
+            return
+        mark = self.event_at(event.position())
+        if mark is not None:
+            t = mark.step * self._clock.dt
+            QToolTip.showText(
+                event.globalPosition().toPoint(), f"{t:.2f} s (step {mark.step}): {mark.text}", self
+            )
+        else:
+            QToolTip.hideText()
+
+    # -- drawing -----------------------------------------------------------------------
+    def paintEvent(self, event: QPaintEvent) -> None:
+        theme = self._theme
+        p = QPainter(self)
+        p.setRenderHint(QPainter.RenderHint.Antialiasing)
+        p.fillRect(self.rect(), theme.qcolor("room_fill"))
+        track = self._track()
+        p.setPen(QPen(theme.qcolor("grid_major"), 1.0))
+        p.setBrush(theme.qcolor("background"))
+        p.drawRoundedRect(track, 4, 4)
+        mid = track.top() + track.height() / 2
+        p.setPen(QPen(theme.qcolor("grid_minor"), 1.0, Qt.PenStyle.DashLine))
+        p.drawLine(QPointF(track.left(), mid), QPointF(track.right(), mid))
+        self._paint_loop(p, track)
+        self._paint_ruler(p, track)
+        for mark in self._events:
+            self._paint_mark(p, mark, track)
+        self._paint_cursor(p, track)
+        p.end()
+
+    def _paint_loop(self, p: QPainter, track: QRectF) -> None:
+        loop = self._clock.loop
+        if not loop:
+            return
+        x0, x1 = self.x_of_step(loop[0]), self.x_of_step(loop[1])
+        p.setPen(Qt.PenStyle.NoPen)
+        p.setBrush(self._theme.qcolor("info", 0.18))
+        p.drawRect(QRectF(x0, track.top(), x1 - x0, track.height()))
+        p.setPen(QPen(self._theme.qcolor("info"), 2.0))
+        for x in (x0, x1):
+            p.drawLine(QPointF(x, track.top()), QPointF(x, track.bottom()))
+
+    def _paint_ruler(self, p: QPainter, track: QRectF) -> None:
+        dt, steps = self._clock.dt, self._clock.steps
+        span = max(steps - 1, 1) * dt
+        tick = nice_tick(span, track.width())
+        font = p.font()
+        font.setPointSizeF(max(font.pointSizeF() * 0.85, 7.0))
+        p.setFont(font)
+        p.setPen(QPen(self._theme.qcolor("text_muted"), 1.0))
+        n = int(span / tick + 1e-9)
+        for i in range(n + 1):
+            t = i * tick
+            x = self.x_of_step(t / dt)
+            p.drawLine(QPointF(x, track.bottom()), QPointF(x, track.bottom() + 4))
+            label = f"{t:g} s"
+            p.drawText(
+                QRectF(x - 30, track.bottom() + 4, 60, 14), Qt.AlignmentFlag.AlignCenter, label
+            )
+
+    def _mark_color(self, mark: EventMark) -> QColor:
+        theme = self._theme
+        if mark.kind == "diagnosis":
+            return theme.qcolor("error")
+        if mark.kind == "success":
+            return theme.qcolor("target_highlight")
+        if mark.kind == "collision":
+            return theme.qcolor("warning")
+        if mark.agent is not None and mark.kind in ("reached", "left", "role"):
+            return theme.agent_color(mark.agent)
+        return theme.qcolor("text_muted")
+
+    def _paint_mark(self, p: QPainter, mark: EventMark, track: QRectF) -> None:
+        x = self.x_of_step(mark.step)
+        y = self._lane_y(mark.kind)
+        color = self._mark_color(mark)
+        r = 5.0
+        edge = QPen(self._theme.qcolor("text"), 0.8)
+        if mark.kind == "reached":  # filled wedge pointing up: arrived at a target
+            path = QPainterPath(QPointF(x, y - r))
+            path.lineTo(x + r, y + r * 0.8)
+            path.lineTo(x - r, y + r * 0.8)
+            path.closeSubpath()
+            p.setPen(edge)
+            p.setBrush(color)
+            p.drawPath(path)
+        elif mark.kind == "left":  # open wedge pointing down: walked off a target
+            path = QPainterPath(QPointF(x, y + r))
+            path.lineTo(x + r, y - r * 0.8)
+            path.lineTo(x - r, y - r * 0.8)
+            path.closeSubpath()
+            p.setPen(QPen(color, 1.8))
+            p.setBrush(Qt.BrushStyle.NoBrush)
+            p.drawPath(path)
+        elif mark.kind == "role":  # short upright bar
+            p.setPen(QPen(color, 2.5, Qt.PenStyle.SolidLine, Qt.PenCapStyle.RoundCap))
+            p.drawLine(QPointF(x, y - r), QPointF(x, y + r))
+        elif mark.kind == "success":  # gold lozenge
+            path = QPainterPath(QPointF(x, y - r - 1))
+            path.lineTo(x + r + 1, y)
+            path.lineTo(x, y + r + 1)
+            path.lineTo(x - r - 1, y)
+            path.closeSubpath()
+            p.setPen(edge)
+            p.setBrush(color)
+            p.drawPath(path)
+        elif mark.kind == "collision":  # a small cross
+            p.setPen(QPen(color, 2.2, Qt.PenStyle.SolidLine, Qt.PenCapStyle.RoundCap))
+            p.drawLine(QPointF(x - r, y - r), QPointF(x + r, y + r))
+            p.drawLine(QPointF(x - r, y + r), QPointF(x + r, y - r))
+        elif mark.kind == "diagnosis":  # a pennant on a pole through both lanes
+            p.setPen(QPen(color, 2.0))
+            p.drawLine(QPointF(x, track.top() + 1), QPointF(x, track.bottom() - 1))
+            flag = QPainterPath(QPointF(x, track.top() + 2))
+            flag.lineTo(x + 11, track.top() + 6.5)
+            flag.lineTo(x, track.top() + 11)
+            flag.closeSubpath()
+            p.setPen(Qt.PenStyle.NoPen)
+            p.setBrush(color)
+            p.drawPath(flag)
+        else:
+            p.setPen(Qt.PenStyle.NoPen)
+            p.setBrush(color)
+            p.drawEllipse(QPointF(x, y), 2.5, 2.5)
+
+    def _paint_cursor(self, p: QPainter, track: QRectF) -> None:
+        x = self.x_of_step(self._clock.step)
+        color = self._theme.qcolor("selection")
+        p.setPen(QPen(color, 2.0))
+        p.drawLine(QPointF(x, track.top() - 2), QPointF(x, track.bottom() + 2))
+        head = QPainterPath(QPointF(x - 5, track.top() - 4))
+        head.lineTo(x + 5, track.top() - 4)
+        head.lineTo(x, track.top() + 3)
+        head.closeSubpath()
+        p.setPen(Qt.PenStyle.NoPen)
+        p.setBrush(color)
+        p.drawPath(head)
