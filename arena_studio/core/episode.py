@@ -30,6 +30,7 @@ class Episode:
     channels: dict[str, np.ndarray] = field(default_factory=dict)  # name -> (T,) or (T, A)
     messages: tuple[Any, ...] = ()  # pre-episode messages: free small values
     outcome: dict[str, Any] | None = None  # simulator-reported outcome, free small values
+    complete: bool = True  # False when recovered from a cut tape before the episode ended
 
     @property
     def steps(self) -> int:

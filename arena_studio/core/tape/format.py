@@ -1,0 +1,169 @@
+"""The tape file layout: framing, record kinds and the columnar array encoding.
+
+A tape is ``MAGIC`` followed by framed records and, when the writer closed cleanly, a
+fixed-size trailer pointing at the index record::
+
+    MAGIC (8 bytes)  = 89 41 53 54 41 50 45 0A   ("\\x89ASTAPE\\n")
+    record           = u32 LE payload length | u8 kind | payload (msgpack map) | u32 LE CRC-32
+                       (CRC-32 as zlib.crc32 over the kind byte and the payload)
+    trailer          = u64 LE offset of the index record | b"ASTAPEND"
+
+Record kinds: ``H`` header (always first), ``B`` episode begin, ``C`` chunk of steps,
+``E`` episode end, ``I`` index (last, once). Numeric arrays are msgpack maps
+``{"dtype": "<f8", "shape": [...], "data": <bin>}``, C order, little-endian. The full
+description for other programs is in DEVELOPERS.md ("Tape format").
+
+Everything decoded here is bounded by the bytes actually present: a length that runs past the
+end of the file is a cut, an array whose ``data`` does not hold exactly ``prod(shape)``
+items of ``dtype`` is refused, and msgpack extension types are refused (nothing is unpickled
+or evaluated).
+"""
+
+from __future__ import annotations
+
+import math
+import struct
+import zlib
+from typing import Any
+
+import msgpack
+import numpy as np
+
+from ..errors import ArenaError
+
+FORMAT_NAME = "arena-studio.tape"
+FORMAT_VERSION = 1
+MAGIC = b"\x89ASTAPE\n"
+TRAILER_MAGIC = b"ASTAPEND"
+TRAILER_SIZE = 16
+FRAME_HEAD = struct.Struct("<IB")  # payload length, kind
+FRAME_CRC = struct.Struct("<I")
+TRAILER = struct.Struct("<Q8s")
+FRAME_OVERHEAD = FRAME_HEAD.size + FRAME_CRC.size
+
+KIND_HEADER = ord("H")
+KIND_BEGIN = ord("B")
+KIND_CHUNK = ord("C")
+KIND_END = ord("E")
+KIND_INDEX = ord("I")
+KINDS = {KIND_HEADER, KIND_BEGIN, KIND_CHUNK, KIND_END, KIND_INDEX}
+
+#: Largest payload one record may claim (bytes); writers split longer episodes into chunks.
+MAX_RECORD = 1 << 30
+#: Dtypes a tape may carry, by field family. Byte order is always little-endian.
+FLOAT_DTYPES = ("<f8", "<f4")
+NUMBER_DTYPES = ("<f8", "<f4", "<i8", "<i4", "<i2", "|i1", "<u8", "<u4", "<u2", "|u1", "|b1")
+INDEX_DTYPES = ("<i8",)
+GOAL_DTYPES = ("|u1",)
+BOOL_DTYPES = ("|b1", "|u1")
+
+
+class TapeError(ArenaError, ValueError):
+    """A tape cannot be read or written; the message names the file and the place in it."""
+
+    def __init__(self, source: str, where: str, problem: str) -> None:
+        self.source = source
+        self.where = where
+        self.problem = problem
+        place = f"{where}: " if where else ""
+        super().__init__(f"{source}: {place}{problem}")
+
+
+def _refuse_ext(code: int, data: bytes) -> Any:
+    raise ValueError(f"msgpack extension type {code} is not allowed in a tape")
+
+
+def frame(kind: int, payload: bytes) -> bytes:
+    """One framed record (see the module docstring)."""
+    head = FRAME_HEAD.pack(len(payload), kind)
+    crc = zlib.crc32(payload, zlib.crc32(head[4:5]))
+    return head + payload + FRAME_CRC.pack(crc)
+
+
+def pack(obj: Any) -> bytes:
+    """msgpack with bin for bytes and str for text (spec 2.0 types), no extension types."""
+    return msgpack.packb(obj, use_bin_type=True, strict_types=False)
+
+
+def unpack(payload: bytes | memoryview) -> Any:
+    """Decode one record payload; container and string sizes are bounded by its length."""
+    n = len(payload)
+    return msgpack.unpackb(
+        payload,
+        raw=False,
+        strict_map_key=True,
+        ext_hook=_refuse_ext,
+        max_bin_len=n,
+        max_str_len=n,
+        max_array_len=n,
+        max_map_len=n,
+        max_ext_len=0,
+        use_list=True,
+    )
+
+
+def encode_array(array: np.ndarray, dtype: str) -> dict[str, Any]:
+    """Columnar little-endian encoding of a numpy array as a msgpack map."""
+    arr = np.ascontiguousarray(array, dtype=np.dtype(dtype))
+    return {"dtype": np.dtype(dtype).str, "shape": list(arr.shape), "data": arr.tobytes()}
+
+
+def decode_array(
+    value: Any,
+    where: str,
+    source: str,
+    *,
+    dtypes: tuple[str, ...],
+    shape: tuple[int | None, ...],
+) -> np.ndarray:
+    """Check dtype and shape against the expected ones, then view the bytes (no copy).
+
+    ``shape`` entries of None accept any length. The item count is checked against the bytes
+    present before numpy sees them, so a claimed size can never cause an allocation.
+    """
+    if not isinstance(value, dict) or set(value) != {"dtype", "shape", "data"}:
+        raise TapeError(source, where, "expected an array {dtype, shape, data}")
+    dtype, dims, data = value["dtype"], value["shape"], value["data"]
+    if not isinstance(dtype, str) or dtype not in dtypes:
+        raise TapeError(source, where, f"dtype {dtype!r} not allowed here (allowed: {dtypes})")
+    if not isinstance(dims, list) or len(dims) != len(shape):
+        raise TapeError(source, where, f"expected {len(shape)} dimensions, got {dims!r}")
+    for i, (got, want) in enumerate(zip(dims, shape, strict=True)):
+        if isinstance(got, bool) or not isinstance(got, int) or got < 0:
+            raise TapeError(source, where, f"shape[{i}] must be a whole number >= 0")
+        if want is not None and got != want:
+            raise TapeError(source, where, f"shape[{i}] is {got}, expected {want}")
+    if not isinstance(data, bytes):
+        raise TapeError(source, where, "array data must be msgpack bin")
+    item = np.dtype(dtype).itemsize
+    count = math.prod(dims)
+    if count * item != len(data):
+        raise TapeError(
+            source, where, f"shape {dims} of {dtype} needs {count * item} bytes, has {len(data)}"
+        )
+    return np.frombuffer(data, dtype=np.dtype(dtype)).reshape(dims)
+
+
+def read_frame(buf: memoryview, pos: int, verify: bool = True) -> tuple[int, memoryview, int]:
+    """Parse the record at ``pos`` of ``buf``: (kind, payload view, end offset).
+
+    Raises EOFError when the record runs past the end (a cut) and ValueError when it is
+    damaged (unknown kind, bad CRC, absurd length).
+    """
+    if pos + FRAME_HEAD.size > len(buf):
+        raise EOFError("record header cut")
+    length, kind = FRAME_HEAD.unpack_from(buf, pos)
+    if kind not in KINDS:
+        raise ValueError(f"unknown record kind {kind:#04x}")
+    if length > MAX_RECORD:
+        raise ValueError(f"record claims {length} bytes (limit {MAX_RECORD})")
+    start = pos + FRAME_HEAD.size
+    end = start + length + FRAME_CRC.size
+    if end > len(buf):
+        raise EOFError("record cut")
+    payload = buf[start : start + length]
+    if verify:
+        (crc,) = FRAME_CRC.unpack_from(buf, start + length)
+        if zlib.crc32(payload, zlib.crc32(buf[pos + 4 : pos + 5])) != crc:
+            raise ValueError("record checksum mismatch (damaged bytes)")
+    return kind, payload, end
