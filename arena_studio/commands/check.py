@@ -48,7 +48,9 @@ def format_report(source: str, findings: list[Finding]) -> str:
     lines = []
     width = max((len(f.code) for f in findings), default=0)
     for f in findings:  # check_scene already sorts by severity
-        where = f"  at {fmt_point(f.point)}" if f.point is not None else ""
+        where = ""
+        if f.point is not None and fmt_point(f.point) not in f.message:
+            where = f"  at {fmt_point(f.point)}"
         goal = f"  [goal {f.goal_index}]" if f.goal_index is not None else ""
         lines.append(f"{f.severity:<7} {f.code:<{width}}  {f.message}{where}{goal}")
     counts = count_by_severity(findings)

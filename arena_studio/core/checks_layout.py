@@ -104,7 +104,8 @@ def check_ids(scene: Scene) -> list[Finding]:
                 out.append(
                     finding(
                         "duplicate-id",
-                        f"{kind} id '{obj.id}' is already used by a {seen[obj.id]}; "
+                        f"{kind} id '{obj.id}' is already used by "
+                        f"{'another' if seen[obj.id] == kind else 'a'} {seen[obj.id]}; "
                         "ids must be unique",
                         obj.id,
                         _object_point(scene, kind, obj),
@@ -162,7 +163,7 @@ def check_landmarks(scene: Scene) -> list[Finding]:
                     )
                 )
         for ob_id, geom in obstacles:
-            if geom.contains(pt) and geom.exterior.distance(pt) > WALL_TOLERANCE:
+            if geom.contains(pt) and geom.boundary.distance(pt) > WALL_TOLERANCE:
                 out.append(
                     finding(
                         "landmark-inside-obstacle",
@@ -195,7 +196,7 @@ def _wall_mount(
     """A wall landmark sits on a room wall or on an obstacle's outline (a sign on a pillar)."""
     wall_xy, gap = geo.nearest_wall_point(scene, xy)
     pt = Point(xy)
-    gap_obstacle = min((g.exterior.distance(pt) for g in obstacles if not g.is_empty), default=gap)
+    gap_obstacle = min((g.boundary.distance(pt) for g in obstacles if not g.is_empty), default=gap)
     if min(gap, gap_obstacle) <= WALL_TOLERANCE:
         return []
     if gap == float("inf"):

@@ -179,6 +179,7 @@ def check_reach(scene: Scene) -> list[Finding]:
         return []
     out: list[Finding] = []
     table = reach_table(scene)
+    started = [bool(start_parts(scene, a)) for a in scene.agents]
     for li, lm in enumerate(scene.landmarks):
         if lm.mount == "wall":
             out.extend(_wall_reach(scene, li))
@@ -195,7 +196,8 @@ def check_reach(scene: Scene) -> list[Finding]:
             )
             continue
         for ai, agent in enumerate(scene.agents):
-            if not table[ai][li]:
+            # An agent with no valid start already has its own error; do not repeat it here.
+            if not table[ai][li] and started[ai]:
                 out.append(
                     finding(
                         "landmark-unreachable-by-agent",

@@ -66,8 +66,46 @@ def _refuse_ext(code: int, data: bytes) -> Any:
 def encode_scene(scene: Scene, kind: str) -> bytes:
     doc = scene.to_dict()
     if kind == "json":
-        return (json.dumps(doc, indent=2, ensure_ascii=False, allow_nan=False) + "\n").encode()
+        return (dumps_readable(doc) + "\n").encode("utf-8")
     return msgpack.packb(doc, use_bin_type=True)
+
+
+#: Lists of points are written on one line when they fit in this many characters.
+_INLINE_WIDTH = 88
+
+
+def dumps_readable(value: Any, indent: int = 0) -> str:
+    """JSON with one key per line but points and short point lists inline (diff-friendly).
+
+    The text is ordinary JSON: ``json.loads(dumps_readable(d)) == d`` for any scene dict.
+    """
+    flat = json.dumps(value, ensure_ascii=False, allow_nan=False)
+    if not isinstance(value, dict | list) or (
+        isinstance(value, list) and _shallow(value) and len(flat) + indent <= _INLINE_WIDTH
+    ):
+        return flat
+    pad, inner = " " * indent, " " * (indent + 2)
+    if isinstance(value, list):
+        if not value:
+            return "[]"
+        items = [inner + dumps_readable(v, indent + 2) for v in value]
+        return "[\n" + ",\n".join(items) + "\n" + pad + "]"
+    if not value:
+        return "{}"
+    items = [
+        f"{inner}{json.dumps(str(k), ensure_ascii=False)}: {dumps_readable(v, indent + 2)}"
+        for k, v in value.items()
+    ]
+    return "{\n" + ",\n".join(items) + "\n" + pad + "}"
+
+
+def _shallow(items: list[Any]) -> bool:
+    """Scalars, or lists of scalars (a point list): small enough to read on one line."""
+    return all(
+        not isinstance(v, dict | list)
+        or (isinstance(v, list) and not any(isinstance(w, dict | list) for w in v))
+        for v in items
+    )
 
 
 def read_scene_file(path: Path) -> Scene:
