@@ -1,0 +1,410 @@
+"""Shortest collision-free paths from agent starts to landmarks' reach discs.
+
+How a path is found (one agent radius r, one landmark):
+
+1. Free space F = rooms minus obstacles, shrunk by r (:func:`geometry.free_space`, arcs within
+   1 mm). The target T = F ∩ reach disc (a polygon inscribed in the disc, so every point of T
+   is truly within the reach radius). T empty -> unreachable, with a reason.
+2. The reduced visibility graph of F (:mod:`visibility`): reflex vertices, bitangent legs that
+   stay inside closed F.
+3. Every node v gets a straight "last leg" to T when one is clear: its candidate end points are
+   the point of T nearest to v, the nearest point of every part of T, and T's corners (its
+   vertices on F's boundary, where the disc's rim meets a wall or an obstacle). The cheapest
+   clear candidate is v's end point. A leg to the nearest point of T is optimal whenever it is
+   clear; when it is blocked, the best end point lies on a shadow edge through another node or
+   at one of T's corners, which the candidates cover.
+4. One Dijkstra run (scipy.sparse.csgraph) from T (a sink node joined to every node by its last
+   leg) gives every node's distance to T. This is the cache, one per (agent radius, landmark).
+5. A start s is joined to the graph by the clear legs from s to nodes, and directly to T by the
+   same end-point candidates; the best total wins. The path ends at the first point of the
+   reach disc that lies in free space along it.
+
+Start regions: the route starts at the region's *best* point (shortest path) among samples of
+the region ∩ F (its vertices, points every 0.1 m or so along its edges, and an interior grid);
+the region's *worst* sampled point is reported too (``Route.worst_length``,
+``Route.worst_points``). Par time, a lower bound, uses the best point.
+
+Public API::
+
+    from arena_studio.core.paths import PathPlanner, Route
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+import shapely
+from scipy.sparse import coo_matrix
+from scipy.sparse.csgraph import dijkstra
+from shapely.geometry import Point, Polygon
+from shapely.geometry.base import BaseGeometry
+
+from .geometry import free_space, quad_segments
+from .scene import Scene
+from .visibility import EDGE_EPSILON, VisibilityGraph, build_visibility_graph, polygons_of
+
+#: Spacing (m) of start-region samples along the region's edges (at most 64 per edge ring).
+REGION_EDGE_SPACING = 0.1
+#: Interior grid of start-region samples, per axis.
+REGION_GRID = 6
+
+
+@dataclass(frozen=True, eq=False)
+class Route:
+    """A polyline from a start to an end point, with its length in metres.
+
+    For a start region, ``points`` start at the region's best sampled point and
+    ``worst_length`` / ``worst_points`` describe its worst one; both are None otherwise.
+    """
+
+    points: np.ndarray
+    length: float
+    worst_length: float | None = None
+    worst_points: np.ndarray | None = None
+
+    @property
+    def start(self) -> tuple[float, float]:
+        return (float(self.points[0, 0]), float(self.points[0, 1]))
+
+    @property
+    def end(self) -> tuple[float, float]:
+        return (float(self.points[-1, 0]), float(self.points[-1, 1]))
+
+
+def polyline_length(points: np.ndarray) -> float:
+    if len(points) < 2:
+        return 0.0
+    return float(np.sum(np.hypot(*np.diff(points, axis=0).T)))
+
+
+@dataclass(eq=False)
+class TargetField:
+    """Every graph node's shortest distance to one target region, and how to get there."""
+
+    target: BaseGeometry
+    corners: np.ndarray  # (C, 2) candidate end points shared by every query point
+    dist: np.ndarray  # (V,) distance to the target (inf: none)
+    toward: np.ndarray  # (V,) next node toward the target; -1: go straight to ``end``
+    end: np.ndarray  # (V, 2) end point of the straight last leg (nan where none)
+
+
+def _nearest_points(geom: BaseGeometry, xy: np.ndarray) -> np.ndarray:
+    """(N, 2) nearest point of ``geom`` to each query point."""
+    lines = shapely.shortest_line(geom, shapely.points(xy))
+    coords = shapely.get_coordinates(lines).reshape(-1, 2, 2)
+    return coords[:, 0, :]
+
+
+def _end_candidates(target: BaseGeometry, corners: np.ndarray, xy: np.ndarray) -> np.ndarray:
+    """(N, M, 2) candidate end points in ``target`` for each of N query points."""
+    cands = [_nearest_points(target, xy)[:, None, :]]
+    parts = polygons_of(target)
+    if len(parts) > 1:
+        cands += [_nearest_points(p, xy)[:, None, :] for p in parts]
+    if corners.size:
+        cands.append(np.broadcast_to(corners, (xy.shape[0], *corners.shape)))
+    return np.concatenate(cands, axis=1)
+
+
+def _best_straight_leg(
+    graph: VisibilityGraph, target: BaseGeometry, corners: np.ndarray, xy: np.ndarray
+) -> tuple[np.ndarray, np.ndarray]:
+    """Length (inf where none) and end point of the best clear straight leg xy -> target."""
+    n = xy.shape[0]
+    if n == 0:
+        return np.zeros((0,)), np.zeros((0, 2))
+    cands = _end_candidates(target, corners, xy)
+    m = cands.shape[1]
+    starts = np.repeat(xy, m, axis=0)
+    flat = cands.reshape(-1, 2)
+    ok = graph.clear(starts, flat).reshape(n, m)
+    lengths = np.hypot(*(flat - starts).T).reshape(n, m)
+    lengths = np.where(ok, lengths, np.inf)
+    pick = np.argmin(lengths, axis=1)
+    rows = np.arange(n)
+    return lengths[rows, pick], cands[rows, pick]
+
+
+def build_target_field(graph: VisibilityGraph, target: BaseGeometry) -> TargetField:
+    """Dijkstra from ``target`` over ``graph`` (see the module docstring, steps 3-4)."""
+    v = graph.node_count
+    corners = np.zeros((0, 2))
+    if not target.is_empty and not graph.free.is_empty:
+        verts = shapely.get_coordinates(target)
+        near_wall = shapely.distance(graph.free.boundary, shapely.points(verts)) < 1e-7
+        corners = np.unique(verts[near_wall], axis=0)
+    if target.is_empty or v == 0:
+        return TargetField(
+            target, corners, np.full(v, np.inf), np.full(v, -1), np.full((v, 2), np.nan)
+        )
+    leg, end = _best_straight_leg(graph, target, corners, graph.nodes)
+    has_leg = np.isfinite(leg)
+    src = np.flatnonzero(has_leg)
+    coo = graph.matrix.tocoo()
+    rows = np.concatenate([coo.row, src, np.full(src.size, v)])
+    cols = np.concatenate([coo.col, np.full(src.size, v), src])
+    w = np.concatenate([coo.data, leg[src] + EDGE_EPSILON, leg[src] + EDGE_EPSILON])
+    matrix = coo_matrix((w, (rows, cols)), shape=(v + 1, v + 1)).tocsr()
+    dist, pred = dijkstra(matrix, directed=True, indices=v, return_predecessors=True)
+    toward = pred[:v].astype(np.int64)
+    toward = np.where(toward == v, -1, toward)
+    dist = dist[:v]
+    end = np.where(has_leg[:, None], end, np.nan)
+    return TargetField(target, corners, dist, toward, end)
+
+
+class PathPlanner:
+    """Shortest paths for one scene; caches free space, graphs and target fields.
+
+    Visibility graphs are cached per agent radius and target fields per (radius, landmark),
+    so planning every goal of a scene computes each agent-landmark path once.
+    """
+
+    def __init__(self, scene: Scene) -> None:
+        self.scene = scene
+        self._graphs: dict[float, VisibilityGraph] = {}
+        self._fields: dict[tuple[float, int], TargetField] = {}
+        self._routes: dict[tuple[int, int], tuple[Route | None, str | None]] = {}
+        self._samples: dict[int, tuple[np.ndarray, str | None]] = {}
+        self._legs: dict[tuple[float, bytes], tuple[np.ndarray, np.ndarray]] = {}
+
+    # -- caches --------------------------------------------------------------------------
+    def graph(self, radius: float) -> VisibilityGraph:
+        """The visibility graph of the free space for an agent of ``radius``."""
+        key = float(radius)
+        if key not in self._graphs:
+            self._graphs[key] = build_visibility_graph(free_space(self.scene, key), key)
+        return self._graphs[key]
+
+    def target(self, radius: float, landmark_index: int) -> BaseGeometry:
+        """Free space ∩ reach disc: where the agent's centre counts as reaching the landmark."""
+        lm = self.scene.landmarks[landmark_index]
+        disc = Point(lm.position).buffer(lm.reach_radius, quad_segs=quad_segments(lm.reach_radius))
+        return self.graph(radius).free.intersection(disc)
+
+    def field(self, radius: float, landmark_index: int) -> TargetField:
+        key = (float(radius), int(landmark_index))
+        if key not in self._fields:
+            graph = self.graph(radius)
+            self._fields[key] = build_target_field(graph, self.target(radius, landmark_index))
+        return self._fields[key]
+
+    # -- queries -------------------------------------------------------------------------
+    def path_to_landmark(
+        self, agent_index: int, landmark_index: int, start_xy: tuple[float, float] | None = None
+    ) -> Route | None:
+        """Shortest route from the agent's start (or ``start_xy``) into the landmark's reach."""
+        return self.route_to_landmark(agent_index, landmark_index, start_xy)[0]
+
+    def path_between(
+        self, agent_index: int, start_xy: tuple[float, float], goal_xy: tuple[float, float]
+    ) -> Route | None:
+        """Shortest route between two points for the agent's radius (None: no route)."""
+        return self.route_between(agent_index, start_xy, goal_xy)[0]
+
+    def route_to_landmark(
+        self, agent_index: int, landmark_index: int, start_xy: tuple[float, float] | None = None
+    ) -> tuple[Route | None, str | None]:
+        """Like :meth:`path_to_landmark`, with the reason when there is no route."""
+        agent = self.scene.agents[agent_index]
+        lm = self.scene.landmarks[landmark_index]
+        key = (agent_index, landmark_index)
+        if start_xy is None and key in self._routes:
+            return self._routes[key]
+        field = self.field(agent.radius, landmark_index)
+        if field.target.is_empty:
+            result: tuple[Route | None, str | None] = (
+                None,
+                f"landmark '{lm.id}' is out of reach for agent '{agent.id}': its reach disc "
+                f"(radius {lm.reach_radius:g} m) does not meet the free space of an agent of "
+                f"radius {agent.radius:g} m",
+            )
+        elif start_xy is not None:
+            result = self._route_from_points(agent_index, field, np.array([start_xy], float))
+        else:
+            samples, reason = self._start_samples(agent_index)
+            if reason is not None:
+                result = (None, reason)
+            else:
+                result = self._route_from_points(agent_index, field, samples)
+        if result[1] is not None:
+            result = (None, result[1].replace("{landmark}", f"landmark '{lm.id}'"))
+        if start_xy is None:
+            self._routes[key] = result
+        return result
+
+    def route_between(
+        self, agent_index: int, start_xy: tuple[float, float], goal_xy: tuple[float, float]
+    ) -> tuple[Route | None, str | None]:
+        agent = self.scene.agents[agent_index]
+        graph = self.graph(agent.radius)
+        goal = np.asarray(goal_xy, dtype=np.float64).reshape(1, 2)
+        if not bool(graph.contains(goal)[0]):
+            return None, (
+                f"point ({goal[0, 0]:g}, {goal[0, 1]:g}) is outside the free space of agent "
+                f"'{agent.id}'"
+            )
+        field = build_target_field(graph, Point(goal[0]))
+        route, reason = self._route_from_points(
+            agent_index, field, np.array([start_xy], dtype=np.float64)
+        )
+        if reason is not None:
+            reason = reason.replace("{landmark}", f"point ({goal[0, 0]:g}, {goal[0, 1]:g})")
+        return route, reason
+
+    # -- internals -----------------------------------------------------------------------
+    def _route_from_points(
+        self, agent_index: int, field: TargetField, starts: np.ndarray
+    ) -> tuple[Route | None, str | None]:
+        """Best (and worst) route from a set of start samples; reason when none reaches."""
+        agent = self.scene.agents[agent_index]
+        graph = self.graph(agent.radius)
+        inside = graph.contains(starts)
+        if not np.any(inside):
+            x, y = starts[0]
+            where = "start region" if starts.shape[0] > 1 else f"start ({x:g}, {y:g})"
+            return None, (
+                f"{where} of agent '{agent.id}' is outside its free space (inside an obstacle, "
+                f"outside the rooms, or closer than its radius {agent.radius:g} m to a wall)"
+            )
+        starts = starts[inside]
+        costs, plans = self._costs(graph, field, starts)
+        finite = np.isfinite(costs)
+        if not np.any(finite):
+            return None, (
+                f"{{landmark}} cannot be reached by agent '{agent.id}': its start and the "
+                "landmark's reach lie in different parts of its free space"
+            )
+        best = int(np.argmin(np.where(finite, costs, np.inf)))
+        points = self._polyline(graph, field, starts[best], plans[best])
+        worst_len = worst_pts = None
+        if starts.shape[0] > 1:
+            worst = int(np.argmax(np.where(finite, costs, -np.inf)))
+            worst_pts = self._polyline(graph, field, starts[worst], plans[worst])
+            worst_len = polyline_length(worst_pts)
+        return Route(points, polyline_length(points), worst_len, worst_pts), None
+
+    def _costs(
+        self, graph: VisibilityGraph, field: TargetField, starts: np.ndarray
+    ) -> tuple[np.ndarray, list[tuple[int, np.ndarray | None]]]:
+        """Per start: total length and plan (first node, or -1 with a direct end point)."""
+        n = starts.shape[0]
+        in_target = shapely.distance(field.target, shapely.points(starts)) <= 1e-9
+        direct, direct_end = _best_straight_leg(graph, field.target, field.corners, starts)
+        direct = np.where(in_target, 0.0, direct)
+        ok, legs = self._start_legs(graph, starts)
+        total = np.where(ok, legs + field.dist[None, :], np.inf)
+        via = np.full(n, np.inf)
+        via_node = np.full(n, -1)
+        if total.shape[1]:
+            pick = np.argmin(total, axis=1)
+            via = total[np.arange(n), pick]
+            via_node = pick
+        plans: list[tuple[int, np.ndarray | None]] = []
+        costs = np.minimum(direct, via)
+        for k in range(n):
+            if in_target[k]:
+                plans.append((-1, None))
+            elif direct[k] <= via[k]:
+                plans.append((-1, direct_end[k]))
+            else:
+                plans.append((int(via_node[k]), None))
+        return costs, plans
+
+    def _start_legs(
+        self, graph: VisibilityGraph, starts: np.ndarray
+    ) -> tuple[np.ndarray, np.ndarray]:
+        """(n, V) clear-leg mask and leg lengths from start points to every graph node.
+
+        They do not depend on the landmark, so they are cached per (radius, start points).
+        """
+        key = (graph.radius, starts.tobytes())
+        cached = self._legs.get(key)
+        if cached is not None:
+            return cached
+        n, v = starts.shape[0], graph.node_count
+        a = np.repeat(starts, v, axis=0)
+        b = np.tile(graph.nodes, (n, 1))
+        ok = graph.clear(a, b).reshape(n, v)
+        legs = np.hypot(*(b - a).T).reshape(n, v)
+        if len(self._legs) > 256:
+            self._legs.clear()
+        self._legs[key] = (ok, legs)
+        return ok, legs
+
+    @staticmethod
+    def _polyline(
+        graph: VisibilityGraph,
+        field: TargetField,
+        start: np.ndarray,
+        plan: tuple[int, np.ndarray | None],
+    ) -> np.ndarray:
+        node, direct_end = plan
+        pts = [np.asarray(start, dtype=np.float64)]
+        if node < 0:
+            if direct_end is not None:
+                pts.append(direct_end)
+            return np.array(pts)
+        seen = 0
+        while node >= 0 and seen <= graph.node_count:
+            pts.append(graph.nodes[node])
+            last = node
+            node = int(field.toward[node])
+            seen += 1
+        pts.append(field.end[last])
+        return _drop_repeats(np.array(pts))
+
+    def _start_samples(self, agent_index: int) -> tuple[np.ndarray, str | None]:
+        """Start points of an agent: its pose, or samples of its start region ∩ free space."""
+        if agent_index in self._samples:
+            return self._samples[agent_index]
+        agent = self.scene.agents[agent_index]
+        start = agent.start
+        if start.pose is not None:
+            result = (np.array([start.pose[:2]], dtype=np.float64), None)
+        else:
+            assert start.region is not None
+            region = Polygon(start.region)
+            if not region.is_valid:
+                region = shapely.make_valid(region)
+            usable = region.intersection(self.graph(agent.radius).free)
+            if usable.is_empty or usable.area <= 0:
+                result = (
+                    np.zeros((0, 2)),
+                    f"start region of agent '{agent.id}' has no point in its free space "
+                    f"(every point is inside an obstacle or within {agent.radius:g} m of a wall)",
+                )
+            else:
+                result = (region_samples(usable), None)
+        self._samples[agent_index] = result
+        return result
+
+
+def region_samples(region: BaseGeometry) -> np.ndarray:
+    """Sample points of a region: vertices, points along the edges, an interior grid."""
+    pts = [shapely.get_coordinates(region)]
+    for poly in polygons_of(region):
+        for ring in (poly.exterior, *poly.interiors):
+            count = min(64, max(4, math.ceil(ring.length / REGION_EDGE_SPACING)))
+            dist = np.linspace(0.0, ring.length, count, endpoint=False)
+            pts.append(shapely.get_coordinates(shapely.line_interpolate_point(ring, dist)))
+    minx, miny, maxx, maxy = region.bounds
+    gx, gy = np.meshgrid(
+        np.linspace(minx, maxx, REGION_GRID + 2)[1:-1],
+        np.linspace(miny, maxy, REGION_GRID + 2)[1:-1],
+    )
+    grid = np.stack([gx.ravel(), gy.ravel()], axis=1)
+    grid = grid[shapely.covers(region, shapely.points(grid))]
+    pts.append(grid)
+    return np.unique(np.concatenate(pts, axis=0), axis=0)
+
+
+def _drop_repeats(points: np.ndarray) -> np.ndarray:
+    keep = np.ones(len(points), dtype=bool)
+    keep[1:] = np.any(np.abs(np.diff(points, axis=0)) > 1e-12, axis=1)
+    return points[keep]
+
+
+__all__ = ["PathPlanner", "Route", "TargetField", "build_target_field", "polyline_length"]
