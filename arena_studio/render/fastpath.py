@@ -1,0 +1,67 @@
+"""Build a QPainterPath of many polylines from numpy arrays in one call.
+
+Adding points one by one from Python costs about a microsecond each; 256 agents with
+200-step trails are 51,200 points a frame. Qt reads a QPainterPath from a QDataStream as a
+count, then (type int32, x double, y double) per element, then the current subpath start and
+the fill rule, all big-endian. We write that layout with numpy and let Qt read it back, which
+is memory speed. (The same technique plotting libraries use for their connect-array curves.)
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from PySide6.QtCore import QByteArray, QDataStream, QIODevice
+from PySide6.QtGui import QPainterPath
+
+_ELEMENT = np.dtype([("type", ">i4"), ("x", ">f8"), ("y", ">f8")])
+_MOVE_TO, _LINE_TO = 0, 1
+
+
+def polylines_path(xy: np.ndarray, starts: np.ndarray) -> QPainterPath:
+    """One path of several polylines.
+
+    ``xy`` (N, 2) pixel coordinates; ``starts`` (N,) bool, True where a new polyline begins
+    (the first point always begins one). Non-finite points are dropped.
+    """
+    xy = np.asarray(xy, dtype=np.float64).reshape(-1, 2)
+    starts = np.asarray(starts, dtype=bool).reshape(-1).copy()
+    if len(xy) == 0:
+        return QPainterPath()
+    finite = np.isfinite(xy).all(axis=1)
+    if not finite.all():
+        # a dropped point breaks its polyline: the next kept point starts a new one
+        broken = np.zeros(len(xy), dtype=bool)
+        broken[1:] = ~finite[:-1]
+        starts |= broken
+        xy, starts = xy[finite], starts[finite]
+        if len(xy) == 0:
+            return QPainterPath()
+    starts[0] = True
+    n = len(xy)
+    elements = np.empty(n, dtype=_ELEMENT)
+    elements["type"] = np.where(starts, _MOVE_TO, _LINE_TO)
+    elements["x"] = xy[:, 0]
+    elements["y"] = xy[:, 1]
+    last_move = int(np.flatnonzero(starts)[-1])
+    blob = (
+        np.array([n], dtype=">i4").tobytes()
+        + elements.tobytes()
+        + np.array([last_move, 0], dtype=">i4").tobytes()
+    )
+    path = QPainterPath()
+    data = QByteArray(blob)  # keep a reference: the stream reads it in place
+    stream = QDataStream(data, QIODevice.OpenModeFlag.ReadOnly)
+    stream >> path
+    del stream
+    return path
+
+
+def segments_path(a: np.ndarray, b: np.ndarray) -> QPainterPath:
+    """Independent line segments from ``a[i]`` to ``b[i]`` ((K, 2) pixel arrays) as one path."""
+    a = np.asarray(a, dtype=np.float64).reshape(-1, 2)
+    b = np.asarray(b, dtype=np.float64).reshape(-1, 2)
+    xy = np.empty((2 * len(a), 2), dtype=np.float64)
+    xy[0::2], xy[1::2] = a, b
+    starts = np.zeros(len(xy), dtype=bool)
+    starts[0::2] = True
+    return polylines_path(xy, starts)

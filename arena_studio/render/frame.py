@@ -1,0 +1,301 @@
+"""Whole frames offscreen: layout, the cached static layer, PNG and SVG stills.
+
+A frame is the scene (left) with a side panel (right: clock and legend), an optional title
+line on top and caption line at the bottom. :class:`FrameRenderer` paints the static part
+(background, scene, legend) once per episode and output size, then each frame is one blit
+plus the episode layer, which is what makes clip export fast. Painting is deterministic:
+same inputs, same pixels (no clock, no randomness, one font family).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+from pathlib import Path
+
+from PySide6.QtCore import QBuffer, QByteArray, QIODevice, QRectF, QSize
+from PySide6.QtGui import QColor, QImage, QPainter
+
+from ..core.atomic import write_bytes_atomic
+from ..core.episode import Episode
+from ..core.scene import Scene
+from .episode_painter import (
+    FrameOptions,
+    paint_banner,
+    paint_clock,
+    paint_episode_frame,
+    paint_legend,
+)
+from .scene_painter import SceneOptions, paint_scene
+from .theme import Theme, load_theme
+from .view import ViewTransform
+
+IMAGE_FORMAT = QImage.Format.Format_RGB32  # memory order B, G, R, 0xFF on little-endian
+
+
+@dataclass(frozen=True)
+class FrameLayout:
+    size: tuple[int, int]
+    ui: float
+    scene_rect: QRectF
+    panel_rect: QRectF | None
+    title_rect: QRectF | None
+    caption_rect: QRectF | None
+    view: ViewTransform
+
+
+def ui_scale_for(size: tuple[int, int], options: FrameOptions) -> float:
+    if options.ui_scale is not None:
+        return float(options.ui_scale)
+    w, h = size
+    return float(min(max(min(h / 720.0, w / 1000.0), 0.45), 4.0))
+
+
+def frame_layout(scene: Scene, size: tuple[int, int], options: FrameOptions) -> FrameLayout:
+    w, h = size
+    if w < 16 or h < 16:
+        raise ValueError(f"frame size {w}x{h} is too small (16x16 at least)")
+    ui = ui_scale_for(size, options)
+    top = 36.0 * ui if options.title else 0.0
+    bottom = 30.0 * ui if options.caption else 0.0
+    panel_w = min(max(0.2 * w, 170.0 * ui), 250.0 * ui) if (options.legend or options.clock) else 0
+    if panel_w > 0.45 * w:
+        panel_w = 0.45 * w
+    scene_rect = QRectF(0, top, w - panel_w, h - top - bottom)
+    panel = QRectF(w - panel_w, top, panel_w, h - top - bottom) if panel_w else None
+    view = ViewTransform.fit_scene(scene, scene_rect, margin_px=14.0 * ui)
+    return FrameLayout(
+        size=(w, h),
+        ui=ui,
+        scene_rect=scene_rect,
+        panel_rect=panel,
+        title_rect=QRectF(0, 0, w, top) if top else None,
+        caption_rect=QRectF(0, h - bottom, w, bottom) if bottom else None,
+        view=view,
+    )
+
+
+def scene_options(options: FrameOptions, ui: float) -> SceneOptions:
+    return SceneOptions(
+        grid=options.grid,
+        scale_bar=options.scale_bar,
+        landmark_labels=options.landmark_labels,
+        reach_rings=True,
+        starts=False,
+        fill_background=True,
+        ui_scale=ui,
+    )
+
+
+def paint_static(
+    painter: QPainter,
+    scene: Scene,
+    episode: Episode,
+    layout: FrameLayout,
+    theme: Theme,
+    options: FrameOptions,
+) -> None:
+    """Background, scene, panel and legend, title and caption: what no step changes."""
+    w, h = layout.size
+    painter.save()
+    painter.setClipRect(layout.scene_rect)
+    paint_scene(
+        painter,
+        scene,
+        layout.view,
+        theme,
+        scene_options(options, layout.ui),
+        size=(layout.scene_rect.right(), layout.scene_rect.bottom()),
+    )
+    painter.restore()
+    painter.fillRect(QRectF(0, 0, w, layout.scene_rect.top()), theme.qcolor("background"))
+    painter.fillRect(
+        QRectF(0, layout.scene_rect.bottom(), w, h - layout.scene_rect.bottom()),
+        theme.qcolor("background"),
+    )
+    if layout.panel_rect is not None:
+        painter.fillRect(layout.panel_rect, theme.qcolor("background"))
+        if options.legend:
+            p = layout.panel_rect
+            top = p.y() + (70.0 * layout.ui if options.clock else 8.0 * layout.ui)
+            legend = QRectF(
+                p.x() + 6 * layout.ui,
+                top,
+                p.width() - 14 * layout.ui,
+                p.bottom() - top - 8 * layout.ui,
+            )
+            paint_legend(painter, legend, scene, episode, theme, options, layout.ui)
+    if layout.title_rect is not None and options.title:
+        paint_banner(painter, layout.title_rect, options.title, theme, 18 * layout.ui, True)
+    if layout.caption_rect is not None and options.caption:
+        paint_banner(painter, layout.caption_rect, options.caption, theme, 13 * layout.ui, False)
+
+
+def paint_dynamic(
+    painter: QPainter,
+    scene: Scene,
+    episode: Episode,
+    step: int,
+    layout: FrameLayout,
+    theme: Theme,
+    options: FrameOptions,
+) -> None:
+    opts = replace(options, ui_scale=layout.ui)
+    painter.save()
+    painter.setClipRect(layout.scene_rect)
+    paint_episode_frame(painter, scene, episode, step, layout.view, theme, opts)
+    painter.restore()
+    if options.clock:
+        rect = layout.panel_rect if layout.panel_rect is not None else layout.scene_rect
+        paint_clock(painter, rect, episode, step, theme, layout.ui)
+
+
+class FrameRenderer:
+    """Frames of one scene at one size; caches the static layer per episode.
+
+    ``render(episode, step)`` returns an internal image that the next call overwrites (copy it
+    to keep it); :func:`render_frame` is the convenience that returns a fresh image.
+    """
+
+    def __init__(self, scene: Scene, size: tuple[int, int], options: FrameOptions) -> None:
+        self.scene = scene
+        self.options = options
+        self.theme = load_theme(options.theme)
+        self.layout = frame_layout(scene, size, options)
+        self._static: QImage | None = None
+        self._static_for: Episode | None = None
+        self._image = QImage(QSize(*size), IMAGE_FORMAT)
+
+    def _static_layer(self, episode: Episode) -> QImage:
+        if self._static is None or self._static_for is not episode:
+            img = QImage(QSize(*self.layout.size), IMAGE_FORMAT)
+            img.fill(self.theme.qcolor("background"))
+            painter = QPainter(img)
+            try:
+                paint_static(painter, self.scene, episode, self.layout, self.theme, self.options)
+            finally:
+                painter.end()
+            self._static, self._static_for = img, episode
+        return self._static
+
+    def render(self, episode: Episode, step: int) -> QImage:
+        static = self._static_layer(episode)
+        painter = QPainter(self._image)
+        try:
+            painter.drawImage(0, 0, static)
+            paint_dynamic(painter, self.scene, episode, step, self.layout, self.theme, self.options)
+        finally:
+            painter.end()
+        return self._image
+
+    def render_card(self, episode: Episode, title: str, subtitle: str) -> QImage:
+        """A title card: the first frame dimmed, with a large title and one line below."""
+        from .episode_painter import paint_banner as banner
+
+        self.render(episode, 0)
+        w, h = self.layout.size
+        painter = QPainter(self._image)
+        veil = QColor(self.theme.qcolor("background"))
+        veil.setAlphaF(0.82)
+        painter.fillRect(QRectF(0, 0, w, h), veil)
+        ui = self.layout.ui
+        banner(painter, QRectF(0, h / 2 - 60 * ui, w, 50 * ui), title, self.theme, 30 * ui, True)
+        if subtitle:
+            banner(
+                painter, QRectF(0, h / 2 + 0 * ui, w, 30 * ui), subtitle, self.theme, 15 * ui, False
+            )
+        painter.end()
+        return self._image
+
+
+def render_frame(
+    scene: Scene,
+    episode: Episode,
+    step: int,
+    options: FrameOptions | None = None,
+    size: tuple[int, int] = (1280, 720),
+) -> QImage:
+    """One frame as a new QImage (RGB32), offscreen, deterministic."""
+    return FrameRenderer(scene, size, options or FrameOptions()).render(episode, step).copy()
+
+
+# -- stills -------------------------------------------------------------------------------------
+def png_bytes(image: QImage, dpi: float | None = None) -> bytes:
+    if dpi is not None:
+        per_metre = round(dpi / 0.0254)
+        image = image.copy()
+        image.setDotsPerMeterX(per_metre)
+        image.setDotsPerMeterY(per_metre)
+    data = QByteArray()
+    buffer = QBuffer(data)
+    buffer.open(QIODevice.OpenModeFlag.WriteOnly)
+    if not image.save(buffer, "PNG"):
+        raise OSError("could not encode the frame as PNG")
+    buffer.close()
+    return bytes(data.data())
+
+
+def save_png_still(
+    path: str | Path,
+    scene: Scene,
+    episode: Episode,
+    step: int,
+    options: FrameOptions | None = None,
+    size: tuple[int, int] = (1280, 720),
+    scale: float = 1.0,
+    dpi: float | None = None,
+) -> Path:
+    """A PNG still of ``size`` x ``scale`` pixels (``dpi`` stored in the file), atomic write."""
+    opts = options or FrameOptions()
+    w, h = round(size[0] * scale), round(size[1] * scale)
+    ui = ui_scale_for(size, opts) * scale
+    image = render_frame(scene, episode, step, replace(opts, ui_scale=ui), (w, h))
+    target = Path(path)
+    write_bytes_atomic(target, png_bytes(image, dpi))
+    return target
+
+
+def svg_bytes(
+    scene: Scene,
+    episode: Episode,
+    step: int,
+    options: FrameOptions | None = None,
+    size: tuple[int, int] = (1280, 720),
+    title: str = "arena_studio frame",
+) -> bytes:
+    """The frame as SVG: vector shapes, text kept as text (QSvgGenerator)."""
+    from PySide6.QtSvg import QSvgGenerator
+
+    opts = options or FrameOptions()
+    theme = load_theme(opts.theme)
+    layout = frame_layout(scene, size, opts)
+    data = QByteArray()
+    buffer = QBuffer(data)
+    buffer.open(QIODevice.OpenModeFlag.WriteOnly)
+    gen = QSvgGenerator()
+    gen.setOutputDevice(buffer)
+    gen.setSize(QSize(*size))
+    gen.setViewBox(QRectF(0, 0, *size))
+    gen.setTitle(title)
+    gen.setDescription(f"{scene.name}, episode {episode.index}, step {step}")
+    painter = QPainter(gen)
+    try:
+        painter.fillRect(QRectF(0, 0, *size), theme.qcolor("background"))
+        paint_static(painter, scene, episode, layout, theme, opts)
+        paint_dynamic(painter, scene, episode, step, layout, theme, opts)
+    finally:
+        painter.end()
+    buffer.close()
+    return bytes(data.data())
+
+
+def save_svg_still(
+    path: str | Path,
+    scene: Scene,
+    episode: Episode,
+    step: int,
+    options: FrameOptions | None = None,
+    size: tuple[int, int] = (1280, 720),
+) -> Path:
+    target = Path(path)
+    write_bytes_atomic(target, svg_bytes(scene, episode, step, options, size))
+    return target
