@@ -1,0 +1,255 @@
+"""SceneCanvas: a metric view of a scene (metres, y up, aspect locked) with grid and scale bar.
+
+Pan with the middle or right button, or hold Space and drag; the wheel zooms around the
+cursor; :meth:`SceneCanvas.fit_scene` frames everything. The canvas itself is read-only: it
+shows a scene through :meth:`show_scene`, and the layout editor (``EditorCanvas``) and the
+replay viewer add their behaviour and items on top (``canvas.scene()`` is the QGraphicsScene).
+"""
+
+from __future__ import annotations
+
+import math
+
+from PySide6.QtCore import QPoint, QPointF, QRectF, Qt, Signal
+from PySide6.QtGui import (
+    QKeyEvent,
+    QMouseEvent,
+    QPainter,
+    QResizeEvent,
+    QTransform,
+    QWheelEvent,
+)
+from PySide6.QtWidgets import QFrame, QGraphicsScene, QGraphicsView, QWidget
+
+from ..core.geometry import bounds
+from ..core.scene import Scene
+from ..render.theme import Theme
+from .scene_items import WORLD, SceneLayer, paint_floor, pen
+from .snapping import nice_step
+
+MIN_PPM, MAX_PPM = 0.5, 4000.0  # pixels per metre
+GRID_MIN_PX = 14.0  # smallest on-screen spacing of minor grid lines
+
+
+class SceneCanvas(QGraphicsView):
+    """Metric, y-up view. ``cursor_moved`` reports the pointer in metres."""
+
+    cursor_moved = Signal(float, float)
+    cursor_left = Signal()
+    zoom_changed = Signal(float)
+
+    def __init__(self, theme: Theme, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.theme = theme
+        self._graphics = QGraphicsScene(self)
+        self._graphics.setSceneRect(WORLD)
+        self.setScene(self._graphics)
+        self.layer = SceneLayer(theme)
+        self._graphics.addItem(self.layer)
+        self.setFrameShape(QFrame.Shape.NoFrame)
+        self.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+        self.setRenderHint(QPainter.RenderHint.TextAntialiasing, True)
+        self.setViewportUpdateMode(QGraphicsView.ViewportUpdateMode.FullViewportUpdate)
+        self.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        self.setVerticalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        self.setTransformationAnchor(QGraphicsView.ViewportAnchor.AnchorUnderMouse)
+        self.setResizeAnchor(QGraphicsView.ViewportAnchor.AnchorViewCenter)
+        self.setMouseTracking(True)
+        self.setFocusPolicy(Qt.FocusPolicy.StrongFocus)
+        self.setTransform(QTransform.fromScale(40.0, -40.0))
+        self._pan_from: QPoint | None = None
+        self._space = False
+        self._fitted_once = False
+
+    # -- content -----------------------------------------------------------------------
+    @property
+    def scene_value(self) -> Scene:
+        return self.layer.scene_value
+
+    def show_scene(self, scene: Scene) -> None:
+        self.layer.scene_value = scene
+        self.layer.update()
+        self.viewport().update()
+
+    def set_theme(self, theme: Theme) -> None:
+        self.theme = theme
+        self.layer.theme = theme
+        self.viewport().update()
+
+    # -- view --------------------------------------------------------------------------
+    def pixels_per_metre(self) -> float:
+        t = self.transform()
+        return math.hypot(t.m11(), t.m12())
+
+    def metres_per_pixel(self) -> float:
+        return 1.0 / self.pixels_per_metre()
+
+    def grid_step(self) -> float:
+        """Minor grid spacing (m): the 1-2-5 value at least GRID_MIN_PX pixels apart."""
+        return nice_step(GRID_MIN_PX / self.pixels_per_metre())
+
+    def fit_scene(self, margin_px: float = 36.0) -> None:
+        minx, miny, maxx, maxy = bounds(self.scene_value)
+        w, h = max(maxx - minx, 1.0), max(maxy - miny, 1.0)
+        vw = max(self.viewport().width() - 2 * margin_px, 40.0)
+        vh = max(self.viewport().height() - 2 * margin_px, 40.0)
+        s = min(max(min(vw / w, vh / h), MIN_PPM), MAX_PPM)
+        self.setTransform(QTransform.fromScale(s, -s))
+        self.centerOn(QPointF((minx + maxx) / 2, (miny + maxy) / 2))
+        self.zoom_changed.emit(s)
+
+    def zoom_by(self, factor: float) -> None:
+        ppm = self.pixels_per_metre()
+        factor = min(max(factor, MIN_PPM / ppm), MAX_PPM / ppm)
+        self.scale(factor, factor)
+        self.zoom_changed.emit(self.pixels_per_metre())
+
+    def zoom_in(self) -> None:
+        self.zoom_by(1.25)
+
+    def zoom_out(self) -> None:
+        self.zoom_by(0.8)
+
+    def centre_on(self, xy: tuple[float, float]) -> None:
+        self.centerOn(QPointF(*xy))
+
+    def world_at(self, pos: QPointF | QPoint) -> tuple[float, float]:
+        p = self.mapToScene(pos.toPoint() if isinstance(pos, QPointF) else pos)
+        return (p.x(), p.y())
+
+    # -- drawing -----------------------------------------------------------------------
+    def drawBackground(self, painter: QPainter, rect: QRectF) -> None:  # noqa: N802
+        painter.fillRect(rect, self.theme.qcolor("background"))
+        paint_floor(painter, self.scene_value, self.theme)
+        self._paint_grid(painter, rect)
+
+    def _paint_grid(self, painter: QPainter, rect: QRectF) -> None:
+        step = self.grid_step()
+        mantissa = round(step / 10 ** math.floor(math.log10(step)))
+        major = step * (2 if mantissa == 5 else 5)
+        x0, x1 = math.floor(rect.left() / step), math.ceil(rect.right() / step)
+        y0, y1 = math.floor(rect.top() / step), math.ceil(rect.bottom() / step)
+        if (x1 - x0) * (y1 - y0) > 4e6:
+            return
+        ratio = round(major / step)
+        for is_major in (False, True):
+            painter.setPen(pen(self.theme.qcolor("grid_major" if is_major else "grid_minor"), 1))
+            for i in range(x0, x1 + 1):
+                if (i % ratio == 0) == is_major:
+                    painter.drawLine(QPointF(i * step, rect.top()), QPointF(i * step, rect.bottom()))
+            for j in range(y0, y1 + 1):
+                if (j % ratio == 0) == is_major:
+                    painter.drawLine(QPointF(rect.left(), j * step), QPointF(rect.right(), j * step))
+
+    def drawForeground(self, painter: QPainter, rect: QRectF) -> None:  # noqa: N802
+        painter.save()
+        painter.resetTransform()
+        self._paint_scale_bar(painter)
+        painter.restore()
+
+    def _paint_scale_bar(self, painter: QPainter) -> None:
+        ppm = self.pixels_per_metre()
+        length = nice_step(90.0 / ppm)
+        px = length * ppm
+        x, y = 16.0, self.viewport().height() - 18.0
+        color = self.theme.qcolor("scale_bar")
+        back = self.theme.qcolor("background", alpha=0.78)
+        painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+        painter.setPen(Qt.PenStyle.NoPen)
+        painter.setBrush(back)
+        painter.drawRoundedRect(QRectF(x - 8, y - 24, px + 16 + 70, 34), 4, 4)
+        painter.setPen(pen(color, 2.0))
+        painter.drawLine(QPointF(x, y), QPointF(x + px, y))
+        painter.drawLine(QPointF(x, y - 5), QPointF(x, y + 3))
+        painter.drawLine(QPointF(x + px, y - 5), QPointF(x + px, y + 3))
+        painter.drawLine(QPointF(x + px / 2, y - 3), QPointF(x + px / 2, y))
+        painter.setPen(color)
+        label = f"{length:g} m" if length >= 1 else f"{length * 100:g} cm"
+        painter.drawText(QPointF(x + px + 8, y + 4), label)
+
+    # -- input -------------------------------------------------------------------------
+    def _starts_pan(self, event: QMouseEvent) -> bool:
+        b = event.button()
+        return b in (Qt.MouseButton.MiddleButton, Qt.MouseButton.RightButton) or (
+            b == Qt.MouseButton.LeftButton and self._space
+        )
+
+    def mousePressEvent(self, event: QMouseEvent) -> None:  # noqa: N802
+        if self._starts_pan(event):
+            self._pan_from = event.position().toPoint()
+            self.viewport().setCursor(Qt.CursorShape.ClosedHandCursor)
+            event.accept()
+            return
+        self.canvas_press(event)
+
+    def mouseMoveEvent(self, event: QMouseEvent) -> None:  # noqa: N802
+        pos = event.position().toPoint()
+        if self._pan_from is not None:
+            delta = pos - self._pan_from
+            self._pan_from = pos
+            h, v = self.horizontalScrollBar(), self.verticalScrollBar()
+            h.setValue(h.value() - delta.x())
+            v.setValue(v.value() - delta.y())
+            event.accept()
+            return
+        x, y = self.world_at(pos)
+        self.cursor_moved.emit(x, y)
+        self.canvas_move(event)
+
+    def mouseReleaseEvent(self, event: QMouseEvent) -> None:  # noqa: N802
+        if self._pan_from is not None:
+            self._pan_from = None
+            self.viewport().setCursor(
+                Qt.CursorShape.OpenHandCursor if self._space else Qt.CursorShape.ArrowCursor
+            )
+            event.accept()
+            return
+        self.canvas_release(event)
+
+    def mouseDoubleClickEvent(self, event: QMouseEvent) -> None:  # noqa: N802
+        if event.button() == Qt.MouseButton.LeftButton and not self._space:
+            self.canvas_double_click(event)
+
+    def wheelEvent(self, event: QWheelEvent) -> None:  # noqa: N802
+        steps = event.angleDelta().y() / 120.0
+        if steps:
+            self.zoom_by(1.2**steps)
+        event.accept()
+
+    def keyPressEvent(self, event: QKeyEvent) -> None:  # noqa: N802
+        if event.key() == Qt.Key.Key_Space and not event.isAutoRepeat():
+            self._space = True
+            self.viewport().setCursor(Qt.CursorShape.OpenHandCursor)
+            event.accept()
+            return
+        super().keyPressEvent(event)
+
+    def keyReleaseEvent(self, event: QKeyEvent) -> None:  # noqa: N802
+        if event.key() == Qt.Key.Key_Space and not event.isAutoRepeat():
+            self._space = False
+            self.viewport().setCursor(Qt.CursorShape.ArrowCursor)
+            event.accept()
+            return
+        super().keyReleaseEvent(event)
+
+    def leaveEvent(self, event: object) -> None:  # noqa: N802
+        self.cursor_left.emit()
+
+    def resizeEvent(self, event: QResizeEvent) -> None:  # noqa: N802
+        super().resizeEvent(event)
+        if not self._fitted_once and self.viewport().width() > 50:
+            self._fitted_once = True
+            self.fit_scene()
+
+    # Hooks for subclasses (the editor forwards these to its tools).
+    def canvas_press(self, event: QMouseEvent) -> None:
+        event.ignore()
+
+    def canvas_move(self, event: QMouseEvent) -> None:
+        event.ignore()
+
+    def canvas_release(self, event: QMouseEvent) -> None:
+        event.ignore()
+
+    def canvas_double_click(self, event: QMouseEvent) -> None:
+        event.ignore()

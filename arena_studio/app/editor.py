@@ -1,0 +1,122 @@
+"""Editor state shared by canvas, tools and panels: document, selection, snapping, tools.
+
+:class:`Editor` is the :class:`~arena_studio.app.tools.ToolHost` the tools talk to. It keeps
+selection outside the undo history (selecting is not an edit) and prunes it when objects
+vanish through undo or delete.
+"""
+
+from __future__ import annotations
+
+from PySide6.QtCore import QObject, Signal
+
+from ..core.scene import Scene
+from . import edits
+from .document import SceneDocument
+from .edits import ObjKey, Point
+from .snapping import Snap, SnapSettings, snap_point
+from .tools import Tool, make_tools
+
+
+class Editor(QObject):
+    selection_changed = Signal()
+    tool_changed = Signal(str)
+    preview_changed = Signal()
+    status_message = Signal(str)
+
+    def __init__(self, document: SceneDocument) -> None:
+        super().__init__()
+        self.document = document
+        self._selection: tuple[ObjKey, ...] = ()
+        self.active_vertex: tuple[ObjKey, int] | None = None
+        self.snap_settings = SnapSettings()
+        self.snap_tolerance = 0.15  # metres; the canvas updates it from the zoom
+        self._grid_step = 0.5  # metres; the canvas updates it from the zoom
+        self.tools: dict[str, Tool] = make_tools(self)
+        self.tool: Tool = self.tools["tool.select"]
+        document.changed.connect(self._prune)
+
+    # -- ToolHost ----------------------------------------------------------------------
+    @property
+    def scene(self) -> Scene:
+        return self.document.scene
+
+    def apply(self, scene: Scene, text: str, merge_key: object = None) -> None:
+        self.document.apply(scene, text, merge_key)
+
+    def selection(self) -> tuple[ObjKey, ...]:
+        return self._selection
+
+    def set_selection(self, keys: list[ObjKey] | tuple[ObjKey, ...]) -> None:
+        keys = tuple(dict.fromkeys(keys))
+        if keys != self._selection:
+            self._selection = keys
+            if self.active_vertex is not None and self.active_vertex[0] not in keys:
+                self.active_vertex = None
+            self.selection_changed.emit()
+
+    def snap(self, xy: Point, bypass: bool, exclude: ObjKey | None = None) -> Snap:
+        settings = self.snap_settings
+        if bypass:
+            settings = SnapSettings(enabled=False)
+        return snap_point(self.scene, xy, self._grid_step, self.snap_tolerance, settings, exclude)
+
+    def grid_step(self) -> float:
+        return self._grid_step
+
+    def set_grid_step(self, step: float) -> None:
+        self._grid_step = step
+
+    def message(self, text: str) -> None:
+        self.status_message.emit(text)
+
+    def set_active_vertex(self, vertex: tuple[ObjKey, int] | None) -> None:
+        self.active_vertex = vertex
+        self.preview_changed.emit()
+
+    # -- commands ----------------------------------------------------------------------
+    def set_tool(self, name: str) -> None:
+        if self.tool.name == name:
+            return
+        self.tool.cancel()
+        self.tool = self.tools[name]
+        self.tool_changed.emit(name)
+        self.status_message.emit(self.tool.hint)
+        self.preview_changed.emit()
+
+    def select_all(self) -> None:
+        self.set_selection(edits.keys_of(self.scene))
+
+    def delete_selection(self) -> bool:
+        """Delete the active vertex if one is picked, else every selected object."""
+        if self.active_vertex is not None:
+            key, idx = self.active_vertex
+            new = edits.delete_vertex(self.scene, key, idx)
+            if new is None:
+                self.message("An outline keeps at least three vertices.")
+                return False
+            self.active_vertex = None
+            self.apply(new, "Delete vertex")
+            return True
+        if not self._selection:
+            return False
+        self.apply(edits.delete_objects(self.scene, self._selection), "Delete")
+        return True
+
+    def nudge(self, dx_steps: float, dy_steps: float, fine: bool) -> None:
+        if not self._selection:
+            return
+        step = self._grid_step / (10.0 if fine else 1.0)
+        new = edits.move_objects(self.scene, self._selection, dx_steps * step, dy_steps * step)
+        self.apply(new, "Nudge")
+
+    def _prune(self) -> None:
+        present = set(edits.keys_of(self.scene))
+        kept = tuple(k for k in self._selection if k in present)
+        if self.active_vertex is not None:
+            key, idx = self.active_vertex
+            pts = edits.outline_of(edits.find(self.scene, key)) if key in present else None
+            if not pts or idx >= len(pts):
+                self.active_vertex = None
+        if kept != self._selection:
+            self._selection = kept
+            self.selection_changed.emit()

@@ -1,0 +1,72 @@
+"""Starts the desktop app for ``arena-studio [PATH] [--screenshot OUT.png] [--theme ...]``."""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+from pathlib import Path
+
+SCREENSHOT_SIZE = (1600, 1000)
+
+
+def _ensure_platform(screenshot: bool) -> None:
+    """Screenshots need no display: fall back to Qt's offscreen platform when there is none."""
+    if screenshot and "QT_QPA_PLATFORM" not in os.environ:
+        if not (os.environ.get("DISPLAY") or os.environ.get("WAYLAND_DISPLAY")):
+            os.environ["QT_QPA_PLATFORM"] = "offscreen"
+
+
+def launch_app(args: argparse.Namespace) -> int:
+    screenshot = getattr(args, "screenshot", None)
+    path = getattr(args, "path", None)
+    if path is not None and not Path(path).exists():
+        print(f"arena-studio: {path}: no such file", file=sys.stderr)
+        return 2
+    if screenshot and not Path(screenshot).resolve().parent.is_dir():
+        print(f"arena-studio: {screenshot}: folder does not exist", file=sys.stderr)
+        return 2
+    _ensure_platform(bool(screenshot))
+
+    from PySide6.QtWidgets import QApplication
+
+    from .main_window import MainWindow
+
+    app = QApplication.instance() or QApplication(sys.argv[:1])
+    app.setOrganizationName("arena_studio")
+    app.setApplicationName("arena-studio")
+    window = MainWindow(theme=getattr(args, "theme", None))
+    if not screenshot:
+        window.offer_recovery()
+    if path is not None:
+        opened = window.open_path(path)
+        if not opened and screenshot:
+            return 2
+    elif not window.document.dirty:
+        window.open_demo()
+    if screenshot:
+        return _screenshot(app, window, Path(screenshot))
+    window.show()
+    return int(app.exec())
+
+
+def _screenshot(app: object, window: object, out: Path) -> int:
+    from PySide6.QtWidgets import QApplication
+
+    from .main_window import MainWindow
+
+    assert isinstance(window, MainWindow)
+    window.resize(*SCREENSHOT_SIZE)
+    window.show()
+    QApplication.processEvents()
+    window.canvas.fit_scene()
+    window.run_checks_now()
+    QApplication.processEvents()
+    image = window.grab()
+    ok = image.save(str(out))
+    window.document.undo_stack.setClean()
+    window.close()
+    if not ok:
+        print(f"arena-studio: could not write {out}", file=sys.stderr)
+        return 2
+    return 0

@@ -1,0 +1,545 @@
+"""The main window: layout editor page, panels, menus and toolbars built from the action table.
+
+``open_path`` dispatches by file type: scenes open in the layout editor; ``.tape`` files go
+to the replay mode (``arena_studio.app.replay``, loaded lazily through :meth:`open_tape`).
+Other modes add a page with :meth:`add_mode`.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from pathlib import Path
+
+from PySide6.QtCore import QByteArray, QSettings, QStandardPaths, Qt, QTimer
+from PySide6.QtGui import QAction, QActionGroup, QCloseEvent, QDragEnterEvent, QDropEvent
+from PySide6.QtWidgets import (
+    QApplication,
+    QDockWidget,
+    QLabel,
+    QMainWindow,
+    QMenu,
+    QStackedWidget,
+    QToolBar,
+    QWidget,
+)
+
+from ..core.errors import ArenaError
+from ..core.resources import DEFAULT_DEMO_SCENE, demo_path
+from ..core.scene import Scene, load_scene, save_scene
+from ..render.theme import THEMES, Theme, load_theme
+from . import edits
+from .actions import ACTIONS, MENUS, ActionSpec
+from .appearance import apply_theme
+from .checking import CheckRunner
+from .dialogs import Dialogs
+from .document import SceneDocument
+from .editor import Editor
+from .editor_canvas import EditorCanvas
+from .findings_panel import FindingsPanel
+from .goals_panel import GoalsPanel
+from .icons import themed_icon
+from .properties_panel import PropertiesPanel
+from .recovery import RecoveryStore
+
+AUTOSAVE_MS = 30_000
+MAX_RECENT = 10
+SCENE_SUFFIXES = (".json", ".msgpack", ".mpk")
+
+
+def default_recovery_dir() -> Path:
+    base = QStandardPaths.writableLocation(QStandardPaths.StandardLocation.AppDataLocation)
+    return Path(base or Path.home() / ".arena_studio") / "recovery"
+
+
+class MainWindow(QMainWindow):
+    def __init__(
+        self,
+        settings: QSettings | None = None,
+        recovery_dir: Path | None = None,
+        dialogs: Dialogs | None = None,
+        theme: str | None = None,
+    ) -> None:
+        super().__init__()
+        self.setObjectName("arena_studio_main")
+        self.settings = settings if settings is not None else QSettings()
+        self.dialogs = dialogs if dialogs is not None else Dialogs(self)
+        self.recovery = RecoveryStore(recovery_dir or default_recovery_dir())
+        name = theme or str(self.settings.value("prefs/theme", "light"))
+        self.theme: Theme = load_theme(name if name in THEMES else "light")
+
+        self.document = SceneDocument(Scene(name="Untitled scene"))
+        self.editor = Editor(self.document)
+        self.canvas = EditorCanvas(self.theme, self.editor)
+        self.modes = QStackedWidget()
+        self.modes.addWidget(self.canvas)
+        self._mode_pages: dict[str, QWidget] = {"layout": self.canvas}
+        self.setCentralWidget(self.modes)
+        self.setAcceptDrops(True)
+
+        self.checks = CheckRunner()
+        self.findings: list[object] = []
+        self._build_panels()
+        self.actions_by_id: dict[str, QAction] = {}
+        self._conditions: dict[str, Callable[[], bool]] = {
+            "can_undo": self.document.undo_stack.canUndo,
+            "can_redo": self.document.undo_stack.canRedo,
+            "has_selection": lambda: bool(self.editor.selection() or self.editor.active_vertex),
+            "is_dirty_or_unnamed": lambda: self.document.dirty or self.document.path is None,
+        }
+        self._build_actions()
+        self._build_status_bar()
+        self._connect()
+
+        self._autosave = QTimer(self)
+        self._autosave.setInterval(AUTOSAVE_MS)
+        self._autosave.timeout.connect(self.autosave_now)
+        self._autosave.start()
+        self._autosaved_scene: Scene | None = None
+
+        self.resize(1400, 900)
+        self._restore_settings()
+        self.apply_theme(self.theme.name)
+        self._on_document_changed()
+
+    # -- construction ------------------------------------------------------------------
+    def _build_panels(self) -> None:
+        self.properties = PropertiesPanel(self.editor)
+        self.goals_panel = GoalsPanel(self.editor)
+        self.findings_panel = FindingsPanel(self.theme)
+        self.docks: dict[str, QDockWidget] = {}
+        for key, title, widget, area in (
+            ("properties", "Properties", self.properties, Qt.DockWidgetArea.RightDockWidgetArea),
+            ("goals", "Goals", self.goals_panel, Qt.DockWidgetArea.RightDockWidgetArea),
+            ("findings", "Findings", self.findings_panel, Qt.DockWidgetArea.RightDockWidgetArea),
+        ):
+            dock = QDockWidget(title, self)
+            dock.setObjectName(f"dock_{key}")
+            dock.setWidget(widget)
+            dock.setFeatures(
+                QDockWidget.DockWidgetFeature.DockWidgetMovable
+                | QDockWidget.DockWidgetFeature.DockWidgetFloatable
+                | QDockWidget.DockWidgetFeature.DockWidgetClosable
+            )
+            self.addDockWidget(area, dock)
+            self.docks[key] = dock
+        self.tabifyDockWidget(self.docks["properties"], self.docks["goals"])
+        self.docks["properties"].raise_()
+        self.resizeDocks([self.docks["properties"]], [380], Qt.Orientation.Horizontal)
+
+    def _build_actions(self) -> None:
+        menus = {name: self.menuBar().addMenu(f"&{name}") for name in MENUS}
+        self.toolbars = {
+            "file": QToolBar("File and view"),
+            "tools": QToolBar("Drawing tools"),
+        }
+        self.toolbars["file"].setObjectName("file")
+        self.toolbars["tools"].setObjectName("tools")
+        self.addToolBar(Qt.ToolBarArea.TopToolBarArea, self.toolbars["file"])
+        self.addToolBar(Qt.ToolBarArea.LeftToolBarArea, self.toolbars["tools"])
+        for tb in self.toolbars.values():
+            tb.setMovable(False)
+            tb.setIconSize(tb.iconSize().scaled(22, 22, Qt.AspectRatioMode.KeepAspectRatio))
+        tool_group = QActionGroup(self)
+        tool_group.setExclusive(True)
+        previous_menu = ""
+        for spec in ACTIONS:
+            act = QAction(spec.title.replace("&", "") if not spec.menu else spec.title, self)
+            act.setObjectName(spec.id)
+            keys = [k for k in spec.shortcuts]
+            if keys:
+                act.setShortcuts(keys)  # type: ignore[arg-type]
+                act.setShortcutContext(Qt.ShortcutContext.WindowShortcut)
+            act.setCheckable(spec.checkable)
+            tip = spec.tip or spec.title.replace("&", "").replace("…", "")
+            first = act.shortcut().toString()
+            act.setToolTip(f"{tip} ({first})" if first else tip)
+            act.setStatusTip(tip)
+            if spec.id.startswith("tool."):
+                tool_group.addAction(act)
+                act.triggered.connect(lambda _c=False, s=spec: self.editor.set_tool(s.id))
+            else:
+                act.triggered.connect(self._handler(spec))
+            if spec.menu:
+                menu = menus[spec.menu]
+                if spec.menu == previous_menu and spec.id in ("file.quit", "edit.delete",
+                                                              "edit.snap", "view.dark"):
+                    menu.addSeparator()
+                menu.addAction(act)
+                if spec.id == "file.open":
+                    self.recent_menu = QMenu("Open &Recent", self)
+                    menu.addMenu(self.recent_menu)
+                previous_menu = spec.menu
+            if spec.toolbar:
+                self.toolbars[spec.toolbar].addAction(act)
+                if spec.id in ("file.save", "edit.redo", "edit.snap"):
+                    self.toolbars[spec.toolbar].addSeparator()
+            self.actions_by_id[spec.id] = act
+            self.addAction(act)
+        self.actions_by_id["tool.select"].setChecked(True)
+        self.actions_by_id["edit.snap"].setChecked(True)
+        view = menus["View"]
+        view.addSeparator()
+        for dock in self.docks.values():
+            view.addAction(dock.toggleViewAction())
+        self._rebuild_recent_menu()
+
+    def _handler(self, spec: ActionSpec) -> Callable[[], None]:
+        table: dict[str, Callable[[], object]] = {
+            "file.new": self.new_scene,
+            "file.open": self.open_dialog,
+            "file.save": self.save,
+            "file.save_as": self.save_as,
+            "file.quit": self.close,
+            "edit.undo": self.document.undo_stack.undo,
+            "edit.redo": self.document.undo_stack.redo,
+            "edit.delete": self.editor.delete_selection,
+            "edit.select_all": self.editor.select_all,
+            "edit.snap": self._toggle_snap,
+            "view.zoom_in": self.canvas.zoom_in,
+            "view.zoom_out": self.canvas.zoom_out,
+            "view.fit": self.canvas.fit_scene,
+            "view.dark": lambda: self.apply_theme(
+                "dark" if self.actions_by_id["view.dark"].isChecked() else "light"
+            ),
+        }
+        fn = table[spec.id]
+        return lambda *_: (fn(), None)[1]
+
+    def _build_status_bar(self) -> None:
+        bar = self.statusBar()
+        self.message_label = QLabel("")
+        self.coords_label = QLabel("x —  y —")
+        self.zoom_label = QLabel("")
+        self.coords_label.setMinimumWidth(170)
+        bar.addWidget(self.message_label, 1)
+        bar.addPermanentWidget(self.zoom_label)
+        bar.addPermanentWidget(self.coords_label)
+
+    def _connect(self) -> None:
+        doc = self.document
+        doc.changed.connect(self._on_document_changed)
+        doc.path_changed.connect(self._update_title)
+        doc.undo_stack.cleanChanged.connect(lambda _c: self._update_title())
+        doc.undo_stack.indexChanged.connect(lambda _i: self._update_actions())
+        self.editor.selection_changed.connect(self._update_actions)
+        self.editor.status_message.connect(self.show_message)
+        self.editor.tool_changed.connect(
+            lambda name: self.actions_by_id[name].setChecked(True)
+        )
+        self.canvas.cursor_moved.connect(
+            lambda x, y: self.coords_label.setText(f"x {x:8.2f} m   y {y:8.2f} m")
+        )
+        self.canvas.cursor_left.connect(lambda: self.coords_label.setText("x —  y —"))
+        self.canvas.zoom_changed.connect(self._show_zoom)
+        self.checks.results.connect(self._on_check_results)
+        self.findings_panel.activated.connect(self.focus_finding)
+        self.goals_panel.highlight.connect(self._highlight_goal)
+
+    # -- document ----------------------------------------------------------------------
+    def _on_document_changed(self) -> None:
+        self.checks.schedule(self.document.scene)
+        self._update_title()
+        self._update_actions()
+
+    def _update_title(self) -> None:
+        mark = " •" if self.document.dirty else ""
+        self.setWindowTitle(f"{self.document.display_name}{mark} — arena_studio")
+        self.setWindowModified(self.document.dirty)
+        self._update_actions()
+
+    def _update_actions(self) -> None:
+        for spec in ACTIONS:
+            if spec.enabled:
+                self.actions_by_id[spec.id].setEnabled(self._conditions[spec.enabled]())
+        stack = self.document.undo_stack
+        self.actions_by_id["edit.undo"].setText(
+            f"&Undo {stack.undoText()}".rstrip() if stack.canUndo() else "&Undo"
+        )
+        self.actions_by_id["edit.redo"].setText(
+            f"&Redo {stack.redoText()}".rstrip() if stack.canRedo() else "&Redo"
+        )
+
+    def _on_check_results(self, scene: Scene, findings: object, plans: object, error: object):
+        if scene != self.document.scene:
+            return
+        self.findings = list(findings or [])  # type: ignore[call-overload]
+        self.canvas.layer.findings = self.findings
+        self.canvas.viewport().update()
+        self.findings_panel.set_findings(self.findings, error)  # type: ignore[arg-type]
+        self.goals_panel.set_results(self.findings, plans)  # type: ignore[arg-type]
+        n_err = sum(1 for f in self.findings if getattr(f, "severity", "") == "error")
+        title = "Findings" if not self.findings else f"Findings ({len(self.findings)})"
+        self.docks["findings"].setWindowTitle(title + (" — errors" if n_err else ""))
+
+    def run_checks_now(self) -> None:
+        self.checks.run_now(self.document.scene)
+
+    def focus_finding(self, finding: object) -> None:
+        oid = getattr(finding, "object_id", None)
+        if oid:
+            for key in edits.keys_of(self.document.scene):
+                if key[1] == oid:
+                    self.editor.set_selection([key])
+                    break
+        point = getattr(finding, "point", None)
+        if point is not None:
+            self.canvas.centre_on(point)
+        self.canvas.refresh()
+
+    def _highlight_goal(self, targets: tuple[int, ...]) -> None:
+        self.canvas.layer.highlight = targets
+        self.canvas.viewport().update()
+
+    def show_message(self, text: str) -> None:
+        self.message_label.setText(text)
+
+    def _show_zoom(self, ppm: float) -> None:
+        self.zoom_label.setText(f"{ppm:.0f} px/m   grid {self.canvas.grid_step():g} m")
+
+    def _toggle_snap(self) -> None:
+        on = self.actions_by_id["edit.snap"].isChecked()
+        from dataclasses import replace
+
+        self.editor.snap_settings = replace(self.editor.snap_settings, enabled=on)
+        self.settings.setValue("prefs/snap", on)
+        self.show_message("Snapping on (hold Ctrl to bypass)" if on else "Snapping off")
+
+    # -- files -------------------------------------------------------------------------
+    def maybe_keep_changes(self) -> bool:
+        """True when it is fine to replace the document (saved, discarded or unchanged)."""
+        if not self.document.dirty:
+            return True
+        answer = self.dialogs.ask_unsaved(self.document.display_name)
+        if answer == "save":
+            return self.save()
+        return answer == "discard"
+
+    def new_scene(self) -> None:
+        if not self.maybe_keep_changes():
+            return
+        self.recovery.discard()
+        self.document.reset(Scene(name="Untitled scene"), None)
+        self.editor.set_selection(())
+        self.canvas.fit_scene()
+
+    def open_dialog(self) -> None:
+        start = str(self.document.path.parent) if self.document.path else str(Path.cwd())
+        path = self.dialogs.open_path(start)
+        if path:
+            self.open_path(path)
+
+    def open_path(self, path: str | Path) -> bool:
+        """Open a scene in the layout editor or a ``.tape`` in the replay mode."""
+        p = Path(path)
+        if p.suffix.lower() == ".tape":
+            return self.open_tape(p)
+        if p.suffix.lower() not in SCENE_SUFFIXES:
+            self.dialogs.error("Cannot open file", f"{p.name}: not a scene or tape file.")
+            return False
+        try:
+            scene = load_scene(p)
+        except ArenaError as exc:
+            self.dialogs.error("Cannot open scene", f"{exc}\n\nThe current scene was left as it was.")
+            return False
+        if not self.maybe_keep_changes():
+            return False
+        self.recovery.discard()
+        self.document.reset(scene, p.resolve())
+        self.editor.set_selection(())
+        self.set_mode("layout")
+        self.canvas.fit_scene()
+        self.add_recent(p.resolve())
+        self.show_message(f"Opened {p.name}")
+        return True
+
+    def open_tape(self, path: Path) -> bool:
+        """Hand a tape to the replay mode (``arena_studio.app.replay.open_tape(window, path)``)."""
+        try:
+            from . import replay  # type: ignore[attr-defined]
+
+            opener = replay.open_tape
+        except (ImportError, AttributeError):
+            self.dialogs.info(
+                "Replay not available",
+                f"{path.name} is a tape. Replaying tapes is not part of this build yet; "
+                "the layout editor opens scene files (.scene.json, .scene.msgpack).",
+            )
+            return False
+        ok = bool(opener(self, path))
+        if ok:
+            self.add_recent(path.resolve())
+        return ok
+
+    def save(self) -> bool:
+        if self.document.path is None or self.document.path.suffix.lower() not in (
+            ".json",
+            ".msgpack",
+            ".mpk",
+        ):
+            return self.save_as()
+        return self.save_to(self.document.path)
+
+    def save_as(self) -> bool:
+        folder = self.document.path.parent if self.document.path else Path.cwd()
+        stem = self.document.path.name if self.document.path else "untitled.scene.json"
+        path = self.dialogs.save_path(str(folder / stem))
+        if not path:
+            return False
+        p = Path(path)
+        if not p.name.lower().endswith((".json", ".msgpack", ".mpk")):
+            p = p.with_name(p.name + ".scene.json")
+        return self.save_to(p)
+
+    def save_to(self, path: Path) -> bool:
+        try:
+            save_scene(self.document.scene, path)
+        except (OSError, ArenaError) as exc:
+            self.dialogs.error("Could not save", f"{path}: {exc}\n\nNothing was overwritten.")
+            return False
+        self.document.mark_saved(path.resolve())
+        self.recovery.discard()
+        self._autosaved_scene = None
+        self.add_recent(path.resolve())
+        self.show_message(f"Saved {path.name}")
+        return True
+
+    # -- recent files ------------------------------------------------------------------
+    def recent_files(self) -> list[str]:
+        value = self.settings.value("recent/files", [])
+        if isinstance(value, str):
+            value = [value]
+        return [str(v) for v in (value or [])]
+
+    def add_recent(self, path: Path) -> None:
+        files = [str(path), *[f for f in self.recent_files() if f != str(path)]][:MAX_RECENT]
+        self.settings.setValue("recent/files", files)
+        self._rebuild_recent_menu()
+
+    def _rebuild_recent_menu(self) -> None:
+        self.recent_menu.clear()
+        files = self.recent_files()
+        for f in files:
+            act = self.recent_menu.addAction(Path(f).name)
+            act.setToolTip(f)
+            act.setStatusTip(f)
+            act.triggered.connect(lambda _c=False, f=f: self.open_path(f))
+        if not files:
+            empty = self.recent_menu.addAction("No recent files")
+            empty.setEnabled(False)
+        else:
+            self.recent_menu.addSeparator()
+            clear = self.recent_menu.addAction("Clear List")
+            clear.triggered.connect(self._clear_recent)
+
+    def _clear_recent(self) -> None:
+        self.settings.setValue("recent/files", [])
+        self._rebuild_recent_menu()
+
+    # -- modes -------------------------------------------------------------------------
+    def add_mode(self, name: str, widget: QWidget) -> None:
+        """Add a page (e.g. replay) to the central area; switch with :meth:`set_mode`."""
+        self._mode_pages[name] = widget
+        self.modes.addWidget(widget)
+
+    def set_mode(self, name: str) -> None:
+        self.modes.setCurrentWidget(self._mode_pages[name])
+        editing = name == "layout"
+        self.toolbars["tools"].setVisible(editing)
+        for key in ("properties", "goals"):
+            self.docks[key].setVisible(editing)
+
+    # -- never lose work ---------------------------------------------------------------
+    def autosave_now(self) -> bool:
+        """Write a recovery copy when there are unsaved changes not yet copied."""
+        scene = self.document.scene
+        if not self.document.dirty or scene == self._autosaved_scene:
+            return False
+        try:
+            self.recovery.save(scene, self.document.path)
+        except (OSError, ArenaError) as exc:
+            self.show_message(f"Recovery copy could not be written: {exc}")
+            return False
+        self._autosaved_scene = scene
+        return True
+
+    def offer_recovery(self) -> bool:
+        """After a crash: offer the newest recovery copy; True when one was restored."""
+        copies = self.recovery.orphans()
+        if not copies:
+            return False
+        newest, older = copies[0], copies[1:]
+        restored = False
+        if self.dialogs.ask_restore(newest):
+            try:
+                scene = self.recovery.load(newest)
+            except ArenaError as exc:
+                self.dialogs.error("Recovery copy unreadable", str(exc))
+            else:
+                self.document.reset(scene, newest.original, dirty=True)
+                self.canvas.fit_scene()
+                restored = True
+                self.autosave_now()
+        for copy in (newest, *older):
+            self.recovery.remove(copy)
+        return restored
+
+    # -- theme and settings ------------------------------------------------------------
+    def apply_theme(self, name: str) -> None:
+        self.theme = load_theme(name)
+        app = QApplication.instance()
+        if isinstance(app, QApplication):
+            apply_theme(app, self.theme)
+        self.canvas.set_theme(self.theme)
+        self.findings_panel.set_theme(self.theme)
+        self.actions_by_id["view.dark"].setChecked(name == "dark")
+        for spec in ACTIONS:
+            if spec.icon:
+                self.actions_by_id[spec.id].setIcon(
+                    themed_icon(spec.icon, self.theme.hex("text")[:7],
+                                self.theme.hex("text_muted")[:7])
+                )
+        self.settings.setValue("prefs/theme", name)
+
+    def _restore_settings(self) -> None:
+        geometry = self.settings.value("window/geometry")
+        if isinstance(geometry, QByteArray | bytes):
+            self.restoreGeometry(QByteArray(geometry))
+        state = self.settings.value("window/state")
+        if isinstance(state, QByteArray | bytes):
+            self.restoreState(QByteArray(state))
+        snap = self.settings.value("prefs/snap", True)
+        on = snap not in (False, "false", "0", 0)
+        self.actions_by_id["edit.snap"].setChecked(on)
+        from dataclasses import replace
+
+        self.editor.snap_settings = replace(self.editor.snap_settings, enabled=on)
+
+    def save_settings(self) -> None:
+        self.settings.setValue("window/geometry", self.saveGeometry())
+        self.settings.setValue("window/state", self.saveState())
+        self.settings.sync()
+
+    # -- Qt events ---------------------------------------------------------------------
+    def closeEvent(self, event: QCloseEvent) -> None:  # noqa: N802
+        if not self.maybe_keep_changes():
+            event.ignore()
+            return
+        self.save_settings()
+        self.recovery.discard()
+        self._autosave.stop()
+        self.checks.shutdown()
+        event.accept()
+
+    def dragEnterEvent(self, event: QDragEnterEvent) -> None:  # noqa: N802
+        urls = event.mimeData().urls()
+        if urls and urls[0].isLocalFile():
+            event.acceptProposedAction()
+
+    def dropEvent(self, event: QDropEvent) -> None:  # noqa: N802
+        urls = event.mimeData().urls()
+        if urls and urls[0].isLocalFile():
+            event.acceptProposedAction()
+            self.open_path(urls[0].toLocalFile())
+
+    def open_demo(self) -> bool:
+        return self.open_path(demo_path(DEFAULT_DEMO_SCENE))

@@ -1,0 +1,248 @@
+"""Painting a scene on the canvas: floor, walls, obstacles, landmarks, starts and overlays.
+
+Everything is drawn in world units (metres, y up) with cosmetic pens, so line widths stay in
+pixels at any zoom. Sizes of glyphs are given in pixels and converted with the painter's
+current scale. Every colour comes from the active theme.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+
+from PySide6.QtCore import QPointF, QRectF, Qt
+from PySide6.QtGui import QBrush, QColor, QFont, QPainter, QPainterPath, QPen, QPolygonF
+from PySide6.QtWidgets import QGraphicsItem, QStyleOptionGraphicsItem, QWidget
+from shapely.geometry import MultiPolygon, Polygon
+
+from ..core.geometry import obstacle_area, walkable_area
+from ..core.scene import Scene
+from ..render.theme import Theme
+from .edits import ObjKey, outline_of
+from .tools import Preview
+
+Point = tuple[float, float]
+WORLD = QRectF(-5000.0, -5000.0, 10000.0, 10000.0)
+SEVERITY_ROLE = {"error": "error", "warning": "warning", "info": "info"}
+
+
+def pen(color: QColor, width: float = 1.0, style: Qt.PenStyle = Qt.PenStyle.SolidLine) -> QPen:
+    p = QPen(color, width, style)
+    p.setCosmetic(True)
+    p.setJoinStyle(Qt.PenJoinStyle.RoundJoin)
+    p.setCapStyle(Qt.PenCapStyle.RoundCap)
+    return p
+
+
+def metres_per_pixel(painter: QPainter) -> float:
+    t = painter.worldTransform()
+    scale = math.hypot(t.m11(), t.m12())
+    return 1.0 / scale if scale > 0 else 1.0
+
+
+def qpoly(points: Sequence[Point]) -> QPolygonF:
+    return QPolygonF([QPointF(float(x), float(y)) for x, y in points])
+
+
+def geometry_path(geom: object) -> QPainterPath:
+    """Shapely (multi)polygon to a path with holes (odd-even fill)."""
+    path = QPainterPath()
+    path.setFillRule(Qt.FillRule.OddEvenFill)
+    polys = getattr(geom, "geoms", [geom])
+    for g in polys:
+        if isinstance(g, MultiPolygon):
+            path.addPath(geometry_path(g))
+        elif isinstance(g, Polygon) and not g.is_empty:
+            for ring in (g.exterior, *g.interiors):
+                path.addPolygon(qpoly(list(ring.coords)))
+                path.closeSubpath()
+    return path
+
+
+def draw_label(painter: QPainter, at: Point, text: str, color: QColor, dx: float = 9, dy: float = -7):
+    """Upright text offset ``(dx, dy)`` pixels from a world point."""
+    mpp = metres_per_pixel(painter)
+    painter.save()
+    painter.translate(at[0], at[1])
+    painter.scale(mpp, -mpp)
+    painter.setPen(color)
+    painter.drawText(QPointF(dx, dy), text)
+    painter.restore()
+
+
+def paint_floor(painter: QPainter, scene: Scene, theme: Theme) -> None:
+    """Room fills (the joined walkable area), drawn under the grid."""
+    painter.setPen(Qt.PenStyle.NoPen)
+    painter.setBrush(theme.qcolor("room_fill"))
+    painter.drawPath(geometry_path(walkable_area(scene)))
+
+
+def paint_scene_objects(painter: QPainter, scene: Scene, theme: Theme) -> None:
+    """Walls, obstacles, start regions and poses, landmarks with labels."""
+    mpp = metres_per_pixel(painter)
+    painter.setBrush(Qt.BrushStyle.NoBrush)
+    painter.setPen(pen(theme.qcolor("wall"), 2.0))
+    painter.drawPath(geometry_path(walkable_area(scene)))
+    painter.setBrush(theme.qcolor("obstacle_fill"))
+    painter.setPen(pen(theme.qcolor("obstacle_edge"), 1.5))
+    painter.drawPath(geometry_path(obstacle_area(scene)))
+    for i, agent in enumerate(scene.agents):
+        color = theme.agent_color(i)
+        start = agent.start
+        if start.region is not None:
+            fill = QColor(color)
+            fill.setAlphaF(0.16)
+            painter.setBrush(fill)
+            painter.setPen(pen(color, 1.5, Qt.PenStyle.DashLine))
+            painter.drawPolygon(qpoly(start.region))
+            cx = sum(p[0] for p in start.region) / len(start.region)
+            cy = sum(p[1] for p in start.region) / len(start.region)
+            draw_label(painter, (cx, cy), agent.id, color, dx=-4 * len(agent.id), dy=4)
+        elif start.pose is not None:
+            x, y, h = start.pose
+            r = max(agent.radius, 5 * mpp)
+            fill = QColor(color)
+            fill.setAlphaF(0.28)
+            painter.setBrush(fill)
+            painter.setPen(pen(color, 2.0))
+            painter.drawEllipse(QPointF(x, y), r, r)
+            tip = QPointF(x + math.cos(h) * r * 1.9, y + math.sin(h) * r * 1.9)
+            painter.drawLine(QPointF(x, y), tip)
+            draw_label(painter, (x, y), agent.id, color, dx=r / mpp + 4, dy=14)
+    font = QFont(painter.font())
+    font.setPointSizeF(max(7.5, font.pointSizeF() * 0.9))
+    painter.setFont(font)
+    for lm in scene.landmarks:
+        role = "landmark_wall" if lm.mount == "wall" else "landmark_free"
+        color = theme.qcolor(role)
+        x, y = lm.position
+        ring = QColor(color)
+        ring.setAlphaF(0.55)
+        painter.setBrush(Qt.BrushStyle.NoBrush)
+        painter.setPen(pen(ring, 1.0, Qt.PenStyle.DotLine))
+        painter.drawEllipse(QPointF(x, y), lm.reach_radius, lm.reach_radius)
+        s = 6 * mpp
+        painter.setBrush(color)
+        painter.setPen(pen(theme.qcolor("room_fill"), 1.5))
+        if lm.mount == "wall":
+            painter.drawPolygon(qpoly([(x, y + s), (x + s, y), (x, y - s), (x - s, y)]))
+        else:
+            painter.drawEllipse(QPointF(x, y), s * 0.8, s * 0.8)
+        draw_label(painter, (x, y), lm.label, theme.qcolor("landmark_text"))
+
+
+class SceneLayer(QGraphicsItem):
+    """One item that paints the scene plus the editor's overlays (selection, handles, ...)."""
+
+    def __init__(self, theme: Theme) -> None:
+        super().__init__()
+        self.theme = theme
+        self.scene_value = Scene()
+        self.selection: tuple[ObjKey, ...] = ()
+        self.handles_for: ObjKey | None = None
+        self.active_vertex: int | None = None
+        self.findings: list[object] = []
+        self.preview: Preview | None = None
+        self.highlight: tuple[int, ...] = ()  # landmark indices of a goal being shown
+        self.setZValue(10)
+
+    def boundingRect(self) -> QRectF:  # noqa: N802 - Qt API
+        return WORLD
+
+    def paint(
+        self, painter: QPainter, option: QStyleOptionGraphicsItem, widget: QWidget | None = None
+    ) -> None:
+        painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+        scene, theme = self.scene_value, self.theme
+        paint_scene_objects(painter, scene, theme)
+        self._paint_highlight(painter)
+        self._paint_selection(painter)
+        self._paint_findings(painter)
+        self._paint_preview(painter)
+
+    def _paint_highlight(self, painter: QPainter) -> None:
+        mpp = metres_per_pixel(painter)
+        painter.setBrush(Qt.BrushStyle.NoBrush)
+        painter.setPen(pen(self.theme.qcolor("target_highlight"), 3.0))
+        for i in self.highlight:
+            if i < len(self.scene_value.landmarks):
+                x, y = self.scene_value.landmarks[i].position
+                painter.drawEllipse(QPointF(x, y), 11 * mpp, 11 * mpp)
+
+    def _paint_selection(self, painter: QPainter) -> None:
+        mpp = metres_per_pixel(painter)
+        sel = self.theme.qcolor("selection")
+        painter.setBrush(Qt.BrushStyle.NoBrush)
+        painter.setPen(pen(sel, 2.5))
+        from .edits import find
+
+        for key in self.selection:
+            obj = find(self.scene_value, key)
+            if obj is None:
+                continue
+            pts = outline_of(obj)
+            if pts:
+                painter.drawPolygon(qpoly(pts))
+            elif key[0] == "obstacles":
+                c = obj.circle
+                painter.drawEllipse(QPointF(*c.center), c.radius, c.radius)
+            elif key[0] == "landmarks":
+                painter.drawEllipse(QPointF(*obj.position), 9 * mpp, 9 * mpp)
+            elif key[0] == "agents" and obj.start.pose is not None:
+                x, y, _ = obj.start.pose
+                r = max(obj.radius, 5 * mpp) + 3 * mpp
+                painter.drawEllipse(QPointF(x, y), r, r)
+        if self.handles_for is not None:
+            obj = find(self.scene_value, self.handles_for)
+            pts = outline_of(obj) if obj is not None else None
+            s = 4.5 * mpp
+            for i, (x, y) in enumerate(pts or ()):
+                active = i == self.active_vertex
+                painter.setBrush(sel if active else self.theme.qcolor("handle"))
+                painter.setPen(pen(sel, 1.5))
+                painter.drawRect(QRectF(x - s, y - s, 2 * s, 2 * s))
+
+    def _paint_findings(self, painter: QPainter) -> None:
+        mpp = metres_per_pixel(painter)
+        for f in self.findings:
+            point = getattr(f, "point", None)
+            if point is None:
+                continue
+            color = self.theme.qcolor(SEVERITY_ROLE.get(getattr(f, "severity", "info"), "info"))
+            painter.setBrush(Qt.BrushStyle.NoBrush)
+            painter.setPen(pen(color, 2.0))
+            x, y = point
+            r = 8 * mpp
+            painter.drawEllipse(QPointF(x, y), r, r)
+            painter.drawLine(QPointF(x, y + r * 0.5), QPointF(x, y - r * 0.1))
+            painter.drawPoint(QPointF(x, y - r * 0.45))
+
+    def _paint_preview(self, painter: QPainter) -> None:
+        p = self.preview
+        if p is None:
+            return
+        mpp = metres_per_pixel(painter)
+        color = self.theme.qcolor("selection")
+        painter.setPen(pen(color, 1.5, Qt.PenStyle.DashLine))
+        fill = QColor(color)
+        fill.setAlphaF(0.10)
+        painter.setBrush(QBrush(fill))
+        if p.rect is not None:
+            (x0, y0), (x1, y1) = p.rect
+            painter.drawRect(QRectF(QPointF(x0, y0), QPointF(x1, y1)).normalized())
+        if p.circle is not None:
+            (cx, cy), r = p.circle
+            painter.drawEllipse(QPointF(cx, cy), r, r)
+        if len(p.polyline) >= 2:
+            painter.setBrush(Qt.BrushStyle.NoBrush)
+            painter.drawPolyline(qpoly(p.polyline))
+        if p.arrow is not None:
+            (ax, ay), (bx, by) = p.arrow
+            painter.drawLine(QPointF(ax, ay), QPointF(bx, by))
+        painter.setPen(pen(color, 1.5))
+        painter.setBrush(self.theme.qcolor("handle"))
+        for x, y in p.polyline[:-1] if p.marker else p.polyline:
+            painter.drawEllipse(QPointF(x, y), 3.5 * mpp, 3.5 * mpp)
+        if p.marker is not None:
+            painter.setBrush(color)
+            painter.drawEllipse(QPointF(*p.marker), 4 * mpp, 4 * mpp)
