@@ -89,7 +89,8 @@ def number(
 
 def integer(value: object, path: str, *, minimum: int | None = None) -> int:
     if isinstance(value, bool) or not isinstance(value, int):
-        raise SceneFormatError(path, f"expected a whole number, got {type_name(value)}")
+        got = f"{value:g}" if isinstance(value, float) else type_name(value)
+        raise SceneFormatError(path, f"expected a whole number, got {got}")
     if minimum is not None and value < minimum:
         raise SceneFormatError(path, f"expected a whole number >= {minimum}, got {value}")
     return value
@@ -140,9 +141,9 @@ def pose(value: object, path: str) -> tuple[float, float, float]:
 
 def outline(value: object, path: str) -> tuple[tuple[float, float], ...]:
     """A polygon ring of at least 3 distinct points; a repeated closing point is dropped."""
-    items = sequence(value, path, max_items=MAX_VERTICES + 1)
-    if len(items) > MAX_VERTICES:
-        raise SceneFormatError(path, f"too many vertices ({len(items)} > {MAX_VERTICES})")
+    if isinstance(value, list | tuple) and len(value) > MAX_VERTICES:
+        raise SceneFormatError(path, f"too many vertices ({len(value)} > {MAX_VERTICES})")
+    items = sequence(value, path, max_items=MAX_VERTICES)
     pts = [point(p, join(path, i)) for i, p in enumerate(items)]
     if len(pts) >= 2 and pts[0] == pts[-1]:
         pts.pop()

@@ -37,7 +37,7 @@ def parse_scene(data: Mapping[str, Any]) -> Scene:
     fmt = doc.get("format")
     if fmt != FORMAT_NAME:
         raise SceneFormatError("format", f"expected {FORMAT_NAME!r}, got {fmt!r}: not a scene")
-    version = f.integer(doc.get("version"), "version", minimum=1)
+    version = _whole(doc.get("version"), "version", minimum=1)
     if version > FORMAT_VERSION:
         raise SceneFormatError(
             "version",
@@ -146,7 +146,7 @@ def _goals(value: object, path: str) -> GoalSpec:
     obj = f.mapping(value, path)
     f.check_keys(obj, path, ("rule",), ("hold_time", "families", "vectors", "weights"))
     families = tuple(
-        f.integer(k, f"{path}.families[{i}]", minimum=1)
+        _whole(k, f"{path}.families[{i}]", minimum=1)
         for i, k in enumerate(f.sequence(obj.get("families", []), f.join(path, "families")))
     )
     if len(set(families)) != len(families):
@@ -178,10 +178,17 @@ def _vector(value: object, path: str) -> tuple[int, ...]:
     items = f.sequence(value, path, max_items=10_000)
     out = []
     for i, bit in enumerate(items):
-        if isinstance(bit, bool) or bit not in (0, 1) or not isinstance(bit, int):
+        if isinstance(bit, bool) or not isinstance(bit, int | float) or bit not in (0, 1):
             raise SceneFormatError(f"{path}[{i}]", f"expected 0 or 1, got {bit!r}")
         out.append(int(bit))
     return tuple(out)
+
+
+def _whole(value: object, path: str, *, minimum: int) -> int:
+    """A whole number; ``1.0`` counts as 1, as in JSON Schema (draft 2020-12, "integer")."""
+    if isinstance(value, float) and value.is_integer():
+        value = int(value)
+    return f.integer(value, path, minimum=minimum)
 
 
 def _weights(value: object, path: str, expected: int) -> tuple[float, ...]:
