@@ -1,0 +1,150 @@
+"""Why a failed episode failed: the first matching pattern, and the step where it shows.
+
+Checked in this order (the first that matches wins, so a root cause beats its symptoms):
+
+``misaligned``       agents pursued different goals (or not the team goal). Shows at the first
+                     step an agent covers a landmark outside the judged goal, else step 0.
+``duplicate-target`` at the end two or more agents cover one target while another target is
+                     empty. Shows where that situation began (and lasted to the end).
+``not-together``     (rules ``all_at_end`` / ``all_at_once``) every target was covered at
+                     some step, never all at once for the hold time. Shows at the step the
+                     last target was first reached.
+``time-ran-out``     some agent was still moving at the last step, closer to an empty target
+                     than a second earlier. Shows at the last step.
+``stuck``            an agent stood still for the last :data:`STUCK_SECONDS` away from every
+                     target while a target was empty. Shows where it stopped.
+``uncovered``        none of the above: targets left empty at the end. Shows at the last step.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import TYPE_CHECKING
+
+import numpy as np
+
+from .episode import Episode
+from .scene import Scene
+
+if TYPE_CHECKING:
+    from .metrics import EpisodeMetrics
+
+STUCK_SECONDS = 2.0
+CODES = ("misaligned", "duplicate-target", "not-together", "time-ran-out", "stuck", "uncovered")
+
+
+@dataclass(frozen=True)
+class Diagnosis:
+    code: str
+    text: str
+    step: int
+
+
+def _final_run_start(mask: np.ndarray) -> int:
+    """Start of the run of True values that lasts to the end (mask[-1] must be True)."""
+    falses = np.flatnonzero(~mask)
+    return int(falses[-1] + 1) if falses.size else 0
+
+
+def _goal_words(scene: Scene, goal: np.ndarray | None) -> str:
+    if goal is None:
+        return "nothing recorded"
+    ids = [scene.landmarks[i].id for i in np.flatnonzero(goal)]
+    return "+".join(ids) if ids else "no target"
+
+
+def diagnose(
+    scene: Scene,
+    episode: Episode,
+    metrics: EpisodeMetrics,
+    cover: np.ndarray,
+    still: np.ndarray,
+) -> Diagnosis | None:
+    """Diagnosis of a failed episode with a judged goal, or None (success or no goal).
+
+    ``cover`` is (T, A, L) from ``observe.coverage``; ``still`` (T, A) from
+    ``metrics.still_mask``.
+    """
+    if metrics.success or metrics.goal is None:
+        return None
+    ids = [a.id for a in scene.agents]
+    lm_ids = [lm.id for lm in scene.landmarks]
+    targets = list(metrics.goal)
+    steps = episode.steps
+    last = steps - 1
+
+    if metrics.aligned is False:
+        outside = np.ones(len(scene.landmarks), dtype=bool)
+        outside[targets] = False
+        off = np.flatnonzero(cover[:, :, outside].any(axis=(1, 2)))
+        wanted = ", ".join(
+            f"{ids[a]} {_goal_words(scene, g)}" for a, g in enumerate(episode.pursued_goals)
+        )
+        team = episode.team_goal
+        lead = f"team goal {_goal_words(scene, team)}; " if team is not None else ""
+        return Diagnosis(
+            "misaligned",
+            f"agents pursued different goals ({lead}{wanted})",
+            int(off[0]) if off.size else 0,
+        )
+
+    tc = cover[:, :, targets]  # (T, A, K)
+    count = tc.sum(axis=1)  # (T, K)
+    if len(targets) >= 2:
+        dup = (count >= 2).any(axis=1) & (count == 0).any(axis=1)
+        if dup[-1]:
+            k_dup = int(np.argmax(count[-1]))
+            k_empty = int(np.flatnonzero(count[-1] == 0)[0])
+            who = " and ".join(ids[a] for a in np.flatnonzero(tc[-1, :, k_dup]))
+            return Diagnosis(
+                "duplicate-target",
+                f"{who} went to {lm_ids[targets[k_dup]]} while "
+                f"{lm_ids[targets[k_empty]]} stayed empty",
+                _final_run_start(dup),
+            )
+        ever = count > 0  # (T, K)
+        if scene.goals.rule != "all_visited" and ever.any(axis=0).all():
+            first = ever.argmax(axis=0)
+            return Diagnosis(
+                "not-together",
+                "every target was reached, but never all at the same time"
+                + (f" for {scene.goals.hold_time:g} s" if scene.goals.hold_time > 0 else ""),
+                int(first.max()),
+            )
+
+    empty = [targets[k] for k in np.flatnonzero(count[-1] == 0)]
+    if not empty:
+        empty = list(targets)
+    lm_pos = np.array([scene.landmarks[i].position for i in empty], dtype=np.float64)
+    xy = episode.poses[:, :, :2]
+    back = max(0, last - round(1.0 / episode.dt))
+    d_now = np.linalg.norm(xy[last][:, None, :] - lm_pos[None], axis=-1).min(axis=1)
+    d_then = np.linalg.norm(xy[back][:, None, :] - lm_pos[None], axis=-1).min(axis=1)
+    approaching = ~still[-1] & (d_now < d_then - 1e-6)
+    if approaching.any():
+        names = ", ".join(ids[a] for a in np.flatnonzero(approaching))
+        return Diagnosis(
+            "time-ran-out",
+            f"time ran out while {names} still moved towards " + "+".join(lm_ids[i] for i in empty),
+            last,
+        )
+
+    need = round(STUCK_SECONDS / episode.dt)
+    for a in range(episode.agent_count):
+        if still[-1, a] and not cover[-1, a, targets].any():
+            start = _final_run_start(still[:, a])
+            if last - start >= need:
+                x, y = episode.poses[start, a, :2]
+                return Diagnosis(
+                    "stuck",
+                    f"{ids[a]} stopped at ({x:.2f}, {y:.2f}) away from every target while "
+                    + "+".join(lm_ids[i] for i in empty)
+                    + " stayed empty",
+                    start,
+                )
+    return Diagnosis(
+        "uncovered", "targets left empty at the end: " + "+".join(lm_ids[i] for i in empty), last
+    )
+
+
+__all__ = ["CODES", "Diagnosis", "diagnose"]

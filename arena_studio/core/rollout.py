@@ -1,0 +1,333 @@
+"""Preview rollout: scripted (not learned) agents that record realistic tapes of a scene.
+
+Each episode draws a team goal from the scene's goal set (seeded). ``shared`` mode gives that
+goal to every agent and splits its targets by the par-time assignment
+(:func:`arena_studio.core.partime.plan_goal`); ``independent`` mode lets every agent draw its
+own goal and act on its own plan of it, so cooperative goals often fail. Every agent drives
+the shortest collision-free route (:class:`arena_studio.core.paths.PathPlanner`) to each of
+its targets with :class:`~arena_studio.core.controller.PathFollower` on unicycle kinematics
+(:mod:`arena_studio.core.kinematics`); a step that would carry an agent out of its free space
+becomes a turn in place. Agents do not avoid each other (the metrics count their collisions).
+
+An episode ends when every agent has settled (arrived, idle or stuck) for the hold time plus
+one second, or at ``max_time``. Episode ``i`` uses ``numpy.random.default_rng([seed, i])``,
+so runs are reproducible bit for bit and any episode can be regenerated alone.
+"""
+
+from __future__ import annotations
+
+import itertools
+import math
+from collections.abc import Callable
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any, Literal
+
+import numpy as np
+import shapely
+import shapely.ops
+from shapely.geometry import LineString, Point, Polygon
+
+from .controller import FollowerLimits, PathFollower
+from .geometry import free_space
+from .goals import enumerate_goals
+from .kinematics import unicycle_step
+from .paths import PathPlanner
+from .scene import Scene
+from .tape import TapeWriter
+
+Mode = Literal["shared", "independent"]
+MODES: tuple[str, ...] = ("shared", "independent")
+#: an agent that moved less than this (m) over STUCK_WINDOW seconds while en route is stuck
+STUCK_DISTANCE = 0.05
+STUCK_WINDOW = 3.0
+#: how deep (fraction of the reach radius) an agent drives into a target's reach disc
+REACH_DEPTH = 0.5
+
+
+@dataclass
+class EpisodeRun:
+    """One simulated episode, ready for :meth:`TapeWriter.begin_episode` and ``steps``."""
+
+    poses: np.ndarray  # (T, A, 3)
+    done: np.ndarray  # (T, A) bool
+    team_goal: np.ndarray
+    pursued_goals: list[np.ndarray]
+    roles: list[list[tuple[int, str]]]
+    messages: list[dict[str, Any]]
+    outcome: dict[str, Any] = field(default_factory=dict)
+
+
+class Rollout:
+    """Runs episodes of one scene; planner, goal table and plans are cached across episodes."""
+
+    def __init__(self, scene: Scene, dt: float = 0.1, max_time: float = 60.0) -> None:
+        if not scene.agents:
+            raise ValueError("the scene has no agents")
+        self.scene = scene
+        self.dt = float(dt)
+        self.max_time = float(max_time)
+        self.table = enumerate_goals(scene)
+        if len(self.table) == 0:
+            raise ValueError("the scene has no goals to draw")
+        self.planner = PathPlanner(scene)
+        self._assignments: dict[int, dict[int, list[int]]] = {}
+        self._free = []
+        self._guards = []
+        self._guard_free = []
+        for agent in scene.agents:
+            geom = free_space(scene, agent.radius)
+            guard = free_space(scene, max(agent.radius - 0.002, 0.0))
+            shapely.prepare(guard)
+            self._free.append(geom)
+            self._guards.append(guard)
+            self._guard_free.append(guard.buffer(1e-6))
+
+    # -- planning ----------------------------------------------------------------------------
+    def assignment(self, goal_index: int) -> dict[int, list[int]]:
+        """Agent index -> landmark indices, from the par-time plan of goal ``goal_index``."""
+        if goal_index not in self._assignments:
+            self._assignments[goal_index] = self._plan_assignment(goal_index)
+        return self._assignments[goal_index]
+
+    def _plan_assignment(self, goal_index: int) -> dict[int, list[int]]:
+        scene = self.scene
+        vector = self.table.vectors[goal_index]
+        try:
+            from .partime import plan_goal
+        except ImportError:
+            plan_goal = None
+        if plan_goal is not None:
+            plan = plan_goal(scene, vector, planner=self.planner)
+            if not plan.feasible:
+                return {}
+            return {
+                scene.agent_index(aid): [scene.landmark_index(lid) for lid in lids]
+                for aid, lids in plan.assignment.items()
+            }
+        return self._fallback_assignment(goal_index)
+
+    def _fallback_assignment(self, goal_index: int) -> dict[int, list[int]]:
+        """Min-max time assignment by brute force (used only without core.partime)."""
+        targets = self.table.targets(goal_index)
+        agents = range(len(self.scene.agents))
+        best: tuple[float, dict[int, list[int]]] | None = None
+        for perm in itertools.permutations(agents, min(len(targets), len(agents))):
+            worst = 0.0
+            for a, lm in zip(perm, targets, strict=False):
+                route = self.planner.path_to_landmark(a, lm)
+                if route is None:
+                    worst = math.inf
+                    break
+                worst = max(worst, route.length / self.scene.agents[a].max_speed)
+            if best is None or worst < best[0]:
+                best = (worst, {a: [lm] for a, lm in zip(perm, targets, strict=False)})
+        return {} if best is None or not math.isfinite(best[0]) else best[1]
+
+    def _route(self, agent: int, landmarks: list[int], start: np.ndarray) -> np.ndarray | None:
+        """Route through the agent's landmarks in order, ending inside the last reach disc."""
+        pts = [start[None, :]]
+        here = (float(start[0]), float(start[1]))
+        for lm in landmarks:
+            route = self.planner.path_to_landmark(agent, lm, start_xy=here)
+            if route is None:
+                return None
+            deeper = self._deeper(agent, lm, route.points[-1])
+            pts.append(route.points[1:])
+            pts.append(deeper[None, :])
+            here = (float(deeper[0]), float(deeper[1]))
+        return np.vstack(pts)
+
+    def _deeper(self, agent: int, lm: int, end: np.ndarray) -> np.ndarray:
+        """A point deeper in the landmark's reach disc, on a straight leg in free space.
+
+        Planner routes end on the rim of the reach disc, where rounding can put the centre a
+        hair outside it. The agent drives on towards the landmark until REACH_DEPTH of the
+        radius, or to the free point nearest the landmark (a wall landmark's centre is out of
+        free space), whichever is reachable in a straight line.
+        """
+        landmark = self.scene.landmarks[lm]
+        centre = np.asarray(landmark.position, dtype=np.float64)
+        target = self.planner.target(self.scene.agents[agent].radius, lm)
+        if target.is_empty:
+            return np.asarray(end, dtype=np.float64)
+        nearest = shapely.ops.nearest_points(target, Point(centre))[0]
+        deepest = np.array([nearest.x, nearest.y])
+        span = deepest - end
+        length = float(np.hypot(*span))
+        if length < 1e-9:
+            return np.asarray(end, dtype=np.float64)
+        # stop where the leg first comes within REACH_DEPTH * radius of the landmark, if it does
+        want = REACH_DEPTH * landmark.reach_radius
+        u = span / length
+        rel = end - centre
+        b, c = float(rel @ u), float(rel @ rel) - want * want
+        disc = b * b - c
+        stop = length
+        if disc >= 0:
+            s_in = -b - math.sqrt(disc)
+            if 0 <= s_in < length:
+                stop = s_in
+        goal = end + u * stop
+        if self._guard_free[agent].covers(LineString([end, goal])):
+            return goal
+        return np.asarray(end, dtype=np.float64)
+
+    # -- starts ------------------------------------------------------------------------------
+    def start_poses(self, rng: np.random.Generator) -> np.ndarray:
+        out = np.zeros((len(self.scene.agents), 3))
+        for a, agent in enumerate(self.scene.agents):
+            start = agent.start
+            if start.pose is not None:
+                out[a] = start.pose
+                continue
+            assert start.region is not None
+            region = Polygon(start.region).intersection(self._free[a])
+            if region.is_empty:
+                region = Polygon(start.region)
+            minx, miny, maxx, maxy = region.bounds
+            for _ in range(1000):
+                x, y = rng.uniform(minx, maxx), rng.uniform(miny, maxy)
+                if region.covers(Point(x, y)):
+                    break
+            heading = start.heading if start.heading is not None else rng.uniform(-math.pi, math.pi)
+            out[a] = (x, y, heading)
+        return out
+
+    # -- one episode ---------------------------------------------------------------------------
+    def episode(self, seed: int, index: int, mode: Mode) -> EpisodeRun:
+        if mode not in MODES:
+            raise ValueError(f"unknown goal mode {mode!r} (expected shared or independent)")
+        rng = np.random.default_rng([seed, index])
+        scene = self.scene
+        n_agents = len(scene.agents)
+        team = int(self.table.sample(rng, 1)[0])
+        start = self.start_poses(rng)
+        if mode == "shared":
+            pursued = [team] * n_agents
+        else:
+            pursued = [int(g) for g in self.table.sample(rng, n_agents)]
+        plans: list[list[int]] = [self.assignment(g).get(a, []) for a, g in enumerate(pursued)]
+        followers: list[PathFollower | None] = []
+        roles: list[list[tuple[int, str]]] = []
+        for a, agent in enumerate(scene.agents):
+            route = self._route(a, plans[a], start[a, :2]) if plans[a] else None
+            if route is None:
+                followers.append(None)
+                roles.append([(0, "waits")])
+                continue
+            limits = FollowerLimits(agent.max_speed, agent.max_turn_rate)
+            followers.append(PathFollower(route, limits))
+            roles.append([(0, f"heads to {scene.landmarks[plans[a][-1]].id}")])
+        return self._simulate(start, followers, roles, team, pursued, plans)
+
+    def _simulate(
+        self,
+        start: np.ndarray,
+        followers: list[PathFollower | None],
+        roles: list[list[tuple[int, str]]],
+        team: int,
+        pursued: list[int],
+        plans: list[list[int]],
+    ) -> EpisodeRun:
+        scene, dt = self.scene, self.dt
+        n_agents = len(scene.agents)
+        max_steps = max(1, round(self.max_time / dt))
+        settle_steps = math.ceil((scene.goals.hold_time + 1.0) / dt)
+        window = round(STUCK_WINDOW / dt)
+        poses = np.empty((max_steps + 1, n_agents, 3))
+        done = np.zeros((max_steps + 1, n_agents), dtype=bool)
+        poses[0] = start
+        stuck = [False] * n_agents
+        settled_for = 0
+        t = 0
+        v = np.zeros(n_agents)
+        w = np.zeros(n_agents)
+        while t < max_steps:
+            current = poses[t]
+            for a, f in enumerate(followers):
+                if f is None or stuck[a]:
+                    v[a] = w[a] = 0.0
+                    continue
+                v[a], w[a] = f.command(current[a], dt)
+            nxt = unicycle_step(current, v, w, dt)
+            for a, f in enumerate(followers):
+                if f is not None and v[a] > 0:
+                    inside = shapely.intersects_xy(self._guards[a], nxt[a, 0], nxt[a, 1])
+                    if not inside:
+                        v[a], w[a] = f.turn_towards_carrot(current[a], dt)
+                        nxt[a] = unicycle_step(current[a], v[a], w[a], dt)
+            t += 1
+            poses[t] = nxt
+            for a, f in enumerate(followers):
+                if f is None:
+                    continue
+                if f.finished and not done[t - 1, a]:
+                    roles[a].append((t, f"holds {scene.landmarks[plans[a][-1]].id}"))
+                done[t, a] = f.finished
+                if not f.finished and not stuck[a] and t >= window:
+                    moved = np.hypot(*(poses[t, a, :2] - poses[t - window, a, :2]))
+                    turned = abs(poses[t, a, 2] - poses[t - window, a, 2])
+                    if moved < STUCK_DISTANCE and turned < 0.1:
+                        stuck[a] = True
+                        roles[a].append((t, "stuck"))
+            settled = all(f is None or f.finished or stuck[a] for a, f in enumerate(followers))
+            settled_for = settled_for + 1 if settled else 0
+            if settled_for >= settle_steps:
+                break
+        reason = "settled" if settled_for >= settle_steps else "time limit"
+        ids = [lm.id for lm in scene.landmarks]
+        goal_words = ["+".join(ids[i] for i in self.table.targets(g)) for g in pursued]
+        messages = [
+            {"from": scene.agents[a].id, "to": "all", "goal": goal_words[a]}
+            for a in range(n_agents)
+        ]
+        return EpisodeRun(
+            poses=poses[: t + 1].copy(),
+            done=done[: t + 1].copy(),
+            team_goal=self.table.vectors[team].copy(),
+            pursued_goals=[self.table.vectors[g].copy() for g in pursued],
+            roles=roles,
+            messages=messages,
+            outcome={"ended": reason, "time": round(t * dt, 6)},
+        )
+
+
+def run_rollout(
+    scene: Scene,
+    out: str | Path,
+    *,
+    episodes: int,
+    seed: int,
+    mode: Mode,
+    max_time: float = 60.0,
+    dt: float = 0.1,
+    advance: Callable[[int], None] | None = None,
+    keep_partial: bool = False,
+) -> int:
+    """Simulate ``episodes`` episodes into the tape ``out``; returns the episodes written."""
+    sim = Rollout(scene, dt=dt, max_time=max_time)
+    meta = {
+        "generator": "arena-studio rollout",
+        "mode": mode,
+        "seed": int(seed),
+        "max_time": float(max_time),
+        "note": "scripted preview agents, not a learned policy",
+    }
+    with TapeWriter(out, scene, dt=dt, metadata=meta, keep_partial=keep_partial) as writer:
+        for i in range(episodes):
+            run = sim.episode(seed, i, mode)
+            writer.begin_episode(
+                team_goal=run.team_goal,
+                pursued_goals=run.pursued_goals,
+                roles=run.roles,
+                messages=run.messages,
+            )
+            writer.steps(run.poses, done=run.done)
+            writer.end_episode(run.outcome)
+            if advance is not None:
+                advance(1)
+    return episodes
+
+
+__all__ = ["MODES", "EpisodeRun", "Rollout", "run_rollout"]
