@@ -63,3 +63,38 @@ def test_straight_episode_speed_is_half_a_metre_per_second():
     ep = straight_episode()
     travelled = np.hypot(*(ep.poses[-1, 0, :2] - ep.poses[0, 0, :2]))
     assert np.isclose(travelled / ep.duration, 0.5)
+
+
+def go_to(start, goal, steps: int, speed: float = 0.8) -> np.ndarray:
+    """(steps, 3) poses moving straight from ``start`` to ``goal`` at ``speed``, then still."""
+    start, goal = np.asarray(start, float), np.asarray(goal, float)
+    delta = goal - start
+    dist = float(np.hypot(*delta))
+    travelled = np.minimum(np.arange(steps) * DT * speed, dist)
+    frac = travelled / dist if dist > 0 else np.zeros(steps)
+    out = np.zeros((steps, 3))
+    out[:, :2] = start + frac[:, None] * delta
+    out[:, 2] = np.arctan2(delta[1], delta[0])
+    return out
+
+
+def write_test_tape(path, scene: Scene | None = None, episodes: int = 6, steps: int = 120):
+    """A tape of the small hall: even episodes an aligned success of West+East, odd ones a
+    failure where both rovers went to the West valve (the East valve stayed empty)."""
+    from arena_studio.core.tape import TapeWriter
+
+    scene = scene or small_scene()
+    west, east = scene.landmarks[0].position, scene.landmarks[1].position
+    starts = [a.start.pose[:2] for a in scene.agents]
+    with TapeWriter(path, scene, dt=DT) as w:
+        for i in range(episodes):
+            team = [1, 1, 0]
+            if i % 2 == 0:
+                targets, pursued = (west, east), ([1, 1, 0], [1, 1, 0])
+            else:
+                targets, pursued = (west, west), ([1, 0, 0], [1, 0, 0])
+            poses = np.stack([go_to(starts[a], targets[a], steps) for a in range(2)], axis=1)
+            w.begin_episode(team_goal=team, pursued_goals=list(pursued))
+            w.steps(poses, rewards=np.full((steps, 2), 0.1))
+            w.end_episode()
+    return path

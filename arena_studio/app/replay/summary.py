@@ -62,11 +62,19 @@ def summary_from_metrics(scene: Scene, episode: Episode, metrics: Any) -> Episod
     """Build a row from an ``EpisodeMetrics`` (read by attribute name, per api_contracts)."""
     diag = getattr(metrics, "diagnosis", None)
     diag_step = getattr(metrics, "diagnosis_step", None)
+    # the goal the metrics judged (the team goal, or the shared pursued goal when none)
+    goal = getattr(metrics, "goal", None)
+    if goal is None and episode.team_goal is not None:
+        goal = goal_targets(episode.team_goal)
+    vector = None
+    if goal:
+        vector = np.zeros(len(scene.landmarks), dtype=np.uint8)
+        vector[list(goal)] = 1
     return EpisodeSummary(
         index=int(episode.index),
-        goal=goal_targets(episode.team_goal) if episode.team_goal is not None else None,
-        goal_label=goal_label(scene, episode.team_goal),
-        kind=goal_kind(episode.team_goal),
+        goal=None if not goal else tuple(int(i) for i in goal),
+        goal_label=goal_label(scene, vector),
+        kind=getattr(metrics, "kind", None) or goal_kind(vector),
         success=_opt_bool(getattr(metrics, "success", None)),
         time_to_success=_opt_float(getattr(metrics, "time_to_success", None)),
         par_ratio=_opt_float(getattr(metrics, "par_ratio", None)),

@@ -1,0 +1,269 @@
+"""The replay canvas: the editor's read-only SceneCanvas with an episode layer on top.
+
+The episode layer is one QGraphicsItem whose ``paint`` hands the painter, in pixels, to
+:func:`arena_studio.render.episode_painter.paint_episode_frame`, the same function clip
+export uses, so the screen and a clip show the same frame. A second, translucent layer can
+show another episode as a ghost (compare mode). The corner overlays (clock, legend, the
+diagnosis line once it has happened) are painted in screen pixels by the same render module.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+from PySide6.QtCore import QPointF, QRectF, Signal
+from PySide6.QtGui import QMouseEvent, QPainter
+from PySide6.QtWidgets import QGraphicsItem, QStyleOptionGraphicsItem, QToolTip, QWidget
+
+from ...core.episode import Episode
+from ...core.roles import ROLE_NAMES
+from ...core.scene import Scene
+from ...render.episode_cache import episode_cache
+from ...render.episode_painter import FrameOptions, paint_clock, paint_episode_frame, paint_legend
+from ...render.theme import Theme
+from ...render.view import ViewTransform
+from ..canvas import SceneCanvas
+from ..scene_items import WORLD
+from .prepared import PreparedEpisode
+
+LEGEND_W = 200.0
+HOVER_SLACK_PX = 6.0
+
+
+def view_from_painter(painter: QPainter) -> ViewTransform:
+    """The ViewTransform equal to the painter's metre -> pixel mapping (no rotation)."""
+    t = painter.worldTransform()
+    scale = math.hypot(t.m11(), t.m12())
+    return ViewTransform(scale=scale, offset_x=t.dx(), offset_y=t.dy())
+
+
+class EpisodeLayer(QGraphicsItem):
+    """Paints one episode at one step through the shared frame painter."""
+
+    def __init__(self, theme: Theme, ghost: bool = False) -> None:
+        super().__init__()
+        self.theme = theme
+        self.scene_value: Scene | None = None
+        self.episode: Episode | None = None
+        self.step = 0
+        self.options = FrameOptions()
+        self.painted_step: int | None = None  # what the last paint() drew (for tests)
+        self.setZValue(30 if not ghost else 25)
+        if ghost:
+            self.setOpacity(0.38)
+
+    def boundingRect(self) -> QRectF:
+        return WORLD
+
+    def set_content(self, scene: Scene | None, episode: Episode | None) -> None:
+        self.scene_value, self.episode = scene, episode
+        self.painted_step = None
+        self.update()
+
+    def set_step(self, step: int) -> None:
+        if step != self.step:
+            self.step = step
+            self.update()
+
+    def paint(
+        self, painter: QPainter, option: QStyleOptionGraphicsItem, widget: QWidget | None = None
+    ) -> None:
+        if self.scene_value is None or self.episode is None:
+            return
+        view = view_from_painter(painter)
+        painter.save()
+        painter.resetTransform()
+        paint_episode_frame(
+            painter, self.scene_value, self.episode, self.step, view, self.theme, self.options
+        )
+        painter.restore()
+        self.painted_step = self.step
+
+
+class ReplayCanvas(SceneCanvas):
+    """Read-only canvas for one episode (plus an optional ghost) at the clock's step."""
+
+    agentHovered = Signal(object)  # agent index or None
+
+    def __init__(self, theme: Theme, parent: QWidget | None = None) -> None:
+        super().__init__(theme, parent)
+        self.layer_episode = EpisodeLayer(theme)
+        self.layer_ghost = EpisodeLayer(theme, ghost=True)
+        self.scene().addItem(self.layer_ghost)
+        self.scene().addItem(self.layer_episode)
+        self.prepared: PreparedEpisode | None = None
+        self.caption: str | None = None  # e.g. "episode 12 (aligned success)" in compare mode
+        self.show_legend = True
+        self.show_clock = True
+        self._hover_agent: int | None = None
+        self._hover_pos = None
+
+    # -- content -----------------------------------------------------------------------
+    def set_episode(self, scene: Scene, prepared: PreparedEpisode | None) -> None:
+        if scene is not self.scene_value:
+            self.show_scene(scene)
+        self.prepared = prepared
+        self.layer_episode.set_content(scene, None if prepared is None else prepared.episode)
+        self.viewport().update()
+
+    def set_ghost(self, episode: Episode | None) -> None:
+        self.layer_ghost.set_content(self.scene_value if episode else None, episode)
+        self.viewport().update()
+
+    def set_step(self, step: int) -> None:
+        self.layer_episode.set_step(step)
+        self.layer_ghost.set_step(step)
+        self.viewport().update()
+        if self._hover_agent is not None:
+            self._show_tooltip(self._hover_agent, None)
+
+    def set_options(self, options: FrameOptions) -> None:
+        self.layer_episode.options = options
+        self.layer_ghost.options = FrameOptions(
+            theme=options.theme,
+            trails=options.trails,
+            trail_seconds=options.trail_seconds,
+            roles="none",
+            team_goal=False,
+            pursued=False,
+            collisions=False,
+            legend=False,
+        )
+        self.layer_episode.update()
+        self.layer_ghost.update()
+
+    @property
+    def options(self) -> FrameOptions:
+        return self.layer_episode.options
+
+    def set_theme(self, theme: Theme) -> None:
+        super().set_theme(theme)
+        self.layer_episode.theme = theme
+        self.layer_ghost.theme = theme
+
+    @property
+    def step(self) -> int:
+        return self.layer_episode.step
+
+    def agent_positions(self) -> np.ndarray | None:
+        """(A, 2) world positions the episode layer draws at the current step."""
+        ep = self.layer_episode.episode
+        if ep is None or self.scene_value is None:
+            return None
+        cache = episode_cache(self.scene_value, ep)
+        step = min(max(self.step, 0), cache.steps - 1)
+        return cache.xy[step].copy()
+
+    # -- overlays in screen pixels -----------------------------------------------------
+    def drawForeground(self, painter: QPainter, rect: QRectF) -> None:
+        super().drawForeground(painter, rect)
+        ep = self.layer_episode.episode
+        if ep is None or self.scene_value is None:
+            return
+        painter.save()
+        painter.resetTransform()
+        w, h = self.viewport().width(), self.viewport().height()
+        ui = 1.0
+        if self.show_clock:
+            paint_clock(painter, QRectF(0, 0, 320, 60), ep, self.step, self.theme, ui)
+        if self.show_legend and w > 520:
+            legend_h = min(h - 20.0, 150.0 + 20.0 * (ep.agent_count + 9))
+            paint_legend(
+                painter,
+                QRectF(w - LEGEND_W - 10, 10, LEGEND_W, legend_h),
+                self.scene_value,
+                ep,
+                self.theme,
+                self.options,
+                ui,
+            )
+        if self.caption:
+            self._paint_caption(painter, w)
+        painter.restore()
+
+    def _paint_caption(self, painter: QPainter, width: int) -> None:
+        from ...render.drawing import font, label
+
+        label(
+            painter,
+            self.caption or "",
+            QPointF(width / 2, 18),
+            font(12, True),
+            self.theme.qcolor("text"),
+            self.theme.qcolor("background", alpha=0.85),
+            "center",
+            4,
+        )
+
+    # -- hover -------------------------------------------------------------------------
+    def agent_at(self, pos: QPointF) -> int | None:
+        """Agent under the viewport point ``pos`` (within its radius plus a few pixels)."""
+        xy = self.agent_positions()
+        if xy is None or len(xy) == 0:
+            return None
+        wx, wy = self.world_at(pos)
+        d = np.hypot(xy[:, 0] - wx, xy[:, 1] - wy)
+        radius = np.array(
+            [a.radius for a in self.scene_value.agents][: len(xy)]
+            + [0.25] * max(0, len(xy) - len(self.scene_value.agents))
+        )
+        slack = HOVER_SLACK_PX / self.pixels_per_metre()
+        inside = d <= radius + slack
+        if not inside.any():
+            return None
+        return int(np.argmin(np.where(inside, d, np.inf)))
+
+    def canvas_move(self, event: QMouseEvent) -> None:
+        agent = self.agent_at(event.position())
+        if agent != self._hover_agent:
+            self._hover_agent = agent
+            self.agentHovered.emit(agent)
+        if agent is None:
+            self._hover_pos = None
+            QToolTip.hideText()
+        else:
+            self._show_tooltip(agent, event.globalPosition().toPoint())
+        event.ignore()
+
+    def leaveEvent(self, event: object) -> None:
+        self._hover_agent = None
+        super().leaveEvent(event)
+
+    def _show_tooltip(self, agent: int, global_pos) -> None:
+        """Show (or refresh, while playing) the hover card; ``None`` reuses the last spot."""
+        if global_pos is None:
+            global_pos = self._hover_pos
+        if global_pos is None:
+            return
+        self._hover_pos = global_pos
+        text = self.agent_tooltip(agent)
+        if text is not None:
+            QToolTip.showText(global_pos, text, self.viewport())
+
+    def agent_tooltip(self, agent: int) -> str | None:
+        """Pose, speed, role and reward so far of ``agent`` at the current step."""
+        prep, scene = self.prepared, self.scene_value
+        if prep is None or scene is None:
+            return None
+        ep = prep.episode
+        step = min(max(self.step, 0), ep.steps - 1)
+        x, y, heading = (float(v) for v in ep.poses[step, agent])
+        name = scene.agents[agent].id if agent < len(scene.agents) else f"agent {agent + 1}"
+        role = ep.role_at(agent, step)
+        if role is None:
+            cache = episode_cache(scene, ep)
+            role = f"{ROLE_NAMES[int(cache.roles[step, agent])]} (derived)"
+        lines = [
+            f"<b>{name}</b> at {step * ep.dt:.2f} s",
+            f"pose x {x:.2f} m, y {y:.2f} m, heading {math.degrees(heading):.0f}°",
+            f"speed {prep.speeds[step, agent]:.2f} m/s",
+            f"role {role}",
+        ]
+        if prep.reward_so_far is not None:
+            lines.append(f"reward so far {prep.reward_so_far[step, agent]:.3g}")
+        targets = prep.targets[agent] if agent < len(prep.targets) else ()
+        if targets:
+            names = ", ".join(scene.landmarks[i].label or scene.landmarks[i].id for i in targets)
+            lines.append(f"pursues {names}")
+        return "<br>".join(lines)

@@ -1,0 +1,551 @@
+"""The replay mode: canvas, scrub bar and transport in the middle; episode list, plots and
+the tape overview in docks. A QMainWindow so it can be a top-level window or the replay page
+of the main window (a QMainWindow works as a child widget, docks and all).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import replace
+from pathlib import Path
+from typing import Any
+
+from PySide6.QtCore import QEventLoop, QSettings, Qt, QTimer, Signal
+from PySide6.QtGui import QAction, QKeySequence
+from PySide6.QtWidgets import (
+    QCheckBox,
+    QComboBox,
+    QDockWidget,
+    QDoubleSpinBox,
+    QFileDialog,
+    QLabel,
+    QMainWindow,
+    QMessageBox,
+    QSplitter,
+    QToolBar,
+    QVBoxLayout,
+    QWidget,
+)
+
+from ...core.scene import Scene
+from ...render.episode_painter import FrameOptions
+from ...render.theme import Theme, load_theme
+from .actions import build_actions
+from .batch_stats import batch_stats
+from .batch_view import BatchPanel
+from .episode_list import EpisodeListPanel
+from .plots import PlotsPanel
+from .prepared import PreparedEpisode
+from .replay_canvas import ReplayCanvas
+from .session import ReplaySession
+from .timeline import TimelineBar
+from .transport import PlaybackClock
+from .transport_bar import TransportBar
+
+COMPARE_MODES = (("Off", "off"), ("Ghost overlay", "ghost"), ("Side by side", "side"))
+
+
+class ReplayWindow(QMainWindow):
+    """Everything the replay viewer shows for one open tape."""
+
+    openSceneInEditor = Signal(object)  # Scene: an editable copy for the layout editor
+    statusMessage = Signal(str)
+
+    def __init__(self, theme: Theme | str = "light", parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName("replayWindow")
+        self.theme = load_theme(theme) if isinstance(theme, str) else theme
+        self.session: ReplaySession | None = None
+        self.prepared: PreparedEpisode | None = None
+        self.compare: PreparedEpisode | None = None
+        self.compare_mode = "off"
+        self._pending_index: int | None = None
+        self._pending_step: int | None = None
+        self._first_episode = True
+        self.clock = PlaybackClock(self)
+        self.replay_actions = build_actions(self.clock, self)
+        for action in self.replay_actions.values():
+            self.addAction(action)
+        self._build_central()
+        self._build_docks()
+        self._build_toolbar()
+        self._build_extra_actions()
+        self.clock.stepChanged.connect(self._on_step)
+        self.setWindowTitle("Replay")
+        self.set_actions_enabled(False)
+
+    # -- layout ------------------------------------------------------------------------
+    def _build_central(self) -> None:
+        central = QWidget(self)
+        layout = QVBoxLayout(central)
+        layout.setContentsMargins(0, 0, 0, 0)
+        layout.setSpacing(0)
+        self.split = QSplitter(Qt.Orientation.Horizontal, central)
+        self.canvas = ReplayCanvas(self.theme, self.split)
+        self.canvas_b = ReplayCanvas(self.theme, self.split)
+        self.canvas_b.setVisible(False)
+        self.split.addWidget(self.canvas)
+        self.split.addWidget(self.canvas_b)
+        layout.addWidget(self.split, 1)
+        self.verdict = QLabel(central)
+        self.verdict.setWordWrap(True)
+        self.verdict.setTextFormat(Qt.TextFormat.RichText)
+        self.verdict.setContentsMargins(10, 4, 10, 4)
+        self.verdict.linkActivated.connect(lambda _l: self.go_to_diagnosis())
+        layout.addWidget(self.verdict)
+        self.timeline = TimelineBar(self.clock, self.theme, central)
+        layout.addWidget(self.timeline)
+        self.transport = TransportBar(self.clock, self.replay_actions, self.theme, central)
+        layout.addWidget(self.transport)
+        self.setCentralWidget(central)
+        self._apply_verdict_style()
+
+    def _build_docks(self) -> None:
+        self.episode_list = EpisodeListPanel(self)
+        self.episode_list.episodeActivated.connect(self.select_episode)
+        self.dock_episodes = self._dock(
+            "Episodes", self.episode_list, Qt.DockWidgetArea.LeftDockWidgetArea
+        )
+        self.plots = PlotsPanel(self.clock, self.theme, self)
+        self.dock_plots = self._dock("Plots", self.plots, Qt.DockWidgetArea.BottomDockWidgetArea)
+        self.batch = BatchPanel(self.theme, self)
+        self.batch.goalClicked.connect(self._on_goal_clicked)
+        self.dock_batch = self._dock(
+            "Tape overview", self.batch, Qt.DockWidgetArea.BottomDockWidgetArea
+        )
+        self.tabifyDockWidget(self.dock_plots, self.dock_batch)
+        self.dock_plots.raise_()
+        self._docks_sized = False
+
+    def showEvent(self, event) -> None:
+        super().showEvent(event)
+        if not self._docks_sized:  # give the canvas most of the room on first show
+            self._docks_sized = True
+            h, w = self.height(), self.width()
+            self.resizeDocks([self.dock_plots], [max(int(h * 0.28), 160)], Qt.Orientation.Vertical)
+            self.resizeDocks(
+                [self.dock_episodes], [min(max(int(w * 0.3), 340), 560)], Qt.Orientation.Horizontal
+            )
+            QTimer.singleShot(0, self.canvas.fit_scene)
+
+    def _dock(self, title: str, widget: QWidget, area: Qt.DockWidgetArea) -> QDockWidget:
+        dock = QDockWidget(title, self)
+        dock.setObjectName(f"replay.{title.lower().replace(' ', '_')}")
+        dock.setWidget(widget)
+        self.addDockWidget(area, dock)
+        return dock
+
+    def _build_toolbar(self) -> None:
+        bar = QToolBar("Replay view", self)
+        bar.setObjectName("replay.view_toolbar")
+        self.addToolBar(Qt.ToolBarArea.TopToolBarArea, bar)
+        self.trails_box = QCheckBox("Trails", bar)
+        self.trails_box.setChecked(True)
+        self.trail_seconds = QDoubleSpinBox(bar)
+        self.trail_seconds.setRange(0.5, 120.0)
+        self.trail_seconds.setValue(FrameOptions().trail_seconds)
+        self.trail_seconds.setSuffix(" s")
+        self.trail_seconds.setToolTip("Trail length (seconds of past motion)")
+        self.pursued_box = QCheckBox("Pursued goals", bar)
+        self.pursued_box.setChecked(True)
+        self.par_box = QCheckBox("Par-time paths", bar)
+        self.legend_box = QCheckBox("Legend", bar)
+        self.legend_box.setChecked(True)
+        for w in (
+            self.trails_box,
+            self.trail_seconds,
+            self.pursued_box,
+            self.par_box,
+            self.legend_box,
+        ):
+            bar.addWidget(w)
+            signal = w.valueChanged if isinstance(w, QDoubleSpinBox) else w.toggled
+            signal.connect(lambda *_: self._apply_options())
+        bar.addSeparator()
+        bar.addWidget(QLabel(" Compare: ", bar))
+        self.compare_box = QComboBox(bar)
+        for label, name in COMPARE_MODES:
+            self.compare_box.addItem(label, name)
+        self.compare_box.setToolTip(
+            "Show a second episode (pick it with 'Compare with selected') as a ghost or beside"
+        )
+        self.compare_box.currentIndexChanged.connect(
+            lambda i: self.set_compare_mode(self.compare_box.itemData(i))
+        )
+        bar.addWidget(self.compare_box)
+        self.view_toolbar = bar
+
+    def _build_extra_actions(self) -> None:
+        def action(title: str, shortcut: str | None, slot: Callable[[], Any]) -> QAction:
+            a = QAction(title, self)
+            if shortcut:
+                a.setShortcut(QKeySequence(shortcut))
+            a.triggered.connect(lambda _c=False: slot())
+            self.addAction(a)
+            return a
+
+        self.action_diagnosis = action("Go to diagnosis", "D", self.go_to_diagnosis)
+        self.action_compare = action(
+            "Compare with selected episode", "C", self.compare_with_selected
+        )
+        self.action_scene_copy = action("Open scene in editor", None, self.open_scene_copy)
+        self.action_check_scene = action(
+            "Check a scene file against this tape…", None, self.check_scene_file_dialog
+        )
+        self.action_fit = action("Fit scene", "F", lambda: self.canvas.fit_scene())
+
+    def replay_menu_actions(self) -> list[QAction | None]:
+        """Actions for the main window's Replay menu (None = separator)."""
+        a = self.replay_actions
+        return [
+            a["play"],
+            a["step_back"],
+            a["step_fwd"],
+            a["jump_back"],
+            a["jump_fwd"],
+            a["home"],
+            a["end"],
+            None,
+            a["prev_event"],
+            a["next_event"],
+            self.action_diagnosis,
+            None,
+            a["slower"],
+            a["faster"],
+            a["loop_start"],
+            a["loop_end"],
+            a["loop_clear"],
+            None,
+            self.action_compare,
+            self.action_fit,
+            None,
+            self.action_scene_copy,
+            self.action_check_scene,
+        ]
+
+    def set_actions_enabled(self, enabled: bool) -> None:
+        for a in self.replay_actions.values():
+            a.setEnabled(enabled)
+        for a in (
+            self.action_diagnosis,
+            self.action_compare,
+            self.action_scene_copy,
+            self.action_check_scene,
+        ):
+            a.setEnabled(enabled)
+
+    # -- opening -----------------------------------------------------------------------
+    def open_tape(self, path: str | Path, tape: Any = None) -> None:
+        """Open a tape (errors raise :class:`TapeError` with a clear message)."""
+        from ...core.tape import open_tape
+
+        tape = tape if tape is not None else open_tape(path)
+        self.close_tape()
+        self._first_episode = True
+        self.session = ReplaySession(tape, self)
+        s = self.session
+        s.rowsReady.connect(self._on_rows)
+        s.progress.connect(self.episode_list.set_progress)
+        s.summariesDone.connect(self._on_summaries_done)
+        s.occupancyReady.connect(lambda occ: self.batch.set_occupancy(s.scene, occ))
+        s.episodeReady.connect(self._on_episode_ready)
+        s.compareReady.connect(self._on_compare_ready)
+        s.failed.connect(self.statusMessage)
+        self.canvas.show_scene(s.scene)
+        self.canvas_b.show_scene(s.scene)
+        self.canvas.fit_scene()
+        self.episode_list.model.reset_placeholders(len(tape))
+        self.episode_list.set_progress(0, len(tape))
+        self.batch.set_occupancy(s.scene, None)
+        self.setWindowTitle(f"{Path(path).name} - replay")
+        self.set_actions_enabled(True)
+        msg = getattr(tape, "recovery_message", None)
+        if getattr(tape, "truncated", False) and msg:
+            self.statusMessage.emit(msg)
+        if len(tape) == 0:
+            self.verdict.setText("This tape has no episodes.")
+        s.start_summaries()
+        if len(tape):
+            self.select_episode(0)
+
+    def close_tape(self) -> None:
+        if self.session is not None:
+            self.session.close()
+            self.session.deleteLater()
+        self.session = None
+        self.prepared = None
+        self.compare = None
+
+    @property
+    def scene_value(self) -> Scene | None:
+        return None if self.session is None else self.session.scene
+
+    # -- episodes ----------------------------------------------------------------------
+    def select_episode(self, index: int, step: int | None = None) -> None:
+        """Load episode ``index`` off the UI thread; it shows when ready."""
+        if self.session is None or not (0 <= index < len(self.session)):
+            return
+        self._pending_index = index
+        self._pending_step = step
+        self.clock.pause()
+        self.verdict.setText(f"Loading episode {index}…")
+        self.session.request_episode(index)
+
+    def wait_loaded(self, timeout_ms: int = 20000) -> bool:
+        """Process events until the pending episode has arrived (screenshots, tests)."""
+        loop = QEventLoop()
+        timer = QTimer()
+        timer.setSingleShot(True)
+        timer.timeout.connect(loop.quit)
+        timer.start(timeout_ms)
+        while self._pending_index is not None and timer.isActive():
+            loop.processEvents(QEventLoop.ProcessEventsFlag.AllEvents, 50)
+        return self._pending_index is None
+
+    def _on_episode_ready(self, prepared: PreparedEpisode) -> None:
+        if prepared is None or self.session is None:
+            return
+        if self._pending_index is not None and prepared.episode.index != self._pending_index:
+            return
+        step = self._pending_step
+        self._pending_index = self._pending_step = None
+        self.prepared = prepared
+        scene = self.session.scene
+        ep = prepared.episode
+        self.canvas.set_episode(scene, prepared)
+        self.clock.set_episode(ep.steps, ep.dt, prepared.event_steps)
+        self.timeline.set_events(prepared.events, ep.agent_count)
+        self.plots.set_episode(scene, prepared)
+        if self._first_episode:
+            self._first_episode = False
+            self.canvas.fit_scene()
+        if step is not None:
+            self.clock.seek(step)
+        self.canvas.set_step(self.clock.step)
+        self._update_verdict()
+        self._update_compare_views()
+        self.episode_list.select_episode(ep.index) if self._list_current() != ep.index else None
+
+    def _list_current(self) -> int | None:
+        current = self.episode_list.table.currentIndex()
+        if not current.isValid():
+            return None
+        return int(current.data(Qt.ItemDataRole.UserRole + 2).index)
+
+    def _on_step(self, step: int) -> None:
+        self.canvas.set_step(step)
+        if self.canvas_b.isVisible():
+            self.canvas_b.set_step(step)
+        self._update_verdict()
+
+    def go_to_diagnosis(self) -> None:
+        if self.prepared is None:
+            return
+        step = self.prepared.diagnosis_step()
+        if step is not None:
+            self.clock.pause()
+            self.clock.seek(step)
+
+    # -- verdict line ------------------------------------------------------------------
+    def _apply_verdict_style(self) -> None:
+        t = self.theme
+        self.verdict.setStyleSheet(
+            f"QLabel {{ background: {t.hex('room_fill')[:7]}; color: {t.hex('text')[:7]};"
+            f" border-top: 1px solid {t.hex('grid_major')[:7]}; }}"
+        )
+
+    def verdict_text(self) -> str:
+        p = self.prepared
+        if p is None:
+            return ""
+        m = p.metrics
+        ep = p.episode
+        if m is None:
+            return f"Episode {ep.index}: {ep.steps} steps, {ep.duration:.1f} s."
+        err = self.theme.hex("error")[:7]
+        goal = getattr(m, "goal_key", None) or "-"
+        if getattr(m, "success", False):
+            t = getattr(m, "time_to_success", None)
+            ratio = getattr(m, "par_ratio", None)
+            extra = f", {ratio:.0%} of par pace" if ratio else ""
+            return (
+                f"Episode {ep.index} <b>succeeded</b> at goal {goal}"
+                f"{'' if t is None else f' in {t:.1f} s'}{extra}."
+            )
+        diag = getattr(m, "diagnosis", None)
+        dstep = getattr(m, "diagnosis_step", None)
+        if not diag:
+            return f"Episode {ep.index} <b style='color:{err}'>failed</b> goal {goal}."
+        when = "" if dstep is None else f" at {dstep * ep.dt:.1f} s"
+        seen = dstep is not None and self.clock.step >= dstep
+        link = "" if seen else " &nbsp;<a href='diag'>go there (D)</a>"
+        return (
+            f"Episode {ep.index} <b style='color:{err}'>failed</b> goal {goal}: {diag}{when}.{link}"
+        )
+
+    def _update_verdict(self) -> None:
+        self.verdict.setText(self.verdict_text())
+
+    # -- list and batch ----------------------------------------------------------------
+    def _on_rows(self, rows: list) -> None:
+        self.episode_list.model.update_rows(rows)
+
+    def _on_summaries_done(self) -> None:
+        if self.session is None:
+            return
+        self.episode_list.set_progress(len(self.session), len(self.session))
+        self.batch.set_stats(self.session.scene, batch_stats(self.episode_list.model.summaries()))
+
+    def _on_goal_clicked(self, goal: tuple[int, ...], label: str) -> None:
+        self.episode_list.set_goal_filter(goal, label)
+        self.dock_episodes.raise_()
+
+    # -- compare -----------------------------------------------------------------------
+    def compare_with_selected(self) -> None:
+        """Compare the shown episode with the one selected in the list."""
+        index = self._list_current()
+        if self.session is None or index is None:
+            return
+        if self.compare_mode == "off":
+            self.compare_box.setCurrentIndex(1)
+        self.session.request_compare(index)
+
+    def compare_with(self, index: int, mode: str = "ghost") -> None:
+        if self.session is None:
+            return
+        self.set_compare_mode(mode)
+        self.session.request_compare(index)
+
+    def set_compare_mode(self, mode: str) -> None:
+        if mode not in {m for _, m in COMPARE_MODES}:
+            raise ValueError(f"unknown compare mode {mode!r}")
+        self.compare_mode = mode
+        i = [m for _, m in COMPARE_MODES].index(mode)
+        if self.compare_box.currentIndex() != i:
+            self.compare_box.blockSignals(True)
+            self.compare_box.setCurrentIndex(i)
+            self.compare_box.blockSignals(False)
+        self._update_compare_views()
+
+    def _on_compare_ready(self, prepared: PreparedEpisode | None) -> None:
+        self.compare = prepared
+        self._update_compare_views()
+
+    def _update_compare_views(self) -> None:
+        other = self.compare
+        mode = self.compare_mode if other is not None else "off"
+        scene = self.scene_value
+        self.canvas.set_ghost(other.episode if (other and mode == "ghost") else None)
+        side = mode == "side" and scene is not None
+        self.canvas_b.setVisible(side)
+        if side and other is not None and scene is not None:
+            self.canvas_b.set_episode(scene, other)
+            self.canvas_b.set_options(self.canvas.options)
+            self.canvas_b.set_step(self.clock.step)
+            self.canvas_b.caption = f"compared: episode {other.episode.index}"
+            self.split.setSizes([1, 1])
+        if self.prepared is not None and other is not None and mode != "off":
+            self.canvas.caption = f"episode {self.prepared.episode.index}" + (
+                f" with episode {other.episode.index} as ghost" if mode == "ghost" else ""
+            )
+            longest = max(self.prepared.episode.steps, other.episode.steps)
+            if longest != self.clock.steps:  # shared timeline spans the longer episode
+                step = self.clock.step
+                self.clock.set_episode(longest, self.prepared.episode.dt, self.prepared.event_steps)
+                self.clock.seek(step)
+        else:
+            self.canvas.caption = None
+        self.canvas.viewport().update()
+
+    # -- options, theme ----------------------------------------------------------------
+    def _apply_options(self) -> None:
+        opts = replace(
+            self.canvas.options,
+            theme=self.theme.name,
+            trails=self.trails_box.isChecked(),
+            trail_seconds=float(self.trail_seconds.value()),
+            pursued=self.pursued_box.isChecked(),
+            par_paths=self.par_box.isChecked(),
+        )
+        self.canvas.show_legend = self.legend_box.isChecked()
+        self.canvas.set_options(opts)
+        self.canvas_b.set_options(opts)
+        self.canvas.viewport().update()
+        self.canvas_b.viewport().update()
+
+    def set_theme(self, theme: Theme | str) -> None:
+        self.theme = load_theme(theme) if isinstance(theme, str) else theme
+        for w in (
+            self.canvas,
+            self.canvas_b,
+            self.timeline,
+            self.transport,
+            self.plots,
+            self.batch,
+        ):
+            w.set_theme(self.theme)
+        self._apply_verdict_style()
+        self._apply_options()
+
+    # -- scene files -------------------------------------------------------------------
+    def open_scene_copy(self) -> None:
+        """Hand an editable copy of the tape's scene to the layout editor."""
+        if self.scene_value is not None:
+            self.openSceneInEditor.emit(self.scene_value)
+
+    def scene_matches_tape(self, scene: Scene) -> bool | None:
+        """True/False when a tape is open: does ``scene`` have the tape's content hash?"""
+        if self.session is None:
+            return None
+        tape_hash = (
+            getattr(self.session.tape, "scene_hash", None) or self.session.scene.content_hash()
+        )
+        return scene.content_hash() == tape_hash
+
+    def warn_if_scene_differs(self, scene: Scene, path: str | Path) -> bool:
+        """Say so when a scene opened beside the tape is not the tape's scene. True = differs."""
+        same = self.scene_matches_tape(scene)
+        if same is None or same:
+            if same:
+                self.statusMessage.emit(
+                    f"{Path(path).name} is the scene this tape was recorded in."
+                )
+            return False
+        QMessageBox.warning(
+            self,
+            "Scene differs from the tape",
+            f"{Path(path).name} is not the scene this tape was recorded in (their content "
+            "hashes differ). The replay keeps using the scene stored in the tape; edits to "
+            f"{Path(path).name} do not change what the tape shows.",
+        )
+        return True
+
+    def check_scene_file_dialog(self) -> None:
+        from ...core.scene import load_scene
+
+        path, _ = QFileDialog.getOpenFileName(
+            self, "Scene file to check", "", "Scenes (*.scene.json *.scene.msgpack)"
+        )
+        if not path:
+            return
+        try:
+            scene = load_scene(path)
+        except Exception as exc:  # a clear message, never a traceback
+            QMessageBox.warning(self, "Cannot read scene", str(exc))
+            return
+        if not self.warn_if_scene_differs(scene, path):
+            QMessageBox.information(
+                self, "Same scene", f"{Path(path).name} is the scene this tape was recorded in."
+            )
+
+    def closeEvent(self, event) -> None:
+        self.close_tape()
+        super().closeEvent(event)
+
+    def save_layout(self, settings: QSettings) -> None:
+        settings.setValue("replay/state", self.saveState())
+
+    def restore_layout(self, settings: QSettings) -> None:
+        state = settings.value("replay/state")
+        if state is not None:
+            self.restoreState(state)

@@ -1,0 +1,154 @@
+"""An open tape in the viewer: its episode rows, the selected episode, the compared one.
+
+Opening reads only the tape's header and index (fast, even for thousands of episodes) and
+fills the list with placeholder rows; a worker thread then computes each episode's metrics
+and the whole tape's occupancy grid. Selecting an episode decodes and prepares it on another
+worker thread; the newest selection wins.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Iterator
+from pathlib import Path
+from typing import Any
+
+from PySide6.QtCore import QObject, Signal
+
+from ...core.episode import Episode
+from ...core.scene import Scene
+from .batch_stats import Occupancy
+from .events import episode_event_marks
+from .loader import BackgroundCall, StreamWorker
+from .prepared import PreparedEpisode, prepare_episode
+from .summary import EpisodeSummary, summarise_episode
+
+
+def _metrics_for(scene: Scene, episode: Episode) -> Any:
+    from ...core.metrics import episode_metrics
+
+    return episode_metrics(scene, episode)
+
+
+def load_prepared(scene: Scene, episode: Episode) -> PreparedEpisode:
+    """Metrics, events, per-step arrays and the frame painter's cache for one episode."""
+    from ...render.episode_cache import episode_cache
+
+    try:
+        metrics = _metrics_for(scene, episode)
+    except ImportError:
+        metrics = None
+    events = episode_event_marks(scene, episode, metrics)
+    prepared = prepare_episode(scene, episode, metrics=metrics)
+    prepared = PreparedEpisode(
+        episode=prepared.episode,
+        speeds=prepared.speeds,
+        reward_so_far=prepared.reward_so_far,
+        targets=prepared.targets,
+        distances=prepared.distances,
+        events=events,
+        metrics=metrics,
+    )
+    episode_cache(scene, episode)  # built here, off the UI thread; frames then only slice it
+    return prepared
+
+
+class ReplaySession(QObject):
+    """Owns the open tape and the background work on it."""
+
+    rowsReady = Signal(object)  # list[EpisodeSummary]
+    progress = Signal(int, int)
+    summariesDone = Signal()
+    occupancyReady = Signal(object)  # Occupancy
+    episodeReady = Signal(object)  # PreparedEpisode (the selected one)
+    compareReady = Signal(object)  # PreparedEpisode or None
+    failed = Signal(str)
+
+    def __init__(self, tape: Any, parent: QObject | None = None) -> None:
+        super().__init__(parent)
+        self.tape = tape
+        self.scene: Scene = tape.scene
+        self.path = Path(getattr(tape, "path", "") or "")
+        self._worker: StreamWorker | None = None
+        self._episode_call = BackgroundCall(self)
+        self._episode_call.done.connect(lambda _t, p: self.episodeReady.emit(p))
+        self._episode_call.failed.connect(lambda _t, m: self.failed.emit(m))
+        self._compare_call = BackgroundCall(self)
+        self._compare_call.done.connect(lambda _t, p: self.compareReady.emit(p))
+        self._compare_call.failed.connect(lambda _t, m: self.failed.emit(m))
+        self.occupancy = Occupancy.empty(self.scene)
+        self.summaries_done = False
+
+    def __len__(self) -> int:
+        return len(self.tape)
+
+    # -- the list ----------------------------------------------------------------------
+    def start_summaries(self, reopen: Callable[[], Any] | None = None) -> None:
+        """Compute every episode's row (and the occupancy grid) on a worker thread.
+
+        ``reopen`` gives the worker its own tape reader (file handles are not shared).
+        """
+        scene = self.scene
+        occupancy = self.occupancy
+        opener = reopen or self._reopen
+
+        def produce(stop: Callable[[], bool]) -> Iterator[EpisodeSummary]:
+            tape = opener()
+            for i in range(len(tape)):
+                if stop():
+                    return
+                episode = tape.episode(i)
+                occupancy.add(episode.poses, episode.dt)
+                try:
+                    yield summarise_episode(scene, episode)
+                except ImportError:
+                    yield EpisodeSummary(index=i, steps=episode.steps, loaded=True)
+                except Exception as exc:  # one bad episode must not stop the list
+                    yield EpisodeSummary(
+                        index=i, diagnosis=f"cannot compute metrics: {exc}", loaded=True
+                    )
+
+        self._worker = StreamWorker(produce, len(self.tape), self)
+        self._worker.batchReady.connect(self._on_batch)
+        self._worker.progress.connect(self.progress)
+        self._worker.failed.connect(self.failed)
+        self._worker.finished.connect(self._on_finished)
+        self._worker.start()
+
+    def _reopen(self) -> Any:
+        from ...core.tape import open_tape
+
+        return open_tape(self.path)
+
+    def _on_batch(self, batch: list[EpisodeSummary]) -> None:
+        self.rowsReady.emit(batch)
+
+    def _on_finished(self) -> None:
+        self.summaries_done = True
+        self.occupancyReady.emit(self.occupancy)
+        self.summariesDone.emit()
+
+    def wait_summaries(self, timeout_ms: int = 60000) -> bool:
+        return self._worker is None or self._worker.wait(timeout_ms)
+
+    # -- episodes ----------------------------------------------------------------------
+    def request_episode(self, index: int) -> int:
+        scene, tape = self.scene, self.tape
+        return self._episode_call.submit(lambda: load_prepared(scene, tape.episode(index)))
+
+    def request_compare(self, index: int | None) -> None:
+        if index is None:
+            self._compare_call.submit(lambda: None)
+            return
+        scene, tape = self.scene, self.tape
+        self._compare_call.submit(lambda: load_prepared(scene, tape.episode(index)))
+
+    def load_now(self, index: int) -> PreparedEpisode:
+        """Blocking load (screenshots, tests)."""
+        return load_prepared(self.scene, self.tape.episode(index))
+
+    def close(self) -> None:
+        if self._worker is not None:
+            self._worker.stop()
+            self._worker = None
+        self._episode_call.wait_idle(5.0)
+        self._compare_call.wait_idle(5.0)
