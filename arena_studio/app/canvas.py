@@ -23,12 +23,12 @@ from PySide6.QtWidgets import QFrame, QGraphicsScene, QGraphicsView, QWidget
 
 from ..core.geometry import bounds
 from ..core.scene import Scene
+from ..render.drawing import nice_step
 from ..render.theme import Theme
-from .scene_items import WORLD, SceneLayer, paint_floor, pen
-from .snapping import nice_step
+from .scene_items import WORLD, SceneLayer
 
 MIN_PPM, MAX_PPM = 0.5, 4000.0  # pixels per metre
-GRID_MIN_PX = 14.0  # smallest on-screen spacing of minor grid lines
+GRID_MIN_PX = 12.0  # smallest on-screen spacing of minor grid lines
 
 
 class SceneCanvas(QGraphicsView):
@@ -85,8 +85,13 @@ class SceneCanvas(QGraphicsView):
         return 1.0 / self.pixels_per_metre()
 
     def grid_step(self) -> float:
-        """Minor grid spacing (m): the 1-2-5 value at least GRID_MIN_PX pixels apart."""
-        return nice_step(GRID_MIN_PX / self.pixels_per_metre())
+        """Minor grid spacing (m), the same rule the shared scene painter draws the grid with
+        (render.scene_painter.paint_grid), so snapping lands on the lines the user sees."""
+        scale = self.pixels_per_metre()
+        minor = nice_step(max(GRID_MIN_PX / scale, 1e-6) * 2.5)
+        while minor * scale < GRID_MIN_PX:
+            minor *= 2
+        return minor
 
     def fit_scene(self, margin_px: float = 36.0) -> None:
         minx, miny, maxx, maxy = bounds(self.scene_value)
@@ -118,54 +123,8 @@ class SceneCanvas(QGraphicsView):
         return (p.x(), p.y())
 
     # -- drawing -----------------------------------------------------------------------
-    def drawBackground(self, painter: QPainter, rect: QRectF) -> None:  # noqa: N802
+    def drawBackground(self, painter: QPainter, rect: QRectF) -> None:
         painter.fillRect(rect, self.theme.qcolor("background"))
-        paint_floor(painter, self.scene_value, self.theme)
-        self._paint_grid(painter, rect)
-
-    def _paint_grid(self, painter: QPainter, rect: QRectF) -> None:
-        step = self.grid_step()
-        mantissa = round(step / 10 ** math.floor(math.log10(step)))
-        major = step * (2 if mantissa == 5 else 5)
-        x0, x1 = math.floor(rect.left() / step), math.ceil(rect.right() / step)
-        y0, y1 = math.floor(rect.top() / step), math.ceil(rect.bottom() / step)
-        if (x1 - x0) * (y1 - y0) > 4e6:
-            return
-        ratio = round(major / step)
-        for is_major in (False, True):
-            painter.setPen(pen(self.theme.qcolor("grid_major" if is_major else "grid_minor"), 1))
-            for i in range(x0, x1 + 1):
-                if (i % ratio == 0) == is_major:
-                    painter.drawLine(QPointF(i * step, rect.top()), QPointF(i * step, rect.bottom()))
-            for j in range(y0, y1 + 1):
-                if (j % ratio == 0) == is_major:
-                    painter.drawLine(QPointF(rect.left(), j * step), QPointF(rect.right(), j * step))
-
-    def drawForeground(self, painter: QPainter, rect: QRectF) -> None:  # noqa: N802
-        painter.save()
-        painter.resetTransform()
-        self._paint_scale_bar(painter)
-        painter.restore()
-
-    def _paint_scale_bar(self, painter: QPainter) -> None:
-        ppm = self.pixels_per_metre()
-        length = nice_step(90.0 / ppm)
-        px = length * ppm
-        x, y = 16.0, self.viewport().height() - 18.0
-        color = self.theme.qcolor("scale_bar")
-        back = self.theme.qcolor("background", alpha=0.78)
-        painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
-        painter.setPen(Qt.PenStyle.NoPen)
-        painter.setBrush(back)
-        painter.drawRoundedRect(QRectF(x - 8, y - 24, px + 16 + 70, 34), 4, 4)
-        painter.setPen(pen(color, 2.0))
-        painter.drawLine(QPointF(x, y), QPointF(x + px, y))
-        painter.drawLine(QPointF(x, y - 5), QPointF(x, y + 3))
-        painter.drawLine(QPointF(x + px, y - 5), QPointF(x + px, y + 3))
-        painter.drawLine(QPointF(x + px / 2, y - 3), QPointF(x + px / 2, y))
-        painter.setPen(color)
-        label = f"{length:g} m" if length >= 1 else f"{length * 100:g} cm"
-        painter.drawText(QPointF(x + px + 8, y + 4), label)
 
     # -- input -------------------------------------------------------------------------
     def _starts_pan(self, event: QMouseEvent) -> bool:
@@ -174,7 +133,7 @@ class SceneCanvas(QGraphicsView):
             b == Qt.MouseButton.LeftButton and self._space
         )
 
-    def mousePressEvent(self, event: QMouseEvent) -> None:  # noqa: N802
+    def mousePressEvent(self, event: QMouseEvent) -> None:
         if self._starts_pan(event):
             self._pan_from = event.position().toPoint()
             self.viewport().setCursor(Qt.CursorShape.ClosedHandCursor)
@@ -182,7 +141,7 @@ class SceneCanvas(QGraphicsView):
             return
         self.canvas_press(event)
 
-    def mouseMoveEvent(self, event: QMouseEvent) -> None:  # noqa: N802
+    def mouseMoveEvent(self, event: QMouseEvent) -> None:
         pos = event.position().toPoint()
         if self._pan_from is not None:
             delta = pos - self._pan_from
@@ -196,7 +155,7 @@ class SceneCanvas(QGraphicsView):
         self.cursor_moved.emit(x, y)
         self.canvas_move(event)
 
-    def mouseReleaseEvent(self, event: QMouseEvent) -> None:  # noqa: N802
+    def mouseReleaseEvent(self, event: QMouseEvent) -> None:
         if self._pan_from is not None:
             self._pan_from = None
             self.viewport().setCursor(
@@ -206,17 +165,17 @@ class SceneCanvas(QGraphicsView):
             return
         self.canvas_release(event)
 
-    def mouseDoubleClickEvent(self, event: QMouseEvent) -> None:  # noqa: N802
+    def mouseDoubleClickEvent(self, event: QMouseEvent) -> None:
         if event.button() == Qt.MouseButton.LeftButton and not self._space:
             self.canvas_double_click(event)
 
-    def wheelEvent(self, event: QWheelEvent) -> None:  # noqa: N802
+    def wheelEvent(self, event: QWheelEvent) -> None:
         steps = event.angleDelta().y() / 120.0
         if steps:
             self.zoom_by(1.2**steps)
         event.accept()
 
-    def keyPressEvent(self, event: QKeyEvent) -> None:  # noqa: N802
+    def keyPressEvent(self, event: QKeyEvent) -> None:
         if event.key() == Qt.Key.Key_Space and not event.isAutoRepeat():
             self._space = True
             self.viewport().setCursor(Qt.CursorShape.OpenHandCursor)
@@ -224,7 +183,7 @@ class SceneCanvas(QGraphicsView):
             return
         super().keyPressEvent(event)
 
-    def keyReleaseEvent(self, event: QKeyEvent) -> None:  # noqa: N802
+    def keyReleaseEvent(self, event: QKeyEvent) -> None:
         if event.key() == Qt.Key.Key_Space and not event.isAutoRepeat():
             self._space = False
             self.viewport().setCursor(Qt.CursorShape.ArrowCursor)
@@ -232,10 +191,10 @@ class SceneCanvas(QGraphicsView):
             return
         super().keyReleaseEvent(event)
 
-    def leaveEvent(self, event: object) -> None:  # noqa: N802
+    def leaveEvent(self, event: object) -> None:
         self.cursor_left.emit()
 
-    def resizeEvent(self, event: QResizeEvent) -> None:  # noqa: N802
+    def resizeEvent(self, event: QResizeEvent) -> None:
         super().resizeEvent(event)
         if not self._fitted_once and self.viewport().width() > 50:
             self._fitted_once = True

@@ -8,7 +8,9 @@ from PySide6.QtWidgets import QFileDialog, QMessageBox, QWidget
 
 from .recovery import RecoveryCopy
 
-SCENE_FILTER = "Scenes (*.scene.json *.scene.msgpack *.json *.msgpack);;Tapes (*.tape);;All files (*)"
+SCENE_FILTER = (
+    "Scenes (*.scene.json *.scene.msgpack *.json *.msgpack);;Tapes (*.tape);;All files (*)"
+)
 
 
 class Dialogs:

@@ -31,7 +31,7 @@ class SceneEdit(QUndoCommand):
     def id(self) -> int:
         return self.MERGE_ID if self.key is not None else -1
 
-    def mergeWith(self, other: QUndoCommand) -> bool:  # noqa: N802 - Qt API
+    def mergeWith(self, other: QUndoCommand) -> bool:
         if not isinstance(other, SceneEdit) or other.key != self.key:
             return False
         self.after = other.after

@@ -7,8 +7,8 @@ from PySide6.QtGui import QKeyEvent, QMouseEvent
 
 from ..render.theme import Theme
 from .canvas import SceneCanvas
-from .edits import outline_of
 from .editor import Editor
+from .edits import outline_of
 from .tools import ToolEvent
 
 PICK_PX = 7.0  # pick and snap tolerance in pixels
@@ -90,7 +90,7 @@ class EditorCanvas(SceneCanvas):
         self.editor.tool.double_click(self._event(event))
         self.refresh()
 
-    def keyPressEvent(self, event: QKeyEvent) -> None:  # noqa: N802
+    def keyPressEvent(self, event: QKeyEvent) -> None:
         name = KEY_NAMES.get(Qt.Key(event.key()))
         if name is not None and self.editor.tool.key(name):
             self.refresh()

@@ -97,7 +97,12 @@ class NumberField(Field):
         digits: int = 3,
     ) -> None:
         super().__init__(unit)
-        self.minimum, self.positive, self.optional, self.digits = minimum, positive, optional, digits
+        self.minimum, self.positive, self.optional, self.digits = (
+            minimum,
+            positive,
+            optional,
+            digits,
+        )
         if optional:
             self.edit.setPlaceholderText("random")
 

@@ -52,8 +52,10 @@ class FindingsPanel(QWidget):
         self.list.clear()
         for f in self.findings:
             sev = getattr(f, "severity", "info")
-            item = QListWidgetItem(_dot(self.theme.qcolor(sev if sev in ORDER else "info")),
-                                   getattr(f, "message", str(f)))
+            item = QListWidgetItem(
+                _dot(self.theme.qcolor(sev if sev in ORDER else "info")),
+                getattr(f, "message", str(f)),
+            )
             item.setToolTip(f"{sev}: {getattr(f, 'code', '')}")
             item.setData(Qt.ItemDataRole.UserRole, f)
             self.list.addItem(item)
@@ -64,8 +66,9 @@ class FindingsPanel(QWidget):
         elif not self.findings:
             self.summary.setText("No findings: the checker sees nothing wrong.")
         else:
-            counts = {s: sum(1 for f in self.findings if getattr(f, "severity", "") == s)
-                      for s in ORDER}
+            counts = {
+                s: sum(1 for f in self.findings if getattr(f, "severity", "") == s) for s in ORDER
+            }
             parts = [f"{n} {s}{'s' if n != 1 else ''}" for s, n in counts.items() if n]
             self.summary.setText(", ".join(parts) + ". Click one to show it.")
 

@@ -67,8 +67,10 @@ class GoalsPanel(QWidget):
         self.hold = NumberField("s", minimum=0.0)
         self.hold.setObjectName("goal_hold")
         self.hold.committed.connect(
-            lambda v: self.editor.apply(edits.set_goals(self.editor.scene, hold_time=v),
-                                        "Edit hold time"))
+            lambda v: self.editor.apply(
+                edits.set_goals(self.editor.scene, hold_time=v), "Edit hold time"
+            )
+        )
         form.addRow("Hold time", self.hold)
         lay.addLayout(form)
 
@@ -180,7 +182,9 @@ class GoalsPanel(QWidget):
                     item.setToolTip(bad.get(i, getattr(plan, "reason", "") or ""))
                     item.setText("⚠ unreachable")
                 if c in (1, 2):
-                    item.setTextAlignment(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+                    item.setTextAlignment(
+                        Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter
+                    )
                 self.table.setItem(i, c, item)
         ind = sum(1 for r in rows if r.kind == "individual")
         n_bad = sum(1 for i in range(len(rows)) if self.table.item(i, 3).text() != "ok")
@@ -199,8 +203,9 @@ class GoalsPanel(QWidget):
 
     # -- widgets -> model --------------------------------------------------------------
     def _rule_changed(self, _i: int) -> None:
-        self.editor.apply(edits.set_goals(self.editor.scene, rule=self.rule.currentData()),
-                          "Change success rule")
+        self.editor.apply(
+            edits.set_goals(self.editor.scene, rule=self.rule.currentData()), "Change success rule"
+        )
 
     def _family_toggled(self, k: int, on: bool) -> None:
         g = self.editor.scene.goals
@@ -222,8 +227,10 @@ class GoalsPanel(QWidget):
             return
         weights = list(g.family_weights or (1.0,) * len(g.families))
         weights[g.families.index(k)] = value
-        self.editor.apply(edits.set_goals(self.editor.scene, family_weights=tuple(weights)),
-                          f"Weight of {k}-hot goals")
+        self.editor.apply(
+            edits.set_goals(self.editor.scene, family_weights=tuple(weights)),
+            f"Weight of {k}-hot goals",
+        )
 
     def add_from_selection(self) -> None:
         scene = self.editor.scene
@@ -257,10 +264,14 @@ class GoalsPanel(QWidget):
             return
         g = self.editor.scene.goals
         vectors = g.vectors[:idx] + g.vectors[idx + 1 :]
-        vw = None if g.vector_weights is None else (
-            g.vector_weights[:idx] + g.vector_weights[idx + 1 :])
-        self.editor.apply(edits.set_goals(self.editor.scene, vectors=vectors, vector_weights=vw),
-                          "Remove goal")
+        vw = (
+            None
+            if g.vector_weights is None
+            else (g.vector_weights[:idx] + g.vector_weights[idx + 1 :])
+        )
+        self.editor.apply(
+            edits.set_goals(self.editor.scene, vectors=vectors, vector_weights=vw), "Remove goal"
+        )
 
     def _row_selected(self) -> None:
         row = self._current_row()

@@ -12,9 +12,9 @@ SCREENSHOT_SIZE = (1600, 1000)
 
 def _ensure_platform(screenshot: bool) -> None:
     """Screenshots need no display: fall back to Qt's offscreen platform when there is none."""
-    if screenshot and "QT_QPA_PLATFORM" not in os.environ:
-        if not (os.environ.get("DISPLAY") or os.environ.get("WAYLAND_DISPLAY")):
-            os.environ["QT_QPA_PLATFORM"] = "offscreen"
+    has_display = os.environ.get("DISPLAY") or os.environ.get("WAYLAND_DISPLAY")
+    if screenshot and "QT_QPA_PLATFORM" not in os.environ and not has_display:
+        os.environ["QT_QPA_PLATFORM"] = "offscreen"
 
 
 def launch_app(args: argparse.Namespace) -> int:

@@ -161,8 +161,12 @@ class MainWindow(QMainWindow):
                 act.triggered.connect(self._handler(spec))
             if spec.menu:
                 menu = menus[spec.menu]
-                if spec.menu == previous_menu and spec.id in ("file.quit", "edit.delete",
-                                                              "edit.snap", "view.dark"):
+                if spec.menu == previous_menu and spec.id in (
+                    "file.quit",
+                    "edit.delete",
+                    "edit.snap",
+                    "view.dark",
+                ):
                     menu.addSeparator()
                 menu.addAction(act)
                 if spec.id == "file.open":
@@ -223,9 +227,7 @@ class MainWindow(QMainWindow):
         doc.undo_stack.indexChanged.connect(lambda _i: self._update_actions())
         self.editor.selection_changed.connect(self._update_actions)
         self.editor.status_message.connect(self.show_message)
-        self.editor.tool_changed.connect(
-            lambda name: self.actions_by_id[name].setChecked(True)
-        )
+        self.editor.tool_changed.connect(lambda name: self.actions_by_id[name].setChecked(True))
         self.canvas.cursor_moved.connect(
             lambda x, y: self.coords_label.setText(f"x {x:8.2f} m   y {y:8.2f} m")
         )
@@ -339,7 +341,9 @@ class MainWindow(QMainWindow):
         try:
             scene = load_scene(p)
         except ArenaError as exc:
-            self.dialogs.error("Cannot open scene", f"{exc}\n\nThe current scene was left as it was.")
+            self.dialogs.error(
+                "Cannot open scene", f"{exc}\n\nThe current scene was left as it was."
+            )
             return False
         if not self.maybe_keep_changes():
             return False
@@ -495,8 +499,9 @@ class MainWindow(QMainWindow):
         for spec in ACTIONS:
             if spec.icon:
                 self.actions_by_id[spec.id].setIcon(
-                    themed_icon(spec.icon, self.theme.hex("text")[:7],
-                                self.theme.hex("text_muted")[:7])
+                    themed_icon(
+                        spec.icon, self.theme.hex("text")[:7], self.theme.hex("text_muted")[:7]
+                    )
                 )
         self.settings.setValue("prefs/theme", name)
 
@@ -520,7 +525,7 @@ class MainWindow(QMainWindow):
         self.settings.sync()
 
     # -- Qt events ---------------------------------------------------------------------
-    def closeEvent(self, event: QCloseEvent) -> None:  # noqa: N802
+    def closeEvent(self, event: QCloseEvent) -> None:
         if not self.maybe_keep_changes():
             event.ignore()
             return
@@ -530,12 +535,12 @@ class MainWindow(QMainWindow):
         self.checks.shutdown()
         event.accept()
 
-    def dragEnterEvent(self, event: QDragEnterEvent) -> None:  # noqa: N802
+    def dragEnterEvent(self, event: QDragEnterEvent) -> None:
         urls = event.mimeData().urls()
         if urls and urls[0].isLocalFile():
             event.acceptProposedAction()
 
-    def dropEvent(self, event: QDropEvent) -> None:  # noqa: N802
+    def dropEvent(self, event: QDropEvent) -> None:
         urls = event.mimeData().urls()
         if urls and urls[0].isLocalFile():
             event.acceptProposedAction()

@@ -15,8 +15,8 @@ from shapely.geometry import Polygon
 
 from ..core.scene import Agent, Landmark, Obstacle, Room, Scene
 from . import edits
-from .edits import ObjKey
 from .editor import Editor
+from .edits import ObjKey
 from .fields import Field, NumberField, TextField
 
 KIND_TITLE = {"rooms": "Room", "obstacles": "Obstacle", "landmarks": "Landmark", "agents": "Agent"}
@@ -93,9 +93,16 @@ class PropertiesPanel(QScrollArea):
         for update in self._updaters:
             update(self.editor.scene)
 
-    def _add(self, form: QFormLayout, label: str, name: str, field: Field,
-             getter: Callable[[Scene], Any], setter: Callable[[Scene, Any], Scene | None],
-             text: str) -> None:
+    def _add(
+        self,
+        form: QFormLayout,
+        label: str,
+        name: str,
+        field: Field,
+        getter: Callable[[Scene], Any],
+        setter: Callable[[Scene, Any], Scene | None],
+        text: str,
+    ) -> None:
         field.setObjectName(f"field_{name}")
         self.fields[name] = field
         form.addRow(label, field)
@@ -120,16 +127,36 @@ class PropertiesPanel(QScrollArea):
 
     # -- forms -------------------------------------------------------------------------
     def _scene_form(self, form: QFormLayout) -> None:
-        self._add(form, "Name", "name", TextField(_nonempty("name")),
-                  lambda s: s.name, lambda s, v: replace(s, name=v), "Rename scene")
-        self._add(form, "Description", "description", TextField(),
-                  lambda s: s.description, lambda s, v: replace(s, description=v),
-                  "Edit description")
-        self._info(form, "Contents", lambda s: (
-            f"{len(s.rooms)} rooms, {len(s.obstacles)} obstacles, "
-            f"{len(s.landmarks)} landmarks, {len(s.agents)} agents"))
-        note = QLabel("Scenes and par times are simulation aids. Real robots near people need a "
-                      "site survey, a risk assessment and the local safety rules.")
+        self._add(
+            form,
+            "Name",
+            "name",
+            TextField(_nonempty("name")),
+            lambda s: s.name,
+            lambda s, v: replace(s, name=v),
+            "Rename scene",
+        )
+        self._add(
+            form,
+            "Description",
+            "description",
+            TextField(),
+            lambda s: s.description,
+            lambda s, v: replace(s, description=v),
+            "Edit description",
+        )
+        self._info(
+            form,
+            "Contents",
+            lambda s: (
+                f"{len(s.rooms)} rooms, {len(s.obstacles)} obstacles, "
+                f"{len(s.landmarks)} landmarks, {len(s.agents)} agents"
+            ),
+        )
+        note = QLabel(
+            "Scenes and par times are simulation aids. Real robots near people need a "
+            "site survey, a risk assessment and the local safety rules."
+        )
         note.setWordWrap(True)
         note.setProperty("role", "muted")
         form.addRow(note)
@@ -155,79 +182,218 @@ class PropertiesPanel(QScrollArea):
             self.editor._selection = (self._key,)  # keep the renamed object selected
             return new
 
-        self._add(form, "Id", "id", TextField(_id_problem),
-                  lambda s: (get(s).id if get(s) else ""), rename, "Rename")
+        self._add(
+            form,
+            "Id",
+            "id",
+            TextField(_id_problem),
+            lambda s: get(s).id if get(s) else "",
+            rename,
+            "Rename",
+        )
         if isinstance(obj, Room):
             self._polygon_info(form, get, lambda o: o.outline)
         elif isinstance(obj, Obstacle) and obj.circle is not None:
-            self._num(form, "Centre x", "cx", "m", get, put, lambda o: o.circle.center[0],
-                      lambda o, v: replace(o, circle=replace(o.circle, center=(v, o.circle.center[1]))))
-            self._num(form, "Centre y", "cy", "m", get, put, lambda o: o.circle.center[1],
-                      lambda o, v: replace(o, circle=replace(o.circle, center=(o.circle.center[0], v))))
-            self._num(form, "Radius", "radius", "m", get, put, lambda o: o.circle.radius,
-                      lambda o, v: replace(o, circle=replace(o.circle, radius=v)), positive=True)
+            self._num(
+                form,
+                "Centre x",
+                "cx",
+                "m",
+                get,
+                put,
+                lambda o: o.circle.center[0],
+                lambda o, v: replace(o, circle=replace(o.circle, center=(v, o.circle.center[1]))),
+            )
+            self._num(
+                form,
+                "Centre y",
+                "cy",
+                "m",
+                get,
+                put,
+                lambda o: o.circle.center[1],
+                lambda o, v: replace(o, circle=replace(o.circle, center=(o.circle.center[0], v))),
+            )
+            self._num(
+                form,
+                "Radius",
+                "radius",
+                "m",
+                get,
+                put,
+                lambda o: o.circle.radius,
+                lambda o, v: replace(o, circle=replace(o.circle, radius=v)),
+                positive=True,
+            )
         elif isinstance(obj, Obstacle):
             self._polygon_info(form, get, lambda o: o.outline)
         elif isinstance(obj, Landmark):
-            self._add(form, "Label", "label", TextField(_nonempty("label")),
-                      lambda s: get(s).label if get(s) else "",
-                      lambda s, v: put(s, replace(get(s), label=v)), "Edit label")
-            self._num(form, "x", "x", "m", get, put, lambda o: o.position[0],
-                      lambda o, v: replace(o, position=(v, o.position[1])), reseat=True)
-            self._num(form, "y", "y", "m", get, put, lambda o: o.position[1],
-                      lambda o, v: replace(o, position=(o.position[0], v)), reseat=True)
-            self._num(form, "Reach radius", "reach_radius", "m", get, put,
-                      lambda o: o.reach_radius, lambda o, v: replace(o, reach_radius=v),
-                      positive=True)
+            self._add(
+                form,
+                "Label",
+                "label",
+                TextField(_nonempty("label")),
+                lambda s: get(s).label if get(s) else "",
+                lambda s, v: put(s, replace(get(s), label=v)),
+                "Edit label",
+            )
+            self._num(
+                form,
+                "x",
+                "x",
+                "m",
+                get,
+                put,
+                lambda o: o.position[0],
+                lambda o, v: replace(o, position=(v, o.position[1])),
+                reseat=True,
+            )
+            self._num(
+                form,
+                "y",
+                "y",
+                "m",
+                get,
+                put,
+                lambda o: o.position[1],
+                lambda o, v: replace(o, position=(o.position[0], v)),
+                reseat=True,
+            )
+            self._num(
+                form,
+                "Reach radius",
+                "reach_radius",
+                "m",
+                get,
+                put,
+                lambda o: o.reach_radius,
+                lambda o, v: replace(o, reach_radius=v),
+                positive=True,
+            )
             self._mount(form, get, put)
         elif isinstance(obj, Agent):
-            self._num(form, "Radius", "radius", "m", get, put, lambda o: o.radius,
-                      lambda o, v: replace(o, radius=v), positive=True)
-            self._num(form, "Top speed", "max_speed", "m/s", get, put, lambda o: o.max_speed,
-                      lambda o, v: replace(o, max_speed=v), positive=True)
-            self._num(form, "Top turn rate", "max_turn_rate", "rad/s", get, put,
-                      lambda o: o.max_turn_rate, lambda o, v: replace(o, max_turn_rate=v),
-                      positive=True)
+            self._num(
+                form,
+                "Radius",
+                "radius",
+                "m",
+                get,
+                put,
+                lambda o: o.radius,
+                lambda o, v: replace(o, radius=v),
+                positive=True,
+            )
+            self._num(
+                form,
+                "Top speed",
+                "max_speed",
+                "m/s",
+                get,
+                put,
+                lambda o: o.max_speed,
+                lambda o, v: replace(o, max_speed=v),
+                positive=True,
+            )
+            self._num(
+                form,
+                "Top turn rate",
+                "max_turn_rate",
+                "rad/s",
+                get,
+                put,
+                lambda o: o.max_turn_rate,
+                lambda o, v: replace(o, max_turn_rate=v),
+                positive=True,
+            )
             if obj.start.pose is not None:
+
                 def pose(o: Agent, i: int, v: float) -> Agent:
                     p = list(o.start.pose)  # type: ignore[arg-type]
                     p[i] = v
                     return replace(o, start=replace(o.start, pose=tuple(p)))
 
-                self._num(form, "Start x", "start_x", "m", get, put,
-                          lambda o: o.start.pose[0], lambda o, v: pose(o, 0, v))
-                self._num(form, "Start y", "start_y", "m", get, put,
-                          lambda o: o.start.pose[1], lambda o, v: pose(o, 1, v))
-                self._num(form, "Heading", "heading", "°", get, put,
-                          lambda o: math.degrees(o.start.pose[2]),
-                          lambda o, v: pose(o, 2, math.radians(v)), digits=1)
+                self._num(
+                    form,
+                    "Start x",
+                    "start_x",
+                    "m",
+                    get,
+                    put,
+                    lambda o: o.start.pose[0],
+                    lambda o, v: pose(o, 0, v),
+                )
+                self._num(
+                    form,
+                    "Start y",
+                    "start_y",
+                    "m",
+                    get,
+                    put,
+                    lambda o: o.start.pose[1],
+                    lambda o, v: pose(o, 1, v),
+                )
+                self._num(
+                    form,
+                    "Heading",
+                    "heading",
+                    "°",
+                    get,
+                    put,
+                    lambda o: math.degrees(o.start.pose[2]),
+                    lambda o, v: pose(o, 2, math.radians(v)),
+                    digits=1,
+                )
             else:
                 self._polygon_info(form, get, lambda o: o.start.region, "Start region")
-                self._num(form, "Heading", "heading", "°", get, put,
-                          lambda o: None if o.start.heading is None
-                          else math.degrees(o.start.heading),
-                          lambda o, v: replace(o, start=replace(
-                              o.start, heading=None if v is None else math.radians(v))),
-                          optional=True, digits=1)
+                self._num(
+                    form,
+                    "Heading",
+                    "heading",
+                    "°",
+                    get,
+                    put,
+                    lambda o: None if o.start.heading is None else math.degrees(o.start.heading),
+                    lambda o, v: replace(
+                        o, start=replace(o.start, heading=None if v is None else math.radians(v))
+                    ),
+                    optional=True,
+                    digits=1,
+                )
 
-    def _num(self, form: QFormLayout, label: str, name: str, unit: str,
-             get: Callable[[Scene], Any], put: Callable[[Scene, Any], Scene],
-             read: Callable[[Any], Any], write: Callable[[Any, Any], Any],
-             positive: bool = False, optional: bool = False, digits: int = 3,
-             reseat: bool = False) -> None:
+    def _num(
+        self,
+        form: QFormLayout,
+        label: str,
+        name: str,
+        unit: str,
+        get: Callable[[Scene], Any],
+        put: Callable[[Scene, Any], Scene],
+        read: Callable[[Any], Any],
+        write: Callable[[Any, Any], Any],
+        positive: bool = False,
+        optional: bool = False,
+        digits: int = 3,
+        reseat: bool = False,
+    ) -> None:
         def setter(scene: Scene, value: Any) -> Scene:
             new = put(scene, write(get(scene), value))
             if reseat:
                 new = edits.reseat_wall_landmarks(new, {get(scene).id})
             return new
 
-        self._add(form, label, name,
-                  NumberField(unit, positive=positive, optional=optional, digits=digits),
-                  lambda s: read(get(s)) if get(s) is not None else None, setter,
-                  f"Edit {label.lower()}")
+        self._add(
+            form,
+            label,
+            name,
+            NumberField(unit, positive=positive, optional=optional, digits=digits),
+            lambda s: read(get(s)) if get(s) is not None else None,
+            setter,
+            f"Edit {label.lower()}",
+        )
 
-    def _mount(self, form: QFormLayout, get: Callable[[Scene], Any],
-               put: Callable[[Scene, Any], Scene]) -> None:
+    def _mount(
+        self, form: QFormLayout, get: Callable[[Scene], Any], put: Callable[[Scene, Any], Scene]
+    ) -> None:
         combo = QComboBox()
         combo.setObjectName("field_mount")
         combo.addItem("On a wall (kept on the wall line)", "wall")
@@ -255,8 +421,13 @@ class PropertiesPanel(QScrollArea):
 
         self._updaters.append(update)
 
-    def _polygon_info(self, form: QFormLayout, get: Callable[[Scene], Any],
-                      outline: Callable[[Any], Any], what: str = "Outline") -> None:
+    def _polygon_info(
+        self,
+        form: QFormLayout,
+        get: Callable[[Scene], Any],
+        outline: Callable[[Any], Any],
+        what: str = "Outline",
+    ) -> None:
         def text(scene: Scene) -> str:
             obj = get(scene)
             pts = outline(obj) if obj is not None else None
@@ -266,8 +437,10 @@ class PropertiesPanel(QScrollArea):
             return f"{len(pts)} vertices, {area:.2f} m²"
 
         self._info(form, what, text)
-        hint = QLabel("Drag a handle to move a vertex, double-click an edge to add one, "
-                      "Delete removes the picked vertex.")
+        hint = QLabel(
+            "Drag a handle to move a vertex, double-click an edge to add one, "
+            "Delete removes the picked vertex."
+        )
         hint.setWordWrap(True)
         hint.setProperty("role", "muted")
         form.addRow(hint)

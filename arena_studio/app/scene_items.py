@@ -11,13 +11,14 @@ import math
 from collections.abc import Sequence
 
 from PySide6.QtCore import QPointF, QRectF, Qt
-from PySide6.QtGui import QBrush, QColor, QFont, QPainter, QPainterPath, QPen, QPolygonF
+from PySide6.QtGui import QBrush, QColor, QPainter, QPainterPath, QPen, QPolygonF
 from PySide6.QtWidgets import QGraphicsItem, QStyleOptionGraphicsItem, QWidget
 from shapely.geometry import MultiPolygon, Polygon
 
-from ..core.geometry import obstacle_area, walkable_area
 from ..core.scene import Scene
+from ..render.scene_painter import SceneOptions, paint_scene
 from ..render.theme import Theme
+from ..render.view import ViewTransform
 from .edits import ObjKey, outline_of
 from .tools import Preview
 
@@ -59,7 +60,9 @@ def geometry_path(geom: object) -> QPainterPath:
     return path
 
 
-def draw_label(painter: QPainter, at: Point, text: str, color: QColor, dx: float = 9, dy: float = -7):
+def draw_label(
+    painter: QPainter, at: Point, text: str, color: QColor, dx: float = 9, dy: float = -7
+):
     """Upright text offset ``(dx, dy)`` pixels from a world point."""
     mpp = metres_per_pixel(painter)
     painter.save()
@@ -68,67 +71,6 @@ def draw_label(painter: QPainter, at: Point, text: str, color: QColor, dx: float
     painter.setPen(color)
     painter.drawText(QPointF(dx, dy), text)
     painter.restore()
-
-
-def paint_floor(painter: QPainter, scene: Scene, theme: Theme) -> None:
-    """Room fills (the joined walkable area), drawn under the grid."""
-    painter.setPen(Qt.PenStyle.NoPen)
-    painter.setBrush(theme.qcolor("room_fill"))
-    painter.drawPath(geometry_path(walkable_area(scene)))
-
-
-def paint_scene_objects(painter: QPainter, scene: Scene, theme: Theme) -> None:
-    """Walls, obstacles, start regions and poses, landmarks with labels."""
-    mpp = metres_per_pixel(painter)
-    painter.setBrush(Qt.BrushStyle.NoBrush)
-    painter.setPen(pen(theme.qcolor("wall"), 2.0))
-    painter.drawPath(geometry_path(walkable_area(scene)))
-    painter.setBrush(theme.qcolor("obstacle_fill"))
-    painter.setPen(pen(theme.qcolor("obstacle_edge"), 1.5))
-    painter.drawPath(geometry_path(obstacle_area(scene)))
-    for i, agent in enumerate(scene.agents):
-        color = theme.agent_color(i)
-        start = agent.start
-        if start.region is not None:
-            fill = QColor(color)
-            fill.setAlphaF(0.16)
-            painter.setBrush(fill)
-            painter.setPen(pen(color, 1.5, Qt.PenStyle.DashLine))
-            painter.drawPolygon(qpoly(start.region))
-            cx = sum(p[0] for p in start.region) / len(start.region)
-            cy = sum(p[1] for p in start.region) / len(start.region)
-            draw_label(painter, (cx, cy), agent.id, color, dx=-4 * len(agent.id), dy=4)
-        elif start.pose is not None:
-            x, y, h = start.pose
-            r = max(agent.radius, 5 * mpp)
-            fill = QColor(color)
-            fill.setAlphaF(0.28)
-            painter.setBrush(fill)
-            painter.setPen(pen(color, 2.0))
-            painter.drawEllipse(QPointF(x, y), r, r)
-            tip = QPointF(x + math.cos(h) * r * 1.9, y + math.sin(h) * r * 1.9)
-            painter.drawLine(QPointF(x, y), tip)
-            draw_label(painter, (x, y), agent.id, color, dx=r / mpp + 4, dy=14)
-    font = QFont(painter.font())
-    font.setPointSizeF(max(7.5, font.pointSizeF() * 0.9))
-    painter.setFont(font)
-    for lm in scene.landmarks:
-        role = "landmark_wall" if lm.mount == "wall" else "landmark_free"
-        color = theme.qcolor(role)
-        x, y = lm.position
-        ring = QColor(color)
-        ring.setAlphaF(0.55)
-        painter.setBrush(Qt.BrushStyle.NoBrush)
-        painter.setPen(pen(ring, 1.0, Qt.PenStyle.DotLine))
-        painter.drawEllipse(QPointF(x, y), lm.reach_radius, lm.reach_radius)
-        s = 6 * mpp
-        painter.setBrush(color)
-        painter.setPen(pen(theme.qcolor("room_fill"), 1.5))
-        if lm.mount == "wall":
-            painter.drawPolygon(qpoly([(x, y + s), (x + s, y), (x, y - s), (x - s, y)]))
-        else:
-            painter.drawEllipse(QPointF(x, y), s * 0.8, s * 0.8)
-        draw_label(painter, (x, y), lm.label, theme.qcolor("landmark_text"))
 
 
 class SceneLayer(QGraphicsItem):
@@ -144,21 +86,44 @@ class SceneLayer(QGraphicsItem):
         self.findings: list[object] = []
         self.preview: Preview | None = None
         self.highlight: tuple[int, ...] = ()  # landmark indices of a goal being shown
+        # The static scene is drawn by the same painter as stills and clips.
+        self.options = SceneOptions(grid=True, scale_bar=True, fill_background=False)
         self.setZValue(10)
 
-    def boundingRect(self) -> QRectF:  # noqa: N802 - Qt API
+    def boundingRect(self) -> QRectF:
         return WORLD
 
     def paint(
         self, painter: QPainter, option: QStyleOptionGraphicsItem, widget: QWidget | None = None
     ) -> None:
         painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
-        scene, theme = self.scene_value, self.theme
-        paint_scene_objects(painter, scene, theme)
+        t = painter.worldTransform()
+        view = ViewTransform(math.hypot(t.m11(), t.m12()), t.dx(), t.dy())
+        size = (float(widget.width()), float(widget.height())) if widget else (1600.0, 1000.0)
+        painter.save()
+        painter.resetTransform()
+        paint_scene(painter, self.scene_value, view, self.theme, self.options, size)
+        painter.restore()
+        self._paint_agent_ids(painter)
         self._paint_highlight(painter)
         self._paint_selection(painter)
         self._paint_findings(painter)
         self._paint_preview(painter)
+
+    def _paint_agent_ids(self, painter: QPainter) -> None:
+        mpp = metres_per_pixel(painter)
+        color = self.theme.qcolor("start")
+        for agent in self.scene_value.agents:
+            start = agent.start
+            if start.pose is not None:
+                at = (start.pose[0], start.pose[1])
+                dx = agent.radius / mpp + 6
+            elif start.region:
+                at = (min(p[0] for p in start.region), max(p[1] for p in start.region))
+                dx = 2
+            else:
+                continue
+            draw_label(painter, at, agent.id, color, dx=dx, dy=-6)
 
     def _paint_highlight(self, painter: QPainter) -> None:
         mpp = metres_per_pixel(painter)

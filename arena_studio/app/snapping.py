@@ -60,7 +60,7 @@ def snap_point(
     xy: Point,
     grid_step: float,
     tolerance: float,
-    settings: SnapSettings = SnapSettings(),  # noqa: B008 - frozen value
+    settings: SnapSettings = SnapSettings(),
     exclude: ObjKey | None = None,
 ) -> Snap:
     if not settings.enabled:
