@@ -169,6 +169,7 @@ class PathPlanner:
         self._routes: dict[tuple[int, int], tuple[Route | None, str | None]] = {}
         self._samples: dict[int, tuple[np.ndarray, str | None]] = {}
         self._legs: dict[tuple[float, bytes], tuple[np.ndarray, np.ndarray]] = {}
+        self._gaps: dict[tuple[float, int, int], float] = {}
 
     # -- caches --------------------------------------------------------------------------
     def graph(self, radius: float) -> VisibilityGraph:
@@ -253,6 +254,37 @@ class PathPlanner:
         if reason is not None:
             reason = reason.replace("{landmark}", f"point ({goal[0, 0]:g}, {goal[0, 1]:g})")
         return route, reason
+
+    def landmark_gap(self, radius: float, from_index: int, to_index: int) -> float:
+        """Shortest free-space distance from one landmark's reach region to another's.
+
+        A lower bound on the travel between visiting the two: the minimum over the first
+        region's vertices (arcs within 1 mm) and the point nearest the second region of the
+        distance into the second region; inf when they lie in different free-space parts.
+        Symmetric (the smaller of both directions) and cached.
+        """
+        i, j = sorted((int(from_index), int(to_index)))
+        key = (float(radius), i, j)
+        if key in self._gaps:
+            return self._gaps[key]
+        if i == j:
+            self._gaps[key] = 0.0
+            return 0.0
+        best = math.inf
+        graph = self.graph(radius)
+        for a, b in ((i, j), (j, i)):
+            source = self.field(radius, a).target
+            goal = self.field(radius, b)
+            if source.is_empty or goal.target.is_empty:
+                continue
+            verts = np.unique(shapely.get_coordinates(source), axis=0)
+            near = shapely.get_coordinates(shapely.shortest_line(source, goal.target))[:1]
+            for pts in (verts, near):
+                costs, _ = self._costs(graph, goal, pts)
+                if costs.size:
+                    best = min(best, float(np.min(costs)))
+        self._gaps[key] = best
+        return best
 
     # -- internals -----------------------------------------------------------------------
     def _route_from_points(
