@@ -168,9 +168,10 @@ class Rollout:
             s_in = -b - math.sqrt(disc)
             if 0 <= s_in < length:
                 stop = s_in
-        goal = end + u * stop
-        if self._guard_free[agent].covers(LineString([end, goal])):
-            return goal
+        for frac in (1.0, 0.5, 0.25, 0.1, 0.05):
+            goal = end + u * stop * frac
+            if self._guard_free[agent].covers(LineString([end, goal])):
+                return goal
         return np.asarray(end, dtype=np.float64)
 
     # -- starts ------------------------------------------------------------------------------
