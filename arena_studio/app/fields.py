@@ -39,6 +39,8 @@ class Field(QWidget):
         col.addLayout(row)
         col.addWidget(self.message)
         self._shown = ""
+        # Optional: applies a parsed value and returns a problem text when the model refuses it.
+        self.apply: Callable[[object], str | None] | None = None
         self.edit.editingFinished.connect(self.commit)
 
     def parse(self, text: str) -> object:  # raise ValueError with a user-facing message
@@ -63,6 +65,11 @@ class Field(QWidget):
         except ValueError as exc:
             self.show_error(str(exc))
             return False
+        if self.apply is not None:
+            problem = self.apply(value)
+            if problem:
+                self.show_error(problem)
+                return False
         self._clear_error()
         self._shown = text
         self.committed.emit(value)

@@ -42,6 +42,16 @@ def launch_app(args: argparse.Namespace) -> int:
         opened = window.open_path(path)
         if not opened and screenshot:
             return 2
+        if screenshot and Path(path).suffix.lower() == ".tape":
+            from .replay import prepare_screenshot
+
+            window.resize(*SCREENSHOT_SIZE)
+            problem = prepare_screenshot(
+                window, getattr(args, "episode", None), getattr(args, "time", None)
+            )
+            if problem:
+                print(f"arena-studio: {problem}", file=sys.stderr)
+                return 2
     elif not window.document.dirty:
         window.open_demo()
     if screenshot:

@@ -68,7 +68,9 @@ class MainWindow(QMainWindow):
         self.theme: Theme = load_theme(name if name in THEMES else "light")
 
         self.document = SceneDocument(Scene(name="Untitled scene"))
+        self.document.setParent(self)
         self.editor = Editor(self.document)
+        self.editor.setParent(self)
         self.canvas = EditorCanvas(self.theme, self.editor)
         self.modes = QStackedWidget()
         self.modes.addWidget(self.canvas)
@@ -77,6 +79,7 @@ class MainWindow(QMainWindow):
         self.setAcceptDrops(True)
 
         self.checks = CheckRunner()
+        self.checks.setParent(self)
         self.findings: list[object] = []
         self._build_panels()
         self.actions_by_id: dict[str, QAction] = {}
@@ -223,8 +226,8 @@ class MainWindow(QMainWindow):
         doc = self.document
         doc.changed.connect(self._on_document_changed)
         doc.path_changed.connect(self._update_title)
-        doc.undo_stack.cleanChanged.connect(lambda _c: self._update_title())
-        doc.undo_stack.indexChanged.connect(lambda _i: self._update_actions())
+        doc.undo_stack.cleanChanged.connect(self._update_title)
+        doc.undo_stack.indexChanged.connect(self._update_actions)
         self.editor.selection_changed.connect(self._update_actions)
         self.editor.status_message.connect(self.show_message)
         self.editor.tool_changed.connect(lambda name: self.actions_by_id[name].setChecked(True))
@@ -243,13 +246,12 @@ class MainWindow(QMainWindow):
         self._update_title()
         self._update_actions()
 
-    def _update_title(self) -> None:
+    def _update_title(self, *_args: object) -> None:
         mark = " •" if self.document.dirty else ""
         self.setWindowTitle(f"{self.document.display_name}{mark} — arena_studio")
-        self.setWindowModified(self.document.dirty)
         self._update_actions()
 
-    def _update_actions(self) -> None:
+    def _update_actions(self, *_args: object) -> None:
         for spec in ACTIONS:
             if spec.enabled:
                 self.actions_by_id[spec.id].setEnabled(self._conditions[spec.enabled]())

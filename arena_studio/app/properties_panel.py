@@ -107,16 +107,16 @@ class PropertiesPanel(QScrollArea):
         self.fields[name] = field
         form.addRow(label, field)
 
-        def commit(value: Any) -> None:
+        def commit(value: Any) -> str | None:
             try:
                 new = setter(self.editor.scene, value)
             except ValueError as exc:
-                field.show_error(str(exc))
-                return
+                return str(exc)
             if new is not None:
                 self.editor.apply(new, text)
+            return None
 
-        field.committed.connect(commit)
+        field.apply = commit
         self._updaters.append(lambda scene: field.set_value(getter(scene)))
 
     def _info(self, form: QFormLayout, label: str, getter: Callable[[Scene], str]) -> None:
