@@ -258,33 +258,34 @@ class PathPlanner:
     def landmark_gap(self, radius: float, from_index: int, to_index: int) -> float:
         """Shortest free-space distance from one landmark's reach region to another's.
 
-        A lower bound on the travel between visiting the two: the minimum over the first
-        region's vertices (arcs within 1 mm) and the point nearest the second region of the
-        distance into the second region; inf when they lie in different free-space parts.
-        Symmetric (the smaller of both directions) and cached.
+        A lower bound on the travel between visiting the two. A shortest path between two
+        regions is either one straight leg or bends at graph nodes, so the gap is the smaller
+        of: min over nodes v of (distance from v to the first region + distance from v to the
+        second), both from the cached fields; and the clear straight legs between the regions
+        (the nearest pair of points, and each region's corners into the other). inf when they
+        lie in different free-space parts; 0 when they overlap. Cached, symmetric.
         """
         i, j = sorted((int(from_index), int(to_index)))
         key = (float(radius), i, j)
         if key in self._gaps:
             return self._gaps[key]
-        if i == j:
-            self._gaps[key] = 0.0
-            return 0.0
-        best = math.inf
-        graph = self.graph(radius)
-        for a, b in ((i, j), (j, i)):
-            source = self.field(radius, a).target
-            goal = self.field(radius, b)
-            if source.is_empty or goal.target.is_empty:
-                continue
-            verts = np.unique(shapely.get_coordinates(source), axis=0)
-            near = shapely.get_coordinates(shapely.shortest_line(source, goal.target))[:1]
-            for pts in (verts, near):
-                costs, _ = self._costs(graph, goal, pts)
-                if costs.size:
-                    best = min(best, float(np.min(costs)))
-        self._gaps[key] = best
-        return best
+        first, second = self.field(radius, i), self.field(radius, j)
+        if first.target.is_empty or second.target.is_empty:
+            gap = math.inf
+        elif i == j or first.target.intersects(second.target):
+            gap = 0.0
+        else:
+            graph = self.graph(radius)
+            gap = float(np.min(first.dist + second.dist)) if graph.node_count else math.inf
+            pair = shapely.get_coordinates(shapely.shortest_line(first.target, second.target))
+            if bool(graph.clear(pair[:1], pair[1:2])[0]):
+                gap = min(gap, float(np.hypot(*(pair[1] - pair[0]))))
+            for src, dst in ((first, second), (second, first)):
+                if src.corners.size:
+                    legs, _ = _best_straight_leg(graph, dst.target, dst.corners, src.corners)
+                    gap = min(gap, float(np.min(legs)))
+        self._gaps[key] = gap
+        return gap
 
     # -- internals -----------------------------------------------------------------------
     def _route_from_points(
