@@ -19,6 +19,7 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any, Literal
 
+import numpy as np
 from shapely.errors import GEOSException
 
 from .scene import Scene
@@ -121,7 +122,8 @@ def check_scene(scene: Scene) -> list[Finding]:
     found: list[Finding] = []
     for group in groups:
         try:
-            found.extend(group(scene))
+            with np.errstate(all="ignore"):  # overflow at extreme coordinates -> findings
+                found.extend(group(scene))
         except (GEOSException, ValueError, ArithmeticError) as exc:
             # Extreme coordinates can defeat GEOS; say so instead of crashing the editor.
             found.append(
