@@ -1,5 +1,26 @@
 """Replay viewer: step through recorded episodes of a tape with overlays, events and plots.
 
 Widgets here are standalone (each testable with hand-made :class:`Episode` objects) and are
-put together by :mod:`.workspace` into the replay mode of the main window.
+put together by :class:`.replay_window.ReplayWindow`, the replay page of the main window.
+The main window calls :func:`open_tape` for ``.tape`` files; ``--screenshot`` calls
+:func:`prepare_screenshot`.
 """
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any
+
+
+def open_tape(window: Any, path: str | Path) -> bool:
+    """Open ``path`` in the replay page of ``window`` (created on first use)."""
+    from .integration import open_tape_in_window
+
+    return open_tape_in_window(window, Path(path))
+
+
+def prepare_screenshot(window: Any, episode: int | None, seconds: float | None) -> str | None:
+    """Show episode ``episode`` at ``seconds``; returns an error line, or None when ready."""
+    from .integration import prepare_screenshot as prepare
+
+    return prepare(window, episode, seconds)

@@ -78,12 +78,17 @@ class Occupancy:
     seconds: np.ndarray  # (ny, nx) float64, row 0 at miny
 
     @classmethod
-    def empty(cls, scene: Scene, cells_across: int = 80) -> Occupancy:
+    def empty(cls, scene: Scene, cells_across: int = 48) -> Occupancy:
         minx, miny, maxx, maxy = bounds(scene, 0.0)
         cell = max(maxx - minx, maxy - miny, 1e-6) / cells_across
         nx = max(int(np.ceil((maxx - minx) / cell)), 1)
         ny = max(int(np.ceil((maxy - miny) / cell)), 1)
         return cls((minx, miny, minx + nx * cell, miny + ny * cell), cell, np.zeros((ny, nx)))
+
+    def dt_floor(self) -> float:
+        """A small positive time unit for the log scale (one step of the finest tape)."""
+        positive = self.seconds[self.seconds > 0]
+        return float(positive.min()) if positive.size else 1.0
 
     def add(self, poses: np.ndarray, dt: float) -> None:
         """Add every agent position of one episode (``poses`` (T, A, 3)), ``dt`` s each."""

@@ -115,7 +115,14 @@ class GoalGrid(QWidget):
             Qt.AlignmentFlag.AlignLeft,
             "Success by goal (row + column = a two-target goal)",
         )
+        y0 += 18.0  # column heads
         p.setPen(theme.qcolor("text_muted"))
+        for j, text in enumerate(labels):
+            p.drawText(
+                QRectF(x0 + j * cell, y0 - 18, cell, 16),
+                Qt.AlignmentFlag.AlignCenter,
+                fm.elidedText(text, Qt.TextElideMode.ElideRight, int(cell - 2)),
+            )
         for i, text in enumerate(labels):
             y = y0 + i * cell
             p.drawText(
@@ -128,16 +135,6 @@ class GoalGrid(QWidget):
             j = stat.goal[-1]
             rect = QRectF(x0 + j * cell + 1, y0 + i * cell + 1, cell - 2, cell - 2)
             self._paint_cell(p, rect, stat, diagonal=(i == j))
-        # column heads under the triangle's diagonal, one letter-width tag per column
-        for j, text in enumerate(labels):
-            rect = QRectF(x0 + j * cell, y0 + j * cell + cell, cell, 16)
-            if j < n - 1 and cell > 34:
-                p.setPen(theme.qcolor("text_muted"))
-                p.drawText(
-                    rect,
-                    Qt.AlignmentFlag.AlignCenter,
-                    fm.elidedText(text, Qt.TextElideMode.ElideRight, int(cell)),
-                )
         if large:
             y = self.height() - 32.0
             w = max((self.width() - 8) / len(large), 40)
@@ -256,8 +253,12 @@ class OccupancyView(QWidget):
         occ = self._occ
         if occ is None or not np.any(occ.seconds > 0):
             return None
-        share = np.sqrt(occ.seconds / occ.seconds.max())
-        alpha = np.flipud(np.clip(share * 235, 0, 255)).astype(np.uint8)  # row 0 at the top
+        # log scale: a few seconds in a cell show, hours in another do not drown them
+        share = np.log1p(occ.seconds / occ.dt_floor()) / np.log1p(
+            occ.seconds.max() / occ.dt_floor()
+        )
+        share = np.where(occ.seconds > 0, 0.25 + 0.75 * share, 0.0)
+        alpha = np.flipud(np.clip(share * 230, 0, 255)).astype(np.uint8)  # row 0 at the top
         color = self._theme.qcolor("selection")
         h, w = alpha.shape
         rgba = np.empty((h, w, 4), dtype=np.uint8)

@@ -7,8 +7,11 @@ decoded. Stale results (the user already picked another episode) are dropped by 
 
 from __future__ import annotations
 
+import atexit
+import contextlib
 import threading
 import time
+import weakref
 from collections.abc import Callable, Iterator
 from typing import Any
 
@@ -16,6 +19,15 @@ from PySide6.QtCore import QObject, QThread, Signal
 
 BATCH_SECONDS = 0.1
 BATCH_MAX = 200
+_LIVE: weakref.WeakSet[StreamWorker] = weakref.WeakSet()
+
+
+@atexit.register
+def stop_all_workers() -> None:
+    """Stop running workers before Python exits (Qt aborts on a running QThread's delete)."""
+    for worker in list(_LIVE):
+        with contextlib.suppress(RuntimeError):  # the C++ object may already be gone
+            worker.stop()
 
 
 class StreamWorker(QThread):
@@ -34,6 +46,7 @@ class StreamWorker(QThread):
         super().__init__(parent)
         self._produce = produce
         self._total = total
+        _LIVE.add(self)
 
     def run(self) -> None:
         batch: list[Any] = []

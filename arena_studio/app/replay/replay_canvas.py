@@ -98,6 +98,7 @@ class ReplayCanvas(SceneCanvas):
         self.show_clock = True
         self._hover_agent: int | None = None
         self._hover_pos = None
+        self.auto_fit = True  # keep the scene fitted on resize until the user zooms or pans
 
     # -- content -----------------------------------------------------------------------
     def set_episode(self, scene: Scene, prepared: PreparedEpisode | None) -> None:
@@ -154,6 +155,46 @@ class ReplayCanvas(SceneCanvas):
         cache = episode_cache(self.scene_value, ep)
         step = min(max(self.step, 0), cache.steps - 1)
         return cache.xy[step].copy()
+
+    # -- fitting -----------------------------------------------------------------------
+    def legend_room(self) -> float:
+        """Pixels kept free on the right for the legend."""
+        ep = self.layer_episode.episode
+        shown = self.show_legend and ep is not None and self.viewport().width() > 520
+        return LEGEND_W + 20.0 if shown else 0.0
+
+    def fit_scene(self, margin_px: float = 36.0) -> None:
+        """Fit the scene into the part of the view the legend leaves free."""
+        from PySide6.QtGui import QTransform
+
+        from ...core.geometry import bounds
+        from ..canvas import MAX_PPM, MIN_PPM
+
+        room = self.legend_room()
+        minx, miny, maxx, maxy = bounds(self.scene_value)
+        w, h = max(maxx - minx, 1.0), max(maxy - miny, 1.0)
+        vw = max(self.viewport().width() - room - 2 * margin_px, 40.0)
+        vh = max(self.viewport().height() - 2 * margin_px - 30.0, 40.0)  # 30: clock line
+        s = min(max(min(vw / w, vh / h), MIN_PPM), MAX_PPM)
+        self.setTransform(QTransform.fromScale(s, -s))
+        cx = (minx + maxx) / 2 + room / 2 / s
+        cy = (miny + maxy) / 2 + 15.0 / s
+        self.centerOn(QPointF(cx, cy))
+        self.zoom_changed.emit(s)
+
+    def resizeEvent(self, event) -> None:
+        super().resizeEvent(event)
+        if self.auto_fit and self.viewport().width() > 50:
+            self.fit_scene()
+
+    def zoom_by(self, factor: float) -> None:
+        self.auto_fit = False
+        super().zoom_by(factor)
+
+    def mousePressEvent(self, event: QMouseEvent) -> None:
+        if self._starts_pan(event):
+            self.auto_fit = False
+        super().mousePressEvent(event)
 
     # -- overlays in screen pixels -----------------------------------------------------
     def drawForeground(self, painter: QPainter, rect: QRectF) -> None:

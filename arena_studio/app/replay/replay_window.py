@@ -62,6 +62,7 @@ class ReplayWindow(QMainWindow):
         self._pending_index: int | None = None
         self._pending_step: int | None = None
         self._first_episode = True
+        self.scene_checks_done: set[tuple[str, str, str]] = set()
         self.clock = PlaybackClock(self)
         self.replay_actions = build_actions(self.clock, self)
         for action in self.replay_actions.values():
@@ -115,18 +116,26 @@ class ReplayWindow(QMainWindow):
         )
         self.tabifyDockWidget(self.dock_plots, self.dock_batch)
         self.dock_plots.raise_()
+        self.setCorner(Qt.Corner.BottomLeftCorner, Qt.DockWidgetArea.LeftDockWidgetArea)
         self._docks_sized = False
 
     def showEvent(self, event) -> None:
         super().showEvent(event)
         if not self._docks_sized:  # give the canvas most of the room on first show
             self._docks_sized = True
-            h, w = self.height(), self.width()
-            self.resizeDocks([self.dock_plots], [max(int(h * 0.28), 160)], Qt.Orientation.Vertical)
-            self.resizeDocks(
-                [self.dock_episodes], [min(max(int(w * 0.3), 340), 560)], Qt.Orientation.Horizontal
-            )
-            QTimer.singleShot(0, self.canvas.fit_scene)
+            QTimer.singleShot(0, self._size_docks)
+
+    def _size_docks(self) -> None:
+        h, w = self.height(), self.width()
+        self.resizeDocks(
+            [self.dock_plots, self.dock_batch],
+            [max(int(h * 0.27), 170)] * 2,
+            Qt.Orientation.Vertical,
+        )
+        self.resizeDocks(
+            [self.dock_episodes], [min(max(int(w * 0.3), 340), 560)], Qt.Orientation.Horizontal
+        )
+        self.fit_views()
 
     def _dock(self, title: str, widget: QWidget, area: Qt.DockWidgetArea) -> QDockWidget:
         dock = QDockWidget(title, self)
@@ -192,7 +201,7 @@ class ReplayWindow(QMainWindow):
         self.action_check_scene = action(
             "Check a scene file against this tape…", None, self.check_scene_file_dialog
         )
-        self.action_fit = action("Fit scene", "F", lambda: self.canvas.fit_scene())
+        self.action_fit = action("Fit scene", "F", self.fit_views)
 
     def replay_menu_actions(self) -> list[QAction | None]:
         """Actions for the main window's Replay menu (None = separator)."""
@@ -318,7 +327,7 @@ class ReplayWindow(QMainWindow):
         self.plots.set_episode(scene, prepared)
         if self._first_episode:
             self._first_episode = False
-            self.canvas.fit_scene()
+            self.fit_views()
         if step is not None:
             self.clock.seek(step)
         self.canvas.set_step(self.clock.step)
@@ -345,6 +354,11 @@ class ReplayWindow(QMainWindow):
         if step is not None:
             self.clock.pause()
             self.clock.seek(step)
+
+    def fit_views(self) -> None:
+        for canvas in (self.canvas, self.canvas_b):
+            canvas.auto_fit = True
+            canvas.fit_scene()
 
     # -- verdict line ------------------------------------------------------------------
     def _apply_verdict_style(self) -> None:

@@ -1,0 +1,173 @@
+"""How the replay page plugs into the main window: page, Replay menu, mode switching.
+
+The main window knows only :func:`arena_studio.app.replay.open_tape`; everything else (the
+page, its menu, enabling the playback keys only while the page is shown, handing a scene copy
+to the layout editor, warning about a scene file that differs from the tape's) lives here.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any
+
+from PySide6.QtWidgets import QApplication, QMenu
+
+from ...core.errors import ArenaError
+from .replay_window import ReplayWindow
+
+PAGE_ATTR = "replay_page"
+MODE = "replay"
+
+
+def replay_page(window: Any) -> ReplayWindow:
+    """The window's replay page, built (with its menu) on first use."""
+    page = getattr(window, PAGE_ATTR, None)
+    if isinstance(page, ReplayWindow):
+        return page
+    page = ReplayWindow(window.theme)
+    setattr(window, PAGE_ATTR, page)
+    window.add_mode(MODE, page)
+    page.statusMessage.connect(window.show_message)
+    page.openSceneInEditor.connect(lambda scene: open_scene_copy(window, scene))
+    _build_menu(window, page)
+    app = QApplication.instance()
+    if app is not None:
+        app.aboutToQuit.connect(page.close_tape)
+    modes = getattr(window, "modes", None)
+    if modes is not None:
+        modes.currentChanged.connect(lambda _i: _sync_enabled(window, page))
+    document = getattr(window, "document", None)
+    if document is not None and hasattr(document, "path_changed"):
+        document.path_changed.connect(lambda: _on_document_path(window))
+    theme_action = getattr(window, "actions_by_id", {}).get("view.dark")
+    if theme_action is not None:
+        theme_action.toggled.connect(lambda dark: page.set_theme("dark" if dark else "light"))
+    return page
+
+
+def _build_menu(window: Any, page: ReplayWindow) -> None:
+    menu = QMenu("&Replay", window)
+    show = menu.addAction("Show Replay")
+    show.triggered.connect(lambda _c=False: window.set_mode(MODE))
+    menu.addSeparator()
+    for action in page.replay_menu_actions():
+        if action is None:
+            menu.addSeparator()
+        else:
+            menu.addAction(action)
+    clip = _clip_action(window, page)
+    if clip is not None:
+        menu.addSeparator()
+        menu.addAction(clip)
+    window.menuBar().addMenu(menu)
+    page.replay_menu = menu
+
+
+def _clip_action(window: Any, page: ReplayWindow):
+    """'Export clip…' when the clip dialog is part of this build."""
+    try:
+        from .. import clip_dialog
+    except ImportError:
+        return None
+    opener = getattr(clip_dialog, "open_clip_dialog", None) or getattr(
+        clip_dialog, "ClipDialog", None
+    )
+    if opener is None:
+        return None
+    from PySide6.QtGui import QAction
+
+    action = QAction("Export Clip…", page)
+
+    def run() -> None:
+        if page.session is None or page.prepared is None:
+            return
+        dialog = opener(
+            page,
+            page.session.tape,
+            page.prepared.episode.index,
+        )
+        if hasattr(dialog, "exec"):
+            dialog.exec()
+
+    action.triggered.connect(lambda _c=False: run())
+    return action
+
+
+def _sync_enabled(window: Any, page: ReplayWindow) -> None:
+    """Playback keys work only while the replay page is shown (the editor owns them else)."""
+    shown = window.modes.currentWidget() is page
+    page.set_actions_enabled(shown and page.session is not None)
+    findings = getattr(window, "docks", {}).get("findings")
+    if findings is not None:  # the editor's findings are about the edited scene, not the tape
+        findings.setVisible(not shown)
+    if not shown:
+        page.clock.pause()
+
+
+def open_tape_in_window(window: Any, path: Path) -> bool:
+    page = replay_page(window)
+    try:
+        page.open_tape(path)
+    except (ArenaError, OSError, ValueError) as exc:
+        window.dialogs.error("Cannot open tape", f"{exc}\n\nNothing else was changed.")
+        return False
+    window.set_mode(MODE)
+    _sync_enabled(window, page)
+    window.setWindowTitle(f"{path.name} - arena-studio replay")
+    window.show_message(f"Opened {path.name}: {len(page.session)} episodes")
+    return True
+
+
+def open_scene_copy(window: Any, scene: Any) -> None:
+    """Give the layout editor an unsaved copy of the tape's scene (the tape stays as it is)."""
+    if not window.maybe_keep_changes():
+        return
+    window.document.reset(scene, None, dirty=True)
+    window.set_mode("layout")
+    window.canvas.fit_scene()
+    window.show_message("Editing a copy of the tape's scene; save it under a new name.")
+
+
+def _on_document_path(window: Any) -> None:
+    """A scene file was opened in the editor while a tape is open: warn when they differ."""
+    page = getattr(window, PAGE_ATTR, None)
+    path = getattr(window.document, "path", None)
+    if isinstance(page, ReplayWindow) and page.session is not None and path is not None:
+        scene = window.document.scene
+        key = (str(path), scene.content_hash(), str(page.session.path))
+        if key in page.scene_checks_done:  # saving the same file again: said it already
+            return
+        page.scene_checks_done.add(key)
+        page.warn_if_scene_differs(scene, Path(path))
+
+
+def _show_moment(page: ReplayWindow, episode: int | None, seconds: float | None) -> str | None:
+    assert page.session is not None
+    count = len(page.session)
+    if count == 0:
+        return "the tape has no episodes"
+    index = 0 if episode is None else int(episode)
+    if not 0 <= index < count:
+        return f"--episode {index}: the tape has episodes 0 to {count - 1}"
+    page.select_episode(index)
+    if not page.wait_loaded(60000) or page.prepared is None:
+        return f"episode {index} did not load"
+    if seconds is not None:
+        ep = page.prepared.episode
+        if seconds < 0 or seconds > ep.duration + 1e-9:
+            return f"--time {seconds:g}: episode {index} lasts {ep.duration:.2f} s"
+        page.clock.seek_time(seconds)
+    return None
+
+
+def prepare_screenshot(window: Any, episode: int | None, seconds: float | None) -> str | None:
+    page = getattr(window, PAGE_ATTR, None)
+    if not isinstance(page, ReplayWindow) or page.session is None:
+        return "no tape is open"
+    problem = _show_moment(page, episode, seconds)
+    if problem:
+        page.close_tape()
+        return problem
+    page.session.wait_summaries(30000)
+    QApplication.processEvents()
+    return None
