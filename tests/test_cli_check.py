@@ -81,11 +81,17 @@ def test_json_for_a_clean_scene(capsys) -> None:
         (lambda d: _write(d / "bin.scene.json", os.urandom(64) + b"\xff"), "not UTF-8"),
         (lambda d: _write(d / "bin.scene.msgpack", b"\xc1\xc1\xc1"), "msgpack"),
         (lambda d: _write(d / "empty.scene.json", b""), "empty"),
-        (lambda d: _write(d / "cut.scene.json", b'{"format": "arena-studio.scene", "ver'),
-         "invalid JSON at line 1"),
+        (
+            lambda d: _write(d / "cut.scene.json", b'{"format": "arena-studio.scene", "ver'),
+            "invalid JSON at line 1",
+        ),
         (lambda d: _write(d / "notes.txt", b"hello"), "unknown scene file type"),
-        (lambda d: _write(d / "old.scene.json", b'{"format": "arena-studio.scene", '
-                                                 b'"version": 9}'), "newer"),
+        (
+            lambda d: _write(
+                d / "old.scene.json", b'{"format": "arena-studio.scene", "version": 9}'
+            ),
+            "newer",
+        ),
     ],
 )
 def test_unreadable_input_one_line_exit_2(capsys, tmp_path: Path, make, words: str) -> None:
@@ -124,7 +130,10 @@ def test_real_process_exit_codes_and_no_traceback(tmp_path: Path) -> None:
     for path, expected in cases:
         proc = subprocess.run(
             [sys.executable, "-m", "arena_studio", "check", str(path)],
-            capture_output=True, text=True, timeout=120, env=env,
+            capture_output=True,
+            text=True,
+            timeout=120,
+            env=env,
         )
         assert proc.returncode == expected, proc.stderr
         assert "Traceback" not in proc.stderr

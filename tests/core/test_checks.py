@@ -159,8 +159,9 @@ def test_clean_square_scene_has_no_findings() -> None:
     assert check_scene(square_scene()) == []
 
 
-@pytest.mark.parametrize(("x", "off"), [(4.0, False), (3.96, False), (4.04, False),
-                                        (3.94, True), (3.5, True)])
+@pytest.mark.parametrize(
+    ("x", "off"), [(4.0, False), (3.96, False), (4.04, False), (3.94, True), (3.5, True)]
+)
 def test_wall_landmark_tolerance(x: float, off: bool) -> None:
     # Perpendicular distance from (x, 2) to the wall line x = 4 is |4 - x|; tolerance 5 cm.
     lm = spot("w", x, 2.0, reach=0.6, mount="wall")
@@ -175,17 +176,20 @@ def test_wall_landmark_on_obstacle_outline_is_on_a_wall() -> None:
     # A sign on a pillar: the circle's top point (2, 2.5 + 0.3) lies on the obstacle outline.
     pillar = Obstacle("pillar", circle=Circle((2.0, 2.5), 0.3))
     lm = spot("sign", 2.0, 2.8, reach=0.7, mount="wall")
-    found = codes(check_scene(square_scene(obstacles=(pillar,), landmarks=(lm,),
-                                           agents=(bot("r1", 1, 1),))))
+    found = codes(
+        check_scene(square_scene(obstacles=(pillar,), landmarks=(lm,), agents=(bot("r1", 1, 1),)))
+    )
     assert "landmark-off-wall" not in found and "landmark-unreachable" not in found
 
 
 @pytest.mark.parametrize(
     ("reach", "expect"),
-    [(0.25, {"reach-radius-too-small", "landmark-unreachable"}),
-     (0.3, {"reach-radius-too-small"}),
-     (0.32, {"reach-radius-tight"}),
-     (0.5, set())],
+    [
+        (0.25, {"reach-radius-too-small", "landmark-unreachable"}),
+        (0.3, {"reach-radius-too-small"}),
+        (0.32, {"reach-radius-tight"}),
+        (0.5, set()),
+    ],
 )
 def test_reach_radius_of_wall_landmark(reach: float, expect: set[str]) -> None:
     # Agent radius 0.3 against a straight wall: its centre gets no closer than 0.3 m, so the
@@ -205,12 +209,14 @@ def two_rooms(door_width: float) -> tuple[Room, ...]:
     )
 
 
-@pytest.mark.parametrize(("door", "radius", "reachable"),
-                         [(0.8, 0.3, True), (0.8, 0.45, False), (1.0, 0.45, True)])
+@pytest.mark.parametrize(
+    ("door", "radius", "reachable"), [(0.8, 0.3, True), (0.8, 0.45, False), (1.0, 0.45, True)]
+)
 def test_doorway_narrower_than_agent(door: float, radius: float, reachable: bool) -> None:
     # A disc of diameter 2r passes a doorway of width w iff 2r < w (hand geometry).
-    scene = square_scene(rooms=two_rooms(door), landmarks=(spot("far", 6, 2),),
-                         agents=(bot("r1", 1, 2, radius),))
+    scene = square_scene(
+        rooms=two_rooms(door), landmarks=(spot("far", 6, 2),), agents=(bot("r1", 1, 2, radius),)
+    )
     found = codes(check_scene(scene))
     assert ("landmark-unreachable" not in found) is reachable
     if not reachable:
@@ -224,8 +230,9 @@ def test_disconnected_rooms() -> None:
     assert f.object_id == "east" and "'west'" in f.message
     # Touching along an edge joins them (OGC union); touching at a corner point does not.
     corner = (Room("a", box(0, 0, 4, 4)), Room("b", box(4, 4, 8, 8)))
-    assert "rooms-disconnected" not in codes(check_scene(
-        square_scene(rooms=(Room("a", box(0, 0, 4, 4)), Room("b", box(4, 0, 8, 4))))))
+    assert "rooms-disconnected" not in codes(
+        check_scene(square_scene(rooms=(Room("a", box(0, 0, 4, 4)), Room("b", box(4, 0, 8, 4)))))
+    )
     assert "rooms-disconnected" in codes(check_scene(square_scene(rooms=corner)))
 
 
@@ -238,8 +245,9 @@ def test_start_checks() -> None:
         bot("twin-b", 3.5, 3.0),  # 0.5 m apart < 0.3 + 0.3
         Agent("half-out", 0.3, 1, 1, Start(region=box(3, 0, 5, 2))),
     )
-    found = codes(check_scene(square_scene(obstacles=(crate,), agents=agents,
-                                           landmarks=(spot("a", 2, 2),))))
+    found = codes(
+        check_scene(square_scene(obstacles=(crate,), agents=agents, landmarks=(spot("a", 2, 2),)))
+    )
     outside = {f.object_id: f.message for f in found["start-outside-free-space"]}
     assert "inside obstacle 'crate'" in outside["in-crate"]
     assert "closer to a wall" in outside["near-wall"]
@@ -260,8 +268,9 @@ def test_goal_needs_more_agents_only_for_simultaneous_rules() -> None:
     lms = (spot("a", 1, 1), spot("b", 3, 1), spot("c", 1, 3))
     agents = (bot("r1", 2, 2), bot("r2", 3, 3))
     for rule, expect in (("all_at_once", True), ("all_at_end", True), ("all_visited", False)):
-        scene = square_scene(landmarks=lms, agents=agents,
-                             goals=GoalSpec(rule=rule, families=(1, 3)))  # type: ignore[arg-type]
+        scene = square_scene(
+            landmarks=lms, agents=agents, goals=GoalSpec(rule=rule, families=(1, 3))
+        )  # type: ignore[arg-type]
         found = codes(check_scene(scene))
         assert ("goal-needs-more-agents" in found) is expect, rule
         if expect:
@@ -278,10 +287,12 @@ def test_explicit_vector_index_after_families() -> None:
     # L = 4, families [1, 2]: C(4,1) + C(4,2) = 10 goals come first (itertools order);
     # a duplicate 2-hot vector is not new, the 3-hot one is goal 10.
     lms = tuple(spot(n, x, 1) for n, x in zip("abcd", (0.6, 1.6, 2.6, 3.4), strict=True))
-    goals = GoalSpec(rule="all_at_once", families=(1, 2),
-                     vectors=((1, 1, 0, 0), (1, 1, 1, 0)))
-    found = codes(check_scene(square_scene(landmarks=lms, goals=goals,
-                                           agents=(bot("r1", 2, 3), bot("r2", 3, 3)))))
+    goals = GoalSpec(rule="all_at_once", families=(1, 2), vectors=((1, 1, 0, 0), (1, 1, 1, 0)))
+    found = codes(
+        check_scene(
+            square_scene(landmarks=lms, goals=goals, agents=(bot("r1", 2, 3), bot("r2", 3, 3)))
+        )
+    )
     n_family = sum(1 for k in (1, 2) for _ in itertools.combinations(range(4), k))
     assert n_family == math.comb(4, 1) + math.comb(4, 2) == 10
     assert found["goal-duplicate"][0].goal_index is None
@@ -294,14 +305,19 @@ def test_goal_no_assignment_when_only_one_agent_gets_through() -> None:
     lms = (spot("near", 1, 1), spot("far1", 6, 1), spot("far2", 6, 3))
     agents = (bot("small", 1, 2, 0.2), bot("big", 2, 3, 0.45))
     goals = GoalSpec(rule="all_at_once", families=(1,), vectors=((0, 1, 1),))
-    found = codes(check_scene(square_scene(rooms=two_rooms(0.8), landmarks=lms,
-                                           agents=agents, goals=goals)))
+    found = codes(
+        check_scene(square_scene(rooms=two_rooms(0.8), landmarks=lms, agents=agents, goals=goals))
+    )
     (f,) = found["goal-no-assignment"]
     assert f.severity == "error" and f.goal_index == 3
     assert {f.object_id for f in found["landmark-unreachable-by-agent"]} == {"far1", "far2"}
     # Under all_visited the small agent may visit both, one after the other.
-    visited = square_scene(rooms=two_rooms(0.8), landmarks=lms, agents=agents,
-                           goals=GoalSpec(rule="all_visited", families=(1,), vectors=((0, 1, 1),)))
+    visited = square_scene(
+        rooms=two_rooms(0.8),
+        landmarks=lms,
+        agents=agents,
+        goals=GoalSpec(rule="all_visited", families=(1,), vectors=((0, 1, 1),)),
+    )
     assert "goal-no-assignment" not in codes(check_scene(visited))
 
 
@@ -311,8 +327,10 @@ def test_zero_weights() -> None:
 
 
 def test_obstacle_outside_rooms_and_landmark_checks() -> None:
-    obstacles = (Obstacle("far", outline=box(10, 10, 11, 11)),
-                 Obstacle("crate", outline=box(2.5, 0.5, 3.5, 1.5)))
+    obstacles = (
+        Obstacle("far", outline=box(10, 10, 11, 11)),
+        Obstacle("crate", outline=box(2.5, 0.5, 3.5, 1.5)),
+    )
     lms = (spot("out", 6, 2), spot("boxed", 3, 1), spot("ok", 1, 1))
     found = codes(check_scene(square_scene(obstacles=obstacles, landmarks=lms)))
     assert [f.object_id for f in found["obstacle-outside-rooms"]] == ["far"]
@@ -335,16 +353,17 @@ def test_extreme_coordinates_do_not_crash() -> None:
 
 
 @settings(max_examples=60, deadline=None)
-@given(st.lists(st.lists(st.booleans(), min_size=5, max_size=5), min_size=1, max_size=5),
-       st.sets(st.integers(0, 4), min_size=1))
+@given(
+    st.lists(st.lists(st.booleans(), min_size=5, max_size=5), min_size=1, max_size=5),
+    st.sets(st.integers(0, 4), min_size=1),
+)
 def test_assignment_matches_networkx(table: list[list[bool]], targets: set[int]) -> None:
     # Reference: networkx Hopcroft-Karp maximum bipartite matching (agents x targets).
     g = nx.Graph()
     tnodes = [("t", t) for t in targets]
     g.add_nodes_from(tnodes)
     g.add_nodes_from(("a", a) for a in range(len(table)))
-    g.add_edges_from((("a", a), ("t", t)) for a, row in enumerate(table) for t in targets
-                     if row[t])
+    g.add_edges_from((("a", a), ("t", t)) for a, row in enumerate(table) for t in targets if row[t])
     ref = nx.bipartite.hopcroft_karp_matching(g, top_nodes=tnodes)
     expected = sum(1 for node in ref if node[0] == "t")
     rows = tuple(tuple(r) for r in table)

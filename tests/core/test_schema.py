@@ -20,8 +20,9 @@ from arena_studio.core.scene import Scene
 from .test_scene_roundtrip import scene_docs
 
 REPO = Path(__file__).resolve().parents[2]
-SCENE_FILES = sorted((REPO / "scenes").glob("*.scene.json")) + [
-    REPO / "tests" / "data" / "broken.scene.json"  # broken in meaning, well-formed in shape
+SCENE_FILES = [
+    *sorted((REPO / "scenes").glob("*.scene.json")),
+    REPO / "tests" / "data" / "broken.scene.json",  # broken in meaning, well-formed in shape
 ]
 
 
@@ -45,16 +46,16 @@ def known_gap(doc: Any) -> bool:
     closing point repeats the first, and weights lists whose length differs from their list."""
     if isinstance(doc, dict):
         for key, value in doc.items():
-            if key in ("outline", "region") and isinstance(value, list) and len(value) == 3:
-                if value[0] == value[-1]:
-                    return True
-            if key == "weights" and isinstance(value, dict) and isinstance(doc, dict):
+            ring = key in ("outline", "region") and isinstance(value, list) and len(value) == 3
+            if ring and value[0] == value[-1]:
+                return True
+            if key == "weights" and isinstance(value, dict):
                 for name in ("families", "vectors"):
                     listed = doc.get(name, [])
                     given_w = value.get(name)
-                    if isinstance(given_w, list) and isinstance(listed, list):
-                        if len(given_w) != len(listed):
-                            return True
+                    lists = isinstance(given_w, list) and isinstance(listed, list)
+                    if lists and len(given_w) != len(listed):
+                        return True
             if known_gap(value):
                 return True
     elif isinstance(doc, list):
