@@ -18,112 +18,36 @@ Visual language (our own design):
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
 from functools import lru_cache
 
 import numpy as np
 from PySide6.QtCore import QPointF, QRectF, Qt
-from PySide6.QtGui import QColor, QPainter, QPainterPath, QPen, QPolygonF, QStaticText
+from PySide6.QtGui import QPainter, QPen, QStaticText
 
 from ..core.episode import Episode
-from ..core.roles import HEADING, HOLDING, IDLE, MOVING, OFF_GOAL, ROLE_NAMES
 from ..core.scene import Scene
 from .drawing import font, label
 from .episode_cache import EpisodeCache, episode_cache
 from .fastpath import polylines_path, segments_path
+from .legend import paint_banner, paint_clock, paint_legend
+from .options import FrameOptions
+from .role_style import (
+    STYLE_HOLLOW,
+    agent_styles,
+    ink_for,
+    paint_role_mark,
+    show_numbers,
+)
 from .theme import Theme
 from .view import ViewTransform
 
-#: role styles: how each derived role code is drawn
-STYLE_PLAIN, STYLE_RING, STYLE_DOUBLE, STYLE_HOLLOW, STYLE_BADGE, STYLE_SQUARE, STYLE_DASH = range(
-    7
-)
-DERIVED_STYLE = {
-    MOVING: STYLE_PLAIN,
-    HEADING: STYLE_RING,
-    HOLDING: STYLE_DOUBLE,
-    IDLE: STYLE_HOLLOW,
-    OFF_GOAL: STYLE_BADGE,
-}
-#: tape labels take these styles in order of first appearance
-TAPE_STYLES = (STYLE_RING, STYLE_DOUBLE, STYLE_HOLLOW, STYLE_BADGE, STYLE_SQUARE, STYLE_DASH)
-#: above this many agents, bodies carry their number
-NUMBER_ABOVE = 6
-
-
-@dataclass(frozen=True)
-class FrameOptions:
-    """What an episode frame shows. Sizes in pixels are multiplied by ``ui_scale``."""
-
-    theme: str = "light"
-    trails: bool = True
-    trail_seconds: float = 4.0
-    trail_bands: int = 4
-    roles: str = "auto"  # "auto" (tape labels when present), "derived", "tape", "none"
-    team_goal: bool = True
-    pursued: bool = True
-    par_paths: bool = False
-    collisions: bool = True
-    numbers: str = "auto"  # "auto" (beyond 6 agents), "always", "never"
-    legend: bool = True
-    clock: bool = True
-    title: str | None = None
-    caption: str | None = None
-    grid: bool = False
-    scale_bar: bool = True
-    landmark_labels: bool = True
-    ui_scale: float | None = None  # None: from the output height (720 px = 1.0)
-
-
-def role_source(cache: EpisodeCache, options: FrameOptions) -> str:
-    if options.roles == "auto":
-        return "tape" if cache.tape_labels else "derived"
-    return options.roles
-
-
-def role_legend(cache: EpisodeCache, options: FrameOptions) -> list[tuple[int, str]]:
-    """(style, name) rows for the legend, in the order the roles are defined."""
-    source = role_source(cache, options)
-    if source == "derived":
-        return [(DERIVED_STYLE[c], ROLE_NAMES[c]) for c in range(len(ROLE_NAMES))]
-    if source == "tape":
-        return [
-            (TAPE_STYLES[i % len(TAPE_STYLES)], name) for i, name in enumerate(cache.tape_labels)
-        ]
-    return []
-
-
-def agent_styles(cache: EpisodeCache, step: int, options: FrameOptions) -> np.ndarray:
-    """(A,) style codes at ``step``."""
-    source = role_source(cache, options)
-    if source == "derived":
-        lut = np.array([DERIVED_STYLE[c] for c in range(len(ROLE_NAMES))], dtype=np.int16)
-        return lut[cache.roles[step]]
-    if source == "tape":
-        codes = cache.tape_codes[step]
-        lut = np.array(TAPE_STYLES, dtype=np.int16)
-        return np.where(codes >= 0, lut[np.maximum(codes, 0) % len(TAPE_STYLES)], STYLE_PLAIN)
-    return np.full(cache.agents, STYLE_PLAIN, dtype=np.int16)
-
-
-def show_numbers(agents: int, options: FrameOptions) -> bool:
-    if options.numbers == "always":
-        return True
-    if options.numbers == "never":
-        return False
-    return agents > NUMBER_ABOVE
-
-
-def ink_for(color: QColor) -> QColor:
-    """Black or white, whichever contrasts more with ``color`` (WCAG relative luminance)."""
-
-    def lin(c: float) -> float:
-        return c / 12.92 if c <= 0.04045 else ((c + 0.055) / 1.055) ** 2.4
-
-    lum = 0.2126 * lin(color.redF()) + 0.7152 * lin(color.greenF()) + 0.0722 * lin(color.blueF())
-    return (
-        QColor(17, 17, 17) if (lum + 0.05) / 0.05 > 1.05 / (lum + 0.05) else QColor(255, 255, 255)
-    )
+__all__ = [
+    "FrameOptions",
+    "paint_banner",
+    "paint_clock",
+    "paint_episode_frame",
+    "paint_legend",
+]
 
 
 @lru_cache(maxsize=4096)
@@ -369,207 +293,3 @@ def paint_agents(
                 QPointF(c.x() + r + 1, c.y() - r - 10 * ui),
                 _static_number(str(a + 1), num_font.pixelSize()),
             )
-
-
-def paint_role_mark(
-    painter: QPainter, c: QPointF, r: float, style: int, color: QColor, theme: Theme, ui: float
-) -> None:
-    """The role channel around a body of radius ``r`` centred at ``c`` (see module docstring)."""
-    if style == STYLE_PLAIN:
-        return
-    painter.setBrush(Qt.BrushStyle.NoBrush)
-    gap = 2.5 * ui
-    if style in (STYLE_RING, STYLE_BADGE, STYLE_DASH):
-        pen = QPen(color, 1.4 * ui)
-        if style == STYLE_DASH:
-            pen.setStyle(Qt.PenStyle.DashLine)
-        painter.setPen(pen)
-        painter.drawEllipse(c, r + gap, r + gap)
-    elif style == STYLE_DOUBLE:
-        painter.setPen(QPen(color, 1.4 * ui))
-        painter.drawEllipse(c, r + gap, r + gap)
-        painter.drawEllipse(c, r + gap + 3.0 * ui, r + gap + 3.0 * ui)
-    elif style == STYLE_HOLLOW:
-        pen = QPen(color, 1.3 * ui)
-        pen.setStyle(Qt.PenStyle.DotLine)
-        painter.setPen(pen)
-        painter.drawEllipse(c, r + gap, r + gap)
-    if style == STYLE_BADGE:
-        s = max(5.0 * ui, r * 0.55)
-        bx, by = c.x() + r * 0.8, c.y() - r * 0.8
-        tri = QPolygonF(
-            [QPointF(bx, by - s), QPointF(bx + s, by + s * 0.75), QPointF(bx - s, by + s * 0.75)]
-        )
-        painter.setPen(QPen(color, 1.2 * ui))
-        painter.setBrush(theme.qcolor("warning"))
-        painter.drawPolygon(tri)
-    elif style == STYLE_SQUARE:
-        s = max(4.0 * ui, r * 0.45)
-        painter.setPen(QPen(color, 1.2 * ui))
-        painter.setBrush(theme.qcolor("info"))
-        painter.drawRect(QRectF(c.x() + r * 0.8 - s, c.y() - r * 0.8 - s, 2 * s, 2 * s))
-
-
-# -- frame decorations: legend, clock, title, caption ---------------------------------------
-def paint_clock(
-    painter: QPainter, rect: QRectF, episode: Episode, step: int, theme: Theme, ui: float
-) -> None:
-    """Elapsed / total seconds and the step, top left of ``rect``."""
-    step = int(min(max(step, 0), max(episode.steps - 1, 0)))
-    text = f"{step * episode.dt:6.2f} s / {episode.duration:.2f} s"
-    sub = f"step {step} of {max(episode.steps - 1, 0)}  ·  episode {episode.index}"
-    box = label(
-        painter,
-        text,
-        QPointF(rect.x() + 10 * ui, rect.y() + 16 * ui),
-        font(15 * ui, True),
-        theme.qcolor("text"),
-        theme.qcolor("background", alpha=0.85),
-    )
-    label(
-        painter,
-        sub,
-        QPointF(rect.x() + 10 * ui, box.bottom() + 9 * ui),
-        font(11 * ui),
-        theme.qcolor("text_muted"),
-        theme.qcolor("background", alpha=0.85),
-    )
-
-
-def paint_banner(
-    painter: QPainter, rect: QRectF, text: str, theme: Theme, px: float, bold: bool
-) -> None:
-    """A strip of text centred in ``rect`` (title line or caption line)."""
-    painter.save()
-    painter.setFont(font(px, bold))
-    painter.setPen(theme.qcolor("text"))
-    painter.drawText(rect, Qt.AlignmentFlag.AlignCenter | Qt.TextFlag.TextSingleLine, text)
-    painter.restore()
-
-
-def paint_legend(
-    painter: QPainter,
-    rect: QRectF,
-    scene: Scene,
-    episode: Episode,
-    theme: Theme,
-    options: FrameOptions,
-    ui: float,
-) -> None:
-    """Identity colours, role glyphs and overlay keys, top-down inside ``rect``."""
-    cache = episode_cache(scene, episode)
-    painter.save()
-    painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
-    painter.setPen(QPen(theme.qcolor("grid_major"), 1.0))
-    painter.setBrush(theme.qcolor("room_fill"))
-    painter.drawRoundedRect(rect, 6 * ui, 6 * ui)
-    x = rect.x() + 12 * ui
-    y = rect.y() + 18 * ui
-    row = 20 * ui
-    head, body = font(12 * ui, bold=True), font(11.5 * ui)
-    text, muted = theme.qcolor("text"), theme.qcolor("text_muted")
-    r = 6.0 * ui
-    bottom = rect.bottom() - row
-
-    def heading(t: str) -> None:
-        nonlocal y
-        label(painter, t, QPointF(x, y), head, muted, None)
-        y += row
-
-    heading("Agents")
-    numbers = show_numbers(cache.agents, options)
-    max_rows = max(1, int((rect.height() * 0.45) // row))
-    for a in range(cache.agents):
-        if a >= max_rows and cache.agents > max_rows + 1:
-            label(
-                painter,
-                f"+ {cache.agents - a} more (colours repeat, numbered)",
-                QPointF(x, y),
-                body,
-                muted,
-                None,
-            )
-            y += row
-            break
-        c = QPointF(x + r, y)
-        painter.setPen(QPen(theme.qcolor("background"), 1.0))
-        painter.setBrush(theme.agent_color(a))
-        painter.drawEllipse(c, r, r)
-        name = scene.agents[a].id if a < len(scene.agents) else f"agent {a + 1}"
-        label(
-            painter,
-            f"{a + 1}  {name}" if numbers or cache.agents > 1 else name,
-            QPointF(x + 2 * r + 8 * ui, y),
-            body,
-            text,
-            None,
-        )
-        y += row
-    rows = role_legend(cache, options)
-    if rows and y < bottom - row:
-        y += row * 0.4
-        heading("Roles" + (" (tape)" if role_source(cache, options) == "tape" else ""))
-        for style, name in rows:
-            if y > bottom:
-                break
-            c = QPointF(x + r + 2 * ui, y)
-            hollow = style == STYLE_HOLLOW
-            painter.setPen(
-                QPen(theme.qcolor("background"), 1.0)
-                if not hollow
-                else QPen(theme.qcolor("text_muted"), 2.0 * ui)
-            )
-            painter.setBrush(theme.qcolor("text_muted", alpha=0.35 if hollow else 1.0))
-            painter.drawEllipse(c, r, r)
-            paint_role_mark(painter, c, r, style, text, theme, ui)
-            label(painter, name, QPointF(x + 2 * r + 12 * ui, y), body, text, None)
-            y += row
-    keys = _overlay_keys(cache, options)
-    if keys and y < bottom - row:
-        y += row * 0.4
-        heading("Marks")
-        for kind, name in keys:
-            if y > bottom:
-                break
-            _paint_key(painter, kind, QPointF(x + r, y), r, theme, ui)
-            label(painter, name, QPointF(x + 2 * r + 12 * ui, y), body, text, None)
-            y += row
-    painter.restore()
-
-
-def _overlay_keys(cache: EpisodeCache, options: FrameOptions) -> list[tuple[str, str]]:
-    keys: list[tuple[str, str]] = []
-    if options.team_goal and cache.has_team_goal:
-        keys.append(("target", "team-goal target"))
-    if options.pursued and cache.pursued.any():
-        keys.append(("pursued", "pursued, on team goal"))
-        keys.append(("pursued_off", "pursued, not on goal"))
-    if options.collisions and len(cache.collisions):
-        keys.append(("collision", "contact began"))
-    if options.par_paths and cache.par_time_paths():
-        keys.append(("par", "par-time path"))
-    return keys
-
-
-def _paint_key(painter: QPainter, kind: str, c: QPointF, r: float, theme: Theme, ui: float) -> None:
-    painter.setBrush(Qt.BrushStyle.NoBrush)
-    if kind == "target":
-        painter.setBrush(theme.qcolor("target_highlight", alpha=0.2))
-        painter.setPen(QPen(theme.qcolor("target_highlight"), 2.5 * ui))
-        painter.drawEllipse(c, r, r)
-        return
-    if kind == "collision":
-        painter.setPen(QPen(theme.qcolor("error"), 2.0 * ui))
-        painter.drawLine(QPointF(c.x() - r, c.y() - r), QPointF(c.x() + r, c.y() + r))
-        painter.drawLine(QPointF(c.x() - r, c.y() + r), QPointF(c.x() + r, c.y() - r))
-        return
-    pen = QPen(theme.qcolor("text"), 1.6 * ui)
-    if kind == "pursued_off":
-        pen.setStyle(Qt.PenStyle.DashLine)
-    if kind == "par":
-        pen = QPen(theme.qcolor("path"), 1.6 * ui)
-        pen.setStyle(Qt.PenStyle.DashDotLine)
-    painter.setPen(pen)
-    path = QPainterPath(QPointF(c.x() - r * 1.2, c.y()))
-    path.lineTo(QPointF(c.x() + r * 1.6, c.y()))
-    painter.drawPath(path)

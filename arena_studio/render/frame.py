@@ -37,7 +37,10 @@ class FrameLayout:
     size: tuple[int, int]
     ui: float
     scene_rect: QRectF
-    panel_rect: QRectF | None
+    panel_rect: QRectF | None  # side panel or bottom strip (clock + legend)
+    legend_rect: QRectF | None
+    clock_rect: QRectF | None
+    legend_columns: bool
     title_rect: QRectF | None
     caption_rect: QRectF | None
     view: ViewTransform
@@ -51,26 +54,51 @@ def ui_scale_for(size: tuple[int, int], options: FrameOptions) -> float:
 
 
 def frame_layout(scene: Scene, size: tuple[int, int], options: FrameOptions) -> FrameLayout:
+    """Scene area plus a panel for clock and legend: at the right, or as a strip below the
+    scene when that leaves the scene larger (square and narrow frames, side-by-side halves)."""
     w, h = size
     if w < 16 or h < 16:
         raise ValueError(f"frame size {w}x{h} is too small (16x16 at least)")
     ui = ui_scale_for(size, options)
     top = 36.0 * ui if options.title else 0.0
     bottom = 30.0 * ui if options.caption else 0.0
-    panel_w = min(max(0.2 * w, 170.0 * ui), 250.0 * ui) if (options.legend or options.clock) else 0
-    if panel_w > 0.45 * w:
-        panel_w = 0.45 * w
-    scene_rect = QRectF(0, top, w - panel_w, h - top - bottom)
-    panel = QRectF(w - panel_w, top, panel_w, h - top - bottom) if panel_w else None
-    view = ViewTransform.fit_scene(scene, scene_rect, margin_px=14.0 * ui)
+    body_h = h - top - bottom
+    margin = 14.0 * ui
+    title_rect = QRectF(0, 0, w, top) if top else None
+    caption_rect = QRectF(0, h - bottom, w, bottom) if bottom else None
+    if not (options.legend or options.clock):
+        rect = QRectF(0, top, w, body_h)
+        view = ViewTransform.fit_scene(scene, rect, margin_px=margin)
+        return FrameLayout(size, ui, rect, None, None, None, False, title_rect, caption_rect, view)
+    panel_w = min(min(max(0.2 * w, 170.0 * ui), 250.0 * ui), 0.45 * w)
+    side = QRectF(0, top, w - panel_w, body_h)
+    strip_h = min((150.0 if options.legend else 60.0) * ui, 0.4 * body_h)
+    under = QRectF(0, top, w, body_h - strip_h)
+    view_side = ViewTransform.fit_scene(scene, side, margin_px=margin)
+    view_under = ViewTransform.fit_scene(scene, under, margin_px=margin)
+    gap = 8.0 * ui
+    if view_under.scale > 1.1 * view_side.scale:
+        panel = QRectF(0, under.bottom(), w, strip_h)
+        clock_w = 230.0 * ui if options.clock else 0.0
+        clock = QRectF(panel.x(), panel.y(), clock_w, 60 * ui) if options.clock else None
+        legend = (
+            QRectF(panel.x() + clock_w + gap, panel.y(), w - clock_w - 2 * gap, strip_h - gap)
+            if options.legend
+            else None
+        )
+        return FrameLayout(
+            size, ui, under, panel, legend, clock, True, title_rect, caption_rect, view_under
+        )
+    panel = QRectF(w - panel_w, top, panel_w, body_h)
+    clock = QRectF(panel.x(), panel.y(), panel_w, 60 * ui) if options.clock else None
+    legend_top = panel.y() + (70.0 * ui if options.clock else gap)
+    legend = (
+        QRectF(panel.x() + 6 * ui, legend_top, panel_w - 14 * ui, panel.bottom() - legend_top - gap)
+        if options.legend
+        else None
+    )
     return FrameLayout(
-        size=(w, h),
-        ui=ui,
-        scene_rect=scene_rect,
-        panel_rect=panel,
-        title_rect=QRectF(0, 0, w, top) if top else None,
-        caption_rect=QRectF(0, h - bottom, w, bottom) if bottom else None,
-        view=view,
+        size, ui, side, panel, legend, clock, False, title_rect, caption_rect, view_side
     )
 
 
@@ -114,16 +142,17 @@ def paint_static(
     )
     if layout.panel_rect is not None:
         painter.fillRect(layout.panel_rect, theme.qcolor("background"))
-        if options.legend:
-            p = layout.panel_rect
-            top = p.y() + (70.0 * layout.ui if options.clock else 8.0 * layout.ui)
-            legend = QRectF(
-                p.x() + 6 * layout.ui,
-                top,
-                p.width() - 14 * layout.ui,
-                p.bottom() - top - 8 * layout.ui,
-            )
-            paint_legend(painter, legend, scene, episode, theme, options, layout.ui)
+    if layout.legend_rect is not None:
+        paint_legend(
+            painter,
+            layout.legend_rect,
+            scene,
+            episode,
+            theme,
+            options,
+            layout.ui,
+            columns=layout.legend_columns,
+        )
     if layout.title_rect is not None and options.title:
         paint_banner(painter, layout.title_rect, options.title, theme, 18 * layout.ui, True)
     if layout.caption_rect is not None and options.caption:
@@ -144,9 +173,8 @@ def paint_dynamic(
     painter.setClipRect(layout.scene_rect)
     paint_episode_frame(painter, scene, episode, step, layout.view, theme, opts)
     painter.restore()
-    if options.clock:
-        rect = layout.panel_rect if layout.panel_rect is not None else layout.scene_rect
-        paint_clock(painter, rect, episode, step, theme, layout.ui)
+    if layout.clock_rect is not None:
+        paint_clock(painter, layout.clock_rect, episode, step, theme, layout.ui)
 
 
 class FrameRenderer:

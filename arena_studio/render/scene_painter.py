@@ -22,7 +22,7 @@ from PySide6.QtGui import QBrush, QFontMetricsF, QPainter, QPainterPath, QPen, Q
 from shapely.geometry import Point, Polygon
 from shapely.ops import unary_union
 
-from ..core.geometry import obstacle_geometry, walkable_area
+from ..core.geometry import bounds, obstacle_geometry, walkable_area
 from ..core.scene import Landmark, Scene
 from .drawing import font, geometry_path, label, nice_step
 from .theme import Theme
@@ -69,7 +69,12 @@ def paint_scene(
         paint_starts(painter, scene, view, theme, opts.ui_scale)
     paint_landmarks(painter, scene, view, theme, opts, (w, h))
     if opts.scale_bar:
-        paint_scale_bar(painter, view, theme, (w, h), opts.ui_scale)
+        # just under the drawn scene (not far below it in a tall frame), inside the image
+        minx, miny, _, _ = bounds(scene)
+        corner = view.to_px(minx, miny)
+        y = min(h - 16.0 * opts.ui_scale, corner.y() + 28.0 * opts.ui_scale)
+        x = max(16.0 * opts.ui_scale, corner.x())
+        paint_scale_bar(painter, view, theme, (w, h), opts.ui_scale, (x, y))
     painter.restore()
 
 
@@ -173,12 +178,14 @@ def paint_scale_bar(
     theme: Theme,
     size: tuple[float, float],
     ui_scale: float = 1.0,
+    at: tuple[float, float] | None = None,
 ) -> None:
-    """A 1-2-5 metre bar about a sixth of the image wide, bottom left."""
+    """A 1-2-5 metre bar about a sixth of the image wide; its left end at ``at`` (pixels),
+    by default the bottom left corner."""
     w, h = size
     metres = nice_step(w / 6 / view.scale)
     length = view.length_px(metres)
-    x, y = 16.0 * ui_scale, h - 16.0 * ui_scale
+    x, y = at if at is not None else (16.0 * ui_scale, h - 16.0 * ui_scale)
     pen = QPen(theme.qcolor("scale_bar"), 2.0 * ui_scale)
     pen.setCapStyle(Qt.PenCapStyle.FlatCap)
     painter.setPen(pen)

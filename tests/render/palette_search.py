@@ -48,7 +48,9 @@ def views(rgb: np.ndarray) -> list[np.ndarray]:
     return out
 
 
-def main(theme: str, n: int = 6, seed: int = 1, iters: int = 40000) -> None:
+def main(
+    theme: str, n: int = 6, seed: int = 1, iters: int = 40000, min_chroma: float = 30.0
+) -> None:
     doc = json.loads((ROOT / "resources" / "palettes" / f"{theme}.json").read_text())
     lums = [relative_luminance(hex_rgb(doc["colors"][k])) for k in ("background", "room_fill")]
     g = np.arange(0, 256, 8) / 255.0
@@ -57,6 +59,8 @@ def main(theme: str, n: int = 6, seed: int = 1, iters: int = 40000) -> None:
     ok = np.ones(len(rgb), bool)
     for lb in lums:
         ok &= contrast(lum, lb) >= 3.3  # a little headroom over 3:1
+    jch = cspace_convert(rgb, "sRGB1", "JCh")
+    ok &= jch[:, 1] >= min_chroma  # CIECAM02 chroma: keep the palette colourful
     rgb = rgb[ok]
     vs = views(rgb)
     weights = (1 / 20, 1 / 15, 1 / 15, 1 / 15)
@@ -87,9 +91,18 @@ def main(theme: str, n: int = 6, seed: int = 1, iters: int = 40000) -> None:
         if s > best:
             best_idx, best = idx, s
     assert best_idx is not None
-    hexes = ["#" + "".join(f"{round(c * 255):02X}" for c in rgb[i]) for i in best_idx]
+    # two extra colours (agents 7 and 8 also carry numbers): farthest from the six, normal vision
+    chosen = list(best_idx)
+    for _ in range(2):
+        d = np.sqrt(((vs[0][:, None] - vs[0][chosen][None]) ** 2).sum(-1)).min(1)
+        chosen.append(int(d.argmax()))
+    hexes = ["#" + "".join(f"{round(c * 255):02X}" for c in rgb[i]) for i in chosen]
     print(theme, "score", round(best, 3), hexes)
 
 
 if __name__ == "__main__":
-    main(sys.argv[1] if len(sys.argv) > 1 else "light")
+    main(
+        sys.argv[1] if len(sys.argv) > 1 else "light",
+        seed=int(sys.argv[2]) if len(sys.argv) > 2 else 1,
+        min_chroma=float(sys.argv[3]) if len(sys.argv) > 3 else 30.0,
+    )

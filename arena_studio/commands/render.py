@@ -1,0 +1,198 @@
+"""``arena-studio render TAPE -o OUT``: clips (.mp4, .gif, PNG folder) and stills (.png, .svg)."""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+
+from ..core.errors import ArenaError
+from .common import EXIT_OK, EXIT_UNREADABLE, CommandError, error_line, warning_line
+
+HELP = "render episodes of a tape to a clip (.mp4, .gif, PNG folder) or a still (.png, .svg)"
+
+
+def add_arguments(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("tape", help="tape file (.tape)")
+    parser.add_argument(
+        "-o",
+        "--output",
+        required=True,
+        metavar="OUT",
+        help="OUT.mp4, OUT.gif, a new folder for numbered PNGs, or OUT.png / OUT.svg for a still",
+    )
+    what = parser.add_argument_group("what to show")
+    what.add_argument(
+        "--episode",
+        type=int,
+        nargs="+",
+        default=[0],
+        metavar="N",
+        help="episode index (several: one after another; default 0)",
+    )
+    what.add_argument(
+        "--compare",
+        type=int,
+        nargs=2,
+        metavar=("A", "B"),
+        help="two episodes side by side on one timeline",
+    )
+    what.add_argument("--start", type=float, default=0.0, help="start time in seconds")
+    what.add_argument("--end", type=float, default=None, help="end time in seconds")
+    what.add_argument("--time", type=float, default=0.0, help="time of a still (seconds)")
+    look = parser.add_argument_group("look")
+    look.add_argument(
+        "--size",
+        default="720p",
+        help="720p (1280x720), 1080p (1920x1080), square (1080x1080) or WxH",
+    )
+    look.add_argument("--theme", choices=("light", "dark"), default="light")
+    look.add_argument(
+        "--trail",
+        type=float,
+        default=4.0,
+        metavar="SECONDS",
+        help="trail length in seconds (0: no trails; default 4)",
+    )
+    look.add_argument(
+        "--roles",
+        choices=("auto", "derived", "tape", "none"),
+        default="auto",
+        help="role marks: tape labels when present (auto), derived, or none",
+    )
+    look.add_argument("--no-targets", action="store_true", help="hide team-goal targets")
+    look.add_argument("--no-pursued", action="store_true", help="hide pursued-goal lines")
+    look.add_argument("--no-collisions", action="store_true", help="hide contact marks")
+    look.add_argument("--par-paths", action="store_true", help="show par-time paths")
+    look.add_argument("--no-legend", action="store_true", help="hide the legend")
+    look.add_argument("--no-clock", action="store_true", help="hide the clock")
+    look.add_argument("--grid", action="store_true", help="draw the metric grid")
+    look.add_argument("--title", default=None, help="title line (and title card in clips)")
+    look.add_argument(
+        "--title-seconds",
+        type=float,
+        default=2.0,
+        help="title card length before each episode (default 2; 0: none)",
+    )
+    look.add_argument("--caption", default=None, help="caption line at the bottom")
+    clip = parser.add_argument_group("clip timing and stills")
+    clip.add_argument("--fps", type=float, default=30.0, help="frames per second (default 30)")
+    clip.add_argument("--speed", type=float, default=1.0, help="playback speed (default 1)")
+    clip.add_argument("--scale", type=float, default=1.0, help="PNG still: pixel scale")
+    clip.add_argument("--dpi", type=float, default=None, help="PNG still: DPI stored in file")
+    parser.add_argument("--quiet", action="store_true", help="no progress bar")
+
+
+def run(args: argparse.Namespace) -> int:
+    try:
+        return _run(args)
+    except CommandError as exc:
+        error_line(str(exc))
+        return exc.code
+    except KeyboardInterrupt:
+        error_line(f"interrupted; {args.output} was not written")
+        return 130
+
+
+def _run(args: argparse.Namespace) -> int:
+    from ..render.clip import ClipError, ClipSpec, export_clip, parse_size
+    from ..render.episode_painter import FrameOptions
+
+    out = Path(args.output)
+    suffix = out.suffix.lower()
+    try:
+        size = parse_size(args.size)
+    except ClipError as exc:
+        raise CommandError(f"--size: {exc}") from None
+    for name in ("fps", "speed", "scale"):
+        if not getattr(args, name) > 0:
+            raise CommandError(f"--{name}: expected a number > 0")
+    if args.trail < 0:
+        raise CommandError("--trail: expected seconds >= 0")
+    if not out.parent.is_dir():
+        raise CommandError(f"{out.parent}: folder does not exist")
+    tape = _open(args.tape)
+    indices = list(args.compare) if args.compare else list(args.episode)
+    episodes = []
+    for i in indices:
+        if not 0 <= i < len(tape):
+            raise CommandError(f"{args.tape}: no episode {i} (the tape has {len(tape)})")
+        try:
+            episodes.append(tape.episode(i))
+        except ArenaError as exc:
+            raise CommandError(str(exc)) from None
+    options = FrameOptions(
+        theme=args.theme,
+        trails=args.trail > 0,
+        trail_seconds=args.trail or 4.0,
+        roles=args.roles,
+        team_goal=not args.no_targets,
+        pursued=not args.no_pursued,
+        par_paths=args.par_paths,
+        collisions=not args.no_collisions,
+        legend=not args.no_legend,
+        clock=not args.no_clock,
+        grid=args.grid,
+        title=args.title,
+        caption=args.caption,
+    )
+    from ..render.offscreen import ensure_gui_app
+
+    ensure_gui_app()
+    if suffix in (".png", ".svg"):
+        return _still(args, out, tape.scene, episodes[0], options, size)
+    spec = ClipSpec(
+        start=args.start,
+        end=args.end,
+        speed=args.speed,
+        fps=args.fps,
+        size=size,
+        compare=bool(args.compare),
+        frame=options,
+        title_seconds=args.title_seconds if args.title else 0.0,
+    )
+    from .progress import progress_bar
+
+    try:
+        from ..render.clip import schedule
+
+        total = len(schedule(episodes, spec))
+        with progress_bar(total, "render", args.quiet) as bar:
+            result = export_clip(
+                tape.scene, episodes, out, spec, progress=lambda done, _total: bar.advance(1)
+            )
+    except ClipError as exc:
+        raise CommandError(str(exc)) from None
+    for note in result.notes:
+        warning_line(note)
+    return EXIT_OK
+
+
+def _open(path: str):
+    from ..core.tape import open_tape
+
+    p = Path(path)
+    if not p.is_file():
+        raise CommandError(f"{path}: no such file" if not p.exists() else f"{path}: not a file")
+    try:
+        tape = open_tape(p)
+    except ArenaError as exc:
+        raise CommandError(str(exc)) from None
+    if tape.truncated and tape.recovery_message:
+        warning_line(tape.recovery_message)
+    return tape
+
+
+def _still(args, out, scene, episode, options, size) -> int:
+    from ..render.frame import save_png_still, save_svg_still
+
+    step = episode.step_at(args.time)
+    try:
+        if out.suffix.lower() == ".png":
+            save_png_still(out, scene, episode, step, options, size, args.scale, args.dpi)
+        else:
+            save_svg_still(out, scene, episode, step, options, size)
+    except OSError as exc:
+        raise CommandError(
+            f"{out}: cannot write ({exc.strerror or exc})", EXIT_UNREADABLE
+        ) from None
+    return EXIT_OK

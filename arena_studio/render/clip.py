@@ -1,0 +1,372 @@
+"""Clip export: MP4 (H.264, yuv420p), GIF, or a folder of numbered PNGs, from episode frames.
+
+Frames come from :class:`~arena_studio.render.frame.FrameRenderer` (the same painters as the
+viewer), so a clip looks like the screen. MP4 and GIF go through the ffmpeg binary that
+imageio-ffmpeg ships; frames are piped raw (``bgra``, straight from ``QImage.constBits()``,
+no copy), which keeps export encoder-bound. Output is written under a temporary name in the
+target folder and renamed only when complete: a cancel or an error leaves nothing behind.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import os
+import shutil
+import subprocess
+import tempfile
+from collections.abc import Callable, Iterator, Sequence
+from dataclasses import dataclass, field, replace
+from pathlib import Path
+
+from PySide6.QtCore import QSize
+from PySide6.QtGui import QImage, QPainter
+
+from ..core.episode import Episode
+from ..core.scene import Scene
+from .episode_painter import FrameOptions
+from .frame import IMAGE_FORMAT, FrameRenderer
+
+SIZE_PRESETS: dict[str, tuple[int, int]] = {
+    "720p": (1280, 720),
+    "1080p": (1920, 1080),
+    "square": (1080, 1080),
+}
+FORMATS = (".mp4", ".gif", "folder of PNGs (a path without extension)")
+
+ProgressFn = Callable[[int, int], None]
+CancelFn = Callable[[], bool]
+
+
+class ClipError(Exception):
+    """A clip could not be made; the message is one sentence for the user."""
+
+
+class ClipCancelled(ClipError):
+    """The user cancelled; nothing was written."""
+
+
+@dataclass(frozen=True)
+class ClipSpec:
+    """What to export. Times are episode seconds; ``end`` None means the episode's end."""
+
+    start: float = 0.0
+    end: float | None = None
+    speed: float = 1.0
+    fps: float = 30.0
+    size: tuple[int, int] = (1280, 720)
+    compare: bool = False  # two episodes side by side (else: in sequence)
+    frame: FrameOptions = field(default_factory=FrameOptions)
+    title_seconds: float = 0.0  # a title card before each episode (needs frame.title)
+    crf: int = 20  # H.264 quality (lower is better and bigger)
+
+
+@dataclass
+class ClipResult:
+    path: Path
+    frames: int
+    size: tuple[int, int]
+    fps: float
+    notes: list[str] = field(default_factory=list)
+
+
+def output_kind(path: Path) -> str:
+    """ "mp4", "gif" or "png" (a folder); unknown extensions are refused with the choices."""
+    suffix = path.suffix.lower()
+    if suffix == ".mp4":
+        return "mp4"
+    if suffix == ".gif":
+        return "gif"
+    if suffix == "" or path.is_dir():
+        return "png"
+    raise ClipError(
+        f"{path}: unknown clip type {suffix!r}; use .mp4, .gif, or a folder name for PNG frames"
+    )
+
+
+def ffmpeg_exe() -> str:
+    """The ffmpeg binary imageio-ffmpeg provides (or IMAGEIO_FFMPEG_EXE names)."""
+    try:
+        import imageio_ffmpeg
+
+        exe = imageio_ffmpeg.get_ffmpeg_exe()
+    except Exception as exc:  # the package raises RuntimeError when it finds none
+        raise ClipError(f"ffmpeg is missing ({exc}); reinstall imageio-ffmpeg") from None
+    if not exe or not (os.path.isfile(exe) and os.access(exe, os.X_OK)):
+        raise ClipError(f"ffmpeg is missing: {exe!r} is not an executable file")
+    return exe
+
+
+def checked_size(size: tuple[int, int], kind: str) -> tuple[tuple[int, int], list[str]]:
+    """Validate the frame size; H.264 with yuv420p needs even sides, so odd ones round down."""
+    w, h = int(size[0]), int(size[1])
+    if w < 16 or h < 16 or w > 7680 or h > 4320:
+        raise ClipError(f"frame size {w}x{h} is out of range (16x16 to 7680x4320)")
+    notes: list[str] = []
+    if kind == "mp4" and (w % 2 or h % 2):
+        ew, eh = w - w % 2, h - h % 2
+        notes.append(
+            f"H.264 (yuv420p) stores colour at half resolution, so width and height must be "
+            f"even: {w}x{h} was made {ew}x{eh}"
+        )
+        w, h = ew, eh
+    return (w, h), notes
+
+
+# -- the frame schedule -------------------------------------------------------------------------
+@dataclass(frozen=True)
+class Shot:
+    """One output frame: which episode(s) at which step, or a title card."""
+
+    steps: tuple[int, ...]  # one step per episode shown (two when comparing)
+    episode: int  # index into the episode list (first shown)
+    card: bool = False
+
+
+def schedule(episodes: Sequence[Episode], spec: ClipSpec) -> list[Shot]:
+    """Frames of the clip: ``round(duration x fps)`` per episode span at ``speed``."""
+    if spec.fps <= 0 or spec.fps > 240:
+        raise ClipError(f"fps must be between 0 and 240, got {spec.fps:g}")
+    if spec.speed <= 0:
+        raise ClipError(f"speed must be positive, got {spec.speed:g}")
+    if not episodes:
+        raise ClipError("no episode to export")
+    if spec.compare and len(episodes) != 2:
+        raise ClipError(f"comparing needs exactly two episodes, got {len(episodes)}")
+    shots: list[Shot] = []
+    groups: list[tuple[int, ...]] = (
+        [(0, 1)] if spec.compare else [(i,) for i in range(len(episodes))]
+    )
+    for group in groups:
+        eps = [episodes[i] for i in group]
+        longest = max(e.duration for e in eps)
+        end = longest if spec.end is None else min(spec.end, longest)
+        start = max(0.0, spec.start)
+        if end <= start:
+            raise ClipError(
+                f"time range {start:g}-{end:g} s is empty (episode {eps[0].index} lasts "
+                f"{longest:g} s)"
+            )
+        if spec.frame.title and spec.title_seconds > 0:
+            cards = round(spec.title_seconds * spec.fps)
+            shots += [Shot(tuple(0 for _ in eps), group[0], card=True)] * cards
+        n = max(1, round((end - start) / spec.speed * spec.fps))
+        for k in range(n):
+            t = start + k * spec.speed / spec.fps
+            shots.append(Shot(tuple(e.step_at(t) for e in eps), group[0]))
+    return shots
+
+
+class ClipPainter:
+    """Renders shots to one reusable image (side by side when comparing)."""
+
+    def __init__(
+        self, scene: Scene, episodes: Sequence[Episode], spec: ClipSpec, size: tuple[int, int]
+    ) -> None:
+        self.episodes = list(episodes)
+        self.spec = spec
+        self.size = size
+        w, h = size
+        if spec.compare:
+            half = w // 2
+            self.parts = [
+                FrameRenderer(scene, (half, h), spec.frame),
+                FrameRenderer(scene, (w - half, h), spec.frame),
+            ]
+            self.image = QImage(QSize(w, h), IMAGE_FORMAT)
+        else:
+            self.parts = [FrameRenderer(scene, size, spec.frame)]
+            self.image = QImage()
+
+    def render(self, shot: Shot) -> QImage:
+        if not self.spec.compare:
+            r = self.parts[0]
+            ep = self.episodes[shot.episode]
+            if shot.card:
+                return r.render_card(ep, self.spec.frame.title or "", _subtitle(ep))
+            return r.render(ep, shot.steps[0])
+        painter = QPainter(self.image)
+        try:
+            x = 0
+            for r, ep, step in zip(self.parts, self.episodes, shot.steps, strict=True):
+                img = (
+                    r.render_card(ep, self.spec.frame.title or "", _subtitle(ep))
+                    if shot.card
+                    else r.render(ep, step)
+                )
+                painter.drawImage(x, 0, img)
+                x += img.width()
+            painter.setPen(self.parts[0].theme.qcolor("grid_major"))
+            half = self.parts[0].layout.size[0]
+            painter.drawLine(half, 0, half, self.size[1])
+        finally:
+            painter.end()
+        return self.image
+
+
+def _subtitle(ep: Episode) -> str:
+    return f"episode {ep.index}  ·  {ep.duration:.1f} s  ·  {ep.agent_count} agents"
+
+
+# -- writers ------------------------------------------------------------------------------------
+def export_clip(
+    scene: Scene,
+    episodes: Sequence[Episode],
+    path: str | Path,
+    spec: ClipSpec | None = None,
+    progress: ProgressFn | None = None,
+    cancel: CancelFn | None = None,
+) -> ClipResult:
+    """Write the clip; raises :class:`ClipError` (or :class:`ClipCancelled`) leaving nothing."""
+    spec = spec or ClipSpec()
+    target = Path(path)
+    kind = output_kind(target)
+    size, notes = checked_size(spec.size, kind)
+    _check_folder(target)
+    shots = schedule(episodes, spec)
+    if spec.frame.ui_scale is None and spec.compare:
+        from .frame import ui_scale_for
+
+        spec = replace(spec, frame=replace(spec.frame, ui_scale=ui_scale_for(size, spec.frame)))
+    painter = ClipPainter(scene, episodes, spec, size)
+    frames = _frames(painter, shots, progress, cancel)
+    if kind == "png":
+        _write_png_folder(target, frames)
+    else:
+        exe = ffmpeg_exe()
+        _write_ffmpeg(exe, target, kind, size, spec, frames)
+    return ClipResult(target, len(shots), size, spec.fps, notes)
+
+
+def _check_folder(target: Path) -> None:
+    folder = target.parent
+    if not folder.exists():
+        raise ClipError(f"{folder}: folder does not exist")
+    if not os.access(folder, os.W_OK | os.X_OK):
+        raise ClipError(f"{folder}: folder is not writable")
+    if target.is_dir() and target.suffix == "" and any(target.iterdir()):
+        raise ClipError(f"{target}: folder is not empty; choose a new folder for the PNG frames")
+
+
+def _frames(
+    painter: ClipPainter, shots: list[Shot], progress: ProgressFn | None, cancel: CancelFn | None
+) -> Iterator[QImage]:
+    total = len(shots)
+    for i, shot in enumerate(shots):
+        if cancel is not None and cancel():
+            raise ClipCancelled("export cancelled; nothing was written")
+        yield painter.render(shot)
+        if progress is not None:
+            progress(i + 1, total)
+
+
+def _ffmpeg_args(exe: str, kind: str, size: tuple[int, int], spec: ClipSpec, out: str) -> list[str]:
+    w, h = size
+    raw_in = f"-f rawvideo -pix_fmt bgra -s {w}x{h} -framerate {spec.fps:g} -i pipe:0 -an"
+    head = [exe, "-hide_banner", "-loglevel", "error", "-nostdin", "-y", *raw_in.split()]
+    if kind == "mp4":
+        encode = f"-c:v libx264 -preset veryfast -crf {spec.crf} -pix_fmt yuv420p"
+        return [*head, *encode.split(), "-movflags", "+faststart", "-f", "mp4", out]
+    # one palette for the whole clip, ordered dithering (stable between frames, no shimmer)
+    graph = (
+        "split[a][b];[a]palettegen=stats_mode=full:max_colors=256[p];"
+        "[b][p]paletteuse=dither=bayer:bayer_scale=4"
+    )
+    return [*head, "-filter_complex", graph, "-f", "gif", out]
+
+
+def _write_ffmpeg(
+    exe: str,
+    target: Path,
+    kind: str,
+    size: tuple[int, int],
+    spec: ClipSpec,
+    frames: Iterator[QImage],
+) -> None:
+    tmp = _temp_name(target)
+    proc = subprocess.Popen(
+        _ffmpeg_args(exe, kind, size, spec, str(tmp)),
+        stdin=subprocess.PIPE,
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.PIPE,
+    )
+    assert proc.stdin is not None and proc.stderr is not None
+    try:
+        try:
+            for image in frames:
+                proc.stdin.write(image.constBits())  # bgra rows, no copy
+            proc.stdin.close()
+        except BrokenPipeError:
+            pass  # ffmpeg stopped early; its stderr says why
+        err = proc.stderr.read().decode("utf-8", "replace").strip()
+        code = proc.wait()
+        if code != 0:
+            last = err.splitlines()[-1] if err else f"exit code {code}"
+            raise ClipError(f"{target}: could not encode the clip: {last}")
+        _publish(tmp, target, 0o666)
+    except BaseException:
+        with contextlib.suppress(Exception):
+            proc.kill()
+            proc.wait()
+        with contextlib.suppress(OSError):
+            tmp.unlink()
+        raise
+    finally:
+        with contextlib.suppress(Exception):
+            proc.stderr.close()
+
+
+def _publish(tmp: Path, target: Path, mode: int) -> None:
+    """Give the finished temp file the usual permissions (mkstemp makes it 0600), rename it."""
+    umask = os.umask(0)
+    os.umask(umask)
+    os.chmod(tmp, mode & ~umask)
+    os.replace(tmp, target)
+
+
+def _temp_name(target: Path) -> Path:
+    try:
+        fd, name = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part", dir=target.parent)
+    except OSError as exc:
+        raise ClipError(f"{target.parent}: cannot write here ({exc.strerror})") from None
+    os.close(fd)
+    return Path(name)
+
+
+def _write_png_folder(target: Path, frames: Iterator[QImage]) -> None:
+    try:
+        tmp = Path(tempfile.mkdtemp(prefix=f".{target.name}.", suffix=".part", dir=target.parent))
+    except OSError as exc:
+        raise ClipError(f"{target.parent}: cannot write here ({exc.strerror})") from None
+    try:
+        digits = 5
+        for i, image in enumerate(frames):
+            name = tmp / f"frame_{i:0{digits}d}.png"
+            if not image.save(str(name), "PNG"):
+                free = shutil.disk_usage(tmp).free
+                why = "the disk is full" if free < 10_000_000 else "the image could not be saved"
+                raise ClipError(f"{name}: {why}")
+        if target.is_dir():
+            target.rmdir()  # checked empty before we started
+        _publish(tmp, target, 0o777)
+    except BaseException:
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise
+
+
+def frame_count(duration: float, fps: float) -> int:
+    """Frames for ``duration`` seconds at ``fps`` (what :func:`schedule` produces)."""
+    return max(1, round(duration * fps))
+
+
+def parse_size(text: str) -> tuple[int, int]:
+    """ "720p", "1080p", "square" or "WxH" -> pixels; a clear error otherwise."""
+    key = text.strip().lower()
+    if key in SIZE_PRESETS:
+        return SIZE_PRESETS[key]
+    try:
+        w, h = (int(v) for v in key.split("x"))
+    except ValueError:
+        raise ClipError(
+            f"size {text!r}: use {', '.join(SIZE_PRESETS)} or WIDTHxHEIGHT like 1280x720"
+        ) from None
+    return (w, h)

@@ -1,0 +1,186 @@
+"""Frame decorations: the legend (identity, roles, marks), the clock, title and caption lines."""
+
+from __future__ import annotations
+
+from PySide6.QtCore import QPointF, QRectF, Qt
+from PySide6.QtGui import QPainter, QPainterPath, QPen
+
+from ..core.episode import Episode
+from ..core.scene import Scene
+from .drawing import font, label
+from .episode_cache import EpisodeCache, episode_cache
+from .options import FrameOptions
+from .role_style import STYLE_HOLLOW, paint_role_mark, role_legend, role_source, show_numbers
+from .theme import Theme
+
+
+def paint_clock(
+    painter: QPainter, rect: QRectF, episode: Episode, step: int, theme: Theme, ui: float
+) -> None:
+    """Elapsed / total seconds and the step, top left of ``rect``."""
+    step = int(min(max(step, 0), max(episode.steps - 1, 0)))
+    text = f"{step * episode.dt:6.2f} s / {episode.duration:.2f} s"
+    sub = f"step {step} of {max(episode.steps - 1, 0)}  ·  episode {episode.index}"
+    box = label(
+        painter,
+        text,
+        QPointF(rect.x() + 10 * ui, rect.y() + 16 * ui),
+        font(15 * ui, True),
+        theme.qcolor("text"),
+        theme.qcolor("background", alpha=0.85),
+    )
+    label(
+        painter,
+        sub,
+        QPointF(rect.x() + 10 * ui, box.bottom() + 9 * ui),
+        font(11 * ui),
+        theme.qcolor("text_muted"),
+        theme.qcolor("background", alpha=0.85),
+    )
+
+
+def paint_banner(
+    painter: QPainter, rect: QRectF, text: str, theme: Theme, px: float, bold: bool
+) -> None:
+    """A strip of text centred in ``rect`` (title line or caption line)."""
+    painter.save()
+    painter.setFont(font(px, bold))
+    painter.setPen(theme.qcolor("text"))
+    painter.drawText(rect, Qt.AlignmentFlag.AlignCenter | Qt.TextFlag.TextSingleLine, text)
+    painter.restore()
+
+
+def paint_legend(
+    painter: QPainter,
+    rect: QRectF,
+    scene: Scene,
+    episode: Episode,
+    theme: Theme,
+    options: FrameOptions,
+    ui: float,
+    columns: bool = False,
+) -> None:
+    """Identity colours, role glyphs and overlay keys inside ``rect``.
+
+    Sections stack top-down, or sit side by side when ``columns`` (a strip under the scene).
+    Rows that do not fit are left out; agents beyond the room say how many more there are.
+    """
+    cache = episode_cache(scene, episode)
+    painter.save()
+    painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+    painter.setPen(QPen(theme.qcolor("grid_major"), 1.0))
+    painter.setBrush(theme.qcolor("room_fill"))
+    painter.drawRoundedRect(rect, 6 * ui, 6 * ui)
+    row = 20 * ui
+    sections = _sections(cache, scene, options, ui, rect, row, columns)
+    width = rect.width() / max(1, len(sections)) if columns else rect.width()
+    x0, y = rect.x() + 12 * ui, rect.y() + 18 * ui
+    head, body = font(12 * ui, bold=True), font(11.5 * ui)
+    text, muted = theme.qcolor("text"), theme.qcolor("text_muted")
+    r = 6.0 * ui
+    bottom = rect.bottom() - row * 0.6
+    for k, (title, rows) in enumerate(sections):
+        x = x0 + (k * width if columns else 0.0)
+        if columns:
+            y = rect.y() + 18 * ui
+        elif k:
+            y += row * 0.4
+        if y > bottom - row:
+            break
+        label(painter, title, QPointF(x, y), head, muted, None)
+        y += row
+        for kind, arg, name in rows:
+            if y > bottom:
+                break
+            c = QPointF(x + r + 2 * ui, y)
+            if kind == "agent":
+                painter.setPen(QPen(theme.qcolor("background"), 1.0))
+                painter.setBrush(theme.agent_color(int(arg)))
+                painter.drawEllipse(c, r, r)
+            elif kind == "role":
+                hollow = arg == STYLE_HOLLOW
+                painter.setPen(
+                    QPen(theme.qcolor("text_muted"), 2.0 * ui)
+                    if hollow
+                    else QPen(theme.qcolor("background"), 1.0)
+                )
+                painter.setBrush(theme.qcolor("text_muted", alpha=0.35 if hollow else 1.0))
+                painter.drawEllipse(c, r, r)
+                paint_role_mark(painter, c, r, int(arg), text, theme, ui)
+            elif kind == "mark":
+                _paint_key(painter, str(arg), c, r, theme, ui)
+            color = muted if kind == "more" else text
+            label(painter, name, QPointF(x + 2 * r + 12 * ui, y), body, color, None)
+            y += row
+    painter.restore()
+
+
+Row = tuple[str, object, str]
+
+
+def _sections(
+    cache: EpisodeCache,
+    scene: Scene,
+    options: FrameOptions,
+    ui: float,
+    rect: QRectF,
+    row: float,
+    columns: bool,
+) -> list[tuple[str, list[Row]]]:
+    numbers = show_numbers(cache.agents, options)
+    room = (rect.height() - 2 * row) if columns else rect.height() * 0.45
+    max_rows = max(1, int(room // row))
+    agents: list[Row] = []
+    for a in range(cache.agents):
+        if a >= max_rows - 1 and cache.agents > max_rows:
+            agents.append(("more", None, f"+ {cache.agents - a} more, numbered"))
+            break
+        name = scene.agents[a].id if a < len(scene.agents) else f"agent {a + 1}"
+        agents.append(("agent", a, f"{a + 1}  {name}" if numbers or cache.agents > 1 else name))
+    out: list[tuple[str, list[Row]]] = [("Agents", agents)]
+    roles = role_legend(cache, options)
+    if roles:
+        title = "Roles (tape)" if role_source(cache, options) == "tape" else "Roles"
+        out.append((title, [("role", style, name) for style, name in roles]))
+    keys = _overlay_keys(cache, options)
+    if keys:
+        out.append(("Marks", [("mark", kind, name) for kind, name in keys]))
+    return out
+
+
+def _overlay_keys(cache: EpisodeCache, options: FrameOptions) -> list[tuple[str, str]]:
+    keys: list[tuple[str, str]] = []
+    if options.team_goal and cache.has_team_goal:
+        keys.append(("target", "team-goal target"))
+    if options.pursued and cache.pursued.any():
+        keys.append(("pursued", "pursued, on team goal"))
+        keys.append(("pursued_off", "pursued, not on goal"))
+    if options.collisions and len(cache.collisions):
+        keys.append(("collision", "contact began"))
+    if options.par_paths and cache.par_time_paths():
+        keys.append(("par", "par-time path"))
+    return keys
+
+
+def _paint_key(painter: QPainter, kind: str, c: QPointF, r: float, theme: Theme, ui: float) -> None:
+    painter.setBrush(Qt.BrushStyle.NoBrush)
+    if kind == "target":
+        painter.setBrush(theme.qcolor("target_highlight", alpha=0.2))
+        painter.setPen(QPen(theme.qcolor("target_highlight"), 2.5 * ui))
+        painter.drawEllipse(c, r, r)
+        return
+    if kind == "collision":
+        painter.setPen(QPen(theme.qcolor("error"), 2.0 * ui))
+        painter.drawLine(QPointF(c.x() - r, c.y() - r), QPointF(c.x() + r, c.y() + r))
+        painter.drawLine(QPointF(c.x() - r, c.y() + r), QPointF(c.x() + r, c.y() - r))
+        return
+    pen = QPen(theme.qcolor("text"), 1.6 * ui)
+    if kind == "pursued_off":
+        pen.setStyle(Qt.PenStyle.DashLine)
+    if kind == "par":
+        pen = QPen(theme.qcolor("path"), 1.6 * ui)
+        pen.setStyle(Qt.PenStyle.DashDotLine)
+    painter.setPen(pen)
+    path = QPainterPath(QPointF(c.x() - r * 1.2, c.y()))
+    path.lineTo(QPointF(c.x() + r * 1.6, c.y()))
+    painter.drawPath(path)

@@ -1,0 +1,29 @@
+"""Frame options: what an episode frame shows (shared by the viewer, stills and clips)."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+
+@dataclass(frozen=True)
+class FrameOptions:
+    """What an episode frame shows. Sizes in pixels are multiplied by ``ui_scale``."""
+
+    theme: str = "light"
+    trails: bool = True
+    trail_seconds: float = 4.0
+    trail_bands: int = 4
+    roles: str = "auto"  # "auto" (tape labels when present), "derived", "tape", "none"
+    team_goal: bool = True
+    pursued: bool = True
+    par_paths: bool = False
+    collisions: bool = True
+    numbers: str = "auto"  # "auto" (beyond 6 agents), "always", "never"
+    legend: bool = True
+    clock: bool = True
+    title: str | None = None
+    caption: str | None = None
+    grid: bool = False
+    scale_bar: bool = True
+    landmark_labels: bool = True
+    ui_scale: float | None = None  # None: from the output height (720 px = 1.0)

@@ -1,0 +1,123 @@
+"""The role channel: how a role changes an agent's look, independent of its identity colour.
+
+no ring = moving; thin solid ring = heading to a target; double ring = holding a target;
+hollow body with a dotted ring = idle; triangle badge = off the team goal. Tape labels take
+the styles in :data:`TAPE_STYLES` order (plus a square badge and a dashed ring).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from PySide6.QtCore import QPointF, QRectF, Qt
+from PySide6.QtGui import QColor, QPainter, QPen, QPolygonF
+
+from ..core.roles import HEADING, HOLDING, IDLE, MOVING, OFF_GOAL, ROLE_NAMES
+from .episode_cache import EpisodeCache
+from .options import FrameOptions
+from .theme import Theme
+
+#: role styles: how each derived role code is drawn
+STYLE_PLAIN, STYLE_RING, STYLE_DOUBLE, STYLE_HOLLOW, STYLE_BADGE, STYLE_SQUARE, STYLE_DASH = range(
+    7
+)
+DERIVED_STYLE = {
+    MOVING: STYLE_PLAIN,
+    HEADING: STYLE_RING,
+    HOLDING: STYLE_DOUBLE,
+    IDLE: STYLE_HOLLOW,
+    OFF_GOAL: STYLE_BADGE,
+}
+#: tape labels take these styles in order of first appearance
+TAPE_STYLES = (STYLE_RING, STYLE_DOUBLE, STYLE_HOLLOW, STYLE_BADGE, STYLE_SQUARE, STYLE_DASH)
+#: above this many agents, bodies carry their number
+NUMBER_ABOVE = 6
+
+
+def role_source(cache: EpisodeCache, options: FrameOptions) -> str:
+    if options.roles == "auto":
+        return "tape" if cache.tape_labels else "derived"
+    return options.roles
+
+
+def role_legend(cache: EpisodeCache, options: FrameOptions) -> list[tuple[int, str]]:
+    """(style, name) rows for the legend, in the order the roles are defined."""
+    source = role_source(cache, options)
+    if source == "derived":
+        return [(DERIVED_STYLE[c], ROLE_NAMES[c]) for c in range(len(ROLE_NAMES))]
+    if source == "tape":
+        return [
+            (TAPE_STYLES[i % len(TAPE_STYLES)], name) for i, name in enumerate(cache.tape_labels)
+        ]
+    return []
+
+
+def agent_styles(cache: EpisodeCache, step: int, options: FrameOptions) -> np.ndarray:
+    """(A,) style codes at ``step``."""
+    source = role_source(cache, options)
+    if source == "derived":
+        lut = np.array([DERIVED_STYLE[c] for c in range(len(ROLE_NAMES))], dtype=np.int16)
+        return lut[cache.roles[step]]
+    if source == "tape":
+        codes = cache.tape_codes[step]
+        lut = np.array(TAPE_STYLES, dtype=np.int16)
+        return np.where(codes >= 0, lut[np.maximum(codes, 0) % len(TAPE_STYLES)], STYLE_PLAIN)
+    return np.full(cache.agents, STYLE_PLAIN, dtype=np.int16)
+
+
+def show_numbers(agents: int, options: FrameOptions) -> bool:
+    if options.numbers == "always":
+        return True
+    if options.numbers == "never":
+        return False
+    return agents > NUMBER_ABOVE
+
+
+def ink_for(color: QColor) -> QColor:
+    """Black or white, whichever contrasts more with ``color`` (WCAG relative luminance)."""
+
+    def lin(c: float) -> float:
+        return c / 12.92 if c <= 0.04045 else ((c + 0.055) / 1.055) ** 2.4
+
+    lum = 0.2126 * lin(color.redF()) + 0.7152 * lin(color.greenF()) + 0.0722 * lin(color.blueF())
+    return (
+        QColor(17, 17, 17) if (lum + 0.05) / 0.05 > 1.05 / (lum + 0.05) else QColor(255, 255, 255)
+    )
+
+
+def paint_role_mark(
+    painter: QPainter, c: QPointF, r: float, style: int, color: QColor, theme: Theme, ui: float
+) -> None:
+    """The role channel around a body of radius ``r`` centred at ``c`` (see module docstring)."""
+    if style == STYLE_PLAIN:
+        return
+    painter.setBrush(Qt.BrushStyle.NoBrush)
+    gap = 2.5 * ui
+    if style in (STYLE_RING, STYLE_BADGE, STYLE_DASH):
+        pen = QPen(color, 1.4 * ui)
+        if style == STYLE_DASH:
+            pen.setStyle(Qt.PenStyle.DashLine)
+        painter.setPen(pen)
+        painter.drawEllipse(c, r + gap, r + gap)
+    elif style == STYLE_DOUBLE:
+        painter.setPen(QPen(color, 1.4 * ui))
+        painter.drawEllipse(c, r + gap, r + gap)
+        painter.drawEllipse(c, r + gap + 3.0 * ui, r + gap + 3.0 * ui)
+    elif style == STYLE_HOLLOW:
+        pen = QPen(color, 1.3 * ui)
+        pen.setStyle(Qt.PenStyle.DotLine)
+        painter.setPen(pen)
+        painter.drawEllipse(c, r + gap, r + gap)
+    if style == STYLE_BADGE:
+        s = max(5.0 * ui, r * 0.55)
+        bx, by = c.x() + r * 0.8, c.y() - r * 0.8
+        tri = QPolygonF(
+            [QPointF(bx, by - s), QPointF(bx + s, by + s * 0.75), QPointF(bx - s, by + s * 0.75)]
+        )
+        painter.setPen(QPen(color, 1.2 * ui))
+        painter.setBrush(theme.qcolor("warning"))
+        painter.drawPolygon(tri)
+    elif style == STYLE_SQUARE:
+        s = max(4.0 * ui, r * 0.45)
+        painter.setPen(QPen(color, 1.2 * ui))
+        painter.setBrush(theme.qcolor("info"))
+        painter.drawRect(QRectF(c.x() + r * 0.8 - s, c.y() - r * 0.8 - s, 2 * s, 2 * s))
