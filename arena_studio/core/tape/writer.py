@@ -350,33 +350,59 @@ class TapeWriter:
         ep.buffered += n
         ep.steps += n
         if ep.buffered >= self.chunk_steps:
-            self._flush_chunk(ep)
+            self._flush_chunk(ep, full_only=True)
 
-    def _flush_chunk(self, ep: _EpisodeBuffer) -> None:
+    def _flush_chunk(self, ep: _EpisodeBuffer, full_only: bool = False) -> None:
+        """Write buffered steps as chunks of at most ``chunk_steps`` steps.
+
+        With ``full_only`` a remainder shorter than a chunk stays buffered.
+        """
         if ep.buffered == 0:
             return
         blocks, ep.blocks = ep.blocks, []
         start = ep.steps - ep.buffered
-        ep.buffered = 0
-        record: dict[str, Any] = {
-            "type": "chunk",
-            "episode": ep.index,
-            "start": start,
-            "steps": sum(b[0].shape[0] for b in blocks),
-            "poses": encode_array(_cat([b[0] for b in blocks]), "<f8"),
-        }
-        for i, name, dtype in ((1, "rewards", "<f8"), (2, "actions", "<f8"), (3, "done", "|b1")):
-            if blocks[0][i] is not None:
-                record[name] = encode_array(_cat([b[i] for b in blocks]), dtype)
+        fields: list[Any] = [_cat([b[0] for b in blocks])]
+        for i in (1, 2, 3):
+            fields.append(None if blocks[0][i] is None else _cat([b[i] for b in blocks]))
+        chans = None
         if blocks[0][4] is not None:
-            record["channels"] = {
-                name: encode_array(
-                    _cat([b[4][name] for b in blocks]),  # type: ignore[index]
-                    "<f8" if blocks[0][4][name].dtype.kind == "f" else "<i8",
-                )
-                for name in blocks[0][4]
+            chans = {name: _cat([b[4][name] for b in blocks]) for name in blocks[0][4]}
+        total = fields[0].shape[0]
+        n = self.chunk_steps
+        done = 0
+        while done < total and (total - done >= n or not full_only):
+            part = slice(done, min(done + n, total))
+            record: dict[str, Any] = {
+                "type": "chunk",
+                "episode": ep.index,
+                "start": start + done,
+                "steps": part.stop - part.start,
+                "poses": encode_array(fields[0][part], "<f8"),
             }
-        self._write(frame(KIND_CHUNK, pack(record)))
+            for i, name, dtype in (
+                (1, "rewards", "<f8"),
+                (2, "actions", "<f8"),
+                (3, "done", "|b1"),
+            ):
+                if fields[i] is not None:
+                    record[name] = encode_array(fields[i][part], dtype)
+            if chans is not None:
+                record["channels"] = {
+                    name: encode_array(arr[part], "<f8" if arr.dtype.kind == "f" else "<i8")
+                    for name, arr in chans.items()
+                }
+            self._write(frame(KIND_CHUNK, pack(record)))
+            done = part.stop
+        ep.buffered = total - done
+        if ep.buffered:
+            rest = slice(done, total)
+            ep.blocks = [
+                (
+                    fields[0][rest],
+                    *(None if f is None else f[rest] for f in fields[1:]),
+                    None if chans is None else {k: v[rest] for k, v in chans.items()},
+                )
+            ]
         self._flush()
 
     def _write(self, data: bytes) -> None:
