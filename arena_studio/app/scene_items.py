@@ -117,13 +117,13 @@ class SceneLayer(QGraphicsItem):
             start = agent.start
             if start.pose is not None:
                 at = (start.pose[0], start.pose[1])
-                dx = agent.radius / mpp + 6
+                dx, dy = agent.radius / mpp + 4, agent.radius / mpp + 12
             elif start.region:
                 at = (min(p[0] for p in start.region), max(p[1] for p in start.region))
-                dx = 2
+                dx, dy = 2, -6
             else:
                 continue
-            draw_label(painter, at, agent.id, color, dx=dx, dy=-6)
+            draw_label(painter, at, agent.id, color, dx=dx, dy=dy)
 
     def _paint_highlight(self, painter: QPainter) -> None:
         mpp = metres_per_pixel(painter)

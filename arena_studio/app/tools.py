@@ -22,6 +22,7 @@ from .hit import hit_edge, hit_object, hit_vertex, objects_in_rect
 from .snapping import Snap
 
 _drag_serial = itertools.count(1)
+HEADING_STEP = math.radians(15.0)
 
 
 @dataclass(frozen=True)
@@ -381,6 +382,9 @@ class StartPoseTool(Tool):
         (x, y), (qx, qy) = self._p, ev.pos
         self._p = self._q = None
         heading = math.atan2(qy - y, qx - x) if math.hypot(qx - x, qy - y) > ev.tol else 0.0
+        if not ev.bypass and self.host.snap(ev.pos, False).kind != "none":
+            heading = round(heading / HEADING_STEP) * HEADING_STEP  # snapping: 15 degree steps
+        heading = math.atan2(math.sin(heading), math.cos(heading))
         scene, key = edits.add_agent(self.host.scene, Start(pose=(x, y, heading)))
         self.host.apply(scene, "Add start pose")
         self.host.set_selection([key])

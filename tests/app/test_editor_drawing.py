@@ -75,8 +75,11 @@ def test_landmark_snaps_onto_wall_line(qtbot, main_window):
     _empty(win)
     win.editor.apply(
         win.document.scene.with_changes(
-            rooms=(__import__("arena_studio.core.scene", fromlist=["Room"]).Room(
-                "hall", ((0, 0), (6, 0), (6, 4), (0, 4))),)
+            rooms=(
+                __import__("arena_studio.core.scene", fromlist=["Room"]).Room(
+                    "hall", ((0, 0), (6, 0), (6, 4), (0, 4))
+                ),
+            )
         ),
         "room",
     )

@@ -30,8 +30,11 @@ def test_autosave_then_restore_after_crash(make_window, tmp_path):
     assert second.document.scene == edited
     assert second.document.dirty  # restored work still needs saving
     assert second.document.path == Path(demo_path(DEFAULT_DEMO_SCENE)).resolve()
-    assert not [p for p in (tmp_path / "recovery").glob("*.meta.json")
-                if second.recovery.session not in p.name]
+    assert not [
+        p
+        for p in (tmp_path / "recovery").glob("*.meta.json")
+        if second.recovery.session not in p.name
+    ]
 
 
 def test_declined_restore_deletes_copy(make_window):

@@ -47,9 +47,11 @@ def test_moving_a_vertex_updates_findings(qtbot, main_window):
     assert win.canvas.layer.findings  # also marked on the canvas
 
     # Clicking the finding selects the landmark it names.
-    row = next(i for i in range(panel.list.count())
-               if panel.list.item(i).data(Qt.ItemDataRole.UserRole).code
-               == "landmark-outside-rooms")
+    row = next(
+        i
+        for i in range(panel.list.count())
+        if panel.list.item(i).data(Qt.ItemDataRole.UserRole).code == "landmark-outside-rooms"
+    )
     panel._clicked(panel.list.item(row))
     assert win.editor.selection() == (("landmarks", "crate"),)
 

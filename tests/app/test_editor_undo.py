@@ -34,8 +34,11 @@ START = Scene(
 def _apply(win, op) -> None:
     ed = win.editor
     tools = ed.tools
-    keys = [k for g in ("rooms", "obstacles", "landmarks", "agents")
-            for k in ((g, o.id) for o in getattr(ed.scene, g))]
+    keys = [
+        k
+        for g in ("rooms", "obstacles", "landmarks", "agents")
+        for k in ((g, o.id) for o in getattr(ed.scene, g))
+    ]
     kind = op[0]
     if kind == "room":
         _, x, y, w, h = op
@@ -64,7 +67,8 @@ def _apply(win, op) -> None:
             ed.apply(edits.move_objects(ed.scene, [key], op[2] / 4, op[3] / 4), "Move")
         elif kind == "vertex":
             pts = __import__("arena_studio.app.edits", fromlist=["x"]).outline_of(
-                __import__("arena_studio.app.edits", fromlist=["x"]).find(ed.scene, key))
+                __import__("arena_studio.app.edits", fromlist=["x"]).find(ed.scene, key)
+            )
             if pts:
                 sel = tools["tool.select"]
                 vx, vy = pts[op[2] % len(pts)]
@@ -83,8 +87,9 @@ def _apply(win, op) -> None:
         panel.rule.setCurrentIndex(panel.rule.findData(op[1]))
 
 
-@settings(max_examples=25, deadline=None,
-          suppress_health_check=[HealthCheck.function_scoped_fixture])
+@settings(
+    max_examples=25, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
 @given(ops=st.lists(edit, min_size=1, max_size=12))
 def test_undo_all_restores_and_redo_all_replays(main_window, ops):
     win = main_window
