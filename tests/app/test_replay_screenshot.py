@@ -1,0 +1,93 @@
+"""``arena-studio --screenshot OUT.png TAPE`` and the replay page inside the main window.
+
+The PNG is read back with Pillow (the reference decoder) and must show the identity colours
+of the theme's palette file; bad --episode/--time values exit 2 with one line on stderr.
+"""
+
+from __future__ import annotations
+
+import os
+import subprocess
+import sys
+from pathlib import Path
+
+import numpy as np
+from PIL import Image
+from PySide6.QtCore import QSettings
+
+from .test_replay_support import write_test_tape
+
+REPO = Path(__file__).resolve().parents[2]
+
+
+def run_cli(tmp_path: Path, *args: str) -> subprocess.CompletedProcess:
+    env = dict(
+        os.environ,
+        QT_QPA_PLATFORM="offscreen",
+        XDG_CONFIG_HOME=str(tmp_path / "cfg"),
+        XDG_DATA_HOME=str(tmp_path / "data"),
+        HOME=str(tmp_path),
+    )
+    return subprocess.run(
+        [sys.executable, "-m", "arena_studio", *args],
+        capture_output=True,
+        text=True,
+        env=env,
+        timeout=120,
+        cwd=tmp_path,
+    )
+
+
+def test_screenshot_of_a_tape_writes_a_picture_of_the_replay(tmp_path):
+    tape = write_test_tape(tmp_path / "hall.tape")
+    out = tmp_path / "shot.png"
+    done = run_cli(tmp_path, "--screenshot", str(out), str(tape), "--episode", "1", "--time", "3")
+    assert done.returncode == 0, done.stderr
+    image = np.asarray(Image.open(out).convert("RGB"))
+    assert image.shape[0] > 400 and image.shape[1] > 600
+    assert len(np.unique(image.reshape(-1, 3), axis=0)) > 200  # not blank
+    import json
+
+    palette = json.loads((REPO / "resources/palettes/light.json").read_text())
+    for hexcolour in palette["identity"][:2]:  # both rovers' bodies are on screen
+        rgb = np.array([int(hexcolour[i : i + 2], 16) for i in (1, 3, 5)])
+        close = np.abs(image.astype(int) - rgb).max(axis=-1) <= 12
+        assert close.sum() > 30, f"identity colour {hexcolour} not drawn"
+
+
+def test_screenshot_refuses_bad_episode_and_time(tmp_path):
+    tape = write_test_tape(tmp_path / "hall.tape", episodes=2)
+    done = run_cli(tmp_path, "--screenshot", str(tmp_path / "a.png"), str(tape), "--episode", "5")
+    assert done.returncode == 2
+    assert done.stderr.strip().splitlines()[-1] == (
+        "arena-studio: --episode 5: the tape has episodes 0 to 1"
+    )
+    done = run_cli(tmp_path, "--screenshot", str(tmp_path / "b.png"), str(tape), "--time", "99")
+    assert done.returncode == 2
+    assert "episode 0 lasts 11.90 s" in done.stderr
+    assert not (tmp_path / "a.png").exists() and not (tmp_path / "b.png").exists()
+
+
+def test_main_window_opens_a_tape_in_replay_mode(qtbot, tmp_path):
+    from arena_studio.app.main_window import MainWindow
+
+    tape = write_test_tape(tmp_path / "hall.tape")
+    settings = QSettings(str(tmp_path / "s.ini"), QSettings.Format.IniFormat)
+    window = MainWindow(settings=settings, recovery_dir=tmp_path / "rec")
+    qtbot.addWidget(window)
+    assert window.open_path(tape)
+    page = window.replay_page
+    assert window.modes.currentWidget() is page
+    assert page.replay_actions["play"].isEnabled()
+    assert str(tape.resolve()) in window.recent_files()
+    assert page.wait_loaded()
+    menus = [a.text() for a in window.menuBar().actions()]
+    assert "&Replay" in menus
+    # an editable copy of the tape's scene goes to the layout editor; playback keys go quiet
+    page.open_scene_copy()
+    assert window.modes.currentWidget() is window.canvas
+    assert window.document.scene == page.scene_value and window.document.path is None
+    assert not page.replay_actions["play"].isEnabled()
+    page.close_tape()
+    window.document.undo_stack.setClean()
+    window.document.reset(window.document.scene, None)

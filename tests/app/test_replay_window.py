@@ -1,0 +1,176 @@
+"""The replay window on a real tape: list, failed cooperative episode, diagnosis, canvas.
+
+Reference values come from outside the viewer: the tape reader's poses and
+``core.metrics.episode_metrics`` computed here on the same episode; the drawn colour at an
+agent's position is compared with the theme's identity colour read from the palette file.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pytest
+from PySide6.QtCore import QPointF, Qt
+
+from arena_studio.app.replay.replay_window import ReplayWindow
+from arena_studio.core.metrics import episode_metrics
+from arena_studio.core.tape import open_tape
+
+from .test_replay_support import write_test_tape
+
+REPO = Path(__file__).resolve().parents[2]
+DEMO_TAPES = sorted((REPO / "scenes").glob("*.tape"))
+
+
+@pytest.fixture
+def written_tape(tmp_path) -> Path:
+    return write_test_tape(tmp_path / "hall.tape")
+
+
+def open_window(qtbot, path: Path, theme: str = "light") -> ReplayWindow:
+    w = ReplayWindow(theme)
+    qtbot.addWidget(w)
+    w.resize(1280, 800)
+    w.show()
+    w.open_tape(path)
+    assert w.wait_loaded()
+    assert w.session.wait_summaries(60000)
+    qtbot.waitUntil(lambda: w.session.summaries_done, timeout=10000)
+    return w
+
+
+def tapes_to_try(tmp_path) -> list[Path]:
+    return [write_test_tape(tmp_path / "hall.tape"), *DEMO_TAPES[:1]]
+
+
+def test_failed_cooperative_episode_diagnosis_and_canvas_state(qtbot, tmp_path):
+    for path in tapes_to_try(tmp_path):
+        tape = open_tape(path)
+        w = open_window(qtbot, path)
+        w.episode_list.set_preset("failed_cooperative")
+        rows = w.episode_list.visible_summaries()
+        # reference: the metrics module on the tape reader's episodes
+        expected = [
+            i
+            for i in range(len(tape))
+            if (m := episode_metrics(tape.scene, tape.episode(i))).kind == "cooperative"
+            and not m.success
+        ]
+        assert [r.index for r in rows] == expected
+        with_diag = [r for r in rows if r.diagnosis_step is not None]
+        assert with_diag, f"{path.name}: no failed cooperative episode with a diagnosis"
+        row = with_diag[0]
+        w.episode_list.table.setFocus()
+        assert w.episode_list.select_episode(row.index)
+        assert w.wait_loaded()
+        assert w.prepared.episode.index == row.index
+        w.clock.end()
+        qtbot.keyClick(w, Qt.Key.Key_D)  # go to diagnosis
+        ref = episode_metrics(tape.scene, tape.episode(row.index))
+        assert w.clock.step == ref.diagnosis_step == row.diagnosis_step
+        assert ref.diagnosis in w.verdict.text()
+        w.canvas.viewport().repaint()
+        assert w.canvas.layer_episode.painted_step == ref.diagnosis_step
+        poses = tape.episode(row.index).poses[ref.diagnosis_step]
+        np.testing.assert_allclose(w.canvas.agent_positions(), poses[:, :2])
+        w.close()
+
+
+def test_agent_bodies_are_drawn_at_the_tape_poses(qtbot, written_tape):
+    tape = open_tape(written_tape)
+    w = open_window(qtbot, written_tape)
+    w.select_episode(1)
+    assert w.wait_loaded()
+    w.clock.seek(20)
+    w.canvas.viewport().repaint()
+    image = w.canvas.viewport().grab().toImage()
+    poses = tape.episode(1).poses[20]
+    for a, (x, y, heading) in enumerate(poses):
+        r = tape.scene.agents[a].radius * 0.5  # half-way to the rim, behind the heading tick
+        px = w.canvas.mapFromScene(QPointF(x - r * np.cos(heading), y - r * np.sin(heading)))
+        got = image.pixelColor(px)
+        want = w.theme.agent_color(a)
+        diff = max(
+            abs(got.red() - want.red()),
+            abs(got.green() - want.green()),
+            abs(got.blue() - want.blue()),
+        )
+        assert diff <= 40, f"agent {a}: drawn {got.name()} at its pose, identity {want.name()}"
+    w.close()
+
+
+def test_transport_shortcuts(qtbot, written_tape):
+    w = open_window(qtbot, written_tape)
+    c = w.clock
+    w.canvas.setFocus()
+    qtbot.keyClick(w.canvas, Qt.Key.Key_Right)
+    assert c.step == 1
+    qtbot.keyClick(w.canvas, Qt.Key.Key_Right, Qt.KeyboardModifier.ShiftModifier)
+    assert c.step == 11  # 1 s at dt 0.1 s
+    qtbot.keyClick(w.canvas, Qt.Key.Key_Left)
+    assert c.step == 10
+    qtbot.keyClick(w.canvas, Qt.Key.Key_Left, Qt.KeyboardModifier.ShiftModifier)
+    assert c.step == 0
+    qtbot.keyClick(w.canvas, Qt.Key.Key_End)
+    assert c.step == c.steps - 1
+    qtbot.keyClick(w.canvas, Qt.Key.Key_Home)
+    assert c.step == 0
+    later = [s for s in c.event_steps if s > 0]
+    assert len(later) >= 2
+    qtbot.keyClick(w.canvas, Qt.Key.Key_N)
+    assert c.step == later[0]
+    qtbot.keyClick(w.canvas, Qt.Key.Key_N)
+    assert c.step == later[1]
+    qtbot.keyClick(w.canvas, Qt.Key.Key_P)
+    assert c.step == later[0]
+    qtbot.keyClick(w.canvas, Qt.Key.Key_BracketRight)
+    assert c.speed == 2.0
+    qtbot.keyClick(w.canvas, Qt.Key.Key_Space)
+    assert c.playing
+    qtbot.waitUntil(lambda: c.step > 5, timeout=5000)  # wall-clock playback moves on
+    qtbot.keyClick(w.canvas, Qt.Key.Key_Space)
+    assert not c.playing
+    w.close()
+
+
+def test_hover_card_reports_pose_speed_role_and_reward(qtbot, written_tape):
+    tape = open_tape(written_tape)
+    w = open_window(qtbot, written_tape)
+    w.select_episode(0)
+    assert w.wait_loaded()
+    w.clock.seek(10)
+    ep = tape.episode(0)
+    x, y, _ = ep.poses[10, 0]
+    pos = QPointF(w.canvas.mapFromScene(QPointF(x, y)))
+    assert w.canvas.agent_at(pos) == 0
+    text = w.canvas.agent_tooltip(0)
+    # speed: step length / dt between steps 9 and 10 (finite difference, common practice)
+    speed = np.hypot(*(ep.poses[10, 0, :2] - ep.poses[9, 0, :2])) / ep.dt
+    assert f"speed {speed:.2f} m/s" in text
+    assert f"x {x:.2f} m, y {y:.2f} m" in text
+    assert f"reward so far {ep.rewards[:11, 0].sum():.3g}" in text
+    assert "role " in text
+    w.close()
+
+
+def test_batch_goal_click_filters_list_and_compare_ghosts(qtbot, written_tape):
+    w = open_window(qtbot, written_tape)
+    w.dock_batch.raise_()
+    qtbot.waitUntil(
+        lambda: bool(w.batch.grid.cells()) or w.batch.grid.repaint() or False, timeout=3000
+    )
+    rect, stat = w.batch.grid.cells()[0]
+    qtbot.mouseClick(w.batch.grid, Qt.MouseButton.LeftButton, pos=rect.center().toPoint())
+    shown = w.episode_list.visible_summaries()
+    assert shown and all(s.goal == stat.goal for s in shown)
+    assert stat.episodes == len(shown) and stat.successes == sum(bool(s.success) for s in shown)
+    w.compare_with(0, "ghost")
+    qtbot.waitUntil(lambda: w.compare is not None, timeout=5000)
+    assert w.canvas.layer_ghost.episode is not None
+    assert w.canvas.layer_ghost.episode.index == 0
+    w.set_compare_mode("side")
+    assert w.canvas_b.isVisible() and w.canvas_b.prepared.episode.index == 0
+    w.clock.seek(7)
+    assert w.canvas_b.step == 7  # shared timeline
+    w.close()
