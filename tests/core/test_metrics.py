@@ -1,0 +1,117 @@
+"""Episode metrics, diagnosis and events on hand-built episodes with answers derived here."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from arena_studio.core.episode import Episode
+from arena_studio.core.events import episode_events
+from arena_studio.core.metrics import batch_metrics, episode_metrics
+
+from .tape_helpers import box_scene
+
+A, B, C = (2.0, 8.0), (8.0, 8.0), (5.0, 2.0)  # landmark centres of box_scene, reach 0.5
+
+
+def _walk(start: tuple[float, float], end: tuple[float, float], steps: int) -> np.ndarray:
+    t = np.linspace(0.0, 1.0, steps)[:, None]
+    xy = np.asarray(start) + t * (np.asarray(end) - np.asarray(start))
+    heading = np.full((steps, 1), np.arctan2(end[1] - start[1], end[0] - start[0]))
+    return np.hstack([xy, heading])
+
+
+def _episode(tracks: list[np.ndarray], goal, pursued=None, dt: float = 0.5) -> Episode:
+    return Episode(
+        index=0,
+        dt=dt,
+        poses=np.stack(tracks, axis=1),
+        team_goal=None if goal is None else np.array(goal, dtype=np.uint8),
+        pursued_goals=() if pursued is None else tuple(np.array(g, np.uint8) for g in pursued),
+    )
+
+
+def test_success_at_known_step() -> None:
+    scene = box_scene("all_at_once", hold_time=1.0)
+    # agent 0 walks (2, 3) -> (2, 8) in 11 steps of 0.5 m, then waits; agent 1 reaches B later.
+    a0 = np.vstack([_walk((2, 3), A, 11), np.tile([*A, np.pi / 2], (9, 1))])
+    a1 = np.vstack([_walk((8, 0), B, 17), np.tile([*B, np.pi / 2], (3, 1))])
+    ep = _episode([a0, a1], [1, 1, 0], pursued=[[1, 1, 0], [1, 1, 0]])
+    m = episode_metrics(scene, ep)
+    # derivation: agent 1 moves 0.5 m per step from y=0; within 0.5 m of y=8 from y=7.5,
+    # i.e. step 15. Both covered from 15 on; hold 1.0 s = 2 more steps -> success at step 17.
+    assert m.success and m.success_step == 17
+    assert m.time_to_success == pytest.approx(8.5)
+    assert m.covered_by == {"A": "r0", "B": "r1"} and m.aligned is True
+    assert m.path_length[0] == pytest.approx(5.0) and m.path_length[1] == pytest.approx(8.0)
+    # agent 0 is still from step 11 on (9 steps, speed 0) -> 4.5 s; agent 1 from 17 (3 steps)
+    assert m.still_time == pytest.approx((4.5, 1.5))
+    assert m.kind == "cooperative" and m.diagnosis is None and m.collisions == 0
+    events = episode_events(scene, ep, m)
+    reached = [(e.step, e.agent, e.landmark) for e in events if e.kind == "reached"]
+    # agent 0 enters A's disc at y = 7.5: from y=3 in 0.5 m steps that is step 9
+    assert reached == [(9, 0, 0), (15, 1, 1)]
+    assert [e.step for e in events if e.kind == "success"] == [17]
+
+
+def test_misaligned_failure() -> None:
+    scene = box_scene("all_at_once")
+    a0 = _walk((2, 3), A, 11)
+    a1 = _walk((5, 6), C, 9)  # went to C, outside the team goal A+B
+    a1 = np.vstack([a1, np.tile(a1[-1], (2, 1))])
+    ep = _episode([a0, a1], [1, 1, 0], pursued=[[1, 1, 0], [1, 0, 1]])
+    m = episode_metrics(scene, ep)
+    assert not m.success and m.aligned is False and m.diagnosis_code == "misaligned"
+    # derivation: agent 1 steps 0.5 m from y=6 towards y=2; inside C's disc at y <= 2.5: step 7
+    assert m.diagnosis_step == 7
+
+
+def test_duplicate_target_failure() -> None:
+    scene = box_scene("all_at_once")
+    a0 = _walk((2, 4), A, 9)  # arrives at A (step 7: y=7.5)
+    a1 = _walk((3, 8), (2.2, 8.0), 5)  # also ends on A; B stays empty
+    a1 = np.vstack([a1, np.tile(a1[-1], (4, 1))])
+    ep = _episode([a0, a1], [1, 1, 0], pursued=[[1, 1, 0], [1, 1, 0]])
+    m = episode_metrics(scene, ep)
+    assert not m.success and m.diagnosis_code == "duplicate-target"
+    # derivation: agent 1 is within 0.5 of (2, 8) once x <= 2.5: x = 3 - 0.2 t -> t = 3 (2.4);
+    # agent 0 enters at step 7 (y = 4 + 0.5 t >= 7.5); both on A with B empty from step 7.
+    assert m.diagnosis_step == 7
+    assert "B stayed empty" in (m.diagnosis or "")
+
+
+def test_not_together_and_collisions() -> None:
+    scene = box_scene("all_at_once")
+    # agent 0 visits A then leaves; agent 1 reaches B only afterwards
+    a0 = np.vstack([_walk((2, 6), A, 5), _walk(A, (2, 5), 5)])
+    a1 = np.vstack([np.tile([8.0, 4.0, 0.0], (6, 1)), _walk((8, 6), B, 4)])
+    ep = _episode([a0, a1], [1, 1, 0], pursued=[[1, 1, 0], [1, 1, 0]])
+    m = episode_metrics(scene, ep)
+    assert m.diagnosis_code == "not-together"
+    # derivation: agent 1 steps 2/3 m from y=6 at step 6: y = 6.67, 7.33 (0.67 from B, out),
+    # 8.0 at step 9 -> the last target is first reached at step 9
+    assert m.diagnosis_step == 9
+    # collision: two agents 0.4 m apart (radii 0.25 + 0.25 = 0.5 > 0.4) for two steps
+    b0 = np.tile([5.0, 5.0, 0.0], (4, 1))
+    b1 = np.array([[6, 5, 0], [5.4, 5, 0], [5.4, 5, 0], [7, 5, 0]], dtype=float)
+    m2 = episode_metrics(scene, _episode([b0, b1], [0, 0, 1]))
+    assert m2.collisions == 1 and m2.collision_pairs == ((1, 0, 1),)
+
+
+def test_batch_specialisation_and_rates() -> None:
+    scene = box_scene("all_at_once")
+    same = [np.tile([*A, 0], (3, 1)), np.tile([*B, 0], (3, 1))]
+    swapped = [np.tile([*B, 0], (3, 1)), np.tile([*A, 0], (3, 1))]
+    ms = [
+        episode_metrics(scene, _episode(t, [1, 1, 0], pursued=[[1, 1, 0]] * 2))
+        for t in (same, same, same, swapped)
+    ]
+    fail = episode_metrics(scene, _episode(same, [0, 0, 1], pursued=[[0, 0, 1], [1, 0, 0]]))
+    summary = batch_metrics(scene, [*ms, fail])
+    # derivation: target A covered by r0 in 3 of 4 successes, B by r1 in 3 of 4 -> (0.75+0.75)/2
+    assert summary["specialisation"]["A+B"] == pytest.approx(0.75)
+    assert summary["success_rate"] == pytest.approx(4 / 5)
+    assert summary["alignment_rate"] == pytest.approx(4 / 5)
+    assert summary["aligned"]["success_rate"] == 1.0
+    assert summary["misaligned"]["success_rate"] == 0.0
+    assert summary["by_kind"]["individual"]["episodes"] == 1
