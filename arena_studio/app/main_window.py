@@ -128,6 +128,9 @@ class MainWindow(QMainWindow):
         self.tabifyDockWidget(self.docks["properties"], self.docks["goals"])
         self.docks["properties"].raise_()
         self.resizeDocks([self.docks["properties"]], [380], Qt.Orientation.Horizontal)
+        self.resizeDocks(
+            [self.docks["properties"], self.docks["findings"]], [640, 170], Qt.Orientation.Vertical
+        )
 
     def _build_actions(self) -> None:
         menus = {name: self.menuBar().addMenu(f"&{name}") for name in MENUS}
