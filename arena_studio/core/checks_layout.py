@@ -38,6 +38,8 @@ def geos_reason(poly: Polygon) -> tuple[str, tuple[float, float] | None]:
 
 
 def _invalid_outline(kind: str, obj_id: str, poly: Polygon, code: str) -> Finding:
+    if poly.is_empty:
+        return finding(code, f"{kind} '{obj_id}' has fewer than 3 points", obj_id)
     text, where = geos_reason(poly)
     place = f" at {fmt_point(where)}" if where else ""
     return finding(
@@ -55,7 +57,7 @@ def check_rooms(scene: Scene) -> list[Finding]:
     out: list[Finding] = []
     for room in scene.rooms:
         poly = geo.polygon(room.outline)
-        if not poly.is_valid:
+        if poly.is_empty or not poly.is_valid:
             out.append(_invalid_outline("room", room.id, poly, "room-invalid"))
     parts = _polygons(geo.walkable_area(scene))
     if len(parts) > 1:
@@ -121,7 +123,7 @@ def check_obstacles(scene: Scene) -> list[Finding]:
     walkable = geo.walkable_area(scene)
     for ob in scene.obstacles:
         geom = geo.obstacle_geometry(ob)
-        if ob.outline is not None and not geom.is_valid:
+        if ob.outline is not None and (geom.is_empty or not geom.is_valid):
             out.append(_invalid_outline("obstacle", ob.id, geom, "obstacle-invalid"))
             geom = _repaired(geom)
         if walkable.is_empty or geom.is_empty:
@@ -241,7 +243,7 @@ def _object_point(scene: Scene, kind: str, obj: object) -> tuple[float, float] |
         start = obj.start  # type: ignore[attr-defined]
         if start.pose is not None:
             return (start.pose[0], start.pose[1])
-        return _xy(_repaired(Polygon(start.region)).representative_point())
+        return _xy(_repaired(geo.polygon(start.region)).representative_point())
     if kind == "obstacle":
         return _xy(_repaired(geo.obstacle_geometry(obj)).representative_point())  # type: ignore[arg-type]
     return _xy(_repaired(geo.polygon(obj.outline)).representative_point())  # type: ignore[attr-defined]

@@ -87,9 +87,9 @@ def _check_start(scene: Scene, agent: Agent) -> list[Finding]:
                 xy,
             )
         ]
-    raw = Polygon(start.region)
-    if not raw.is_valid:
-        text, where = geos_reason(raw)
+    raw = geo.polygon(start.region)
+    if raw.is_empty or not raw.is_valid:
+        text, where = geos_reason(raw) if not raw.is_empty else ("fewer than 3 points", None)
         return [
             finding(
                 "start-region-invalid",
@@ -149,7 +149,7 @@ def _why_outside(scene: Scene, xy: tuple[float, float]) -> str:
 def _region(agent: Agent) -> Polygon | None:
     if agent.start.region is None:
         return None
-    poly = Polygon(agent.start.region)
+    poly = geo.polygon(agent.start.region)
     return poly if poly.is_valid else None
 
 

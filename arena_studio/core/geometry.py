@@ -34,12 +34,15 @@ def quad_segments(radius: float, tolerance: float = ARC_TOLERANCE) -> int:
 
 
 def polygon(outline: tuple[tuple[float, float], ...]) -> Polygon:
+    """The outline as a polygon; an outline still being drawn (< 3 points) is empty."""
+    if len(outline) < 3:
+        return Polygon()
     return Polygon(outline)
 
 
 def obstacle_geometry(obstacle: Obstacle) -> Polygon:
     if obstacle.outline is not None:
-        return Polygon(obstacle.outline)
+        return polygon(obstacle.outline)
     assert obstacle.circle is not None
     c = obstacle.circle
     return Point(c.center).buffer(c.radius, quad_segs=quad_segments(c.radius))
@@ -147,7 +150,7 @@ def bounds(scene: Scene, margin: float = 0.0) -> tuple[float, float, float, floa
         if a.start.pose is not None:
             geoms.append(Point(a.start.pose[:2]))
         elif a.start.region is not None:
-            geoms.append(Polygon(a.start.region))
+            geoms.append(polygon(a.start.region))
     geoms = [g for g in geoms if not g.is_empty]
     if not geoms:
         return (-margin, -margin, 1.0 + margin, 1.0 + margin)

@@ -368,3 +368,18 @@ def test_assignment_matches_networkx(table: list[list[bool]], targets: set[int])
     expected = sum(1 for node in ref if node[0] == "t")
     rows = tuple(tuple(r) for r in table)
     assert _max_matching(sorted(targets), rows) == expected
+
+
+def test_outlines_still_being_drawn_are_findings_not_crashes() -> None:
+    # The editor holds outlines with fewer than 3 points while the user draws; a polygon
+    # needs at least 3 distinct points (OGC 06-103r4, linear ring), so these are findings.
+    scene = square_scene(
+        rooms=(Room("room", box(0, 0, 4, 4)), Room("new", ((5.0, 5.0), (6.0, 5.0)))),
+        obstacles=(Obstacle("dot", outline=((1.0, 1.0),)),),
+        agents=(bot("r1", 2, 2), Agent("r2", 0.3, 1, 1, Start(region=((1.0, 1.0), (2.0, 2.0))))),
+    )
+    found = codes(check_scene(scene))
+    assert [f.object_id for f in found["room-invalid"]] == ["new"]
+    assert [f.object_id for f in found["obstacle-invalid"]] == ["dot"]
+    assert [f.object_id for f in found["start-region-invalid"]] == ["r2"]
+    assert "geometry-failed" not in found
