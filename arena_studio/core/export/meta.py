@@ -1,0 +1,46 @@
+"""What every export records about where it came from."""
+
+from __future__ import annotations
+
+import json
+import os
+from pathlib import Path
+from typing import Any
+
+from ... import __version__
+from ..atomic import write_bytes_atomic
+from ..scene import Scene
+from . import CAUTION
+
+
+def provenance(scene: Scene, fmt: str) -> dict[str, Any]:
+    """Content hash, caution and producer of an export, as plain values."""
+    return {
+        "format": f"arena-studio.export.{fmt}",
+        "scene_name": scene.name,
+        "content_hash": scene.content_hash(),
+        "caution": CAUTION,
+        "producer": f"arena-studio {__version__}",
+    }
+
+
+def _umask() -> int:
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return mask
+
+
+def write_export_bytes(path: Path, data: bytes) -> None:
+    """Atomic write, then the usual permissions for a new file (the temp file is 0600)."""
+    write_bytes_atomic(path, data)
+    os.chmod(path, 0o666 & ~_umask())
+
+
+def write_json_atomic(path: Path, doc: dict[str, Any]) -> None:
+    text = json.dumps(doc, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+    write_export_bytes(path, text.encode("utf-8"))
+
+
+def sidecar_path(path: Path) -> Path:
+    """``out.scene.json`` -> ``out.scene.json.about.json``."""
+    return path.with_name(path.name + ".about.json")
