@@ -6,7 +6,7 @@ VENV := .venv
 BIN := $(VENV)/bin
 STAMP := $(VENV)/.installed
 
-.PHONY: run test lint bench clean
+.PHONY: run test lint bench demos clean
 
 $(BIN)/python:
 	$(PYTHON) -m venv $(VENV)
@@ -28,6 +28,16 @@ lint: $(STAMP)
 
 bench: $(STAMP)
 	QT_QPA_PLATFORM=offscreen $(BIN)/python -m pytest tests/bench -s -q -p no:cacheprovider
+
+# demo tapes from the demo scenes, scripted agents, fixed seeds (reproducible bit for bit)
+DEMO_SCENES := greenhouse parking-level lab-wing
+demos: $(STAMP)
+	for s in $(DEMO_SCENES); do \
+	  $(BIN)/arena-studio rollout scenes/$$s.scene.json -o scenes/$$s-shared.tape \
+	    --episodes 12 --seed 11 --goals shared --quiet && \
+	  $(BIN)/arena-studio rollout scenes/$$s.scene.json -o scenes/$$s-independent.tape \
+	    --episodes 12 --seed 12 --goals independent --quiet || exit 1; \
+	done
 
 clean:
 	rm -rf $(VENV) .pytest_cache .ruff_cache
