@@ -24,7 +24,9 @@ from PySide6.QtWidgets import QFrame, QGraphicsScene, QGraphicsView, QWidget
 from ..core.geometry import bounds
 from ..core.scene import Scene
 from ..render.drawing import nice_step
+from ..render.scene_painter import paint_scale_bar
 from ..render.theme import Theme
+from ..render.view import ViewTransform
 from .scene_items import WORLD, SceneLayer
 
 MIN_PPM, MAX_PPM = 0.5, 4000.0  # pixels per metre
@@ -125,6 +127,17 @@ class SceneCanvas(QGraphicsView):
     # -- drawing -----------------------------------------------------------------------
     def drawBackground(self, painter: QPainter, rect: QRectF) -> None:
         painter.fillRect(rect, self.theme.qcolor("background"))
+
+    def drawForeground(self, painter: QPainter, rect: QRectF) -> None:
+        """Scale bar in viewport pixels, drawn by the shared scene painter's function."""
+        t = self.viewportTransform()
+        view = ViewTransform(math.hypot(t.m11(), t.m12()), t.dx(), t.dy())
+        size = (float(self.viewport().width()), float(self.viewport().height()))
+        painter.save()
+        painter.resetTransform()
+        painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+        paint_scale_bar(painter, view, self.theme, size)
+        painter.restore()
 
     # -- input -------------------------------------------------------------------------
     def _starts_pan(self, event: QMouseEvent) -> bool:

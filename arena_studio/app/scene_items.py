@@ -87,7 +87,7 @@ class SceneLayer(QGraphicsItem):
         self.preview: Preview | None = None
         self.highlight: tuple[int, ...] = ()  # landmark indices of a goal being shown
         # The static scene is drawn by the same painter as stills and clips.
-        self.options = SceneOptions(grid=True, scale_bar=True, fill_background=False)
+        self.options = SceneOptions(grid=True, scale_bar=False, fill_background=False)
         self.setZValue(10)
 
     def boundingRect(self) -> QRectF:
