@@ -8,7 +8,7 @@ from __future__ import annotations
 import importlib
 from types import ModuleType
 
-COMMANDS: tuple[str, ...] = ("check", "render", "import", "rollout", "stats")
+COMMANDS: tuple[str, ...] = ("check", "render", "import", "rollout", "stats", "goals", "export")
 
 
 def load_command(name: str) -> ModuleType:
