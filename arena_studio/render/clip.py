@@ -311,8 +311,9 @@ def _write_ffmpeg(
             tmp.unlink()
         raise
     finally:
-        with contextlib.suppress(Exception):
-            proc.stderr.close()
+        for pipe in (proc.stdin, proc.stderr):
+            with contextlib.suppress(Exception):
+                pipe.close()
 
 
 def _publish(tmp: Path, target: Path, mode: int) -> None:
