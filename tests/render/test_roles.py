@@ -103,7 +103,7 @@ def test_pursued_goal_breaks_ties_inside_the_aim_cone():
 def test_holding_matches_geos_point_distance(points):
     scene = _scene(len(points))
     xy = np.array(points, dtype=float)[None].repeat(3, axis=0)  # standing still
-    poses = np.concatenate([xy, np.zeros(xy.shape[:2] + (1,))], axis=-1)
+    poses = np.concatenate([xy, np.zeros((*xy.shape[:2], 1))], axis=-1)
     team = np.array([1, 1, 0], np.uint8)
     roles = derive_roles(scene, Episode(0, 0.1, poses, team_goal=team))[-1]
     for a, (x, y) in enumerate(points):
