@@ -230,3 +230,22 @@ def test_random_pairs_against_networkx(x0: float, y0: float, x1: float, y1: floa
     assert route is not None
     ref = _full_visibility_lengths(scene, 0.2, (x0, y0), (x1, y1))
     assert route.length == pytest.approx(ref, abs=1e-7)
+
+
+def test_landmark_gap_square_obstacle() -> None:
+    # REFERENCES.md square case with reach discs of radius 0.5 at both ends: the legs from the
+    # discs to the corners point at the disc centres, so the gap between the discs is the
+    # centre-to-centre length minus both radii: 2 + 2*sqrt(17) - 1 (derived from the pinned
+    # value; common practice, no source)
+    scene = Scene(
+        rooms=(Room("r", _box(-5, -5, 15, 5)),),
+        obstacles=(Obstacle("sq", outline=_box(4, -1, 6, 1)),),
+        landmarks=(Landmark("a", "A", (0.0, 0.0), 0.5), Landmark("b", "B", (10.0, 0.0), 0.5)),
+        agents=(_agent(0.0),),
+    )
+    planner = PathPlanner(scene)
+    expected = 2 + 2 * math.sqrt(17) - 1.0
+    # the discs are polygons inscribed within 1 mm of the circles
+    assert planner.landmark_gap(0.0, 0, 1) == pytest.approx(expected, abs=2e-3)
+    assert planner.landmark_gap(0.0, 1, 0) == planner.landmark_gap(0.0, 0, 1)
+    assert planner.landmark_gap(0.0, 0, 0) == 0.0
