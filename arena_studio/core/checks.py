@@ -43,7 +43,10 @@ CODES: dict[str, tuple[Severity, str]] = {
     "landmark-off-wall": ("error", "a wall-mounted landmark is not on a wall line"),
     "landmark-unreachable": ("error", "no agent can bring its centre within the reach radius"),
     "landmark-unreachable-by-agent": ("info", "one agent cannot reach a landmark others can"),
-    "reach-radius-too-small": ("error", "a wall landmark's reach radius <= the agents' radius"),
+    "reach-radius-too-small": (
+        "error",
+        "a wall landmark's reach radius is not above the agents' radius (warning: some agents)",
+    ),
     "reach-radius-tight": ("warning", "a wall landmark can only be reached hugging the wall"),
     "reach-overlap": ("info", "two reach discs overlap: one agent can cover both landmarks"),
     "duplicate-label": ("info", "two landmarks share one label"),
@@ -58,7 +61,10 @@ CODES: dict[str, tuple[Severity, str]] = {
     "goal-duplicate": ("info", "an explicit goal is already in the goal set"),
     "family-too-large": ("warning", "a k-hot family has k > landmark count and yields no goals"),
     "goal-needs-more-agents": ("error", "a goal needs more agents at once than the scene has"),
-    "goal-no-assignment": ("error", "no assignment of distinct agents reaches a goal's targets"),
+    "goal-no-assignment": (
+        "error",
+        "no assignment of distinct agents covers a goal's targets (warning: reach discs overlap)",
+    ),
     "goal-weights-zero": ("error", "every goal has weight 0, so none can be sampled"),
     "geometry-failed": ("error", "the geometry library could not process part of the scene"),
 }

@@ -165,7 +165,8 @@ def check_landmarks(scene: Scene) -> list[Finding]:
                     )
                 )
         for ob_id, geom in obstacles:
-            if geom.contains(pt) and geom.boundary.distance(pt) > WALL_TOLERANCE:
+            inset = geom.boundary.distance(pt) if geom.contains(pt) else 0.0
+            if inset > (WALL_TOLERANCE if lm.mount == "wall" else 0.0):
                 out.append(
                     finding(
                         "landmark-inside-obstacle",

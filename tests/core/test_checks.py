@@ -383,3 +383,16 @@ def test_outlines_still_being_drawn_are_findings_not_crashes() -> None:
     assert [f.object_id for f in found["obstacle-invalid"]] == ["dot"]
     assert [f.object_id for f in found["start-region-invalid"]] == ["r2"]
     assert "geometry-failed" not in found
+
+
+@pytest.mark.parametrize(
+    ("mount", "y", "inside"),
+    [("free", 1.49, True), ("free", 1.5, False), ("wall", 1.47, False), ("wall", 1.4, True)],
+)
+def test_landmark_inside_obstacle_edge(mount: str, y: float, inside: bool) -> None:
+    # Crate 2.5..3.5 x 0.5..1.5: (3, y) lies 1.5 - y inside its top edge (hand geometry).
+    # A free landmark inside by any amount is flagged; a wall one gets the 5 cm tolerance.
+    crate = Obstacle("crate", outline=box(2.5, 0.5, 3.5, 1.5))
+    lm = spot("x", 3.0, y, reach=0.6, mount=mount)
+    found = codes(check_scene(square_scene(obstacles=(crate,), landmarks=(lm,))))
+    assert ("landmark-inside-obstacle" in found) is inside
