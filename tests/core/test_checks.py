@@ -396,3 +396,15 @@ def test_landmark_inside_obstacle_edge(mount: str, y: float, inside: bool) -> No
     lm = spot("x", 3.0, y, reach=0.6, mount=mount)
     found = codes(check_scene(square_scene(obstacles=(crate,), landmarks=(lm,))))
     assert ("landmark-inside-obstacle" in found) is inside
+
+
+def test_goal_indices_agree_with_goal_enumeration() -> None:
+    # The contract: goal_index is the position in core.goals.enumerate_goals' order.
+    goals = pytest.importorskip("arena_studio.core.goals")
+    scene = load_scene(BROKEN)
+    table = goals.enumerate_goals(scene)
+    indexed = [f for f in check_scene(scene) if f.goal_index is not None]
+    assert {f.code for f in indexed} >= {"goal-needs-more-agents", "goal-no-assignment"}
+    for f in indexed:
+        vi = int(f.message.split("goals.vectors[")[1].split("]")[0])
+        assert tuple(table.vectors[f.goal_index]) == scene.goals.vectors[vi]
