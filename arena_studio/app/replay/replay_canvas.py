@@ -14,7 +14,13 @@ import math
 import numpy as np
 from PySide6.QtCore import QPointF, QRectF, Signal
 from PySide6.QtGui import QMouseEvent, QPainter
-from PySide6.QtWidgets import QGraphicsItem, QStyleOptionGraphicsItem, QToolTip, QWidget
+from PySide6.QtWidgets import (
+    QGraphicsItem,
+    QGraphicsView,
+    QStyleOptionGraphicsItem,
+    QToolTip,
+    QWidget,
+)
 
 from ...core.episode import Episode
 from ...core.roles import ROLE_NAMES
@@ -99,11 +105,16 @@ class ReplayCanvas(SceneCanvas):
         self._hover_agent: int | None = None
         self._hover_pos = None
         self.auto_fit = True  # keep the scene fitted on resize until the user zooms or pans
+        # the scene never changes during a replay: keep the background (floor, grid) and the
+        # static scene layer as pixmaps, so a new step repaints only the episode layer's work
+        self.setCacheMode(QGraphicsView.CacheModeFlag.CacheBackground)
+        self.layer.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
 
     # -- content -----------------------------------------------------------------------
     def set_episode(self, scene: Scene, prepared: PreparedEpisode | None) -> None:
         if scene is not self.scene_value:
             self.show_scene(scene)
+            self.resetCachedContent()
         self.prepared = prepared
         self.layer_episode.set_content(scene, None if prepared is None else prepared.episode)
         self.viewport().update()
@@ -140,6 +151,8 @@ class ReplayCanvas(SceneCanvas):
 
     def set_theme(self, theme: Theme) -> None:
         super().set_theme(theme)
+        self.resetCachedContent()
+        self.layer.update()
         self.layer_episode.theme = theme
         self.layer_ghost.theme = theme
 
