@@ -1,0 +1,95 @@
+"""The clip dialog exports what the command line exports, shows progress and cancels cleanly.
+
+Outputs are read back with Pillow (independent decoder). pytest-qt drives the dialog.
+"""
+
+from __future__ import annotations
+
+import pytest
+from PIL import Image
+
+from arena_studio.app.clip_dialog import KINDS, ClipDialog, open_clip_dialog
+from arena_studio.core.tape import TapeWriter, open_tape
+
+from .demo_episode import demo_episode, greenhouse
+
+
+@pytest.fixture(scope="module")
+def tape(tmp_path_factory):
+    scene = greenhouse()
+    path = tmp_path_factory.mktemp("tapes") / "demo.tape"
+    with TapeWriter(path, scene, dt=0.05) as writer:
+        for i in range(2):
+            ep = demo_episode(scene, seconds=2.0, index=i)
+            writer.begin_episode(team_goal=ep.team_goal, pursued_goals=list(ep.pursued_goals))
+            for t in range(ep.steps):
+                writer.step(ep.poses[t])
+            writer.end_episode()
+    return open_tape(path)
+
+
+def _small(dialog: ClipDialog, kind: str, path) -> None:
+    dialog.kind.setCurrentIndex([ext for _l, ext in KINDS].index(kind))
+    dialog.path.setText(str(path))
+    dialog.size_choice.setCurrentIndex(dialog.size_choice.count() - 1)  # custom
+    dialog.width_box.setValue(320)
+    dialog.height_box.setValue(180)
+    dialog.fps.setValue(10)
+
+
+def test_gif_export_with_progress(qtbot, tape, tmp_path):
+    dialog = open_clip_dialog(None, tape, 1)
+    qtbot.addWidget(dialog)
+    _small(dialog, ".gif", tmp_path / "clip.gif")
+    dialog.title.setText("Episode one")
+    assert dialog.export()
+    assert dialog.progress.value() == dialog.progress.maximum() > 0
+    with Image.open(tmp_path / "clip.gif") as im:
+        # 2 s title card + 2 s of episode at 10 fps
+        assert im.size == (320, 180) and im.n_frames == 40
+    assert "Saved" in dialog.status.text()
+
+
+def test_cancel_leaves_nothing(qtbot, tape, tmp_path):
+    dialog = ClipDialog(None, tape, 0)
+    qtbot.addWidget(dialog)
+    _small(dialog, ".mp4", tmp_path / "clip.mp4")
+    original = dialog._progress
+
+    def progress_then_cancel(done, total):
+        original(done, total)
+        if done == 3:
+            dialog.close_button.click()  # the button reads "Cancel" while exporting
+
+    dialog._progress = progress_then_cancel
+    assert not dialog.export()
+    assert list(tmp_path.iterdir()) == []
+    assert "cancelled" in dialog.status.text()
+    assert dialog.close_button.text() == "Close"
+
+
+def test_still_and_errors(qtbot, tape, tmp_path):
+    dialog = ClipDialog(None, tape, 0, time=1.0)
+    qtbot.addWidget(dialog)
+    _small(dialog, ".svg", tmp_path / "still.svg")
+    assert not dialog.fps.isEnabled()  # clip timing does not apply to a still
+    assert dialog.export() and (tmp_path / "still.svg").read_bytes().startswith(b"<?xml")
+    dialog.path.setText(str(tmp_path / "missing" / "x.png"))
+    assert not dialog.export()
+    assert "does not exist" in dialog.status.text()
+    dialog.kind.setCurrentIndex(0)
+    dialog.mode.setCurrentIndex(2)
+    dialog.more.setText("1, 0")
+    dialog.path.setText(str(tmp_path / "cmp.mp4"))
+    assert not dialog.export()
+    assert "exactly one" in dialog.status.text()
+
+
+def test_look_of_the_dialog(qtbot, tape, tmp_path):
+    dialog = ClipDialog(None, tape, 0)
+    qtbot.addWidget(dialog)
+    dialog.show()
+    qtbot.waitExposed(dialog)
+    shot = tmp_path / "clip_dialog.png"
+    assert dialog.grab().save(str(shot))
+    assert dialog.width() < 1100 and dialog.height() < 1000  # fits a laptop screen
