@@ -103,11 +103,15 @@ def still_mask(scene: Scene, episode: Episode) -> np.ndarray:
 
 def overlap_mask(scene: Scene, episode: Episode) -> np.ndarray:
     """(T, A, A) bool: agents i and j overlap at step t (upper triangle only)."""
-    xy = episode.poses[:, :, :2]
+    p = episode.poses
     radii = np.array([a.radius for a in scene.agents], dtype=np.float64)
-    dist = np.linalg.norm(xy[:, :, None, :] - xy[:, None, :, :], axis=-1)
-    touching = dist < (radii[:, None] + radii[None, :])
-    return np.triu(touching, k=1)
+    i, j = np.triu_indices(p.shape[1], k=1)
+    dx = p[:, i, 0] - p[:, j, 0]
+    dy = p[:, i, 1] - p[:, j, 1]
+    reach = radii[i] + radii[j]
+    out = np.zeros((p.shape[0], p.shape[1], p.shape[1]), dtype=bool)
+    out[:, i, j] = dx * dx + dy * dy < reach * reach
+    return out
 
 
 @lru_cache(maxsize=128)
@@ -188,11 +192,17 @@ def success_of(scene: Scene, goal: np.ndarray, episode: Episode) -> tuple[bool, 
 
 
 def _covered_by(
-    scene: Scene, episode: Episode, targets: Sequence[int], cover: np.ndarray, step: int
+    scene: Scene,
+    episode: Episode,
+    targets: Sequence[int],
+    cover: np.ndarray,
+    step: int,
+    at: int,
 ) -> dict[str, str | None]:
+    """``cover[step]`` is the coverage at episode step ``at``."""
     ids = [a.id for a in scene.agents]
     out: dict[str, str | None] = {}
-    xy = episode.poses[step, :, :2]
+    xy = episode.poses[at, :, :2]
     for lm in targets:
         landmark = scene.landmarks[lm]
         if scene.goals.rule == "all_visited":
@@ -218,7 +228,13 @@ def episode_metrics(scene: Scene, episode: Episode) -> EpisodeMetrics:
             f"episode {episode.index}: {episode.agent_count} agents, scene has {len(scene.agents)}"
         )
     poses = episode.poses
-    cover = coverage(scene, poses[:, :, :2])  # (T, A, L)
+    full_cover: list[np.ndarray] = []
+
+    def cover_all() -> np.ndarray:  # (T, A, L), computed once and only when needed
+        if not full_cover:
+            full_cover.append(coverage(scene, poses[:, :, :2]))
+        return full_cover[0]
+
     goal = judged_goal(episode)
     targets = tuple(int(i) for i in np.flatnonzero(goal)) if goal is not None else None
     if targets == ():
@@ -228,7 +244,11 @@ def episode_metrics(scene: Scene, episode: Episode) -> EpisodeMetrics:
         assert goal is not None
         success, step = success_of(scene, goal, episode)
     at = step if step is not None else episode.steps - 1
-    covered = _covered_by(scene, episode, targets, cover, at) if targets else {}
+    covered: dict[str, str | None] = {}
+    if targets:
+        all_visited = scene.goals.rule == "all_visited"
+        cover_at = cover_all() if all_visited else coverage(scene, poses[at : at + 1, :, :2])
+        covered = _covered_by(scene, episode, targets, cover_at, at if all_visited else 0, at)
     seg = np.hypot(np.diff(poses[:, :, 0], axis=0), np.diff(poses[:, :, 1], axis=0))
     path_length = tuple(float(v) for v in seg.sum(axis=0)) if seg.size else (0.0,) * poses.shape[1]
     still = still_mask(scene, episode)
@@ -266,7 +286,7 @@ def episode_metrics(scene: Scene, episode: Episode) -> EpisodeMetrics:
     )
     if success:
         return base
-    found = diagnose(scene, episode, base, cover, still)
+    found = diagnose(scene, episode, base, cover_all(), still)
     if found is None:
         return base
     from dataclasses import replace

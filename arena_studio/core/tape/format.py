@@ -133,7 +133,7 @@ def decode_array(
             raise TapeError(source, where, f"shape[{i}] must be a whole number >= 0")
         if want is not None and got != want:
             raise TapeError(source, where, f"shape[{i}] is {got}, expected {want}")
-    if not isinstance(data, bytes):
+    if not isinstance(data, bytes | memoryview):
         raise TapeError(source, where, "array data must be msgpack bin")
     item = np.dtype(dtype).itemsize
     count = math.prod(dims)
@@ -167,3 +167,114 @@ def read_frame(buf: memoryview, pos: int, verify: bool = True) -> tuple[int, mem
         if zlib.crc32(payload, zlib.crc32(buf[pos + 4 : pos + 5])) != crc:
             raise ValueError("record checksum mismatch (damaged bytes)")
     return kind, payload, end
+
+
+class _Subset(Exception):
+    """The payload uses a msgpack type the zero-copy walker leaves to msgpack itself."""
+
+
+def unpack_views(payload: memoryview) -> Any:
+    """Decode a record like :func:`unpack`, but return ``bin`` values as zero-copy views.
+
+    Chunk records are mostly array bytes; copying them out of the read buffer costs as much
+    as reading the file. This walker covers the msgpack subset tapes use (maps with str keys,
+    arrays, str, bin, ints, floats, nil, booleans) following the msgpack specification's type
+    table; anything else (including ext types, which are then refused) goes through
+    :func:`unpack`.
+    """
+    try:
+        value, end = _walk(payload, 0, 0)
+    except (_Subset, IndexError, struct.error, UnicodeDecodeError):
+        return unpack(payload)
+    if end != len(payload):
+        raise ValueError("extra bytes after the record")
+    return value
+
+
+_U16, _U32, _U64 = struct.Struct(">H"), struct.Struct(">I"), struct.Struct(">Q")
+_I8, _I16, _I32, _I64 = (struct.Struct(f">{c}") for c in "bhiq")
+_F32, _F64 = struct.Struct(">f"), struct.Struct(">d")
+
+
+def _walk(buf: memoryview, pos: int, depth: int) -> tuple[Any, int]:
+    if depth > 32:
+        raise _Subset
+    b = buf[pos]
+    pos += 1
+    if b <= 0x7F:
+        return b, pos
+    if b >= 0xE0:
+        return b - 0x100, pos
+    if 0x80 <= b <= 0x8F:
+        return _map(buf, pos, b & 0x0F, depth)
+    if 0x90 <= b <= 0x9F:
+        return _array(buf, pos, b & 0x0F, depth)
+    if 0xA0 <= b <= 0xBF:
+        return _str(buf, pos, b & 0x1F)
+    if b == 0xC0:
+        return None, pos
+    if b == 0xC2:
+        return False, pos
+    if b == 0xC3:
+        return True, pos
+    if b in (0xC4, 0xC5, 0xC6):
+        size_fmt = {0xC4: None, 0xC5: _U16, 0xC6: _U32}[b]
+        if size_fmt is None:
+            n, pos = buf[pos], pos + 1
+        else:
+            (n,), pos = size_fmt.unpack_from(buf, pos), pos + size_fmt.size
+        if pos + n > len(buf):
+            raise ValueError("bin runs past the record")
+        return buf[pos : pos + n], pos + n
+    simple = {
+        0xCA: _F32, 0xCB: _F64, 0xCD: _U16, 0xCE: _U32, 0xCF: _U64,
+        0xD0: _I8, 0xD1: _I16, 0xD2: _I32, 0xD3: _I64,
+    }  # fmt: skip
+    if b == 0xCC:
+        return buf[pos], pos + 1
+    if b in simple:
+        fmt = simple[b]
+        return fmt.unpack_from(buf, pos)[0], pos + fmt.size
+    if b == 0xD9:
+        return _str(buf, pos + 1, buf[pos])
+    if b == 0xDA:
+        return _str(buf, pos + 2, _U16.unpack_from(buf, pos)[0])
+    if b == 0xDB:
+        return _str(buf, pos + 4, _U32.unpack_from(buf, pos)[0])
+    if b == 0xDC:
+        return _array(buf, pos + 2, _U16.unpack_from(buf, pos)[0], depth)
+    if b == 0xDD:
+        return _array(buf, pos + 4, _U32.unpack_from(buf, pos)[0], depth)
+    if b == 0xDE:
+        return _map(buf, pos + 2, _U16.unpack_from(buf, pos)[0], depth)
+    if b == 0xDF:
+        return _map(buf, pos + 4, _U32.unpack_from(buf, pos)[0], depth)
+    raise _Subset  # ext types and anything unknown: msgpack decides (and ext is refused)
+
+
+def _str(buf: memoryview, pos: int, n: int) -> tuple[str, int]:
+    if pos + n > len(buf):
+        raise ValueError("str runs past the record")
+    return bytes(buf[pos : pos + n]).decode("utf-8"), pos + n
+
+
+def _array(buf: memoryview, pos: int, n: int, depth: int) -> tuple[list[Any], int]:
+    if n > len(buf) - pos:
+        raise ValueError("array longer than the record")
+    out = []
+    for _ in range(n):
+        value, pos = _walk(buf, pos, depth + 1)
+        out.append(value)
+    return out, pos
+
+
+def _map(buf: memoryview, pos: int, n: int, depth: int) -> tuple[dict[str, Any], int]:
+    if 2 * n > len(buf) - pos:
+        raise ValueError("map longer than the record")
+    out: dict[str, Any] = {}
+    for _ in range(n):
+        key, pos = _walk(buf, pos, depth + 1)
+        if not isinstance(key, str):
+            raise _Subset  # msgpack refuses non-str keys with its own message
+        out[key], pos = _walk(buf, pos, depth + 1)
+    return out, pos

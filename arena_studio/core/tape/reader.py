@@ -45,8 +45,11 @@ from .format import (
     decode_array,
     read_frame,
     unpack,
+    unpack_views,
 )
 
+#: chunk payloads at least this large are decoded without copying their array bytes
+ZERO_COPY_BYTES = 1 << 16
 #: smallest number of bytes one recorded step of one agent occupies (a float32 pose)
 MIN_STEP_BYTES = 12
 
@@ -107,14 +110,15 @@ class Tape:
         """Decode episode ``i``; ``verify`` checks each record's CRC-32."""
         entry = self._entries[self._check_index(i)]
         try:
-            with open(self.path, "rb") as f:
+            span = np.empty(entry.end - entry.begin, dtype=np.uint8)  # no zero-fill
+            with open(self.path, "rb", buffering=0) as f:
                 f.seek(entry.begin)
-                span = f.read(entry.end - entry.begin)
+                got = f.readinto(span)
         except OSError as exc:
             raise TapeError(self._src, f"episode {i}", f"cannot read: {exc}") from None
-        if len(span) != entry.end - entry.begin:
+        if got != entry.end - entry.begin:
             raise TapeError(self._src, f"episode {i}", "file shrank while reading")
-        return self._decode_episode(i, entry, memoryview(span), verify)
+        return self._decode_episode(i, entry, memoryview(span).cast("B"), verify)
 
     # -- header --------------------------------------------------------------------------
     def _read_header(self, f: Any) -> None:
@@ -321,7 +325,12 @@ class Tape:
                 kind, payload, end = read_frame(buf, pos, verify)
             except (EOFError, ValueError) as exc:
                 raise TapeError(self._src, f"{where} byte {entry.begin + pos}", str(exc)) from None
-            records.append((kind, self._unpack(payload, where), entry.begin + pos))
+            try:
+                big = kind == KIND_CHUNK and len(payload) >= ZERO_COPY_BYTES
+                record = unpack_views(payload) if big else unpack(payload)
+            except Exception as exc:  # msgpack raises several unrelated types for bad bytes
+                raise TapeError(self._src, where, f"not valid msgpack ({exc})") from None
+            records.append((kind, record, entry.begin + pos))
             pos = end
         if not records or records[0][0] != KIND_BEGIN or not isinstance(records[0][1], dict):
             raise TapeError(self._src, where, "does not start with an episode record")
