@@ -37,7 +37,7 @@ import numpy as np
 
 from .assignment import bottleneck_assignment
 from .goals import GoalTable, enumerate_goals
-from .paths import PathPlanner, Route, polyline_length
+from .paths import PathPlanner, Route, polyline_length, shared_planner
 from .scene import RULES, Scene
 
 #: Largest number of targets planned exactly under ``all_visited``.
@@ -100,12 +100,16 @@ def _validate(scene: Scene, vector: Any, rule: str) -> tuple[tuple[int, ...], st
 def plan_goal(
     scene: Scene, vector: Any, rule: str | None = None, planner: PathPlanner | None = None
 ) -> GoalPlan:
-    """Par time, assignment and paths for one goal vector (reasons instead of exceptions)."""
+    """Par time, assignment and paths for one goal vector (reasons instead of exceptions).
+
+    Without ``planner`` a planner shared per scene value is used, so repeated calls reuse
+    the path cache.
+    """
     rule = scene.goals.rule if rule is None else rule
     v, problem = _validate(scene, vector, rule)
     if problem is not None:
         return _infeasible(v, rule, problem)
-    planner = PathPlanner(scene) if planner is None else planner
+    planner = shared_planner(scene) if planner is None else planner
     targets = [i for i, bit in enumerate(v) if bit]
     agents = scene.agents
     routes: list[list[Route | None]] = []
@@ -351,7 +355,7 @@ def plan_all(
 ) -> list[GoalPlan]:
     """Plans for every goal of the scene's goal table, sharing one path cache."""
     table = enumerate_goals(scene) if table is None else table
-    planner = PathPlanner(scene) if planner is None else planner
+    planner = shared_planner(scene) if planner is None else planner
     return [plan_goal(scene, table.vectors[i], planner=planner) for i in range(len(table))]
 
 

@@ -33,6 +33,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 import shapely
@@ -415,6 +416,15 @@ class PathPlanner:
         return result
 
 
+@lru_cache(maxsize=16)
+def shared_planner(scene: Scene) -> PathPlanner:
+    """One planner per scene value, shared by callers that do not keep their own.
+
+    Scenes are immutable values, so a planner's caches never go stale for its scene.
+    """
+    return PathPlanner(scene)
+
+
 def region_samples(region: BaseGeometry) -> np.ndarray:
     """Sample points of a region: vertices, points along the edges, an interior grid."""
     pts = [shapely.get_coordinates(region)]
@@ -440,4 +450,11 @@ def _drop_repeats(points: np.ndarray) -> np.ndarray:
     return points[keep]
 
 
-__all__ = ["PathPlanner", "Route", "TargetField", "build_target_field", "polyline_length"]
+__all__ = [
+    "PathPlanner",
+    "Route",
+    "TargetField",
+    "build_target_field",
+    "polyline_length",
+    "shared_planner",
+]
