@@ -3,12 +3,21 @@
 All of it follows the OGC Simple Features model as implemented by GEOS. Results are cached
 per scene value (scenes are immutable and hashable), so the checker, the planner and the
 renderer share one computation.
+
+The caches are per thread: callers may ``shapely.prepare`` what they get, and GEOS prepared
+geometries are not safe to use from two threads at once (GEOS issue #825), so a geometry
+object never crosses threads through these caches. The editor's background checker and the
+UI thread each build their own.
 """
 
 from __future__ import annotations
 
 import math
-from functools import lru_cache
+import threading
+import weakref
+from collections.abc import Callable
+from functools import lru_cache, wraps
+from typing import Any, TypeVar
 
 import numpy as np
 import shapely
@@ -17,6 +26,42 @@ from shapely.geometry.base import BaseGeometry
 from shapely.ops import nearest_points, unary_union
 
 from .scene import Obstacle, Scene
+
+F = TypeVar("F", bound=Callable[..., Any])
+
+
+def per_thread_cache(maxsize: int) -> Callable[[F], F]:
+    """Like ``functools.lru_cache(maxsize)``, but each thread has its own cache."""
+
+    def decorate(fn: F) -> F:
+        local = threading.local()
+        # Every live thread's cache, for cache_clear(); a finished thread's cache goes with it.
+        caches: weakref.WeakSet[Any] = weakref.WeakSet()
+        lock = threading.Lock()
+
+        def cached() -> Any:
+            cache = getattr(local, "cache", None)
+            if cache is None:
+                cache = local.cache = lru_cache(maxsize=maxsize)(fn)
+                with lock:
+                    caches.add(cache)
+            return cache
+
+        @wraps(fn)
+        def wrapper(*args: Any) -> Any:
+            return cached()(*args)
+
+        def cache_clear() -> None:
+            with lock:
+                live = list(caches)
+            for cache in live:
+                cache.cache_clear()
+
+        wrapper.cache_clear = cache_clear  # type: ignore[attr-defined]
+        return wrapper  # type: ignore[return-value]
+
+    return decorate
+
 
 #: Largest allowed distance between a true arc and its polygon approximation (metres).
 ARC_TOLERANCE = 1e-3
@@ -57,24 +102,24 @@ def _clean(geom: BaseGeometry) -> BaseGeometry:
     return merged
 
 
-@lru_cache(maxsize=64)
+@per_thread_cache(maxsize=64)
 def walkable_area(scene: Scene) -> BaseGeometry:
     """Union of every room (touching or overlapping rooms join), invalid outlines repaired."""
     return _clean(unary_union([_valid(polygon(r.outline)) for r in scene.rooms]))
 
 
-@lru_cache(maxsize=64)
+@per_thread_cache(maxsize=64)
 def obstacle_area(scene: Scene) -> BaseGeometry:
     return _clean(unary_union([_valid(obstacle_geometry(o)) for o in scene.obstacles]))
 
 
-@lru_cache(maxsize=64)
+@per_thread_cache(maxsize=64)
 def open_area(scene: Scene) -> BaseGeometry:
     """Rooms minus obstacles: where a point-sized agent may be."""
     return _clean(walkable_area(scene).difference(obstacle_area(scene)))
 
 
-@lru_cache(maxsize=256)
+@per_thread_cache(maxsize=256)
 def free_space(scene: Scene, radius: float) -> BaseGeometry:
     """Open area shrunk by ``radius``: where the centre of an agent of that radius may be.
 
@@ -98,7 +143,7 @@ def _valid(geom: BaseGeometry) -> BaseGeometry:
     return geom if geom.is_valid else shapely.make_valid(geom)
 
 
-@lru_cache(maxsize=64)
+@per_thread_cache(maxsize=64)
 def wall_lines(scene: Scene) -> BaseGeometry:
     """Boundary of the walkable area: the lines wall-mounted landmarks sit on."""
     return walkable_area(scene).boundary

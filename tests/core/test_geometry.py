@@ -174,3 +174,20 @@ def test_wall_segments_and_bounds() -> None:
     assert lengths.sum() == pytest.approx(16 + 4)
     assert geo.bounds(s, margin=1.0) == pytest.approx((-1.0, -1.0, 5.0, 5.0))
     assert geo.bounds(scene_of()) == (0.0, 0.0, 1.0, 1.0)
+
+
+def test_geometry_caches_are_per_thread() -> None:
+    # GEOS prepared geometries are not thread-safe (libgeos/geos issue #825), and callers may
+    # prepare what the caches return, so one thread never receives another thread's object.
+    import threading
+
+    s = scene_of([Room("sq", ((0.0, 0.0), (4.0, 0.0), (4.0, 4.0), (0.0, 4.0)))])
+    mine = geo.free_space(s, 0.3)
+    assert geo.free_space(s, 0.3) is mine  # cached within a thread
+    theirs: list[object] = []
+    worker = threading.Thread(target=lambda: theirs.append(geo.free_space(s, 0.3)))
+    worker.start()
+    worker.join()
+    assert theirs[0] is not mine and shapely.equals(theirs[0], mine)
+    geo.free_space.cache_clear()
+    assert geo.free_space(s, 0.3) is not mine
