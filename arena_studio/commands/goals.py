@@ -121,9 +121,11 @@ def format_table(source: str, scene: Scene, table: GoalTable, plans: list[GoalPl
         cells = [row[c].ljust(widths[c]) for c in range(5)]
         lines.append("  ".join(cells) + "  " + row[5])
     feasible = sum(p.feasible for p in plans)
+    regions = any(a.start.region is not None for a in scene.agents)
     lines.append(
         f"{source}: {len(plans)} goals, {feasible} feasible, {len(plans) - feasible} "
-        f"infeasible (rule {scene.goals.rule}; par time range = best..worst start-region point)"
+        f"infeasible (rule {scene.goals.rule}"
+        + ("; a time range is best..worst start-region point)" if regions else ")")
     )
     lines.append(f"note: {CAUTION}")
     return "\n".join(lines) + "\n"

@@ -127,16 +127,22 @@ def plan_goal(
         routes.append(row)
     for k, lm in enumerate(targets):
         if not np.any(np.isfinite(best[:, k])):
-            _, why = planner.route_to_landmark(0, lm)
-            return _infeasible(
-                v,
-                rule,
-                f"landmark '{scene.landmarks[lm].id}' cannot be reached by any agent"
-                + (f" ({why})" if why else ""),
-            )
+            return _infeasible(v, rule, _unreachable_reason(scene, planner, lm))
     if rule == "all_visited":
         return _plan_visits(scene, planner, v, targets, best, worst, routes)
     return _plan_together(scene, v, rule, targets, best, worst, routes)
+
+
+def _unreachable_reason(scene: Scene, planner: PathPlanner, landmark: int) -> str:
+    lm = scene.landmarks[landmark]
+    if all(planner.target(a.radius, landmark).is_empty for a in scene.agents):
+        return (
+            f"landmark '{lm.id}' is out of reach for every agent: its reach disc (radius "
+            f"{lm.reach_radius:g} m) does not meet any agent's free space (it lies inside an "
+            "obstacle, outside the rooms, or too close to a wall for the agents' size)"
+        )
+    _, why = planner.route_to_landmark(0, landmark)
+    return f"no agent can reach landmark '{lm.id}' (agent '{scene.agents[0].id}': {why})"
 
 
 def _plan_together(

@@ -157,7 +157,10 @@ def test_infeasible_goals_give_reasons() -> None:
     assert not two.feasible and "only 1 agents" in two.reason
     assert plan_goal(scene, [1, 1, 0], rule="all_visited").feasible
     unreachable = plan_goal(scene, [0, 0, 1])
-    assert not unreachable.feasible and "'inside' cannot be reached" in unreachable.reason
+    assert (
+        not unreachable.feasible
+        and "'inside' is out of reach for every agent" in unreachable.reason
+    )
     assert "no 1s" in plan_goal(scene, [0, 0, 0]).reason
     assert "4 entries" in plan_goal(scene, [1, 0, 0, 1]).reason
     assert "0s and 1s" in plan_goal(scene, [2, 0, 0]).reason
