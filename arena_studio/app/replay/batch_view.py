@@ -53,7 +53,7 @@ class GoalGrid(QWidget):
         self._scene: Scene | None = None
         self._stats: BatchStats | None = None
         self._cells: list[tuple[QRectF, GoalStat]] = []
-        self.setMinimumSize(260, 200)
+        self.setMinimumSize(220, 110)
         self.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Expanding)
         self.setMouseTracking(True)
 
@@ -170,7 +170,7 @@ class RateBars(QWidget):
         super().__init__(parent)
         self._theme = theme or load_theme("light")
         self._stats: BatchStats | None = None
-        self.setMinimumHeight(96)
+        self.setMinimumHeight(92)
         self.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Fixed)
 
     def set_theme(self, theme: Theme) -> None:
@@ -235,7 +235,7 @@ class OccupancyView(QWidget):
         self._theme = theme or load_theme("light")
         self._scene: Scene | None = None
         self._occ: Occupancy | None = None
-        self.setMinimumSize(240, 180)
+        self.setMinimumSize(200, 110)
 
     def sizeHint(self) -> QSize:
         return QSize(420, 300)

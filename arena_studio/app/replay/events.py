@@ -1,6 +1,6 @@
-"""The events of one episode for the timeline: from core.metrics, or read off the episode.
+"""The events of one episode for the timeline: from core.events, or read off the episode.
 
-``core.metrics.episode_events`` is the reference list (the same one ``arena-studio stats``
+``core.events.episode_events`` is the reference list (the same one ``arena-studio stats``
 reports). When a checkout does not have it, the viewer reads the same facts off data it
 already has: entering/leaving a reach radius (the coverage the frame painter uses), contact
 onsets, tape role changes, and the success and diagnosis steps from the episode metrics.
@@ -23,7 +23,7 @@ def episode_event_marks(
     scene: Scene, episode: Episode, metrics: Any = None
 ) -> tuple[EventMark, ...]:
     try:
-        from ...core.metrics import episode_events
+        from ...core.events import episode_events
     except ImportError:
         episode_events = None
     if episode_events is not None:

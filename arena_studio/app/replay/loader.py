@@ -17,6 +17,12 @@ from typing import Any
 
 from PySide6.QtCore import QObject, QThread, Signal
 
+#: held around every core computation the viewer runs off the UI thread (metrics, planning,
+#: episode caches): shapely's prepared geometries, which core caches per scene and shares,
+#: must not be used by two threads at once (GEOS prepared geometry is not thread-safe; two
+#: workers sharing the planner crash inside shapely.covers).
+CORE_LOCK = threading.RLock()
+
 BATCH_SECONDS = 0.1
 BATCH_MAX = 200
 _LIVE: weakref.WeakSet[StreamWorker] = weakref.WeakSet()

@@ -43,6 +43,7 @@ class PlotsPanel(QWidget):
         layout.setContentsMargins(2, 2, 2, 2)
         self.graphics = pg.GraphicsLayoutWidget(self)
         layout.addWidget(self.graphics, 1)
+        self.graphics.setMinimumHeight(100)
         self.empty_label = QLabel("Select an episode to see its plots.", self)
         self.empty_label.setAlignment(Qt.AlignmentFlag.AlignCenter)
         layout.addWidget(self.empty_label)
@@ -72,25 +73,22 @@ class PlotsPanel(QWidget):
 
         dist = self._add_plot("distance", "distance to target (m)", first)
         first = dist
+        styles = (Qt.PenStyle.SolidLine, Qt.PenStyle.DashLine, Qt.PenStyle.DotLine)
         for (agent, lm), d in sorted(prepared.distances.items()):
             landmark = scene.landmarks[lm]
             name = f"{_agent_name(scene, agent)} → {landmark.label or landmark.id}"
-            pen = pg.mkPen(self._theme.agent_color(agent), width=2)
+            k = prepared.targets[agent].index(lm) if lm in prepared.targets[agent] else 0
+            pen = pg.mkPen(self._theme.agent_color(agent), width=2, style=styles[k % 3])
             tt, dd = decimate(t, d)
             dist.plot(tt, dd, pen=pen, name=name)
-        radii = {scene.landmarks[lm].reach_radius for (_a, lm) in prepared.distances}
-        for r in sorted(radii):
-            dist.addItem(
-                pg.InfiniteLine(
-                    pos=r,
-                    angle=0,
-                    pen=pg.mkPen(
-                        self._theme.qcolor("target_highlight"),
-                        width=1,
-                        style=Qt.PenStyle.DashLine,
-                    ),
-                )
+        # team-goal targets nobody pursues still matter: the closest agent's distance to each
+        for lm, d in sorted(team_target_gaps(scene, prepared).items()):
+            landmark = scene.landmarks[lm]
+            pen = pg.mkPen(
+                self._theme.qcolor("target_highlight"), width=3, style=Qt.PenStyle.DashDotLine
             )
+            tt, dd = decimate(t, d)
+            dist.plot(tt, dd, pen=pen, name=f"nearest agent → {landmark.label} (team goal)")
         if prepared.reward_so_far is not None:
             rew = self._add_plot("reward", "reward so far", first)
             for a in range(prepared.reward_so_far.shape[1]):
@@ -111,6 +109,9 @@ class PlotsPanel(QWidget):
                 for a in range(arr.shape[1]):
                     tt, vv = decimate(t[: len(arr)], arr[:, a])
                     plot.plot(tt, vv, pen=pg.mkPen(self._theme.agent_color(a), width=2))
+        legend = dist.legend
+        if legend is not None and len(legend.items) > 4:
+            legend.setColumnCount(2)
         last = list(self.plots.values())[-1]
         last.setLabel("bottom", "time (s)")
         for plot in self.plots.values():
@@ -127,7 +128,12 @@ class PlotsPanel(QWidget):
         plot.setMenuEnabled(False)
         plot.setMouseEnabled(x=True, y=False)
         if key == "distance":
-            plot.addLegend(offset=(-10, 10), labelTextSize="8pt")
+            plot.addLegend(
+                offset=(-10, 10),
+                labelTextSize="8pt",
+                labelTextColor=self._theme.qcolor("text"),
+                brush=self._theme.qcolor("room_fill", 0.85),
+            )
         if link is not None:
             plot.setXLink(link)
         cursor = pg.InfiniteLine(
@@ -171,6 +177,23 @@ class PlotsPanel(QWidget):
                 ax = plot.getAxis(axis)
                 ax.setPen(fg)
                 ax.setTextPen(fg)
+
+
+def team_target_gaps(scene: Scene, prepared: PreparedEpisode) -> dict[int, np.ndarray]:
+    """Team-goal targets no agent pursues -> (T,) distance of the nearest agent to each."""
+    ep = prepared.episode
+    if ep.team_goal is None:
+        return {}
+    pursued = {lm for ts in prepared.targets for lm in ts}
+    out: dict[int, np.ndarray] = {}
+    for lm in np.flatnonzero(np.asarray(ep.team_goal)):
+        lm = int(lm)
+        if lm in pursued or lm >= len(scene.landmarks):
+            continue
+        lx, ly = scene.landmarks[lm].position
+        xy = np.asarray(ep.poses)[:, :, :2]
+        out[lm] = np.hypot(xy[..., 0] - lx, xy[..., 1] - ly).min(axis=1)
+    return out
 
 
 def _agent_name(scene: Scene, agent: int) -> str:

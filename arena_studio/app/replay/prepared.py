@@ -44,6 +44,7 @@ def normalise_kind(kind: str) -> str:
     for key, name in (
         ("diagnos", "diagnosis"),
         ("success", "success"),
+        ("free-space", "collision"),  # a centre leaving free space: contact with a wall
         ("collision", "collision"),
         ("collide", "collision"),
         ("role", "role"),

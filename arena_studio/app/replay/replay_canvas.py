@@ -174,7 +174,7 @@ class ReplayCanvas(SceneCanvas):
         """Pixels kept free on the right for the legend."""
         ep = self.layer_episode.episode
         shown = self.show_legend and ep is not None and self.viewport().width() > 520
-        return LEGEND_W + 20.0 if shown else 0.0
+        return LEGEND_W + 60.0 if shown else 0.0
 
     def fit_scene(self, margin_px: float = 36.0) -> None:
         """Fit the scene into the part of the view the legend leaves free."""

@@ -62,7 +62,12 @@ class ReplayWindow(QMainWindow):
         self._pending_index: int | None = None
         self._pending_step: int | None = None
         self._first_episode = True
+        self._verdict_state = "none"
         self.scene_checks_done: set[tuple[str, str, str]] = set()
+        #: how warnings reach the user (tests replace it to read the text)
+        self.warn: Callable[[str, str], object] = lambda title, text: QMessageBox.warning(
+            self, title, text
+        )
         self.clock = PlaybackClock(self)
         self.replay_actions = build_actions(self.clock, self)
         for action in self.replay_actions.values():
@@ -107,6 +112,7 @@ class ReplayWindow(QMainWindow):
         self.dock_episodes = self._dock(
             "Episodes", self.episode_list, Qt.DockWidgetArea.LeftDockWidgetArea
         )
+        self.episode_list.setMinimumWidth(260)
         self.plots = PlotsPanel(self.clock, self.theme, self)
         self.dock_plots = self._dock("Plots", self.plots, Qt.DockWidgetArea.BottomDockWidgetArea)
         self.batch = BatchPanel(self.theme, self)
@@ -362,10 +368,23 @@ class ReplayWindow(QMainWindow):
 
     # -- verdict line ------------------------------------------------------------------
     def _apply_verdict_style(self) -> None:
+        """A failed episode's line gets a tinted band and a bar in the error colour."""
         t = self.theme
+        back = t.qcolor("room_fill")
+        bar = t.hex("grid_major")[:7]
+        if self._verdict_state == "failed":
+            err = t.qcolor("error")
+            mix = 0.14
+            back.setRgbF(
+                back.redF() * (1 - mix) + err.redF() * mix,
+                back.greenF() * (1 - mix) + err.greenF() * mix,
+                back.blueF() * (1 - mix) + err.blueF() * mix,
+            )
+            bar = t.hex("error")[:7]
         self.verdict.setStyleSheet(
-            f"QLabel {{ background: {t.hex('room_fill')[:7]}; color: {t.hex('text')[:7]};"
-            f" border-top: 1px solid {t.hex('grid_major')[:7]}; }}"
+            f"QLabel {{ background: {back.name()}; color: {t.hex('text')[:7]};"
+            f" border-left: 5px solid {bar}; border-top: 1px solid {t.hex('grid_major')[:7]};"
+            " padding: 2px 6px; }"
         )
 
     def verdict_text(self) -> str:
@@ -399,6 +418,11 @@ class ReplayWindow(QMainWindow):
 
     def _update_verdict(self) -> None:
         self.verdict.setText(self.verdict_text())
+        m = None if self.prepared is None else self.prepared.metrics
+        state = "none" if m is None else ("ok" if getattr(m, "success", False) else "failed")
+        if state != self._verdict_state:
+            self._verdict_state = state
+            self._apply_verdict_style()
 
     # -- list and batch ----------------------------------------------------------------
     def _on_rows(self, rows: list) -> None:
@@ -525,8 +549,7 @@ class ReplayWindow(QMainWindow):
                     f"{Path(path).name} is the scene this tape was recorded in."
                 )
             return False
-        QMessageBox.warning(
-            self,
+        self.warn(
             "Scene differs from the tape",
             f"{Path(path).name} is not the scene this tape was recorded in (their content "
             "hashes differ). The replay keeps using the scene stored in the tape; edits to "

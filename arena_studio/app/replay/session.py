@@ -18,7 +18,7 @@ from ...core.episode import Episode
 from ...core.scene import Scene
 from .batch_stats import Occupancy
 from .events import episode_event_marks
-from .loader import BackgroundCall, StreamWorker
+from .loader import CORE_LOCK, BackgroundCall, StreamWorker
 from .prepared import PreparedEpisode, prepare_episode
 from .summary import EpisodeSummary, summarise_episode
 
@@ -31,6 +31,11 @@ def _metrics_for(scene: Scene, episode: Episode) -> Any:
 
 def load_prepared(scene: Scene, episode: Episode) -> PreparedEpisode:
     """Metrics, events, per-step arrays and the frame painter's cache for one episode."""
+    with CORE_LOCK:
+        return _load_prepared(scene, episode)
+
+
+def _load_prepared(scene: Scene, episode: Episode) -> PreparedEpisode:
     from ...render.episode_cache import episode_cache
 
     try:
@@ -99,13 +104,15 @@ class ReplaySession(QObject):
                 episode = tape.episode(i)
                 occupancy.add(episode.poses, episode.dt)
                 try:
-                    yield summarise_episode(scene, episode)
+                    with CORE_LOCK:  # released between episodes so a selection gets in
+                        row = summarise_episode(scene, episode)
                 except ImportError:
-                    yield EpisodeSummary(index=i, steps=episode.steps, loaded=True)
+                    row = EpisodeSummary(index=i, steps=episode.steps, loaded=True)
                 except Exception as exc:  # one bad episode must not stop the list
-                    yield EpisodeSummary(
+                    row = EpisodeSummary(
                         index=i, diagnosis=f"cannot compute metrics: {exc}", loaded=True
                     )
+                yield row
 
         self._worker = StreamWorker(produce, len(self.tape), self)
         self._worker.batchReady.connect(self._on_batch)
