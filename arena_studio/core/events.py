@@ -6,7 +6,7 @@ Events (kind: meaning) -- all computed from the episode's poses with the same de
 ``reached`` / ``left``  an agent's centre enters / leaves a landmark's reach disc
 ``success``             the team goal is met under the scene's rule (metrics' success step)
 ``collision``           two agents start to overlap (``agent`` is the lower index)
-``left-free-space``     an agent's centre leaves its free space
+``wall-collision``      an agent's centre leaves its free space (touches a wall or obstacle)
 ``role``                a role label from the tape takes effect (changes after step 0)
 ``diagnosis``           the step where a failed episode's diagnosis shows
 """
@@ -22,7 +22,7 @@ from .metrics import EpisodeMetrics, episode_metrics, onsets, outside_mask
 from .observe import coverage
 from .scene import Scene
 
-KINDS = ("reached", "left", "success", "collision", "left-free-space", "role", "diagnosis")
+KINDS = ("reached", "left", "success", "collision", "wall-collision", "role", "diagnosis")
 
 
 @dataclass(frozen=True)
@@ -53,7 +53,15 @@ def episode_events(
     for t, i, j in m.collision_pairs:
         out.append(Event(t, "collision", i, None, f"{ids[i]} and {ids[j]} collide"))
     for t, a in np.argwhere(onsets(outside_mask(scene, episode))):
-        out.append(Event(int(t), "left-free-space", int(a), None, f"{ids[a]} left its free space"))
+        out.append(
+            Event(
+                int(t),
+                "wall-collision",
+                int(a),
+                None,
+                f"{ids[a]} touched a wall or obstacle (left its free space)",
+            )
+        )
     for a, timeline in enumerate(episode.roles):
         for step, label in timeline:
             if step > 0 and step < episode.steps:

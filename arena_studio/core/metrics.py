@@ -371,9 +371,17 @@ def batch_metrics(scene: Scene, episodes_metrics: Sequence[EpisodeMetrics]) -> d
     return summary
 
 
+def episode_events(scene: Scene, episode: Episode, metrics: EpisodeMetrics | None = None) -> list:
+    """The episode's timeline events; see :func:`arena_studio.core.events.episode_events`."""
+    from .events import episode_events as events_of
+
+    return events_of(scene, episode, metrics)
+
+
 __all__ = [
     "EpisodeMetrics",
     "batch_metrics",
+    "episode_events",
     "episode_metrics",
     "specialisation",
 ]

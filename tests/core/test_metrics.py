@@ -115,3 +115,26 @@ def test_batch_specialisation_and_rates() -> None:
     assert summary["aligned"]["success_rate"] == 1.0
     assert summary["misaligned"]["success_rate"] == 0.0
     assert summary["by_kind"]["individual"]["episodes"] == 1
+
+
+def test_events_roles_collisions_and_walls() -> None:
+    scene = box_scene("all_at_once")
+    # agent 0 drives into the west wall: free space starts at x = 0.25 (radius 0.25)
+    a0 = np.array([[1.0, 5.0, 0.0], [0.5, 5.0, 0.0], [0.1, 5.0, 0.0], [0.5, 5.0, 0.0]])
+    a1 = np.array([[5.0, 5.0, 0.0], [5.0, 5.0, 0.0], [0.5, 5.2, 0.0], [3.0, 5.0, 0.0]])
+    ep = Episode(
+        index=0,
+        dt=0.5,
+        poses=np.stack([a0, a1], axis=1),
+        team_goal=np.array([0, 0, 1], np.uint8),
+        roles=(((0, "scout"), (2, "guard")), ((0, "scout"),)),
+    )
+    m = episode_metrics(scene, ep)
+    # derivation: free space of a 10 m room shrunk by 0.25 m; x = 0.1 is outside at step 2
+    assert m.free_space_exits == 1
+    # at step 2 the centres are 0.447 m apart (< 0.25 + 0.25): one agent-agent contact onset
+    assert m.collisions == 1
+    kinds = [(e.step, e.kind, e.agent) for e in episode_events(scene, ep, m)]
+    assert (2, "collision", 0) in kinds and (2, "wall-collision", 0) in kinds
+    assert (2, "role", 0) in kinds and not any(k[1] == "role" and k[0] == 0 for k in kinds)
+    assert kinds == sorted(kinds, key=lambda k: k[0])

@@ -322,3 +322,41 @@ def test_writer_refuses_bad_input(tmp_path: Path) -> None:
         with pytest.raises(TapeError, match="0/1"):
             w.begin_episode(team_goal=[2, 0, 0])
     assert len(open_tape(tmp_path / "w.tape")) == 1
+
+
+_plain = st.recursive(
+    st.none()
+    | st.booleans()
+    | st.integers(-(2**63), 2**64 - 1)
+    | st.floats(allow_nan=False)
+    | st.text(max_size=40)
+    | st.binary(max_size=300),
+    lambda children: (
+        st.lists(children, max_size=20)
+        | st.dictionaries(st.text(max_size=10), children, max_size=20)
+    ),
+    max_leaves=60,
+)
+
+
+@settings(max_examples=150, deadline=None)
+@given(_plain)
+def test_zero_copy_walker_agrees_with_msgpack(value: object) -> None:
+    # reference: msgpack-python's own unpacker over the same bytes (msgpack spec type table)
+    from arena_studio.core.tape.format import unpack_views
+
+    data = msgpack.packb(value, use_bin_type=True)
+    ours = unpack_views(memoryview(data))
+
+    def plain(v: object) -> object:
+        if isinstance(v, memoryview):
+            return bytes(v)
+        if isinstance(v, list):
+            return [plain(x) for x in v]
+        if isinstance(v, dict):
+            return {k: plain(x) for k, x in v.items()}
+        return v
+
+    assert plain(ours) == msgpack.unpackb(data, raw=False)
+    with pytest.raises(ValueError):
+        unpack_views(memoryview(msgpack.packb([msgpack.ExtType(3, b"x")])))
