@@ -221,11 +221,15 @@ def svg_tree(scene: Scene, theme: str = "light") -> ET.ElementTree:
             stroke_dasharray="0.8 0.6",
         )
         _el(group, "circle", cx=f"{cx:.3f}", cy=f"{cy:.3f}", r="1.1", fill=color)
+        # labels run right of the mark, or left of it where they would leave the paper
+        # (sans-serif glyphs average about 0.55 em wide; common practice, no source)
+        flip = cx + 1.8 + 0.55 * 3.0 * len(lm.label) > c.width - 1.0
         label = _el(
             group,
             "text",
-            x=f"{cx + 1.8:.3f}",
+            x=f"{cx - 1.8 if flip else cx + 1.8:.3f}",
             y=f"{cy - 1.8:.3f}",
+            text_anchor="end" if flip else "start",
             font_family="sans-serif",
             font_size="3",
             fill=colors["landmark_text"],
