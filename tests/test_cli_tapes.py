@@ -46,6 +46,10 @@ def test_rollout_then_stats(tmp_path: Path, capsys) -> None:
     assert len(lines) == 2 and lines[1].startswith("1,")
     assert main(["stats", str(out)]) == 0
     assert "4 episode(s)" in capsys.readouterr().out
+    assert main(["stats", str(out), "--json", "--episode", "0"]) == 0
+    one = json.loads(capsys.readouterr().out)["episodes"][0]
+    kinds = {e["kind"] for e in one["events"]}
+    assert one["success"] and {"reached", "success", "role"} <= kinds
 
 
 def test_stats_truncated_and_unreadable(tmp_path: Path, capsys) -> None:

@@ -89,6 +89,23 @@ def run(args: argparse.Namespace) -> int:
     summary = batch_metrics(tape.scene, metrics)
     summary["truncated"] = tape.truncated
     rows = [m.to_dict() for m in metrics]
+    if args.episode is not None:
+        from ..core.events import episode_events
+
+        ids = [a.id for a in tape.scene.agents]
+        lms = [lm.id for lm in tape.scene.landmarks]
+        events = episode_events(tape.scene, tape.episode(args.episode), metrics[0])
+        rows[0]["events"] = [
+            {
+                "step": e.step,
+                "time": round(e.step * tape.dt, 6),
+                "kind": e.kind,
+                "agent": None if e.agent is None else ids[e.agent],
+                "landmark": None if e.landmark is None else lms[e.landmark],
+                "text": e.text,
+            }
+            for e in events
+        ]
     try:
         _emit(args, tape, summary, rows)
     except BrokenPipeError:  # output piped into head and closed early: not an error
@@ -149,3 +166,5 @@ def _print_text(tape: Any, summary: dict[str, Any], rows: list[dict[str, Any]]) 
             f"{r['index']:>3}  {(r['goal_key'] or '-')[:30]:<30} {ok:<4} "
             f"{_num(r['time_to_success']):>6} {_num(r['par_ratio']):>6}  {aligned:<7}  {diag}\n"
         )
+        for e in r.get("events", ()):
+            out.write(f"       {e['time']:7.1f} s  {e['kind']:<15} {e['text']}\n")

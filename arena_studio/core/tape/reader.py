@@ -35,6 +35,7 @@ from .format import (
     KIND_END,
     KIND_HEADER,
     KIND_INDEX,
+    KINDS,
     MAGIC,
     MAX_RECORD,
     NUMBER_DTYPES,
@@ -65,6 +66,24 @@ class _Entry:
 def open_tape(path: str | Path) -> Tape:
     """Open a tape lazily (header and index only); see :class:`Tape`."""
     return Tape(Path(path))
+
+
+def _frame_at(f: Any, pos: int, size: int) -> tuple[int, memoryview, int]:
+    """Read and check the one record at ``pos`` (memory bounded by that record's size)."""
+    f.seek(pos)
+    head = f.read(FRAME_HEAD.size)
+    if len(head) < FRAME_HEAD.size:
+        raise EOFError("record header cut")
+    length, kind = FRAME_HEAD.unpack(head)
+    if kind not in KINDS:
+        raise ValueError(f"unknown record kind {kind:#04x}")
+    if length > MAX_RECORD:
+        raise ValueError(f"record claims {length} bytes (limit {MAX_RECORD})")
+    if pos + FRAME_OVERHEAD + length > size:
+        raise EOFError("record cut")
+    buf = memoryview(head + f.read(length + FRAME_OVERHEAD - FRAME_HEAD.size))
+    kind, payload, end = read_frame(buf, 0)
+    return kind, payload, pos + end
 
 
 class Tape:
@@ -245,17 +264,19 @@ class Tape:
     def _scan(self) -> tuple[list[_Entry], str]:
         """Walk the records after the header; stop at the first cut or damaged one."""
         with open(self.path, "rb") as f:
-            data = f.read()
-        buf = memoryview(data)
+            return self._scan_file(f)
+
+    def _scan_file(self, f: Any) -> tuple[list[_Entry], str]:
+        size = self.file_size
         pos = self.header_end
         entries: list[_Entry] = []
         open_begin: int | None = None
         open_steps = 0
         last_good = pos
         problem = "the file ends without an index (the writer did not finish)"
-        while pos < len(buf):
+        while pos < size:
             try:
-                kind, payload, end = read_frame(buf, pos)
+                kind, payload, end = _frame_at(f, pos, size)
                 record = self._unpack(payload, f"record at byte {pos}")
                 if not isinstance(record, dict):
                     raise ValueError("record is not a map")
@@ -297,7 +318,7 @@ class Tape:
         complete = [e for e in entries if e.complete]
         partial = [e for e in entries if not e.complete]
         text = (
-            f"{self._src}: tape is incomplete: {problem}; size {len(buf)} bytes. Recovered "
+            f"{self._src}: tape is incomplete: {problem}; size {size} bytes. Recovered "
             f"{len(complete)} complete episode(s) ({sum(e.steps for e in complete)} steps)"
         )
         if partial:
