@@ -360,3 +360,13 @@ def test_zero_copy_walker_agrees_with_msgpack(value: object) -> None:
     assert plain(ours) == msgpack.unpackb(data, raw=False)
     with pytest.raises(ValueError):
         unpack_views(memoryview(msgpack.packb([msgpack.ExtType(3, b"x")])))
+
+
+def test_close_mid_episode_keeps_its_steps(tmp_path: Path) -> None:
+    path = tmp_path / "open.tape"
+    with TapeWriter(path, SCENE) as w:
+        w.begin_episode()
+        w.steps(np.zeros((3, 2, 3)))
+    tape = open_tape(path)
+    assert not tape.truncated and tape.episode(0).steps == 3
+    assert tape.episode(0).outcome == {"unfinished": True}

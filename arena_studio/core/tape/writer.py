@@ -222,13 +222,17 @@ class TapeWriter:
 
     # -- finishing -------------------------------------------------------------------------
     def close(self) -> None:
-        """Write index and trailer, fsync, rename ``<path>.partial`` to ``path``."""
+        """Write index and trailer, fsync, rename ``<path>.partial`` to ``path``.
+
+        An episode still open is ended with outcome ``{"unfinished": True}``.
+        """
         if self._file is None:
             return
         if self._episode is not None:
-            # an unfinished episode is not indexed; its flushed chunks stay readable by recovery
-            self._flush_chunk(self._episode)
-            self._episode = None
+            if self._episode.steps:
+                # closing mid-episode keeps its steps, marked so readers can tell
+                self.end_episode(outcome={"unfinished": True})
+            self._episode = None  # a begun episode without steps is left out of the index
         table = np.asarray(self._episodes, dtype=np.int64).reshape(-1, 3)
         index = {
             "type": "index",
