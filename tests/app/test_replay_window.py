@@ -11,7 +11,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from PySide6.QtCore import QPointF, Qt
+from PySide6.QtCore import QPoint, QPointF, Qt
 
 from arena_studio.app.replay.replay_window import ReplayWindow
 from arena_studio.core.metrics import episode_metrics
@@ -173,4 +173,46 @@ def test_batch_goal_click_filters_list_and_compare_ghosts(qtbot, written_tape):
     assert w.canvas_b.isVisible() and w.canvas_b.prepared.episode.index == 0
     w.clock.seek(7)
     assert w.canvas_b.step == 7  # shared timeline
+    w.close()
+
+
+def test_scene_file_beside_the_tape_is_compared_by_content_hash(qtbot, written_tape):
+    # reference: core.scene.Scene.content_hash (SHA-256 of the canonical JSON)
+    from dataclasses import replace
+
+    from arena_studio.core.scene import save_scene
+
+    w = open_window(qtbot, written_tape)
+    said: list[str] = []
+    w.warn = lambda title, text: said.append(text)
+    same = w.scene_value
+    save_scene(same, written_tape.parent / "same.scene.json")
+    assert not w.warn_if_scene_differs(same, written_tape.parent / "same.scene.json")
+    assert said == []
+    moved = replace(same, name="hall, edited")
+    assert moved.content_hash() != same.content_hash()
+    assert w.warn_if_scene_differs(moved, written_tape.parent / "edited.scene.json")
+    assert said and "edited.scene.json is not the scene this tape was recorded in" in said[0]
+    w.close()
+
+
+def test_plot_click_and_timeline_drag_seek(qtbot, written_tape):
+    w = open_window(qtbot, written_tape)
+    w.select_episode(1)
+    assert w.wait_loaded()
+    plot = w.plots.plots["distance"]
+    w.plots.cursors["distance"].setValue(4.0)
+    w.plots.cursors["distance"].sigDragged.emit(w.plots.cursors["distance"])
+    assert w.clock.step == 40  # 4 s at dt 0.1 s
+    assert (
+        set(w.plots.plots) == {"distance", "reward", "channel:battery"} - {"channel:battery"}
+        or "distance" in w.plots.plots
+    )
+    w.clock.seek(70)
+    assert w.plots.cursors["distance"].value() == pytest.approx(7.0)
+    bar = w.timeline
+    x = 300  # the track runs from 14 px to width - 14 px over steps 0 .. steps - 1
+    qtbot.mousePress(bar, Qt.MouseButton.LeftButton, pos=QPoint(x, 30))
+    assert w.clock.step == round((x - 14) / (bar.width() - 28) * (w.clock.steps - 1))
+    del plot
     w.close()
