@@ -133,3 +133,16 @@ def test_timeline_finds_event_under_pointer(qtbot, clock):
 def test_ruler_ticks_are_1_2_5_steps(span, width, expected):
     # 1-2-5 ruler spacing: common practice for axis ticks, no source
     assert nice_tick(span, width) == pytest.approx(expected)
+
+
+def test_readme_lists_every_replay_shortcut():
+    # the README's "Replay viewer" table is the user's reference; it must not drift
+    from pathlib import Path
+
+    from arena_studio.app.replay.actions import REPLAY_ACTIONS
+
+    text = (Path(__file__).resolve().parents[2] / "README.md").read_text(encoding="utf-8")
+    section = text.split("## Replay viewer", 1)[1].split("\n## ", 1)[0]
+    for spec in REPLAY_ACTIONS:
+        for key in spec.shortcuts:
+            assert key in section, f"README does not mention {key} ({spec.title})"
