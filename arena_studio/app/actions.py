@@ -36,9 +36,7 @@ ACTIONS: tuple[ActionSpec, ...] = (
     ActionSpec(
         "edit.redo", "&Redo", ("Ctrl+Shift+Z", "Ctrl+Y"), "Edit", "file", "redo", "can_redo"
     ),
-    ActionSpec(
-        "edit.delete", "&Delete", (SK.Delete, "Backspace"), "Edit", "", "delete", "has_selection"
-    ),
+    ActionSpec("edit.delete", "&Delete", (SK.Delete,), "Edit", "", "delete", "has_selection"),
     ActionSpec("edit.select_all", "Select &All", (SK.SelectAll,), "Edit"),
     ActionSpec(
         "edit.snap",

@@ -96,6 +96,9 @@ class EditorCanvas(SceneCanvas):
             self.refresh()
             event.accept()
             return
+        if name == "backspace" and self.editor.delete_selection():
+            event.accept()
+            return
         if name == "escape":
             self.editor.set_selection(())
             event.accept()

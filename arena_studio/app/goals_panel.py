@@ -100,6 +100,13 @@ class GoalsPanel(QWidget):
         buttons.addWidget(self.add_button, 1)
         buttons.addWidget(self.remove_button)
         lay.addLayout(buttons)
+        weight_row = QFormLayout()
+        self.vector_weight = NumberField("", minimum=0.0)
+        self.vector_weight.setObjectName("goal_vector_weight")
+        self.vector_weight.setToolTip("Sampling weight of the explicit goal chosen in the list")
+        self.vector_weight.committed.connect(self._vector_weight)
+        weight_row.addRow("Weight of chosen goal", self.vector_weight)
+        lay.addLayout(weight_row)
 
         self.summary = QLabel()
         self.summary.setWordWrap(True)
@@ -199,7 +206,14 @@ class GoalsPanel(QWidget):
         picked = [k for k in self.editor.selection() if k[0] == "landmarks"]
         self.add_button.setEnabled(bool(picked))
         row = self._current_row()
-        self.remove_button.setEnabled(row is not None and self._explicit_index(row) is not None)
+        idx = None if row is None else self._explicit_index(row)
+        self.remove_button.setEnabled(idx is not None)
+        self.vector_weight.setEnabled(idx is not None)
+        if idx is not None:
+            g = self.editor.scene.goals
+            self.vector_weight.set_value(g.vector_weights[idx] if g.vector_weights else 1.0)
+        else:
+            self.vector_weight.set_value(None)
 
     # -- widgets -> model --------------------------------------------------------------
     def _rule_changed(self, _i: int) -> None:
@@ -245,6 +259,17 @@ class GoalsPanel(QWidget):
         vw = (*g.vector_weights, 1.0) if g.vector_weights is not None else None
         new = edits.set_goals(scene, vectors=(*g.vectors, vec), vector_weights=vw)
         self.editor.apply(new, "Add goal")
+
+    def _vector_weight(self, value: float) -> None:
+        row = self._current_row()
+        idx = None if row is None else self._explicit_index(row)
+        if idx is None:
+            return
+        g = self.editor.scene.goals
+        weights = list(g.vector_weights or (1.0,) * len(g.vectors))
+        weights[idx] = value
+        new = edits.set_goals(self.editor.scene, vector_weights=tuple(weights))
+        self.editor.apply(new, "Weight of goal")
 
     def _current_row(self) -> int | None:
         rows = self.table.selectionModel().selectedRows() if self.table.selectionModel() else []

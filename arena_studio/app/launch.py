@@ -8,6 +8,7 @@ import sys
 from pathlib import Path
 
 SCREENSHOT_SIZE = (1600, 1000)
+DEMO_TAPE = "greenhouse-shared.tape"  # recorded in the default demo scene
 
 
 def _ensure_platform(screenshot: bool) -> None:
@@ -41,6 +42,7 @@ def launch_app(args: argparse.Namespace) -> int:
     if path is not None:
         opened = window.open_path(path)
         if not opened and screenshot:
+            print(f"arena-studio: {path}: could not be opened", file=sys.stderr)
             return 2
         if screenshot and Path(path).suffix.lower() == ".tape":
             from .replay import prepare_screenshot
@@ -53,11 +55,27 @@ def launch_app(args: argparse.Namespace) -> int:
                 print(f"arena-studio: {problem}", file=sys.stderr)
                 return 2
     elif not window.document.dirty:
+        if not screenshot:
+            _open_demo_tape(window)
         window.open_demo()
     if screenshot:
         return _screenshot(app, window, Path(screenshot))
     window.show()
     return int(app.exec())
+
+
+def _open_demo_tape(window: object) -> None:
+    """With no argument the replay page also gets the demo tape (the editor stays in front)."""
+    from ..core.resources import demo_path
+
+    tape = demo_path(DEMO_TAPE)
+    if not tape.is_file():
+        return
+    try:
+        from .replay import open_tape
+    except ImportError:
+        return
+    open_tape(window, tape)
 
 
 def _screenshot(app: object, window: object, out: Path) -> int:
@@ -69,8 +87,9 @@ def _screenshot(app: object, window: object, out: Path) -> int:
     window.resize(*SCREENSHOT_SIZE)
     window.show()
     QApplication.processEvents()
-    window.canvas.fit_scene()
-    window.run_checks_now()
+    if window.modes.currentWidget() is window.canvas:
+        window.canvas.fit_scene()
+        window.run_checks_now()
     QApplication.processEvents()
     image = window.grab()
     ok = image.save(str(out))

@@ -538,6 +538,9 @@ class MainWindow(QMainWindow):
         self.recovery.discard()
         self._autosave.stop()
         self.checks.shutdown()
+        for name, page in self._mode_pages.items():
+            if name != "layout":
+                page.close()  # other modes stop their background work (e.g. tape loading)
         event.accept()
 
     def dragEnterEvent(self, event: QDragEnterEvent) -> None:

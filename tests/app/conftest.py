@@ -73,6 +73,8 @@ def make_window(qtbot, tmp_path: Path, settings_path: Path):
     yield make
     for win in windows:
         win.document.undo_stack.setClean()
+        win.document._restored_dirty = False
+        win.close()  # stops the checker thread and any mode's background work
         win.checks.shutdown()
 
 

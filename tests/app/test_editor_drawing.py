@@ -146,3 +146,17 @@ def test_rubber_band_shift_click_and_arrow_nudge(qtbot, main_window):
     xs = [lm.position for lm in win.document.scene.landmarks]
     assert all(math.isclose(p[0], x + step) for p, x in zip(xs, (1, 2, 3), strict=True))
     assert all(math.isclose(p[1], 1.0 + step / 10) for p in xs)
+
+
+def test_backspace_while_drawing_drops_the_last_vertex(qtbot, main_window):
+    win = main_window
+    _empty(win)
+    win.editor.tools["tool.landmark"].press(ToolEvent((5.0, 3.0), tol=0.01))
+    win.editor.set_tool("tool.obstacle_polygon")
+    for x, y in [(0, 0), (2, 0), (2, 2), (9, 9)]:
+        _click(qtbot, win, x, y)
+    qtbot.keyClick(win.canvas, Qt.Key.Key_Backspace)
+    qtbot.keyClick(win.canvas, Qt.Key.Key_Return)
+    (obs,) = win.document.scene.obstacles
+    assert len(obs.outline) == 3 and (9.0, 9.0) not in obs.outline
+    assert len(win.document.scene.landmarks) == 1  # the selection was not deleted

@@ -99,3 +99,45 @@ def test_settings_persist_recent_files_theme_and_layout(make_window, tmp_path):
     assert second.theme.name == "dark"
     assert not second.docks["findings"].isVisible()
     assert second.recent_menu.actions()[0].text() == "keep.scene.json"
+
+
+def test_dropping_a_scene_file_opens_it(qtbot, main_window):
+    from PySide6.QtCore import QMimeData, QPointF, Qt, QUrl
+    from PySide6.QtGui import QDropEvent
+
+    mime = QMimeData()
+    mime.setUrls([QUrl.fromLocalFile(str(demo_path("lab-wing.scene.json")))])
+    event = QDropEvent(
+        QPointF(50, 50),
+        Qt.DropAction.CopyAction,
+        mime,
+        Qt.MouseButton.NoButton,
+        Qt.KeyboardModifier.NoModifier,
+    )
+    main_window.dropEvent(event)
+    assert main_window.document.path.name == "lab-wing.scene.json"
+    assert main_window.document.scene == load_scene(demo_path("lab-wing.scene.json"))
+    assert "lab-wing.scene.json" in main_window.windowTitle()
+
+
+def test_no_argument_start_opens_demo_scene_and_demo_tape(main_window):
+    from arena_studio.app.launch import _open_demo_tape
+
+    _open_demo_tape(main_window)
+    assert main_window.open_demo()
+    assert main_window.modes.currentWidget() is main_window.canvas
+    assert main_window.document.path.name == DEFAULT_DEMO_SCENE
+    assert main_window.dialogs.errors == []
+    page = main_window.replay_page  # the replay mode holds the demo tape, ready to show
+    assert page.session is not None and len(page.session) > 0
+    page.session.wait_summaries(30000)  # let its background work finish before teardown
+
+
+def test_standard_shortcuts_from_the_action_table(main_window):
+    # Common desktop practice, no source: Ctrl+Y and Ctrl+Shift+Z both redo.
+    keys = {a.toString() for a in main_window.actions_by_id["edit.redo"].shortcuts()}
+    assert {"Ctrl+Shift+Z", "Ctrl+Y"} <= keys
+    assert main_window.actions_by_id["file.save_as"].shortcut().toString() == "Ctrl+Shift+S"
+    assert main_window.actions_by_id["edit.undo"].shortcut().toString() == "Ctrl+Z"
+    file_menu = main_window.menuBar().actions()[0].menu()
+    assert main_window.recent_menu.menuAction() in file_menu.actions()
