@@ -114,8 +114,31 @@ def overlap_mask(scene: Scene, episode: Episode) -> np.ndarray:
     return out
 
 
-@lru_cache(maxsize=128)
+class _SceneMemo:
+    """Per-scene results, looked up by identity first: hashing a whole scene value on every
+    episode costs more than the metrics of a short episode."""
+
+    def __init__(self) -> None:
+        self.scene: Scene | None = None
+        self.values: dict[Any, Any] = {}
+
+    def get(self, scene: Scene, key: Any, make: Any) -> Any:
+        if self.scene is not scene:
+            self.scene, self.values = scene, {}
+        if key not in self.values:
+            self.values[key] = make()
+        return self.values[key]
+
+
+_MEMO = _SceneMemo()
+
+
 def _prepared_free_space(scene: Scene, radius: float) -> Any:
+    return _MEMO.get(scene, ("free", radius), lambda: _make_free_space(scene, radius))
+
+
+@lru_cache(maxsize=128)
+def _make_free_space(scene: Scene, radius: float) -> Any:
     geom = free_space(scene, max(radius - FREE_SPACE_TOLERANCE, 0.0))
     shapely.prepare(geom)
     return geom
@@ -256,7 +279,9 @@ def episode_metrics(scene: Scene, episode: Episode) -> EpisodeMetrics:
     overlap = overlap_mask(scene, episode)
     pair_onsets = onsets(overlap)
     outside = outside_mask(scene, episode)
-    par = par_time_of(scene, targets) if targets else None
+    par = (
+        _MEMO.get(scene, ("par", targets), lambda: par_time_of(scene, targets)) if targets else None
+    )
     tts = None if step is None else step * episode.dt
     ratio = None
     if par is not None and tts is not None:
