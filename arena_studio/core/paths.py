@@ -7,12 +7,13 @@ How a path is found (one agent radius r, one landmark):
    is truly within the reach radius). T empty -> unreachable, with a reason.
 2. The reduced visibility graph of F (:mod:`visibility`): reflex vertices, bitangent legs that
    stay inside closed F.
-3. Every node v gets a straight "last leg" to T when one is clear: its candidate end points are
-   the point of T nearest to v, the nearest point of every part of T, and T's corners (its
-   vertices on F's boundary, where the disc's rim meets a wall or an obstacle). The cheapest
-   clear candidate is v's end point. A leg to the nearest point of T is optimal whenever it is
-   clear; when it is blocked, the best end point lies on a shadow edge through another node or
-   at one of T's corners, which the candidates cover.
+3. Every node v gets a straight "last leg" to T when one is clear. Such a leg first enters T
+   through the disc's rim (a point of T on a wall inside the disc is never reached before
+   the rim), and along a visible arc of the rim the distance from v is smallest at the
+   point nearest v, at an end of the arc where the rim meets a wall or an obstacle (a
+   "corner" of T), or at a shadow edge through another node. So the candidate end points
+   are the point of T nearest v, the nearest point of every part of T, and T's rim corners;
+   shadow edges are covered by the graph. The cheapest clear candidate is v's end point.
 4. One Dijkstra run (scipy.sparse.csgraph) from T (a sink node joined to every node by its last
    leg) gives every node's distance to T. This is the cache, one per (agent radius, landmark).
 5. A start s is joined to the graph by the clear legs from s to nodes, and directly to T by the
@@ -128,14 +129,24 @@ def _best_straight_leg(
     return lengths[rows, pick], cands[rows, pick]
 
 
-def build_target_field(graph: VisibilityGraph, target: BaseGeometry) -> TargetField:
-    """Dijkstra from ``target`` over ``graph`` (see the module docstring, steps 3-4)."""
+def build_target_field(
+    graph: VisibilityGraph, target: BaseGeometry, rim: BaseGeometry | None = None
+) -> TargetField:
+    """Dijkstra from ``target`` over ``graph`` (see the module docstring, steps 3-4).
+
+    ``rim`` is the reach disc's outline: only target corners on it (where the rim meets a
+    wall or an obstacle) are end-point candidates. Without it every target vertex on the
+    free-space boundary is one.
+    """
     v = graph.node_count
     corners = np.zeros((0, 2))
     if not target.is_empty and not graph.free.is_empty:
         verts = shapely.get_coordinates(target)
-        near_wall = shapely.distance(graph.free.boundary, shapely.points(verts)) < 1e-7
-        corners = np.unique(verts[near_wall], axis=0)
+        pts = shapely.points(verts)
+        keep = shapely.distance(graph.free.boundary, pts) < 1e-7
+        if rim is not None:
+            keep &= shapely.distance(rim, pts) < 1e-7
+        corners = np.unique(verts[keep], axis=0)
     if target.is_empty or v == 0:
         return TargetField(
             target, corners, np.full(v, np.inf), np.full(v, -1), np.full((v, 2), np.nan)
@@ -156,6 +167,48 @@ def build_target_field(graph: VisibilityGraph, target: BaseGeometry) -> TargetFi
     return TargetField(target, corners, dist, toward, end)
 
 
+#: Start-to-node legs are tested in batches of this many, best lower bound first.
+LEG_BATCH = 24
+
+
+def _best_first_node(
+    graph: VisibilityGraph, field: TargetField, starts: np.ndarray, limit: np.ndarray
+) -> tuple[np.ndarray, np.ndarray]:
+    """Per start: the best total via a first node (inf: none) and that node (-1: none).
+
+    The total via node v is |s v| + dist(v) when the leg s -> v is clear. Nodes are tried in
+    order of that total (a lower bound until the leg is tested), a batch at a time, so the
+    first clear one is the answer; a start stops early once its next bound exceeds ``limit``
+    (its best direct leg). This tests a few dozen legs per start instead of every node.
+    """
+    n = starts.shape[0]
+    via = np.full(n, np.inf)
+    via_node = np.full(n, -1, dtype=np.int64)
+    finite = np.flatnonzero(np.isfinite(field.dist))
+    if finite.size == 0 or n == 0:
+        return via, via_node
+    nodes = graph.nodes[finite]
+    diff = starts[:, None, :] - nodes[None, :, :]
+    bound = np.hypot(diff[..., 0], diff[..., 1]) + field.dist[finite][None, :]
+    order = np.argsort(bound, axis=1, kind="stable")
+    pending = np.arange(n)
+    for first in range(0, finite.size, LEG_BATCH):
+        if pending.size:
+            pending = pending[bound[pending, order[pending, first]] < limit[pending]]
+        if pending.size == 0:
+            break
+        cols = order[pending, first : first + LEG_BATCH]
+        a = np.repeat(starts[pending], cols.shape[1], axis=0)
+        ok = graph.clear(a, nodes[cols.ravel()]).reshape(cols.shape)
+        hit = ok.any(axis=1)
+        pick = cols[hit, ok[hit].argmax(axis=1)]
+        rows = pending[hit]
+        via[rows] = bound[rows, pick]
+        via_node[rows] = finite[pick]
+        pending = pending[~hit]
+    return via, via_node
+
+
 class PathPlanner:
     """Shortest paths for one scene; caches free space, graphs and target fields.
 
@@ -169,7 +222,6 @@ class PathPlanner:
         self._fields: dict[tuple[float, int], TargetField] = {}
         self._routes: dict[tuple[int, int], tuple[Route | None, str | None]] = {}
         self._samples: dict[int, tuple[np.ndarray, str | None]] = {}
-        self._legs: dict[tuple[float, bytes], tuple[np.ndarray, np.ndarray]] = {}
         self._gaps: dict[tuple[float, int, int], float] = {}
 
     # -- caches --------------------------------------------------------------------------
@@ -180,17 +232,22 @@ class PathPlanner:
             self._graphs[key] = build_visibility_graph(free_space(self.scene, key), key)
         return self._graphs[key]
 
+    def reach_disc(self, landmark_index: int) -> Polygon:
+        """The landmark's reach disc as a polygon inscribed in the circle (within 1 mm)."""
+        lm = self.scene.landmarks[landmark_index]
+        return Point(lm.position).buffer(lm.reach_radius, quad_segs=quad_segments(lm.reach_radius))
+
     def target(self, radius: float, landmark_index: int) -> BaseGeometry:
         """Free space ∩ reach disc: where the agent's centre counts as reaching the landmark."""
-        lm = self.scene.landmarks[landmark_index]
-        disc = Point(lm.position).buffer(lm.reach_radius, quad_segs=quad_segments(lm.reach_radius))
-        return self.graph(radius).free.intersection(disc)
+        return self.graph(radius).free.intersection(self.reach_disc(landmark_index))
 
     def field(self, radius: float, landmark_index: int) -> TargetField:
         key = (float(radius), int(landmark_index))
         if key not in self._fields:
             graph = self.graph(radius)
-            self._fields[key] = build_target_field(graph, self.target(radius, landmark_index))
+            rim = self.reach_disc(landmark_index).exterior
+            target = self.target(radius, landmark_index)
+            self._fields[key] = build_target_field(graph, target, rim)
         return self._fields[key]
 
     # -- queries -------------------------------------------------------------------------
@@ -328,14 +385,7 @@ class PathPlanner:
         in_target = shapely.distance(field.target, shapely.points(starts)) <= 1e-9
         direct, direct_end = _best_straight_leg(graph, field.target, field.corners, starts)
         direct = np.where(in_target, 0.0, direct)
-        ok, legs = self._start_legs(graph, starts)
-        total = np.where(ok, legs + field.dist[None, :], np.inf)
-        via = np.full(n, np.inf)
-        via_node = np.full(n, -1)
-        if total.shape[1]:
-            pick = np.argmin(total, axis=1)
-            via = total[np.arange(n), pick]
-            via_node = pick
+        via, via_node = _best_first_node(graph, field, starts, direct)
         plans: list[tuple[int, np.ndarray | None]] = []
         costs = np.minimum(direct, via)
         for k in range(n):
@@ -346,27 +396,6 @@ class PathPlanner:
             else:
                 plans.append((int(via_node[k]), None))
         return costs, plans
-
-    def _start_legs(
-        self, graph: VisibilityGraph, starts: np.ndarray
-    ) -> tuple[np.ndarray, np.ndarray]:
-        """(n, V) clear-leg mask and leg lengths from start points to every graph node.
-
-        They do not depend on the landmark, so they are cached per (radius, start points).
-        """
-        key = (graph.radius, starts.tobytes())
-        cached = self._legs.get(key)
-        if cached is not None:
-            return cached
-        n, v = starts.shape[0], graph.node_count
-        a = np.repeat(starts, v, axis=0)
-        b = np.tile(graph.nodes, (n, 1))
-        ok = graph.clear(a, b).reshape(n, v)
-        legs = np.hypot(*(b - a).T).reshape(n, v)
-        if len(self._legs) > 256:
-            self._legs.clear()
-        self._legs[key] = (ok, legs)
-        return ok, legs
 
     @staticmethod
     def _polyline(
