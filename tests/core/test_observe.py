@@ -187,3 +187,28 @@ def test_run_lengths_against_python_loop(cond: list[bool], extra: int) -> None:
         expected.append(run >= extra + 1)
     assert got.tolist() == expected
     assert hold_steps(float(extra), 1.0) == extra
+
+
+@settings(max_examples=20, deadline=None)
+@given(st.integers(1, 6), st.integers(1, 3), st.integers(0, 2**31 - 1))
+def test_time_axis_equals_step_by_step(steps: int, agents: int, seed: int) -> None:
+    # reference: the same function called one step at a time in a Python loop, and
+    # math.atan2 / math.hypot for one entry
+    rng = np.random.default_rng(seed)
+    scene = _scene([(1.0, 2.0), (-3.0, 0.5), (0.0, -4.0)], reach=1.5, agents=agents)
+    poses = np.concatenate(
+        [rng.uniform(-5, 5, (steps, agents, 2)), rng.uniform(-7, 7, (steps, agents, 1))], axis=2
+    )
+    whole = observe(scene, poses)
+    for t in range(steps):
+        one = observe(scene, poses[t])
+        for key, value in one.items():
+            np.testing.assert_array_equal(whole[key][t], value)
+    x, y, h = poses[0, 0]
+    expected = math.atan2(2.0 - y, 1.0 - x) - h
+    expected = math.atan2(math.sin(expected), math.cos(expected))
+    assert whole["landmark_bearing"][0, 0, 0] == pytest.approx(expected, abs=1e-9)
+    assert whole["landmark_range"][0, 0, 0] == pytest.approx(math.hypot(1.0 - x, 2.0 - y))
+    goal = [1, 0, 1]
+    series = goal_reached(scene, goal, poses[..., :2], rule="all_at_once", hold_time=0.0)
+    assert series.tolist() == [goal_reached(scene, goal, poses[t, :, :2]) for t in range(steps)]
