@@ -13,7 +13,7 @@ from __future__ import annotations
 import numpy as np
 from PySide6.QtCore import QRectF, QSize, Qt, Signal
 from PySide6.QtGui import QColor, QImage, QMouseEvent, QPainter, QPen
-from PySide6.QtWidgets import QHBoxLayout, QSizePolicy, QVBoxLayout, QWidget
+from PySide6.QtWidgets import QHBoxLayout, QSizePolicy, QWidget
 
 from ...core.scene import Scene
 from ...render.scene_painter import SceneOptions, paint_scene
@@ -53,7 +53,7 @@ class GoalGrid(QWidget):
         self._scene: Scene | None = None
         self._stats: BatchStats | None = None
         self._cells: list[tuple[QRectF, GoalStat]] = []
-        self.setMinimumSize(220, 110)
+        self.setMinimumSize(240, 110)
         self.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Expanding)
         self.setMouseTracking(True)
 
@@ -106,34 +106,35 @@ class GoalGrid(QWidget):
         large = [g for g in self._stats.goals if len(g.goal) > 2]
         fm = p.fontMetrics()
         head_w = min(max((fm.horizontalAdvance(t) for t in labels), default=40) + 10, 130)
-        rows_h = self.height() - 24 - (34 if large else 0)
-        cell = max(min((self.width() - head_w - 8) / max(n, 1), (rows_h - 8) / max(n, 1), 72), 18)
+        rows_h = self.height() - 24 - 18 - (34 if large else 0)
+        cw = max(min((self.width() - head_w - 8) / max(n, 1), 90.0), 22.0)  # cells may be
+        ch = max(min((rows_h - 4) / max(n, 1), 60.0), 16.0)  # wider than tall
         x0, y0 = head_w, 24.0
         p.setPen(theme.qcolor("text"))
         p.drawText(
             QRectF(4, 2, self.width() - 8, 20),
             Qt.AlignmentFlag.AlignLeft,
-            "Success by goal (row + column = a two-target goal)",
+            "Success by goal (row + column: a two-target goal)",
         )
         y0 += 18.0  # column heads
         p.setPen(theme.qcolor("text_muted"))
         for j, text in enumerate(labels):
             p.drawText(
-                QRectF(x0 + j * cell, y0 - 18, cell, 16),
+                QRectF(x0 + j * cw, y0 - 18, cw, 16),
                 Qt.AlignmentFlag.AlignCenter,
-                fm.elidedText(text, Qt.TextElideMode.ElideRight, int(cell - 2)),
+                fm.elidedText(text, Qt.TextElideMode.ElideRight, int(cw - 2)),
             )
         for i, text in enumerate(labels):
-            y = y0 + i * cell
+            y = y0 + i * ch
             p.drawText(
-                QRectF(2, y, head_w - 6, cell),
+                QRectF(2, y, head_w - 6, ch),
                 Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter,
                 fm.elidedText(text, Qt.TextElideMode.ElideRight, int(head_w - 8)),
             )
         for stat in small:
             i = stat.goal[0]
             j = stat.goal[-1]
-            rect = QRectF(x0 + j * cell + 1, y0 + i * cell + 1, cell - 2, cell - 2)
+            rect = QRectF(x0 + j * cw + 1, y0 + i * ch + 1, cw - 2, ch - 2)
             self._paint_cell(p, rect, stat, diagonal=(i == j))
         if large:
             y = self.height() - 32.0
@@ -158,7 +159,11 @@ class GoalGrid(QWidget):
         if wide:
             text = f"{stat.label}: {stat.rate:.0%} ({stat.successes}/{stat.episodes})"
         if rect.height() < 30 and not wide:
-            text = f"{stat.rate:.0%}"
+            text = (
+                f"{stat.rate:.0%}"
+                if rect.width() < 70
+                else f"{stat.rate:.0%} ({stat.successes}/{stat.episodes})"
+            )
         p.drawText(rect, Qt.AlignmentFlag.AlignCenter, text)
         self._cells.append((rect, stat))
 
@@ -170,8 +175,8 @@ class RateBars(QWidget):
         super().__init__(parent)
         self._theme = theme or load_theme("light")
         self._stats: BatchStats | None = None
-        self.setMinimumHeight(92)
-        self.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Fixed)
+        self.setMinimumSize(260, 92)
+        self.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Preferred)
 
     def set_theme(self, theme: Theme) -> None:
         self._theme = theme
@@ -194,10 +199,10 @@ class RateBars(QWidget):
         m_rate, m_txt = frac(s.misaligned_success)
         n_aligned = s.aligned_success[1]
         return [
-            ("Success, all episodes", s.success_rate, f"{s.scored} scored"),
-            ("Aligned (same goal)", s.alignment_rate, f"{n_aligned}/{s.scored}"),
-            ("Success when aligned", a_rate, a_txt),
-            ("Success when misaligned", m_rate, m_txt),
+            ("Success, all", s.success_rate, f"{s.scored} scored"),
+            ("Aligned", s.alignment_rate, f"{n_aligned}/{s.scored}"),
+            ("Success, aligned", a_rate, a_txt),
+            ("Success, misaligned", m_rate, m_txt),
         ]
 
     def paintEvent(self, _event) -> None:
@@ -205,12 +210,12 @@ class RateBars(QWidget):
         theme = self._theme
         p.fillRect(self.rect(), theme.qcolor("room_fill"))
         rows = self.rows()
-        label_w = 170.0
+        label_w = 132.0
         for k, (name, rate, note) in enumerate(rows):
             y = 4 + k * 22.0
             p.setPen(theme.qcolor("text"))
             p.drawText(QRectF(6, y, label_w, 20), Qt.AlignmentFlag.AlignVCenter, name)
-            track = QRectF(label_w, y + 4, max(self.width() - label_w - 110, 40), 12)
+            track = QRectF(label_w, y + 4, max(self.width() - label_w - 96, 30), 12)
             p.setPen(Qt.PenStyle.NoPen)
             p.setBrush(theme.qcolor("background"))
             p.drawRect(track)
@@ -301,7 +306,7 @@ class OccupancyView(QWidget):
         p.drawText(
             QRectF(4, 0, self.width() - 8, header),
             Qt.AlignmentFlag.AlignVCenter,
-            "Where agents spent time (all episodes; darker = longer)",
+            "Time spent here, all episodes (darker = longer)",
         )
         p.end()
 
@@ -315,13 +320,11 @@ class BatchPanel(QWidget):
         self.grid = GoalGrid(theme, self)
         self.bars = RateBars(theme, self)
         self.occupancy = OccupancyView(theme, self)
-        left = QVBoxLayout()
-        left.addWidget(self.grid, 1)
-        left.addWidget(self.bars)
-        layout = QHBoxLayout(self)
+        layout = QHBoxLayout(self)  # side by side: each part gets the dock's full height
         layout.setContentsMargins(2, 2, 2, 2)
-        layout.addLayout(left, 1)
-        layout.addWidget(self.occupancy, 1)
+        layout.addWidget(self.grid, 3)
+        layout.addWidget(self.bars, 2)
+        layout.addWidget(self.occupancy, 3)
         self.grid.goalClicked.connect(self.goalClicked)
 
     def set_theme(self, theme: Theme) -> None:

@@ -81,11 +81,8 @@ def _clip_action(window: Any, page: ReplayWindow):
     def run() -> None:
         if page.session is None or page.prepared is None:
             return
-        dialog = opener(
-            page,
-            page.session.tape,
-            page.prepared.episode.index,
-        )
+        page.clock.pause()
+        dialog = opener(page, page.session.tape, page.prepared.episode.index, page.clock.time)
         if hasattr(dialog, "exec"):
             dialog.exec()
 
