@@ -58,6 +58,7 @@ class ClipSpec:
     frame: FrameOptions = field(default_factory=FrameOptions)
     title_seconds: float = 0.0  # a title card before each episode (needs frame.title)
     crf: int = 20  # H.264 quality (lower is better and bigger)
+    preset: str = "ultrafast"  # x264 speed preset: export is encoder-bound, files stay small
 
 
 @dataclass
@@ -264,7 +265,7 @@ def _ffmpeg_args(exe: str, kind: str, size: tuple[int, int], spec: ClipSpec, out
     raw_in = f"-f rawvideo -pix_fmt bgra -s {w}x{h} -framerate {spec.fps:g} -i pipe:0 -an"
     head = [exe, "-hide_banner", "-loglevel", "error", "-nostdin", "-y", *raw_in.split()]
     if kind == "mp4":
-        encode = f"-c:v libx264 -preset veryfast -crf {spec.crf} -pix_fmt yuv420p"
+        encode = f"-c:v libx264 -preset {spec.preset} -crf {spec.crf} -pix_fmt yuv420p"
         return [*head, *encode.split(), "-movflags", "+faststart", "-f", "mp4", out]
     # one palette for the whole clip, ordered dithering (stable between frames, no shimmer)
     graph = (

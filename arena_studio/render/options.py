@@ -13,6 +13,7 @@ class FrameOptions:
     trails: bool = True
     trail_seconds: float = 4.0
     trail_bands: int = 4
+    fast_trails: bool = False  # 1-pixel trails always (interactive scrubbing); else auto
     roles: str = "auto"  # "auto" (tape labels when present), "derived", "tape", "none"
     team_goal: bool = True
     pursued: bool = True

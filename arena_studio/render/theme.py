@@ -48,12 +48,18 @@ class Theme:
 
 def parse_hex(text: str) -> QColor:
     """``#RRGGBB`` or ``#RRGGBBAA`` (alpha last, as CSS writes it) to a QColor."""
+    return QColor(*_rgba(text))
+
+
+@cache
+def _rgba(text: str) -> tuple[int, int, int, int]:
+    """Parsed once per colour string: painters ask for the same few colours every frame."""
     body = text.lstrip("#")
     if len(body) not in (6, 8):
         raise ValueError(f"colour {text!r} is not #RRGGBB or #RRGGBBAA")
     r, g, b = (int(body[i : i + 2], 16) for i in (0, 2, 4))
     a = int(body[6:8], 16) if len(body) == 8 else 255
-    return QColor(r, g, b, a)
+    return (r, g, b, a)
 
 
 @cache
