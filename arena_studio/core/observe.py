@@ -174,12 +174,12 @@ def goal_reached(
     arr = np.asarray(positions, dtype=np.float64)
     if arr.ndim not in (2, 3):
         raise ValueError(f"positions: expected (A, 2) or (T, A, 2), got shape {arr.shape}")
-    covered = coverage(scene, arr).any(axis=-2)[..., targets]  # (K,) or (T, K)
+    covered: np.ndarray = np.asarray(coverage(scene, arr).any(axis=-2))[..., targets]
     if arr.ndim == 2:
         return bool(covered.all())
     extra = hold_steps(hold, dt)
     if rule in ("all_at_end", "all_at_once"):
-        return _run_lengths(covered.all(axis=-1)) > extra
+        return _run_lengths(np.asarray(covered.all(axis=-1))) > extra
     held = _run_lengths(covered) > extra  # (T, K)
     visited = np.logical_or.accumulate(held, axis=0)
     return visited.all(axis=-1)

@@ -425,6 +425,7 @@ class PathPlanner:
             return self._samples[agent_index]
         agent = self.scene.agents[agent_index]
         start = agent.start
+        result: tuple[np.ndarray, str | None]
         if start.pose is not None:
             result = (np.array([start.pose[:2]], dtype=np.float64), None)
         else:

@@ -277,7 +277,9 @@ def svg_tree(scene: Scene, theme: str = "light") -> ET.ElementTree:
 def svg_bytes(scene: Scene, theme: str = "light") -> bytes:
     tree = svg_tree(scene, theme)
     ET.indent(tree)
-    return ET.tostring(tree.getroot(), encoding="utf-8", xml_declaration=True) + b"\n"
+    root = tree.getroot()
+    assert root is not None
+    return ET.tostring(root, encoding="utf-8", xml_declaration=True) + b"\n"
 
 
 def write_svg(scene: Scene, path: Path) -> list[Path]:
