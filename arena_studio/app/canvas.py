@@ -54,7 +54,7 @@ class SceneCanvas(QGraphicsView):
         self.setViewportUpdateMode(QGraphicsView.ViewportUpdateMode.FullViewportUpdate)
         self.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
         self.setVerticalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
-        self.setTransformationAnchor(QGraphicsView.ViewportAnchor.AnchorUnderMouse)
+        self.setTransformationAnchor(QGraphicsView.ViewportAnchor.NoAnchor)
         self.setResizeAnchor(QGraphicsView.ViewportAnchor.AnchorViewCenter)
         self.setMouseTracking(True)
         self.setFocusPolicy(Qt.FocusPolicy.StrongFocus)
@@ -105,10 +105,18 @@ class SceneCanvas(QGraphicsView):
         self.centerOn(QPointF((minx + maxx) / 2, (miny + maxy) / 2))
         self.zoom_changed.emit(s)
 
-    def zoom_by(self, factor: float) -> None:
+    def zoom_by(self, factor: float, anchor: QPoint | None = None) -> None:
+        """Zoom keeping the world point under ``anchor`` (viewport pixels; default centre)."""
         ppm = self.pixels_per_metre()
         factor = min(max(factor, MIN_PPM / ppm), MAX_PPM / ppm)
+        if anchor is None:
+            anchor = self.viewport().rect().center()
+        fixed = self.mapToScene(anchor)
         self.scale(factor, factor)
+        drift = self.mapFromScene(fixed) - anchor
+        h, v = self.horizontalScrollBar(), self.verticalScrollBar()
+        h.setValue(h.value() + drift.x())
+        v.setValue(v.value() + drift.y())
         self.zoom_changed.emit(self.pixels_per_metre())
 
     def zoom_in(self) -> None:
@@ -185,7 +193,7 @@ class SceneCanvas(QGraphicsView):
     def wheelEvent(self, event: QWheelEvent) -> None:
         steps = event.angleDelta().y() / 120.0
         if steps:
-            self.zoom_by(1.2**steps)
+            self.zoom_by(1.2**steps, event.position().toPoint())
         event.accept()
 
     def keyPressEvent(self, event: QKeyEvent) -> None:
