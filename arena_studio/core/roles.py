@@ -33,6 +33,7 @@ import math
 import numpy as np
 
 from .episode import Episode
+from .observe import coverage
 from .scene import Scene
 
 MOVING, HEADING, HOLDING, IDLE, OFF_GOAL = 0, 1, 2, 3, 4
@@ -56,17 +57,8 @@ _CHUNK_ELEMENTS = 1 << 21
 
 
 def _coverage(scene: Scene, positions: np.ndarray) -> np.ndarray:
-    """(..., A, 2) -> (..., A, L) bool; the planning engineer's ``observe.coverage`` if present."""
-    try:
-        from .observe import coverage
-    except ImportError:  # not landed yet in this checkout
-        coverage = None
-    if coverage is not None:
-        return np.asarray(coverage(scene, positions), dtype=bool)
-    lm = np.array([lmk.position for lmk in scene.landmarks], dtype=np.float64).reshape(-1, 2)
-    reach = np.array([lmk.reach_radius for lmk in scene.landmarks], dtype=np.float64)
-    d = np.linalg.norm(positions[..., None, :] - lm, axis=-1)
-    return d <= reach
+    """(..., A, 2) -> (..., A, L) bool: the shared definition in ``observe.coverage``."""
+    return np.asarray(coverage(scene, positions), dtype=bool)
 
 
 def team_mask(scene: Scene, episode: Episode) -> np.ndarray:

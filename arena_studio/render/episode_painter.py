@@ -91,7 +91,7 @@ def paint_episode_frame(
     if opts.pursued:
         paint_pursued(painter, cache, step, view, theme, ui)
     if opts.collisions:
-        paint_collisions(painter, cache, step, view, theme, ui)
+        paint_collisions(painter, cache, step, view, theme, ui, opts)
     paint_agents(painter, cache, step, view, theme, opts, ui)
     painter.restore()
 
@@ -237,13 +237,25 @@ def paint_pursued(
 
 
 def paint_collisions(
-    painter: QPainter, cache: EpisodeCache, step: int, view: ViewTransform, theme: Theme, ui: float
+    painter: QPainter,
+    cache: EpisodeCache,
+    step: int,
+    view: ViewTransform,
+    theme: Theme,
+    ui: float,
+    opts: FrameOptions | None = None,
 ) -> None:
     ev = cache.collisions
     if len(ev) == 0:
         return
+    # contacts stay marked while they are inside the trail window (at least 2 s), so a long
+    # crowded episode does not bury the scene in old marks
+    opts = opts or FrameOptions()
+    steps_per_s = 1.0 / cache.episode.dt if cache.episode.dt > 0 else 1.0
+    keep = max(opts.trail_seconds, 2.0) * steps_per_s
     upto = int(np.searchsorted(ev[:, 0], step, side="right"))
-    ev = ev[max(0, upto - 200) : upto]
+    since = int(np.searchsorted(ev[:, 0], step - keep, side="left"))
+    ev = ev[max(since, upto - 200) : upto]
     if len(ev) == 0:
         return
     recent_steps = 1.0 / cache.episode.dt if cache.episode.dt > 0 else 1

@@ -68,11 +68,16 @@ def paint_legend(
     cache = episode_cache(scene, episode)
     painter.save()
     painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
-    painter.setPen(QPen(theme.qcolor("grid_major"), 1.0))
-    painter.setBrush(theme.qcolor("room_fill"))
-    painter.drawRoundedRect(rect, 6 * ui, 6 * ui)
     row = 20 * ui
     sections = _sections(cache, scene, options, ui, rect, row, columns)
+    if columns:
+        used = max(len(rows) + 1 for _t, rows in sections) * row
+    else:
+        used = sum((len(rows) + 1) * row for _t, rows in sections) + 0.4 * row * (len(sections) - 1)
+    box = QRectF(rect.x(), rect.y(), rect.width(), min(rect.height(), used + 12 * ui))
+    painter.setPen(QPen(theme.qcolor("grid_major"), 1.0))
+    painter.setBrush(theme.qcolor("room_fill"))
+    painter.drawRoundedRect(box, 6 * ui, 6 * ui)
     width = rect.width() / max(1, len(sections)) if columns else rect.width()
     x0, y = rect.x() + 12 * ui, rect.y() + 18 * ui
     head, body = font(12 * ui, bold=True), font(11.5 * ui)
