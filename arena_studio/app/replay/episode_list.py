@@ -145,6 +145,8 @@ class EpisodeTableModel(QAbstractTableModel):
             return "-" if value in (None, "") else str(value)
         if role == Qt.ItemDataRole.ToolTipRole and key == "diagnosis" and s.diagnosis:
             return s.diagnosis
+        if role == Qt.ItemDataRole.ToolTipRole and key == "goal_label" and s.loaded:
+            return s.goal_label
         if role == Qt.ItemDataRole.TextAlignmentRole and key in (
             "index",
             "time_to_success",

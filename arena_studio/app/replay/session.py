@@ -8,6 +8,7 @@ worker thread; the newest selection wins.
 
 from __future__ import annotations
 
+import contextlib
 from collections.abc import Callable, Iterator
 from pathlib import Path
 from typing import Any
@@ -53,7 +54,11 @@ def _load_prepared(scene: Scene, episode: Episode) -> PreparedEpisode:
         events=events,
         metrics=metrics,
     )
-    episode_cache(scene, episode)  # built here, off the UI thread; frames then only slice it
+    cache = episode_cache(scene, episode)  # built here, off the UI thread; frames only slice it
+    # par-time paths plan routes with shapely; compute them here (under CORE_LOCK) so that
+    # turning them on never plans on the UI thread while a worker uses the same geometry
+    with contextlib.suppress(Exception):  # no plan: the option just shows no paths
+        cache.par_time_paths()
     return prepared
 
 
