@@ -33,6 +33,7 @@ class PropertiesPanel(QScrollArea):
         self._updaters: list[Callable[[Scene], None]] = []
         editor.selection_changed.connect(self.rebuild)
         editor.document.changed.connect(self.refresh)
+        editor.preview_changed.connect(self.refresh)  # a vertex was picked or dropped
         self.rebuild()
 
     # -- building ----------------------------------------------------------------------
@@ -46,10 +47,13 @@ class PropertiesPanel(QScrollArea):
         if obj is None:
             return (key, len(self.editor.selection()))
         extra: tuple[Any, ...] = ()
+        av = self.editor.active_vertex
+        if av is not None and av[0] == key:
+            extra = ("vertex", av[1])
         if isinstance(obj, Obstacle):
-            extra = (obj.kind,)
+            extra = (*extra, obj.kind)
         elif isinstance(obj, Agent):
-            extra = (obj.start.pose is None,)
+            extra = (*extra, obj.start.pose is None)
         return (key, type(obj).__name__, *extra)
 
     def rebuild(self) -> None:
@@ -437,6 +441,30 @@ class PropertiesPanel(QScrollArea):
             return f"{len(pts)} vertices, {area:.2f} m²"
 
         self._info(form, what, text)
+        av = self.editor.active_vertex
+        if av is not None and self._key is not None and av[0] == self._key:
+            key, index = av
+
+            def vertex(scene: Scene, axis: int) -> float | None:
+                pts = outline(get(scene)) if get(scene) is not None else None
+                return pts[index][axis] if pts and index < len(pts) else None
+
+            def move(scene: Scene, axis: int, value: float) -> Scene:
+                pts = outline(get(scene))
+                xy = list(pts[index])
+                xy[axis] = value
+                return edits.set_vertex(scene, key, index, (xy[0], xy[1]))
+
+            for axis, name in ((0, "x"), (1, "y")):
+                self._add(
+                    form,
+                    f"Vertex {index + 1} {name}",
+                    f"vertex_{name}",
+                    NumberField("m"),
+                    lambda s, a=axis: vertex(s, a),
+                    lambda s, v, a=axis: move(s, a, v),
+                    "Move vertex",
+                )
         hint = QLabel(
             "Drag a handle to move a vertex, double-click an edge to add one, "
             "Delete removes the picked vertex."

@@ -88,6 +88,7 @@ class SceneLayer(QGraphicsItem):
         self.highlight: tuple[int, ...] = ()  # landmark indices of a goal being shown
         # The static scene is drawn by the same painter as stills and clips.
         self.options = SceneOptions(grid=True, scale_bar=False, fill_background=False)
+        self.show_agent_ids = True  # the replay viewer may label agents its own way
         self.setZValue(10)
 
     def boundingRect(self) -> QRectF:
@@ -104,7 +105,8 @@ class SceneLayer(QGraphicsItem):
         painter.resetTransform()
         paint_scene(painter, self.scene_value, view, self.theme, self.options, size)
         painter.restore()
-        self._paint_agent_ids(painter)
+        if self.show_agent_ids:
+            self._paint_agent_ids(painter)
         self._paint_highlight(painter)
         self._paint_selection(painter)
         self._paint_findings(painter)

@@ -53,3 +53,20 @@ def test_wall_landmark_stays_on_wall_and_heading_in_degrees(main_window):
     assert win.editor.selection() == (("agents", "rover-a"),)
     win.document.undo_stack.undo()
     assert win.document.scene.agents[0].id == "rover"
+
+
+def test_picked_vertex_has_coordinate_fields(main_window):
+    from arena_studio.app.tools import ToolEvent
+
+    win = main_window
+    win.document.reset(SCENE, None)
+    win.editor.set_selection([("rooms", "hall")])
+    assert "vertex_x" not in win.properties.fields
+    win.editor.tools["tool.select"].press(ToolEvent((6.0, 4.0), tol=0.1))
+    win.editor.tools["tool.select"].release(ToolEvent((6.0, 4.0), tol=0.1))
+    fields = win.properties.fields
+    assert fields["vertex_x"].edit.text() == "6" and fields["vertex_y"].edit.text() == "4"
+    assert not _enter(fields["vertex_y"], "four")
+    assert win.document.scene == SCENE
+    assert _enter(fields["vertex_y"], "5.5")
+    assert win.document.scene.rooms[0].outline[2] == (6.0, 5.5)
