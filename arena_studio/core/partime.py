@@ -5,9 +5,11 @@ turning and acceleration are ignored, so the par time is a bound no real run can
 
 - ``all_at_end`` / ``all_at_once``: every target needs its own agent at the same time, so
   the par time is the bottleneck (min-max) assignment of distinct agents to targets, ties
-  broken by the smallest total (:func:`assignment.bottleneck_assignment`). More targets than
-  agents is infeasible under these rules (one agent is counted for one target even where two
-  reach discs overlap).
+  broken by the smallest total (:func:`assignment.bottleneck_assignment`). Where reach discs
+  overlap, one agent may cover several targets from a point inside all their discs (as
+  :func:`observe.goal_reached` counts it); then, up to :data:`EXACT_LIMIT` targets, every
+  split of the targets into such groups is searched exactly. Otherwise more targets than
+  agents is infeasible under these rules.
 - ``all_visited``: agents may visit several targets in turn. The cost of an order is the
   start-to-first-target time plus, between targets, the shortest distance between their reach
   regions (:meth:`PathPlanner.landmark_gap`, a lower bound on that leg). Up to
@@ -130,7 +132,7 @@ def plan_goal(
             return _infeasible(v, rule, _unreachable_reason(scene, planner, lm))
     if rule == "all_visited":
         return _plan_visits(scene, planner, v, targets, best, worst, routes)
-    return _plan_together(scene, v, rule, targets, best, worst, routes)
+    return _plan_together(scene, planner, v, rule, targets, best, worst, routes)
 
 
 def _unreachable_reason(scene: Scene, planner: PathPlanner, landmark: int) -> str:
@@ -147,6 +149,7 @@ def _unreachable_reason(scene: Scene, planner: PathPlanner, landmark: int) -> st
 
 def _plan_together(
     scene: Scene,
+    planner: PathPlanner,
     v: tuple[int, ...],
     rule: str,
     targets: list[int],
@@ -155,12 +158,19 @@ def _plan_together(
     routes: list[list[Route | None]],
 ) -> GoalPlan:
     agents = scene.agents
+    overlaps = _overlaps(scene, planner, targets)
+    if overlaps and len(targets) <= EXACT_LIMIT:
+        return _plan_groups(scene, planner, v, rule, targets, best, worst, overlaps)
     if len(targets) > len(agents):
         return _infeasible(
             v,
             rule,
             f"goal has {len(targets)} targets but the scene has only {len(agents)} agents; "
-            f"under {rule} every target needs its own agent at the same time",
+            f"under {rule} every target needs its own agent at the same time (no two "
+            "targets' reach discs overlap, so no agent can cover two)"
+            if not overlaps
+            else f"goal has {len(targets)} targets but the scene has only {len(agents)} "
+            f"agents (overlapping reach discs are used only up to {EXACT_LIMIT} targets)",
         )
     found = bottleneck_assignment(best)
     if found is None:
@@ -189,6 +199,102 @@ def _plan_together(
         par_time_worst=worst_time,
         path_time=found.bottleneck,
     )
+
+
+def _overlaps(scene: Scene, planner: PathPlanner, targets: list[int]) -> dict[float, np.ndarray]:
+    """Per agent radius, the (K, K) bool matrix of target pairs one agent can cover at once.
+
+    Empty when no pair overlaps for any radius (the common case: plain assignment).
+    """
+    out: dict[float, np.ndarray] = {}
+    k = len(targets)
+    for radius in sorted({float(a.radius) for a in scene.agents}):
+        pair = np.eye(k, dtype=bool)
+        for i in range(k):
+            for j in range(i + 1, k):
+                pair[i, j] = pair[j, i] = planner.reach_overlap(radius, targets[i], targets[j])
+        if pair.sum() > k:
+            out[radius] = pair
+    if not out:
+        return {}
+    for radius in {float(a.radius) for a in scene.agents} - out.keys():
+        out[radius] = np.eye(k, dtype=bool)
+    return out
+
+
+def _plan_groups(
+    scene: Scene,
+    planner: PathPlanner,
+    v: tuple[int, ...],
+    rule: str,
+    targets: list[int],
+    best: np.ndarray,
+    worst: np.ndarray,
+    overlaps: dict[float, np.ndarray],
+) -> GoalPlan:
+    """Simultaneous rules where reach discs overlap: one agent may cover a group of targets
+    from a point inside all their discs. Exact: every split of the targets into groups, each
+    to its own agent, minimising (largest time, total) (:func:`_best_partition`)."""
+    k = len(targets)
+    full = 1 << k
+    costs: list[list[float]] = []
+    worst_costs: list[list[float]] = []
+    routes: dict[tuple[int, int], Route] = {}
+    for a, agent in enumerate(scene.agents):
+        pair = overlaps[float(agent.radius)]
+        row, wrow = [0.0] * full, [0.0] * full
+        for mask in range(1, full):
+            members = [t for t in range(k) if mask >> t & 1]
+            if len(members) == 1:
+                row[mask], wrow[mask] = best[a, members[0]], worst[a, members[0]]
+                continue
+            if not all(pair[i, j] for i in members for j in members):
+                row[mask] = wrow[mask] = math.inf
+                continue
+            route, _ = planner.route_to_group(a, tuple(targets[t] for t in members))
+            if route is None:
+                row[mask] = wrow[mask] = math.inf
+                continue
+            routes[(a, mask)] = route
+            row[mask] = route.length / agent.max_speed
+            wl = route.worst_length if route.worst_length is not None else route.length
+            wrow[mask] = wl / agent.max_speed
+        costs.append(row)
+        worst_costs.append(wrow)
+    found = _best_partition(costs, k)
+    if found is None:
+        return _infeasible(
+            v,
+            rule,
+            f"goal has {k} targets and no way for the {len(scene.agents)} agents to cover them "
+            "all at once, even with one agent covering targets whose reach discs overlap",
+        )
+    (par, _), subsets = found
+    assignment: dict[str, list[str]] = {}
+    paths: dict[str, np.ndarray] = {}
+    for a, mask in enumerate(subsets):
+        if not mask:
+            continue
+        members = [t for t in range(k) if mask >> t & 1]
+        agent = scene.agents[a]
+        assignment[agent.id] = [scene.landmarks[targets[t]].id for t in members]
+        if len(members) == 1:
+            route, _ = planner.route_to_landmark(a, targets[members[0]])
+        else:
+            route = routes[(a, mask)]
+        assert route is not None
+        paths[agent.id] = route.points
+    worst_par = None
+    if worst_costs != costs:
+        wf = _best_partition(worst_costs, k)
+        worst_par = None if wf is None else wf[0][0]
+    shared = [aid for aid, lms in assignment.items() if len(lms) > 1]
+    note = (
+        f"{', '.join(shared)} covers several targets at once (their reach discs overlap)"
+        if shared
+        else None
+    )
+    return GoalPlan(v, rule, True, par, assignment, paths, None, True, worst_par, par, note)
 
 
 # -- all_visited ---------------------------------------------------------------------------

@@ -130,17 +130,23 @@ def _best_straight_leg(
 
 
 def build_target_field(
-    graph: VisibilityGraph, target: BaseGeometry, rim: BaseGeometry | None = None
+    graph: VisibilityGraph,
+    target: BaseGeometry,
+    rim: BaseGeometry | None = None,
+    every_vertex: bool = False,
 ) -> TargetField:
     """Dijkstra from ``target`` over ``graph`` (see the module docstring, steps 3-4).
 
     ``rim`` is the reach disc's outline: only target corners on it (where the rim meets a
     wall or an obstacle) are end-point candidates. Without it every target vertex on the
-    free-space boundary is one.
+    free-space boundary is one; with ``every_vertex`` every vertex of the target is (for
+    targets bounded by several rims, such as where reach discs overlap).
     """
     v = graph.node_count
     corners = np.zeros((0, 2))
-    if not target.is_empty and not graph.free.is_empty:
+    if every_vertex and not target.is_empty:
+        corners = np.unique(shapely.get_coordinates(target), axis=0)
+    elif not target.is_empty and not graph.free.is_empty:
         verts = shapely.get_coordinates(target)
         pts = shapely.points(verts)
         keep = shapely.distance(graph.free.boundary, pts) < 1e-7
@@ -223,6 +229,8 @@ class PathPlanner:
         self._routes: dict[tuple[int, int], tuple[Route | None, str | None]] = {}
         self._samples: dict[int, tuple[np.ndarray, str | None]] = {}
         self._gaps: dict[tuple[float, int, int], float] = {}
+        self._group_fields: dict[tuple[float, tuple[int, ...]], TargetField] = {}
+        self._overlap: dict[tuple[float, int, int], bool] = {}
 
     # -- caches --------------------------------------------------------------------------
     def graph(self, radius: float) -> VisibilityGraph:
@@ -293,6 +301,55 @@ class PathPlanner:
         if start_xy is None:
             self._routes[key] = result
         return result
+
+    def reach_overlap(self, radius: float, i: int, j: int) -> bool:
+        """One agent of ``radius`` can be within reach of landmarks i and j at once (cached)."""
+        a, b = sorted((int(i), int(j)))
+        key = (float(radius), a, b)
+        if key not in self._overlap:
+            la, lb = self.scene.landmarks[a], self.scene.landmarks[b]
+            apart = math.dist(la.position, lb.position) > la.reach_radius + lb.reach_radius
+            self._overlap[key] = a == b or (
+                not apart and not self.shared_reach(radius, (a, b)).is_empty
+            )
+        return self._overlap[key]
+
+    def shared_reach(self, radius: float, landmarks: tuple[int, ...]) -> BaseGeometry:
+        """Where one agent's centre reaches every landmark of ``landmarks`` at once."""
+        region = self.target(radius, landmarks[0])
+        for i in landmarks[1:]:
+            if region.is_empty:
+                break
+            region = region.intersection(self.target(radius, i))
+        return region
+
+    def route_to_group(
+        self, agent_index: int, landmarks: tuple[int, ...]
+    ) -> tuple[Route | None, str | None]:
+        """Shortest route from the agent's start to a point that reaches all ``landmarks``.
+
+        Used where reach discs overlap, so one agent can cover several targets at once.
+        Cached per (agent, landmark set); a single landmark is :meth:`route_to_landmark`.
+        """
+        group = tuple(sorted(int(i) for i in landmarks))
+        if len(group) == 1:
+            return self.route_to_landmark(agent_index, group[0])
+        agent = self.scene.agents[agent_index]
+        key = (float(agent.radius), group)
+        if key not in self._group_fields:
+            region = self.shared_reach(agent.radius, group)
+            self._group_fields[key] = build_target_field(
+                self.graph(agent.radius), region, every_vertex=True
+            )
+        field = self._group_fields[key]
+        names = ", ".join(f"'{self.scene.landmarks[i].id}'" for i in group)
+        if field.target.is_empty:
+            return None, f"no point reaches landmarks {names} at once for agent '{agent.id}'"
+        samples, reason = self._start_samples(agent_index)
+        if reason is not None:
+            return None, reason
+        route, why = self._route_from_points(agent_index, field, samples)
+        return route, None if why is None else why.replace("{landmark}", f"landmarks {names}")
 
     def route_between(
         self, agent_index: int, start_xy: tuple[float, float], goal_xy: tuple[float, float]

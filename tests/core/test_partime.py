@@ -168,3 +168,30 @@ def test_infeasible_goals_give_reasons() -> None:
     assert "no agents" in plan_goal(nobody, [1, 0, 0]).reason
     plans = plan_all(scene)
     assert [p.feasible for p in plans] == [True, True, False, False, False, False]
+
+
+def test_overlapping_discs_one_agent_covers_both() -> None:
+    # plane geometry: discs of radius 0.8 about (5, 0) and (6, 0); the point of their lens
+    # nearest the agent at the origin is (5.2, 0) (leftmost point of the second disc, inside
+    # the first), 5.2 m away; at 1 m/s the par time is 5.2 s (polygon arcs within 1 mm)
+    scene = Scene(
+        rooms=(Room("r", ((-10, -10), (20, -10), (20, 10), (-10, 10))),),
+        landmarks=(Landmark("p", "P", (5.0, 0.0), 0.8), Landmark("q", "Q", (6.0, 0.0), 0.8)),
+        agents=(Agent("solo", 0.1, 1.0, 1.0, Start(pose=(0.0, 0.0, 0.0))),),
+        goals=GoalSpec(rule="all_at_once", families=(2,)),
+    )
+    plan = plan_goal(scene, [1, 1])
+    assert plan.feasible and plan.par_time == pytest.approx(5.2, abs=2e-3)
+    assert plan.assignment == {"solo": ["p", "q"]} and plan.note
+    # the single source of truth agrees: standing at the path's end reaches the goal
+    from arena_studio.core.observe import goal_reached
+
+    end = plan.paths["solo"][-1]
+    assert goal_reached(scene, [1, 1], np.array([end]))
+    # moved apart, the discs no longer overlap: one agent cannot hold both at once
+    apart = dataclasses.replace(
+        scene,
+        landmarks=(scene.landmarks[0], dataclasses.replace(scene.landmarks[1], position=(8.0, 0))),
+    )
+    far = plan_goal(apart, [1, 1])
+    assert not far.feasible and "no two targets' reach discs overlap" in far.reason
