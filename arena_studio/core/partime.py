@@ -1,7 +1,10 @@
 """Par time of a team goal: a lower bound on the time to success, with who goes where.
 
 Travel time = shortest collision-free path length (:mod:`paths`) / the agent's top speed;
-turning and acceleration are ignored, so the par time is a bound no real run can beat.
+turning and acceleration are ignored, so the par time is a bound no real run can beat. The
+scene's hold time is added the way the success rule needs it: once after the last arrival
+under the simultaneous rules, and under ``all_visited`` once per target an agent must hold
+on its own (consecutive targets whose reach regions overlap can be held together).
 
 - ``all_at_end`` / ``all_at_once``: every target needs its own agent at the same time, so
   the par time is the bottleneck (min-max) assignment of distinct agents to targets, ties
@@ -32,7 +35,7 @@ Public API::
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
@@ -59,8 +62,9 @@ class GoalPlan:
     reason: str | None = None
     exact: bool = True
     par_time_worst: float | None = None  # start regions: the plan from their worst point
-    path_time: float | None = None  # slowest agent along the returned polylines
+    path_time: float | None = None  # slowest agent's travel along the returned polylines
     note: str | None = None
+    hold_time: float = 0.0  # the scene's hold time, included in par_time
 
     def to_dict(self) -> dict[str, Any]:
         return {
@@ -70,6 +74,7 @@ class GoalPlan:
             "par_time": self.par_time,
             "par_time_worst": self.par_time_worst,
             "exact": self.exact,
+            "hold_time": self.hold_time,
             "assignment": {k: list(v) for k, v in self.assignment.items()},
             "reason": self.reason,
             "note": self.note,
@@ -130,9 +135,15 @@ def plan_goal(
     for k, lm in enumerate(targets):
         if not np.any(np.isfinite(best[:, k])):
             return _infeasible(v, rule, _unreachable_reason(scene, planner, lm))
+    hold = float(scene.goals.hold_time)
     if rule == "all_visited":
         return _plan_visits(scene, planner, v, targets, best, worst, routes)
-    return _plan_together(scene, planner, v, rule, targets, best, worst, routes)
+    plan = _plan_together(scene, planner, v, rule, targets, best, worst, routes)
+    if not plan.feasible or hold <= 0 or plan.par_time is None:
+        return plan
+    # success needs the targets covered for the hold time after the last arrival
+    worst_par = None if plan.par_time_worst is None else plan.par_time_worst + hold
+    return replace(plan, par_time=plan.par_time + hold, par_time_worst=worst_par, hold_time=hold)
 
 
 def _unreachable_reason(scene: Scene, planner: PathPlanner, landmark: int) -> str:
@@ -392,7 +403,11 @@ def _plan_visits(
     routes: list[list[Route | None]],
 ) -> GoalPlan:
     rule = "all_visited"
-    gaps = _visit_costs(scene, planner, targets)
+    # each target must stay covered for the hold time; an agent moving on to a target whose
+    # reach region it is not already in (gap > 0) cannot be holding both at once
+    hold = float(scene.goals.hold_time)
+    gaps = [g + hold * (g > 0) for g in _visit_costs(scene, planner, targets)]
+    best, worst = best + hold, worst + hold
     k = len(targets)
     if k <= EXACT_LIMIT:
         tables = [_orders(best[a], gaps[a]) for a in range(len(scene.agents))]
@@ -427,7 +442,9 @@ def _plan_visits(
         pts = _chain(planner, a, [targets[t] for t in seq], routes[a][seq[0]])
         paths[agent.id] = pts
         path_time = max(path_time, polyline_length(pts) / agent.max_speed)
-    return GoalPlan(v, rule, True, par, assignment, paths, None, exact, worst_par, path_time, note)
+    return GoalPlan(
+        v, rule, True, par, assignment, paths, None, exact, worst_par, path_time, note, hold
+    )
 
 
 def _chain(planner: PathPlanner, agent: int, order: list[int], first: Route | None) -> np.ndarray:

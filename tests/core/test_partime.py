@@ -110,10 +110,12 @@ def test_simultaneous_against_brute_force_on_greenhouse() -> None:
             max(times[a, t] for a, t in zip(perm, targets, strict=True))
             for perm in itertools.permutations(range(agents), len(targets))
         )
-        assert plan.feasible and plan.par_time == pytest.approx(expected, abs=1e-12)
+        # plus the scene's hold time (0.5 s), needed after the last arrival
+        hold = scene.goals.hold_time
+        assert plan.feasible and plan.par_time == pytest.approx(expected + hold, abs=1e-12)
         for agent_id, seq in plan.assignment.items():
             a = scene.agent_index(agent_id)
-            assert times[a, scene.landmark_index(seq[0])] <= plan.par_time + 1e-12
+            assert times[a, scene.landmark_index(seq[0])] <= plan.par_time - hold + 1e-12
             assert np.allclose(
                 plan.paths[agent_id][-1],
                 planner.path_to_landmark(a, scene.landmark_index(seq[0])).end,
@@ -195,3 +197,17 @@ def test_overlapping_discs_one_agent_covers_both() -> None:
     )
     far = plan_goal(apart, [1, 1])
     assert not far.feasible and "no two targets' reach discs overlap" in far.reason
+
+
+def test_hold_time_is_part_of_par_time() -> None:
+    # plane geometry: targets 9.5 m and (then) 9 m of travel apart for one agent at 1 m/s;
+    # success needs each covered for the hold time (observe.goal_reached's definition)
+    base = _open_scene([(10.0, 0.0), (20.0, 0.0)], [(0.0, 0.0)], [1.0])
+    held = dataclasses.replace(base, goals=dataclasses.replace(base.goals, hold_time=0.5))
+    together = plan_goal(held, [1, 0], rule="all_at_once")
+    assert together.par_time == pytest.approx(9.5 + 0.5, abs=2e-3)
+    assert together.hold_time == 0.5
+    visits = plan_goal(held, [1, 1], rule="all_visited")
+    # start -> disc 0: 9.5 m, hold 0.5 s, disc 0 -> disc 1: 10 - 1 = 9 m, hold 0.5 s
+    assert visits.par_time == pytest.approx(9.5 + 0.5 + 9.0 + 0.5, abs=4e-3)
+    assert plan_goal(base, [1, 1], rule="all_visited").par_time == pytest.approx(18.5, abs=4e-3)
