@@ -132,7 +132,8 @@ class PlotsPanel(QWidget):
                 offset=(-10, 10),
                 labelTextSize="8pt",
                 labelTextColor=self._theme.qcolor("text"),
-                brush=self._theme.qcolor("room_fill", 0.85),
+                brush=self._theme.qcolor("room_fill", 0.6),
+                pen=None,
             )
         if link is not None:
             plot.setXLink(link)

@@ -237,16 +237,20 @@ class ReplayCanvas(SceneCanvas):
         painter.restore()
 
     def _paint_caption(self, painter: QPainter, width: int) -> None:
+        """Which episode this view shows (compare mode): top centre, or under the clock
+        when the view is too narrow for both."""
         from ...render.drawing import font, label
 
+        wide = width >= 760
+        anchor = QPointF(width / 2, 18) if wide else QPointF(10, 84)
         label(
             painter,
             self.caption or "",
-            QPointF(width / 2, 18),
+            anchor,
             font(12, True),
             self.theme.qcolor("text"),
             self.theme.qcolor("background", alpha=0.85),
-            "center",
+            "center" if wide else "left",
             4,
         )
 

@@ -388,33 +388,35 @@ class ReplayWindow(QMainWindow):
         )
 
     def verdict_text(self) -> str:
-        p = self.prepared
-        if p is None:
+        """One line on the shown episode (and the compared one): outcome, and for a failure,
+        what went wrong and when, with a link to that moment."""
+        if self.prepared is None:
             return ""
-        m = p.metrics
-        ep = p.episode
+        text = self._verdict_for(self.prepared, "Episode", link=True)
+        if self.compare is not None and self.compare_mode != "off":
+            text += "<br>" + self._verdict_for(self.compare, "Compared: episode", link=False)
+        return text
+
+    def _verdict_for(self, p: PreparedEpisode, lead: str, link: bool) -> str:
+        m, ep = p.metrics, p.episode
         if m is None:
-            return f"Episode {ep.index}: {ep.steps} steps, {ep.duration:.1f} s."
+            return f"{lead} {ep.index}: {ep.steps} steps, {ep.duration:.1f} s."
         err = self.theme.hex("error")[:7]
         goal = getattr(m, "goal_key", None) or "-"
         if getattr(m, "success", False):
             t = getattr(m, "time_to_success", None)
             ratio = getattr(m, "par_ratio", None)
-            extra = f", {ratio:.0%} of par pace" if ratio else ""
-            return (
-                f"Episode {ep.index} <b>succeeded</b> at goal {goal}"
-                f"{'' if t is None else f' in {t:.1f} s'}{extra}."
-            )
+            extra = f" (par time / time taken = {ratio:.2f})" if ratio else ""
+            took = "" if t is None else f" in {t:.1f} s"
+            return f"{lead} {ep.index} <b>succeeded</b> at goal {goal}{took}{extra}."
         diag = getattr(m, "diagnosis", None)
         dstep = getattr(m, "diagnosis_step", None)
         if not diag:
-            return f"Episode {ep.index} <b style='color:{err}'>failed</b> goal {goal}."
+            return f"{lead} {ep.index} <b style='color:{err}'>failed</b> goal {goal}."
         when = "" if dstep is None else f" at {dstep * ep.dt:.1f} s"
         seen = dstep is not None and self.clock.step >= dstep
-        link = "" if seen else " &nbsp;<a href='diag'>go there (D)</a>"
-        return (
-            f"Episode {ep.index} <b style='color:{err}'>failed</b> goal {goal}: {diag}{when}.{link}"
-        )
+        go = " &nbsp;<a href='diag'>go there (D)</a>" if link and not seen else ""
+        return f"{lead} {ep.index} <b style='color:{err}'>failed</b> goal {goal}: {diag}{when}.{go}"
 
     def _update_verdict(self) -> None:
         self.verdict.setText(self.verdict_text())
@@ -458,6 +460,7 @@ class ReplayWindow(QMainWindow):
         if mode not in {m for _, m in COMPARE_MODES}:
             raise ValueError(f"unknown compare mode {mode!r}")
         self.compare_mode = mode
+        self._update_verdict()
         i = [m for _, m in COMPARE_MODES].index(mode)
         if self.compare_box.currentIndex() != i:
             self.compare_box.blockSignals(True)
@@ -468,6 +471,7 @@ class ReplayWindow(QMainWindow):
     def _on_compare_ready(self, prepared: PreparedEpisode | None) -> None:
         self.compare = prepared
         self._update_compare_views()
+        self._update_verdict()
 
     def _update_compare_views(self) -> None:
         other = self.compare
