@@ -77,6 +77,7 @@ def goals_document(scene: Scene, table: GoalTable, plans: list[GoalPlan]) -> dic
     return {
         "scene": scene.name,
         "rule": scene.goals.rule,
+        "hold_time": scene.goals.hold_time,
         "content_hash": scene.content_hash(),
         "problems": [
             {"severity": p.severity, "where": p.where, "message": p.message} for p in table.problems
