@@ -200,7 +200,7 @@ def paint_trails(
             pen = QPen(theme.agent_color(g, alpha=alpha), width)
             pen.setCosmetic(thin)
             pen.setCapStyle(Qt.PenCapStyle.RoundCap)
-            pen.setJoinStyle(Qt.PenJoinStyle.RoundJoin)
+            pen.setJoinStyle(Qt.PenJoinStyle.BevelJoin)  # ~25 % cheaper than round joins
             painter.setPen(pen)
             painter.drawPath(polylines_path(pts, np.tile(starts, len(members))))
 

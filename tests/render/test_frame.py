@@ -145,3 +145,21 @@ def test_approved_frame(qapp, scene, episode):
     diff = np.abs(got - ref).max(axis=-1)
     assert diff.mean() < 1.0, f"mean difference {diff.mean():.2f}"
     assert (diff > 40).mean() < 0.005, f"{(diff > 40).mean():.2%} of pixels differ"
+
+
+def test_tape_role_labels_fill_the_legend_and_change_the_marks(qapp, scene, episode):
+    # Not an outside source: the tape's own labels must reach the legend (Episode.role_at is
+    # the reference for which label holds when).
+    roles = (((0, "scout"), (100, "carrier")), ((0, "carrier"),), ())
+    taped = Episode(0, episode.dt, episode.poses, team_goal=episode.team_goal, roles=roles)
+    from arena_studio.render.episode_cache import episode_cache
+    from arena_studio.render.role_style import agent_styles, role_legend
+
+    cache = episode_cache(scene, taped)
+    opts = FrameOptions(roles="auto")
+    assert [name for _s, name in role_legend(cache, opts)] == ["scout", "carrier"]
+    before, after = agent_styles(cache, 50, opts), agent_styles(cache, 150, opts)
+    assert before[0] != after[0] and before[1] == after[1]  # agent 1 changed role at step 100
+    a = png_bytes(render_frame(scene, taped, 150, opts, (640, 360)))
+    b = png_bytes(render_frame(scene, taped, 150, FrameOptions(roles="derived"), (640, 360)))
+    assert a != b
