@@ -91,3 +91,35 @@ def test_main_window_opens_a_tape_in_replay_mode(qtbot, tmp_path):
     page.close_tape()
     window.document.undo_stack.setClean()
     window.document.reset(window.document.scene, None)
+
+
+class RecordingDialogs:
+    """Stands in for the window's message boxes and records what the user would read."""
+
+    def __init__(self) -> None:
+        self.errors: list[tuple[str, str]] = []
+
+    def error(self, title: str, text: str) -> None:
+        self.errors.append((title, text))
+
+    def info(self, title: str, text: str) -> None:
+        self.errors.append((title, text))
+
+    def ask_unsaved(self, name: str) -> str:
+        return "discard"
+
+
+def test_a_file_that_is_not_a_tape_gets_one_clear_message(qtbot, tmp_path):
+    from arena_studio.app.main_window import MainWindow
+
+    bad = tmp_path / "notes.tape"
+    bad.write_bytes(b"these are not the bytes of a tape\n" * 4)
+    settings = QSettings(str(tmp_path / "s.ini"), QSettings.Format.IniFormat)
+    dialogs = RecordingDialogs()
+    window = MainWindow(settings=settings, recovery_dir=tmp_path / "rec", dialogs=dialogs)
+    qtbot.addWidget(window)
+    assert not window.open_path(bad)
+    assert len(dialogs.errors) == 1
+    title, text = dialogs.errors[0]
+    assert title == "Cannot open tape" and "notes.tape" in text and "Traceback" not in text
+    assert window.modes.currentWidget() is window.canvas  # still in the editor
