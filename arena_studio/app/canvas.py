@@ -30,6 +30,7 @@ from ..render.view import ViewTransform
 from .scene_items import WORLD, SceneLayer
 
 MIN_PPM, MAX_PPM = 0.5, 4000.0  # pixels per metre
+EMPTY_VIEW = (0.0, 0.0, 20.0, 12.0)  # metres shown for a new, empty scene
 GRID_MIN_PX = 12.0  # smallest on-screen spacing of minor grid lines
 
 
@@ -96,7 +97,10 @@ class SceneCanvas(QGraphicsView):
         return minor
 
     def fit_scene(self, margin_px: float = 36.0) -> None:
-        minx, miny, maxx, maxy = bounds(self.scene_value)
+        scene = self.scene_value
+        empty = not (scene.rooms or scene.obstacles or scene.landmarks or scene.agents)
+        # An empty scene shows a room-sized area to start drawing in, not a 1 m box.
+        minx, miny, maxx, maxy = EMPTY_VIEW if empty else bounds(scene)
         w, h = max(maxx - minx, 1.0), max(maxy - miny, 1.0)
         vw = max(self.viewport().width() - 2 * margin_px, 40.0)
         vh = max(self.viewport().height() - 2 * margin_px, 40.0)

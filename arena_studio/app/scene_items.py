@@ -201,6 +201,14 @@ class SceneLayer(QGraphicsItem):
             (cx, cy), r = p.circle
             painter.drawEllipse(QPointF(cx, cy), r, r)
         if len(p.polyline) >= 2:
+            if p.closed:  # where the outline will close, faintly
+                painter.setPen(Qt.PenStyle.NoPen)
+                painter.drawPolygon(qpoly(p.polyline))
+                faint = QColor(color)
+                faint.setAlphaF(0.45)
+                painter.setPen(pen(faint, 1.0, Qt.PenStyle.DotLine))
+                painter.drawLine(QPointF(*p.polyline[-1]), QPointF(*p.polyline[0]))
+                painter.setPen(pen(color, 1.5, Qt.PenStyle.DashLine))
             painter.setBrush(Qt.BrushStyle.NoBrush)
             painter.drawPolyline(qpoly(p.polyline))
         if p.arrow is not None:

@@ -253,7 +253,7 @@ class PolygonTool(Tool):
         if not self.points:
             return None
         pts = [*self.points, *([self._hover] if self._hover else [])]
-        return Preview(polyline=pts, closed=False, marker=self._hover)
+        return Preview(polyline=pts, closed=len(pts) >= 3, marker=self._hover)
 
 
 class RectTool(Tool):
