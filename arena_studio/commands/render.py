@@ -110,6 +110,8 @@ def _run(args: argparse.Namespace) -> int:
         raise CommandError("--trail: expected seconds >= 0")
     if not out.parent.is_dir():
         raise CommandError(f"{out.parent}: folder does not exist")
+    if args.compare and args.episode != [0]:
+        raise CommandError("use --episode (one or several in sequence) or --compare A B, not both")
     tape = _open(args.tape)
     indices = list(args.compare) if args.compare else list(args.episode)
     episodes = []

@@ -10,6 +10,7 @@ target folder and renamed only when complete: a cancel or an error leaves nothin
 from __future__ import annotations
 
 import contextlib
+import errno
 import os
 import shutil
 import subprocess
@@ -24,7 +25,7 @@ from PySide6.QtGui import QImage, QPainter
 from ..core.episode import Episode
 from ..core.scene import Scene
 from .episode_painter import FrameOptions
-from .frame import IMAGE_FORMAT, FrameRenderer
+from .frame import IMAGE_FORMAT, FrameRenderer, png_bytes
 
 SIZE_PRESETS: dict[str, tuple[int, int]] = {
     "720p": (1280, 720),
@@ -301,6 +302,8 @@ def _write_ffmpeg(
         err = proc.stderr.read().decode("utf-8", "replace").strip()
         code = proc.wait()
         if code != 0:
+            if "No space left" in err:
+                raise ClipError(f"{target}: the disk is full; nothing was written")
             last = err.splitlines()[-1] if err else f"exit code {code}"
             raise ClipError(f"{target}: could not encode the clip: {last}")
         _publish(tmp, target, 0o666)
@@ -340,13 +343,14 @@ def _write_png_folder(target: Path, frames: Iterator[QImage]) -> None:
     except OSError as exc:
         raise ClipError(f"{target.parent}: cannot write here ({exc.strerror})") from None
     try:
-        digits = 5
         for i, image in enumerate(frames):
-            name = tmp / f"frame_{i:0{digits}d}.png"
-            if not image.save(str(name), "PNG"):
-                free = shutil.disk_usage(tmp).free
-                why = "the disk is full" if free < 10_000_000 else "the image could not be saved"
-                raise ClipError(f"{name}: {why}")
+            # encode in memory and write with Python: a full disk is an OSError we can name
+            data = png_bytes(image)
+            try:
+                (tmp / f"frame_{i:05d}.png").write_bytes(data)
+            except OSError as exc:
+                why = "the disk is full" if exc.errno == errno.ENOSPC else exc.strerror
+                raise ClipError(f"{target}: {why}; nothing was written") from None
         if target.is_dir():
             target.rmdir()  # checked empty before we started
         _publish(tmp, target, 0o777)

@@ -166,3 +166,30 @@ def test_unwritable_folder(qapp, scene, episode, tmp_path):
             export_clip(scene, [episode], folder / "x.mp4")
     finally:
         folder.chmod(stat.S_IRWXU)
+
+
+def test_disk_full_is_named_and_leaves_nothing(qapp, scene, episode, tmp_path, monkeypatch):
+    # /dev/full (Linux) fails every write with ENOSPC, the errno a full disk gives (POSIX).
+    import errno
+    from pathlib import Path
+
+    import arena_studio.render.clip as clip
+
+    real_args = clip._ffmpeg_args
+    monkeypatch.setattr(
+        clip,
+        "_ffmpeg_args",
+        lambda exe, kind, size, spec, out: real_args(exe, kind, size, spec, "/dev/full"),
+    )
+    with pytest.raises(ClipError, match="disk is full"):
+        export_clip(scene, [episode], tmp_path / "x.mp4", ClipSpec(end=0.5, size=(64, 64)))
+    monkeypatch.undo()
+
+    def full(self, data):
+        raise OSError(errno.ENOSPC, "No space left on device")
+
+    monkeypatch.setattr(Path, "write_bytes", full)
+    with pytest.raises(ClipError, match="disk is full"):
+        export_clip(scene, [episode], tmp_path / "frames", ClipSpec(end=0.5, size=(64, 64)))
+    monkeypatch.undo()
+    assert list(tmp_path.iterdir()) == []

@@ -90,6 +90,7 @@ def test_stills_png_and_svg(qapp, tape_path, tmp_path):
         (["-o", "{tmp}/clip.mp4", "--episode", "7"], "no episode 7"),
         (["-o", "{tmp}/clip.mp4", "--size", "big"], "--size"),
         (["-o", "{tmp}/clip.mp4", "--fps", "0"], "--fps"),
+        (["-o", "{tmp}/clip.mp4", "--episode", "1", "--compare", "0", "1"], "not both"),
     ],
 )
 def test_bad_requests_exit_2_with_one_line(qapp, tape_path, tmp_path, capsys, args, needle):
