@@ -7,6 +7,7 @@ Results for a scene that is no longer current are dropped. When ``core.checks`` 
 from __future__ import annotations
 
 import time
+from collections.abc import Callable
 from concurrent.futures import ThreadPoolExecutor
 from typing import Any
 
@@ -34,43 +35,49 @@ def load_planner() -> Any | None:
     return plan_goal
 
 
-def compute(scene: Scene) -> tuple[list[Any], list[Any] | None, str | None]:
-    """Findings, par-time plans per goal (or None) and an error text if the checker failed."""
-    check = load_checker()
-    findings: list[Any] = []
-    error = None
-    if check is None:
-        error = "The scene checker is not part of this build."
-    else:
-        try:
-            findings = list(check(scene))
-        except Exception as exc:  # a checker bug must never take the editor down
-            error = f"The checker stopped: {exc}"
-    plans: list[Any] | None = None
+def check(scene: Scene) -> tuple[list[Any], str | None]:
+    """Findings, and an error text when the checker is missing or failed."""
+    checker = load_checker()
+    if checker is None:
+        return [], "The scene checker is not part of this build."
+    try:
+        return list(checker(scene)), None
+    except Exception as exc:  # a checker bug must never take the editor down
+        return [], f"The checker stopped: {exc}"
+
+
+def par_plans(scene: Scene, stale: Callable[[], bool] = lambda: False) -> list[Any] | None:
+    """One par-time plan per goal (``None`` entries where planning failed), or ``None`` when
+    the planner is missing, there is nothing to plan, or ``stale()`` turns true meanwhile."""
     plan = load_planner()
     rows = goal_rows(scene)
-    if plan is not None and 0 < len(rows) <= MAX_PAR_GOALS and scene.agents:
-        plans = []
-        planner = None
-        try:
-            from ..core.paths import PathPlanner
+    if plan is None or not (0 < len(rows) <= MAX_PAR_GOALS) or not scene.agents:
+        return None
+    try:
+        from ..core.paths import PathPlanner
 
-            planner = PathPlanner(scene)
+        planner: Any = PathPlanner(scene)  # our own: prepared geometry stays in this thread
+    except Exception:
+        planner = None
+    plans: list[Any] = []
+    for row in rows:
+        if stale():
+            return None
+        try:
+            plans.append(plan(scene, row.vector, planner=planner))
         except Exception:
-            planner = None
-        for row in rows:
-            try:
-                plans.append(plan(scene, row.vector, planner=planner))
-            except Exception:
-                plans.append(None)
-    return findings, plans, error
+            plans.append(None)
+    return plans
 
 
 class CheckRunner(QObject):
-    """``schedule(scene)`` after each edit; ``results`` fires with the newest scene's outcome."""
+    """``schedule(scene)`` after each edit. ``results`` fires with the newest scene's findings
+    as soon as the checker is done; ``plans_ready`` follows with par-time plans per goal."""
 
-    results = Signal(object, object, object, object)  # scene, findings, plans, error
-    _finished = Signal(object, object, object, object)
+    results = Signal(object, object, object)  # scene, findings, error
+    plans_ready = Signal(object, object)  # scene, plans (list or None)
+    _checked = Signal(object, object, object)
+    _planned = Signal(object, object)
 
     def __init__(self, delay_ms: int = 250) -> None:
         super().__init__()
@@ -83,7 +90,8 @@ class CheckRunner(QObject):
         self._running: Scene | None = None
         self.latest: Scene | None = None
         self.last_seconds = 0.0
-        self._finished.connect(self._on_finished)
+        self._checked.connect(self._on_checked)
+        self._planned.connect(self._on_planned)
 
     def schedule(self, scene: Scene) -> None:
         self.latest = scene
@@ -91,11 +99,12 @@ class CheckRunner(QObject):
         self._timer.start()
 
     def run_now(self, scene: Scene) -> None:
-        """Check synchronously (screenshots, tests) and publish the result."""
+        """Check and plan synchronously (screenshots, tests) and publish both results."""
         self.latest = scene
         self._pending = None
         self._timer.stop()
-        self.results.emit(scene, *compute(scene))
+        self.results.emit(scene, *check(scene))
+        self.plans_ready.emit(scene, par_plans(scene))
 
     def _start(self) -> None:
         if self._running is not None or self._pending is None:
@@ -106,14 +115,20 @@ class CheckRunner(QObject):
 
     def _work(self, scene: Scene) -> None:
         t0 = time.perf_counter()
-        out = compute(scene)
+        findings, error = check(scene)
         self.last_seconds = time.perf_counter() - t0
-        self._finished.emit(scene, *out)
+        self._checked.emit(scene, findings, error)
+        plans = par_plans(scene, stale=lambda: self.latest != scene)
+        self._planned.emit(scene, plans)
 
-    def _on_finished(self, scene: Scene, findings: Any, plans: Any, error: Any) -> None:
+    def _on_checked(self, scene: Scene, findings: Any, error: Any) -> None:
+        if scene == self.latest:
+            self.results.emit(scene, findings, error)
+
+    def _on_planned(self, scene: Scene, plans: Any) -> None:
         self._running = None
         if scene == self.latest:
-            self.results.emit(scene, findings, plans, error)
+            self.plans_ready.emit(scene, plans)
         if self._pending is not None:
             self._start()
 
@@ -123,4 +138,5 @@ class CheckRunner(QObject):
 
     def shutdown(self) -> None:
         self._timer.stop()
+        self.latest = None  # lets a running par-time computation stop early
         self._pool.shutdown(wait=True, cancel_futures=True)

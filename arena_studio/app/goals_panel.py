@@ -28,6 +28,7 @@ from PySide6.QtWidgets import (
 
 from ..core.scene import RULES, Scene
 from . import edits
+from .checking import load_planner
 from .editor import Editor
 from .fields import NumberField
 from .goal_rows import goal_rows
@@ -152,9 +153,15 @@ class GoalsPanel(QWidget):
         self._fill_table()
         self._update_buttons()
 
-    def set_results(self, findings: list[Any], plans: list[Any] | None) -> None:
+    def set_findings(self, findings: list[Any]) -> None:
+        """Checker findings for the current scene (flags unreachable goals)."""
         self.findings = findings
+        self._fill_table()
+
+    def set_plans(self, plans: list[Any] | None) -> None:
+        """Par-time plans per goal for the current scene, or None when not available."""
         self.plans = plans
+        self._planned_scene = self.editor.scene
         self._fill_table()
 
     def _fill_table(self) -> None:
@@ -166,13 +173,17 @@ class GoalsPanel(QWidget):
             gi = getattr(f, "goal_index", None)
             if gi is not None and getattr(f, "severity", "") in ("error", "warning"):
                 bad.setdefault(gi, getattr(f, "message", "problem"))
-        plans = self.plans if self.plans is not None and len(self.plans) == len(rows) else None
+        fresh = getattr(self, "_planned_scene", None) == scene
+        plans = self.plans if fresh and self.plans is not None else None
+        if plans is not None and len(plans) != len(rows):
+            plans = None
+        waiting = not fresh and load_planner() is not None
         self.table.setRowCount(len(rows))
         names = [lm.label or lm.id for lm in scene.landmarks]
         for i, row in enumerate(rows):
             targets = " + ".join(names[t] for t in row.targets if t < len(names))
             plan = plans[i] if plans else None
-            par = "—"
+            par = "…" if waiting else "—"
             status = "ok"
             if plan is not None:
                 if getattr(plan, "feasible", True) and getattr(plan, "par_time", None) is not None:
@@ -198,8 +209,10 @@ class GoalsPanel(QWidget):
         text = f"{len(rows)} goals: {ind} individual, {len(rows) - ind} cooperative."
         if n_bad:
             text += f" {n_bad} cannot be reached."
-        if plans is None:
-            text += " Par times appear when the planner is available."
+        if waiting:
+            text += " Working out par times…"
+        elif plans is None and load_planner() is None:
+            text += " Par times appear when the planner is part of this build."
         self.summary.setText(text)
 
     def _update_buttons(self) -> None:

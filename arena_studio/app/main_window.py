@@ -240,6 +240,7 @@ class MainWindow(QMainWindow):
         self.canvas.cursor_left.connect(lambda: self.coords_label.setText("x —  y —"))
         self.canvas.zoom_changed.connect(self._show_zoom)
         self.checks.results.connect(self._on_check_results)
+        self.checks.plans_ready.connect(self._on_plans)
         self.findings_panel.activated.connect(self.focus_finding)
         self.goals_panel.highlight.connect(self._highlight_goal)
 
@@ -266,17 +267,21 @@ class MainWindow(QMainWindow):
             f"&Redo {stack.redoText()}".rstrip() if stack.canRedo() else "&Redo"
         )
 
-    def _on_check_results(self, scene: Scene, findings: object, plans: object, error: object):
+    def _on_check_results(self, scene: Scene, findings: object, error: object) -> None:
         if scene != self.document.scene:
             return
         self.findings = list(findings or [])  # type: ignore[call-overload]
         self.canvas.layer.findings = self.findings
         self.canvas.viewport().update()
         self.findings_panel.set_findings(self.findings, error)  # type: ignore[arg-type]
-        self.goals_panel.set_results(self.findings, plans)  # type: ignore[arg-type]
+        self.goals_panel.set_findings(self.findings)
         n_err = sum(1 for f in self.findings if getattr(f, "severity", "") == "error")
         title = "Findings" if not self.findings else f"Findings ({len(self.findings)})"
         self.docks["findings"].setWindowTitle(title + (" — errors" if n_err else ""))
+
+    def _on_plans(self, scene: Scene, plans: object) -> None:
+        if scene == self.document.scene:
+            self.goals_panel.set_plans(plans)  # type: ignore[arg-type]
 
     def run_checks_now(self) -> None:
         self.checks.run_now(self.document.scene)

@@ -5,6 +5,7 @@ from __future__ import annotations
 from PySide6.QtCore import Qt
 from shapely.geometry import Point, Polygon
 
+from arena_studio.app.tools import ToolEvent
 from arena_studio.core.scene import Agent, Landmark, Room, Scene, Start
 
 from .conftest import view_point
@@ -57,3 +58,20 @@ def test_moving_a_vertex_updates_findings(qtbot, main_window):
 
     win.document.undo_stack.undo()
     qtbot.waitUntil(lambda: "landmark-outside-rooms" not in _codes(win), timeout=5000)
+
+
+def test_findings_arrive_before_par_times_and_stale_plans_are_not_shown(qtbot, main_window):
+    win = main_window
+    runner = win.checks
+    seen: list[str] = []
+    runner.results.connect(lambda *_: seen.append("findings"))
+    runner.plans_ready.connect(lambda *_: seen.append("plans"))
+    win.document.reset(_scene(), None)
+    qtbot.waitUntil(lambda: "plans" in seen and not runner.busy, timeout=10000)
+    assert seen.index("findings") < seen.index("plans")
+    table = win.goals_panel.table
+    assert table.item(0, 2).text().endswith(" s")
+    # An edit makes the shown par time stale at once: it shows as pending, not as a number.
+    win.editor.tools["tool.landmark"].press(ToolEvent((2.0, 3.0), tol=0.01))
+    assert all(table.item(i, 2).text() == "…" for i in range(table.rowCount()))
+    qtbot.waitUntil(lambda: table.item(0, 2).text().endswith(" s"), timeout=10000)
