@@ -170,9 +170,10 @@ class ClipPainter:
         w, h = size
         if spec.compare:
             half = w // 2
+            # each half names its episode (under the title when there is one)
             self.parts = [
-                FrameRenderer(scene, (half, h), spec.frame),
-                FrameRenderer(scene, (w - half, h), spec.frame),
+                FrameRenderer(scene, (width, h), replace(spec.frame, title=_side_title(spec, ep)))
+                for width, ep in ((half, episodes[0]), (w - half, episodes[1]))
             ]
             self.image = QImage(QSize(w, h), IMAGE_FORMAT)
         else:
@@ -203,6 +204,12 @@ class ClipPainter:
         finally:
             painter.end()
         return self.image
+
+
+def _side_title(spec: ClipSpec, ep: Episode) -> str:
+    return (
+        f"{spec.frame.title}  ·  episode {ep.index}" if spec.frame.title else f"episode {ep.index}"
+    )
 
 
 def _subtitle(ep: Episode) -> str:

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from PySide6.QtCore import QPointF, QRectF, Qt
-from PySide6.QtGui import QPainter, QPainterPath, QPen
+from PySide6.QtGui import QFont, QFontMetricsF, QPainter, QPainterPath, QPen
 
 from ..core.episode import Episode
 from ..core.scene import Scene
@@ -78,14 +78,22 @@ def paint_legend(
     painter.setPen(QPen(theme.qcolor("grid_major"), 1.0))
     painter.setBrush(theme.qcolor("room_fill"))
     painter.drawRoundedRect(box, 6 * ui, 6 * ui)
-    width = rect.width() / max(1, len(sections)) if columns else rect.width()
     x0, y = rect.x() + 12 * ui, rect.y() + 18 * ui
-    head, body = font(12 * ui, bold=True), font(11.5 * ui)
     text, muted = theme.qcolor("text"), theme.qcolor("text_muted")
     r = 6.0 * ui
     bottom = rect.bottom() - row * 0.6
+    head, body = font(12 * ui, bold=True), font(11.5 * ui)
+    lefts = [x0] * len(sections)
+    if columns:
+        # columns as wide as their longest text; smaller type when they would not fit
+        widths = _column_widths(sections, head, body, r, ui)
+        fit = (rect.width() - 24 * ui) / max(sum(widths), 1.0)
+        if fit < 1.0:
+            head, body = font(12 * ui * max(fit, 0.6), True), font(11.5 * ui * max(fit, 0.6))
+            widths = _column_widths(sections, head, body, r, ui)
+        lefts = [x0 + sum(widths[:k]) for k in range(len(sections))]
     for k, (title, rows) in enumerate(sections):
-        x = x0 + (k * width if columns else 0.0)
+        x = lefts[k]
         if columns:
             y = rect.y() + 18 * ui
         elif k:
@@ -121,6 +129,17 @@ def paint_legend(
 
 
 Row = tuple[str, object, str]
+
+
+def _column_widths(
+    sections: list[tuple[str, list[Row]]], head: QFont, body: QFont, r: float, ui: float
+) -> list[float]:
+    hm, bm = QFontMetricsF(head), QFontMetricsF(body)
+    out = []
+    for title, rows in sections:
+        texts = [bm.horizontalAdvance(name) + 2 * r + 12 * ui for _k, _a, name in rows]
+        out.append(max([hm.horizontalAdvance(title), *texts]) + 18 * ui)
+    return out
 
 
 def _sections(
