@@ -38,14 +38,18 @@ from functools import lru_cache
 
 import numpy as np
 import shapely
-from scipy.sparse import coo_matrix
-from scipy.sparse.csgraph import dijkstra
 from shapely.geometry import Point, Polygon
 from shapely.geometry.base import BaseGeometry
 
 from .geometry import free_space, quad_segments
 from .scene import Scene
-from .visibility import EDGE_EPSILON, VisibilityGraph, build_visibility_graph, polygons_of
+from .visibility import VisibilityGraph, build_visibility_graph, polygons_of
+from .visibility_fields import (
+    TargetField,
+    best_first_node,
+    best_straight_leg,
+    build_target_field,
+)
 
 #: Spacing (m) of start-region samples along the region's edges (at most 64 per edge ring).
 REGION_EDGE_SPACING = 0.1
@@ -79,140 +83,6 @@ def polyline_length(points: np.ndarray) -> float:
     if len(points) < 2:
         return 0.0
     return float(np.sum(np.hypot(*np.diff(points, axis=0).T)))
-
-
-@dataclass(eq=False)
-class TargetField:
-    """Every graph node's shortest distance to one target region, and how to get there."""
-
-    target: BaseGeometry
-    corners: np.ndarray  # (C, 2) candidate end points shared by every query point
-    dist: np.ndarray  # (V,) distance to the target (inf: none)
-    toward: np.ndarray  # (V,) next node toward the target; -1: go straight to ``end``
-    end: np.ndarray  # (V, 2) end point of the straight last leg (nan where none)
-
-
-def _nearest_points(geom: BaseGeometry, xy: np.ndarray) -> np.ndarray:
-    """(N, 2) nearest point of ``geom`` to each query point."""
-    lines = shapely.shortest_line(geom, shapely.points(xy))
-    coords = shapely.get_coordinates(lines).reshape(-1, 2, 2)
-    return coords[:, 0, :]
-
-
-def _end_candidates(target: BaseGeometry, corners: np.ndarray, xy: np.ndarray) -> np.ndarray:
-    """(N, M, 2) candidate end points in ``target`` for each of N query points."""
-    cands = [_nearest_points(target, xy)[:, None, :]]
-    parts = polygons_of(target)
-    if len(parts) > 1:
-        cands += [_nearest_points(p, xy)[:, None, :] for p in parts]
-    if corners.size:
-        cands.append(np.broadcast_to(corners, (xy.shape[0], *corners.shape)))
-    return np.concatenate(cands, axis=1)
-
-
-def _best_straight_leg(
-    graph: VisibilityGraph, target: BaseGeometry, corners: np.ndarray, xy: np.ndarray
-) -> tuple[np.ndarray, np.ndarray]:
-    """Length (inf where none) and end point of the best clear straight leg xy -> target."""
-    n = xy.shape[0]
-    if n == 0:
-        return np.zeros((0,)), np.zeros((0, 2))
-    cands = _end_candidates(target, corners, xy)
-    m = cands.shape[1]
-    starts = np.repeat(xy, m, axis=0)
-    flat = cands.reshape(-1, 2)
-    ok = graph.clear(starts, flat).reshape(n, m)
-    lengths = np.hypot(*(flat - starts).T).reshape(n, m)
-    lengths = np.where(ok, lengths, np.inf)
-    pick = np.argmin(lengths, axis=1)
-    rows = np.arange(n)
-    return lengths[rows, pick], cands[rows, pick]
-
-
-def build_target_field(
-    graph: VisibilityGraph,
-    target: BaseGeometry,
-    rim: BaseGeometry | None = None,
-    every_vertex: bool = False,
-) -> TargetField:
-    """Dijkstra from ``target`` over ``graph`` (see the module docstring, steps 3-4).
-
-    ``rim`` is the reach disc's outline: only target corners on it (where the rim meets a
-    wall or an obstacle) are end-point candidates. Without it every target vertex on the
-    free-space boundary is one; with ``every_vertex`` every vertex of the target is (for
-    targets bounded by several rims, such as where reach discs overlap).
-    """
-    v = graph.node_count
-    corners = np.zeros((0, 2))
-    if every_vertex and not target.is_empty:
-        corners = np.unique(shapely.get_coordinates(target), axis=0)
-    elif not target.is_empty and not graph.free.is_empty:
-        verts = shapely.get_coordinates(target)
-        pts = shapely.points(verts)
-        keep = shapely.distance(graph.free.boundary, pts) < 1e-7
-        if rim is not None:
-            keep &= shapely.distance(rim, pts) < 1e-7
-        corners = np.unique(verts[keep], axis=0)
-    if target.is_empty or v == 0:
-        return TargetField(
-            target, corners, np.full(v, np.inf), np.full(v, -1), np.full((v, 2), np.nan)
-        )
-    leg, end = _best_straight_leg(graph, target, corners, graph.nodes)
-    has_leg = np.isfinite(leg)
-    src = np.flatnonzero(has_leg)
-    coo = graph.matrix.tocoo()
-    rows = np.concatenate([coo.row, src, np.full(src.size, v)])
-    cols = np.concatenate([coo.col, np.full(src.size, v), src])
-    w = np.concatenate([coo.data, leg[src] + EDGE_EPSILON, leg[src] + EDGE_EPSILON])
-    matrix = coo_matrix((w, (rows, cols)), shape=(v + 1, v + 1)).tocsr()
-    dist, pred = dijkstra(matrix, directed=True, indices=v, return_predecessors=True)
-    toward = pred[:v].astype(np.int64)
-    toward = np.where(toward == v, -1, toward)
-    dist = dist[:v]
-    end = np.where(has_leg[:, None], end, np.nan)
-    return TargetField(target, corners, dist, toward, end)
-
-
-#: Start-to-node legs are tested in batches of this many, best lower bound first.
-LEG_BATCH = 24
-
-
-def _best_first_node(
-    graph: VisibilityGraph, field: TargetField, starts: np.ndarray, limit: np.ndarray
-) -> tuple[np.ndarray, np.ndarray]:
-    """Per start: the best total via a first node (inf: none) and that node (-1: none).
-
-    The total via node v is |s v| + dist(v) when the leg s -> v is clear. Nodes are tried in
-    order of that total (a lower bound until the leg is tested), a batch at a time, so the
-    first clear one is the answer; a start stops early once its next bound exceeds ``limit``
-    (its best direct leg). This tests a few dozen legs per start instead of every node.
-    """
-    n = starts.shape[0]
-    via = np.full(n, np.inf)
-    via_node = np.full(n, -1, dtype=np.int64)
-    finite = np.flatnonzero(np.isfinite(field.dist))
-    if finite.size == 0 or n == 0:
-        return via, via_node
-    nodes = graph.nodes[finite]
-    diff = starts[:, None, :] - nodes[None, :, :]
-    bound = np.hypot(diff[..., 0], diff[..., 1]) + field.dist[finite][None, :]
-    order = np.argsort(bound, axis=1, kind="stable")
-    pending = np.arange(n)
-    for first in range(0, finite.size, LEG_BATCH):
-        if pending.size:
-            pending = pending[bound[pending, order[pending, first]] < limit[pending]]
-        if pending.size == 0:
-            break
-        cols = order[pending, first : first + LEG_BATCH]
-        a = np.repeat(starts[pending], cols.shape[1], axis=0)
-        ok = graph.clear(a, nodes[cols.ravel()]).reshape(cols.shape)
-        hit = ok.any(axis=1)
-        pick = cols[hit, ok[hit].argmax(axis=1)]
-        rows = pending[hit]
-        via[rows] = bound[rows, pick]
-        via_node[rows] = finite[pick]
-        pending = pending[~hit]
-    return via, via_node
 
 
 class PathPlanner:
@@ -397,7 +267,7 @@ class PathPlanner:
                 gap = min(gap, float(np.hypot(*(pair[1] - pair[0]))))
             for src, dst in ((first, second), (second, first)):
                 if src.corners.size:
-                    legs, _ = _best_straight_leg(graph, dst.target, dst.corners, src.corners)
+                    legs, _ = best_straight_leg(graph, dst.target, dst.corners, src.corners)
                     gap = min(gap, float(np.min(legs)))
         self._gaps[key] = gap
         return gap
@@ -440,9 +310,9 @@ class PathPlanner:
         """Per start: total length and plan (first node, or -1 with a direct end point)."""
         n = starts.shape[0]
         in_target = shapely.distance(field.target, shapely.points(starts)) <= 1e-9
-        direct, direct_end = _best_straight_leg(graph, field.target, field.corners, starts)
+        direct, direct_end = best_straight_leg(graph, field.target, field.corners, starts)
         direct = np.where(in_target, 0.0, direct)
-        via, via_node = _best_first_node(graph, field, starts, direct)
+        via, via_node = best_first_node(graph, field, starts, direct)
         plans: list[tuple[int, np.ndarray | None]] = []
         costs = np.minimum(direct, via)
         for k in range(n):

@@ -259,6 +259,8 @@ def _brute_to_region(scene: Scene, radius: float, start: tuple, lm_index: int) -
     test = free.buffer(1e-7, join_style="mitre")
     lm = scene.landmarks[lm_index]
     target = free.intersection(Point(lm.position).buffer(lm.reach_radius, quad_segs=64))
+    if target.covers(Point(start)):
+        return 0.0
     verts = np.unique(shapely.get_coordinates(free), axis=0)
     pts = np.vstack([verts, [start]])
     n = len(pts)
@@ -289,6 +291,7 @@ def _brute_to_region(scene: Scene, radius: float, start: tuple, lm_index: int) -
 @example(2.0, 2.0).via("behind the crate")
 @example(5.0, 8.0).via("above the crate")
 @example(8.0, 4.5).via("right of the crate")
+@example(9.5, 3.0).via("inside the wall landmark's reach")
 def test_reach_disc_end_points_against_dense_samples(x: float, y: float) -> None:
     # landmarks whose discs are cut by an obstacle corner and by a wall: the route must be as
     # short as the best of thousands of sampled end points (networkx + shapely reference)
