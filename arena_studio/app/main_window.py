@@ -461,6 +461,8 @@ class MainWindow(QMainWindow):
         self.toolbars["tools"].setVisible(editing)
         for key in ("properties", "goals"):
             self.docks[key].setVisible(editing)
+        if editing:
+            self._update_title()
 
     # -- never lose work ---------------------------------------------------------------
     def autosave_now(self) -> bool:
