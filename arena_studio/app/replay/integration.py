@@ -30,9 +30,14 @@ def replay_page(window: Any) -> ReplayWindow:
     page.statusMessage.connect(window.show_message)
     page.openSceneInEditor.connect(lambda scene: open_scene_copy(window, scene))
     _build_menu(window, page)
+    settings = getattr(window, "settings", None)
+    if settings is not None:
+        page.restore_layout(settings)  # docks where the user left them last time
     app = QApplication.instance()
     if app is not None:
         app.aboutToQuit.connect(page.close_tape)
+        if settings is not None:
+            app.aboutToQuit.connect(lambda: page.save_layout(settings))
     modes = getattr(window, "modes", None)
     if modes is not None:
         modes.currentChanged.connect(lambda _i: _sync_enabled(window, page))

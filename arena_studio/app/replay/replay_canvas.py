@@ -12,8 +12,8 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from PySide6.QtCore import QPointF, QRectF, Signal
-from PySide6.QtGui import QMouseEvent, QPainter
+from PySide6.QtCore import QPointF, QRectF, Qt, Signal
+from PySide6.QtGui import QMouseEvent, QPainter, QPixmap
 from PySide6.QtWidgets import (
     QGraphicsItem,
     QGraphicsView,
@@ -104,6 +104,7 @@ class ReplayCanvas(SceneCanvas):
         self.show_clock = True
         self._hover_agent: int | None = None
         self._hover_pos = None
+        self._legend_cache: tuple[tuple, QPixmap] | None = None
         self.auto_fit = True  # keep the scene fitted on resize until the user zooms or pans
         # the scene never changes during a replay: keep the background (floor, grid) and the
         # static scene layer as pixmaps, so a new step repaints only the episode layer's work
@@ -223,18 +224,27 @@ class ReplayCanvas(SceneCanvas):
             paint_clock(painter, QRectF(0, 0, 320, 60), ep, self.step, self.theme, ui)
         if self.show_legend and w > 520:
             legend_h = min(h - 20.0, 150.0 + 20.0 * (ep.agent_count + 9))
-            paint_legend(
-                painter,
-                QRectF(w - LEGEND_W - 10, 10, LEGEND_W, legend_h),
-                self.scene_value,
-                ep,
-                self.theme,
-                self.options,
-                ui,
-            )
+            painter.drawPixmap(int(w - LEGEND_W - 10), 10, self._legend_pixmap(ep, legend_h))
         if self.caption:
             self._paint_caption(painter, w)
         painter.restore()
+
+    def _legend_pixmap(self, ep: Episode, height: float) -> QPixmap:
+        """The legend does not change with the step: paint it once per episode/theme/size."""
+        dpr = self.devicePixelRatioF()
+        key = (ep, self.theme.name, self.options, int(height), dpr)  # Episode: eq by identity
+        if self._legend_cache is not None and self._legend_cache[0] == key:
+            return self._legend_cache[1]
+        pm = QPixmap(int(LEGEND_W * dpr), int(height * dpr))
+        pm.setDevicePixelRatio(dpr)
+        pm.fill(Qt.GlobalColor.transparent)
+        p = QPainter(pm)
+        paint_legend(
+            p, QRectF(0, 0, LEGEND_W, height), self.scene_value, ep, self.theme, self.options, 1.0
+        )
+        p.end()
+        self._legend_cache = (key, pm)
+        return pm
 
     def _paint_caption(self, painter: QPainter, width: int) -> None:
         """Which episode this view shows (compare mode): top centre, or under the clock

@@ -10,7 +10,7 @@ from dataclasses import replace
 from pathlib import Path
 from typing import Any
 
-from PySide6.QtCore import QEventLoop, QSettings, Qt, QTimer, Signal
+from PySide6.QtCore import QByteArray, QEventLoop, QSettings, Qt, QTimer, Signal
 from PySide6.QtGui import QAction, QKeySequence
 from PySide6.QtWidgets import (
     QCheckBox,
@@ -588,5 +588,5 @@ class ReplayWindow(QMainWindow):
 
     def restore_layout(self, settings: QSettings) -> None:
         state = settings.value("replay/state")
-        if state is not None:
-            self.restoreState(state)
+        if isinstance(state, QByteArray | bytes) and self.restoreState(QByteArray(state)):
+            self._docks_sized = True  # keep the user's dock sizes
