@@ -54,6 +54,7 @@ class Field(QWidget):
         if self.message.isHidden() or not self.edit.hasFocus():
             self._shown = text
             self.edit.setText(text)
+            self.edit.setCursorPosition(0)  # long text shows its beginning
             self._clear_error()
 
     def commit(self) -> bool:
