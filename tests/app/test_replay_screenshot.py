@@ -123,3 +123,29 @@ def test_a_file_that_is_not_a_tape_gets_one_clear_message(qtbot, tmp_path):
     title, text = dialogs.errors[0]
     assert title == "Cannot open tape" and "notes.tape" in text and "Traceback" not in text
     assert window.modes.currentWidget() is window.canvas  # still in the editor
+
+
+def test_opening_a_different_scene_beside_a_tape_warns(qtbot, tmp_path):
+    from dataclasses import replace
+
+    from arena_studio.app.main_window import MainWindow
+    from arena_studio.core.scene import save_scene
+    from arena_studio.core.tape import open_tape
+
+    tape = write_test_tape(tmp_path / "hall.tape")
+    settings = QSettings(str(tmp_path / "s.ini"), QSettings.Format.IniFormat)
+    window = MainWindow(
+        settings=settings, recovery_dir=tmp_path / "rec", dialogs=RecordingDialogs()
+    )
+    qtbot.addWidget(window)
+    assert window.open_path(tape)
+    said: list[str] = []
+    window.replay_page.warn = lambda title, text: said.append(text)
+    recorded = open_tape(tape).scene
+    save_scene(recorded, tmp_path / "same.scene.json")
+    save_scene(replace(recorded, name="moved"), tmp_path / "other.scene.json")
+    assert window.open_path(tmp_path / "same.scene.json")
+    assert said == []  # same content hash (core.scene.Scene.content_hash, SHA-256)
+    assert window.open_path(tmp_path / "other.scene.json")
+    assert len(said) == 1 and "other.scene.json is not the scene" in said[0]
+    window.replay_page.close_tape()

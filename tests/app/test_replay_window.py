@@ -216,3 +216,13 @@ def test_plot_click_and_timeline_drag_seek(qtbot, written_tape):
     assert w.clock.step == round((x - 14) / (bar.width() - 28) * (w.clock.steps - 1))
     del plot
     w.close()
+
+
+def test_typing_in_the_search_box_does_not_trigger_playback_keys(qtbot, written_tape):
+    w = open_window(qtbot, written_tape)
+    w.activateWindow()
+    w.episode_list.search.setFocus()
+    qtbot.keyClicks(w.episode_list.search, "n p d l")  # letters that are shortcuts elsewhere
+    assert w.episode_list.search.text() == "n p d l"
+    assert w.clock.step == 0 and not w.clock.playing and w.clock.loop is None
+    w.close()
