@@ -12,9 +12,10 @@ from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
+import shapely
 
 from ..core.episode import Episode
-from ..core.geometry import obstacle_area, segments_of, walkable_area
+from ..core.geometry import free_space
 from ..core.roles import derive_roles, pursued_mask, tape_roles, team_mask
 from ..core.scene import Scene
 
@@ -139,24 +140,20 @@ def _collisions(scene: Scene, xy: np.ndarray, radius: np.ndarray) -> np.ndarray:
                 events.append(np.column_stack([ts + t0, mid, np.zeros(len(ts))]))
         else:
             events.append(_tree_collisions(xy, radius, tol))
-    # walls: distance from each centre to the nearest edge of the open area
-    segs = segments_of(walkable_area(scene).difference(obstacle_area(scene)))
-    if len(segs):
-        a, b = segs[:, 0], segs[:, 1]
-        ab = b - a
-        len2 = np.maximum((ab**2).sum(-1), 1e-18)
-        chunk = max(1, (1 << 21) // max(1, agents * len(segs)))
-        prev = np.zeros(agents, dtype=bool)
-        for t0 in range(0, steps, chunk):
-            p = xy[t0 : t0 + chunk][:, :, None, :]  # (t, A, 1, 2)
-            u = np.clip(((p - a) * ab).sum(-1) / len2, 0, 1)
-            d = np.linalg.norm(p - (a + u[..., None] * ab), axis=-1).min(-1)  # (t, A)
-            touch = d < radius - tol
-            before = np.vstack([prev[None], touch[:-1]])
-            onset = touch & ~before
-            prev = touch[-1]
-            ts, ag = np.nonzero(onset)
-            events.append(np.column_stack([ts + t0, xy[ts + t0, ag], np.ones(len(ts))]))
+    # walls and obstacles: the disc crosses an edge exactly when its centre leaves the open
+    # area shrunk by the radius (free space); a prepared point-in-polygon test per step
+    if len(scene.rooms):
+        touch = np.zeros((steps, agents), dtype=bool)
+        for r in np.unique(radius):
+            members = np.flatnonzero(radius == r)
+            space = free_space(scene, max(float(r) - tol, 0.0))
+            shapely.prepare(space)
+            pts = xy[:, members]
+            inside = shapely.contains_xy(space, pts[..., 0], pts[..., 1])
+            touch[:, members] = ~inside
+        before = np.vstack([np.zeros((1, agents), dtype=bool), touch[:-1]])
+        ts, ag = np.nonzero(touch & ~before)
+        events.append(np.column_stack([ts, xy[ts, ag], np.ones(len(ts))]))
     if not events:
         return np.zeros((0, 4))
     out = np.concatenate(events, axis=0)
