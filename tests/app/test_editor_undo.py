@@ -22,6 +22,10 @@ edit = st.one_of(
     st.tuples(st.just("family"), st.integers(1, 3)),
     st.tuples(st.just("rule"), st.sampled_from(["all_at_end", "all_at_once", "all_visited"])),
     st.tuples(st.just("nudge"), st.integers(-2, 2), st.integers(-2, 2), st.booleans()),
+    st.tuples(st.just("reach"), st.integers(0, 20), st.sampled_from(["0.3", "-1", "x", "1.25"])),
+    st.tuples(st.just("goal"), st.lists(st.integers(0, 20), min_size=1, max_size=3)),
+    st.tuples(st.just("insert"), st.integers(0, 20)),
+    st.tuples(st.just("dropvertex"), st.integers(0, 20), st.integers(0, 5)),
 )
 
 START = Scene(
@@ -80,6 +84,32 @@ def _apply(win, op) -> None:
             ed.delete_selection()
         else:
             ed.nudge(op[1], op[2], fine=op[3])
+    elif kind == "reach" and ed.scene.landmarks:
+        lm = ed.scene.landmarks[op[1] % len(ed.scene.landmarks)]
+        ed.set_selection([("landmarks", lm.id)])
+        field = win.properties.fields["reach_radius"]
+        field.edit.setText(op[2])
+        field.commit()
+    elif kind == "goal" and ed.scene.landmarks:
+        n = len(ed.scene.landmarks)
+        ed.set_selection([("landmarks", ed.scene.landmarks[i % n].id) for i in op[1]])
+        win.goals_panel.add_from_selection()
+    elif kind in ("insert", "dropvertex"):
+        from arena_studio.app import edits
+
+        outlined = [k for k in keys if edits.outline_of(edits.find(ed.scene, k))]
+        if outlined:
+            key = outlined[op[1] % len(outlined)]
+            ed.set_selection([key])
+            pts = edits.outline_of(edits.find(ed.scene, key))
+            if kind == "insert":
+                (ax, ay), (bx, by) = pts[0], pts[1]
+                tools["tool.select"].double_click(
+                    ToolEvent(((ax + bx) / 2, (ay + by) / 2), tol=1e-6)
+                )
+            else:
+                ed.set_active_vertex((key, op[2] % len(pts)))
+                ed.delete_selection()
     elif kind == "family":
         win.goals_panel.family_boxes[op[1]].toggle()
     elif kind == "rule":
