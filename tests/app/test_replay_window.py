@@ -226,3 +226,23 @@ def test_typing_in_the_search_box_does_not_trigger_playback_keys(qtbot, written_
     assert w.episode_list.search.text() == "n p d l"
     assert w.clock.step == 0 and not w.clock.playing and w.clock.loop is None
     w.close()
+
+
+def test_dark_theme_reaches_every_part(qtbot, written_tape):
+    # the colours come from resources/palettes/dark.json, read here with the json module
+    import json
+
+    palette = json.loads((REPO / "resources/palettes/dark.json").read_text())["colors"]
+    w = open_window(qtbot, written_tape)
+    w.set_theme("dark")
+    w.timeline.repaint()
+    corner = w.timeline.grab().toImage().pixelColor(2, 2).name().upper()
+    assert corner == palette["room_fill"][:7].upper()
+    w.canvas.viewport().repaint()
+    img = w.canvas.viewport().grab().toImage()
+    assert img.pixelColor(img.width() - 2, img.height() // 2).name().upper() in {
+        palette["background"][:7].upper(),
+        palette["grid_minor"][:7].upper(),
+        palette["grid_major"][:7].upper(),
+    }
+    w.close()

@@ -19,6 +19,7 @@ from PySide6.QtCore import (
     Qt,
     Signal,
 )
+from PySide6.QtGui import QColor
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QComboBox,
@@ -67,6 +68,7 @@ class EpisodeTableModel(QAbstractTableModel):
         super().__init__(parent)
         self._rows: list[EpisodeSummary] = []
         self._row_of: dict[int, int] = {}
+        self.fail_color: QColor | None = None  # "no" in Success/Aligned, set from the theme
 
     # -- filling -----------------------------------------------------------------------
     def reset_rows(self, summaries: Iterable[EpisodeSummary]) -> None:
@@ -145,6 +147,13 @@ class EpisodeTableModel(QAbstractTableModel):
             return "-" if value in (None, "") else str(value)
         if role == Qt.ItemDataRole.ToolTipRole and key == "diagnosis" and s.diagnosis:
             return s.diagnosis
+        if (
+            role == Qt.ItemDataRole.ForegroundRole
+            and self.fail_color is not None
+            and key in ("success", "aligned")
+            and getattr(s, key) is False
+        ):
+            return self.fail_color
         if role == Qt.ItemDataRole.ToolTipRole and key == "goal_label" and s.loaded:
             return s.goal_label
         if role == Qt.ItemDataRole.TextAlignmentRole and key in (
@@ -286,6 +295,10 @@ class EpisodeListPanel(QWidget):
         self.proxy.modelReset.connect(self._update_count)
         self.proxy.layoutChanged.connect(self._update_count)
         self._update_count()
+
+    def set_theme(self, theme) -> None:
+        self.model.fail_color = theme.qcolor("error")
+        self.table.viewport().update()
 
     # -- filters -----------------------------------------------------------------------
     def set_preset(self, preset: str) -> None:

@@ -113,6 +113,7 @@ class ReplayWindow(QMainWindow):
             "Episodes", self.episode_list, Qt.DockWidgetArea.LeftDockWidgetArea
         )
         self.episode_list.setMinimumWidth(260)
+        self.episode_list.set_theme(self.theme)
         self.plots = PlotsPanel(self.clock, self.theme, self)
         self.dock_plots = self._dock("Plots", self.plots, Qt.DockWidgetArea.BottomDockWidgetArea)
         self.batch = BatchPanel(self.theme, self)
@@ -524,6 +525,7 @@ class ReplayWindow(QMainWindow):
             self.transport,
             self.plots,
             self.batch,
+            self.episode_list,
         ):
             w.set_theme(self.theme)
         self._apply_verdict_style()
