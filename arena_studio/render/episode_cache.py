@@ -12,10 +12,8 @@ from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
-import shapely
 
 from ..core.episode import Episode
-from ..core.geometry import free_space
 from ..core.roles import derive_roles, pursued_mask, tape_roles, team_mask
 from ..core.scene import Scene
 
@@ -96,7 +94,7 @@ def build_cache(scene: Scene, episode: Episode) -> EpisodeCache:
         pursued=pursued_mask(scene, episode),
         covered_first=first,
         covered=covered_agent.any(axis=1),
-        collisions=_collisions(scene, xy, radius),
+        collisions=_collisions(scene, episode, xy, radius),
     )
 
 
@@ -112,15 +110,16 @@ def _coverage(scene: Scene, xy: np.ndarray) -> np.ndarray:
     return out
 
 
-def _collisions(scene: Scene, xy: np.ndarray, radius: np.ndarray) -> np.ndarray:
+def _collisions(scene: Scene, episode: Episode, xy: np.ndarray, radius: np.ndarray) -> np.ndarray:
     """Onsets of contact: two agent discs overlapping, or a disc crossing a wall/obstacle edge.
 
     Only the first step of each contact is kept, at the contact point (midpoint of the two
-    centres, or the agent centre for walls). 1 cm of tolerance ignores touching.
+    centres, or the agent centre for walls). Same definitions as core.metrics and the
+    replay events (strict overlap; centre outside its free space), so marks and scrub bar agree.
     """
     steps, agents = xy.shape[:2]
     events: list[np.ndarray] = []
-    tol = 0.01
+    tol = 0.0
     # agent-agent, pair by pair in time chunks (A <= ~64) or by a k-d tree per step
     if agents >= 2:
         if agents <= 64:
@@ -140,19 +139,12 @@ def _collisions(scene: Scene, xy: np.ndarray, radius: np.ndarray) -> np.ndarray:
                 events.append(np.column_stack([ts + t0, mid, np.zeros(len(ts))]))
         else:
             events.append(_tree_collisions(xy, radius, tol))
-    # walls and obstacles: the disc crosses an edge exactly when its centre leaves the open
-    # area shrunk by the radius (free space); a prepared point-in-polygon test per step
+    # walls and obstacles: core.metrics' own test (centre outside its free space), so the
+    # marks agree with the replay's events and the metrics' counts
     if len(scene.rooms):
-        touch = np.zeros((steps, agents), dtype=bool)
-        for r in np.unique(radius):
-            members = np.flatnonzero(radius == r)
-            space = free_space(scene, max(float(r) - tol, 0.0))
-            shapely.prepare(space)
-            pts = xy[:, members]
-            inside = shapely.contains_xy(space, pts[..., 0], pts[..., 1])
-            touch[:, members] = ~inside
-        before = np.vstack([np.zeros((1, agents), dtype=bool), touch[:-1]])
-        ts, ag = np.nonzero(touch & ~before)
+        from ..core.metrics import onsets, outside_mask
+
+        ts, ag = np.nonzero(onsets(outside_mask(scene, episode)))
         events.append(np.column_stack([ts, xy[ts, ag], np.ones(len(ts))]))
     if not events:
         return np.zeros((0, 4))

@@ -33,7 +33,7 @@ def test_wall_contact_onset_matches_geos_distance():
     walls = open_area(scene).boundary
     radius = scene.agents[0].radius
     touching = [
-        Point(p).distance(walls) < radius - 0.01 or not open_area(scene).contains(Point(p))
+        Point(p).distance(walls) < radius or not open_area(scene).contains(Point(p))
         for p in xy[:, 0]
     ]
     expected = touching.index(True)
@@ -50,7 +50,7 @@ def test_agent_contact_onsets_and_first_coverage():
     xy[:, 2] = (8.0, 9.0)
     cache = build_cache(scene, _episode(xy))
     gap = [Point(a).distance(Point(b)) for a, b in zip(xy[:, 0], xy[:, 1], strict=True)]
-    reach = scene.agents[0].radius + scene.agents[1].radius - 0.01
+    reach = scene.agents[0].radius + scene.agents[1].radius
     first_touch = next(t for t, d in enumerate(gap) if d < reach)
     agent_events = cache.collisions[cache.collisions[:, 3] == 0]
     assert agent_events[:, 0].tolist() == [first_touch]
@@ -59,3 +59,21 @@ def test_agent_contact_onsets_and_first_coverage():
     assert cache.covered_first[0, tank] == first_in
     assert cache.covered_first[1, tank] == 0
     assert cache.covered_first[2, tank] == -1
+
+
+def test_contact_marks_agree_with_the_replay_events():
+    # Not an outside source: the frame's contact marks and core.events' scrub-bar events must
+    # name the same steps (one definition of a contact in the whole tool).
+    from arena_studio.core.events import episode_events
+
+    from .demo_episode import demo_episode
+
+    scene = greenhouse()
+    ep = demo_episode(scene)
+    events = sorted(
+        (e.step, 0 if e.kind == "collision" else 1)
+        for e in episode_events(scene, ep)
+        if e.kind in ("collision", "wall-collision")
+    )
+    marks = sorted((int(t), int(k)) for t, _x, _y, k in build_cache(scene, ep).collisions)
+    assert marks == events and marks
