@@ -17,6 +17,7 @@ import numpy as np
 import shapely
 
 from ..geometry import bounds, open_area
+from ..png import encode_png
 from ..scene import Scene
 from . import ExportError
 from .meta import provenance, write_export_bytes, write_json_atomic
@@ -59,8 +60,6 @@ def _paths(out: Path) -> tuple[Path, Path, Path]:
 
 
 def write_grid(scene: Scene, out: Path, resolution: float) -> list[Path]:
-    from PIL import Image  # lazy: only this export needs Pillow
-
     from .svg import palette
 
     grid, origin = occupancy(scene, resolution)
@@ -73,16 +72,11 @@ def write_grid(scene: Scene, out: Path, resolution: float) -> list[Path]:
     lut = np.array(
         [_rgb(colors["room_fill"]), _rgb(colors["wall"])], dtype=np.uint8
     )  # 0 free, 1 blocked
-    image = Image.fromarray(lut[grid[::-1]], mode="RGB")
-    png = io.BytesIO()
     meta = provenance(scene, "grid")
-    from PIL import PngImagePlugin
-
-    info = PngImagePlugin.PngInfo()
-    info.add_text("content_hash", meta["content_hash"])
-    info.add_text("caution", meta["caution"])
-    image.save(png, format="PNG", pnginfo=info)
-    write_export_bytes(png_path, png.getvalue())
+    png = encode_png(
+        lut[grid[::-1]], {"content_hash": meta["content_hash"], "caution": meta["caution"]}
+    )
+    write_export_bytes(png_path, png)
 
     write_json_atomic(
         json_path,

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import json
-import os
 from pathlib import Path
 from typing import Any
 
@@ -24,16 +23,9 @@ def provenance(scene: Scene, fmt: str) -> dict[str, Any]:
     }
 
 
-def _umask() -> int:
-    mask = os.umask(0o022)
-    os.umask(mask)
-    return mask
-
-
 def write_export_bytes(path: Path, data: bytes) -> None:
-    """Atomic write, then the usual permissions for a new file (the temp file is 0600)."""
+    """Atomic write with the usual permissions (see :func:`arena_studio.core.atomic.publish`)."""
     write_bytes_atomic(path, data)
-    os.chmod(path, 0o666 & ~_umask())
 
 
 def write_json_atomic(path: Path, doc: dict[str, Any]) -> None:
