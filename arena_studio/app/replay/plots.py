@@ -49,6 +49,7 @@ class PlotsPanel(QWidget):
         layout.addWidget(self.empty_label)
         self.plots: dict[str, pg.PlotItem] = {}
         self.cursors: dict[str, pg.InfiniteLine] = {}
+        self.legends: list[pg.LegendItem] = []
         clock.stepChanged.connect(self._on_step)
         self._apply_theme()
 
@@ -64,6 +65,7 @@ class PlotsPanel(QWidget):
         self.graphics.clear()
         self.plots.clear()
         self.cursors.clear()
+        self.legends.clear()
         self.empty_label.setVisible(prepared is None)
         if prepared is None:
             return
@@ -71,7 +73,7 @@ class PlotsPanel(QWidget):
         t = np.arange(ep.steps) * ep.dt
         first: pg.PlotItem | None = None
 
-        dist = self._add_plot("distance", "distance to target (m)", first)
+        dist = self._add_plot("distance", "to target (m)", first)
         first = dist
         styles = (Qt.PenStyle.SolidLine, Qt.PenStyle.DashLine, Qt.PenStyle.DotLine)
         for (agent, lm), d in sorted(prepared.distances.items()):
@@ -109,9 +111,8 @@ class PlotsPanel(QWidget):
                 for a in range(arr.shape[1]):
                     tt, vv = decimate(t[: len(arr)], arr[:, a])
                     plot.plot(tt, vv, pen=pg.mkPen(self._theme.agent_color(a), width=2))
-        legend = dist.legend
-        if legend is not None and len(legend.items) > 4:
-            legend.setColumnCount(2)
+        for row, plot in enumerate(self.plots.values()):
+            self._side_legend(plot, row)
         last = list(self.plots.values())[-1]
         last.setLabel("bottom", "time (s)")
         for plot in self.plots.values():
@@ -127,14 +128,6 @@ class PlotsPanel(QWidget):
         plot.showGrid(x=True, y=True, alpha=0.25)
         plot.setMenuEnabled(False)
         plot.setMouseEnabled(x=True, y=False)
-        if key == "distance":
-            plot.addLegend(
-                offset=(-10, 10),
-                labelTextSize="8pt",
-                labelTextColor=self._theme.qcolor("text"),
-                brush=self._theme.qcolor("room_fill", 0.6),
-                pen=None,
-            )
         if link is not None:
             plot.setXLink(link)
         cursor = pg.InfiniteLine(
@@ -147,6 +140,23 @@ class PlotsPanel(QWidget):
         self.plots[key] = plot
         self.cursors[key] = cursor
         return plot
+
+    def _side_legend(self, plot: pg.PlotItem, row: int) -> None:
+        """A legend beside the plot (not over the curves), for the curves that have names."""
+        named = [item for item in plot.listDataItems() if item.name()]
+        if not named:
+            return
+        legend = pg.LegendItem(
+            labelTextSize="8pt",
+            labelTextColor=self._theme.qcolor("text"),
+            brush=None,
+            pen=None,
+            verSpacing=-6,
+        )
+        self.graphics.addItem(legend, row=row, col=1)
+        for item in named:
+            legend.addItem(item, item.name())
+        self.legends.append(legend)
 
     def _seek_seconds(self, seconds: float) -> None:
         self._clock.pause()

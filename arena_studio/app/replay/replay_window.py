@@ -416,7 +416,12 @@ class ReplayWindow(QMainWindow):
             return f"{lead} {ep.index} <b style='color:{err}'>failed</b> goal {goal}."
         when = "" if dstep is None else f" at {dstep * ep.dt:.1f} s"
         seen = dstep is not None and self.clock.step >= dstep
-        go = " &nbsp;<a href='diag'>go there (D)</a>" if link and not seen else ""
+        ink = self.theme.hex("text")[:7]  # the default link blue is unreadable on dark red
+        go = (
+            f" &nbsp;<a href='diag' style='color:{ink}; font-weight:bold'>go there (D)</a>"
+            if link and not seen
+            else ""
+        )
         return f"{lead} {ep.index} <b style='color:{err}'>failed</b> goal {goal}: {diag}{when}.{go}"
 
     def _update_verdict(self) -> None:
