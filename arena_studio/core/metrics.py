@@ -26,6 +26,7 @@ the viewer and simulators share). Definitions:
 
 from __future__ import annotations
 
+import threading
 from collections import Counter, defaultdict
 from collections.abc import Sequence
 from dataclasses import asdict, dataclass, field
@@ -36,7 +37,7 @@ import numpy as np
 import shapely
 
 from .episode import Episode
-from .geometry import free_space
+from .geometry import free_space, per_thread_cache
 from .observe import coverage, goal_reached
 from .scene import Scene
 
@@ -114,9 +115,10 @@ def overlap_mask(scene: Scene, episode: Episode) -> np.ndarray:
     return out
 
 
-class _SceneMemo:
+class _SceneMemo(threading.local):
     """Per-scene results, looked up by identity first: hashing a whole scene value on every
-    episode costs more than the metrics of a short episode."""
+    episode costs more than the metrics of a short episode. One memo per thread, because
+    the values hold GEOS prepared geometry, which is not thread-safe."""
 
     def __init__(self) -> None:
         self.scene: Scene | None = None
@@ -137,7 +139,7 @@ def _prepared_free_space(scene: Scene, radius: float) -> Any:
     return _MEMO.get(scene, ("free", radius), lambda: _make_free_space(scene, radius))
 
 
-@lru_cache(maxsize=128)
+@per_thread_cache(maxsize=128)
 def _make_free_space(scene: Scene, radius: float) -> Any:
     geom = free_space(scene, max(radius - FREE_SPACE_TOLERANCE, 0.0))
     shapely.prepare(geom)

@@ -34,14 +34,13 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from functools import lru_cache
 
 import numpy as np
 import shapely
 from shapely.geometry import Point, Polygon
 from shapely.geometry.base import BaseGeometry
 
-from .geometry import free_space, quad_segments
+from .geometry import free_space, per_thread_cache, quad_segments
 from .scene import Scene
 from .visibility import VisibilityGraph, build_visibility_graph, polygons_of
 from .visibility_fields import (
@@ -373,11 +372,13 @@ class PathPlanner:
         return result
 
 
-@lru_cache(maxsize=16)
+@per_thread_cache(maxsize=16)
 def shared_planner(scene: Scene) -> PathPlanner:
     """One planner per scene value, shared by callers that do not keep their own.
 
-    Scenes are immutable values, so a planner's caches never go stale for its scene.
+    Scenes are immutable values, so a planner's caches never go stale for its scene. Each
+    thread gets its own planner: planners hold GEOS prepared geometry, which is not
+    thread-safe.
     """
     return PathPlanner(scene)
 
