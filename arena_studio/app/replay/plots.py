@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 import pyqtgraph as pg
-from PySide6.QtCore import Qt
+from PySide6.QtCore import Qt, QTimer
 from PySide6.QtWidgets import QLabel, QVBoxLayout, QWidget
 
 from ...core.scene import Scene
@@ -50,7 +50,12 @@ class PlotsPanel(QWidget):
         self.plots: dict[str, pg.PlotItem] = {}
         self.cursors: dict[str, pg.InfiniteLine] = {}
         self.legends: list[pg.LegendItem] = []
+        self._cursor_timer = QTimer(self)
+        self._cursor_timer.setSingleShot(True)
+        self._cursor_timer.setInterval(33)
+        self._cursor_timer.timeout.connect(self._move_cursors)
         clock.stepChanged.connect(self._on_step)
+        clock.playingChanged.connect(lambda playing: None if playing else self._move_cursors())
         self._apply_theme()
 
     # -- public ------------------------------------------------------------------------
@@ -174,6 +179,15 @@ class PlotsPanel(QWidget):
                 return
 
     def _on_step(self, step: int) -> None:
+        """Move the cursors; while playing at most ~30 times a second (plots are costly)."""
+        if self._clock.playing:
+            if not self._cursor_timer.isActive():
+                self._cursor_timer.start()
+            return
+        self._move_cursors(step)
+
+    def _move_cursors(self, step: int | None = None) -> None:
+        step = self._clock.step if step is None else step
         t = step * self._clock.dt
         for cursor in self.cursors.values():
             cursor.blockSignals(True)

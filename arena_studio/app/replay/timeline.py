@@ -11,7 +11,15 @@ from __future__ import annotations
 import math
 
 from PySide6.QtCore import QPointF, QRectF, QSize, Qt
-from PySide6.QtGui import QColor, QMouseEvent, QPainter, QPainterPath, QPaintEvent, QPen
+from PySide6.QtGui import (
+    QColor,
+    QMouseEvent,
+    QPainter,
+    QPainterPath,
+    QPaintEvent,
+    QPen,
+    QPixmap,
+)
 from PySide6.QtWidgets import QSizePolicy, QToolTip, QWidget
 
 from ...render.theme import Theme, load_theme
@@ -44,6 +52,7 @@ class TimelineBar(QWidget):
         self._theme = theme or load_theme("light")
         self._events: tuple[EventMark, ...] = ()
         self._agent_count = 0
+        self._static: tuple[tuple, QPixmap] | None = None
         self.setMinimumHeight(58)
         self.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Fixed)
         self.setMouseTracking(True)
@@ -124,10 +133,36 @@ class TimelineBar(QWidget):
 
     # -- drawing -----------------------------------------------------------------------
     def paintEvent(self, event: QPaintEvent) -> None:
-        theme = self._theme
+        """Blit the cached track (ruler, loop, event glyphs), then draw the cursor: playback
+        repaints every step, and thousands of glyphs must not be redrawn each time."""
+        dpr = self.devicePixelRatioF()
+        key = (
+            self.width(),
+            self.height(),
+            dpr,
+            id(self._events),  # the tuple is held, so its id cannot be reused
+            self._theme.name,
+            self._clock.steps,
+            self._clock.dt,
+            self._clock.loop,
+        )
+        if self._static is None or self._static[0] != key:
+            pm = QPixmap(max(int(self.width() * dpr), 1), max(int(self.height() * dpr), 1))
+            pm.setDevicePixelRatio(dpr)
+            sp = QPainter(pm)
+            self._paint_static(sp)
+            sp.end()
+            self._static = (key, pm)
         p = QPainter(self)
+        p.drawPixmap(0, 0, self._static[1])
         p.setRenderHint(QPainter.RenderHint.Antialiasing)
-        p.fillRect(self.rect(), theme.qcolor("room_fill"))
+        self._paint_cursor(p, self._track())
+        p.end()
+
+    def _paint_static(self, p: QPainter) -> None:
+        theme = self._theme
+        p.setRenderHint(QPainter.RenderHint.Antialiasing)
+        p.fillRect(QRectF(0, 0, self.width(), self.height()), theme.qcolor("room_fill"))
         track = self._track()
         p.setPen(QPen(theme.qcolor("grid_major"), 1.0))
         p.setBrush(theme.qcolor("background"))
@@ -139,8 +174,6 @@ class TimelineBar(QWidget):
         self._paint_ruler(p, track)
         for mark in self._events:
             self._paint_mark(p, mark, track)
-        self._paint_cursor(p, track)
-        p.end()
 
     def _paint_loop(self, p: QPainter, track: QRectF) -> None:
         loop = self._clock.loop
