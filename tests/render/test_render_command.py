@@ -105,3 +105,33 @@ def test_bad_requests_exit_2_with_one_line(qapp, tape_path, tmp_path, capsys, ar
 def test_missing_tape(qapp, tmp_path, capsys):
     assert main(["render", str(tmp_path / "nope.tape"), "-o", str(tmp_path / "a.mp4")]) == 2
     assert "no such file" in capsys.readouterr().err
+
+
+def test_two_processes_write_byte_identical_stills(tape_path, tmp_path):
+    # Determinism across runs (issue 7): same tape, options and version -> same PNG bytes.
+    import os
+    import subprocess
+    import sys
+
+    env = dict(os.environ, QT_QPA_PLATFORM="offscreen")
+    outs = []
+    for name in ("a.png", "b.png"):
+        out = tmp_path / name
+        cmd = [
+            sys.executable,
+            "-m",
+            "arena_studio",
+            "render",
+            str(tape_path),
+            "-o",
+            str(out),
+            "--time",
+            "1.2",
+            "--size",
+            "480x270",
+            "--title",
+            "same",
+        ]
+        subprocess.run(cmd, check=True, env=env, capture_output=True)
+        outs.append(out.read_bytes())
+    assert outs[0] == outs[1]
