@@ -81,8 +81,10 @@ def test_main_window_opens_a_tape_in_replay_mode(qtbot, tmp_path):
     assert page.replay_actions["play"].isEnabled()
     assert str(tape.resolve()) in window.recent_files()
     assert page.wait_loaded()
-    menus = [a.text() for a in window.menuBar().actions()]
+    menus = {a.text(): a.menu() for a in window.menuBar().actions()}
     assert "&Replay" in menus
+    entries = [a.text() for a in menus["&Replay"].actions()]
+    assert "Export Clip…" in entries and "Go to diagnosis" in entries
     # an editable copy of the tape's scene goes to the layout editor; playback keys go quiet
     page.open_scene_copy()
     assert window.modes.currentWidget() is window.canvas

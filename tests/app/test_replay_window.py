@@ -246,3 +246,22 @@ def test_dark_theme_reaches_every_part(qtbot, written_tape):
         palette["grid_major"][:7].upper(),
     }
     w.close()
+
+
+def test_a_cut_tape_opens_with_the_recovery_message(qtbot, tmp_path):
+    # reference: the tape reader's own recovery message for the same cut file
+    path = write_test_tape(tmp_path / "cut.tape", episodes=4)
+    data = path.read_bytes()
+    path.write_bytes(data[: int(len(data) * 0.7)])
+    tape = open_tape(path)
+    assert tape.truncated and tape.recovery_message
+    w = ReplayWindow("light")
+    qtbot.addWidget(w)
+    said: list[str] = []
+    w.statusMessage.connect(said.append)
+    w.open_tape(path)
+    assert w.wait_loaded()
+    assert tape.recovery_message in said
+    assert w.episode_list.model.rowCount() == len(tape)
+    w.session.wait_summaries()
+    w.close()
