@@ -32,6 +32,7 @@ class GoalStat:
 class BatchStats:
     episodes: int
     scored: int  # rows with a success value
+    successes: int
     success_rate: float | None
     alignment_rate: float | None
     aligned_success: tuple[int, int]  # successes, episodes among aligned
@@ -61,6 +62,7 @@ def batch_stats(rows: Iterable[EpisodeSummary]) -> BatchStats:
     return BatchStats(
         episodes=len(rows),
         scored=len(scored),
+        successes=sum(1 for r in scored if r.success),
         success_rate=_rate(sum(1 for r in scored if r.success), len(scored)),
         alignment_rate=_rate(sum(1 for r in with_align if r.aligned), len(with_align)),
         aligned_success=(sum(1 for r in aligned if r.success), len(aligned)),

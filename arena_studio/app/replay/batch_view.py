@@ -199,7 +199,7 @@ class RateBars(QWidget):
         m_rate, m_txt = frac(s.misaligned_success)
         n_aligned = s.aligned_success[1]
         return [
-            ("Success, all", s.success_rate, f"{s.scored} scored"),
+            ("Success, all", s.success_rate, f"{s.successes}/{s.scored}"),
             ("Aligned", s.alignment_rate, f"{n_aligned}/{s.scored}"),
             ("Success, aligned", a_rate, a_txt),
             ("Success, misaligned", m_rate, m_txt),
