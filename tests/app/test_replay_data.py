@@ -35,6 +35,7 @@ def test_batch_view_numbers_match_core_batch_metrics(path):
     ref = batch_metrics(tape.scene, [episode_metrics(tape.scene, e) for e in tape])
     stats = batch_stats(rows)
     assert stats.episodes == ref["episodes"]
+    assert stats.successes == ref["successes"]
     assert stats.success_rate == pytest.approx(ref["success_rate"])
     assert stats.alignment_rate == pytest.approx(ref["alignment_rate"])
     keys = {
