@@ -8,7 +8,15 @@ from __future__ import annotations
 import importlib
 from types import ModuleType
 
-COMMANDS: tuple[str, ...] = ("check", "render", "import", "rollout", "stats", "goals", "export")
+COMMANDS: tuple[str, ...] = (
+    "check",
+    "goals",
+    "export",
+    "rollout",
+    "import",
+    "stats",
+    "render",
+)
 
 
 def load_command(name: str) -> ModuleType:

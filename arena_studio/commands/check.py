@@ -9,8 +9,10 @@ from __future__ import annotations
 import argparse
 import json
 import sys
+from typing import TYPE_CHECKING
 
-from ..core.checks import SEVERITIES, Finding, check_scene, count_by_severity, fmt_point
+if TYPE_CHECKING:  # the checker pulls in shapely and scipy; load it only when it runs
+    from ..core.checks import Finding
 from .common import EXIT_OK, EXIT_PROBLEMS, EXIT_UNREADABLE, CommandError, error_line, read_scene
 
 HELP = "check a scene for problems (exit 0 ok, 1 errors found, 2 unreadable)"
@@ -30,6 +32,8 @@ def run(args: argparse.Namespace) -> int:
         error_line(str(exc))
         return exc.code
     try:
+        from ..core.checks import check_scene
+
         findings = check_scene(scene)
     except Exception as exc:  # a checker bug must still end in one line, not a traceback
         error_line(f"{args.scene}: the checker failed ({type(exc).__name__}: {exc}); please report")
@@ -45,6 +49,8 @@ def run(args: argparse.Namespace) -> int:
 
 def format_report(source: str, findings: list[Finding]) -> str:
     """One line per finding, errors first, then a summary line."""
+    from ..core.checks import SEVERITIES, count_by_severity, fmt_point
+
     lines = []
     width = max((len(f.code) for f in findings), default=0)
     for f in findings:  # check_scene already sorts by severity

@@ -12,12 +12,14 @@ from __future__ import annotations
 import argparse
 import json
 import sys
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from ..core.export import CAUTION
-from ..core.goals import GoalTable, enumerate_goals
-from ..core.partime import GoalPlan, plan_all
 from ..core.scene import Scene
+
+if TYPE_CHECKING:  # the planner pulls in scipy; load it only when the command runs
+    from ..core.goals import GoalTable
+    from ..core.partime import GoalPlan
 from .common import EXIT_OK, EXIT_PROBLEMS, EXIT_UNREADABLE, CommandError, error_line, read_scene
 
 HELP = "list a scene's goals with par times and assignments (exit 0 ok, 1 problems, 2 unreadable)"
@@ -37,6 +39,9 @@ def run(args: argparse.Namespace) -> int:
         error_line(str(exc))
         return exc.code
     try:
+        from ..core.goals import enumerate_goals
+        from ..core.partime import plan_all
+
         table = enumerate_goals(scene)
         plans = plan_all(scene, table)
     except Exception as exc:  # a planner bug must still end in one line, not a traceback
