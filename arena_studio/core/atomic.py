@@ -21,8 +21,9 @@ def _read_umask() -> int:
 _UMASK = _read_umask()
 
 
-def publish_mode(target: Path) -> int:
-    """Permissions a finished file should get: the old file's, else 0666 minus the umask.
+def publish_mode(target: Path, directory: bool = False) -> int:
+    """Permissions a finished file should get: the old file's, else 0666 minus the umask
+    (0777 minus the umask for a folder).
 
     ``mkstemp`` creates temp files as 0600; renaming one over a user's file would silently
     make it private, so every writer calls this before its rename.
@@ -30,7 +31,7 @@ def publish_mode(target: Path) -> int:
     try:
         return stat.S_IMODE(target.stat().st_mode)
     except OSError:
-        return 0o666 & ~_UMASK
+        return (0o777 if directory else 0o666) & ~_UMASK
 
 
 def make_temp(target: Path, suffix: str = ".tmp") -> tuple[int, Path]:
@@ -39,9 +40,9 @@ def make_temp(target: Path, suffix: str = ".tmp") -> tuple[int, Path]:
     return fd, Path(name)
 
 
-def publish(tmp: Path, target: Path) -> None:
+def publish(tmp: Path, target: Path, directory: bool = False) -> None:
     """Give ``tmp`` the target's permissions and rename it over ``target`` atomically."""
-    os.chmod(tmp, publish_mode(target))
+    os.chmod(tmp, publish_mode(target, directory))
     os.replace(tmp, target)
 
 

@@ -22,6 +22,7 @@ from pathlib import Path
 from PySide6.QtCore import QSize
 from PySide6.QtGui import QImage, QPainter
 
+from ..core.atomic import make_temp, publish
 from ..core.episode import Episode
 from ..core.scene import Scene
 from .episode_painter import FrameOptions
@@ -313,7 +314,7 @@ def _write_ffmpeg(
                 raise ClipError(f"{target}: the disk is full; nothing was written")
             last = err.splitlines()[-1] if err else f"exit code {code}"
             raise ClipError(f"{target}: could not encode the clip: {last}")
-        _publish(tmp, target, 0o666)
+        publish(tmp, target)
     except BaseException:
         with contextlib.suppress(Exception):
             proc.kill()
@@ -327,21 +328,13 @@ def _write_ffmpeg(
                 pipe.close()
 
 
-def _publish(tmp: Path, target: Path, mode: int) -> None:
-    """Give the finished temp file the usual permissions (mkstemp makes it 0600), rename it."""
-    umask = os.umask(0)
-    os.umask(umask)
-    os.chmod(tmp, mode & ~umask)
-    os.replace(tmp, target)
-
-
 def _temp_name(target: Path) -> Path:
     try:
-        fd, name = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part", dir=target.parent)
+        fd, name = make_temp(target, suffix=".part")
     except OSError as exc:
         raise ClipError(f"{target.parent}: cannot write here ({exc.strerror})") from None
     os.close(fd)
-    return Path(name)
+    return name
 
 
 def _write_png_folder(target: Path, frames: Iterator[QImage]) -> None:
@@ -360,7 +353,7 @@ def _write_png_folder(target: Path, frames: Iterator[QImage]) -> None:
                 raise ClipError(f"{target}: {why}; nothing was written") from None
         if target.is_dir():
             target.rmdir()  # checked empty before we started
-        _publish(tmp, target, 0o777)
+        publish(tmp, target, directory=True)
     except BaseException:
         shutil.rmtree(tmp, ignore_errors=True)
         raise
