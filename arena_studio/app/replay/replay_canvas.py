@@ -108,8 +108,9 @@ class ReplayCanvas(SceneCanvas):
         self.auto_fit = True  # keep the scene fitted on resize until the user zooms or pans
         # the scene never changes during a replay: keep the background (floor, grid) and the
         # static scene layer as pixmaps, so a new step repaints only the episode layer's work
+        # (the static scene layer is painted into the cached background: one opaque blit)
         self.setCacheMode(QGraphicsView.CacheModeFlag.CacheBackground)
-        self.layer.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
+        self.layer.setVisible(False)
 
     # -- content -----------------------------------------------------------------------
     def set_episode(self, scene: Scene, prepared: PreparedEpisode | None) -> None:
@@ -153,7 +154,6 @@ class ReplayCanvas(SceneCanvas):
     def set_theme(self, theme: Theme) -> None:
         super().set_theme(theme)
         self.resetCachedContent()
-        self.layer.update()
         self.layer_episode.theme = theme
         self.layer_ghost.theme = theme
 
@@ -169,6 +169,12 @@ class ReplayCanvas(SceneCanvas):
         cache = episode_cache(self.scene_value, ep)
         step = min(max(self.step, 0), cache.steps - 1)
         return cache.xy[step].copy()
+
+    def drawBackground(self, painter: QPainter, rect: QRectF) -> None:
+        super().drawBackground(painter, rect)
+        painter.save()
+        self.layer.paint(painter, QStyleOptionGraphicsItem(), None)
+        painter.restore()
 
     # -- fitting -----------------------------------------------------------------------
     def legend_room(self) -> float:
