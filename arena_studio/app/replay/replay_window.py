@@ -13,22 +13,16 @@ from typing import Any
 from PySide6.QtCore import QByteArray, QEventLoop, QSettings, Qt, QTimer, Signal
 from PySide6.QtGui import QAction, QKeySequence
 from PySide6.QtWidgets import (
-    QCheckBox,
-    QComboBox,
     QDockWidget,
-    QDoubleSpinBox,
     QFileDialog,
-    QLabel,
     QMainWindow,
     QMessageBox,
     QSplitter,
-    QToolBar,
     QVBoxLayout,
     QWidget,
 )
 
 from ...core.scene import Scene
-from ...render.episode_painter import FrameOptions
 from ...render.theme import Theme, load_theme
 from .actions import build_actions
 from .batch_stats import batch_stats
@@ -41,8 +35,8 @@ from .session import ReplaySession
 from .timeline import TimelineBar
 from .transport import PlaybackClock
 from .transport_bar import TransportBar
-
-COMPARE_MODES = (("Off", "off"), ("Ghost overlay", "ghost"), ("Side by side", "side"))
+from .verdict import VerdictLine
+from .view_toolbar import COMPARE_MODES, ViewToolbar
 
 
 class ReplayWindow(QMainWindow):
@@ -62,7 +56,6 @@ class ReplayWindow(QMainWindow):
         self._pending_index: int | None = None
         self._pending_step: int | None = None
         self._first_episode = True
-        self._verdict_state = "none"
         self.scene_checks_done: set[tuple[str, str, str]] = set()
         #: how warnings reach the user (tests replace it to read the text)
         self.warn: Callable[[str, str], object] = lambda title, text: QMessageBox.warning(
@@ -93,10 +86,7 @@ class ReplayWindow(QMainWindow):
         self.split.addWidget(self.canvas)
         self.split.addWidget(self.canvas_b)
         layout.addWidget(self.split, 1)
-        self.verdict = QLabel(central)
-        self.verdict.setWordWrap(True)
-        self.verdict.setTextFormat(Qt.TextFormat.RichText)
-        self.verdict.setContentsMargins(10, 4, 10, 4)
+        self.verdict = VerdictLine(self.theme, central)
         self.verdict.linkActivated.connect(lambda _l: self.go_to_diagnosis())
         layout.addWidget(self.verdict)
         self.timeline = TimelineBar(self.clock, self.theme, central)
@@ -104,7 +94,6 @@ class ReplayWindow(QMainWindow):
         self.transport = TransportBar(self.clock, self.replay_actions, self.theme, central)
         layout.addWidget(self.transport)
         self.setCentralWidget(central)
-        self._apply_verdict_style()
 
     def _build_docks(self) -> None:
         self.episode_list = EpisodeListPanel(self)
@@ -152,43 +141,10 @@ class ReplayWindow(QMainWindow):
         return dock
 
     def _build_toolbar(self) -> None:
-        bar = QToolBar("Replay view", self)
-        bar.setObjectName("replay.view_toolbar")
+        bar = ViewToolbar(self)
         self.addToolBar(Qt.ToolBarArea.TopToolBarArea, bar)
-        self.trails_box = QCheckBox("Trails", bar)
-        self.trails_box.setChecked(True)
-        self.trail_seconds = QDoubleSpinBox(bar)
-        self.trail_seconds.setRange(0.5, 120.0)
-        self.trail_seconds.setValue(FrameOptions().trail_seconds)
-        self.trail_seconds.setSuffix(" s")
-        self.trail_seconds.setToolTip("Trail length (seconds of past motion)")
-        self.pursued_box = QCheckBox("Pursued goals", bar)
-        self.pursued_box.setChecked(True)
-        self.par_box = QCheckBox("Par-time paths", bar)
-        self.legend_box = QCheckBox("Legend", bar)
-        self.legend_box.setChecked(True)
-        for w in (
-            self.trails_box,
-            self.trail_seconds,
-            self.pursued_box,
-            self.par_box,
-            self.legend_box,
-        ):
-            bar.addWidget(w)
-            signal = w.valueChanged if isinstance(w, QDoubleSpinBox) else w.toggled
-            signal.connect(lambda *_: self._apply_options())
-        bar.addSeparator()
-        bar.addWidget(QLabel(" Compare: ", bar))
-        self.compare_box = QComboBox(bar)
-        for label, name in COMPARE_MODES:
-            self.compare_box.addItem(label, name)
-        self.compare_box.setToolTip(
-            "Show a second episode (pick it with 'Compare with selected') as a ghost or beside"
-        )
-        self.compare_box.currentIndexChanged.connect(
-            lambda i: self.set_compare_mode(self.compare_box.itemData(i))
-        )
-        bar.addWidget(self.compare_box)
+        bar.optionsChanged.connect(self._apply_options)
+        bar.compareModeChanged.connect(self.set_compare_mode)
         self.view_toolbar = bar
 
     def _build_extra_actions(self) -> None:
@@ -368,69 +324,13 @@ class ReplayWindow(QMainWindow):
             canvas.fit_scene()
 
     # -- verdict line ------------------------------------------------------------------
-    def _apply_verdict_style(self) -> None:
-        """A failed episode's line gets a tinted band and a bar in the error colour."""
-        t = self.theme
-        back = t.qcolor("room_fill")
-        bar = t.hex("grid_major")[:7]
-        if self._verdict_state == "failed":
-            err = t.qcolor("error")
-            mix = 0.14
-            back.setRgbF(
-                back.redF() * (1 - mix) + err.redF() * mix,
-                back.greenF() * (1 - mix) + err.greenF() * mix,
-                back.blueF() * (1 - mix) + err.blueF() * mix,
-            )
-            bar = t.hex("error")[:7]
-        self.verdict.setStyleSheet(
-            f"QLabel {{ background: {back.name()}; color: {t.hex('text')[:7]};"
-            f" border-left: 5px solid {bar}; border-top: 1px solid {t.hex('grid_major')[:7]};"
-            " padding: 2px 6px; }"
-        )
-
     def verdict_text(self) -> str:
-        """One line on the shown episode (and the compared one): outcome, and for a failure,
-        what went wrong and when, with a link to that moment."""
-        if self.prepared is None:
-            return ""
-        text = self._verdict_for(self.prepared, "Episode", link=True)
-        if self.compare is not None and self.compare_mode != "off":
-            text += "<br>" + self._verdict_for(self.compare, "Compared: episode", link=False)
-        return text
-
-    def _verdict_for(self, p: PreparedEpisode, lead: str, link: bool) -> str:
-        m, ep = p.metrics, p.episode
-        if m is None:
-            return f"{lead} {ep.index}: {ep.steps} steps, {ep.duration:.1f} s."
-        err = self.theme.hex("error")[:7]
-        goal = getattr(m, "goal_key", None) or "-"
-        if getattr(m, "success", False):
-            t = getattr(m, "time_to_success", None)
-            ratio = getattr(m, "par_ratio", None)
-            extra = f" (par time / time taken = {ratio:.2f})" if ratio else ""
-            took = "" if t is None else f" in {t:.1f} s"
-            return f"{lead} {ep.index} <b>succeeded</b> at goal {goal}{took}{extra}."
-        diag = getattr(m, "diagnosis", None)
-        dstep = getattr(m, "diagnosis_step", None)
-        if not diag:
-            return f"{lead} {ep.index} <b style='color:{err}'>failed</b> goal {goal}."
-        when = "" if dstep is None else f" at {dstep * ep.dt:.1f} s"
-        seen = dstep is not None and self.clock.step >= dstep
-        ink = self.theme.hex("text")[:7]  # the default link blue is unreadable on dark red
-        go = (
-            f" &nbsp;<a href='diag' style='color:{ink}; font-weight:bold'>go there (D)</a>"
-            if link and not seen
-            else ""
-        )
-        return f"{lead} {ep.index} <b style='color:{err}'>failed</b> goal {goal}: {diag}{when}.{go}"
+        """What the line under the canvas says now (rich text)."""
+        return self.verdict.text()
 
     def _update_verdict(self) -> None:
-        self.verdict.setText(self.verdict_text())
-        m = None if self.prepared is None else self.prepared.metrics
-        state = "none" if m is None else ("ok" if getattr(m, "success", False) else "failed")
-        if state != self._verdict_state:
-            self._verdict_state = state
-            self._apply_verdict_style()
+        compared = self.compare if self.compare_mode != "off" else None
+        self.verdict.show_episodes(self.prepared, compared, self.clock.step)
 
     # -- list and batch ----------------------------------------------------------------
     def _on_rows(self, rows: list) -> None:
@@ -453,7 +353,7 @@ class ReplayWindow(QMainWindow):
         if self.session is None or index is None:
             return
         if self.compare_mode == "off":
-            self.compare_box.setCurrentIndex(1)
+            self.set_compare_mode("ghost")
         self.session.request_compare(index)
 
     def compare_with(self, index: int, mode: str = "ghost") -> None:
@@ -467,11 +367,7 @@ class ReplayWindow(QMainWindow):
             raise ValueError(f"unknown compare mode {mode!r}")
         self.compare_mode = mode
         self._update_verdict()
-        i = [m for _, m in COMPARE_MODES].index(mode)
-        if self.compare_box.currentIndex() != i:
-            self.compare_box.blockSignals(True)
-            self.compare_box.setCurrentIndex(i)
-            self.compare_box.blockSignals(False)
+        self.view_toolbar.show_compare_mode(mode)
         self._update_compare_views()
 
     def _on_compare_ready(self, prepared: PreparedEpisode | None) -> None:
@@ -507,15 +403,16 @@ class ReplayWindow(QMainWindow):
 
     # -- options, theme ----------------------------------------------------------------
     def _apply_options(self) -> None:
+        bar = self.view_toolbar
         opts = replace(
             self.canvas.options,
             theme=self.theme.name,
-            trails=self.trails_box.isChecked(),
-            trail_seconds=float(self.trail_seconds.value()),
-            pursued=self.pursued_box.isChecked(),
-            par_paths=self.par_box.isChecked(),
+            trails=bar.trails_box.isChecked(),
+            trail_seconds=float(bar.trail_seconds.value()),
+            pursued=bar.pursued_box.isChecked(),
+            par_paths=bar.par_box.isChecked(),
         )
-        self.canvas.show_legend = self.legend_box.isChecked()
+        self.canvas.show_legend = bar.legend_box.isChecked()
         self.canvas.set_options(opts)
         self.canvas_b.set_options(opts)
         self.canvas.viewport().update()
@@ -531,9 +428,10 @@ class ReplayWindow(QMainWindow):
             self.plots,
             self.batch,
             self.episode_list,
+            self.verdict,
         ):
             w.set_theme(self.theme)
-        self._apply_verdict_style()
+        self._update_verdict()
         self._apply_options()
 
     # -- scene files -------------------------------------------------------------------

@@ -1,0 +1,96 @@
+"""The line under the replay canvas that says how the shown episode went.
+
+A success names the goal and the time taken; a failure names what went wrong and when (the
+metrics' diagnosis), with a link to jump there, on a band tinted with the theme's error
+colour so a newcomer sees at once that this episode is one to look into.
+"""
+
+from __future__ import annotations
+
+from PySide6.QtCore import Qt
+from PySide6.QtWidgets import QLabel, QWidget
+
+from ...render.theme import Theme
+from .prepared import PreparedEpisode
+
+
+def describe(p: PreparedEpisode, theme: Theme, lead: str, step: int, link: bool) -> str:
+    """Rich text for one episode; ``link`` adds "go there" until ``step`` reaches it."""
+    m, ep = p.metrics, p.episode
+    if m is None:
+        return f"{lead} {ep.index}: {ep.steps} steps, {ep.duration:.1f} s."
+    err = theme.hex("error")[:7]
+    goal = getattr(m, "goal_key", None) or "-"
+    if getattr(m, "success", False):
+        t = getattr(m, "time_to_success", None)
+        ratio = getattr(m, "par_ratio", None)
+        extra = f" (par time / time taken = {ratio:.2f})" if ratio else ""
+        took = "" if t is None else f" in {t:.1f} s"
+        return f"{lead} {ep.index} <b>succeeded</b> at goal {goal}{took}{extra}."
+    diag = getattr(m, "diagnosis", None)
+    dstep = getattr(m, "diagnosis_step", None)
+    if not diag:
+        return f"{lead} {ep.index} <b style='color:{err}'>failed</b> goal {goal}."
+    when = "" if dstep is None else f" at {dstep * ep.dt:.1f} s"
+    seen = dstep is not None and step >= dstep
+    ink = theme.hex("text")[:7]  # the default link blue is unreadable on a dark red band
+    go = (
+        f" &nbsp;<a href='diag' style='color:{ink}; font-weight:bold'>go there (D)</a>"
+        if link and not seen
+        else ""
+    )
+    return f"{lead} {ep.index} <b style='color:{err}'>failed</b> goal {goal}: {diag}{when}.{go}"
+
+
+class VerdictLine(QLabel):
+    """Shows :func:`describe` for the episode (and the compared one); link -> ``on_link``."""
+
+    def __init__(self, theme: Theme, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.theme = theme
+        self._state = "none"
+        self.setWordWrap(True)
+        self.setTextFormat(Qt.TextFormat.RichText)
+        self.setContentsMargins(10, 4, 10, 4)
+        self._apply_style()
+
+    def set_theme(self, theme: Theme) -> None:
+        self.theme = theme
+        self._apply_style()
+
+    def show_episodes(
+        self, shown: PreparedEpisode | None, compared: PreparedEpisode | None, step: int
+    ) -> None:
+        if shown is None:
+            self.setText("")
+            state = "none"
+        else:
+            text = describe(shown, self.theme, "Episode", step, link=True)
+            if compared is not None:
+                text += "<br>" + describe(compared, self.theme, "Compared: episode", step, False)
+            self.setText(text)
+            m = shown.metrics
+            state = "none" if m is None else ("ok" if getattr(m, "success", False) else "failed")
+        if state != self._state:
+            self._state = state
+            self._apply_style()
+
+    def _apply_style(self) -> None:
+        """A failed episode's line gets a tinted band and a bar in the error colour."""
+        t = self.theme
+        back = t.qcolor("room_fill")
+        bar = t.hex("grid_major")[:7]
+        if self._state == "failed":
+            err = t.qcolor("error")
+            mix = 0.14
+            back.setRgbF(
+                back.redF() * (1 - mix) + err.redF() * mix,
+                back.greenF() * (1 - mix) + err.greenF() * mix,
+                back.blueF() * (1 - mix) + err.blueF() * mix,
+            )
+            bar = t.hex("error")[:7]
+        self.setStyleSheet(
+            f"QLabel {{ background: {back.name()}; color: {t.hex('text')[:7]};"
+            f" border-left: 5px solid {bar}; border-top: 1px solid {t.hex('grid_major')[:7]};"
+            " padding: 2px 6px; }"
+        )
