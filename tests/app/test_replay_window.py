@@ -265,3 +265,19 @@ def test_a_cut_tape_opens_with_the_recovery_message(qtbot, tmp_path):
     assert w.episode_list.model.rowCount() == len(tape)
     w.session.wait_summaries()
     w.close()
+
+
+def test_an_episode_that_cannot_be_prepared_says_so(qtbot, written_tape, monkeypatch):
+    from arena_studio.app.replay import session as session_module
+
+    w = open_window(qtbot, written_tape)
+
+    def broken(scene, episode):
+        raise ValueError(f"episode {episode.index}: 3 agents, scene has 2")
+
+    monkeypatch.setattr(session_module, "load_prepared", broken)
+    w.select_episode(2)
+    qtbot.waitUntil(lambda: "cannot be shown" in w.verdict.text(), timeout=5000)
+    assert "3 agents, scene has 2" in w.verdict.text()
+    assert w.wait_loaded(100)  # nothing left pending
+    w.close()

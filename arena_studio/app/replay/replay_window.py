@@ -222,7 +222,7 @@ class ReplayWindow(QMainWindow):
         s.occupancyReady.connect(lambda occ: self.batch.set_occupancy(s.scene, occ))
         s.episodeReady.connect(self._on_episode_ready)
         s.compareReady.connect(self._on_compare_ready)
-        s.failed.connect(self.statusMessage)
+        s.failed.connect(self._on_failed)
         self.canvas.show_scene(s.scene)
         self.canvas_b.show_scene(s.scene)
         self.canvas.fit_scene()
@@ -297,6 +297,13 @@ class ReplayWindow(QMainWindow):
         self._update_verdict()
         self._update_compare_views()
         self.episode_list.select_episode(ep.index) if self._list_current() != ep.index else None
+
+    def _on_failed(self, message: str) -> None:
+        """A background load failed: say so where the user looks, never leave "Loading…"."""
+        if self._pending_index is not None:
+            self.verdict.setText(f"Episode {self._pending_index} cannot be shown: {message}")
+            self._pending_index = self._pending_step = None
+        self.statusMessage.emit(message)
 
     def _list_current(self) -> int | None:
         current = self.episode_list.table.currentIndex()
