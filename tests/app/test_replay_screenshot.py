@@ -151,3 +151,31 @@ def test_opening_a_different_scene_beside_a_tape_warns(qtbot, tmp_path):
     assert window.open_path(tmp_path / "other.scene.json")
     assert len(said) == 1 and "other.scene.json is not the scene" in said[0]
     window.replay_page.close_tape()
+
+
+def test_dropping_a_tape_on_the_window_opens_replay(qtbot, tmp_path):
+    from PySide6.QtCore import QMimeData, QPointF, Qt, QUrl
+    from PySide6.QtGui import QDropEvent
+
+    from arena_studio.app.main_window import MainWindow
+
+    tape = write_test_tape(tmp_path / "dropped.tape", episodes=2)
+    settings = QSettings(str(tmp_path / "s.ini"), QSettings.Format.IniFormat)
+    window = MainWindow(
+        settings=settings, recovery_dir=tmp_path / "rec", dialogs=RecordingDialogs()
+    )
+    qtbot.addWidget(window)
+    mime = QMimeData()
+    mime.setUrls([QUrl.fromLocalFile(str(tape))])
+    event = QDropEvent(
+        QPointF(50, 50),
+        Qt.DropAction.CopyAction,
+        mime,
+        Qt.MouseButton.NoButton,
+        Qt.KeyboardModifier.NoModifier,
+    )
+    window.dropEvent(event)
+    assert window.modes.currentWidget() is window.replay_page
+    assert window.replay_page.wait_loaded()
+    assert window.replay_page.session.path == tape
+    window.replay_page.close_tape()
