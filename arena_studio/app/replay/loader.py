@@ -81,7 +81,12 @@ class StreamWorker(QThread):
 
 
 class BackgroundCall(QObject):
-    """Run one callable at a time on a worker thread; only the newest request reports."""
+    """Run callables on one long-lived worker thread; only the newest request reports.
+
+    One thread for the window's life, not one per request: core keeps its planners and
+    geometry caches per thread (GEOS prepared geometry must not cross threads), so a
+    persistent thread keeps them warm from one selected episode to the next.
+    """
 
     done = Signal(int, object)  # token, result
     failed = Signal(int, str)
@@ -89,35 +94,63 @@ class BackgroundCall(QObject):
     def __init__(self, parent: QObject | None = None) -> None:
         super().__init__(parent)
         self._token = 0
-        self._lock = threading.Lock()
-        self._threads: list[threading.Thread] = []
+        self._job: tuple[int, Callable[[], Any]] | None = None
+        self._busy = False
+        self._stop = False
+        self._wake = threading.Condition()
+        self._thread: threading.Thread | None = None
 
     def submit(self, fn: Callable[[], Any]) -> int:
-        """Start ``fn`` on a worker thread; returns the token its result will carry."""
-        self._token += 1
-        token = self._token
-        self._threads = [t for t in self._threads if t.is_alive()]
-        thread = threading.Thread(target=self._run, args=(token, fn), daemon=True)
-        self._threads.append(thread)
-        thread.start()
-        return token
+        """Queue ``fn`` (dropping any queued, not yet started one); returns its token."""
+        with self._wake:
+            self._token += 1
+            self._job = (self._token, fn)
+            if self._thread is None:
+                self._thread = threading.Thread(target=self._loop, daemon=True)
+                self._thread.start()
+            self._wake.notify()
+            return self._token
 
     @property
     def latest(self) -> int:
         return self._token
 
-    def _run(self, token: int, fn: Callable[[], Any]) -> None:
-        with self._lock:  # serialise: tapes read one chunk at a time
-            if token != self._token:
-                return  # superseded before it started
+    def _loop(self) -> None:
+        while True:
+            with self._wake:
+                while self._job is None and not self._stop:
+                    self._wake.wait()
+                if self._stop:
+                    return
+                assert self._job is not None
+                token, fn = self._job
+                self._job = None
+                self._busy = True
             try:
-                result = fn()
+                with CORE_LOCK:
+                    result = fn()
             except Exception as exc:
-                self.failed.emit(token, f"{type(exc).__name__}: {exc}")
-                return
-        if token == self._token:
-            self.done.emit(token, result)
+                if token == self._token:
+                    self.failed.emit(token, f"{type(exc).__name__}: {exc}")
+            else:
+                if token == self._token:
+                    self.done.emit(token, result)
+            finally:
+                with self._wake:
+                    self._busy = False
+                    self._wake.notify_all()
 
     def wait_idle(self, timeout: float = 10.0) -> None:
-        for thread in list(self._threads):
-            thread.join(timeout)
+        """Wait until no job is queued or running (or ``timeout`` seconds)."""
+        end = time.monotonic() + timeout
+        with self._wake:
+            while (self._job is not None or self._busy) and time.monotonic() < end:
+                self._wake.wait(max(end - time.monotonic(), 0.0))
+
+    def shutdown(self, timeout: float = 5.0) -> None:
+        self.wait_idle(timeout)
+        with self._wake:
+            self._stop = True
+            self._wake.notify_all()
+        if self._thread is not None:
+            self._thread.join(timeout)

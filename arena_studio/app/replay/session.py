@@ -162,5 +162,5 @@ class ReplaySession(QObject):
         if self._worker is not None:
             self._worker.stop()
             self._worker = None
-        self._episode_call.wait_idle(5.0)
-        self._compare_call.wait_idle(5.0)
+        self._episode_call.shutdown(5.0)
+        self._compare_call.shutdown(5.0)
