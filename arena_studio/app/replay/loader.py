@@ -18,9 +18,9 @@ from typing import Any
 from PySide6.QtCore import QObject, QThread, Signal
 
 #: held around every core computation the viewer runs off the UI thread (metrics, planning,
-#: episode caches): shapely's prepared geometries, which core caches per scene and shares,
-#: must not be used by two threads at once (GEOS prepared geometry is not thread-safe; two
-#: workers sharing the planner crash inside shapely.covers).
+#: episode caches). Core keeps GEOS prepared geometry per thread, so this is not needed for
+#: safety any more; it keeps the viewer's workers to one busy core of the two, so the UI
+#: thread always has the other, and a selected episode waits for at most one list row.
 CORE_LOCK = threading.RLock()
 
 BATCH_SECONDS = 0.1
