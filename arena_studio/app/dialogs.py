@@ -1,7 +1,12 @@
-"""Every question the window asks the user, in one replaceable object (tests answer them)."""
+"""Every question the window asks the user, in one replaceable object (tests answer them).
+
+:class:`QuietDialogs` is the stand-in for runs nobody watches (``--screenshot``, an offscreen
+platform): it never opens a modal box, it writes each error as one line on stderr.
+"""
 
 from __future__ import annotations
 
+import sys
 import time
 
 from PySide6.QtWidgets import QFileDialog, QMessageBox, QWidget
@@ -64,3 +69,43 @@ class Dialogs:
             self.parent, "Save scene as", suggestion, "Scenes (*.scene.json *.scene.msgpack)"
         )
         return path or None
+
+
+def one_line(text: str) -> str:
+    """The first paragraph of a message, on one line (the rest only says nothing changed)."""
+    first = text.strip().split("\n\n", 1)[0]
+    return " ".join(first.split())
+
+
+class QuietDialogs:
+    """Answers without asking: errors go to stderr, unsaved work is left alone, no restore.
+
+    ``errors`` keeps every line so the launcher can exit 2 after a failed open.
+    """
+
+    def __init__(self, stream: object = None) -> None:
+        self.stream = stream
+        self.errors: list[str] = []
+
+    def _say(self, text: str) -> None:
+        line = one_line(text)
+        self.errors.append(line)
+        print(f"arena-studio: {line}", file=self.stream or sys.stderr)
+
+    def error(self, title: str, text: str) -> None:
+        self._say(text)
+
+    def info(self, title: str, text: str) -> None:
+        self._say(text)
+
+    def ask_unsaved(self, name: str) -> str:
+        return "cancel"  # nothing the user made is dropped by a run nobody watches
+
+    def ask_restore(self, copy: RecoveryCopy) -> bool:
+        return False
+
+    def open_path(self, start: str) -> str | None:
+        return None
+
+    def save_path(self, suggestion: str) -> str | None:
+        return None

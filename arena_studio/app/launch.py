@@ -1,4 +1,9 @@
-"""Starts the desktop app for ``arena-studio [PATH] [--screenshot OUT.png] [--theme ...]``."""
+"""Starts the desktop app for ``arena-studio [PATH] [--screenshot OUT.png] [--theme ...]``.
+
+Arguments are checked before any window exists, so a bad path or option is one line on stderr
+and exit 2. Runs nobody watches (``--screenshot``, an offscreen platform) get
+:class:`~arena_studio.app.dialogs.QuietDialogs`: an error can never wait on a modal box there.
+"""
 
 from __future__ import annotations
 
@@ -9,6 +14,10 @@ from pathlib import Path
 
 SCREENSHOT_SIZE = (1600, 1000)
 DEMO_TAPE = "greenhouse-shared.tape"  # recorded in the default demo scene
+SCENE_SUFFIXES = (".json", ".msgpack", ".mpk")
+TAPE_SUFFIX = ".tape"
+HEADLESS_PLATFORMS = ("offscreen", "minimal")
+IMAGE_SUFFIXES = (".png", ".jpg", ".jpeg", ".bmp")
 
 
 def _ensure_platform(screenshot: bool) -> None:
@@ -18,41 +27,87 @@ def _ensure_platform(screenshot: bool) -> None:
         os.environ["QT_QPA_PLATFORM"] = "offscreen"
 
 
+def argument_problem(args: argparse.Namespace) -> str | None:
+    """What is wrong with the command line, as one line, or None (no Qt needed)."""
+    screenshot = getattr(args, "screenshot", None)
+    path = getattr(args, "path", None)
+    episode = getattr(args, "episode", None)
+    seconds = getattr(args, "time", None)
+    is_tape = path is not None and Path(path).suffix.lower() == TAPE_SUFFIX
+    if path is not None:
+        p = Path(path)
+        if not p.exists():
+            return f"{path}: no such file"
+        if p.is_dir():
+            return f"{path}: is a folder, not a scene or tape file"
+        if not (is_tape or p.suffix.lower() in SCENE_SUFFIXES):
+            expected = ".scene.json, .scene.msgpack or .tape"
+            return f"{path}: not a scene or tape file (expected {expected})"
+        if not os.access(p, os.R_OK):
+            return f"{path}: cannot read (permission denied)"
+    if (episode is not None or seconds is not None) and not is_tape:
+        option = "--episode" if episode is not None else "--time"
+        return f"{option} needs a tape (.tape) to open"
+    if episode is not None and episode < 0:
+        return f"--episode {episode}: episodes are numbered from 0"
+    if seconds is not None and not (seconds >= 0):  # also refuses nan
+        return f"--time {seconds:g}: expected seconds >= 0"
+    if screenshot:
+        out = Path(screenshot)
+        if not out.resolve().parent.is_dir():
+            return f"{screenshot}: folder does not exist"
+        if out.suffix.lower() not in IMAGE_SUFFIXES:
+            return f"{screenshot}: expected a .png (or .jpg, .bmp) file name"
+    return None
+
+
+def is_interactive(screenshot: bool) -> bool:
+    """False when nobody can answer a dialog: screenshots and display-less platforms."""
+    platform = os.environ.get("QT_QPA_PLATFORM", "").split(":", 1)[0].strip().lower()
+    return not screenshot and platform not in HEADLESS_PLATFORMS
+
+
 def launch_app(args: argparse.Namespace) -> int:
     screenshot = getattr(args, "screenshot", None)
     path = getattr(args, "path", None)
-    if path is not None and not Path(path).exists():
-        print(f"arena-studio: {path}: no such file", file=sys.stderr)
-        return 2
-    if screenshot and not Path(screenshot).resolve().parent.is_dir():
-        print(f"arena-studio: {screenshot}: folder does not exist", file=sys.stderr)
+    problem = argument_problem(args)
+    if problem:
+        print(f"arena-studio: {problem}", file=sys.stderr)
         return 2
     _ensure_platform(bool(screenshot))
+    interactive = is_interactive(bool(screenshot))
 
     from PySide6.QtWidgets import QApplication
 
+    from .dialogs import QuietDialogs
     from .main_window import MainWindow
 
     app = QApplication.instance() or QApplication(sys.argv[:1])
     app.setOrganizationName("arena_studio")
     app.setApplicationName("arena-studio")
-    window = MainWindow(theme=getattr(args, "theme", None))
-    if not screenshot:
+    quiet = None if interactive else QuietDialogs()
+    window = MainWindow(theme=getattr(args, "theme", None), dialogs=quiet)  # type: ignore[arg-type]
+    if interactive:
+        window.show()  # dialogs about the file below sit on a visible window
         window.offer_recovery()
     if path is not None:
-        opened = window.open_path(path)
-        if not opened and screenshot:
-            print(f"arena-studio: {path}: could not be opened", file=sys.stderr)
+        if not window.open_path(path):
+            if interactive:
+                print(f"arena-studio: {path}: could not be opened", file=sys.stderr)
+                return int(app.exec())  # the dialog said why; the window stays usable
+            _close_quietly(window)
             return 2
-        if screenshot and Path(path).suffix.lower() == ".tape":
-            from .replay import prepare_screenshot
+        is_tape = Path(path).suffix.lower() == TAPE_SUFFIX
+        if is_tape and (screenshot or _wants_moment(args)):
+            if screenshot:
+                window.resize(*SCREENSHOT_SIZE)
+            from .replay import prepare_screenshot, show_moment
 
-            window.resize(*SCREENSHOT_SIZE)
-            problem = prepare_screenshot(
-                window, getattr(args, "episode", None), getattr(args, "time", None)
-            )
+            moment = prepare_screenshot if screenshot else show_moment
+            problem = moment(window, getattr(args, "episode", None), getattr(args, "time", None))
             if problem:
                 print(f"arena-studio: {problem}", file=sys.stderr)
+                _close_quietly(window)
                 return 2
     elif not window.document.dirty:
         if not screenshot:
@@ -62,6 +117,19 @@ def launch_app(args: argparse.Namespace) -> int:
         return _screenshot(app, window, Path(screenshot))
     window.show()
     return int(app.exec())
+
+
+def _wants_moment(args: argparse.Namespace) -> bool:
+    return getattr(args, "episode", None) is not None or getattr(args, "time", None) is not None
+
+
+def _close_quietly(window: object) -> None:
+    """Stop background work before exiting with an error (nothing was edited)."""
+    from .main_window import MainWindow
+
+    assert isinstance(window, MainWindow)
+    window.document.undo_stack.setClean()
+    window.close()
 
 
 def _open_demo_tape(window: object) -> None:

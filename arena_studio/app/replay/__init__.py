@@ -24,3 +24,10 @@ def prepare_screenshot(window: Any, episode: int | None, seconds: float | None) 
     from .integration import prepare_screenshot as prepare
 
     return prepare(window, episode, seconds)
+
+
+def show_moment(window: Any, episode: int | None, seconds: float | None) -> str | None:
+    """Go to episode ``episode`` at ``seconds`` in the open tape; an error line, or None."""
+    from .integration import show_moment as show
+
+    return show(window, episode, seconds)

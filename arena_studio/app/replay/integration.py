@@ -28,6 +28,9 @@ def replay_page(window: Any) -> ReplayWindow:
     setattr(window, PAGE_ATTR, page)
     window.add_mode(MODE, page)
     page.statusMessage.connect(window.show_message)
+    dialogs = getattr(window, "dialogs", None)
+    if dialogs is not None:  # one place decides how the user is told (quiet when headless)
+        page.warn = dialogs.error
     page.openSceneInEditor.connect(lambda scene: open_scene_copy(window, scene))
     _build_menu(window, page)
     settings = getattr(window, "settings", None)
@@ -160,6 +163,14 @@ def _show_moment(page: ReplayWindow, episode: int | None, seconds: float | None)
             return f"--time {seconds:g}: episode {index} lasts {ep.duration:.2f} s"
         page.clock.seek_time(seconds)
     return None
+
+
+def show_moment(window: Any, episode: int | None, seconds: float | None) -> str | None:
+    """``arena-studio TAPE --episode N --time S`` in a normal window: go there."""
+    page = getattr(window, PAGE_ATTR, None)
+    if not isinstance(page, ReplayWindow) or page.session is None:
+        return "no tape is open"
+    return _show_moment(page, episode, seconds)
 
 
 def prepare_screenshot(window: Any, episode: int | None, seconds: float | None) -> str | None:
