@@ -18,6 +18,7 @@ Checked in this order (the first that matches wins, so a root cause beats its sy
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
@@ -147,4 +148,135 @@ def diagnose(
     )
 
 
-__all__ = ["CODES", "Diagnosis", "diagnose"]
+def diagnose_block(
+    scene: Scene,
+    episodes: Sequence[Episode],
+    success: Sequence[bool],
+    goals: Sequence[tuple[int, ...] | None],
+    aligned: Sequence[bool | None],
+    cover: np.ndarray,
+    still: np.ndarray,
+    starts: np.ndarray,
+) -> list[Diagnosis | None]:
+    """:func:`diagnose` for episodes laid end to end, one answer per episode, identical to
+    calling it episode by episode: every per-step test runs once over all rows and is reduced
+    per episode (``starts`` are the first rows), leaving only the wording to a Python loop.
+
+    ``success``, ``goals`` (judged target indices) and ``aligned`` are the episodes'
+    metrics; ``cover`` (N, A, L) and ``still`` (N, A) their arrays concatenated. All
+    episodes share one ``dt``.
+    """
+    n_ep = len(episodes)
+    out: list[Diagnosis | None] = [None] * n_ep
+    todo = [e for e in range(n_ep) if not success[e] and goals[e] is not None]
+    if not todo:
+        return out
+    n_rows, n_agents, n_lm = cover.shape
+    lengths = np.array([ep.steps for ep in episodes], dtype=np.int64)
+    ends = starts + lengths
+    last = ends - 1
+    floor = np.repeat(starts - 1, lengths)
+    idx = np.arange(n_rows)
+    tmask = np.zeros((n_ep, n_lm), dtype=bool)
+    for e in todo:
+        tmask[e, list(goals[e] or ())] = True
+    rows_mask = np.repeat(tmask, lengths, axis=0)  # (N, L)
+    count = np.zeros((n_rows, n_lm), dtype=np.int64)
+    for a in range(n_agents):
+        count += cover[:, a, :]
+    if any(aligned[e] is False for e in todo):  # first step a landmark outside the goal is hit
+        off = ((count > 0) & ~rows_mask).any(axis=1)
+        off_first = (np.minimum.reduceat(np.where(off, idx, n_rows), starts) - starts).tolist()
+    dup = ((count >= 2) & rows_mask).any(axis=1) & ((count == 0) & rows_mask).any(axis=1)
+    dup_last = dup[last].tolist()
+    dup_start = (np.maximum.reduceat(np.where(dup, floor, idx), starts) + 1 - starts).tolist()
+    first_cov = np.minimum.reduceat(np.where(count > 0, idx[:, None], n_rows), starts, axis=0)
+    all_reached = (~tmask | (first_cov < ends[:, None])).all(axis=1).tolist()
+    last_reached = (np.where(tmask, first_cov, -1).max(axis=1) - starts).tolist()
+    end_count = count[last].tolist()  # (E, L)
+    still_start = (
+        np.maximum.reduceat(np.where(still, floor[:, None], idx[:, None]), starts, axis=0)
+        + 1
+        - starts[:, None]
+    ).tolist()
+    still_last = still[last].tolist()
+    cover_last = cover[last].tolist()  # (E, A, L)
+    dt = episodes[0].dt
+    lm_all = np.array([lm.position for lm in scene.landmarks], dtype=np.float64)
+    ids = [a.id for a in scene.agents]
+    lm_ids = [lm.id for lm in scene.landmarks]
+    need = round(STUCK_SECONDS / dt)
+    back_steps = round(1.0 / dt)
+    simultaneous = scene.goals.rule != "all_visited"
+    hold_words = f" for {scene.goals.hold_time:g} s" if scene.goals.hold_time > 0 else ""
+    for e in todo:
+        ep = episodes[e]
+        targets = list(goals[e] or ())
+        t_end = int(lengths[e]) - 1
+        if aligned[e] is False:
+            wanted = ", ".join(
+                f"{ids[a]} {_goal_words(scene, g)}" for a, g in enumerate(ep.pursued_goals)
+            )
+            team = ep.team_goal
+            lead = f"team goal {_goal_words(scene, team)}; " if team is not None else ""
+            first = off_first[e]
+            out[e] = Diagnosis(
+                "misaligned",
+                f"agents pursued different goals ({lead}{wanted})",
+                first if first <= t_end else 0,
+            )
+            continue
+        counts = [end_count[e][lm] for lm in targets]
+        if len(targets) >= 2:
+            if dup_last[e]:
+                k_dup = counts.index(max(counts))
+                k_empty = counts.index(0)
+                lm_dup = targets[k_dup]
+                who = " and ".join(ids[a] for a in range(n_agents) if cover_last[e][a][lm_dup])
+                out[e] = Diagnosis(
+                    "duplicate-target",
+                    f"{who} went to {lm_ids[lm_dup]} while {lm_ids[targets[k_empty]]} stayed empty",
+                    dup_start[e],
+                )
+                continue
+            if simultaneous and all_reached[e]:
+                out[e] = Diagnosis(
+                    "not-together",
+                    "every target was reached, but never all at the same time" + hold_words,
+                    last_reached[e],
+                )
+                continue
+        empty = [lm for lm, c in zip(targets, counts, strict=True) if c == 0] or list(targets)
+        empty_words = "+".join(lm_ids[i] for i in empty)
+        lm_pos = lm_all[empty]
+        xy = ep.poses[:, :, :2]
+        back = max(0, t_end - back_steps)
+        d_now = np.linalg.norm(xy[t_end][:, None, :] - lm_pos[None], axis=-1).min(axis=1)
+        d_then = np.linalg.norm(xy[back][:, None, :] - lm_pos[None], axis=-1).min(axis=1)
+        approaching = ~np.asarray(still_last[e]) & (d_now < d_then - 1e-6)
+        if approaching.any():
+            names = ", ".join(ids[a] for a in np.flatnonzero(approaching))
+            out[e] = Diagnosis(
+                "time-ran-out",
+                f"time ran out while {names} still moved towards {empty_words}",
+                t_end,
+            )
+            continue
+        for a in range(n_agents):
+            if still_last[e][a] and not any(cover_last[e][a][lm] for lm in targets):
+                start = still_start[e][a]
+                if t_end - start >= need:
+                    x, y = ep.poses[start, a, :2]
+                    out[e] = Diagnosis(
+                        "stuck",
+                        f"{ids[a]} stopped at ({x:.2f}, {y:.2f}) away from every target while "
+                        f"{empty_words} stayed empty",
+                        start,
+                    )
+                    break
+        else:
+            out[e] = Diagnosis("uncovered", f"targets left empty at the end: {empty_words}", t_end)
+    return out
+
+
+__all__ = ["CODES", "Diagnosis", "diagnose", "diagnose_block"]

@@ -34,10 +34,10 @@ from functools import lru_cache
 from typing import Any
 
 import numpy as np
-import shapely
 
 from .episode import Episode
 from .geometry import free_space, per_thread_cache
+from .inside_test import InsideTest
 from .observe import coverage, goal_reached
 from .scene import Scene
 
@@ -83,13 +83,25 @@ class EpisodeMetrics:
 
 
 # -- per-step arrays (shared with diagnosis and events) -----------------------------------
+def step_lengths(poses: np.ndarray) -> np.ndarray:
+    """(T - 1, A) distance (m) each agent moved in each step.
+
+    ``sqrt(dx * dx + dy * dy)`` rather than ``np.hypot``: four times faster on long tapes,
+    the same to the last bit or two at room scale, and the batched metrics use the same
+    formula so both paths agree exactly.
+    """
+    dx = np.diff(poses[:, :, 0], axis=0)
+    dy = np.diff(poses[:, :, 1], axis=0)
+    return np.sqrt(dx * dx + dy * dy)
+
+
 def step_speeds(episode: Episode) -> tuple[np.ndarray, np.ndarray]:
     """(T, A) speed (m/s) and |turn rate| (rad/s) of each step, the first step copied."""
     p = episode.poses
     if p.shape[0] < 2:
         zeros = np.zeros(p.shape[:2])
         return zeros, zeros
-    d = np.hypot(np.diff(p[:, :, 0], axis=0), np.diff(p[:, :, 1], axis=0)) / episode.dt
+    d = step_lengths(p) / episode.dt
     turn = np.diff(p[:, :, 2], axis=0)
     turn = np.abs((turn + np.pi) % (2 * np.pi) - np.pi) / episode.dt
     return np.vstack([d[:1], d]), np.vstack([turn[:1], turn])
@@ -140,10 +152,9 @@ def _prepared_free_space(scene: Scene, radius: float) -> Any:
 
 
 @per_thread_cache(maxsize=128)
-def _make_free_space(scene: Scene, radius: float) -> Any:
-    geom = free_space(scene, max(radius - FREE_SPACE_TOLERANCE, 0.0))
-    shapely.prepare(geom)
-    return geom
+def _make_free_space(scene: Scene, radius: float) -> InsideTest:
+    """Free space shrunk by ``radius`` less the tolerance, as a fast exact inside test."""
+    return InsideTest(free_space(scene, max(radius - FREE_SPACE_TOLERANCE, 0.0)))
 
 
 def outside_mask(scene: Scene, episode: Episode) -> np.ndarray:
@@ -151,8 +162,8 @@ def outside_mask(scene: Scene, episode: Episode) -> np.ndarray:
     p = episode.poses
     out = np.zeros(p.shape[:2], dtype=bool)
     for a, agent in enumerate(scene.agents[: p.shape[1]]):
-        geom = _prepared_free_space(scene, float(agent.radius))
-        out[:, a] = ~shapely.intersects_xy(geom, p[:, a, 0], p[:, a, 1])
+        test = _prepared_free_space(scene, float(agent.radius))
+        out[:, a] = ~test.contains_xy(p[:, a, 0], p[:, a, 1])
     return out
 
 
@@ -274,8 +285,12 @@ def episode_metrics(scene: Scene, episode: Episode) -> EpisodeMetrics:
         all_visited = scene.goals.rule == "all_visited"
         cover_at = cover_all() if all_visited else coverage(scene, poses[at : at + 1, :, :2])
         covered = _covered_by(scene, episode, targets, cover_at, at if all_visited else 0, at)
-    seg = np.hypot(np.diff(poses[:, :, 0], axis=0), np.diff(poses[:, :, 1], axis=0))
-    path_length = tuple(float(v) for v in seg.sum(axis=0)) if seg.size else (0.0,) * poses.shape[1]
+    seg = step_lengths(poses)
+    # a running sum, step after step: its rounding does not depend on the array's layout
+    # (numpy's sum switches to pairwise summation for some shapes), so metrics_batch agrees
+    path_length = (
+        tuple(float(v) for v in np.cumsum(seg, axis=0)[-1]) if seg.size else (0.0,) * poses.shape[1]
+    )
     still = still_mask(scene, episode)
     still_time = tuple(float(v) for v in still.sum(axis=0) * episode.dt)
     overlap = overlap_mask(scene, episode)

@@ -185,4 +185,146 @@ def goal_reached(
     return visited.all(axis=-1)
 
 
-__all__ = ["coverage", "goal_reached", "hold_steps", "observe", "wrap_angle"]
+# -- batched variants (many episodes at once; same answers as the functions above) ----------
+#: relative margin around a reach radius inside which coverage_fast recomputes with hypot
+_RIM_MARGIN = 1e-9
+
+
+def coverage_fast(scene: Scene, positions: Any) -> np.ndarray:
+    """Exactly :func:`coverage`, cheaper on long arrays: squared distances decide every point
+    clearly inside or outside a reach disc; points within a relative 1e-9 of the rim (and
+    non-finite ones) are decided by ``np.hypot`` as :func:`coverage` does, so the result is the
+    same bit for bit. The squared sum has a relative error of a few 1e-16, far inside the
+    margin, so a point the fast test decides cannot be one where ``hypot`` disagrees.
+    Returns a (..., A, L) view of landmark-major memory (see :func:`coverage_planes`).
+    """
+    arr = np.asarray(positions, dtype=np.float64)
+    if arr.ndim >= 2 and arr.shape[-1] == 3:
+        arr = arr[..., :2]
+    arr = _as_array(arr, 2, "positions")
+    return np.moveaxis(coverage_planes(scene, arr[..., 0], arr[..., 1]), 0, -1)
+
+
+def coverage_planes(scene: Scene, x: Any, y: Any, only: Any = None) -> np.ndarray:
+    """(L, *x.shape) bool: ``coverage`` with the landmark axis first, from x and y arrays.
+
+    ``only`` (L,) bool limits the work to those landmarks; the other planes are all False.
+    """
+    xs = np.ascontiguousarray(x, dtype=np.float64)
+    ys = np.ascontiguousarray(y, dtype=np.float64)
+    lm_pos, reach = _landmark_arrays(scene)
+    out = np.empty((len(reach), *xs.shape), dtype=bool)
+    tmp = np.empty(xs.shape)
+    tmp2 = np.empty(xs.shape)
+    for k in range(len(reach)):
+        if only is not None and not only[k]:
+            out[k] = False
+            continue
+        lx, ly, r2 = lm_pos[k, 0], lm_pos[k, 1], reach[k] * reach[k]
+        np.subtract(lx, xs, out=tmp)
+        np.multiply(tmp, tmp, out=tmp)
+        np.subtract(ly, ys, out=tmp2)
+        np.multiply(tmp2, tmp2, out=tmp2)
+        np.add(tmp, tmp2, out=tmp)
+        np.less_equal(tmp, r2, out=out[k])
+        np.subtract(tmp, r2, out=tmp2)
+        np.abs(tmp2, out=tmp2)
+        unsure = ~(tmp2 > r2 * _RIM_MARGIN)  # near the rim, or not a number
+        if unsure.any():
+            where = np.nonzero(unsure)
+            out[k][where] = np.hypot(lx - xs[where], ly - ys[where]) <= reach[k]
+    return out
+
+
+def _any_last(arr: np.ndarray, axis: int) -> np.ndarray:
+    """``arr.any(axis)`` for a short axis, as a chain of element-wise ORs (much faster)."""
+    parts = np.moveaxis(arr, axis, 0)
+    if parts.shape[0] == 0:
+        return np.zeros(parts.shape[1:], dtype=bool)
+    acc = parts[0].copy()
+    for part in parts[1:]:
+        acc |= part
+    return acc
+
+
+def segment_starts(lengths: Any) -> tuple[np.ndarray, np.ndarray]:
+    """(starts, row floor) of episodes laid end to end: ``starts[e]`` is episode e's first
+    row; ``floor[row]`` is the first row of that row's episode minus one."""
+    n = np.asarray(lengths, dtype=np.int64).reshape(-1)
+    if (n < 1).any():
+        raise ValueError("every episode needs at least one step")
+    starts = np.concatenate([[0], np.cumsum(n)[:-1]]).astype(np.int64)
+    return starts, np.repeat(starts - 1, n)
+
+
+def _run_lengths_seg(cond: np.ndarray, floor: np.ndarray) -> np.ndarray:
+    """:func:`_run_lengths` restarted at every episode start (``floor`` from segment_starts)."""
+    idx = np.arange(cond.shape[0]).reshape((-1,) + (1,) * (cond.ndim - 1))
+    fl = floor.reshape(idx.shape)
+    last_false = np.maximum.accumulate(np.where(cond, fl, idx), axis=0)
+    return idx - last_false
+
+
+def goal_reached_batch(
+    scene: Scene,
+    goals: Any,
+    positions: Any,
+    lengths: Any,
+    rule: str | None = None,
+    dt: float | None = None,
+    hold_time: float | None = None,
+    *,
+    cover: np.ndarray | None = None,
+) -> np.ndarray:
+    """:func:`goal_reached` for E episodes laid end to end, in one pass.
+
+    ``goals`` is (E, L) multi-hot (one goal per episode, each with a target), ``positions``
+    (N, A, 2) the episodes' positions concatenated in order, ``lengths`` (E,) their step
+    counts (summing to N). Returns (N,) bool: row ``starts[e] + t`` equals
+    ``goal_reached(scene, goals[e], positions of episode e, rule, dt, hold_time)[t]``.
+    ``cover`` may pass a precomputed ``coverage(scene, positions)`` (N, A, L).
+    """
+    rule = scene.goals.rule if rule is None else rule
+    if rule not in RULES:
+        raise ValueError(f"unknown success rule {rule!r} (expected one of {', '.join(RULES)})")
+    hold = scene.goals.hold_time if hold_time is None else float(hold_time)
+    g = np.asarray(goals)
+    count = len(scene.landmarks)
+    if g.ndim != 2 or g.shape[1] != count:
+        raise ValueError(f"goals: expected shape (E, {count}), got {g.shape}")
+    tmask = g != 0
+    empty = np.flatnonzero(~tmask.any(axis=1))
+    if empty.size:
+        raise ValueError(f"goal of episode {int(empty[0])} has no targets (every entry is 0)")
+    starts, floor = segment_starts(lengths)
+    if cover is None:
+        arr = np.asarray(positions, dtype=np.float64)
+        if arr.ndim != 3:
+            raise ValueError(f"positions: expected (N, A, 2), got shape {arr.shape}")
+        cover = coverage_fast(scene, arr)
+    if cover.shape[0] != floor.shape[0] or starts.shape[0] != g.shape[0]:
+        raise ValueError("positions, goals and lengths do not describe the same episodes")
+    rows_mask = np.repeat(tmask, np.diff(np.append(starts, floor.shape[0])), axis=0)  # (N, L)
+    covered = _any_last(cover, -2)  # (N, L)
+    extra = hold_steps(hold, dt)
+    if rule in ("all_at_end", "all_at_once"):
+        every = ~_any_last(~covered & rows_mask, -1)
+        return np.asarray(_run_lengths_seg(every, floor) > extra)
+    held = _run_lengths_seg(covered, floor) > extra  # (N, L)
+    idx = np.arange(held.shape[0])[:, None]
+    last_held = np.maximum.accumulate(np.where(held, idx, floor[:, None]), axis=0)
+    visited = last_held > floor[:, None]
+    return np.asarray(~_any_last(~visited & rows_mask, -1))
+
+
+__all__ = [
+    "coverage",
+    "coverage_fast",
+    "coverage_planes",
+    "goal_reached",
+    "goal_reached_batch",
+    "hold_steps",
+    "observe",
+    "segment_starts",
+    "wrap_angle",
+]

@@ -138,3 +138,97 @@ def test_events_roles_collisions_and_walls() -> None:
     assert (2, "collision", 0) in kinds and (2, "wall-collision", 0) in kinds
     assert (2, "role", 0) in kinds and not any(k[1] == "role" and k[0] == 0 for k in kinds)
     assert kinds == sorted(kinds, key=lambda k: k[0])
+
+
+# -- the batched path (core.metrics_batch) gives the per-episode answers, field by field -------
+# Reference: episode_metrics above, itself checked against hand derivations; the batch must
+# agree exactly (every field, floats bit for bit).
+import dataclasses  # noqa: E402
+from pathlib import Path  # noqa: E402
+
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+from arena_studio.core.metrics import EpisodeMetrics  # noqa: E402
+from arena_studio.core.metrics_batch import episodes_metrics, tape_metrics  # noqa: E402
+from arena_studio.core.tape import open_tape  # noqa: E402
+
+DEMO_TAPES = sorted((Path(__file__).resolve().parents[2] / "scenes").glob("*.tape"))
+FIELDS = dataclasses.fields(EpisodeMetrics)
+
+
+def _same(ref, got) -> None:
+    assert len(ref) == len(got)
+    for a, b in zip(ref, got, strict=True):
+        for f in FIELDS:
+            assert getattr(a, f.name) == getattr(b, f.name), (a.index, f.name)
+
+
+@pytest.mark.parametrize("path", DEMO_TAPES, ids=lambda p: p.name)
+def test_batched_metrics_match_per_episode_on_demo_tapes(path: Path) -> None:
+    tape = open_tape(path)
+    _same([episode_metrics(tape.scene, e) for e in tape], tape_metrics(tape))
+
+
+def _random_episode(rng: np.random.Generator, index: int, n_agents: int) -> Episode:
+    steps = int(rng.integers(1, 40))
+    anchors = np.vstack([A, B, C, rng.uniform(0.1, 9.9, (3, 2)), [[0.05, 5.0]]])  # last: wall
+    # agents dwell at anchors (still, covering) and hop between them, sometimes together
+    hops = anchors[rng.integers(0, len(anchors), (steps // 4 + 1, n_agents))]
+    xy = np.repeat(hops, 4, axis=0)[:steps] + rng.normal(0, 0.02, (steps, n_agents, 2))
+    if rng.random() < 0.3:  # a slow final approach: "still moving towards" at the end
+        xy[-5:] = xy[-5:] + np.linspace(0.5, 0.0, min(5, steps))[:, None, None]
+    heading = rng.uniform(-np.pi, np.pi, (steps, n_agents, 1))
+    if rng.random() < 0.5:
+        heading[:] = heading[:1]
+    if rng.random() < 0.2 and steps > 12:  # everyone freezes for the last 3 s: "stuck"
+        xy[-12:] = xy[-12]
+        heading[-12:] = heading[-12]
+    goals = [None, [1, 0, 0], [0, 1, 0], [1, 1, 0], [1, 1, 1], [0, 1, 1]]
+    team = goals[int(rng.integers(0, len(goals)))]
+    pursued = None
+    if rng.random() < 0.8:  # mostly aligned on the team goal, sometimes not
+        same = team if team is not None and rng.random() < 0.6 else goals[int(rng.integers(1, 6))]
+        pursued = [
+            same if rng.random() < 0.8 else goals[int(rng.integers(1, 6))] for _ in range(n_agents)
+        ]
+    return Episode(
+        index=index,
+        dt=0.25,
+        poses=np.concatenate([xy, heading], axis=2),
+        team_goal=None if team is None else np.array(team, np.uint8),
+        pursued_goals=() if pursued is None else tuple(np.array(g, np.uint8) for g in pursued),
+        complete=bool(rng.random() < 0.9),
+    )
+
+
+@settings(max_examples=40, deadline=None)
+@given(
+    st.integers(0, 2**32 - 1),
+    st.sampled_from(["all_at_once", "all_at_end", "all_visited"]),
+    st.sampled_from([0.0, 0.5]),
+    st.integers(1, 3),
+)
+def test_batched_metrics_match_per_episode_on_random_episodes(
+    seed: int, rule: str, hold: float, n_agents: int
+) -> None:
+    scene = box_scene(rule, hold_time=hold, agents=n_agents)
+    rng = np.random.default_rng(seed)
+    episodes = [_random_episode(rng, i, n_agents) for i in range(int(rng.integers(1, 12)))]
+    _same([episode_metrics(scene, e) for e in episodes], episodes_metrics(scene, episodes))
+
+
+def test_batched_metrics_cover_every_diagnosis() -> None:
+    # the hand-built episodes above, run as one batch next to each other, plus random ones
+    # until every diagnosis code has been compared at least once
+    from arena_studio.core.diagnosis import CODES
+
+    seen: set[str | None] = set()
+    rng = np.random.default_rng(5)
+    for rule in ("all_at_once", "all_at_end"):
+        scene = box_scene(rule, hold_time=0.5, agents=3)
+        episodes = [_random_episode(rng, i, 3) for i in range(400)]
+        ref = [episode_metrics(scene, e) for e in episodes]
+        _same(ref, episodes_metrics(scene, episodes))
+        seen |= {m.diagnosis_code for m in ref}
+    assert set(CODES) <= seen

@@ -21,8 +21,8 @@ or evaluated).
 
 from __future__ import annotations
 
-import math
 import struct
+import threading
 import zlib
 from typing import Any
 
@@ -56,6 +56,8 @@ NUMBER_DTYPES = ("<f8", "<f4", "<i8", "<i4", "<i2", "|i1", "<u8", "<u4", "<u2", 
 INDEX_DTYPES = ("<i8",)
 GOAL_DTYPES = ("|u1",)
 BOOL_DTYPES = ("|b1", "|u1")
+_DTYPE_OBJECTS = {name: np.dtype(name) for name in NUMBER_DTYPES}
+_ARRAY_KEYS = frozenset(("dtype", "shape", "data"))
 
 
 class TapeError(ArenaError, ValueError):
@@ -121,27 +123,31 @@ def decode_array(
     ``shape`` entries of None accept any length. The item count is checked against the bytes
     present before numpy sees them, so a claimed size can never cause an allocation.
     """
-    if not isinstance(value, dict) or set(value) != {"dtype", "shape", "data"}:
+    if type(value) is not dict or len(value) != 3 or set(value) != _ARRAY_KEYS:
         raise TapeError(source, where, "expected an array {dtype, shape, data}")
     dtype, dims, data = value["dtype"], value["shape"], value["data"]
-    if not isinstance(dtype, str) or dtype not in dtypes:
+    if type(dtype) is not str or dtype not in dtypes:
         raise TapeError(source, where, f"dtype {dtype!r} not allowed here (allowed: {dtypes})")
-    if not isinstance(dims, list) or len(dims) != len(shape):
+    if type(dims) is not list or len(dims) != len(shape):
         raise TapeError(source, where, f"expected {len(shape)} dimensions, got {dims!r}")
+    count = 1
     for i, (got, want) in enumerate(zip(dims, shape, strict=True)):
-        if isinstance(got, bool) or not isinstance(got, int) or got < 0:
+        if type(got) is not int or got < 0:  # bool is excluded: its type is not int
             raise TapeError(source, where, f"shape[{i}] must be a whole number >= 0")
         if want is not None and got != want:
             raise TapeError(source, where, f"shape[{i}] is {got}, expected {want}")
+        count *= got
     if not isinstance(data, bytes | memoryview):
         raise TapeError(source, where, "array data must be msgpack bin")
-    item = np.dtype(dtype).itemsize
-    count = math.prod(dims)
-    if count * item != len(data):
+    np_dtype = _DTYPE_OBJECTS.get(dtype) or np.dtype(dtype)
+    if count * np_dtype.itemsize != len(data):
         raise TapeError(
-            source, where, f"shape {dims} of {dtype} needs {count * item} bytes, has {len(data)}"
+            source,
+            where,
+            f"shape {dims} of {dtype} needs {count * np_dtype.itemsize} bytes, has {len(data)}",
         )
-    return np.frombuffer(data, dtype=np.dtype(dtype)).reshape(dims)
+    arr = np.frombuffer(data, dtype=np_dtype)
+    return arr if len(dims) == 1 else arr.reshape(dims)
 
 
 def read_frame(buf: memoryview, pos: int, verify: bool = True) -> tuple[int, memoryview, int]:
@@ -167,6 +173,77 @@ def read_frame(buf: memoryview, pos: int, verify: bool = True) -> tuple[int, mem
         if zlib.crc32(payload, zlib.crc32(buf[pos + 4 : pos + 5])) != crc:
             raise ValueError("record checksum mismatch (damaged bytes)")
     return kind, payload, end
+
+
+#: spans at least this large have their checksums computed on worker threads
+PARALLEL_CRC_BYTES = 1 << 22
+CRC_WORKERS = 2
+_POOL: Any = None
+_POOL_LOCK = threading.Lock()
+
+
+def _crc_pool() -> Any:
+    global _POOL
+    with _POOL_LOCK:
+        if _POOL is None:
+            from concurrent.futures import ThreadPoolExecutor
+
+            _POOL = ThreadPoolExecutor(CRC_WORKERS, thread_name_prefix="tape-crc")
+        return _POOL
+
+
+def _bad_records(buf: memoryview, frames: list[tuple[int, int]]) -> int | None:
+    """Offset of the first record in ``frames`` ((offset, payload length)) whose CRC fails."""
+    for pos, length in frames:
+        start = pos + FRAME_HEAD.size
+        (want,) = FRAME_CRC.unpack_from(buf, start + length)
+        if zlib.crc32(buf[start : start + length], zlib.crc32(buf[pos + 4 : pos + 5])) != want:
+            return pos
+    return None
+
+
+def start_crc_checks(buf: memoryview, inline: bool = False) -> list[Any]:
+    """Check every complete record of ``buf`` on worker threads; see finish_crc_checks.
+
+    zlib releases the GIL while it sums, so the checks run beside the caller's decoding.
+    Only whole records are listed; a cut or malformed one is left to :func:`read_frame`.
+    """
+    frames: list[tuple[int, int]] = []
+    pos = 0
+    while pos + FRAME_HEAD.size <= len(buf):
+        length, _ = FRAME_HEAD.unpack_from(buf, pos)
+        end = pos + FRAME_OVERHEAD + length
+        if length > MAX_RECORD or end > len(buf):
+            break
+        frames.append((pos, length))
+        pos = end
+    total = sum(n for _, n in frames) or 1
+    groups: list[list[tuple[int, int]]] = [[] for _ in range(CRC_WORKERS)]
+    done = 0
+    for f in frames:
+        groups[min(CRC_WORKERS - 1, done * CRC_WORKERS // total)].append(f)
+        done += f[1]
+    if inline:  # the caller is a worker itself: check here, same answer
+        return [_Done(_bad_records(buf, frames))]
+    pool = _crc_pool()
+    return [pool.submit(_bad_records, buf, g) for g in groups if g]
+
+
+class _Done:
+    """A finished check, shaped like a Future for finish_crc_checks."""
+
+    def __init__(self, value: int | None) -> None:
+        self.value = value
+
+    def result(self) -> int | None:
+        return self.value
+
+
+def finish_crc_checks(checks: list[Any]) -> int | None:
+    """Wait for :func:`start_crc_checks`; the offset of the first damaged record, or None."""
+    bad = [f.result() for f in checks]
+    found = [b for b in bad if b is not None]
+    return min(found) if found else None
 
 
 class _Subset(Exception):

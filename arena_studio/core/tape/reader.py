@@ -39,12 +39,15 @@ from .format import (
     MAGIC,
     MAX_RECORD,
     NUMBER_DTYPES,
+    PARALLEL_CRC_BYTES,
     TRAILER,
     TRAILER_MAGIC,
     TRAILER_SIZE,
     TapeError,
     decode_array,
+    finish_crc_checks,
     read_frame,
+    start_crc_checks,
     unpack,
     unpack_views,
 )
@@ -61,6 +64,15 @@ class _Entry:
     end: int  # offset just after its last readable record
     steps: int
     complete: bool
+
+
+@dataclass(frozen=True)
+class EpisodeSpan:
+    """Raw bytes of consecutive episodes, from :meth:`Tape.read_span`."""
+
+    start: int
+    entries: list[_Entry]
+    data: memoryview
 
 
 def open_tape(path: str | Path) -> Tape:
@@ -128,16 +140,67 @@ class Tape:
     def episode(self, i: int, *, verify: bool = True) -> Episode:
         """Decode episode ``i``; ``verify`` checks each record's CRC-32."""
         entry = self._entries[self._check_index(i)]
+        span = self._read_span(entry.begin, entry.end, f"episode {i}")
+        return self._decode_episode(i, entry, span, verify)
+
+    def episodes(
+        self, start: int, stop: int, *, verify: bool = True, copy: bool = True
+    ) -> list[Episode]:
+        """Episodes ``start .. stop - 1`` decoded from one file read (cheaper than one by one).
+
+        With ``copy=False`` the arrays are read-only views into that read, for callers that
+        only look at them (metrics); the default gives each episode arrays of its own.
+        """
+        return self.decode_span(self.read_span(start, stop, verify=verify), copy=copy)
+
+    def read_span(self, start: int, stop: int, *, verify: bool = True) -> EpisodeSpan:
+        """The bytes of episodes ``start .. stop - 1`` in one read, checksums verified.
+
+        Only file reading and CRC-32 (both release the GIL), so a reader thread can fetch the
+        next span while the caller decodes and computes on this one (see ``decode_span``).
+        """
+        if stop <= start:
+            return EpisodeSpan(start, [], memoryview(b""))
+        self._check_index(start)
+        self._check_index(stop - 1)
+        entries = self._entries[start:stop]
+        lo = entries[0].begin
+        span = self._read_span(lo, entries[-1].end, f"episodes {start}..{stop - 1}")
+        if verify:
+            for k, e in enumerate(entries):
+                view = span[e.begin - lo : e.end - lo]
+                bad = finish_crc_checks(start_crc_checks(view, inline=True))
+                if bad is not None:
+                    raise TapeError(
+                        self._src,
+                        f"episode {start + k} byte {e.begin + bad}",
+                        "record checksum mismatch (damaged bytes)",
+                    )
+        return EpisodeSpan(start, entries, span)
+
+    def decode_span(self, span: EpisodeSpan, *, copy: bool = True) -> list[Episode]:
+        """Decode the episodes of a :meth:`read_span` (checksums were checked there)."""
+        if not span.entries:
+            return []
+        lo = span.entries[0].begin
+        return [
+            self._decode_episode(
+                span.start + k, e, span.data[e.begin - lo : e.end - lo], False, copy=copy
+            )
+            for k, e in enumerate(span.entries)
+        ]
+
+    def _read_span(self, begin: int, end: int, where: str) -> memoryview:
         try:
-            span = np.empty(entry.end - entry.begin, dtype=np.uint8)  # no zero-fill
+            span = np.empty(end - begin, dtype=np.uint8)  # no zero-fill
             with open(self.path, "rb", buffering=0) as f:
-                f.seek(entry.begin)
+                f.seek(begin)
                 got = f.readinto(span)
         except OSError as exc:
-            raise TapeError(self._src, f"episode {i}", f"cannot read: {exc}") from None
-        if got != entry.end - entry.begin:
-            raise TapeError(self._src, f"episode {i}", "file shrank while reading")
-        return self._decode_episode(i, entry, memoryview(span).cast("B"), verify)
+            raise TapeError(self._src, where, f"cannot read: {exc}") from None
+        if got != end - begin:
+            raise TapeError(self._src, where, "file shrank while reading")
+        return memoryview(span).cast("B")
 
     # -- header --------------------------------------------------------------------------
     def _read_header(self, f: Any) -> None:
@@ -337,7 +400,34 @@ class Tape:
         except Exception as exc:  # msgpack raises several unrelated types for bad bytes
             raise TapeError(self._src, where, f"not valid msgpack ({exc})") from None
 
-    def _decode_episode(self, i: int, entry: _Entry, buf: memoryview, verify: bool) -> Episode:
+    def _decode_episode(
+        self, i: int, entry: _Entry, buf: memoryview, verify: bool, copy: bool = True
+    ) -> Episode:
+        if not verify or len(buf) < PARALLEL_CRC_BYTES:
+            return self._decode_records(i, entry, buf, verify, copy)
+        # large spans: checksums run on worker threads (zlib releases the GIL) while the
+        # records are decoded here; all are checked before anything is returned, and damage
+        # is reported as such even when it also broke the decoding
+        checks = start_crc_checks(buf)
+        try:
+            episode = self._decode_records(i, entry, buf, False, copy)
+        except TapeError:
+            self._raise_if_damaged(i, entry, finish_crc_checks(checks))
+            raise
+        self._raise_if_damaged(i, entry, finish_crc_checks(checks))
+        return episode
+
+    def _raise_if_damaged(self, i: int, entry: _Entry, bad: int | None) -> None:
+        if bad is not None:
+            raise TapeError(
+                self._src,
+                f"episode {i} byte {entry.begin + bad}",
+                "record checksum mismatch (damaged bytes)",
+            )
+
+    def _decode_records(
+        self, i: int, entry: _Entry, buf: memoryview, verify: bool, copy: bool
+    ) -> Episode:
         where = f"episode {i}"
         records: list[tuple[int, Any, int]] = []
         pos = 0
@@ -375,7 +465,7 @@ class Tape:
         ends = [r for r in records[1:] if r[0] == KIND_END]
         if len(chunks) + len(ends) != len(records) - 1 or len(ends) > 1:
             raise TapeError(self._src, where, "unexpected record inside the episode")
-        arrays = self._chunks(chunks, where, a)
+        arrays = self._chunks(chunks, where, a, copy)
         steps = arrays["poses"].shape[0]
         if steps != entry.steps:
             raise TapeError(self._src, where, f"holds {steps} steps, the index says {entry.steps}")
@@ -403,7 +493,9 @@ class Tape:
             complete=entry.complete and bool(ends),
         )
 
-    def _chunks(self, chunks: list[tuple[int, Any, int]], where: str, a: int) -> dict[str, Any]:
+    def _chunks(
+        self, chunks: list[tuple[int, Any, int]], where: str, a: int, copy: bool = True
+    ) -> dict[str, Any]:
         if not chunks:
             raise TapeError(self._src, where, "has no steps")
         parts: dict[str, list[np.ndarray]] = {}
@@ -455,7 +547,13 @@ class Tape:
             start += n
         out: dict[str, Any] = {}
         for name, arrs in parts.items():
-            joined = np.concatenate(arrs, axis=0) if len(arrs) > 1 else arrs[0].copy()
+            joined = (
+                np.concatenate(arrs, axis=0)
+                if len(arrs) > 1
+                else arrs[0].copy()
+                if copy
+                else arrs[0]
+            )
             out[name] = joined.astype(np.float64, copy=False) if name != "done" else joined
         if channel_parts:
             out["channels"] = {
@@ -476,7 +574,7 @@ class Tape:
         if value is None:
             return None
         arr = self._array(value, where, GOAL_DTYPES, (n_lm,))
-        if not np.isin(arr, (0, 1)).all():
+        if n_lm and max(value["data"]) > 1:  # |u1 bytes: a goal holds only 0 and 1
             raise TapeError(self._src, where, "a goal holds only 0 and 1")
         return arr.copy()
 

@@ -1,0 +1,101 @@
+"""A fast point-in-free-space test that answers exactly like ``shapely.intersects_xy``.
+
+Testing millions of recorded centres one by one against a prepared polygon costs about 50 ns
+a point. Most centres lie far from any wall, so the bounding box of the geometry is cut into
+a grid once; each cell (grown by :data:`CELL_MARGIN`) is classified with GEOS as *covered*
+(every point of it lies in the geometry), *disjoint* (none does) or *mixed*. A point in a
+covered or disjoint cell gets its answer from the table; a point in a mixed cell, outside the
+grid's rows and columns by rounding, or not finite, is asked of GEOS itself. The answers are
+therefore the same as ``shapely.intersects_xy(geometry, x, y)`` point for point.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+import shapely
+
+#: cells are grown by this much (m) before classification, so a point whose cell index is off
+#: by one through rounding still lies inside the cell that decided it
+CELL_MARGIN = 1e-6
+#: at most this many cells along each axis
+MAX_CELLS = 128
+#: fewer points than this go straight to GEOS (building the grid would cost more)
+MIN_POINTS = 4096
+
+_DISJOINT, _COVERED, _MIXED = 0, 1, 2
+
+
+class InsideTest:
+    """``contains_xy(x, y)`` == ``shapely.intersects_xy(geometry, x, y)``, faster on many points."""
+
+    def __init__(self, geometry: Any) -> None:
+        self.geometry = geometry
+        shapely.prepare(geometry)
+        self._table: np.ndarray | None = None
+        self._grid: tuple[float, float, float, float, int, int] | None = None
+        self._flat = np.zeros(0, dtype=np.uint8)
+
+    def _build(self) -> None:
+        geom = self.geometry
+        if geom.is_empty:
+            self._table = np.zeros((1, 1), dtype=np.uint8)
+            self._flat = self._table.ravel()
+            self._grid = (0.0, 0.0, 1.0, 1.0, 1, 1)
+            return
+        minx, miny, maxx, maxy = geom.bounds
+        minx, miny = minx - 2 * CELL_MARGIN, miny - 2 * CELL_MARGIN
+        maxx, maxy = maxx + 2 * CELL_MARGIN, maxy + 2 * CELL_MARGIN
+        nx = int(min(MAX_CELLS, max(1, np.ceil((maxx - minx) / 0.1))))
+        ny = int(min(MAX_CELLS, max(1, np.ceil((maxy - miny) / 0.1))))
+        hx, hy = (maxx - minx) / nx, (maxy - miny) / ny
+        ix, iy = np.meshgrid(np.arange(nx), np.arange(ny), indexing="ij")
+        x0 = minx + ix.ravel() * hx - CELL_MARGIN
+        y0 = miny + iy.ravel() * hy - CELL_MARGIN
+        boxes = shapely.box(x0, y0, x0 + hx + 2 * CELL_MARGIN, y0 + hy + 2 * CELL_MARGIN)
+        covered = shapely.covers(geom, boxes)
+        disjoint = shapely.disjoint(geom, boxes)
+        table = np.full(boxes.shape, _MIXED, dtype=np.uint8)
+        table[covered] = _COVERED
+        table[disjoint & ~covered] = _DISJOINT
+        self._table = table.reshape(nx, ny)
+        self._flat = table
+        self._grid = (minx, miny, 1.0 / hx, 1.0 / hy, nx, ny)
+
+    def contains_xy(self, x: Any, y: Any) -> np.ndarray:
+        xs = np.asarray(x, dtype=np.float64)
+        ys = np.asarray(y, dtype=np.float64)
+        if xs.size < MIN_POINTS:
+            return np.asarray(shapely.intersects_xy(self.geometry, xs, ys))
+        if self._table is None:
+            self._build()
+        assert self._table is not None and self._grid is not None
+        minx, miny, sx, sy, nx, ny = self._grid
+        # a cell index clamped into the grid is safe: edge cells reach past the geometry's
+        # bounds, so they are never "covered", and a clamped point beyond them is outside
+        fx = (xs - minx) * sx
+        fy = (ys - miny) * sy
+        np.clip(fx, 0.0, nx - 0.5, out=fx)
+        np.clip(fy, 0.0, ny - 0.5, out=fy)
+        finite = np.isfinite(fx)
+        finite &= np.isfinite(fy)
+        all_finite = bool(finite.all())
+        if not all_finite:
+            fx[~finite] = 0.0
+            fy[~finite] = 0.0
+        flat = fx.astype(np.intp)
+        flat *= ny
+        flat += fy.astype(np.intp)
+        cls = self._flat.take(flat)
+        out = cls == _COVERED
+        unsure = cls == _MIXED
+        if not all_finite:
+            unsure |= ~finite
+        if unsure.any():
+            where = np.nonzero(unsure)
+            out[where] = shapely.intersects_xy(self.geometry, xs[where], ys[where])
+        return out
+
+
+__all__ = ["InsideTest"]

@@ -1,0 +1,321 @@
+"""Metrics of many episodes at once: the same :class:`EpisodeMetrics` as
+:func:`~arena_studio.core.metrics.episode_metrics`, field for field, bit for bit.
+
+Numpy costs about a microsecond per call whatever the array size, and the per-episode path
+makes a few hundred calls per episode. Here the poses of consecutive episodes are laid end to
+end into one (sum T, A, 3) array; coverage, success (:func:`observe.goal_reached_batch`),
+speeds, overlaps and free-space tests run once over it, and per-episode results come out of
+segment reductions (``reduceat`` over episode start rows, running maxima that restart at each
+start). Float sums are taken per episode slice in the same order as the per-episode path,
+so the two agree exactly (tests/core/test_metrics_batch.py checks every field).
+
+``tape_metrics(tape)`` reads a tape in blocks of whole episodes (one file read per block,
+array bytes not copied) and is what ``arena-studio stats`` uses.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Sequence
+from typing import Any
+
+import numpy as np
+
+from .diagnosis import diagnose_block
+from .episode import Episode
+from .metrics import (
+    _MEMO,
+    STILL_SPEED_FRACTION,
+    STILL_SPEED_MIN,
+    STILL_TURN,
+    EpisodeMetrics,
+    _prepared_free_space,
+    aligned_goals,
+    goal_key,
+    par_time_of,
+)
+from .observe import coverage_planes, goal_reached_batch, segment_starts
+from .scene import Scene
+
+#: episodes are processed in groups of about this many steps (arrays stay cache-sized)
+BLOCK_STEPS = 16384
+
+
+def _aligned(episode: Episode) -> bool | None:
+    """:func:`metrics.aligned_goals` comparing raw bytes when the goals are integer arrays."""
+    goals = episode.pursued_goals
+    team = episode.team_goal
+    if not goals or any(g is None for g in goals):
+        return aligned_goals(episode)
+    first = goals[0]
+    assert first is not None
+    same = all(
+        isinstance(g, np.ndarray) and g.dtype == first.dtype and g.shape == first.shape
+        for g in (*goals, *(() if team is None else (team,)))
+    )
+    if not same or first.dtype.kind not in "biu":
+        return aligned_goals(episode)
+    fb = first.tobytes()
+    if any(g.tobytes() != fb for g in goals[1:] if g is not None):
+        return False
+    return team is None or team.tobytes() == fb
+
+
+def episodes_metrics(scene: Scene, episodes: Sequence[Episode]) -> list[EpisodeMetrics]:
+    """``[episode_metrics(scene, e) for e in episodes]``, computed in blocks of episodes."""
+    out: list[EpisodeMetrics] = []
+    block: list[Episode] = []
+    rows = 0
+    for ep in episodes:
+        if block and (rows + ep.steps > BLOCK_STEPS or ep.dt != block[0].dt):
+            out.extend(_block_metrics(scene, block))
+            block, rows = [], 0
+        block.append(ep)
+        rows += ep.steps
+    if block:
+        out.extend(_block_metrics(scene, block))
+    return out
+
+
+def tape_metrics(
+    tape: Any,
+    indices: Sequence[int] | None = None,
+    advance: Callable[[int], None] | None = None,
+) -> list[EpisodeMetrics]:
+    """Metrics of a tape's episodes (all, or ``indices`` in order), read block by block:
+    one file read and one checksum pass per block of consecutive episodes. (A reader thread
+    fetching the next block was tried: the GIL left it no faster on two cores.)"""
+    order = list(range(len(tape))) if indices is None else [int(i) for i in indices]
+    blocks: list[tuple[int, int]] = []
+    pos = 0
+    while pos < len(order):
+        stop, rows = pos + 1, tape.episode_steps(order[pos])
+        while stop < len(order) and order[stop] == order[stop - 1] + 1:
+            more = tape.episode_steps(order[stop])
+            if rows + more > BLOCK_STEPS:
+                break
+            rows += more
+            stop += 1
+        blocks.append((order[pos], order[stop - 1] + 1))
+        pos = stop
+    out: list[EpisodeMetrics] = []
+    for start, stop in blocks:
+        episodes = tape.decode_span(tape.read_span(start, stop), copy=False)
+        out.extend(episodes_metrics(tape.scene, episodes))
+        if advance is not None:
+            advance(len(episodes))
+    return out
+
+
+def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics]:
+    n_agents, n_lm = len(scene.agents), len(scene.landmarks)
+    for ep in episodes:
+        if ep.agent_count != n_agents:
+            raise ValueError(f"episode {ep.index}: {ep.agent_count} agents, scene has {n_agents}")
+    dt = episodes[0].dt
+    lengths = np.array([ep.steps for ep in episodes], dtype=np.int64)
+    starts, floor = segment_starts(lengths)
+    ends = starts + lengths
+    n = int(ends[-1])
+    poses = (
+        np.concatenate([ep.poses for ep in episodes], axis=0)
+        if len(episodes) > 1
+        else np.asarray(episodes[0].poses)
+    ).astype(np.float64, copy=False)
+    x, y = poses[:, :, 0], poses[:, :, 1]
+    xa = np.ascontiguousarray(x.T)  # (A, N): one contiguous row per agent
+    ya = np.ascontiguousarray(y.T)
+    idx = np.arange(n)
+
+    # goals ------------------------------------------------------------------------------
+    aligned = [_aligned(ep) for ep in episodes]
+    targets_of: list[tuple[int, ...] | None] = []
+    goal_rows = np.zeros((len(episodes), n_lm), dtype=bool)
+    cache: dict[bytes, tuple[int, ...]] = {}
+    for e, ep in enumerate(episodes):
+        goal = ep.team_goal
+        if goal is None and aligned[e] and ep.pursued_goals:
+            goal = ep.pursued_goals[0]
+        if goal is None:
+            targets_of.append(None)
+            continue
+        g = np.asarray(goal)
+        key = g.dtype.str.encode() + g.tobytes()
+        if key not in cache:
+            cache[key] = tuple(int(i) for i in np.flatnonzero(g))
+        t = cache[key]
+        targets_of.append(t or None)
+        if t:
+            goal_rows[e, list(t)] = True
+    has_goal = goal_rows.any(axis=1)
+    # only landmarks some episode is judged on, or all when one is misaligned (its diagnosis
+    # looks for landmarks outside the goal); the rest stay False and are never read
+    needed = goal_rows.any(axis=0)
+    if any(a is False and t is not None for a, t in zip(aligned, targets_of, strict=True)):
+        needed[:] = True
+    cover = coverage_planes(scene, xa, ya, only=needed).transpose(2, 1, 0)  # (N, A, L) view
+
+    # success ----------------------------------------------------------------------------
+    success = np.zeros(len(episodes), dtype=bool)
+    step = np.zeros(len(episodes), dtype=np.int64)
+    if has_goal.any():
+        goals = goal_rows.copy()
+        goals[~has_goal, 0] = True  # placeholder target, result ignored
+        reached = goal_reached_batch(scene, goals, poses, lengths, dt=dt, cover=cover)
+        if scene.goals.rule == "all_at_end":
+            success = reached[ends - 1] & has_goal
+            step = np.maximum.reduceat(np.where(reached, floor, idx), starts) + 1 - starts
+        else:
+            first = np.minimum.reduceat(np.where(reached, idx, n), starts)
+            success = (first < ends) & has_goal
+            step = first - starts
+    at_row = np.where(success, starts + step, ends - 1)
+
+    # who covered which target --------------------------------------------------------------
+    lm_pos = np.array([lm.position for lm in scene.landmarks], dtype=np.float64).reshape(-1, 2)
+    if scene.goals.rule == "all_visited":
+        any_cover = cover.any(axis=1)  # (N, L)
+        first_row = np.minimum.reduceat(np.where(any_cover, idx[:, None], n), starts, axis=0)
+        visited = first_row <= at_row[:, None]
+        safe = np.minimum(first_row, n - 1)
+        who = cover[safe, :, np.arange(n_lm)[None, :]].argmax(axis=-1)  # (E, L)
+    else:
+        c_at = cover[at_row]  # (E, A, L)
+        xy = poses[at_row, :, :2]
+        d = np.hypot(xy[:, :, 0, None] - lm_pos[:, 0], xy[:, :, 1, None] - lm_pos[:, 1])
+        who = np.where(c_at, d, np.inf).argmin(axis=1)  # (E, L)
+        visited = c_at.any(axis=1)
+
+    # motion -----------------------------------------------------------------------------------
+    seg = np.empty((n_agents, 0))
+    if n > 1:  # (A, N - 1), column r: move from row r to r + 1 (as metrics.step_lengths)
+        seg = np.diff(xa, axis=1)
+        dy = np.diff(ya, axis=1)
+        seg *= seg
+        dy *= dy
+        seg += dy
+        np.sqrt(seg, out=seg)
+    top = np.array([a.max_speed for a in scene.agents], dtype=np.float64)
+    limit = np.maximum(STILL_SPEED_FRACTION * top, STILL_SPEED_MIN)
+    speed = np.zeros((n_agents, n))
+    if n > 1:
+        np.divide(seg, dt, out=speed[:, 1:])
+    long_ep = lengths >= 2
+    speed[:, starts[long_ep]] = speed[:, starts[long_ep] + 1]
+    speed[:, starts[~long_ep]] = 0.0
+    still_an = speed < limit[:, None]  # (A, N)
+    aa, rr = np.nonzero(still_an)
+    if rr.size:
+        later = rr.copy()
+        is_start = floor[rr] + 1 == rr
+        later[is_start] += 1
+        single = is_start & (lengths[np.searchsorted(starts, rr, side="right") - 1] < 2)
+        later[single] = rr[single]
+        earlier = np.where(single, rr, later - 1)
+        turn = poses[later, aa, 2] - poses[earlier, aa, 2]
+        turn = np.abs((turn + np.pi) % (2 * np.pi) - np.pi) / dt
+        turn[single] = 0.0
+        still_an[aa, rr] = turn < STILL_TURN
+    still = still_an.T  # (N, A) view
+
+    # contacts ---------------------------------------------------------------------------------
+    radii = np.array([a.radius for a in scene.agents], dtype=np.float64)
+    pi_, pj_ = np.triu_indices(n_agents, k=1)
+    overlap = np.empty((len(pi_), n), dtype=bool)  # (P, N)
+    for k, (i, j) in enumerate(zip(pi_.tolist(), pj_.tolist(), strict=True)):
+        pdx = xa[i] - xa[j]
+        pdy = ya[i] - ya[j]
+        reach = radii[i] + radii[j]
+        np.less(pdx * pdx + pdy * pdy, reach * reach, out=overlap[k])
+    pair_on = _seg_onsets(overlap, starts)
+    outside = np.empty((n_agents, n), dtype=bool)
+    for a, agent in enumerate(scene.agents):
+        test = _prepared_free_space(scene, float(agent.radius))
+        outside[a] = ~test.contains_xy(xa[a], ya[a])
+    exits = np.add.reduceat(_seg_onsets(outside, starts).sum(axis=0), starts)
+    still_counts = np.add.reduceat(still_an, starts, axis=1, dtype=np.int64).T  # (E, A)
+    on_rows, on_pair = np.nonzero(pair_on.T)  # row-major over (N, P): by step, then pair
+    on_split = np.searchsorted(on_rows, ends)
+
+    # assemble -----------------------------------------------------------------------------
+    ids = [a.id for a in scene.agents]
+    lm_ids = [lm.id for lm in scene.landmarks]
+    success_list = success.tolist()
+    step_list = step.tolist()
+    found = diagnose_block(scene, episodes, success_list, targets_of, aligned, cover, still, starts)
+    who_list, visited_list = who.tolist(), visited.tolist()
+    exits_list = exits.tolist()
+    still_time = (still_counts * dt).tolist()
+    out: list[EpisodeMetrics] = []
+    lo = 0
+    for e, ep in enumerate(episodes):
+        s, t_len = int(starts[e]), int(lengths[e])
+        targets = targets_of[e]
+        ok = success_list[e]
+        st = step_list[e] if ok else None
+        covered: dict[str, str | None] = {}
+        if targets:
+            for lm in targets:
+                covered[lm_ids[lm]] = ids[who_list[e][lm]] if visited_list[e][lm] else None
+        # cumulative sums run left to right like metrics' sum over steps: same last bit
+        path = (
+            tuple(np.cumsum(seg[:, s : s + t_len - 1], axis=1)[:, -1].tolist())
+            if t_len > 1
+            else (0.0,) * n_agents
+        )
+        hi = int(on_split[e])
+        pairs = tuple(
+            (r - s, int(pi_[p]), int(pj_[p]))
+            for r, p in zip(on_rows[lo:hi].tolist(), on_pair[lo:hi].tolist(), strict=True)
+        )
+        lo = hi
+        par = (
+            _MEMO.get(scene, ("par", targets), lambda t=targets: par_time_of(scene, t))
+            if targets
+            else None
+        )
+        tts = None if st is None else st * ep.dt
+        ratio = None
+        if par is not None and tts is not None:
+            ratio = par / tts if tts > 0 else (1.0 if par == 0 else None)
+        kind = None if targets is None else ("individual" if len(targets) == 1 else "cooperative")
+        d = found[e]
+        out.append(
+            EpisodeMetrics(
+                index=ep.index,
+                steps=ep.steps,
+                duration=ep.duration,
+                goal=targets,
+                goal_key=None if targets is None else goal_key(scene, targets),
+                kind=kind,
+                success=ok,
+                success_step=st,
+                time_to_success=tts,
+                covered_by=covered,
+                path_length=path,
+                par_time=par,
+                par_ratio=ratio,
+                aligned=aligned[e],
+                collisions=len(pairs),
+                free_space_exits=exits_list[e],
+                still_time=tuple(still_time[e]),
+                diagnosis=None if d is None else d.text,
+                diagnosis_code=None if d is None else d.code,
+                diagnosis_step=None if d is None else d.step,
+                complete=ep.complete,
+                collision_pairs=pairs,
+            )
+        )
+    return out
+
+
+def _seg_onsets(mask: np.ndarray, starts: np.ndarray) -> np.ndarray:
+    """:func:`metrics.onsets` along the last axis (rows) of episodes laid end to end; each
+    episode's first row counts as its step 0."""
+    prev = np.empty_like(mask)
+    prev[..., 0] = False
+    prev[..., 1:] = mask[..., :-1]
+    prev[..., starts] = False
+    return mask & ~prev
+
+
+__all__ = ["BLOCK_STEPS", "episodes_metrics", "tape_metrics"]

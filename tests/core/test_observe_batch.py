@@ -1,0 +1,105 @@
+"""Batched coverage and success tests agree with the one-episode functions they speed up.
+
+References: ``math.hypot`` (C library) for the reach test, point by point; the agreed
+contract of ``observe.goal_reached`` (notes/api_contracts.md), applied episode by episode, for
+``goal_reached_batch``.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from arena_studio.core.observe import (
+    coverage,
+    coverage_fast,
+    goal_reached,
+    goal_reached_batch,
+    segment_starts,
+)
+from arena_studio.core.scene import RULES
+
+from .tape_helpers import box_scene
+
+SCENE = box_scene()
+LANDMARKS = [(2.0, 8.0), (8.0, 8.0), (5.0, 2.0)]  # box_scene, reach 0.5
+
+
+def _rim_points(rng: np.random.Generator, n: int) -> np.ndarray:
+    """Points on, just inside and just outside the reach rims (a few ulps either way)."""
+    lm = np.array(LANDMARKS)[rng.integers(0, 3, n)]
+    ang = rng.uniform(-math.pi, math.pi, n)
+    r = 0.5 * (1 + rng.choice([-1e-15, -1e-16, 0.0, 1e-16, 1e-15, 1e-9, -1e-9], n))
+    return lm + r[:, None] * np.column_stack([np.cos(ang), np.sin(ang)])
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.integers(0, 2**32 - 1))
+def test_coverage_fast_is_coverage_bit_for_bit(seed: int) -> None:
+    rng = np.random.default_rng(seed)
+    pts = np.vstack([_rim_points(rng, 300), rng.uniform(-1, 11, (300, 2))])
+    pts[rng.integers(0, len(pts), 3)] = [np.nan, 1.0]
+    pts[rng.integers(0, len(pts), 2)] = [np.inf, -np.inf]
+    rng.shuffle(pts)
+    positions = pts.reshape(-1, 2, 2)  # (T, A=2, 2)
+    fast = coverage_fast(SCENE, positions)
+    assert np.array_equal(fast, coverage(SCENE, positions))
+    # reference: math.hypot per point and landmark, reach inclusive. On the rim itself
+    # math.hypot and the C library's hypot (numpy) may round one ulp apart, so there only
+    # the bit-for-bit match with coverage() above applies.
+    for (t, a, k), got in np.ndenumerate(fast):
+        x, y = positions[t, a]
+        lx, ly = LANDMARKS[k]
+        d = math.hypot(lx - x, ly - y)
+        if not abs(d - 0.5) < 1e-12:
+            assert got == (d <= 0.5)
+
+
+def _random_episodes(rng: np.random.Generator, count: int) -> tuple[list[np.ndarray], np.ndarray]:
+    tracks, goals = [], []
+    for _ in range(count):
+        steps = int(rng.integers(1, 25))
+        # agents hop between landmark centres and random points, so targets come and go
+        anchors = np.vstack([LANDMARKS, rng.uniform(0, 10, (3, 2))])
+        pos = anchors[rng.integers(0, len(anchors), (steps, 2))]
+        pos += rng.normal(0, 0.2, pos.shape)
+        tracks.append(pos)
+        goal = rng.integers(0, 2, 3).astype(np.uint8)
+        goal[rng.integers(0, 3)] = 1
+        goals.append(goal)
+    return tracks, np.array(goals)
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    st.integers(0, 2**32 - 1),
+    st.integers(1, 8),
+    st.sampled_from(RULES),
+    st.sampled_from([0.0, 0.1, 0.25, 1.0]),
+)
+def test_goal_reached_batch_matches_goal_reached(seed: int, count: int, rule: str, hold: float):
+    rng = np.random.default_rng(seed)
+    tracks, goals = _random_episodes(rng, count)
+    lengths = [len(t) for t in tracks]
+    got = goal_reached_batch(
+        SCENE, goals, np.concatenate(tracks), lengths, rule=rule, dt=0.1, hold_time=hold
+    )
+    starts, _ = segment_starts(lengths)
+    for e, track in enumerate(tracks):
+        want = goal_reached(SCENE, goals[e], track, rule=rule, dt=0.1, hold_time=hold)
+        s = starts[e]
+        assert np.array_equal(got[s : s + len(track)], want), (e, rule, hold)
+
+
+def test_goal_reached_batch_refuses_bad_input() -> None:
+    pos = np.zeros((4, 2, 2))
+    with pytest.raises(ValueError, match="episode 1 has no targets"):
+        goal_reached_batch(SCENE, np.array([[1, 0, 0], [0, 0, 0]]), pos, [2, 2])
+    with pytest.raises(ValueError, match="same episodes"):
+        goal_reached_batch(SCENE, np.array([[1, 0, 0]]), pos, [3])
+    with pytest.raises(ValueError, match="at least one step"):
+        goal_reached_batch(SCENE, np.array([[1, 0, 0], [1, 0, 0]]), pos, [4, 0])
