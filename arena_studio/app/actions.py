@@ -1,7 +1,9 @@
 """Every user action as data: id, title, shortcuts, icon, menu, toolbar and enable condition.
 
 The main window builds its QActions, menus and toolbars from :data:`ACTIONS`, so they always
-agree. ``enabled`` names a condition the window evaluates (see ``MainWindow._conditions``).
+agree. ``enabled`` names a condition the window evaluates (see ``MainWindow._conditions``);
+``modes`` lists the pages (``"layout"``, ``"replay"``) an action works in, so editing keys
+cannot reach the hidden editor while a tape is shown. View actions act on the visible canvas.
 """
 
 from __future__ import annotations
@@ -24,20 +26,43 @@ class ActionSpec:
     enabled: str = ""  # condition name; empty = always
     checkable: bool = False
     tip: str = ""
+    modes: tuple[str, ...] = ()  # pages where the action works; empty = every page
+
+
+LAYOUT = ("layout",)  # editing: only while the layout editor is shown
 
 
 ACTIONS: tuple[ActionSpec, ...] = (
     ActionSpec("file.new", "&New", (SK.New,), "File", "file", "new", tip="Start an empty scene"),
     ActionSpec("file.open", "&Open…", (SK.Open,), "File", "file", "open"),
-    ActionSpec("file.save", "&Save", (SK.Save,), "File", "file", "save", "is_dirty_or_unnamed"),
-    ActionSpec("file.save_as", "Save &As…", ("Ctrl+Shift+S",), "File"),
-    ActionSpec("file.quit", "&Quit", (SK.Quit, "Ctrl+Q"), "File"),
-    ActionSpec("edit.undo", "&Undo", (SK.Undo,), "Edit", "file", "undo", "can_undo"),
     ActionSpec(
-        "edit.redo", "&Redo", ("Ctrl+Shift+Z", "Ctrl+Y"), "Edit", "file", "redo", "can_redo"
+        "file.save",
+        "&Save",
+        (SK.Save,),
+        "File",
+        "file",
+        "save",
+        "is_dirty_or_unnamed",
+        tip="Save the scene",
+        modes=LAYOUT,
     ),
-    ActionSpec("edit.delete", "&Delete", (SK.Delete,), "Edit", "", "delete", "has_selection"),
-    ActionSpec("edit.select_all", "Select &All", (SK.SelectAll,), "Edit"),
+    ActionSpec("file.save_as", "Save &As…", ("Ctrl+Shift+S",), "File", modes=LAYOUT),
+    ActionSpec("file.quit", "&Quit", (SK.Quit, "Ctrl+Q"), "File"),
+    ActionSpec("edit.undo", "&Undo", (SK.Undo,), "Edit", "file", "undo", "can_undo", modes=LAYOUT),
+    ActionSpec(
+        "edit.redo",
+        "&Redo",
+        ("Ctrl+Shift+Z", "Ctrl+Y"),
+        "Edit",
+        "file",
+        "redo",
+        "can_redo",
+        modes=LAYOUT,
+    ),
+    ActionSpec(
+        "edit.delete", "&Delete", (SK.Delete,), "Edit", "", "delete", "has_selection", modes=LAYOUT
+    ),
+    ActionSpec("edit.select_all", "Select &All", (SK.SelectAll,), "Edit", modes=LAYOUT),
     ActionSpec(
         "edit.snap",
         "S&nap to Grid, Vertices and Walls",
@@ -47,13 +72,40 @@ ACTIONS: tuple[ActionSpec, ...] = (
         "snap",
         checkable=True,
         tip="Snapping on/off (hold Ctrl to bypass while placing)",
+        modes=LAYOUT,
     ),
     ActionSpec("view.zoom_in", "Zoom &In", (SK.ZoomIn, "Ctrl+="), "View", "file", "zoom_in"),
     ActionSpec("view.zoom_out", "Zoom &Out", (SK.ZoomOut,), "View", "file", "zoom_out"),
     ActionSpec("view.fit", "&Fit Scene", ("Ctrl+0",), "View", "file", "zoom_fit"),
     ActionSpec("view.dark", "&Dark Theme", (), "View", checkable=True),
     ActionSpec(
-        "tool.select", "Select and Move", ("1",), "Tools", "tools", "select", checkable=True
+        "mode.layout",
+        "&Layout Editor",
+        ("Ctrl+1",),
+        "View",
+        "modes",
+        checkable=True,
+        tip="Show the layout editor",
+    ),
+    ActionSpec(
+        "mode.replay",
+        "&Replay",
+        ("Ctrl+2",),
+        "View",
+        "modes",
+        enabled="has_replay",
+        checkable=True,
+        tip="Show the replay of the open tape",
+    ),
+    ActionSpec(
+        "tool.select",
+        "Select and Move",
+        ("1",),
+        "Tools",
+        "tools",
+        "select",
+        checkable=True,
+        modes=LAYOUT,
     ),
     ActionSpec(
         "tool.room_polygon",
@@ -63,9 +115,17 @@ ACTIONS: tuple[ActionSpec, ...] = (
         "tools",
         "room_polygon",
         checkable=True,
+        modes=LAYOUT,
     ),
     ActionSpec(
-        "tool.room_rect", "Rectangular Room", ("3",), "Tools", "tools", "room_rect", checkable=True
+        "tool.room_rect",
+        "Rectangular Room",
+        ("3",),
+        "Tools",
+        "tools",
+        "room_rect",
+        checkable=True,
+        modes=LAYOUT,
     ),
     ActionSpec(
         "tool.obstacle_polygon",
@@ -75,6 +135,7 @@ ACTIONS: tuple[ActionSpec, ...] = (
         "tools",
         "obstacle_polygon",
         checkable=True,
+        modes=LAYOUT,
     ),
     ActionSpec(
         "tool.obstacle_rect",
@@ -84,6 +145,7 @@ ACTIONS: tuple[ActionSpec, ...] = (
         "tools",
         "obstacle_rect",
         checkable=True,
+        modes=LAYOUT,
     ),
     ActionSpec(
         "tool.obstacle_circle",
@@ -93,10 +155,27 @@ ACTIONS: tuple[ActionSpec, ...] = (
         "tools",
         "obstacle_circle",
         checkable=True,
+        modes=LAYOUT,
     ),
-    ActionSpec("tool.landmark", "Landmark", ("7",), "Tools", "tools", "landmark", checkable=True),
     ActionSpec(
-        "tool.start_pose", "Start Pose", ("8",), "Tools", "tools", "start_pose", checkable=True
+        "tool.landmark",
+        "Landmark",
+        ("7",),
+        "Tools",
+        "tools",
+        "landmark",
+        checkable=True,
+        modes=LAYOUT,
+    ),
+    ActionSpec(
+        "tool.start_pose",
+        "Start Pose",
+        ("8",),
+        "Tools",
+        "tools",
+        "start_pose",
+        checkable=True,
+        modes=LAYOUT,
     ),
     ActionSpec(
         "tool.start_region",
@@ -106,6 +185,7 @@ ACTIONS: tuple[ActionSpec, ...] = (
         "tools",
         "start_region",
         checkable=True,
+        modes=LAYOUT,
     ),
 )
 

@@ -30,6 +30,7 @@ from ..render.theme import THEMES, Theme, load_theme
 from . import edits
 from .actions import ACTIONS, MENUS, ActionSpec
 from .appearance import apply_theme
+from .canvas import SceneCanvas
 from .checking import CheckRunner
 from .dialogs import Dialogs
 from .document import SceneDocument
@@ -75,6 +76,7 @@ class MainWindow(QMainWindow):
         self.modes = QStackedWidget()
         self.modes.addWidget(self.canvas)
         self._mode_pages: dict[str, QWidget] = {"layout": self.canvas}
+        self.mode = "layout"
         self.setCentralWidget(self.modes)
         self.setAcceptDrops(True)
 
@@ -88,6 +90,7 @@ class MainWindow(QMainWindow):
             "can_redo": self.document.undo_stack.canRedo,
             "has_selection": lambda: bool(self.editor.selection() or self.editor.active_vertex),
             "is_dirty_or_unnamed": lambda: self.document.dirty or self.document.path is None,
+            "has_replay": lambda: "replay" in self._mode_pages,
         }
         self._build_actions()
         self._build_status_bar()
@@ -136,17 +139,22 @@ class MainWindow(QMainWindow):
         menus = {name: self.menuBar().addMenu(f"&{name}") for name in MENUS}
         self.toolbars = {
             "file": QToolBar("File and view"),
+            "modes": QToolBar("Layout editor or replay"),
             "tools": QToolBar("Drawing tools"),
         }
-        self.toolbars["file"].setObjectName("file")
-        self.toolbars["tools"].setObjectName("tools")
+        for key, bar in self.toolbars.items():
+            bar.setObjectName(key)
         self.addToolBar(Qt.ToolBarArea.TopToolBarArea, self.toolbars["file"])
+        self.addToolBar(Qt.ToolBarArea.TopToolBarArea, self.toolbars["modes"])
+        self.toolbars["modes"].setToolButtonStyle(Qt.ToolButtonStyle.ToolButtonTextOnly)
         self.addToolBar(Qt.ToolBarArea.LeftToolBarArea, self.toolbars["tools"])
         for tb in self.toolbars.values():
             tb.setMovable(False)
             tb.setIconSize(tb.iconSize().scaled(22, 22, Qt.AspectRatioMode.KeepAspectRatio))
         tool_group = QActionGroup(self)
         tool_group.setExclusive(True)
+        mode_group = QActionGroup(self)
+        mode_group.setExclusive(True)
         previous_menu = ""
         for spec in ACTIONS:
             act = QAction(spec.title.replace("&", "") if not spec.menu else spec.title, self)
@@ -163,6 +171,10 @@ class MainWindow(QMainWindow):
             if spec.id.startswith("tool."):
                 tool_group.addAction(act)
                 act.triggered.connect(lambda _c=False, s=spec: self.editor.set_tool(s.id))
+            elif spec.id.startswith("mode."):
+                mode_group.addAction(act)
+                act.setText(spec.title)
+                act.triggered.connect(lambda _c=False, s=spec: self.set_mode(s.id[5:]))
             else:
                 act.triggered.connect(self._handler(spec))
             if spec.menu:
@@ -172,6 +184,7 @@ class MainWindow(QMainWindow):
                     "edit.delete",
                     "edit.snap",
                     "view.dark",
+                    "mode.layout",
                 ):
                     menu.addSeparator()
                 menu.addAction(act)
@@ -187,6 +200,7 @@ class MainWindow(QMainWindow):
             self.addAction(act)
         self.actions_by_id["tool.select"].setChecked(True)
         self.actions_by_id["edit.snap"].setChecked(True)
+        self.actions_by_id["mode.layout"].setChecked(True)
         view = menus["View"]
         view.addSeparator()
         for dock in self.docks.values():
@@ -205,9 +219,9 @@ class MainWindow(QMainWindow):
             "edit.delete": self.editor.delete_selection,
             "edit.select_all": self.editor.select_all,
             "edit.snap": self._toggle_snap,
-            "view.zoom_in": self.canvas.zoom_in,
-            "view.zoom_out": self.canvas.zoom_out,
-            "view.fit": self.canvas.fit_scene,
+            "view.zoom_in": lambda: self.visible_canvas().zoom_in(),
+            "view.zoom_out": lambda: self.visible_canvas().zoom_out(),
+            "view.fit": self.fit_visible,
             "view.dark": lambda: self.apply_theme(
                 "dark" if self.actions_by_id["view.dark"].isChecked() else "light"
             ),
@@ -234,11 +248,7 @@ class MainWindow(QMainWindow):
         self.editor.selection_changed.connect(self._update_actions)
         self.editor.status_message.connect(self.show_message)
         self.editor.tool_changed.connect(lambda name: self.actions_by_id[name].setChecked(True))
-        self.canvas.cursor_moved.connect(
-            lambda x, y: self.coords_label.setText(f"x {x:8.2f} m   y {y:8.2f} m")
-        )
-        self.canvas.cursor_left.connect(lambda: self.coords_label.setText("x —  y —"))
-        self.canvas.zoom_changed.connect(self._show_zoom)
+        self._connect_canvas(self.canvas)
         self.checks.results.connect(self._on_check_results)
         self.checks.plans_ready.connect(self._on_plans)
         self.findings_panel.activated.connect(self.focus_finding)
@@ -252,13 +262,23 @@ class MainWindow(QMainWindow):
 
     def _update_title(self, *_args: object) -> None:
         mark = " •" if self.document.dirty else ""
-        self.setWindowTitle(f"{self.document.display_name}{mark} — arena_studio")
+        if self.mode == "layout":  # another page shows its own title
+            self.setWindowTitle(f"{self.document.display_name}{mark} — arena_studio")
         self._update_actions()
+
+    def _connect_canvas(self, canvas: SceneCanvas) -> None:
+        """Status bar readouts for a canvas (the editor's, or a mode page's)."""
+        canvas.cursor_moved.connect(
+            lambda x, y: self.coords_label.setText(f"x {x:8.2f} m   y {y:8.2f} m")
+        )
+        canvas.cursor_left.connect(lambda: self.coords_label.setText("x —  y —"))
+        canvas.zoom_changed.connect(lambda ppm, c=canvas: self._show_zoom(c, ppm))
 
     def _update_actions(self, *_args: object) -> None:
         for spec in ACTIONS:
-            if spec.enabled:
-                self.actions_by_id[spec.id].setEnabled(self._conditions[spec.enabled]())
+            works_here = not spec.modes or self.mode in spec.modes
+            condition = self._conditions[spec.enabled]() if spec.enabled else True
+            self.actions_by_id[spec.id].setEnabled(works_here and condition)
         stack = self.document.undo_stack
         self.actions_by_id["edit.undo"].setText(
             f"&Undo {stack.undoText()}".rstrip() if stack.canUndo() else "&Undo"
@@ -305,8 +325,23 @@ class MainWindow(QMainWindow):
     def show_message(self, text: str) -> None:
         self.message_label.setText(text)
 
-    def _show_zoom(self, ppm: float) -> None:
-        self.zoom_label.setText(f"{ppm:.0f} px/m   grid {self.canvas.grid_step():g} m")
+    def _show_zoom(self, canvas: SceneCanvas, ppm: float) -> None:
+        if canvas.isVisible() or (canvas is self.canvas and self.mode == "layout"):
+            self.zoom_label.setText(f"{ppm:.0f} px/m   grid {canvas.grid_step():g} m")
+
+    def visible_canvas(self) -> SceneCanvas:
+        """The canvas of the page shown now (view actions act on what the user sees)."""
+        page = self.modes.currentWidget()
+        canvas = page if isinstance(page, SceneCanvas) else getattr(page, "canvas", None)
+        return canvas if isinstance(canvas, SceneCanvas) else self.canvas
+
+    def fit_visible(self) -> None:
+        page = self.modes.currentWidget()
+        fit = getattr(page, "fit_views", None)  # a page with several canvases fits them all
+        if callable(fit):
+            fit()
+        else:
+            self.visible_canvas().fit_scene()
 
     def _toggle_snap(self) -> None:
         on = self.actions_by_id["edit.snap"].isChecked()
@@ -332,6 +367,7 @@ class MainWindow(QMainWindow):
         self.recovery.discard()
         self.document.reset(Scene(name="Untitled scene"), None)
         self.editor.set_selection(())
+        self.set_mode("layout")
         self.canvas.fit_scene()
 
     def open_dialog(self) -> None:
@@ -454,15 +490,30 @@ class MainWindow(QMainWindow):
         """Add a page (e.g. replay) to the central area; switch with :meth:`set_mode`."""
         self._mode_pages[name] = widget
         self.modes.addWidget(widget)
+        canvas = getattr(widget, "canvas", None)
+        if isinstance(canvas, SceneCanvas):
+            self._connect_canvas(canvas)
+        self._update_actions()
 
     def set_mode(self, name: str) -> None:
+        """Show page ``name``; actions that do not work there are disabled."""
+        if name not in self._mode_pages:
+            return
+        self.mode = name
         self.modes.setCurrentWidget(self._mode_pages[name])
         editing = name == "layout"
         self.toolbars["tools"].setVisible(editing)
         for key in ("properties", "goals"):
             self.docks[key].setVisible(editing)
+        self.actions_by_id[f"mode.{name}"].setChecked(True)
+        self.coords_label.setText("x —  y —")
+        self._show_zoom(self.visible_canvas(), self.visible_canvas().pixels_per_metre())
+        self._update_actions()
         if editing:
             self._update_title()
+        else:
+            self.setWindowTitle(f"{self.modes.currentWidget().windowTitle()} — arena_studio")
+        self.visible_canvas().setFocus()
 
     # -- never lose work ---------------------------------------------------------------
     def autosave_now(self) -> bool:

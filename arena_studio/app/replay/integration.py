@@ -118,7 +118,6 @@ def open_tape_in_window(window: Any, path: Path) -> bool:
         return False
     window.set_mode(MODE)
     _sync_enabled(window, page)
-    window.setWindowTitle(f"{path.name} - arena-studio replay")
     window.show_message(f"Opened {path.name}: {len(page.session)} episodes")
     return True
 

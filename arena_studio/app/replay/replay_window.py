@@ -229,7 +229,7 @@ class ReplayWindow(QMainWindow):
         self.episode_list.model.reset_placeholders(len(tape))
         self.episode_list.set_progress(0, len(tape))
         self.batch.set_occupancy(s.scene, None)
-        self.setWindowTitle(f"{Path(path).name} - replay")
+        self.setWindowTitle(f"{Path(path).name} (replay)")
         self.set_actions_enabled(True)
         msg = getattr(tape, "recovery_message", None)
         if getattr(tape, "truncated", False) and msg:
