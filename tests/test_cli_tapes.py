@@ -86,3 +86,17 @@ def test_import_csv_and_bad_arguments(tmp_path: Path, capsys) -> None:
     assert "line 2, column 'x'" in capsys.readouterr().err
     assert not (tmp_path / "b.tape").exists()
     assert main(["rollout", SCENE, "-o", str(out), "--episodes", "0"]) == 2
+
+
+def test_rollout_greedy_and_par_limit_arguments(tmp_path: Path, capsys) -> None:
+    out = tmp_path / "greedy.tape"
+    args = ["rollout", SCENE, "-o", str(out), "--episodes", "3", "--goals", "greedy", "--quiet"]
+    assert main([*args, "--par-limit", "0.8,2.0"]) == 0
+    capsys.readouterr()
+    assert main(["stats", str(out), "--json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["summary"]["alignment_rate"] == 1.0  # greedy agents share the team goal
+    for bad in ("2", "x,1", "1.5,0.5", "0,1"):
+        assert main([*args, "--par-limit", bad]) == 2
+        err = capsys.readouterr().err
+        assert err.count("\n") == 1 and "--par-limit" in err

@@ -131,4 +131,58 @@ class PathFollower:
         return 0.0, max(-lim, min(lim, alpha / dt))
 
 
-__all__ = ["FollowerLimits", "PathFollower"]
+class LegFollower:
+    """Several routes driven one after another, with a wait (in steps) after each but the last.
+
+    Used by the rollout's ``greedy`` mode, where an agent drives to the nearest target, waits
+    there for its patience, then moves on. ``label`` says what the agent is doing now (a role
+    label for the tape); ``waiting`` is True while it stands still on purpose, so the stuck
+    detector leaves it alone.
+    """
+
+    def __init__(self, legs: list[tuple[PathFollower, str, int]]) -> None:
+        if not legs:
+            raise ValueError("a leg follower needs at least one leg")
+        self.legs = legs  # (follower, target name, steps to wait after arriving)
+        self.leg = 0
+        self.waited = 0
+
+    @property
+    def _current(self) -> PathFollower:
+        return self.legs[self.leg][0]
+
+    @property
+    def finished(self) -> bool:
+        return self.leg == len(self.legs) - 1 and self._current.finished
+
+    @property
+    def waiting(self) -> bool:
+        return self._current.finished and not self.finished
+
+    @property
+    def label(self) -> str:
+        name = self.legs[self.leg][1]
+        if self.finished:
+            return f"holds {name}"
+        return f"waits at {name}" if self._current.finished else f"heads to {name}"
+
+    def command(self, pose: np.ndarray, dt: float) -> tuple[float, float]:
+        while True:
+            follower, _, wait = self.legs[self.leg]
+            if not follower.finished:
+                v, w = follower.command(pose, dt)
+                if not follower.finished:
+                    return v, w
+            if self.leg == len(self.legs) - 1:
+                return 0.0, 0.0
+            if self.waited < wait:
+                self.waited += 1
+                return 0.0, 0.0
+            self.leg += 1
+            self.waited = 0
+
+    def turn_towards_carrot(self, pose: np.ndarray, dt: float) -> tuple[float, float]:
+        return self._current.turn_towards_carrot(pose, dt)
+
+
+__all__ = ["FollowerLimits", "LegFollower", "PathFollower"]

@@ -3,15 +3,25 @@
 Each episode draws a team goal from the scene's goal set (seeded). ``shared`` mode gives that
 goal to every agent and splits its targets by the par-time assignment
 (:func:`arena_studio.core.partime.plan_goal`); ``independent`` mode lets every agent draw its
-own goal and act on its own plan of it, so cooperative goals often fail. Every agent drives
+own goal and act on its own plan of it, so cooperative goals often fail. ``greedy`` mode gives
+every agent the team goal (they are aligned) but no split: each drives to the target nearest
+to it, waits there for a patience of its own (drawn between :data:`PATIENCE` seconds), then
+moves on to the nearest target it has not visited, and stays at the last one. Nobody knows
+what the others do, so two agents often crowd one target while another stays empty, or reach
+their targets at different times. Every agent drives
 the shortest collision-free route (:class:`arena_studio.core.paths.PathPlanner`) to each of
 its targets with :class:`~arena_studio.core.controller.PathFollower` on unicycle kinematics
 (:mod:`arena_studio.core.kinematics`); a step that would carry an agent out of its free space
 becomes a turn in place. Agents do not avoid each other (the metrics count their collisions).
 
 An episode ends when every agent has settled (arrived, idle or stuck) for the hold time plus
-one second, or at ``max_time``. Episode ``i`` uses ``numpy.random.default_rng([seed, i])``,
-so runs are reproducible bit for bit and any episode can be regenerated alone.
+one second, or at its time limit: ``max_time`` when given, else the scene's
+:func:`default_time_limit` (twice the longest par time of any goal plus 10 s, at least 20 s,
+so even a detour through every target fits). With ``par_limit=(lo, hi)`` each episode's limit
+is instead drawn between ``lo`` and ``hi`` times its team goal's par time (capped by the
+limit above); below 1x the team cannot make it, so such tapes show agents still on their way
+when time runs out. Episode ``i`` uses ``numpy.random.default_rng([seed, i])``, so runs are
+reproducible bit for bit and any episode can be regenerated alone.
 """
 
 from __future__ import annotations
@@ -28,7 +38,7 @@ import shapely
 import shapely.ops
 from shapely.geometry import LineString, Point, Polygon
 
-from .controller import FollowerLimits, PathFollower
+from .controller import FollowerLimits, LegFollower, PathFollower
 from .geometry import free_space
 from .goals import enumerate_goals
 from .kinematics import unicycle_step
@@ -36,8 +46,14 @@ from .paths import PathPlanner
 from .scene import Scene
 from .tape import TapeWriter
 
-Mode = Literal["shared", "independent"]
-MODES: tuple[str, ...] = ("shared", "independent")
+Mode = Literal["shared", "independent", "greedy"]
+MODES: tuple[str, ...] = ("shared", "independent", "greedy")
+#: greedy mode: seconds an agent waits at a target before it moves on (drawn per agent)
+PATIENCE = (1.0, 6.0)
+#: default time limit = TIME_LIMIT_FACTOR x the longest par time + TIME_LIMIT_SLACK, >= MIN
+TIME_LIMIT_FACTOR = 2.0
+TIME_LIMIT_SLACK = 10.0
+MIN_TIME_LIMIT = 20.0
 #: an agent that moved less than this (m) over STUCK_WINDOW seconds while en route is stuck
 STUCK_DISTANCE = 0.05
 STUCK_WINDOW = 3.0
@@ -61,17 +77,18 @@ class EpisodeRun:
 class Rollout:
     """Runs episodes of one scene; planner, goal table and plans are cached across episodes."""
 
-    def __init__(self, scene: Scene, dt: float = 0.1, max_time: float = 60.0) -> None:
+    def __init__(self, scene: Scene, dt: float = 0.1, max_time: float | None = None) -> None:
         if not scene.agents:
             raise ValueError("the scene has no agents")
         self.scene = scene
         self.dt = float(dt)
-        self.max_time = float(max_time)
         self.table = enumerate_goals(scene)
         if len(self.table) == 0:
             raise ValueError("the scene has no goals to draw")
         self.planner = PathPlanner(scene)
         self._assignments: dict[int, dict[int, list[int]]] = {}
+        self._par: dict[int, float | None] = {}
+        self.max_time = float(max_time) if max_time is not None else self.default_time_limit()
         self._free = []
         self._guards = []
         self._guard_free = []
@@ -90,6 +107,18 @@ class Rollout:
             self._assignments[goal_index] = self._plan_assignment(goal_index)
         return self._assignments[goal_index]
 
+    def par_time(self, goal_index: int) -> float | None:
+        """Par time (s) of goal ``goal_index`` (the slower end for start regions), or None."""
+        self.assignment(goal_index)
+        return self._par.get(goal_index)
+
+    def default_time_limit(self) -> float:
+        """TIME_LIMIT_FACTOR x the longest par time over the goal set + TIME_LIMIT_SLACK (s),
+        at least MIN_TIME_LIMIT, rounded up to a whole second."""
+        pars = [self.par_time(g) for g in range(len(self.table))]
+        longest = max((p for p in pars if p is not None), default=0.0)
+        return float(max(MIN_TIME_LIMIT, math.ceil(TIME_LIMIT_FACTOR * longest + TIME_LIMIT_SLACK)))
+
     def _plan_assignment(self, goal_index: int) -> dict[int, list[int]]:
         scene = self.scene
         vector = self.table.vectors[goal_index]
@@ -99,6 +128,8 @@ class Rollout:
             plan_goal = None
         if plan_goal is not None:
             plan = plan_goal(scene, vector, planner=self.planner)
+            if plan.feasible and plan.par_time is not None:
+                self._par[goal_index] = max(plan.par_time, plan.par_time_worst or 0.0)
             if not plan.feasible:
                 return {}
             return {
@@ -196,44 +227,100 @@ class Rollout:
         return out
 
     # -- one episode ---------------------------------------------------------------------------
-    def episode(self, seed: int, index: int, mode: Mode) -> EpisodeRun:
+    def episode(
+        self,
+        seed: int,
+        index: int,
+        mode: Mode,
+        par_limit: tuple[float, float] | None = None,
+    ) -> EpisodeRun:
         if mode not in MODES:
-            raise ValueError(f"unknown goal mode {mode!r} (expected shared or independent)")
+            raise ValueError(f"unknown goal mode {mode!r} (expected {', '.join(MODES)})")
         rng = np.random.default_rng([seed, index])
         scene = self.scene
         n_agents = len(scene.agents)
         team = int(self.table.sample(rng, 1)[0])
         start = self.start_poses(rng)
-        if mode == "shared":
-            pursued = [team] * n_agents
-        else:
+        if mode == "independent":
             pursued = [int(g) for g in self.table.sample(rng, n_agents)]
-        plans: list[list[int]] = [self.assignment(g).get(a, []) for a, g in enumerate(pursued)]
-        followers: list[PathFollower | None] = []
+        else:
+            pursued = [team] * n_agents
+        followers: list[PathFollower | LegFollower | None] = []
         roles: list[list[tuple[int, str]]] = []
-        for a, agent in enumerate(scene.agents):
-            route = self._route(a, plans[a], start[a, :2]) if plans[a] else None
+        if mode == "greedy":
+            patience = rng.uniform(*PATIENCE, size=n_agents)
+            plans = [self._greedy_order(a, team, start[a, :2]) for a in range(n_agents)]
+            for a in range(n_agents):
+                follower = self._legs(a, plans[a], start[a, :2], patience[a])
+                followers.append(follower)
+                roles.append([(0, follower.label if follower else "waits")])
+        else:
+            plans = [self.assignment(g).get(a, []) for a, g in enumerate(pursued)]
+            for a, agent in enumerate(scene.agents):
+                route = self._route(a, plans[a], start[a, :2]) if plans[a] else None
+                if route is None:
+                    followers.append(None)
+                    roles.append([(0, "waits")])
+                    continue
+                limits = FollowerLimits(agent.max_speed, agent.max_turn_rate)
+                followers.append(PathFollower(route, limits))
+                roles.append([(0, f"heads to {scene.landmarks[plans[a][-1]].id}")])
+        limit = self.max_time
+        if par_limit is not None:
+            factor = float(rng.uniform(*par_limit))
+            par = self.par_time(team)
+            if par is not None:
+                limit = min(limit, max(self.dt, factor * par))
+        return self._simulate(start, followers, roles, team, pursued, plans, limit)
+
+    def _greedy_order(self, agent: int, goal_index: int, start: np.ndarray) -> list[int]:
+        """The team goal's targets in the order one agent visits them alone: nearest first."""
+        left = list(self.table.targets(goal_index))
+        here = (float(start[0]), float(start[1]))
+        order: list[int] = []
+        while left:
+            best: tuple[float, int, np.ndarray] | None = None
+            for lm in left:
+                route = self.planner.path_to_landmark(agent, lm, start_xy=here)
+                if route is not None and (best is None or route.length < best[0]):
+                    best = (route.length, lm, route.points[-1])
+            if best is None:
+                break
+            order.append(best[1])
+            left.remove(best[1])
+            end = self._deeper(agent, best[1], best[2])
+            here = (float(end[0]), float(end[1]))
+        return order
+
+    def _legs(
+        self, agent: int, order: list[int], start: np.ndarray, patience: float
+    ) -> LegFollower | None:
+        spec = self.scene.agents[agent]
+        limits = FollowerLimits(spec.max_speed, spec.max_turn_rate)
+        legs: list[tuple[PathFollower, str, int]] = []
+        here = np.asarray(start, dtype=np.float64)
+        wait = round(patience / self.dt)
+        for lm in order:
+            route = self._route(agent, [lm], here)
             if route is None:
-                followers.append(None)
-                roles.append([(0, "waits")])
-                continue
-            limits = FollowerLimits(agent.max_speed, agent.max_turn_rate)
-            followers.append(PathFollower(route, limits))
-            roles.append([(0, f"heads to {scene.landmarks[plans[a][-1]].id}")])
-        return self._simulate(start, followers, roles, team, pursued, plans)
+                break
+            legs.append((PathFollower(route, limits), self.scene.landmarks[lm].id, wait))
+            here = route[-1]
+        return LegFollower(legs) if legs else None
 
     def _simulate(
         self,
         start: np.ndarray,
-        followers: list[PathFollower | None],
+        followers: list[PathFollower | LegFollower | None],
         roles: list[list[tuple[int, str]]],
         team: int,
         pursued: list[int],
         plans: list[list[int]],
+        limit: float,
     ) -> EpisodeRun:
         scene, dt = self.scene, self.dt
         n_agents = len(scene.agents)
-        max_steps = max(1, round(self.max_time / dt))
+        max_steps = max(1, round(limit / dt))
         settle_steps = math.ceil((scene.goals.hold_time + 1.0) / dt)
         window = round(STUCK_WINDOW / dt)
         poses = np.empty((max_steps + 1, n_agents, 3))
@@ -263,10 +350,14 @@ class Rollout:
             for a, f in enumerate(followers):
                 if f is None:
                     continue
-                if f.finished and not done[t - 1, a]:
+                if isinstance(f, LegFollower):
+                    if f.label != roles[a][-1][1]:
+                        roles[a].append((t, f.label))
+                elif f.finished and not done[t - 1, a]:
                     roles[a].append((t, f"holds {scene.landmarks[plans[a][-1]].id}"))
                 done[t, a] = f.finished
-                if not f.finished and not stuck[a] and t >= window:
+                waiting = isinstance(f, LegFollower) and f.waiting
+                if not f.finished and not waiting and not stuck[a] and t >= window:
                     moved = np.hypot(*(poses[t, a, :2] - poses[t - window, a, :2]))
                     turned = abs(poses[t, a, 2] - poses[t - window, a, 2])
                     if moved < STUCK_DISTANCE and turned < 0.1:
@@ -290,7 +381,7 @@ class Rollout:
             pursued_goals=[self.table.vectors[g].copy() for g in pursued],
             roles=roles,
             messages=messages,
-            outcome={"ended": reason, "time": round(t * dt, 6)},
+            outcome={"ended": reason, "time": round(t * dt, 6), "time_limit": round(limit, 6)},
         )
 
 
@@ -301,23 +392,29 @@ def run_rollout(
     episodes: int,
     seed: int,
     mode: Mode,
-    max_time: float = 60.0,
+    max_time: float | None = None,
     dt: float = 0.1,
     advance: Callable[[int], None] | None = None,
     keep_partial: bool = False,
+    par_limit: tuple[float, float] | None = None,
 ) -> int:
-    """Simulate ``episodes`` episodes into the tape ``out``; returns the episodes written."""
+    """Simulate ``episodes`` episodes into the tape ``out``; returns the episodes written.
+
+    ``max_time`` None takes the scene's default time limit (see the module docstring).
+    """
     sim = Rollout(scene, dt=dt, max_time=max_time)
-    meta = {
+    meta: dict[str, Any] = {
         "generator": "arena-studio rollout",
         "mode": mode,
         "seed": int(seed),
-        "max_time": float(max_time),
+        "max_time": sim.max_time,
         "note": "scripted preview agents, not a learned policy",
     }
+    if par_limit is not None:
+        meta["par_limit"] = [float(par_limit[0]), float(par_limit[1])]
     with TapeWriter(out, scene, dt=dt, metadata=meta, keep_partial=keep_partial) as writer:
         for i in range(episodes):
-            run = sim.episode(seed, i, mode)
+            run = sim.episode(seed, i, mode, par_limit=par_limit)
             writer.begin_episode(
                 team_goal=run.team_goal,
                 pursued_goals=run.pursued_goals,
@@ -331,4 +428,4 @@ def run_rollout(
     return episodes
 
 
-__all__ = ["MODES", "EpisodeRun", "Rollout", "run_rollout"]
+__all__ = ["MODES", "PATIENCE", "EpisodeRun", "Rollout", "run_rollout"]

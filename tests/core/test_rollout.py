@@ -68,3 +68,107 @@ def test_independent_mode_fails_cooperative_goals_often() -> None:
     coop = [m for m in coop if m.kind == "cooperative"]
     assert coop and sum(m.success for m in coop) < len(coop)
     assert all(m.diagnosis_code for m in coop if not m.success)
+
+
+# -- greedy mode, time limits and the demo tapes -------------------------------------------
+import math  # noqa: E402
+
+import pytest  # noqa: E402
+
+from arena_studio.core.controller import FollowerLimits, LegFollower, PathFollower  # noqa: E402
+from arena_studio.core.partime import plan_goal  # noqa: E402
+from arena_studio.core.rollout import PATIENCE  # noqa: E402
+
+
+def test_greedy_mode_aligned_nearest_first_and_reproducible(tmp_path: Path) -> None:
+    scene = load_scene(SCENES / "greenhouse.scene.json")
+    a, b = tmp_path / "a.tape", tmp_path / "b.tape"
+    for path in (a, b):
+        run_rollout(scene, path, episodes=4, seed=3, mode="greedy", par_limit=(0.8, 2.0))
+    assert a.read_bytes() == b.read_bytes()  # bit for bit
+    sim = Rollout(scene)
+    for i, ep in enumerate(open_tape(a)):
+        run = sim.episode(3, i, "greedy", par_limit=(0.8, 2.0))
+        assert np.array_equal(run.poses, ep.poses)  # any episode regenerates alone
+        m = episode_metrics(scene, ep)
+        assert m.aligned is True  # greedy agents all pursue the team goal
+        targets = [int(k) for k in np.flatnonzero(ep.team_goal)]
+        for agent, timeline in enumerate(ep.roles):
+            # the first target is the nearest by shortest route (PathPlanner, itself checked
+            # against networkx in test_paths.py)
+            lengths = {
+                scene.landmarks[k].id: sim.planner.path_to_landmark(
+                    agent, k, start_xy=tuple(ep.poses[0, agent, :2])
+                ).length
+                for k in targets
+            }
+            assert timeline[0][1] == f"heads to {min(lengths, key=lengths.get)}"
+
+
+def test_leg_follower_waits_its_patience() -> None:
+    limits = FollowerLimits(1.0, 2.0)
+    legs = [
+        (PathFollower(np.array([[0.0, 0.0], [0.5, 0.0]]), limits), "A", 7),
+        (PathFollower(np.array([[0.5, 0.0], [1.0, 0.0]]), limits), "B", 7),
+    ]
+    f = LegFollower(legs)
+    pose = np.zeros(3)
+    labels = []
+    for _ in range(40):
+        v, w = f.command(pose, 0.1)
+        pose = pose + np.array([v * math.cos(pose[2]), v * math.sin(pose[2]), w]) * 0.1
+        labels.append(f.label)
+    # derivation: 0.5 m at 1 m/s in 0.1 s steps = 5 moving steps, then 7 still steps waiting
+    assert labels.count("waits at A") == 7 and labels[-1] == "holds B" and f.finished
+    assert PATIENCE[0] > 0 and PATIENCE[0] < PATIENCE[1]
+
+
+def test_default_time_limit_from_longest_par_time() -> None:
+    scene = load_scene(SCENES / "parking-level.scene.json")
+    sim = Rollout(scene)
+    # reference: partime.plan_goal, the par times `arena-studio goals` lists
+    pars = []
+    for vector in sim.table.vectors:
+        plan = plan_goal(scene, vector)
+        if plan.feasible:
+            pars.append(max(plan.par_time, plan.par_time_worst or 0.0))
+    assert sim.max_time == max(20.0, math.ceil(2 * max(pars) + 10))
+    assert Rollout(scene, max_time=5.0).max_time == 5.0
+
+
+def test_time_limit_below_par_time_never_succeeds() -> None:
+    # par time is a lower bound on the time to success (DESIGN.md), so a limit of 0.6x the
+    # par time must end every episode in failure, at exactly that limit
+    scene = load_scene(SCENES / "greenhouse.scene.json")
+    sim = Rollout(scene)
+    for i in range(4):
+        run = sim.episode(9, i, "shared", par_limit=(0.6, 0.6))
+        m = episode_metrics(scene, _as_episode(run, i))
+        team = [
+            g for g in range(len(sim.table)) if np.array_equal(sim.table.vectors[g], run.team_goal)
+        ]
+        par = sim.par_time(team[0])
+        assert not m.success and m.diagnosis_code is not None
+        assert run.outcome["time_limit"] == pytest.approx(0.6 * par, abs=1e-6)
+        assert run.poses.shape[0] - 1 == round(0.6 * par / 0.1)
+
+
+def test_best_demo_tape_mixes_outcomes_and_regenerates(tmp_path: Path) -> None:
+    demo = SCENES / "greenhouse-greedy.tape"
+    tape = open_tape(demo)
+    ms = [episode_metrics(tape.scene, e) for e in tape]
+    codes = {m.diagnosis_code for m in ms if not m.success}
+    assert any(m.success for m in ms) and len(codes) >= 3
+    assert {"duplicate-target", "time-ran-out", "not-together"} <= codes
+    assert max(e.duration for e in tape) >= 10.0
+    # the Makefile `demos` recipe gives the same bytes again
+    again = tmp_path / "again.tape"
+    run_rollout(
+        load_scene(SCENES / "greenhouse.scene.json"),
+        again,
+        episodes=20,
+        seed=13,
+        mode="greedy",
+        par_limit=(0.8, 2.0),
+    )
+    assert again.read_bytes() == demo.read_bytes()
