@@ -36,7 +36,9 @@ demos: $(STAMP)
 	  $(BIN)/arena-studio rollout scenes/$$s.scene.json -o scenes/$$s-shared.tape \
 	    --episodes 12 --seed 11 --goals shared --quiet && \
 	  $(BIN)/arena-studio rollout scenes/$$s.scene.json -o scenes/$$s-independent.tape \
-	    --episodes 12 --seed 12 --goals independent --quiet || exit 1; \
+	    --episodes 12 --seed 12 --goals independent --quiet && \
+	  $(BIN)/arena-studio rollout scenes/$$s.scene.json -o scenes/$$s-greedy.tape \
+	    --episodes 20 --seed 13 --goals greedy --par-limit 0.8,2.0 --quiet || exit 1; \
 	done
 
 clean:
