@@ -39,6 +39,11 @@ REQUIRED = ("episode", "step", "agent", "x", "y", "heading")
 OPTIONAL = ("reward", "goal", "role")
 #: an NPZ member larger than this (uncompressed bytes) is refused before it is loaded
 MAX_NPZ_MEMBER = 8 << 30
+#: a compressed member may expand at most this many times: deflate (RFC 1951), which numpy
+#: uses, cannot exceed about 1032:1, so a genuine member never trips this
+MAX_NPZ_RATIO = 1100
+#: ... once it claims more than this many bytes (small members may compress better)
+NPZ_RATIO_FROM = 1 << 20
 
 
 class ImportFormatError(ArenaError, ValueError):
@@ -269,6 +274,56 @@ def _episode_arrays(src: str, ep: _EpisodeRows, mapping: dict[str, str]) -> dict
 
 
 # -- NPZ ------------------------------------------------------------------------------------
+def _check_npz_member(src: str, zf: zipfile.ZipFile, info: zipfile.ZipInfo) -> None:
+    """Refuse a member before numpy allocates anything for it.
+
+    numpy sizes its array from the ``.npy`` header and the archive member's claimed size, so
+    both are checked first: the claimed size against :data:`MAX_NPZ_MEMBER` and, for a
+    compressed member, against :data:`MAX_NPZ_RATIO` times its compressed bytes (a small
+    member claiming a huge size is a zip bomb); and the header's shape x item size against
+    the bytes the member says it holds.
+    """
+    name = info.filename[:-4] if info.filename.endswith(".npy") else info.filename
+    where = f"{src}: array {name}"
+    if info.file_size > MAX_NPZ_MEMBER:
+        raise ImportFormatError(
+            f"{where}: {info.file_size} bytes uncompressed, more than an import takes "
+            f"({MAX_NPZ_MEMBER} bytes)"
+        )
+    compressed = info.compress_type != zipfile.ZIP_STORED
+    if (
+        compressed
+        and info.file_size > NPZ_RATIO_FROM
+        and info.file_size > MAX_NPZ_RATIO * max(info.compress_size, 1)
+    ):
+        raise ImportFormatError(
+            f"{where}: claims {info.file_size} bytes from {info.compress_size} compressed "
+            f"bytes (more than {MAX_NPZ_RATIO}:1), refused as a possible zip bomb"
+        )
+    if not info.filename.endswith(".npy"):
+        return
+    try:
+        with zf.open(info) as f:
+            version = np.lib.format.read_magic(f)
+            read_header = (
+                np.lib.format.read_array_header_1_0
+                if version == (1, 0)
+                else np.lib.format.read_array_header_2_0
+            )
+            shape, _, dtype = read_header(f)
+            header_bytes = f.tell()
+    except (ValueError, OSError, EOFError, zipfile.BadZipFile) as exc:
+        raise ImportFormatError(f"{where}: not a readable .npy array ({exc})") from None
+    if dtype.hasobject:
+        raise ImportFormatError(f"{where}: object arrays are not imported (they need pickle)")
+    claimed = math.prod(shape) * dtype.itemsize
+    if claimed != info.file_size - header_bytes:
+        raise ImportFormatError(
+            f"{where}: its header claims shape {tuple(shape)} of {dtype.str} "
+            f"({claimed} bytes), the archive member holds {info.file_size - header_bytes}"
+        )
+
+
 def import_npz(
     path: str | Path,
     scene: Scene,
@@ -283,10 +338,7 @@ def import_npz(
     try:
         with zipfile.ZipFile(path) as zf:
             for info in zf.infolist():
-                if info.file_size > MAX_NPZ_MEMBER:
-                    raise ImportFormatError(
-                        f"{src}: array {info.filename}: {info.file_size} bytes is too large"
-                    )
+                _check_npz_member(src, zf, info)
         data = np.load(path, allow_pickle=False)
     except ImportFormatError:
         raise

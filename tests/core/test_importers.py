@@ -104,3 +104,101 @@ def test_npz_stacked_and_ragged(tmp_path: Path) -> None:
     text.write_text("not a zip")
     with pytest.raises(ImportFormatError, match="not a readable"):
         import_npz(text, SCENE, tmp_path / "t.tape")
+
+
+# -- NPZ members that would make numpy allocate more than the file holds -------------------
+# References: the ZIP format (PKWARE APPNOTE.TXT 4.3.7 and 4.3.12: sizes at offsets 18/22 of a
+# local header, 20/24 of a central directory header [memory]); deflate (RFC 1951) expands at
+# most about 1032:1 [memory], checked below with zlib; the .npy format (numpy NEP 1).
+import io  # noqa: E402
+import struct  # noqa: E402
+import tracemalloc  # noqa: E402
+import zipfile  # noqa: E402
+import zlib  # noqa: E402
+
+from arena_studio.core import importers  # noqa: E402
+
+
+def _claim_size(path: Path, member: str, size: int) -> None:
+    """Rewrite the uncompressed size a zip records for ``member`` (both headers)."""
+    data = bytearray(path.read_bytes())
+    name = member.encode()
+    local = data.find(b"PK\x03\x04")
+    while local >= 0:
+        n = struct.unpack_from("<H", data, local + 26)[0]
+        if data[local + 30 : local + 30 + n] == name:
+            struct.pack_into("<I", data, local + 22, size)
+        local = data.find(b"PK\x03\x04", local + 4)
+    central = data.find(b"PK\x01\x02")
+    while central >= 0:
+        n = struct.unpack_from("<H", data, central + 28)[0]
+        if data[central + 46 : central + 46 + n] == name:
+            struct.pack_into("<I", data, central + 24, size)
+        central = data.find(b"PK\x01\x02", central + 4)
+    path.write_bytes(bytes(data))
+
+
+def _peak_mb(fn) -> float:
+    tracemalloc.start()  # numpy reports its array buffers to tracemalloc
+    try:
+        fn()
+    finally:
+        peak = tracemalloc.get_traced_memory()[1]
+        tracemalloc.stop()
+    return peak / 1e6
+
+
+def test_npz_oversized_member_refused(tmp_path: Path, monkeypatch) -> None:
+    path = tmp_path / "big.npz"
+    np.savez(path, poses=np.zeros((1, 100, 2, 3)))  # 4,800 bytes of array data
+    monkeypatch.setattr(importers, "MAX_NPZ_MEMBER", 4000)
+    with pytest.raises(ImportFormatError, match=r"array poses: \d+ bytes uncompressed, more"):
+        import_npz(path, SCENE, tmp_path / "big.tape")
+    assert not (tmp_path / "big.tape").exists()
+
+
+def test_npz_zip_bomb_member_refused_before_allocation(tmp_path: Path) -> None:
+    # deflate's ratio limit, seen with zlib on the most compressible input there is
+    raw = bytes(8 << 20)
+    assert len(raw) / len(zlib.compress(raw, 9)) < 1032
+    path = tmp_path / "bomb.npz"
+    np.savez_compressed(path, poses=np.zeros((1, 1000, 2, 3)))
+    _claim_size(path, "poses.npy", 3_900_000_000)  # ~3.9 GB from a few hundred bytes
+    with zipfile.ZipFile(path) as zf:
+        assert zf.getinfo("poses.npy").file_size == 3_900_000_000  # the forged claim reads back
+
+    def run() -> None:
+        with pytest.raises(ImportFormatError, match="possible zip bomb") as info:
+            import_npz(path, SCENE, tmp_path / "bomb.tape")
+        assert "array poses: claims 3900000000 bytes" in str(info.value)
+
+    assert _peak_mb(run) < 50
+
+
+def test_npz_header_claiming_a_huge_shape_refused_before_allocation(tmp_path: Path) -> None:
+    # a .npy header (version 1.0) claiming 10^12 poses over 48 bytes of data
+    header = io.BytesIO()
+    np.lib.format.write_array_header_1_0(
+        header, {"descr": "<f8", "fortran_order": False, "shape": (10**6, 10**6, 2, 3)}
+    )
+    member = b"\x93NUMPY\x01\x00" + header.getvalue()[8:] + bytes(48)
+    path = tmp_path / "liar.npz"
+    with zipfile.ZipFile(path, "w") as zf:
+        zf.writestr("poses.npy", member)
+
+    def run() -> None:
+        with pytest.raises(ImportFormatError, match=r"array poses: its header claims shape"):
+            import_npz(path, SCENE, tmp_path / "liar.tape")
+
+    assert _peak_mb(run) < 50
+
+
+def test_npz_highly_compressible_but_genuine_member_imports(tmp_path: Path) -> None:
+    path = tmp_path / "zeros.npz"
+    poses = np.zeros((2, 40000, 2, 3))  # 3.8 MB of zeros, about 1000:1 under deflate
+    np.savez_compressed(path, poses=poses)
+    with zipfile.ZipFile(path) as zf:
+        info = zf.getinfo("poses.npy")
+        assert info.file_size > importers.NPZ_RATIO_FROM
+        assert info.file_size / info.compress_size > 500
+    assert import_npz(path, SCENE, tmp_path / "zeros.tape") == 2
