@@ -2,8 +2,8 @@
 
 from __future__ import annotations
 
-from PySide6.QtCore import Qt
-from PySide6.QtGui import QKeyEvent, QMouseEvent
+from PySide6.QtCore import QPoint, Qt
+from PySide6.QtGui import QKeyEvent, QMouseEvent, QResizeEvent
 
 from ..render.theme import Theme
 from .canvas import SceneCanvas
@@ -35,9 +35,34 @@ class EditorCanvas(SceneCanvas):
         editor.document.changed.connect(self.refresh)
         editor.selection_changed.connect(self.refresh)
         editor.preview_changed.connect(self.refresh)
+        editor.goal_picks_changed.connect(self.refresh)
         self.zoom_changed.connect(lambda _s: self._sync_scale())
+        self.auto_fit = True  # refit on resize until the user zooms, pans or jumps somewhere
         self._sync_scale()
         self.refresh()
+
+    # -- view: stay fitted while the window is resized, until the user takes over ----------
+    def fit_scene(self, margin_px: float = 36.0) -> None:
+        super().fit_scene(margin_px)
+        self.auto_fit = True
+
+    def zoom_by(self, factor: float, anchor: QPoint | None = None) -> None:
+        self.auto_fit = False
+        super().zoom_by(factor, anchor)
+
+    def centre_on(self, xy: tuple[float, float]) -> None:
+        self.auto_fit = False
+        super().centre_on(xy)
+
+    def mousePressEvent(self, event: QMouseEvent) -> None:
+        if self._starts_pan(event):
+            self.auto_fit = False
+        super().mousePressEvent(event)
+
+    def resizeEvent(self, event: QResizeEvent) -> None:
+        super().resizeEvent(event)
+        if self.auto_fit and self.viewport().width() > 50 and self.viewport().height() > 50:
+            self.fit_scene()
 
     def _sync_scale(self) -> None:
         self.editor.set_grid_step(self.grid_step())
@@ -57,6 +82,8 @@ class EditorCanvas(SceneCanvas):
         av = ed.active_vertex
         layer.active_vertex = av[1] if av is not None and av[0] == single else None
         layer.preview = ed.tool.preview()
+        index = {lm.id: i for i, lm in enumerate(ed.scene.landmarks)}
+        layer.picked = tuple(index[i] for i in ed.goal_picks if i in index)
         layer.update()
         self.viewport().update()
 

@@ -10,6 +10,7 @@ from collections.abc import Callable
 from dataclasses import replace
 from typing import Any
 
+from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QComboBox, QFormLayout, QLabel, QScrollArea, QVBoxLayout, QWidget
 from shapely.geometry import Polygon
 
@@ -27,6 +28,8 @@ class PropertiesPanel(QScrollArea):
         super().__init__()
         self.editor = editor
         self.setWidgetResizable(True)
+        # Fields shrink to the dock; long read-only values wrap instead of scrolling sideways.
+        self.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
         self.fields: dict[str, Field] = {}
         self._key: ObjKey | None = None
         self._shape: tuple[Any, ...] = ()
@@ -126,6 +129,7 @@ class PropertiesPanel(QScrollArea):
     def _info(self, form: QFormLayout, label: str, getter: Callable[[Scene], str]) -> None:
         value = QLabel()
         value.setProperty("role", "muted")
+        value.setWordWrap(True)
         form.addRow(label, value)
         self._updaters.append(lambda scene: value.setText(getter(scene)))
 

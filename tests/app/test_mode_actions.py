@@ -83,6 +83,7 @@ def test_zoom_actions_act_on_the_visible_canvas(make_window, tmp_path):
 
     win.actions_by_id["mode.layout"].trigger()
     assert win.mode == "layout"
+    editor_ppm = win.canvas.pixels_per_metre()  # shown again: it refits to its new size
     win.actions_by_id["view.zoom_out"].trigger()
     assert abs(win.canvas.pixels_per_metre() / editor_ppm - 0.8) < 1e-6
 
