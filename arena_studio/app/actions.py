@@ -187,6 +187,15 @@ ACTIONS: tuple[ActionSpec, ...] = (
         checkable=True,
         modes=LAYOUT,
     ),
+    ActionSpec(
+        "tool.goal_pick",
+        "Pick Goal Landmarks",
+        (),
+        "Tools",
+        checkable=True,
+        tip="Click landmarks on the canvas to build an explicit goal (Goals panel)",
+        modes=LAYOUT,
+    ),
 )
 
 MENUS: tuple[str, ...] = ("File", "Edit", "View", "Tools")

@@ -22,12 +22,14 @@ class Editor(QObject):
     tool_changed = Signal(str)
     preview_changed = Signal()
     status_message = Signal(str)
+    goal_picks_changed = Signal()  # landmarks picked for a new explicit goal
 
     def __init__(self, document: SceneDocument) -> None:
         super().__init__()
         self.document = document
         self._selection: tuple[ObjKey, ...] = ()
         self.active_vertex: tuple[ObjKey, int] | None = None
+        self.goal_picks: tuple[str, ...] = ()  # landmark ids, in the order picked
         self.snap_settings = SnapSettings()
         self.snap_tolerance = 0.15  # metres; the canvas updates it from the zoom
         self._grid_step = 0.5  # metres; the canvas updates it from the zoom
@@ -109,7 +111,57 @@ class Editor(QObject):
         new = edits.move_objects(self.scene, self._selection, dx_steps * step, dy_steps * step)
         self.apply(new, "Nudge")
 
+    # -- explicit goals picked on the canvas -------------------------------------------
+    def toggle_goal_pick(self, landmark_id: str) -> None:
+        picks = list(self.goal_picks)
+        picks.remove(landmark_id) if landmark_id in picks else picks.append(landmark_id)
+        self.goal_picks = tuple(picks)
+        names = {lm.id: lm.label or lm.id for lm in self.scene.landmarks}
+        if picks:
+            self.message(
+                "New goal: " + " + ".join(names.get(i, i) for i in picks) + " (Enter adds it)"
+            )
+        else:
+            self.message("No landmarks picked")
+        self.goal_picks_changed.emit()
+
+    def clear_goal_picks(self) -> bool:
+        if not self.goal_picks:
+            return False
+        self.goal_picks = ()
+        self.goal_picks_changed.emit()
+        return True
+
+    def commit_goal_picks(self) -> bool:
+        """Add the picked landmarks as an explicit goal; the picks clear for the next one."""
+        if not self.goal_picks:
+            self.message("Pick landmarks first: click them on the canvas.")
+            return False
+        added = self.add_goal(self.goal_picks)
+        if added:
+            self.clear_goal_picks()
+        return added
+
+    def add_goal(self, landmark_ids: tuple[str, ...] | set[str]) -> bool:
+        """One undoable edit adding the goal with exactly these targets; False if listed."""
+        scene = self.scene
+        vec = tuple(1 if lm.id in landmark_ids else 0 for lm in scene.landmarks)
+        if not any(vec):
+            return False
+        g = scene.goals
+        if vec in g.vectors:
+            self.message("That goal is already listed.")
+            return False
+        vw = (*g.vector_weights, 1.0) if g.vector_weights is not None else None
+        self.apply(edits.set_goals(scene, vectors=(*g.vectors, vec), vector_weights=vw), "Add goal")
+        self.message(f"Added a goal with {sum(vec)} target{'s' if sum(vec) > 1 else ''}.")
+        return True
+
     def _prune(self) -> None:
+        ids = {lm.id for lm in self.scene.landmarks}
+        if any(i not in ids for i in self.goal_picks):
+            self.goal_picks = tuple(i for i in self.goal_picks if i in ids)
+            self.goal_picks_changed.emit()
         present = set(edits.keys_of(self.scene))
         kept = tuple(k for k in self._selection if k in present)
         if self.active_vertex is not None:

@@ -39,6 +39,11 @@ RULE_TITLES = {
     "all_visited": "Every target visited at some point",
 }
 MAX_K = 4
+PICK_HINT = (
+    "Press Pick on canvas and click landmarks to build a goal, then Add goal (or Enter). "
+    "Shift-clicking landmarks with the select tool works too. Choose a goal in the list "
+    "below to remove it or change its weight."
+)
 
 
 def _heading(text: str) -> QLabel:
@@ -77,30 +82,62 @@ class GoalsPanel(QWidget):
 
         lay.addWidget(_heading("Goal families (every combination of k landmarks)"))
         grid = QGridLayout()
+        grid.setHorizontalSpacing(8)
         self.family_boxes: dict[int, QCheckBox] = {}
         self.family_weights: dict[int, NumberField] = {}
         for k in range(1, MAX_K + 1):
             box = QCheckBox(f"{k}-hot")
             box.setObjectName(f"family_{k}")
             box.toggled.connect(lambda on, k=k: self._family_toggled(k, on))
-            weight = NumberField("weight", minimum=0.0)
+            weight = NumberField("", minimum=0.0)
+            weight.setToolTip(f"Sampling weight of each {k}-hot goal")
+            weight.setMaximumWidth(70)
             weight.committed.connect(lambda v, k=k: self._family_weight(k, v))
-            grid.addWidget(box, k - 1, 0)
-            grid.addWidget(weight, k - 1, 1)
+            row, col = divmod(k - 1, 2)  # two families a row: the goal list keeps the room
+            grid.addWidget(box, row, 2 * col)
+            grid.addWidget(weight, row, 2 * col + 1)
             self.family_boxes[k] = box
             self.family_weights[k] = weight
+        grid.setColumnStretch(0, 1)
+        grid.setColumnStretch(2, 1)
         lay.addLayout(grid)
 
         lay.addWidget(_heading("Explicit goals"))
+        self.pick_hint = QLabel(PICK_HINT)
+        self.pick_hint.setObjectName("goal_pick_hint")
+        self.pick_hint.setWordWrap(True)
+        self.pick_hint.setProperty("role", "muted")
+        lay.addWidget(self.pick_hint)
         buttons = QHBoxLayout()
-        self.add_button = QPushButton("Add from selected landmarks")
-        self.add_button.setToolTip("Shift-click landmarks on the canvas, then add them as a goal")
+        self.pick_button = QPushButton("Pick on canvas")
+        self.pick_button.setObjectName("goal_pick")
+        self.pick_button.setCheckable(True)
+        self.pick_button.setToolTip(
+            "While on, clicking a landmark on the canvas puts it in the new goal (or takes it "
+            "out); picked landmarks get a double ring with a plus. Enter or Add goal adds it."
+        )
+        self.pick_button.toggled.connect(self._pick_toggled)
+        self.add_button = QPushButton("Add goal")
+        self.add_button.setObjectName("goal_add")
+        self.add_button.setToolTip(
+            "Add the picked landmarks (or the landmarks selected with Shift-click) as one goal"
+        )
         self.add_button.clicked.connect(self.add_from_selection)
         self.remove_button = QPushButton("Remove")
+        self.remove_button.setObjectName("goal_remove")
+        self.remove_button.setToolTip(
+            "Remove the explicit goal chosen in the list below (goals from a k-hot family go "
+            "with their family's box)"
+        )
         self.remove_button.clicked.connect(self.remove_selected_vector)
+        buttons.addWidget(self.pick_button)
         buttons.addWidget(self.add_button, 1)
         buttons.addWidget(self.remove_button)
         lay.addLayout(buttons)
+        self.picked_label = QLabel()
+        self.picked_label.setObjectName("goal_picked")
+        self.picked_label.setWordWrap(True)
+        lay.addWidget(self.picked_label)
         weight_row = QFormLayout()
         self.vector_weight = NumberField("", minimum=0.0)
         self.vector_weight.setObjectName("goal_vector_weight")
@@ -130,6 +167,8 @@ class GoalsPanel(QWidget):
 
         editor.document.changed.connect(self.refresh)
         editor.selection_changed.connect(self._update_buttons)
+        editor.goal_picks_changed.connect(self._update_buttons)
+        editor.tool_changed.connect(self._tool_changed)
         self.refresh()
 
     # -- model -> widgets --------------------------------------------------------------
@@ -216,8 +255,19 @@ class GoalsPanel(QWidget):
         self.summary.setText(text)
 
     def _update_buttons(self) -> None:
-        picked = [k for k in self.editor.selection() if k[0] == "landmarks"]
+        picked = self._pending_ids()
         self.add_button.setEnabled(bool(picked))
+        names = {lm.id: lm.label or lm.id for lm in self.editor.scene.landmarks}
+        if self.editor.goal_picks:
+            text = "New goal: " + " + ".join(names.get(i, i) for i in picked)
+        elif self.pick_button.isChecked():
+            text = "New goal: click landmarks on the canvas."
+        elif picked:
+            text = "Selected: " + " + ".join(names.get(i, i) for i in picked)
+        else:
+            text = ""
+        self.picked_label.setText(text)
+        self.picked_label.setVisible(bool(text))
         row = self._current_row()
         idx = None if row is None else self._explicit_index(row)
         self.remove_button.setEnabled(idx is not None)
@@ -259,19 +309,29 @@ class GoalsPanel(QWidget):
             f"Weight of {k}-hot goals",
         )
 
+    def _pending_ids(self) -> tuple[str, ...]:
+        """The landmarks "Add goal" would use: the canvas picks, else the selected ones."""
+        if self.editor.goal_picks:
+            return self.editor.goal_picks
+        return tuple(oid for g, oid in self.editor.selection() if g == "landmarks")
+
     def add_from_selection(self) -> None:
-        scene = self.editor.scene
-        ids = {oid for g, oid in self.editor.selection() if g == "landmarks"}
-        vec = tuple(1 if lm.id in ids else 0 for lm in scene.landmarks)
-        if not any(vec):
-            return
-        g = scene.goals
-        if vec in g.vectors:
-            self.editor.message("That goal is already listed.")
-            return
-        vw = (*g.vector_weights, 1.0) if g.vector_weights is not None else None
-        new = edits.set_goals(scene, vectors=(*g.vectors, vec), vector_weights=vw)
-        self.editor.apply(new, "Add goal")
+        if self.editor.goal_picks:
+            self.editor.commit_goal_picks()
+        else:
+            self.editor.add_goal(set(self._pending_ids()))
+
+    def _pick_toggled(self, on: bool) -> None:
+        want = "tool.goal_pick" if on else "tool.select"
+        if on or self.editor.tool.name == "tool.goal_pick":
+            self.editor.set_tool(want)
+        self._update_buttons()
+
+    def _tool_changed(self, name: str) -> None:
+        self.pick_button.blockSignals(True)
+        self.pick_button.setChecked(name == "tool.goal_pick")
+        self.pick_button.blockSignals(False)
+        self._update_buttons()
 
     def _vector_weight(self, value: float) -> None:
         row = self._current_row()

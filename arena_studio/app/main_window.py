@@ -185,6 +185,7 @@ class MainWindow(QMainWindow):
                     "edit.snap",
                     "view.dark",
                     "mode.layout",
+                    "tool.goal_pick",
                 ):
                     menu.addSeparator()
                 menu.addAction(act)

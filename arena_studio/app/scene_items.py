@@ -86,6 +86,7 @@ class SceneLayer(QGraphicsItem):
         self.findings: list[object] = []
         self.preview: Preview | None = None
         self.highlight: tuple[int, ...] = ()  # landmark indices of a goal being shown
+        self.picked: tuple[int, ...] = ()  # landmark indices picked for a new goal
         # The static scene is drawn by the same painter as stills and clips.
         self.options = SceneOptions(grid=True, scale_bar=False, fill_background=False)
         self.show_agent_ids = True  # the replay viewer may label agents its own way
@@ -108,6 +109,7 @@ class SceneLayer(QGraphicsItem):
         if self.show_agent_ids:
             self._paint_agent_ids(painter)
         self._paint_highlight(painter)
+        self._paint_picked(painter)
         self._paint_selection(painter)
         self._paint_findings(painter)
         self._paint_preview(painter)
@@ -135,6 +137,26 @@ class SceneLayer(QGraphicsItem):
             if i < len(self.scene_value.landmarks):
                 x, y = self.scene_value.landmarks[i].position
                 painter.drawEllipse(QPointF(x, y), 11 * mpp, 11 * mpp)
+
+    def _paint_picked(self, painter: QPainter) -> None:
+        """Landmarks in the pending goal: a double ring with a plus, unlike a shown goal."""
+        mpp = metres_per_pixel(painter)
+        color = self.theme.qcolor("target_highlight")
+        painter.setBrush(Qt.BrushStyle.NoBrush)
+        for i in self.picked:
+            if i >= len(self.scene_value.landmarks):
+                continue
+            x, y = self.scene_value.landmarks[i].position
+            painter.setPen(pen(color, 2.5))
+            painter.drawEllipse(QPointF(x, y), 12 * mpp, 12 * mpp)
+            painter.drawEllipse(QPointF(x, y), 17 * mpp, 17 * mpp)
+            cx, cy, r = x + 17 * mpp, y + 17 * mpp, 7 * mpp  # a "+" badge up and right
+            painter.setBrush(color)
+            painter.setPen(pen(self.theme.qcolor("background"), 1.5))
+            painter.drawEllipse(QPointF(cx, cy), r, r)
+            painter.drawLine(QPointF(cx - 0.6 * r, cy), QPointF(cx + 0.6 * r, cy))
+            painter.drawLine(QPointF(cx, cy - 0.6 * r), QPointF(cx, cy + 0.6 * r))
+            painter.setBrush(Qt.BrushStyle.NoBrush)
 
     def _paint_selection(self, painter: QPainter) -> None:
         mpp = metres_per_pixel(painter)

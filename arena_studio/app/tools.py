@@ -426,4 +426,7 @@ def make_tools(host: ToolHost) -> dict[str, Tool]:
         StartPoseTool(host),
         PolygonTool(host, "tool.start_region", "Start region", "region"),
     ]
+    from .goal_pick import GoalPickTool  # its own module; it needs the host's goal picks
+
+    tools.append(GoalPickTool(host))  # type: ignore[arg-type]
     return {t.name: t for t in tools}
