@@ -191,7 +191,9 @@ def diagnose_block(
     dup_last = dup[last].tolist()
     dup_start = (np.maximum.reduceat(np.where(dup, floor, idx), starts) + 1 - starts).tolist()
     first_cov = np.minimum.reduceat(np.where(count > 0, idx[:, None], n_rows), starts, axis=0)
-    all_reached = (~tmask | (first_cov < ends[:, None])).all(axis=1).tolist()
+    all_reached: list[bool] = np.asarray(
+        (~tmask | (first_cov < ends[:, None])).all(axis=1)
+    ).tolist()
     last_reached = (np.where(tmask, first_cov, -1).max(axis=1) - starts).tolist()
     end_count = count[last].tolist()  # (E, L)
     still_start = (

@@ -4,9 +4,12 @@ Testing millions of recorded centres one by one against a prepared polygon costs
 a point. Most centres lie far from any wall, so the bounding box of the geometry is cut into
 a grid once; each cell (grown by :data:`CELL_MARGIN`) is classified with GEOS as *covered*
 (every point of it lies in the geometry), *disjoint* (none does) or *mixed*. A point in a
-covered or disjoint cell gets its answer from the table; a point in a mixed cell, outside the
-grid's rows and columns by rounding, or not finite, is asked of GEOS itself. The answers are
-therefore the same as ``shapely.intersects_xy(geometry, x, y)`` point for point.
+covered or disjoint cell gets its answer from the table; a point in a mixed cell, or not
+finite, is asked of GEOS itself. A point off the grid is clamped into an edge cell, which
+reaches past the geometry's bounds and so is never covered: the point is either in a
+disjoint cell (and, being beyond the bounds, outside) or asked of GEOS. The answers are
+therefore the same as ``shapely.intersects_xy(geometry, x, y)`` point for point
+(tests/core/test_tape_bulk.py checks them against GEOS near every boundary).
 """
 
 from __future__ import annotations

@@ -6,8 +6,9 @@ makes a few hundred calls per episode. Here the poses of consecutive episodes ar
 end into one (sum T, A, 3) array; coverage, success (:func:`observe.goal_reached_batch`),
 speeds, overlaps and free-space tests run once over it, and per-episode results come out of
 segment reductions (``reduceat`` over episode start rows, running maxima that restart at each
-start). Float sums are taken per episode slice in the same order as the per-episode path,
-so the two agree exactly (tests/core/test_metrics_batch.py checks every field).
+start). Path lengths are running sums over each episode's slice, as in the per-episode path,
+so the two agree exactly (tests/core/test_metrics.py checks every field; the diagnoses come
+from :func:`diagnosis.diagnose_block`, the batched twin of ``diagnose``).
 
 ``tape_metrics(tape)`` reads a tape in blocks of whole episodes (one file read per block,
 array bytes not copied) and is what ``arena-studio stats`` uses.
@@ -149,7 +150,7 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
     has_goal = goal_rows.any(axis=1)
     # only landmarks some episode is judged on, or all when one is misaligned (its diagnosis
     # looks for landmarks outside the goal); the rest stay False and are never read
-    needed = goal_rows.any(axis=0)
+    needed = np.asarray(goal_rows.any(axis=0))
     if any(a is False and t is not None for a, t in zip(aligned, targets_of, strict=True)):
         needed[:] = True
     cover = coverage_planes(scene, xa, ya, only=needed).transpose(2, 1, 0)  # (N, A, L) view
@@ -183,7 +184,7 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
         xy = poses[at_row, :, :2]
         d = np.hypot(xy[:, :, 0, None] - lm_pos[:, 0], xy[:, :, 1, None] - lm_pos[:, 1])
         who = np.where(c_at, d, np.inf).argmin(axis=1)  # (E, L)
-        visited = c_at.any(axis=1)
+        visited = np.asarray(c_at.any(axis=1))
 
     # motion -----------------------------------------------------------------------------------
     seg = np.empty((n_agents, 0))
@@ -278,7 +279,7 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
         if par is not None and tts is not None:
             ratio = par / tts if tts > 0 else (1.0 if par == 0 else None)
         kind = None if targets is None else ("individual" if len(targets) == 1 else "cooperative")
-        d = found[e]
+        diag = found[e]
         out.append(
             EpisodeMetrics(
                 index=ep.index,
@@ -298,9 +299,9 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
                 collisions=len(pairs),
                 free_space_exits=exits_list[e],
                 still_time=tuple(still_time[e]),
-                diagnosis=None if d is None else d.text,
-                diagnosis_code=None if d is None else d.code,
-                diagnosis_step=None if d is None else d.step,
+                diagnosis=None if diag is None else diag.text,
+                diagnosis_code=None if diag is None else diag.code,
+                diagnosis_step=None if diag is None else diag.step,
                 complete=ep.complete,
                 collision_pairs=pairs,
             )
