@@ -38,6 +38,7 @@ class EpisodeCache:
     collisions: np.ndarray  # (K, 4) float64: step, x, y, kind (0 agent-agent, 1 wall)
     par_paths: list[np.ndarray] | None = None  # per agent world polylines (lazy)
     _par_done: bool = field(default=False, repr=False)
+    _groups: dict[int, list[np.ndarray]] = field(default_factory=dict, repr=False)
 
     @property
     def steps(self) -> int:
@@ -46,6 +47,19 @@ class EpisodeCache:
     @property
     def agents(self) -> int:
         return int(self.xy.shape[1])
+
+    def group_xy(self, n_colors: int) -> list[np.ndarray]:
+        """World positions regrouped by identity colour: ``[g]`` is (agents of colour g, T, 2),
+        agent-major and contiguous, so a trail window of one colour is a plain slice (no
+        per-frame transpose of the whole (T, A, 2) block). Built once per palette size."""
+        groups = self._groups.get(n_colors)
+        if groups is None:
+            groups = [
+                np.ascontiguousarray(self.xy[:, g::n_colors].transpose(1, 0, 2))
+                for g in range(min(n_colors, self.agents))
+            ]
+            self._groups[n_colors] = groups
+        return groups
 
     def par_time_paths(self) -> list[np.ndarray] | None:
         """Par-time paths of the team goal (core.partime), computed on first use."""

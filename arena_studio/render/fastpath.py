@@ -14,6 +14,8 @@ from PySide6.QtCore import QByteArray, QDataStream, QIODevice
 from PySide6.QtGui import QPainterPath
 
 _ELEMENT = np.dtype([("type", ">i4"), ("x", ">f8"), ("y", ">f8")])
+#: the same record in the machine's byte order, read by a stream set to that order (no swap)
+_NATIVE = np.dtype([("type", "=i4"), ("x", "=f8"), ("y", "=f8")])
 _MOVE_TO, _LINE_TO = 0, 1
 
 
@@ -65,3 +67,45 @@ def segments_path(a: np.ndarray, b: np.ndarray) -> QPainterPath:
     starts = np.zeros(len(xy), dtype=bool)
     starts[0::2] = True
     return polylines_path(xy, starts)
+
+
+def rows_path(world: np.ndarray, scale: float, offset_x: float, offset_y: float) -> QPainterPath:
+    """One path with one polyline per row of ``world`` ((R, N, 2) metres, y up), mapped to
+    pixels as ``ViewTransform.map_array`` does (same arithmetic, so the same pixels).
+
+    The trail hot path: elements are written in native byte order straight from the strided
+    window (no transpose, no per-point flags) and read by a stream set to that order.
+    """
+    rows, n = world.shape[:2]
+    if rows == 0 or n == 0:
+        return QPainterPath()
+    if not np.isfinite(world.sum()):
+        starts = np.zeros((rows, n), dtype=bool)
+        starts[:, 0] = True
+        px = np.empty(world.shape, dtype=np.float64)
+        px[..., 0] = offset_x + scale * world[..., 0]
+        px[..., 1] = offset_y - scale * world[..., 1]
+        return polylines_path(px.reshape(-1, 2), starts.reshape(-1))
+    total = rows * n
+    buf = np.empty(4 + 20 * total + 8, dtype=np.uint8)
+    buf[:4].view("=i4")[0] = total
+    elements = buf[4 : 4 + 20 * total].view(_NATIVE).reshape(rows, n)
+    elements["type"] = _LINE_TO
+    elements["type"][:, 0] = _MOVE_TO
+    elements["x"] = offset_x + scale * world[..., 0]
+    elements["y"] = offset_y - scale * world[..., 1]
+    tail = buf[4 + 20 * total :].view("=i4")
+    tail[0] = (rows - 1) * n  # start of the last subpath
+    tail[1] = 0  # Qt::OddEvenFill
+    path = QPainterPath()
+    data = QByteArray(buf.tobytes())
+    stream = QDataStream(data, QIODevice.OpenModeFlag.ReadOnly)
+    stream.setByteOrder(_NATIVE_ORDER)
+    stream >> path
+    del stream
+    return path
+
+
+_NATIVE_ORDER = (
+    QDataStream.ByteOrder.LittleEndian if np.little_endian else QDataStream.ByteOrder.BigEndian
+)
