@@ -12,12 +12,15 @@ from __future__ import annotations
 import contextlib
 import errno
 import os
+import queue
 import shutil
 import subprocess
 import tempfile
+import threading
 from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass, field, replace
 from pathlib import Path
+from typing import IO
 
 from PySide6.QtCore import QSize
 from PySide6.QtGui import QImage, QPainter
@@ -34,6 +37,9 @@ SIZE_PRESETS: dict[str, tuple[int, int]] = {
     "square": (1080, 1080),
 }
 FORMATS = (".mp4", ".gif", "folder of PNGs (a path without extension)")
+
+#: images in the painter's ring when piping: one painted, one queued, one being written
+PIPE_BUFFERS = 3
 
 ProgressFn = Callable[[int, int], None]
 CancelFn = Callable[[], bool]
@@ -160,10 +166,19 @@ def schedule(episodes: Sequence[Episode], spec: ClipSpec) -> list[Shot]:
 
 
 class ClipPainter:
-    """Renders shots to one reusable image (side by side when comparing)."""
+    """Renders shots into a small ring of images (side by side when comparing).
+
+    The image :meth:`render` returns stays untouched for the next ``buffers - 1`` calls, so
+    a writer thread can pipe it to the encoder while the following frames are painted.
+    """
 
     def __init__(
-        self, scene: Scene, episodes: Sequence[Episode], spec: ClipSpec, size: tuple[int, int]
+        self,
+        scene: Scene,
+        episodes: Sequence[Episode],
+        spec: ClipSpec,
+        size: tuple[int, int],
+        buffers: int = 1,
     ) -> None:
         self.episodes = list(episodes)
         self.spec = spec
@@ -176,19 +191,21 @@ class ClipPainter:
                 FrameRenderer(scene, (width, h), replace(spec.frame, title=_side_title(spec, ep)))
                 for width, ep in ((half, episodes[0]), (w - half, episodes[1]))
             ]
-            self.image = QImage(QSize(w, h), IMAGE_FORMAT)
         else:
             self.parts = [FrameRenderer(scene, size, spec.frame)]
-            self.image = QImage()
+        self._ring = [QImage(QSize(w, h), IMAGE_FORMAT) for _ in range(max(1, buffers))]
+        self._next = 0
 
     def render(self, shot: Shot) -> QImage:
+        image = self._ring[self._next]
+        self._next = (self._next + 1) % len(self._ring)
         if not self.spec.compare:
             r = self.parts[0]
             ep = self.episodes[shot.episode]
             if shot.card:
-                return r.render_card(ep, self.spec.frame.title or "", _subtitle(ep))
-            return r.render(ep, shot.steps[0])
-        painter = QPainter(self.image)
+                return r.render_card(ep, self.spec.frame.title or "", _subtitle(ep), image)
+            return r.render(ep, shot.steps[0], image)
+        painter = QPainter(image)
         try:
             x = 0
             for r, ep, step in zip(self.parts, self.episodes, shot.steps, strict=True):
@@ -204,7 +221,7 @@ class ClipPainter:
             painter.drawLine(half, 0, half, self.size[1])
         finally:
             painter.end()
-        return self.image
+        return image
 
 
 def _side_title(spec: ClipSpec, ep: Episode) -> str:
@@ -237,13 +254,13 @@ def export_clip(
         from .frame import ui_scale_for
 
         spec = replace(spec, frame=replace(spec.frame, ui_scale=ui_scale_for(size, spec.frame)))
-    painter = ClipPainter(scene, episodes, spec, size)
-    frames = _frames(painter, shots, progress, cancel)
     if kind == "png":
-        _write_png_folder(target, frames)
+        painter = ClipPainter(scene, episodes, spec, size)
+        _write_png_folder(target, _frames(painter, shots, progress, cancel))
     else:
         exe = ffmpeg_exe()
-        _write_ffmpeg(exe, target, kind, size, spec, frames)
+        painter = ClipPainter(scene, episodes, spec, size, buffers=PIPE_BUFFERS)
+        _write_ffmpeg(exe, target, kind, size, spec, _frames(painter, shots, progress, cancel))
     return ClipResult(target, len(shots), size, spec.fps, notes)
 
 
@@ -301,12 +318,7 @@ def _write_ffmpeg(
     )
     assert proc.stdin is not None and proc.stderr is not None
     try:
-        try:
-            for image in frames:
-                proc.stdin.write(image.constBits())  # bgra rows, no copy
-            proc.stdin.close()
-        except BrokenPipeError:
-            pass  # ffmpeg stopped early; its stderr says why
+        _pipe_frames(proc.stdin, frames)
         err = proc.stderr.read().decode("utf-8", "replace").strip()
         code = proc.wait()
         if code != 0:
@@ -326,6 +338,45 @@ def _write_ffmpeg(
         for pipe in (proc.stdin, proc.stderr):
             with contextlib.suppress(Exception):
                 pipe.close()
+
+
+def _pipe_frames(stdin: IO[bytes], frames: Iterator[QImage]) -> None:
+    """Write frames to ffmpeg from a second thread while this one paints the next frames.
+
+    The pipe write releases the GIL and so do QPainter's calls, so painting overlaps the
+    copy into the pipe (and ffmpeg's work on the other core) instead of waiting for it. The
+    queue holds at most one frame, so with :data:`PIPE_BUFFERS` images in the painter's ring
+    the one being painted is never one still queued or being written.
+    """
+    pending: queue.Queue[QImage | None] = queue.Queue(maxsize=PIPE_BUFFERS - 2)
+    broken: list[BaseException] = []
+
+    def writer() -> None:
+        while True:
+            image = pending.get()
+            if image is None:
+                return
+            if broken:
+                continue  # ffmpeg stopped: keep draining so the painter never blocks
+            try:
+                stdin.write(image.constBits())  # bgra rows, no copy
+            except BaseException as exc:  # BrokenPipeError: ffmpeg stopped, stderr says why
+                broken.append(exc)
+
+    thread = threading.Thread(target=writer, name="clip-pipe", daemon=True)
+    thread.start()
+    try:
+        for image in frames:
+            pending.put(image)
+            if broken:
+                break  # no point painting frames nobody reads
+    finally:
+        pending.put(None)
+        thread.join()
+    if broken and not isinstance(broken[0], BrokenPipeError):
+        raise broken[0]
+    with contextlib.suppress(BrokenPipeError):
+        stdin.close()
 
 
 def _temp_name(target: Path) -> Path:

@@ -205,23 +205,34 @@ class FrameRenderer:
             self._static, self._static_for = img, episode
         return self._static
 
-    def render(self, episode: Episode, step: int) -> QImage:
+    def new_image(self) -> QImage:
+        """An image of this renderer's size and format, to pass as ``into``."""
+        return QImage(QSize(*self.layout.size), IMAGE_FORMAT)
+
+    def render(self, episode: Episode, step: int, into: QImage | None = None) -> QImage:
+        """Paint the frame into ``into`` (from :meth:`new_image`) or the internal image.
+
+        Clip export passes its own rotating images so one frame can be piped to the encoder
+        while the next is painted."""
         static = self._static_layer(episode)
-        painter = QPainter(self._image)
+        target = self._image if into is None else into
+        painter = QPainter(target)
         try:
             painter.drawImage(0, 0, static)
             paint_dynamic(painter, self.scene, episode, step, self.layout, self.theme, self.options)
         finally:
             painter.end()
-        return self._image
+        return target
 
-    def render_card(self, episode: Episode, title: str, subtitle: str) -> QImage:
+    def render_card(
+        self, episode: Episode, title: str, subtitle: str, into: QImage | None = None
+    ) -> QImage:
         """A title card: the first frame dimmed, with a large title and one line below."""
         from .episode_painter import paint_banner as banner
 
-        self.render(episode, 0)
+        target = self.render(episode, 0, into)
         w, h = self.layout.size
-        painter = QPainter(self._image)
+        painter = QPainter(target)
         veil = QColor(self.theme.qcolor("background"))
         veil.setAlphaF(0.82)
         painter.fillRect(QRectF(0, 0, w, h), veil)
@@ -232,7 +243,7 @@ class FrameRenderer:
                 painter, QRectF(0, h / 2 + 0 * ui, w, 30 * ui), subtitle, self.theme, 15 * ui, False
             )
         painter.end()
-        return self._image
+        return target
 
 
 def render_frame(
