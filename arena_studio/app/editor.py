@@ -23,6 +23,7 @@ class Editor(QObject):
     preview_changed = Signal()
     status_message = Signal(str)
     goal_picks_changed = Signal()  # landmarks picked for a new explicit goal
+    goal_added = Signal(tuple)  # the goal vector just added (the Goals panel shows it)
 
     def __init__(self, document: SceneDocument) -> None:
         super().__init__()
@@ -155,6 +156,7 @@ class Editor(QObject):
         vw = (*g.vector_weights, 1.0) if g.vector_weights is not None else None
         self.apply(edits.set_goals(scene, vectors=(*g.vectors, vec), vector_weights=vw), "Add goal")
         self.message(f"Added a goal with {sum(vec)} target{'s' if sum(vec) > 1 else ''}.")
+        self.goal_added.emit(vec)
         return True
 
     def _prune(self) -> None:

@@ -40,9 +40,8 @@ RULE_TITLES = {
 }
 MAX_K = 4
 PICK_HINT = (
-    "Press Pick on canvas and click landmarks to build a goal, then Add goal (or Enter). "
-    "Shift-clicking landmarks with the select tool works too. Choose a goal in the list "
-    "below to remove it or change its weight."
+    "Pick on canvas, click landmarks, then Add goal (or Enter). "
+    "Choose a goal in the list to remove it or set its weight."
 )
 
 
@@ -161,6 +160,7 @@ class GoalsPanel(QWidget):
         header.setSectionResizeMode(0, QHeaderView.ResizeMode.Stretch)
         for c in (1, 2, 3):
             header.setSectionResizeMode(c, QHeaderView.ResizeMode.ResizeToContents)
+        self.table.setMinimumHeight(150)  # a few rows always show (the dock scrolls)
         self.table.itemSelectionChanged.connect(self._row_selected)
         lay.addWidget(self.table, 1)
         self._rows: list[Any] = []
@@ -169,6 +169,7 @@ class GoalsPanel(QWidget):
         editor.selection_changed.connect(self._update_buttons)
         editor.goal_picks_changed.connect(self._update_buttons)
         editor.tool_changed.connect(self._tool_changed)
+        editor.goal_added.connect(self.show_goal)
         self.refresh()
 
     # -- model -> widgets --------------------------------------------------------------
@@ -326,6 +327,14 @@ class GoalsPanel(QWidget):
         if on or self.editor.tool.name == "tool.goal_pick":
             self.editor.set_tool(want)
         self._update_buttons()
+
+    def show_goal(self, vector: tuple[int, ...]) -> None:
+        """Choose ``vector``'s row and scroll to it (a goal just added is at the end)."""
+        for i, row in enumerate(self._rows):
+            if row.vector == tuple(vector):
+                self.table.selectRow(i)
+                self.table.scrollToItem(self.table.item(i, 0))
+                return
 
     def _tool_changed(self, name: str) -> None:
         self.pick_button.blockSignals(True)

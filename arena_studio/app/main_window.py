@@ -11,13 +11,23 @@ from collections.abc import Callable
 from pathlib import Path
 
 from PySide6.QtCore import QByteArray, QSettings, QStandardPaths, Qt, QTimer
-from PySide6.QtGui import QAction, QActionGroup, QCloseEvent, QDragEnterEvent, QDropEvent
+from PySide6.QtGui import (
+    QAction,
+    QActionGroup,
+    QCloseEvent,
+    QDragEnterEvent,
+    QDropEvent,
+    QShowEvent,
+)
 from PySide6.QtWidgets import (
     QApplication,
     QDockWidget,
+    QFrame,
     QLabel,
     QMainWindow,
     QMenu,
+    QScrollArea,
+    QSizePolicy,
     QStackedWidget,
     QToolBar,
     QWidget,
@@ -77,6 +87,8 @@ class MainWindow(QMainWindow):
         self.modes.addWidget(self.canvas)
         self._mode_pages: dict[str, QWidget] = {"layout": self.canvas}
         self.mode = "layout"
+        self.mode_shown = "layout"
+        self._layout_state: QByteArray | None = None
         self.setCentralWidget(self.modes)
         self.setAcceptDrops(True)
 
@@ -113,10 +125,21 @@ class MainWindow(QMainWindow):
         self.goals_panel = GoalsPanel(self.editor)
         self.findings_panel = FindingsPanel(self.theme)
         self.docks: dict[str, QDockWidget] = {}
+        goals_scroll = QScrollArea()  # a short window scrolls the panel instead of clipping it
+        goals_scroll.setWidgetResizable(True)
+        goals_scroll.setFrameShape(QFrame.Shape.NoFrame)
+        goals_scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        goals_scroll.setWidget(self.goals_panel)
+        right, bottom = (
+            Qt.DockWidgetArea.RightDockWidgetArea,
+            Qt.DockWidgetArea.BottomDockWidgetArea,
+        )
+        # Findings are one-line messages: a wide, low strip under the canvas suits them and
+        # leaves the right column's full height to Properties and Goals.
         for key, title, widget, area in (
-            ("properties", "Properties", self.properties, Qt.DockWidgetArea.RightDockWidgetArea),
-            ("goals", "Goals", self.goals_panel, Qt.DockWidgetArea.RightDockWidgetArea),
-            ("findings", "Findings", self.findings_panel, Qt.DockWidgetArea.RightDockWidgetArea),
+            ("properties", "Properties", self.properties, right),
+            ("goals", "Goals", goals_scroll, right),
+            ("findings", "Findings", self.findings_panel, bottom),
         ):
             dock = QDockWidget(title, self)
             dock.setObjectName(f"dock_{key}")
@@ -128,12 +151,10 @@ class MainWindow(QMainWindow):
             )
             self.addDockWidget(area, dock)
             self.docks[key] = dock
+        self.setCorner(Qt.Corner.BottomRightCorner, right)
         self.tabifyDockWidget(self.docks["properties"], self.docks["goals"])
         self.docks["properties"].raise_()
-        self.resizeDocks([self.docks["properties"]], [380], Qt.Orientation.Horizontal)
-        self.resizeDocks(
-            [self.docks["properties"], self.docks["findings"]], [640, 170], Qt.Orientation.Vertical
-        )
+        self._docks_sized = False  # sized on first show (sizes set earlier are lost)
 
     def _build_actions(self) -> None:
         menus = {name: self.menuBar().addMenu(f"&{name}") for name in MENUS}
@@ -490,6 +511,7 @@ class MainWindow(QMainWindow):
     def add_mode(self, name: str, widget: QWidget) -> None:
         """Add a page (e.g. replay) to the central area; switch with :meth:`set_mode`."""
         self._mode_pages[name] = widget
+        widget.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Ignored)
         self.modes.addWidget(widget)
         canvas = getattr(widget, "canvas", None)
         if isinstance(canvas, SceneCanvas):
@@ -500,12 +522,26 @@ class MainWindow(QMainWindow):
         """Show page ``name``; actions that do not work there are disabled."""
         if name not in self._mode_pages:
             return
-        self.mode = name
-        self.modes.setCurrentWidget(self._mode_pages[name])
         editing = name == "layout"
+        if not editing and self.mode_shown == "layout" and self.isVisible():
+            # Docks hidden and shown again come back at their minimum size: keep the layout.
+            self._layout_state = self.saveState()
+        self.mode = name
+        for page_name, page in self._mode_pages.items():
+            # A stacked widget is as large as its largest page's minimum, hidden or not;
+            # hidden pages must not squeeze the docks of the page on screen.
+            policy = (
+                QSizePolicy.Policy.Preferred if page_name == name else QSizePolicy.Policy.Ignored
+            )
+            page.setSizePolicy(policy, policy)
+        self.modes.setCurrentWidget(self._mode_pages[name])
         self.toolbars["tools"].setVisible(editing)
-        for key in ("properties", "goals"):
+        for key in ("properties", "goals", "findings"):
             self.docks[key].setVisible(editing)
+        if editing and self._layout_state is not None:
+            self.restoreState(self._layout_state)
+            self._layout_state = None
+        self.mode_shown = name
         self.actions_by_id[f"mode.{name}"].setChecked(True)
         self.coords_label.setText("x —  y —")
         self._show_zoom(self.visible_canvas(), self.visible_canvas().pixels_per_metre())
@@ -575,7 +611,7 @@ class MainWindow(QMainWindow):
             self.restoreGeometry(QByteArray(geometry))
         state = self.settings.value("window/state")
         if isinstance(state, QByteArray | bytes):
-            self.restoreState(QByteArray(state))
+            self._docks_sized = self.restoreState(QByteArray(state))  # the user's sizes
         snap = self.settings.value("prefs/snap", True)
         on = snap not in (False, "false", "0", 0)
         self.actions_by_id["edit.snap"].setChecked(on)
@@ -585,10 +621,24 @@ class MainWindow(QMainWindow):
 
     def save_settings(self) -> None:
         self.settings.setValue("window/geometry", self.saveGeometry())
-        self.settings.setValue("window/state", self.saveState())
+        # In another mode the editor's docks are hidden: keep the layout they had.
+        state = self._layout_state if self._layout_state is not None else self.saveState()
+        self.settings.setValue("window/state", state)
         self.settings.sync()
 
     # -- Qt events ---------------------------------------------------------------------
+    def showEvent(self, event: QShowEvent) -> None:
+        super().showEvent(event)
+        if not self._docks_sized:
+            self._docks_sized = True
+            QTimer.singleShot(0, self._size_docks)
+
+    def _size_docks(self) -> None:
+        """Right column about 30 % of the width (320-440 px), findings strip about 150 px."""
+        width = min(max(int(self.width() * 0.3), 320), 440)
+        self.resizeDocks([self.docks["properties"]], [width], Qt.Orientation.Horizontal)
+        self.resizeDocks([self.docks["findings"]], [150], Qt.Orientation.Vertical)
+
     def closeEvent(self, event: QCloseEvent) -> None:
         if not self.maybe_keep_changes():
             event.ignore()

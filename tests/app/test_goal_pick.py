@@ -56,6 +56,9 @@ def test_pick_landmarks_on_the_canvas_and_add_the_goal(qtbot, main_window):
     assert table.vectors.shape[0] == before + 1
     assert win.editor.goal_picks == () and win.canvas.layer.picked == ()
     assert win.editor.tool.name == "tool.goal_pick"  # ready for the next goal
+    chosen = panel.table.selectionModel().selectedRows()  # the new goal is shown in the list
+    assert [r.row() for r in chosen] == [table.vectors.shape[0] - 1]
+    assert panel.remove_button.isEnabled()
 
     win.document.undo_stack.undo()  # one undo step takes the goal back
     assert enumerate_goals(win.document.scene).vectors.shape[0] == before
