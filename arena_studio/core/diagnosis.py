@@ -181,16 +181,17 @@ def diagnose_block(
     for e in todo:
         tmask[e, list(goals[e] or ())] = True
     rows_mask = np.repeat(tmask, lengths, axis=0)  # (N, L)
-    count = np.zeros((n_rows, n_lm), dtype=np.int64)
+    count = np.zeros((n_rows, n_lm), dtype=np.uint8 if n_agents < 256 else np.int64)
     for a in range(n_agents):
         count += cover[:, a, :]
+    covered = count > 0
     if any(aligned[e] is False for e in todo):  # first step a landmark outside the goal is hit
-        off = ((count > 0) & ~rows_mask).any(axis=1)
+        off = _any_row(covered & ~rows_mask)
         off_first = (np.minimum.reduceat(np.where(off, idx, n_rows), starts) - starts).tolist()
-    dup = ((count >= 2) & rows_mask).any(axis=1) & ((count == 0) & rows_mask).any(axis=1)
+    dup = _any_row((count >= 2) & rows_mask) & _any_row(~covered & rows_mask)
     dup_last = dup[last].tolist()
     dup_start = (np.maximum.reduceat(np.where(dup, floor, idx), starts) + 1 - starts).tolist()
-    first_cov = np.minimum.reduceat(np.where(count > 0, idx[:, None], n_rows), starts, axis=0)
+    first_cov = np.minimum.reduceat(np.where(covered, idx[:, None], n_rows), starts, axis=0)
     all_reached: list[bool] = np.asarray(
         (~tmask | (first_cov < ends[:, None])).all(axis=1)
     ).tolist()
@@ -278,6 +279,14 @@ def diagnose_block(
                     break
         else:
             out[e] = Diagnosis("uncovered", f"targets left empty at the end: {empty_words}", t_end)
+    return out
+
+
+def _any_row(mask: np.ndarray) -> np.ndarray:
+    """``mask.any(axis=1)`` for an (N, L) mask with few columns, by element-wise ORs."""
+    out = mask[:, 0].copy() if mask.shape[1] else np.zeros(mask.shape[0], dtype=bool)
+    for k in range(1, mask.shape[1]):
+        out |= mask[:, k]
     return out
 
 

@@ -234,7 +234,10 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
         outside[a] = ~test.contains_xy(xa[a], ya[a])
     exits = np.add.reduceat(_seg_onsets(outside, starts).sum(axis=0), starts)
     still_counts = np.add.reduceat(still_an, starts, axis=1, dtype=np.int64).T  # (E, A)
-    on_rows, on_pair = np.nonzero(pair_on.T)  # row-major over (N, P): by step, then pair
+    if pair_on.any():
+        on_rows, on_pair = np.nonzero(pair_on.T)  # row-major over (N, P): by step, then pair
+    else:
+        on_rows = on_pair = np.zeros(0, dtype=np.intp)
     on_split = np.searchsorted(on_rows, ends)
 
     # assemble -----------------------------------------------------------------------------

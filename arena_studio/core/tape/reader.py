@@ -54,6 +54,8 @@ from .format import (
 
 #: chunk payloads at least this large are decoded without copying their array bytes
 ZERO_COPY_BYTES = 1 << 16
+#: checked goal vectors a Tape remembers (they repeat across episodes)
+GOAL_CACHE_SIZE = 4096
 #: smallest number of bytes one recorded step of one agent occupies (a float32 pose)
 MIN_STEP_BYTES = 12
 
@@ -104,6 +106,7 @@ class Tape:
     def __init__(self, path: Path) -> None:
         self.path = path
         self._src = str(path)
+        self._goal_cache: dict[bytes, np.ndarray] = {}
         try:
             self.file_size = os.path.getsize(path)
             with open(path, "rb") as f:
@@ -573,9 +576,20 @@ class Tape:
     def _goal(self, value: Any, where: str, n_lm: int) -> np.ndarray | None:
         if value is None:
             return None
+        # the same few goal vectors recur in every episode: remember the checked ones
+        key = None
+        if type(value) is dict and len(value) == 3:
+            data = value.get("data")
+            if type(data) is bytes and value.get("dtype") == "|u1" and value.get("shape") == [n_lm]:
+                key = data
+                known = self._goal_cache.get(key)
+                if known is not None:
+                    return known.copy()
         arr = self._array(value, where, GOAL_DTYPES, (n_lm,))
         if n_lm and max(value["data"]) > 1:  # |u1 bytes: a goal holds only 0 and 1
             raise TapeError(self._src, where, "a goal holds only 0 and 1")
+        if key is not None and len(self._goal_cache) < GOAL_CACHE_SIZE:
+            self._goal_cache[key] = arr.copy()
         return arr.copy()
 
     def _roles(self, value: Any, where: str, a: int) -> tuple[RoleTimeline, ...]:
