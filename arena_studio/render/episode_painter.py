@@ -26,6 +26,7 @@ from PySide6.QtGui import (
     QColor,
     QFontMetricsF,
     QImage,
+    QPaintEngine,
     QPainter,
     QPen,
     QStaticText,
@@ -107,6 +108,18 @@ def paint_episode_frame(
     painter.restore()
 
 
+def blits_exactly(painter: QPainter) -> bool:
+    """True when pre-drawn sprites can stand in for shapes: a raster device (image, widget
+    backing store) with no scaling between painter and pixels. Vector output (SVG keeps text
+    as text), printers and HiDPI or zoomed painters draw every shape instead."""
+    engine = painter.paintEngine()
+    return (
+        engine is not None
+        and engine.type() == QPaintEngine.Type.Raster
+        and painter.deviceTransform().type() == QTransform.TransformationType.TxNone
+    )
+
+
 # -- overlays ----------------------------------------------------------------------------------
 def paint_par_paths(
     painter: QPainter, cache: EpisodeCache, view: ViewTransform, theme: Theme, ui: float
@@ -132,7 +145,7 @@ def paint_targets(
     image each state is drawn once into a sprite aligned to the pixel grid and blitted after
     (the dashed wide ring and the label cost ~0.1 ms a target a frame otherwise)."""
     scene = cache.scene
-    raster = isinstance(painter.device(), QImage)
+    raster = blits_exactly(painter)
     for l_idx in np.flatnonzero(cache.team):
         lm = scene.landmarks[l_idx]
         c = view.to_px(*lm.position)
@@ -367,7 +380,7 @@ def paint_agents(
 ) -> None:
     """Bodies, role marks, heading ticks and numbers.
 
-    On a raster image with many agents each (colour, role, size) body is drawn once into a
+    On a raster device with many agents each (colour, role, size) body is drawn once into a
     small sprite and blitted (an antialiased ellipse costs ~30 us, a blit ~3 us); vector
     output (SVG) and small teams draw every shape.
     """
@@ -377,7 +390,7 @@ def paint_agents(
     styles = agent_styles(cache, step, opts)
     ring_color = theme.qcolor("text")
     numbers = show_numbers(cache.agents, opts)
-    sprites = isinstance(painter.device(), QImage) and cache.agents > SPRITES_ABOVE
+    sprites = blits_exactly(painter) and cache.agents > SPRITES_ABOVE
     n_colors = len(theme.identity)
     if sprites:
         for a in range(cache.agents):
