@@ -122,6 +122,9 @@ class ReplayWindow(QMainWindow):
             QTimer.singleShot(0, self._size_docks)
 
     def _size_docks(self) -> None:
+        if not self.isVisible():  # hidden again before this ran (e.g. at start-up): next show
+            self._docks_sized = False
+            return
         h, w = self.height(), self.width()
         self.resizeDocks(
             [self.dock_plots, self.dock_batch],

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from PySide6.QtCore import QPointF, QRectF, QSize, Qt
 from PySide6.QtGui import QAction, QIcon, QPainter, QPainterPath, QPixmap
-from PySide6.QtWidgets import QComboBox, QHBoxLayout, QLabel, QToolButton, QWidget
+from PySide6.QtWidgets import QComboBox, QHBoxLayout, QLabel, QMenu, QToolButton, QWidget
 
 from ...render.theme import Theme, load_theme
 from .transport import SPEEDS, PlaybackClock
@@ -74,8 +74,8 @@ def _shape_icon(kind: str, theme: Theme) -> QIcon:
 
 
 def format_clock(step: int, steps: int, dt: float) -> str:
-    """``12.30 s / 40.00 s   step 123 / 400`` (steps counted from 0)."""
-    return f"{step * dt:6.2f} s / {max(steps - 1, 0) * dt:.2f} s    step {step} / {steps - 1}"
+    """`` 12.30 / 40.00 s   step 123/400`` (steps counted from 0)."""
+    return f"{step * dt:6.2f} / {max(steps - 1, 0) * dt:.2f} s   step {step}/{steps - 1}"
 
 
 class TransportBar(QWidget):
@@ -116,12 +116,20 @@ class TransportBar(QWidget):
         )
         layout.addWidget(self.speed_box)
         layout.addSpacing(10)
+        # One "Loop" button with the three loop actions keeps the bar narrow enough for a
+        # 1280 px wide window with the episode list open.
+        self.loop_button = QToolButton(self)
+        self.loop_button.setText("Loop")
+        self.loop_button.setToolTip("Loop a range: from here (L), to here (Shift+L), none (Alt+L)")
+        self.loop_button.setFocusPolicy(Qt.FocusPolicy.NoFocus)
+        self.loop_button.setToolButtonStyle(Qt.ToolButtonStyle.ToolButtonTextOnly)
+        self.loop_button.setPopupMode(QToolButton.ToolButtonPopupMode.InstantPopup)
+        loop_menu = QMenu(self.loop_button)
         for name in ("loop_start", "loop_end", "loop_clear"):
-            button = QToolButton(self)
-            button.setDefaultAction(actions[name])
-            button.setFocusPolicy(Qt.FocusPolicy.NoFocus)
-            button.setToolButtonStyle(Qt.ToolButtonStyle.ToolButtonTextOnly)
-            layout.addWidget(button)
+            loop_menu.addAction(actions[name])
+        self.loop_button.setMenu(loop_menu)
+        layout.addWidget(self.loop_button)
+        clock.loopChanged.connect(self._on_loop)
         layout.addStretch(1)
         self.readout = QLabel(self)
         self.readout.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
@@ -152,6 +160,15 @@ class TransportBar(QWidget):
         action = self._actions["play"]
         action.setIcon(_shape_icon("pause" if playing else "play", self._theme))
         action.setText("Pause" if playing else "Play")
+
+    def _on_loop(self, loop: object) -> None:
+        """The button says the range while a loop is set, so a loop is never a surprise."""
+        if isinstance(loop, tuple) and self._clock.dt > 0:
+            a, b = loop
+            dt = self._clock.dt
+            self.loop_button.setText(f"Loop {a * dt:.1f}–{b * dt:.1f} s")
+        else:
+            self.loop_button.setText("Loop")
 
     def _on_speed(self, speed: float) -> None:
         best = min(range(len(SPEEDS)), key=lambda i: abs(SPEEDS[i] - speed))
