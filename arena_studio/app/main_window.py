@@ -10,7 +10,7 @@ from __future__ import annotations
 from collections.abc import Callable
 from pathlib import Path
 
-from PySide6.QtCore import QByteArray, QSettings, QStandardPaths, Qt, QTimer
+from PySide6.QtCore import QByteArray, QSettings, QStandardPaths, Qt, QTimer, Signal
 from PySide6.QtGui import (
     QAction,
     QActionGroup,
@@ -57,12 +57,22 @@ MAX_RECENT = 10
 SCENE_SUFFIXES = (".json", ".msgpack", ".mpk")
 
 
+def is_bundled_demo(path: Path) -> bool:
+    """True for the demo scenes shipped with the package (never overwritten by Save)."""
+    try:
+        return path.resolve().parent == demo_path().resolve()
+    except OSError:
+        return False
+
+
 def default_recovery_dir() -> Path:
     base = QStandardPaths.writableLocation(QStandardPaths.StandardLocation.AppDataLocation)
     return Path(base or Path.home() / ".arena_studio") / "recovery"
 
 
 class MainWindow(QMainWindow):
+    scene_opened = Signal(object)  # Path of a scene file just opened in the layout editor
+
     def __init__(
         self,
         settings: QSettings | None = None,
@@ -422,6 +432,7 @@ class MainWindow(QMainWindow):
         self.canvas.fit_scene()
         self.add_recent(p.resolve())
         self.show_message(f"Opened {p.name}")
+        self.scene_opened.emit(p.resolve())
         return True
 
     def open_tape(self, path: Path) -> bool:
@@ -443,16 +454,17 @@ class MainWindow(QMainWindow):
         return ok
 
     def save(self) -> bool:
-        if self.document.path is None or self.document.path.suffix.lower() not in (
-            ".json",
-            ".msgpack",
-            ".mpk",
-        ):
+        path = self.document.path
+        if path is None or path.suffix.lower() not in (".json", ".msgpack", ".mpk"):
             return self.save_as()
-        return self.save_to(self.document.path)
+        if is_bundled_demo(path):  # the demos stay as shipped: the user's copy goes elsewhere
+            self.show_message("The bundled demo stays as it is: save your copy under a new name.")
+            return self.save_as()
+        return self.save_to(path)
 
     def save_as(self) -> bool:
-        folder = self.document.path.parent if self.document.path else Path.cwd()
+        path = self.document.path
+        folder = path.parent if path and not is_bundled_demo(path) else Path.cwd()
         stem = self.document.path.name if self.document.path else "untitled.scene.json"
         path = self.dialogs.save_path(str(folder / stem))
         if not path:
@@ -544,6 +556,7 @@ class MainWindow(QMainWindow):
         self.mode_shown = name
         self.actions_by_id[f"mode.{name}"].setChecked(True)
         self.coords_label.setText("x —  y —")
+        self.show_message("")  # the last message was about the other page
         self._show_zoom(self.visible_canvas(), self.visible_canvas().pixels_per_metre())
         self._update_actions()
         if editing:

@@ -44,9 +44,11 @@ def replay_page(window: Any) -> ReplayWindow:
     modes = getattr(window, "modes", None)
     if modes is not None:
         modes.currentChanged.connect(lambda _i: _sync_enabled(window, page))
-    document = getattr(window, "document", None)
-    if document is not None and hasattr(document, "path_changed"):
-        document.path_changed.connect(lambda: _on_document_path(window))
+    # Opening a scene file beside the tape is checked against it; saving edits is not (an
+    # edited scene differs from the tape's on purpose).
+    opened = getattr(window, "scene_opened", None)
+    if opened is not None:
+        opened.connect(lambda _path: _on_document_path(window))
     theme_action = getattr(window, "actions_by_id", {}).get("view.dark")
     if theme_action is not None:
         theme_action.toggled.connect(lambda dark: page.set_theme("dark" if dark else "light"))
