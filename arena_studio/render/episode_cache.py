@@ -39,6 +39,7 @@ class EpisodeCache:
     par_paths: list[np.ndarray] | None = None  # per agent world polylines (lazy)
     _par_done: bool = field(default=False, repr=False)
     _groups: dict[int, list[np.ndarray]] = field(default_factory=dict, repr=False)
+    _step_length: float | None = field(default=None, repr=False)
 
     @property
     def steps(self) -> int:
@@ -60,6 +61,15 @@ class EpisodeCache:
             ]
             self._groups[n_colors] = groups
         return groups
+
+    def step_length(self) -> float:
+        """Median distance an agent moves in one step (metres), over moving steps only, so
+        trails can skip steps that would land within a pixel or two of each other."""
+        if self._step_length is None:
+            d = np.linalg.norm(np.diff(self.xy, axis=0), axis=-1) if self.steps > 1 else None
+            moving = d[np.isfinite(d) & (d > 0)] if d is not None else np.zeros(0)
+            self._step_length = float(np.median(moving)) if len(moving) else 0.0
+        return self._step_length
 
     def par_time_paths(self) -> list[np.ndarray] | None:
         """Par-time paths of the team goal (core.partime), computed on first use."""

@@ -54,6 +54,8 @@ from .view import ViewTransform
 THIN_TRAIL_POINTS = 2400
 #: above this many trail points in a frame, trails keep every k-th step
 MAX_TRAIL_POINTS = 16000
+#: trails keep every k-th step when agents typically move less than this many pixels a step
+TRAIL_POINT_SPACING = 4.0
 #: older trail bands of small teams are hairlines drawn this much more opaque than the band's
 #: fade level, so they keep about the ink of the wide newest band
 HAIRLINE_ALPHA_BOOST = 1.4
@@ -261,6 +263,11 @@ def paint_trails(
         return
     total = (step - first + 1) * cache.agents
     stride = max(1, math.ceil(total / MAX_TRAIL_POINTS))
+    step_px = view.length_px(cache.step_length())
+    if step_px > 0:
+        # keep about one point per TRAIL_POINT_SPACING pixels of typical travel: the dropped
+        # points bend the line by well under a pixel, and build and stroke cost halve
+        stride = max(stride, int(TRAIL_POINT_SPACING // step_px))
     idx = np.arange(first, step + 1, stride)
     if idx[-1] != step:
         idx = np.append(idx, step)
