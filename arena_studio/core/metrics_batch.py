@@ -117,14 +117,13 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
     starts, floor = segment_starts(lengths)
     ends = starts + lengths
     n = int(ends[-1])
-    poses = (
-        np.concatenate([ep.poses for ep in episodes], axis=0)
-        if len(episodes) > 1
-        else np.asarray(episodes[0].poses)
-    ).astype(np.float64, copy=False)
-    x, y = poses[:, :, 0], poses[:, :, 1]
-    xa = np.ascontiguousarray(x.T)  # (A, N): one contiguous row per agent
-    ya = np.ascontiguousarray(y.T)
+    # x, y, heading as (A, N): one contiguous row per agent, episodes end to end
+    xa, ya, tha = np.empty((3, n_agents, n))
+    for ep, s0, t_len in zip(episodes, starts.tolist(), lengths.tolist(), strict=True):
+        cols = np.asarray(ep.poses).T  # (3, A, T) view
+        xa[:, s0 : s0 + t_len] = cols[0]
+        ya[:, s0 : s0 + t_len] = cols[1]
+        tha[:, s0 : s0 + t_len] = cols[2]
     idx = np.arange(n)
 
     # goals ------------------------------------------------------------------------------
@@ -161,7 +160,7 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
     if has_goal.any():
         goals = goal_rows.copy()
         goals[~has_goal, 0] = True  # placeholder target, result ignored
-        reached = goal_reached_batch(scene, goals, poses, lengths, dt=dt, cover=cover)
+        reached = goal_reached_batch(scene, goals, None, lengths, dt=dt, cover=cover)
         if scene.goals.rule == "all_at_end":
             success = reached[ends - 1] & has_goal
             step = np.maximum.reduceat(np.where(reached, floor, idx), starts) + 1 - starts
@@ -181,8 +180,8 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
         who = cover[safe, :, np.arange(n_lm)[None, :]].argmax(axis=-1)  # (E, L)
     else:
         c_at = cover[at_row]  # (E, A, L)
-        xy = poses[at_row, :, :2]
-        d = np.hypot(xy[:, :, 0, None] - lm_pos[:, 0], xy[:, :, 1, None] - lm_pos[:, 1])
+        x_at, y_at = xa[:, at_row].T, ya[:, at_row].T  # (E, A)
+        d = np.hypot(x_at[:, :, None] - lm_pos[:, 0], y_at[:, :, None] - lm_pos[:, 1])
         who = np.where(c_at, d, np.inf).argmin(axis=1)  # (E, L)
         visited = np.asarray(c_at.any(axis=1))
 
@@ -212,7 +211,7 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
         single = is_start & (lengths[np.searchsorted(starts, rr, side="right") - 1] < 2)
         later[single] = rr[single]
         earlier = np.where(single, rr, later - 1)
-        turn = poses[later, aa, 2] - poses[earlier, aa, 2]
+        turn = tha[aa, later] - tha[aa, earlier]
         turn = np.abs((turn + np.pi) % (2 * np.pi) - np.pi) / dt
         turn[single] = 0.0
         still_an[aa, rr] = turn < STILL_TURN
