@@ -2,8 +2,12 @@
 
 from __future__ import annotations
 
+import atexit
 import re
+import shutil
+import tempfile
 from functools import cache
+from pathlib import Path
 
 from PySide6.QtGui import QPalette
 from PySide6.QtWidgets import QApplication
@@ -18,7 +22,31 @@ def _template() -> str:
 
 
 def style_sheet(theme: Theme) -> str:
-    return re.sub(r"\{(\w+)\}", lambda m: theme.hex(m.group(1))[:7], _template())
+    """The template with colours filled in; ``{icon:NAME:ROLE}`` becomes the path of our SVG
+    icon NAME drawn in colour ROLE (style sheets take images only as files)."""
+    text = re.sub(
+        r"\{icon:(\w+):(\w+)\}",
+        lambda m: _icon_file(m.group(1), theme.hex(m.group(2))[:7]),
+        _template(),
+    )
+    return re.sub(r"\{(\w+)\}", lambda m: theme.hex(m.group(1))[:7], text)
+
+
+@cache
+def _style_dir() -> Path:
+    """A private folder for this session's recoloured icons, removed at exit."""
+    folder = Path(tempfile.mkdtemp(prefix="arena_studio_style_"))
+    atexit.register(shutil.rmtree, folder, True)
+    return folder
+
+
+def _icon_file(name: str, color: str) -> str:
+    """Icon ``name`` recoloured to ``color``, written once per session; its path for url()."""
+    out = _style_dir() / f"{name}_{color.lstrip('#')}.svg"
+    if not out.exists():
+        svg = resource_path("icons", f"{name}.svg").read_text(encoding="utf-8")
+        out.write_text(svg.replace("currentColor", color), encoding="utf-8")
+    return out.as_posix()
 
 
 def palette(theme: Theme) -> QPalette:
