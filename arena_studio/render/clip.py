@@ -322,6 +322,7 @@ def _write_ffmpeg(
         stderr=subprocess.PIPE,
     )
     assert proc.stdin is not None and proc.stderr is not None
+    _widen_pipe(proc.stdin.fileno())
     try:
         _pipe_frames(proc.stdin, frames)
         err = proc.stderr.read().decode("utf-8", "replace").strip()
@@ -343,6 +344,18 @@ def _write_ffmpeg(
         for pipe in (proc.stdin, proc.stderr):
             with contextlib.suppress(Exception):
                 pipe.close()
+
+
+def _widen_pipe(fd: int) -> None:
+    """Linux pipes hold 64 KiB; a 720p frame is 3.7 MB. A 1 MiB pipe (the usual unprivileged
+    limit) means ~15x fewer wake-ups between us and ffmpeg; elsewhere this does nothing."""
+    try:
+        import fcntl
+
+        if hasattr(fcntl, "F_SETPIPE_SZ"):  # Linux only
+            fcntl.fcntl(fd, fcntl.F_SETPIPE_SZ, 1 << 20)
+    except (ImportError, OSError):
+        pass  # a smaller limit (or none) only costs a little speed
 
 
 def _pipe_frames(stdin: IO[bytes], frames: Iterator[QImage]) -> None:
