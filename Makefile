@@ -25,6 +25,7 @@ test: $(STAMP)
 lint: $(STAMP)
 	$(BIN)/ruff check .
 	$(BIN)/lint-imports
+	$(BIN)/mypy
 
 bench: $(STAMP)
 	QT_QPA_PLATFORM=offscreen $(BIN)/python -m pytest tests/bench -s -q -p no:cacheprovider

@@ -140,7 +140,7 @@ def check_scene(scene: Scene) -> list[Finding]:
 
 
 def count_by_severity(findings: list[Finding]) -> dict[str, int]:
-    counts = dict.fromkeys(SEVERITIES, 0)
+    counts: dict[str, int] = dict.fromkeys(SEVERITIES, 0)
     for fd in findings:
         counts[fd.severity] += 1
     return counts

@@ -239,7 +239,7 @@ def _reach_overlaps(scene: Scene) -> list[Finding]:
 
 def _object_point(scene: Scene, kind: str, obj: object) -> tuple[float, float] | None:
     if kind == "landmark":
-        return obj.position  # type: ignore[attr-defined,no-any-return]
+        return obj.position  # type: ignore[attr-defined]
     if kind == "agent":
         start = obj.start  # type: ignore[attr-defined]
         if start.pose is not None:

@@ -14,7 +14,7 @@ from functools import lru_cache
 from shapely.geometry import Point, Polygon
 
 from . import geometry as geo
-from .checks import Finding, finding, fmt_point
+from .checks import Finding, Severity, finding, fmt_point
 from .checks_layout import EPS, geos_reason
 from .scene import Agent, Scene
 
@@ -87,6 +87,7 @@ def _check_start(scene: Scene, agent: Agent) -> list[Finding]:
                 xy,
             )
         ]
+    assert start.region is not None  # a start is a pose or a region
     raw = geo.polygon(start.region)
     if raw.is_empty or not raw.is_valid:
         text, where = geos_reason(raw) if not raw.is_empty else ("fewer than 3 points", None)
@@ -235,7 +236,7 @@ def _wall_reach(scene: Scene, li: int) -> list[Finding]:
     too_big = [a for a in scene.agents if a.radius >= lm.reach_radius]
     if too_big:
         names = ", ".join(f"'{a.id}' ({a.radius:g} m)" for a in too_big)
-        severity = "error" if len(too_big) == len(scene.agents) else "warning"
+        severity: Severity = "error" if len(too_big) == len(scene.agents) else "warning"
         return [
             finding(
                 "reach-radius-too-small",

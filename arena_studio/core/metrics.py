@@ -31,7 +31,7 @@ from collections import Counter, defaultdict
 from collections.abc import Sequence
 from dataclasses import asdict, dataclass, field
 from functools import lru_cache
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
@@ -40,6 +40,9 @@ from .geometry import free_space, per_thread_cache
 from .inside_test import InsideTest
 from .observe import coverage, goal_reached
 from .scene import Scene
+
+if TYPE_CHECKING:
+    from .events import Event
 
 #: how far (m) a centre may stray outside free space before it counts as leaving it
 FREE_SPACE_TOLERANCE = 0.01
@@ -186,7 +189,7 @@ def aligned_goals(episode: Episode) -> bool | None:
         return False
     first = goals[0]
     assert first is not None
-    if any(not np.array_equal(first, g) for g in goals[1:]):
+    if any(g is None or not np.array_equal(first, g) for g in goals[1:]):
         return False
     return episode.team_goal is None or bool(np.array_equal(first, episode.team_goal))
 
@@ -201,11 +204,9 @@ def judged_goal(episode: Episode) -> np.ndarray | None:
 
 @lru_cache(maxsize=1024)
 def par_time_of(scene: Scene, targets: tuple[int, ...]) -> float | None:
-    """Par time of a goal from core.partime, or None when unavailable or infeasible."""
-    try:
-        from .partime import plan_goal
-    except ImportError:  # the planning modules are optional for metrics
-        return None
+    """Par time of a goal from core.partime, or None when infeasible."""
+    from .partime import plan_goal  # lazy: the planner pulls in scipy
+
     vector = np.zeros(len(scene.landmarks), dtype=np.uint8)
     vector[list(targets)] = 1
     try:
@@ -413,7 +414,9 @@ def batch_metrics(scene: Scene, episodes_metrics: Sequence[EpisodeMetrics]) -> d
     return summary
 
 
-def episode_events(scene: Scene, episode: Episode, metrics: EpisodeMetrics | None = None) -> list:
+def episode_events(
+    scene: Scene, episode: Episode, metrics: EpisodeMetrics | None = None
+) -> list[Event]:
     """The episode's timeline events; see :func:`arena_studio.core.events.episode_events`."""
     from .events import episode_events as events_of
 

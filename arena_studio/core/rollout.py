@@ -26,7 +26,6 @@ reproducible bit for bit and any episode can be regenerated alone.
 
 from __future__ import annotations
 
-import itertools
 import math
 from collections.abc import Callable
 from dataclasses import dataclass, field
@@ -42,6 +41,7 @@ from .controller import FollowerLimits, LegFollower, PathFollower
 from .geometry import free_space
 from .goals import enumerate_goals
 from .kinematics import unicycle_step
+from .partime import plan_goal
 from .paths import PathPlanner
 from .scene import Scene
 from .tape import TapeWriter
@@ -122,38 +122,15 @@ class Rollout:
     def _plan_assignment(self, goal_index: int) -> dict[int, list[int]]:
         scene = self.scene
         vector = self.table.vectors[goal_index]
-        try:
-            from .partime import plan_goal
-        except ImportError:
-            plan_goal = None
-        if plan_goal is not None:
-            plan = plan_goal(scene, vector, planner=self.planner)
-            if plan.feasible and plan.par_time is not None:
-                self._par[goal_index] = max(plan.par_time, plan.par_time_worst or 0.0)
-            if not plan.feasible:
-                return {}
-            return {
-                scene.agent_index(aid): [scene.landmark_index(lid) for lid in lids]
-                for aid, lids in plan.assignment.items()
-            }
-        return self._fallback_assignment(goal_index)
-
-    def _fallback_assignment(self, goal_index: int) -> dict[int, list[int]]:
-        """Min-max time assignment by brute force (used only without core.partime)."""
-        targets = self.table.targets(goal_index)
-        agents = range(len(self.scene.agents))
-        best: tuple[float, dict[int, list[int]]] | None = None
-        for perm in itertools.permutations(agents, min(len(targets), len(agents))):
-            worst = 0.0
-            for a, lm in zip(perm, targets, strict=False):
-                route = self.planner.path_to_landmark(a, lm)
-                if route is None:
-                    worst = math.inf
-                    break
-                worst = max(worst, route.length / self.scene.agents[a].max_speed)
-            if best is None or worst < best[0]:
-                best = (worst, {a: [lm] for a, lm in zip(perm, targets, strict=False)})
-        return {} if best is None or not math.isfinite(best[0]) else best[1]
+        plan = plan_goal(scene, vector, planner=self.planner)
+        if plan.feasible and plan.par_time is not None:
+            self._par[goal_index] = max(plan.par_time, plan.par_time_worst or 0.0)
+        if not plan.feasible:
+            return {}
+        return {
+            scene.agent_index(aid): [scene.landmark_index(lid) for lid in lids]
+            for aid, lids in plan.assignment.items()
+        }
 
     def _route(self, agent: int, landmarks: list[int], start: np.ndarray) -> np.ndarray | None:
         """Route through the agent's landmarks in order, ending inside the last reach disc."""

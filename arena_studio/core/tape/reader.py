@@ -14,7 +14,7 @@ import os
 from collections.abc import Iterator
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import Any, cast
 
 import numpy as np
 
@@ -198,12 +198,12 @@ class Tape:
             span = np.empty(end - begin, dtype=np.uint8)  # no zero-fill
             with open(self.path, "rb", buffering=0) as f:
                 f.seek(begin)
-                got = f.readinto(span)
+                got = f.readinto(cast(Any, span))  # an ndarray is a writable buffer
         except OSError as exc:
             raise TapeError(self._src, where, f"cannot read: {exc}") from None
         if got != end - begin:
             raise TapeError(self._src, where, "file shrank while reading")
-        return memoryview(span).cast("B")
+        return memoryview(cast(Any, span)).cast("B")
 
     # -- header --------------------------------------------------------------------------
     def _read_header(self, f: Any) -> None:

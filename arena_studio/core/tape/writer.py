@@ -307,8 +307,8 @@ class TapeWriter:
             elif isinstance(timeline, str):
                 out.append([[0, timeline]])
             else:
-                pairs = [[int(s), str(label)] for s, label in timeline]
-                steps = [p[0] for p in pairs]
+                pairs: list[list[Any]] = [[int(s), str(label)] for s, label in timeline]
+                steps: list[int] = [p[0] for p in pairs]
                 if steps != sorted(steps) or any(s < 0 for s in steps):
                     raise TapeError(
                         self._src, f"{where}.roles[{a}]", "role steps must be sorted and >= 0"
