@@ -201,6 +201,20 @@ ACTIONS: tuple[ActionSpec, ...] = (
 MENUS: tuple[str, ...] = ("File", "Edit", "View", "Tools")
 
 
+def key_sequences(action: ActionSpec) -> list[QKeySequence]:
+    """The action's keys on this platform, each once: a standard key that expands to a key
+    also listed (Quit is Ctrl+Q on Linux) would make the shortcut ambiguous, and Qt then
+    triggers neither."""
+    out: list[QKeySequence] = []
+    for key in action.shortcuts:
+        if isinstance(key, QKeySequence.StandardKey):
+            found = QKeySequence.keyBindings(key)
+        else:
+            found = [QKeySequence(key)]
+        out.extend(seq for seq in found if not seq.isEmpty() and seq not in out)
+    return out
+
+
 def spec(action_id: str) -> ActionSpec:
     for a in ACTIONS:
         if a.id == action_id:

@@ -38,7 +38,7 @@ from ..core.resources import DEFAULT_DEMO_SCENE, demo_path
 from ..core.scene import Scene, load_scene, save_scene
 from ..render.theme import THEMES, Theme, load_theme
 from . import edits
-from .actions import ACTIONS, MENUS, ActionSpec
+from .actions import ACTIONS, MENUS, ActionSpec, key_sequences
 from .appearance import apply_theme
 from .canvas import SceneCanvas
 from .checking import CheckRunner
@@ -190,9 +190,9 @@ class MainWindow(QMainWindow):
         for spec in ACTIONS:
             act = QAction(spec.title.replace("&", "") if not spec.menu else spec.title, self)
             act.setObjectName(spec.id)
-            keys = [k for k in spec.shortcuts]
+            keys = key_sequences(spec)
             if keys:
-                act.setShortcuts(keys)  # type: ignore[arg-type]
+                act.setShortcuts(keys)
                 act.setShortcutContext(Qt.ShortcutContext.WindowShortcut)
             act.setCheckable(spec.checkable)
             tip = spec.tip or spec.title.replace("&", "").replace("…", "")

@@ -94,3 +94,43 @@ def test_new_scene_from_replay_goes_to_the_editor(make_window, tmp_path):
     win.actions_by_id["file.new"].trigger()  # FakeDialogs discards unsaved changes
     assert win.mode == "layout" and win.modes.currentWidget() is win.canvas
     assert win.actions_by_id["tool.select"].isEnabled()
+
+
+def test_no_key_is_bound_twice_in_one_page(make_window):
+    # Qt's shortcut map: two enabled actions (or one action twice) on one key sequence are
+    # ambiguous and neither fires (QAction::activatedAmbiguously, Qt documentation).
+    win = make_window()
+    for mode in ("layout", "replay"):
+        seen: dict[str, str] = {}
+        for spec in ACTIONS:
+            if spec.modes and mode not in spec.modes:
+                continue
+            for seq in win.actions_by_id[spec.id].shortcuts():
+                text = seq.toString()
+                assert text not in seen, f"{text}: {seen.get(text)} and {spec.id}"
+                seen[text] = spec.id
+
+
+def test_ctrl_q_closes_a_window_with_nothing_unsaved(make_window, qtbot):
+    win = make_window()
+    assert win.open_path(demo_path(DEFAULT_DEMO_SCENE))
+    quit_keys = [s.toString() for s in win.actions_by_id["file.quit"].shortcuts()]
+    assert quit_keys == ["Ctrl+Q"]  # once, even where the platform's Quit key is Ctrl+Q too
+    win.canvas.setFocus()
+    qtbot.waitUntil(lambda: win.canvas.hasFocus(), timeout=2000)  # window active: keys count
+    QTest.keyClick(win.canvas, Qt.Key.Key_Q, Qt.KeyboardModifier.ControlModifier)
+    qtbot.waitUntil(lambda: not win.isVisible(), timeout=2000)
+
+
+def test_key_sequences_lists_each_key_once(qapp):
+    from PySide6.QtGui import QKeySequence
+
+    from arena_studio.app.actions import ActionSpec, key_sequences
+
+    twice = ActionSpec("x.twice", "Twice", ("Ctrl+Q", "Ctrl+Q", "Ctrl+Y"))
+    assert [s.toString() for s in key_sequences(twice)] == ["Ctrl+Q", "Ctrl+Y"]
+    undo = QKeySequence.keyBindings(QKeySequence.StandardKey.Undo)
+    both = ActionSpec(
+        "x.undo", "Undo", (QKeySequence.StandardKey.Undo, *[s.toString() for s in undo])
+    )
+    assert len(key_sequences(both)) == len(undo)
