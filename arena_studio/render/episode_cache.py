@@ -40,6 +40,7 @@ class EpisodeCache:
     _par_done: bool = field(default=False, repr=False)
     _groups: dict[int, list[np.ndarray]] = field(default_factory=dict, repr=False)
     _step_length: float | None = field(default=None, repr=False)
+    _landmarks: tuple[np.ndarray, np.ndarray] | None = field(default=None, repr=False)
 
     @property
     def steps(self) -> int:
@@ -61,6 +62,16 @@ class EpisodeCache:
             ]
             self._groups[n_colors] = groups
         return groups
+
+    def landmark_arrays(self) -> tuple[np.ndarray, np.ndarray]:
+        """(L, 2) landmark positions and (L,) reach radii, in metres."""
+        if self._landmarks is None:
+            marks = self.scene.landmarks
+            self._landmarks = (
+                np.array([m.position for m in marks], dtype=np.float64).reshape(-1, 2),
+                np.array([m.reach_radius for m in marks], dtype=np.float64),
+            )
+        return self._landmarks
 
     def step_length(self) -> float:
         """Median distance an agent moves in one step (metres), over moving steps only, so

@@ -311,16 +311,19 @@ def paint_pursued(
     """
     if not cache.pursued.any() or cache.agents > 32:
         return
-    lm = np.array([m.position for m in cache.scene.landmarks], dtype=np.float64)
-    pos = view.map_array(cache.xy[step])
+    lm, reach = cache.landmark_arrays()
+    xy = cache.xy[step]
+    here = np.linalg.norm(lm[None] - xy[:, None], axis=-1) <= reach
+    wanted = cache.pursued & ~here
+    if not wanted.any():
+        return
+    pos = view.map_array(xy)
     lm_px = view.map_array(lm)
-    here = np.linalg.norm(lm[None] - cache.xy[step][:, None], axis=-1) <= np.array(
-        [m.reach_radius for m in cache.scene.landmarks]
-    )
-    for a in range(cache.agents):
-        targets = np.flatnonzero(cache.pursued[a] & ~here[a])
+    # a handful of lines: one drawLine each is cheaper than building a path per agent
+    for a in np.flatnonzero(wanted.any(axis=1)).tolist():
+        start = QPointF(float(pos[a, 0]), float(pos[a, 1]))
         for on_team in (True, False):
-            sel = targets[cache.team[targets] == on_team]
+            sel = np.flatnonzero(wanted[a] & (cache.team == on_team))
             if len(sel) == 0:
                 continue
             if on_team:
@@ -329,7 +332,8 @@ def paint_pursued(
                 pen = QPen(theme.agent_color(a, alpha=0.95), 2.0 * ui)
                 pen.setStyle(Qt.PenStyle.DashLine)
             painter.setPen(pen)
-            painter.drawPath(segments_path(np.repeat(pos[a : a + 1], len(sel), 0), lm_px[sel]))
+            for x, y in lm_px[sel].tolist():
+                painter.drawLine(start, QPointF(x, y))
 
 
 def paint_collisions(
