@@ -37,7 +37,13 @@ from ..core.episode import Episode
 from ..core.scene import Scene
 from .drawing import font, label
 from .episode_cache import EpisodeCache, episode_cache
-from .fastpath import polylines_path, rows_path, segments_path
+from .fastpath import (
+    WIDE_PIECE_PX,
+    chunked_rows_paths,
+    polylines_path,
+    rows_path,
+    segments_path,
+)
 from .legend import paint_banner, paint_clock, paint_legend
 from .options import FrameOptions
 from .role_style import (
@@ -56,9 +62,6 @@ THIN_TRAIL_POINTS = 2400
 MAX_TRAIL_POINTS = 16000
 #: trails keep every k-th step when agents typically move less than this many pixels a step
 TRAIL_POINT_SPACING = 4.0
-#: older trail bands of small teams are hairlines drawn this much more opaque than the band's
-#: fade level, so they keep about the ink of the wide newest band
-HAIRLINE_ALPHA_BOOST = 1.4
 #: above this many agents, raster frames blit pre-drawn body sprites
 SPRITES_ABOVE = 8
 
@@ -254,8 +257,8 @@ def paint_trails(
     colour per band. Wide antialiased pens cost ~100x more than 1-pixel ones on long
     self-crossing paths (64 agents x 200 steps: 110-175 ms vs 1.4 ms), so crowds (or
     ``fast_trails``) get hairlines, and very long windows keep every k-th step. Small teams
-    keep the wide pen for the newest band only (2 agents: ~0.65 ms -> ~0.3 ms a frame); the
-    older bands fade in width as well as alpha."""
+    get the wide pen, stroked as pieces about :data:`~.fastpath.WIDE_PIECE_PX` long, which
+    Qt strokes several times cheaper per point than one long path."""
     dt = cache.episode.dt
     length = max(1, round(opts.trail_seconds / dt)) if dt > 0 else 1
     first = max(0, step - length)
@@ -267,7 +270,7 @@ def paint_trails(
     if step_px > 0:
         # keep about one point per TRAIL_POINT_SPACING pixels of typical travel: the dropped
         # points bend the line by well under a pixel, and build and stroke cost halve
-        stride = max(stride, int(TRAIL_POINT_SPACING // step_px))
+        stride = max(stride, round(TRAIL_POINT_SPACING / step_px))
     idx = np.arange(first, step + 1, stride)
     if idx[-1] != step:
         idx = np.append(idx, step)
@@ -278,25 +281,39 @@ def paint_trails(
     thin = opts.fast_trails or total > THIN_TRAIL_POINTS
     width = 1.0 if thin else max(1.6 * ui, view.length_px(0.05))
     painter.setBrush(Qt.BrushStyle.NoBrush)
+    window_all = slice(first, step + 1) if stride == 1 else idx
+    if not thin:
+        # wide pens: short pieces that share end points (one build per colour), each piece
+        # in the band of its first point; flat caps so shared points are not blended twice
+        spacing = step_px * stride
+        piece = min(64, 1 + int(WIDE_PIECE_PX // spacing)) if spacing > 0 else 64
+        for g, world in enumerate(groups):
+            paths, starts = chunked_rows_paths(
+                world[:, window_all], view.scale, view.offset_x, view.offset_y, max(2, piece)
+            )
+            band_of = np.searchsorted(edges[1:-1], starts, side="right")
+            for b in range(bands):
+                sel = np.flatnonzero(band_of == b).tolist()
+                if not sel:
+                    continue
+                pen = QPen(theme.agent_color(g, alpha=0.15 + 0.6 * (b + 1) / bands), width)
+                pen.setCapStyle(Qt.PenCapStyle.FlatCap)
+                pen.setJoinStyle(Qt.PenJoinStyle.BevelJoin)  # ~25 % cheaper than round joins
+                painter.setPen(pen)
+                for k in sel:
+                    painter.drawPath(paths[k])
+        return
     for b in range(bands):
         i0, i1 = int(edges[b]), int(edges[b + 1])
         if i1 <= i0:
             continue
         alpha = 0.15 + 0.6 * (b + 1) / bands
-        if stride == 1 and idx[-1] == first + n_pts - 1:
-            window = slice(first + i0, first + i1 + 1)
-        else:
-            window = idx[i0 : i1 + 1]
-        # only the newest band keeps the wide pen; older bands fade to hairlines (width and
-        # alpha both fade), which costs a fraction of stroking the whole window wide
-        hairline = thin or b < bands - 1
-        if hairline and not thin:
-            alpha = min(0.9, alpha * HAIRLINE_ALPHA_BOOST)  # same ink per length, thinner
+        window = slice(first + i0, first + i1 + 1) if stride == 1 else idx[i0 : i1 + 1]
         for g, world in enumerate(groups):
-            pen = QPen(theme.agent_color(g, alpha=alpha), 1.0 if hairline else width)
-            pen.setCosmetic(hairline)
+            pen = QPen(theme.agent_color(g, alpha=alpha), width)
+            pen.setCosmetic(True)
             pen.setCapStyle(Qt.PenCapStyle.RoundCap)
-            pen.setJoinStyle(Qt.PenJoinStyle.BevelJoin)  # ~25 % cheaper than round joins
+            pen.setJoinStyle(Qt.PenJoinStyle.BevelJoin)
             painter.setPen(pen)
             painter.drawPath(rows_path(world[:, window], view.scale, view.offset_x, view.offset_y))
 
