@@ -598,6 +598,8 @@ class MainWindow(QMainWindow):
                 self.autosave_now()
         for copy in (newest, *older):
             self.recovery.remove(copy)
+        if self.isVisible():  # keys go back to this window (window-wide shortcuts need it)
+            self.activateWindow()
         return restored
 
     # -- theme and settings ------------------------------------------------------------
