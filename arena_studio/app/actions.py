@@ -95,7 +95,7 @@ ACTIONS: tuple[ActionSpec, ...] = (
         "modes",
         enabled="has_replay",
         checkable=True,
-        tip="Show the replay of the open tape",
+        tip="Show the replay of the open tape (File > Open a .tape file first)",
     ),
     ActionSpec(
         "tool.select",

@@ -155,7 +155,11 @@ class Editor(QObject):
             return False
         vw = (*g.vector_weights, 1.0) if g.vector_weights is not None else None
         self.apply(edits.set_goals(scene, vectors=(*g.vectors, vec), vector_weights=vw), "Add goal")
-        self.message(f"Added a goal with {sum(vec)} target{'s' if sum(vec) > 1 else ''}.")
+        k = sum(vec)
+        if k in g.families:  # allowed (it adds sampling weight), but say so
+            self.message(f"Added; the {k}-hot family lists this goal too, so their weights add up.")
+        else:
+            self.message(f"Added a goal with {k} target{'s' if k > 1 else ''}.")
         self.goal_added.emit(vec)
         return True
 

@@ -98,3 +98,16 @@ def test_shift_selected_landmarks_still_add_and_the_list_removes(qtbot, main_win
     assert panel.remove_button.isEnabled()
     panel.remove_button.click()
     assert win.document.scene.goals.vectors == ()
+
+
+def test_a_goal_a_family_already_has_is_added_with_a_note(qtbot, main_window):
+    win = main_window
+    assert win.open_path(demo_path(DEFAULT_DEMO_SCENE))  # families 1-hot and 2-hot
+    win.goals_panel.pick_button.click()
+    for lid in ("valve-west", "seed-tray"):
+        _click_landmark(qtbot, win, lid)
+    win.goals_panel.add_button.click()
+    assert len(win.document.scene.goals.vectors) == 1
+    assert "2-hot family" in win.message_label.text()
+    # core.goals merges the duplicate into the family's goal: the goal count does not grow.
+    assert enumerate_goals(win.document.scene).vectors.shape[0] == 6 + 15
