@@ -27,7 +27,6 @@ from PySide6.QtWidgets import (
     QMainWindow,
     QMenu,
     QScrollArea,
-    QSizePolicy,
     QStackedWidget,
     QToolBar,
     QWidget,
@@ -35,7 +34,7 @@ from PySide6.QtWidgets import (
 
 from ..core.errors import ArenaError
 from ..core.resources import DEFAULT_DEMO_SCENE, demo_path
-from ..core.scene import Scene, load_scene, save_scene
+from ..core.scene import Scene
 from ..render.theme import THEMES, Theme, load_theme
 from . import edits
 from .actions import ACTIONS, MENUS, ActionSpec, key_sequences
@@ -51,18 +50,10 @@ from .goals_panel import GoalsPanel
 from .icons import themed_icon
 from .properties_panel import PropertiesPanel
 from .recovery import RecoveryStore
+from .window_files import FileCommands
+from .window_modes import ModePages
 
 AUTOSAVE_MS = 30_000
-MAX_RECENT = 10
-SCENE_SUFFIXES = (".json", ".msgpack", ".mpk")
-
-
-def is_bundled_demo(path: Path) -> bool:
-    """True for the demo scenes shipped with the package (never overwritten by Save)."""
-    try:
-        return path.resolve().parent == demo_path().resolve()
-    except OSError:
-        return False
 
 
 def default_recovery_dir() -> Path:
@@ -70,7 +61,7 @@ def default_recovery_dir() -> Path:
     return Path(base or Path.home() / ".arena_studio") / "recovery"
 
 
-class MainWindow(QMainWindow):
+class MainWindow(FileCommands, ModePages, QMainWindow):
     scene_opened = Signal(object)  # Path of a scene file just opened in the layout editor
 
     def __init__(
@@ -357,24 +348,6 @@ class MainWindow(QMainWindow):
     def show_message(self, text: str) -> None:
         self.message_label.setText(text)
 
-    def _show_zoom(self, canvas: SceneCanvas, ppm: float) -> None:
-        if canvas.isVisible() or (canvas is self.canvas and self.mode == "layout"):
-            self.zoom_label.setText(f"{ppm:.0f} px/m   grid {canvas.grid_step():g} m")
-
-    def visible_canvas(self) -> SceneCanvas:
-        """The canvas of the page shown now (view actions act on what the user sees)."""
-        page = self.modes.currentWidget()
-        canvas = page if isinstance(page, SceneCanvas) else getattr(page, "canvas", None)
-        return canvas if isinstance(canvas, SceneCanvas) else self.canvas
-
-    def fit_visible(self) -> None:
-        page = self.modes.currentWidget()
-        fit = getattr(page, "fit_views", None)  # a page with several canvases fits them all
-        if callable(fit):
-            fit()
-        else:
-            self.visible_canvas().fit_scene()
-
     def _toggle_snap(self) -> None:
         on = self.actions_by_id["edit.snap"].isChecked()
         from dataclasses import replace
@@ -382,188 +355,6 @@ class MainWindow(QMainWindow):
         self.editor.snap_settings = replace(self.editor.snap_settings, enabled=on)
         self.settings.setValue("prefs/snap", on)
         self.show_message("Snapping on (hold Ctrl to bypass)" if on else "Snapping off")
-
-    # -- files -------------------------------------------------------------------------
-    def maybe_keep_changes(self) -> bool:
-        """True when it is fine to replace the document (saved, discarded or unchanged)."""
-        if not self.document.dirty:
-            return True
-        answer = self.dialogs.ask_unsaved(self.document.display_name)
-        if answer == "save":
-            return self.save()
-        return answer == "discard"
-
-    def new_scene(self) -> None:
-        if not self.maybe_keep_changes():
-            return
-        self.recovery.discard()
-        self.document.reset(Scene(name="Untitled scene"), None)
-        self.editor.set_selection(())
-        self.set_mode("layout")
-        self.canvas.fit_scene()
-
-    def open_dialog(self) -> None:
-        start = str(self.document.path.parent) if self.document.path else str(Path.cwd())
-        path = self.dialogs.open_path(start)
-        if path:
-            self.open_path(path)
-
-    def open_path(self, path: str | Path) -> bool:
-        """Open a scene in the layout editor or a ``.tape`` in the replay mode."""
-        p = Path(path)
-        if p.suffix.lower() == ".tape":
-            return self.open_tape(p)
-        if p.suffix.lower() not in SCENE_SUFFIXES:
-            self.dialogs.error("Cannot open file", f"{p.name}: not a scene or tape file.")
-            return False
-        try:
-            scene = load_scene(p)
-        except ArenaError as exc:
-            self.dialogs.error(
-                "Cannot open scene", f"{exc}\n\nThe current scene was left as it was."
-            )
-            return False
-        if not self.maybe_keep_changes():
-            return False
-        self.recovery.discard()
-        self.document.reset(scene, p.resolve())
-        self.editor.set_selection(())
-        self.set_mode("layout")
-        self.canvas.fit_scene()
-        self.add_recent(p.resolve())
-        self.show_message(f"Opened {p.name}")
-        self.scene_opened.emit(p.resolve())
-        return True
-
-    def open_tape(self, path: Path) -> bool:
-        """Hand a tape to the replay mode (``arena_studio.app.replay.open_tape(window, path)``)."""
-        try:
-            from . import replay  # type: ignore[attr-defined]
-
-            opener = replay.open_tape
-        except (ImportError, AttributeError):
-            self.dialogs.info(
-                "Replay not available",
-                f"{path.name} is a tape. Replaying tapes is not part of this build yet; "
-                "the layout editor opens scene files (.scene.json, .scene.msgpack).",
-            )
-            return False
-        ok = bool(opener(self, path))
-        if ok:
-            self.add_recent(path.resolve())
-        return ok
-
-    def save(self) -> bool:
-        path = self.document.path
-        if path is None or path.suffix.lower() not in (".json", ".msgpack", ".mpk"):
-            return self.save_as()
-        if is_bundled_demo(path):  # the demos stay as shipped: the user's copy goes elsewhere
-            self.show_message("The bundled demo stays as it is: save your copy under a new name.")
-            return self.save_as()
-        return self.save_to(path)
-
-    def save_as(self) -> bool:
-        path = self.document.path
-        folder = path.parent if path and not is_bundled_demo(path) else Path.cwd()
-        stem = self.document.path.name if self.document.path else "untitled.scene.json"
-        path = self.dialogs.save_path(str(folder / stem))
-        if not path:
-            return False
-        p = Path(path)
-        if not p.name.lower().endswith((".json", ".msgpack", ".mpk")):
-            p = p.with_name(p.name + ".scene.json")
-        return self.save_to(p)
-
-    def save_to(self, path: Path) -> bool:
-        try:
-            save_scene(self.document.scene, path)
-        except (OSError, ArenaError) as exc:
-            self.dialogs.error("Could not save", f"{path}: {exc}\n\nNothing was overwritten.")
-            return False
-        self.document.mark_saved(path.resolve())
-        self.recovery.discard()
-        self._autosaved_scene = None
-        self.add_recent(path.resolve())
-        self.show_message(f"Saved {path.name}")
-        return True
-
-    # -- recent files ------------------------------------------------------------------
-    def recent_files(self) -> list[str]:
-        value = self.settings.value("recent/files", [])
-        if isinstance(value, str):
-            value = [value]
-        return [str(v) for v in (value or [])]
-
-    def add_recent(self, path: Path) -> None:
-        files = [str(path), *[f for f in self.recent_files() if f != str(path)]][:MAX_RECENT]
-        self.settings.setValue("recent/files", files)
-        self._rebuild_recent_menu()
-
-    def _rebuild_recent_menu(self) -> None:
-        self.recent_menu.clear()
-        files = self.recent_files()
-        for f in files:
-            act = self.recent_menu.addAction(Path(f).name)
-            act.setToolTip(f)
-            act.setStatusTip(f)
-            act.triggered.connect(lambda _c=False, f=f: self.open_path(f))
-        if not files:
-            empty = self.recent_menu.addAction("No recent files")
-            empty.setEnabled(False)
-        else:
-            self.recent_menu.addSeparator()
-            clear = self.recent_menu.addAction("Clear List")
-            clear.triggered.connect(self._clear_recent)
-
-    def _clear_recent(self) -> None:
-        self.settings.setValue("recent/files", [])
-        self._rebuild_recent_menu()
-
-    # -- modes -------------------------------------------------------------------------
-    def add_mode(self, name: str, widget: QWidget) -> None:
-        """Add a page (e.g. replay) to the central area; switch with :meth:`set_mode`."""
-        self._mode_pages[name] = widget
-        widget.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Ignored)
-        self.modes.addWidget(widget)
-        canvas = getattr(widget, "canvas", None)
-        if isinstance(canvas, SceneCanvas):
-            self._connect_canvas(canvas)
-        self._update_actions()
-
-    def set_mode(self, name: str) -> None:
-        """Show page ``name``; actions that do not work there are disabled."""
-        if name not in self._mode_pages:
-            return
-        editing = name == "layout"
-        if not editing and self.mode_shown == "layout" and self.isVisible():
-            # Docks hidden and shown again come back at their minimum size: keep the layout.
-            self._layout_state = self.saveState()
-        self.mode = name
-        for page_name, page in self._mode_pages.items():
-            # A stacked widget is as large as its largest page's minimum, hidden or not;
-            # hidden pages must not squeeze the docks of the page on screen.
-            policy = (
-                QSizePolicy.Policy.Preferred if page_name == name else QSizePolicy.Policy.Ignored
-            )
-            page.setSizePolicy(policy, policy)
-        self.modes.setCurrentWidget(self._mode_pages[name])
-        self.toolbars["tools"].setVisible(editing)
-        for key in ("properties", "goals", "findings"):
-            self.docks[key].setVisible(editing)
-        if editing and self._layout_state is not None:
-            self.restoreState(self._layout_state)
-            self._layout_state = None
-        self.mode_shown = name
-        self.actions_by_id[f"mode.{name}"].setChecked(True)
-        self.coords_label.setText("x —  y —")
-        self.show_message("")  # the last message was about the other page
-        self._show_zoom(self.visible_canvas(), self.visible_canvas().pixels_per_metre())
-        self._update_actions()
-        if editing:
-            self._update_title()
-        else:
-            self.setWindowTitle(f"{self.modes.currentWidget().windowTitle()} — arena_studio")
-        self.visible_canvas().setFocus()
 
     # -- never lose work ---------------------------------------------------------------
     def autosave_now(self) -> bool:

@@ -1,0 +1,175 @@
+"""The main window's file commands: new, open (scenes here, tapes to the replay mode), save,
+save as, recent files. A mixin of :class:`~arena_studio.app.main_window.MainWindow`; it uses
+the window's document, editor, dialogs, settings and recovery store.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any
+
+from PySide6.QtWidgets import QMenu
+
+from ..core.errors import ArenaError
+from ..core.resources import demo_path
+from ..core.scene import Scene, load_scene, save_scene
+
+MAX_RECENT = 10
+SCENE_SUFFIXES = (".json", ".msgpack", ".mpk")
+
+
+def is_bundled_demo(path: Path) -> bool:
+    """True for the demo scenes shipped with the package (never overwritten by Save)."""
+    try:
+        return path.resolve().parent == demo_path().resolve()
+    except OSError:
+        return False
+
+
+class FileCommands:
+    """File menu behaviour; every failure is told through ``self.dialogs`` and changes nothing."""
+
+    document: Any
+    editor: Any
+    canvas: Any
+    dialogs: Any
+    settings: Any
+    recovery: Any
+    recent_menu: QMenu
+    scene_opened: Any
+    _autosaved_scene: Scene | None
+
+    def maybe_keep_changes(self) -> bool:
+        """True when it is fine to replace the document (saved, discarded or unchanged)."""
+        if not self.document.dirty:
+            return True
+        answer = self.dialogs.ask_unsaved(self.document.display_name)
+        if answer == "save":
+            return self.save()
+        return answer == "discard"
+
+    def new_scene(self) -> None:
+        if not self.maybe_keep_changes():
+            return
+        self.recovery.discard()
+        self.document.reset(Scene(name="Untitled scene"), None)
+        self.editor.set_selection(())
+        self.set_mode("layout")
+        self.canvas.fit_scene()
+
+    def open_dialog(self) -> None:
+        start = str(self.document.path.parent) if self.document.path else str(Path.cwd())
+        path = self.dialogs.open_path(start)
+        if path:
+            self.open_path(path)
+
+    def open_path(self, path: str | Path) -> bool:
+        """Open a scene in the layout editor or a ``.tape`` in the replay mode."""
+        p = Path(path)
+        if p.suffix.lower() == ".tape":
+            return self.open_tape(p)
+        if p.suffix.lower() not in SCENE_SUFFIXES:
+            self.dialogs.error("Cannot open file", f"{p.name}: not a scene or tape file.")
+            return False
+        try:
+            scene = load_scene(p)
+        except ArenaError as exc:
+            self.dialogs.error(
+                "Cannot open scene", f"{exc}\n\nThe current scene was left as it was."
+            )
+            return False
+        if not self.maybe_keep_changes():
+            return False
+        self.recovery.discard()
+        self.document.reset(scene, p.resolve())
+        self.editor.set_selection(())
+        self.set_mode("layout")
+        self.canvas.fit_scene()
+        self.add_recent(p.resolve())
+        self.show_message(f"Opened {p.name}")
+        self.scene_opened.emit(p.resolve())
+        return True
+
+    def open_tape(self, path: Path) -> bool:
+        """Hand a tape to the replay mode (``arena_studio.app.replay.open_tape(window, path)``)."""
+        try:
+            from . import replay  # type: ignore[attr-defined]
+
+            opener = replay.open_tape
+        except (ImportError, AttributeError):
+            self.dialogs.info(
+                "Replay not available",
+                f"{path.name} is a tape. Replaying tapes is not part of this build yet; "
+                "the layout editor opens scene files (.scene.json, .scene.msgpack).",
+            )
+            return False
+        ok = bool(opener(self, path))
+        if ok:
+            self.add_recent(path.resolve())
+        return ok
+
+    def save(self) -> bool:
+        path = self.document.path
+        if path is None or path.suffix.lower() not in (".json", ".msgpack", ".mpk"):
+            return self.save_as()
+        if is_bundled_demo(path):  # the demos stay as shipped: the user's copy goes elsewhere
+            self.show_message("The bundled demo stays as it is: save your copy under a new name.")
+            return self.save_as()
+        return self.save_to(path)
+
+    def save_as(self) -> bool:
+        path = self.document.path
+        folder = path.parent if path and not is_bundled_demo(path) else Path.cwd()
+        stem = self.document.path.name if self.document.path else "untitled.scene.json"
+        path = self.dialogs.save_path(str(folder / stem))
+        if not path:
+            return False
+        p = Path(path)
+        if not p.name.lower().endswith((".json", ".msgpack", ".mpk")):
+            p = p.with_name(p.name + ".scene.json")
+        return self.save_to(p)
+
+    def save_to(self, path: Path) -> bool:
+        try:
+            save_scene(self.document.scene, path)
+        except (OSError, ArenaError) as exc:
+            self.dialogs.error("Could not save", f"{path}: {exc}\n\nNothing was overwritten.")
+            return False
+        self.document.mark_saved(path.resolve())
+        self.recovery.discard()
+        self._autosaved_scene = None
+        self.add_recent(path.resolve())
+        self.show_message(f"Saved {path.name}")
+        return True
+
+    # -- recent files ------------------------------------------------------------------
+    def recent_files(self) -> list[str]:
+        value = self.settings.value("recent/files", [])
+        if isinstance(value, str):
+            value = [value]
+        return [str(v) for v in (value or [])]
+
+    def add_recent(self, path: Path) -> None:
+        files = [str(path), *[f for f in self.recent_files() if f != str(path)]][:MAX_RECENT]
+        self.settings.setValue("recent/files", files)
+        self._rebuild_recent_menu()
+
+    def _rebuild_recent_menu(self) -> None:
+        self.recent_menu.clear()
+        files = self.recent_files()
+        for f in files:
+            act = self.recent_menu.addAction(Path(f).name)
+            act.setToolTip(f)
+            act.setStatusTip(f)
+            act.triggered.connect(lambda _c=False, f=f: self.open_path(f))
+        if not files:
+            empty = self.recent_menu.addAction("No recent files")
+            empty.setEnabled(False)
+        else:
+            self.recent_menu.addSeparator()
+            clear = self.recent_menu.addAction("Clear List")
+            clear.triggered.connect(self._clear_recent)
+
+    def _clear_recent(self) -> None:
+        self.settings.setValue("recent/files", [])
+        self._rebuild_recent_menu()
