@@ -62,9 +62,8 @@ THIN_TRAIL_POINTS = 2400
 MAX_TRAIL_POINTS = 16000
 #: trails keep every k-th step when agents typically move less than this many pixels a step
 TRAIL_POINT_SPACING = 4.0
-#: above this many agents, raster frames blit pre-drawn body sprites (placed to a quarter
-#: pixel); 0: every team (a body costs ~30 us drawn, ~3 us blitted)
-SPRITES_ABOVE = 0
+#: above this many agents, raster frames blit pre-drawn body sprites
+SPRITES_ABOVE = 8
 
 __all__ = [
     "FrameOptions",
@@ -461,17 +460,10 @@ def paint_agents(
     sprites = blits_exactly(painter) and cache.agents > SPRITES_ABOVE
     n_colors = len(theme.identity)
     if sprites:
-        # each sprite carries its centre's quarter-pixel phase, so bodies glide smoothly
-        # instead of snapping to whole pixels (a blit lands on whole pixels)
-        radii_q = (np.round(radii * 4) / 4).tolist()
-        whole = np.floor(pos)
-        phase = (np.round((pos - whole) * 4)).astype(int)  # 0..4 quarters
-        for a, (x, y), (qx, qy), r in zip(
-            range(cache.agents), whole.astype(int).tolist(), phase.tolist(), radii_q, strict=True
-        ):
-            img = _sprite(theme, a % n_colors, int(styles[a]), r, ui, qx % 4, qy % 4)
-            half = img.width() // 2
-            painter.drawImage(QPoint(x + qx // 4 - half, y + qy // 4 - half), img)
+        for a in range(cache.agents):
+            img = _sprite(theme, a % n_colors, int(styles[a]), float(radii[a]), ui)
+            half = img.width() / 2
+            painter.drawImage(QPointF(pos[a, 0] - half, pos[a, 1] - half), img)
     else:
         edge = QPen(theme.qcolor("background"), 1.0 * ui)
         for a in range(cache.agents):
@@ -517,20 +509,17 @@ def _paint_body(
     paint_role_mark(painter, c, r, style, theme.qcolor("text"), theme, ui)
 
 
-_SPRITE_CACHE: dict[tuple[str, int, int, float, float, int, int], QImage] = {}
+_SPRITE_CACHE: dict[tuple[str, int, int, float, float], QImage] = {}
 
 
-def _sprite(
-    theme: Theme, color_index: int, style: int, r: float, ui: float, qx: int = 0, qy: int = 0
-) -> QImage:
-    """A body of radius ``r`` whose centre sits ``qx``/4, ``qy``/4 px right of and below the
-    sprite's middle pixel corner."""
-    key = (theme.name, color_index, style, r, round(ui, 3), qx, qy)
+def _sprite(theme: Theme, color_index: int, style: int, r: float, ui: float) -> QImage:
+    key = (theme.name, color_index, style, round(r * 4) / 4, round(ui, 3))
     img = _SPRITE_CACHE.get(key)
     if img is None:
-        if len(_SPRITE_CACHE) > 8192:
+        if len(_SPRITE_CACHE) > 1024:
             _SPRITE_CACHE.clear()
-        extent = r + 2.5 * ui + 3.0 * ui + max(5.0 * ui, r * 0.55) + 3.0
+        r = key[3]
+        extent = r + 2.5 * ui + 3.0 * ui + max(5.0 * ui, r * 0.55) + 2.0
         size = 2 * math.ceil(extent)
         img = QImage(size, size, QImage.Format.Format_ARGB32_Premultiplied)
         img.fill(Qt.GlobalColor.transparent)
@@ -538,8 +527,7 @@ def _sprite(
         try:
             p.setRenderHint(QPainter.RenderHint.Antialiasing, True)
             edge = QPen(theme.qcolor("background"), 1.0 * ui)
-            centre = QPointF(size // 2 + qx / 4, size // 2 + qy / 4)
-            _paint_body(p, centre, r, style, color_index, theme, ui, edge)
+            _paint_body(p, QPointF(size / 2, size / 2), r, style, color_index, theme, ui, edge)
         finally:
             p.end()
         _SPRITE_CACHE[key] = img
