@@ -13,7 +13,7 @@ import sys
 from pathlib import Path
 
 SCREENSHOT_SIZE = (1600, 1000)
-DEMO_TAPE = "greenhouse-shared.tape"  # recorded in the default demo scene
+DEMO_TAPE = "greenhouse-greedy.tape"  # default demo scene; successes and several failure kinds
 SCENE_SUFFIXES = (".json", ".msgpack", ".mpk")
 TAPE_SUFFIX = ".tape"
 HEADLESS_PLATFORMS = ("offscreen", "minimal")
