@@ -267,52 +267,15 @@ class PropertiesPanel(QScrollArea):
                 lambda o, v: replace(o, position=(o.position[0], v)),
                 reseat=True,
             )
-            self._num(
-                form,
-                "Reach radius",
-                "reach_radius",
-                "m",
-                get,
-                put,
-                lambda o: o.reach_radius,
-                lambda o, v: replace(o, reach_radius=v),
-                positive=True,
-            )
+            self._attr_num(form, "Reach radius", "reach_radius", "m", get, put)
             self._mount(form, get, put)
         elif isinstance(obj, Agent):
-            self._num(
-                form,
-                "Radius",
-                "radius",
-                "m",
-                get,
-                put,
-                lambda o: o.radius,
-                lambda o, v: replace(o, radius=v),
-                positive=True,
-            )
-            self._num(
-                form,
-                "Top speed",
-                "max_speed",
-                "m/s",
-                get,
-                put,
-                lambda o: o.max_speed,
-                lambda o, v: replace(o, max_speed=v),
-                positive=True,
-            )
-            self._num(
-                form,
-                "Top turn rate",
-                "max_turn_rate",
-                "rad/s",
-                get,
-                put,
-                lambda o: o.max_turn_rate,
-                lambda o, v: replace(o, max_turn_rate=v),
-                positive=True,
-            )
+            for label, attr, unit in (
+                ("Radius", "radius", "m"),
+                ("Top speed", "max_speed", "m/s"),
+                ("Top turn rate", "max_turn_rate", "rad/s"),
+            ):
+                self._attr_num(form, label, attr, unit, get, put)
             if obj.start.pose is not None:
 
                 def pose(o: Agent, i: int, v: float) -> Agent:
@@ -367,6 +330,28 @@ class PropertiesPanel(QScrollArea):
                     optional=True,
                     digits=1,
                 )
+
+    def _attr_num(
+        self,
+        form: QFormLayout,
+        label: str,
+        attr: str,
+        unit: str,
+        get: Callable[[Scene], Any],
+        put: Callable[[Scene, Any], Scene],
+    ) -> None:
+        """A positive number stored directly in one dataclass field of the object."""
+        self._num(
+            form,
+            label,
+            attr,
+            unit,
+            get,
+            put,
+            lambda o: getattr(o, attr),
+            lambda o, v: replace(o, **{attr: v}),
+            positive=True,
+        )
 
     def _num(
         self,
