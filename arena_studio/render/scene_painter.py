@@ -194,14 +194,15 @@ def paint_scale_bar(
     painter.drawLine(QLineF(x, y - tick, x, y + 1))
     painter.drawLine(QLineF(x + length, y - tick, x + length, y + 1))
     text = f"{metres:g} m"
+    # beside the bar's right end: clear of the bar and of the walls just above it
     label(
         painter,
         text,
-        QPointF(x + length / 2, y - tick - 8 * ui_scale),
+        QPointF(x + length + 6 * ui_scale, y - tick / 2),
         font(11 * ui_scale),
         theme.qcolor("scale_bar"),
         None,
-        align="center",
+        align="left",
     )
 
 
