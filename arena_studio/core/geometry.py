@@ -201,3 +201,37 @@ def bounds(scene: Scene, margin: float = 0.0) -> tuple[float, float, float, floa
         return (-margin, -margin, 1.0 + margin, 1.0 + margin)
     minx, miny, maxx, maxy = unary_union(geoms).bounds
     return (minx - margin, miny - margin, maxx + margin, maxy + margin)
+
+
+@per_thread_cache(maxsize=64)
+def inward_normals(scene: Scene) -> tuple[tuple[float, float], ...]:
+    """Unit direction from each landmark into the open area (its wall's inward normal).
+
+    Wall landmarks may sit on a room wall or on an obstacle outline (a sign on a pillar), so
+    the test area is rooms minus obstacles.
+
+    Sampled: the mean of the directions, among 32 around the landmark, whose point a short
+    step away lies in the walkable area. Free-standing landmarks get (0, 1).
+    """
+    area = open_area(scene)
+    angles = np.linspace(0, 2 * math.pi, 32, endpoint=False)
+    dirs = np.stack([np.cos(angles), np.sin(angles)], axis=1)
+    out = []
+    for lm in scene.landmarks:
+        if lm.mount != "wall" or area.is_empty:
+            out.append((0.0, 1.0))
+            continue
+        step = max(0.05, 0.3 * lm.reach_radius)
+        inside = np.array(
+            [
+                area.contains(Point(lm.position[0] + step * dx, lm.position[1] + step * dy))
+                for dx, dy in dirs
+            ]
+        )
+        if not inside.any() or inside.all():
+            out.append((0.0, 1.0))
+            continue
+        v = dirs[inside].mean(axis=0)
+        n = float(np.hypot(*v)) or 1.0
+        out.append((float(v[0] / n), float(v[1] / n)))
+    return tuple(out)

@@ -19,10 +19,10 @@ from functools import lru_cache
 import numpy as np
 from PySide6.QtCore import QLineF, QPointF, QRectF, Qt
 from PySide6.QtGui import QBrush, QFontMetricsF, QPainter, QPainterPath, QPen, QPolygonF
-from shapely.geometry import Point, Polygon
+from shapely.geometry import Polygon
 from shapely.ops import unary_union
 
-from ..core.geometry import bounds, obstacle_geometry, walkable_area
+from ..core.geometry import bounds, inward_normals, obstacle_geometry, walkable_area
 from ..core.scene import Landmark, Scene
 from .drawing import font, geometry_path, label, nice_step
 from .theme import Theme
@@ -207,37 +207,6 @@ def paint_scale_bar(
 
 
 # -- landmarks and starts --------------------------------------------------------------------
-@lru_cache(maxsize=64)
-def landmark_normals(scene: Scene) -> tuple[tuple[float, float], ...]:
-    """Unit direction from each landmark into the room (its wall's inward normal).
-
-    Sampled: the mean of the directions, among 32 around the landmark, whose point a short
-    step away lies in the walkable area. Free-standing landmarks get (0, 1).
-    """
-    area = walkable_area(scene)
-    angles = np.linspace(0, 2 * math.pi, 32, endpoint=False)
-    dirs = np.stack([np.cos(angles), np.sin(angles)], axis=1)
-    out = []
-    for lm in scene.landmarks:
-        if lm.mount != "wall" or area.is_empty:
-            out.append((0.0, 1.0))
-            continue
-        step = max(0.05, 0.3 * lm.reach_radius)
-        inside = np.array(
-            [
-                area.contains(Point(lm.position[0] + step * dx, lm.position[1] + step * dy))
-                for dx, dy in dirs
-            ]
-        )
-        if not inside.any() or inside.all():
-            out.append((0.0, 1.0))
-            continue
-        v = dirs[inside].mean(axis=0)
-        n = float(np.hypot(*v)) or 1.0
-        out.append((float(v[0] / n), float(v[1] / n)))
-    return tuple(out)
-
-
 def landmark_glyph(
     view: ViewTransform, lm: Landmark, normal: tuple[float, float], size_px: float
 ) -> QPainterPath:
@@ -279,7 +248,7 @@ def paint_landmarks(
     opts: SceneOptions,
     size: tuple[float, float] | None = None,
 ) -> None:
-    normals = landmark_normals(scene)
+    normals = inward_normals(scene)
     glyph = glyph_size(view, opts.ui_scale)
     if opts.reach_rings:
         for lm in scene.landmarks:
@@ -324,7 +293,7 @@ def paint_landmark_labels(
     size: tuple[float, float] | None = None,
 ) -> None:
     """Labels beside their glyphs; one that would leave the image flips to the other side."""
-    normals = landmark_normals(scene)
+    normals = inward_normals(scene)
     glyph = glyph_size(view, ui_scale)
     qfont = font(12 * ui_scale)
     metrics = QFontMetricsF(qfont)

@@ -18,7 +18,7 @@ from pathlib import Path
 from shapely.geometry import Polygon
 from shapely.geometry.base import BaseGeometry
 
-from ..geometry import bounds, obstacle_geometry, open_area, walkable_area
+from ..geometry import bounds, inward_normals, obstacle_geometry, open_area, walkable_area
 from ..resources import resource_path
 from ..scene import Scene
 from .meta import provenance, write_export_bytes
@@ -205,7 +205,8 @@ def svg_tree(scene: Scene, theme: str = "light") -> ET.ElementTree:
         text.text = agent.id
 
     marks = _el(root, "g", id="landmarks")
-    for lm in scene.landmarks:
+    normals = inward_normals(scene)
+    for lm, (nx, ny) in zip(scene.landmarks, normals, strict=True):
         color = colors["landmark_wall" if lm.mount == "wall" else "landmark_free"]
         cx, cy = c.xy(*lm.position)
         group = _el(marks, "g", id=f"landmark-{lm.id}")
@@ -221,15 +222,19 @@ def svg_tree(scene: Scene, theme: str = "light") -> ET.ElementTree:
             stroke_dasharray="0.8 0.6",
         )
         _el(group, "circle", cx=f"{cx:.3f}", cy=f"{cy:.3f}", r="1.1", fill=color)
-        # labels run right of the mark, or left of it where they would leave the paper
-        # (sans-serif glyphs average about 0.55 em wide; common practice, no source)
-        flip = cx + 1.8 + 0.55 * 3.0 * len(lm.label) > c.width - 1.0
+        # Labels go into the room: a wall landmark's label follows its wall's inward normal
+        # (left of a right-hand wall, below a top wall); a free one runs right of its mark,
+        # or left where it would leave the paper (sans-serif glyphs average about 0.55 em
+        # wide; common practice, no source).
+        x, y, anchor = _label_place(cx, cy, nx, ny, lm.mount == "wall")
+        if anchor == "start" and x + 0.55 * 3.0 * len(lm.label) > c.width - 1.0:
+            x, anchor = cx - 1.8, "end"
         label = _el(
             group,
             "text",
-            x=f"{cx - 1.8 if flip else cx + 1.8:.3f}",
-            y=f"{cy - 1.8:.3f}",
-            text_anchor="end" if flip else "start",
+            x=f"{x:.3f}",
+            y=f"{y:.3f}",
+            text_anchor=anchor,
             font_family="sans-serif",
             font_size="3",
             fill=colors["landmark_text"],
@@ -272,6 +277,18 @@ def svg_tree(scene: Scene, theme: str = "light") -> ET.ElementTree:
     )
     note.text = "Simulation aid, not a safety assessment."
     return ET.ElementTree(root)
+
+
+def _label_place(
+    cx: float, cy: float, nx: float, ny: float, on_wall: bool
+) -> tuple[float, float, str]:
+    """Text position (mm, y down) and text-anchor for a landmark label."""
+    gap = 1.8
+    if on_wall and abs(nx) >= abs(ny):  # a vertical wall: beside the mark, into the room
+        return (cx + gap, cy + 1.0, "start") if nx > 0 else (cx - gap, cy + 1.0, "end")
+    if on_wall:  # a horizontal wall: below a top wall, above a bottom one (y runs down)
+        return (cx, cy + gap + 2.6, "middle") if ny < 0 else (cx, cy - gap - 0.6, "middle")
+    return cx + gap, cy - gap, "start"
 
 
 def svg_bytes(scene: Scene, theme: str = "light") -> bytes:
