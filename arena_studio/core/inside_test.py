@@ -39,6 +39,8 @@ class InsideTest:
         self._table: np.ndarray | None = None
         self._grid: tuple[float, float, float, float, int, int] | None = None
         self._flat = np.zeros(0, dtype=np.uint8)
+        #: (x0, y0, x1, y1) of a closed box GEOS says the geometry covers, or None
+        self._box: tuple[float, float, float, float] | None = None
 
     def _build(self) -> None:
         geom = self.geometry
@@ -65,6 +67,14 @@ class InsideTest:
         self._table = table.reshape(nx, ny)
         self._flat = table
         self._grid = (minx, miny, 1.0 / hx, 1.0 / hy, nx, ny)
+        found = _largest_rectangle(self._table == _COVERED)
+        if found is not None:
+            i0, j0, i1, j1 = found  # cells i0..i1 along x, j0..j1 along y
+            box = (minx + i0 * hx, miny + j0 * hy, minx + (i1 + 1) * hx, miny + (j1 + 1) * hy)
+            # the covered cells were grown by CELL_MARGIN, so their union holds this box; GEOS
+            # confirms it, and only then do points in the box skip the grid
+            if shapely.covers(geom, shapely.box(*box)):
+                self._box = box
 
     def contains_xy(self, x: Any, y: Any) -> np.ndarray:
         xs = np.asarray(x, dtype=np.float64)
@@ -73,6 +83,28 @@ class InsideTest:
             return np.asarray(shapely.intersects_xy(self.geometry, xs, ys))
         if self._table is None:
             self._build()
+        if self._box is None or xs.shape != ys.shape:
+            return self._grid_contains(xs, ys)
+        # most centres lie in the covered box: four comparisons settle them, and only the rest
+        # go through the grid (a point in the closed box is covered, so it intersects)
+        x0, y0, x1, y1 = self._box
+        inside = np.greater_equal(xs, x0)
+        part = np.less_equal(xs, x1)
+        inside &= part
+        np.greater_equal(ys, y0, out=part)
+        inside &= part
+        np.less_equal(ys, y1, out=part)
+        inside &= part
+        np.logical_not(inside, out=part)
+        rest = np.flatnonzero(part)
+        if rest.size:
+            flat = inside.reshape(-1)  # a view: inside is a new contiguous array
+            flat[rest] = self._grid_contains(xs.reshape(-1)[rest], ys.reshape(-1)[rest])
+        return inside
+
+    def _grid_contains(self, xs: np.ndarray, ys: np.ndarray) -> np.ndarray:
+        if xs.size < MIN_POINTS:
+            return np.asarray(shapely.intersects_xy(self.geometry, xs, ys))
         assert self._table is not None and self._grid is not None
         minx, miny, sx, sy, nx, ny = self._grid
         # a cell index clamped into the grid is safe: edge cells reach past the geometry's
@@ -99,6 +131,32 @@ class InsideTest:
             where = np.nonzero(unsure)
             out[where] = shapely.intersects_xy(self.geometry, xs[where], ys[where])
         return out
+
+
+def _largest_rectangle(mask: np.ndarray) -> tuple[int, int, int, int] | None:
+    """(i0, j0, i1, j1) of the largest all-True rectangle of a 2-D mask (inclusive), or None.
+
+    Row by row, the heights of True runs ending in that row form a histogram whose largest
+    rectangle is found with a stack (the usual maximal-rectangle method); at most 128 x 128.
+    """
+    rows, cols = mask.shape
+    heights = np.zeros(cols, dtype=np.int64)
+    best: tuple[int, int, int, int] | None = None
+    best_area = 0
+    for i in range(rows):
+        heights = np.where(mask[i], heights + 1, 0)
+        h = [*heights.tolist(), 0]
+        stack: list[int] = []
+        for j, hj in enumerate(h):
+            while stack and h[stack[-1]] >= hj:
+                top = stack.pop()
+                left = stack[-1] + 1 if stack else 0
+                area = h[top] * (j - left)
+                if area > best_area:
+                    best_area = area
+                    best = (i - h[top] + 1, left, i, j - 1)
+            stack.append(j)
+    return best
 
 
 __all__ = ["InsideTest"]
