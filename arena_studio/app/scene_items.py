@@ -11,7 +11,7 @@ import math
 from collections.abc import Sequence
 
 from PySide6.QtCore import QPointF, QRectF, Qt
-from PySide6.QtGui import QBrush, QColor, QPainter, QPainterPath, QPen, QPolygonF
+from PySide6.QtGui import QBrush, QColor, QFontMetricsF, QPainter, QPainterPath, QPen, QPolygonF
 from PySide6.QtWidgets import QGraphicsItem, QStyleOptionGraphicsItem, QWidget
 from shapely.geometry import MultiPolygon, Polygon
 
@@ -61,13 +61,28 @@ def geometry_path(geom: object) -> QPainterPath:
 
 
 def draw_label(
-    painter: QPainter, at: Point, text: str, color: QColor, dx: float = 9, dy: float = -7
+    painter: QPainter,
+    at: Point,
+    text: str,
+    color: QColor,
+    dx: float = 9,
+    dy: float = -7,
+    backdrop: QColor | None = None,
 ):
-    """Upright text offset ``(dx, dy)`` pixels from a world point."""
+    """Upright text offset ``(dx, dy)`` pixels (baseline) from a world point.
+
+    A translucent ``backdrop`` keeps the text readable where it crosses a wall or another
+    label.
+    """
     mpp = metres_per_pixel(painter)
     painter.save()
     painter.translate(at[0], at[1])
     painter.scale(mpp, -mpp)
+    if backdrop is not None:
+        box = QFontMetricsF(painter.font()).boundingRect(text).translated(dx, dy)
+        painter.setPen(Qt.PenStyle.NoPen)
+        painter.setBrush(backdrop)
+        painter.drawRoundedRect(box.adjusted(-2, -1, 2, 1), 3, 3)
     painter.setPen(color)
     painter.drawText(QPointF(dx, dy), text)
     painter.restore()
@@ -117,17 +132,20 @@ class SceneLayer(QGraphicsItem):
     def _paint_agent_ids(self, painter: QPainter) -> None:
         mpp = metres_per_pixel(painter)
         color = self.theme.qcolor("start")
+        backdrop = self.theme.qcolor("room_fill", alpha=0.8)
         for agent in self.scene_value.agents:
             start = agent.start
             if start.pose is not None:
                 at = (start.pose[0], start.pose[1])
-                dx, dy = agent.radius / mpp + 4, agent.radius / mpp + 12
-            elif start.region:
+                # above right of the marker: wall landmarks label towards the room, so
+                # a start near a wall keeps its name away from theirs
+                dx, dy = agent.radius / mpp + 4, -(agent.radius / mpp + 4)
+            elif start.region:  # inside the region's top left corner, clear of the walls
                 at = (min(p[0] for p in start.region), max(p[1] for p in start.region))
-                dx, dy = 2, -6
+                dx, dy = 4, 14
             else:
                 continue
-            draw_label(painter, at, agent.id, color, dx=dx, dy=dy)
+            draw_label(painter, at, agent.id, color, dx=dx, dy=dy, backdrop=backdrop)
 
     def _paint_highlight(self, painter: QPainter) -> None:
         mpp = metres_per_pixel(painter)
