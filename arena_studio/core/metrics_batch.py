@@ -34,7 +34,7 @@ from .metrics import (
     goal_key,
     par_time_of,
 )
-from .observe import coverage_planes, goal_reached_batch, segment_starts
+from .observe import coverage_planes_sparse, goal_reached_planes, segment_starts
 from .scene import Scene
 
 #: episodes are processed in groups of about this many steps (arrays stay cache-sized)
@@ -152,7 +152,13 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
     needed = np.asarray(goal_rows.any(axis=0))
     if any(a is False and t is not None for a, t in zip(aligned, targets_of, strict=True)):
         needed[:] = True
-    cover = coverage_planes(scene, xa, ya, only=needed).transpose(2, 1, 0)  # (N, A, L) view
+    planes = coverage_planes_sparse(scene, xa, ya, only=needed)  # (L, A, N)
+    cover = planes.transpose(2, 1, 0)  # (N, A, L) view
+    # landmark covered by some agent, (L, N); unneeded landmarks stay False
+    covered_any = np.zeros((n_lm, n), dtype=bool)
+    for k in np.flatnonzero(needed).tolist():
+        for a in range(n_agents):
+            covered_any[k] |= planes[k, a]
 
     # success ----------------------------------------------------------------------------
     success = np.zeros(len(episodes), dtype=bool)
@@ -160,7 +166,7 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
     if has_goal.any():
         goals = goal_rows.copy()
         goals[~has_goal, 0] = True  # placeholder target, result ignored
-        reached = goal_reached_batch(scene, goals, None, lengths, dt=dt, cover=cover)
+        reached = goal_reached_planes(scene, goals, covered_any, lengths, dt=dt)
         if scene.goals.rule == "all_at_end":
             success = reached[ends - 1] & has_goal
             step = np.maximum.reduceat(np.where(reached, floor, idx), starts) + 1 - starts

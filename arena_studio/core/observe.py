@@ -236,6 +236,100 @@ def coverage_planes(scene: Scene, x: Any, y: Any, only: Any = None) -> np.ndarra
     return out
 
 
+def coverage_planes_sparse(scene: Scene, x: Any, y: Any, only: Any = None) -> np.ndarray:
+    """:func:`coverage_planes`, bit for bit, cheaper when most points lie far from every disc.
+
+    A point outside a landmark's bounding square grown by a small pad is outside its disc:
+    ``hypot(dx, dy) >= |dx|`` and the pad (1e-6 of the radius plus 1e-12 of the landmark's
+    coordinate) exceeds every rounding in the comparison. Four comparisons per point and
+    landmark settle those; the points inside the square (and no others: a non-finite point
+    fails the comparisons and is outside for :func:`coverage` too) get the exact test of
+    :func:`coverage_planes`, on those points only.
+    """
+    xs = np.ascontiguousarray(x, dtype=np.float64)
+    ys = np.ascontiguousarray(y, dtype=np.float64)
+    if xs.shape != ys.shape:
+        raise ValueError(f"x and y differ in shape: {xs.shape} and {ys.shape}")
+    lm_pos, reach = _landmark_arrays(scene)
+    out = np.zeros((len(reach), *xs.shape), dtype=bool)
+    fx, fy = xs.reshape(-1), ys.reshape(-1)
+    near = np.empty(fx.shape, dtype=bool)
+    part = np.empty(fx.shape, dtype=bool)
+    for k in range(len(reach)):
+        if only is not None and not only[k]:
+            continue
+        lx, ly, r = float(lm_pos[k, 0]), float(lm_pos[k, 1]), float(reach[k])
+        pad_x = r * 1e-6 + abs(lx) * 1e-12
+        pad_y = r * 1e-6 + abs(ly) * 1e-12
+        np.greater_equal(fx, lx - r - pad_x, out=near)
+        near &= np.less_equal(fx, lx + r + pad_x, out=part)
+        near &= np.greater_equal(fy, ly - r - pad_y, out=part)
+        near &= np.less_equal(fy, ly + r + pad_y, out=part)
+        where = np.flatnonzero(near)
+        if not where.size:
+            continue
+        cx, cy = fx[where], fy[where]
+        r2 = reach[k] * reach[k]
+        d2 = np.subtract(lx, cx)
+        d2 *= d2
+        dy = np.subtract(ly, cy)
+        dy *= dy
+        d2 += dy
+        hit = d2 <= r2
+        unsure = ~(np.abs(d2 - r2) > r2 * _RIM_MARGIN)  # near the rim (as coverage_planes)
+        if unsure.any():
+            u = np.flatnonzero(unsure)
+            hit[u] = np.hypot(lx - cx[u], ly - cy[u]) <= reach[k]
+        out[k].reshape(-1)[where] = hit
+    return out
+
+
+def goal_reached_planes(
+    scene: Scene,
+    goals: Any,
+    covered: np.ndarray,
+    lengths: Any,
+    rule: str | None = None,
+    dt: float | None = None,
+    hold_time: float | None = None,
+) -> np.ndarray:
+    """:func:`goal_reached_batch` from per-landmark coverage: ``covered`` (L, N) bool says
+    landmark l is covered by some agent at row n. Each landmark's row stays contiguous, and
+    when every episode has the same goal the target rows need no mask at all."""
+    rule = scene.goals.rule if rule is None else rule
+    if rule not in RULES:
+        raise ValueError(f"unknown success rule {rule!r} (expected one of {', '.join(RULES)})")
+    hold = scene.goals.hold_time if hold_time is None else float(hold_time)
+    g = np.asarray(goals)
+    count = len(scene.landmarks)
+    if g.ndim != 2 or g.shape[1] != count:
+        raise ValueError(f"goals: expected shape (E, {count}), got {g.shape}")
+    tmask = g != 0
+    empty = np.flatnonzero(~tmask.any(axis=1))
+    if empty.size:
+        raise ValueError(f"goal of episode {int(empty[0])} has no targets (every entry is 0)")
+    starts, floor = segment_starts(lengths)
+    n = floor.shape[0]
+    if covered.shape != (count, n) or starts.shape[0] != g.shape[0]:
+        raise ValueError("coverage, goals and lengths do not describe the same episodes")
+    seg_len = np.diff(np.append(starts, n))
+    uniform = bool((tmask == tmask[0]).all())
+    extra = hold_steps(hold, dt)
+    ok = np.ones(n, dtype=bool)
+    idx = np.arange(n)
+    for k in np.flatnonzero(tmask.any(axis=0)).tolist():
+        if rule in ("all_at_end", "all_at_once"):
+            term = covered[k]
+        else:  # visited: held (run length > extra) at some row since the episode began
+            held = covered[k] if extra == 0 else _run_lengths_seg(covered[k], floor) > extra
+            first = np.minimum.reduceat(np.where(held, idx, n), starts)
+            term = idx >= np.repeat(first, seg_len)
+        ok &= term if uniform else term | ~np.repeat(tmask[:, k], seg_len)
+    if rule in ("all_at_end", "all_at_once") and extra > 0:
+        return np.asarray(_run_lengths_seg(ok, floor) > extra)
+    return ok  # a run length exceeds 0 exactly where the condition holds
+
+
 def _any_last(arr: np.ndarray, axis: int) -> np.ndarray:
     """``arr.any(axis)`` for a short axis, as a chain of element-wise ORs (much faster)."""
     parts = np.moveaxis(arr, axis, 0)
@@ -321,8 +415,10 @@ __all__ = [
     "coverage",
     "coverage_fast",
     "coverage_planes",
+    "coverage_planes_sparse",
     "goal_reached",
     "goal_reached_batch",
+    "goal_reached_planes",
     "hold_steps",
     "observe",
     "segment_starts",

@@ -103,3 +103,119 @@ def test_goal_reached_batch_refuses_bad_input() -> None:
         goal_reached_batch(SCENE, np.array([[1, 0, 0]]), pos, [3])
     with pytest.raises(ValueError, match="at least one step"):
         goal_reached_batch(SCENE, np.array([[1, 0, 0], [1, 0, 0]]), pos, [4, 0])
+
+
+# -- coverage_planes_sparse and goal_reached_planes (the metrics' batched path) --------------
+# References as above: coverage() itself (bit for bit, including rim points a few ulps either
+# side, far-away points, non-finite ones) and math.hypot off the rim; goal_reached() applied
+# episode by episode.
+from arena_studio.core.inside_test import InsideTest, _largest_rectangle  # noqa: E402
+from arena_studio.core.observe import (  # noqa: E402
+    coverage_planes_sparse,
+    goal_reached_planes,
+)
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.integers(0, 2**32 - 1), st.booleans())
+def test_coverage_planes_sparse_is_coverage_bit_for_bit(seed: int, limit: bool) -> None:
+    rng = np.random.default_rng(seed)
+    pts = np.vstack([_rim_points(rng, 300), rng.uniform(-1, 11, (300, 2))])
+    # squares' corners and edges: just inside and outside the bounding square of each disc
+    corner = np.array(LANDMARKS)[rng.integers(0, 3, 40)] + rng.choice([-0.5, 0.5], (40, 2)) * (
+        1 + rng.choice([-1e-7, 0.0, 1e-7], (40, 1))
+    )
+    pts = np.vstack([pts, corner])
+    pts[rng.integers(0, len(pts), 3)] = [np.nan, 1.0]
+    pts[rng.integers(0, len(pts), 2)] = [np.inf, -np.inf]
+    pts[rng.integers(0, len(pts), 2)] = [1e300, 8.0]
+    rng.shuffle(pts)
+    positions = pts[: len(pts) // 2 * 2].reshape(-1, 2, 2)  # (T, A=2, 2)
+    only = np.array([True, False, True]) if limit else None
+    planes = coverage_planes_sparse(SCENE, positions[..., 0], positions[..., 1], only=only)
+    want = np.moveaxis(coverage(SCENE, positions), -1, 0)
+    if limit:
+        want[1] = False
+    assert np.array_equal(planes, want)
+    for (k, t, a), got in np.ndenumerate(planes):
+        if limit and k == 1:
+            continue
+        x, y = positions[t, a]
+        lx, ly = LANDMARKS[k]
+        d = math.hypot(lx - x, ly - y)
+        if not abs(d - 0.5) < 1e-12:
+            assert got == (d <= 0.5)
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    st.integers(0, 2**32 - 1),
+    st.integers(1, 8),
+    st.sampled_from(RULES),
+    st.sampled_from([0.0, 0.1, 0.25, 1.0]),
+    st.booleans(),
+)
+def test_goal_reached_planes_matches_goal_reached(
+    seed: int, count: int, rule: str, hold: float, same_goal: bool
+) -> None:
+    rng = np.random.default_rng(seed)
+    tracks, goals = _random_episodes(rng, count)
+    if same_goal:
+        goals[:] = goals[0]
+    lengths = [len(t) for t in tracks]
+    pos = np.concatenate(tracks)
+    covered = coverage(SCENE, pos).any(axis=1).T  # (L, N)
+    got = goal_reached_planes(SCENE, goals, covered, lengths, rule=rule, dt=0.1, hold_time=hold)
+    starts, _ = segment_starts(lengths)
+    for e, track in enumerate(tracks):
+        want = goal_reached(SCENE, goals[e], track, rule=rule, dt=0.1, hold_time=hold)
+        s = starts[e]
+        assert np.array_equal(got[s : s + len(track)], want), (e, rule, hold)
+
+
+def test_inside_test_box_answers_like_geos() -> None:
+    # reference: shapely.intersects_xy (GEOS) point for point, on a room with a pillar, with
+    # points on, just inside and just outside its edges and on the covered box's edges
+    import shapely
+
+    room = shapely.Polygon([(0, 0), (10, 0), (10, 10), (0, 10)]).difference(shapely.box(4, 4, 6, 6))
+    test = InsideTest(room)
+    rng = np.random.default_rng(7)
+    xs = rng.uniform(-1, 11, 20000)
+    ys = rng.uniform(-1, 11, 20000)
+    edges = np.array([0.0, 4.0, 6.0, 10.0])
+    xs[:4000] = rng.choice(edges, 4000) + rng.choice([-1e-12, 0.0, 1e-12], 4000)
+    test.contains_xy(xs, ys)  # builds the grid and the covered box
+    assert test._box is not None
+    x0, y0, x1, y1 = test._box
+    xs[4000:4100] = rng.choice([x0, x1], 100)
+    ys[4000:4100] = rng.uniform(y0, y1, 100)
+    xs[4100] = np.nan
+    got = test.contains_xy(xs, ys)
+    assert np.array_equal(got, shapely.intersects_xy(room, xs, ys))
+
+
+def test_largest_rectangle_against_brute_force() -> None:
+    # reference: every rectangle of small random masks enumerated (common practice, no source)
+    rng = np.random.default_rng(3)
+    for _ in range(150):
+        mask = rng.random((int(rng.integers(1, 9)), int(rng.integers(1, 9)))) < rng.uniform(0.3, 1)
+        found = _largest_rectangle(mask)
+        rows, cols = mask.shape
+        best = max(
+            (
+                (i1 - i0 + 1) * (j1 - j0 + 1)
+                for i0 in range(rows)
+                for i1 in range(i0, rows)
+                for j0 in range(cols)
+                for j1 in range(j0, cols)
+                if mask[i0 : i1 + 1, j0 : j1 + 1].all()
+            ),
+            default=0,
+        )
+        if found is None:
+            assert best == 0
+        else:
+            i0, j0, i1, j1 = found
+            assert mask[i0 : i1 + 1, j0 : j1 + 1].all()
+            assert (i1 - i0 + 1) * (j1 - j0 + 1) == best
