@@ -10,8 +10,10 @@ from __future__ import annotations
 
 import math
 
+import numpy as np
 from PySide6.QtCore import QPoint, QPointF, QRectF, Qt, Signal
 from PySide6.QtGui import (
+    QImage,
     QKeyEvent,
     QMouseEvent,
     QPainter,
@@ -24,6 +26,7 @@ from PySide6.QtWidgets import QFrame, QGraphicsScene, QGraphicsView, QWidget
 from ..core.geometry import bounds
 from ..core.scene import Scene
 from ..render.drawing import nice_step
+from ..render.episode_painter import blits_exactly
 from ..render.scene_painter import paint_scale_bar
 from ..render.theme import Theme
 from ..render.view import ViewTransform
@@ -63,6 +66,7 @@ class SceneCanvas(QGraphicsView):
         self._pan_from: QPoint | None = None
         self._space = False
         self._fitted_once = False
+        self._scale_bar_cache: tuple[tuple, tuple[QPoint, QImage]] | None = None
 
     # -- content -----------------------------------------------------------------------
     @property
@@ -141,15 +145,54 @@ class SceneCanvas(QGraphicsView):
         painter.fillRect(rect, self.theme.qcolor("background"))
 
     def drawForeground(self, painter: QPainter, rect: QRectF) -> None:
-        """Scale bar in viewport pixels, drawn by the shared scene painter's function."""
+        """Scale bar in viewport pixels, drawn by the shared scene painter's function.
+
+        It changes only with the zoom, the view size and the theme, yet sits above the items,
+        so on a raster device it is drawn once into a small transparent image (aligned to
+        whole pixels, hence the same pixels) and blitted each frame after."""
         t = self.viewportTransform()
         view = ViewTransform(math.hypot(t.m11(), t.m12()), t.dx(), t.dy())
         size = (float(self.viewport().width()), float(self.viewport().height()))
         painter.save()
         painter.resetTransform()
-        painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
-        paint_scale_bar(painter, view, self.theme, size)
+        if blits_exactly(painter):
+            origin, image = self._scale_bar_image(view, size)
+            painter.drawImage(origin, image)
+        else:
+            painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+            paint_scale_bar(painter, view, self.theme, size)
         painter.restore()
+
+    def _scale_bar_image(
+        self, view: ViewTransform, size: tuple[float, float]
+    ) -> tuple[QPoint, QImage]:
+        """The scale bar cut out of a transparent view-sized image: the cut is found from the
+        pixels painted, so it follows whatever layout the shared painter uses."""
+        key = (view.scale, size, self.theme.name)
+        if self._scale_bar_cache is not None and self._scale_bar_cache[0] == key:
+            return self._scale_bar_cache[1]
+        w, h = max(math.ceil(size[0]), 1), max(math.ceil(size[1]), 1)
+        full = QImage(w, h, QImage.Format.Format_ARGB32_Premultiplied)
+        full.fill(Qt.GlobalColor.transparent)
+        p = QPainter(full)
+        try:
+            p.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+            p.setRenderHint(QPainter.RenderHint.TextAntialiasing, True)
+            paint_scale_bar(p, view, self.theme, size)
+        finally:
+            p.end()
+        pixels = np.frombuffer(full.constBits(), np.uint32, count=h * full.bytesPerLine() // 4)
+        painted = pixels.reshape(h, -1)[:, :w] != 0
+        rows, cols = np.flatnonzero(painted.any(axis=1)), np.flatnonzero(painted.any(axis=0))
+        if len(rows) == 0:
+            cut = (QPoint(0, 0), QImage(1, 1, QImage.Format.Format_ARGB32_Premultiplied))
+            cut[1].fill(Qt.GlobalColor.transparent)
+        else:
+            x0, y0 = int(cols[0]), int(rows[0])
+            x1, y1 = int(cols[-1]) + 1, int(rows[-1]) + 1
+            cut = (QPoint(x0, y0), full.copy(x0, y0, x1 - x0, y1 - y0))
+        self._scale_bar_cache = (key, cut)
+        return cut
 
     # -- input -------------------------------------------------------------------------
     def _starts_pan(self, event: QMouseEvent) -> bool:
