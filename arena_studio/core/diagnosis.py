@@ -172,6 +172,8 @@ def diagnose_block(
     if not todo:
         return out
     n_rows, n_agents, n_lm = cover.shape
+    # landmark-major rows (L, A, N): a contiguous view when cover came from coverage_planes
+    planes = cover.transpose(2, 1, 0)
     lengths = np.array([ep.steps for ep in episodes], dtype=np.int64)
     ends = starts + lengths
     last = ends - 1
@@ -180,28 +182,66 @@ def diagnose_block(
     tmask = np.zeros((n_ep, n_lm), dtype=bool)
     for e in todo:
         tmask[e, list(goals[e] or ())] = True
-    rows_mask = np.repeat(tmask, lengths, axis=0)  # (N, L)
-    count = np.zeros((n_rows, n_lm), dtype=np.uint8 if n_agents < 256 else np.int64)
-    for a in range(n_agents):
-        count += cover[:, a, :]
-    covered = count > 0
-    if any(aligned[e] is False for e in todo):  # first step a landmark outside the goal is hit
-        off = _any_row(covered & ~rows_mask)
+    # every result below is reduced per episode and read only for the episodes in todo, so
+    # when those share one goal its mask can stand for every row
+    uniform = bool((tmask[todo] == tmask[todo[0]]).all())
+    misaligned = any(aligned[e] is False for e in todo)
+    used = tmask.any(axis=0)
+
+    def rows_of(k: int) -> np.ndarray | None:
+        """Rows whose episode targets landmark k; None: all of them (uniform goals)."""
+        return None if uniform else np.repeat(tmask[:, k], lengths)
+
+    count = np.zeros((n_lm, n_rows), dtype=np.uint8 if n_agents < 256 else np.int64)
+    for k in range(n_lm):
+        if used[k] or misaligned:
+            for a in range(n_agents):
+                count[k] += planes[k, a]
+    covered = count > 0  # (L, N)
+    if misaligned:  # first step a landmark outside the goal is hit
+        off = np.zeros(n_rows, dtype=bool)
+        for k in range(n_lm):
+            rk = rows_of(k)
+            if rk is None:
+                if not tmask[todo[0], k]:
+                    off |= covered[k]
+            else:
+                off |= covered[k] & ~rk
         off_first = (np.minimum.reduceat(np.where(off, idx, n_rows), starts) - starts).tolist()
-    dup = _any_row((count >= 2) & rows_mask) & _any_row(~covered & rows_mask)
+    many = np.zeros(n_rows, dtype=bool)  # some target covered twice or more
+    hole = np.zeros(n_rows, dtype=bool)  # some target empty
+    first_cov = np.full((n_ep, n_lm), n_rows, dtype=np.int64)
+    for k in np.flatnonzero(used).tolist():
+        rk = rows_of(k)
+        if rk is None:
+            many |= count[k] >= 2
+            hole |= ~covered[k]
+        else:
+            many |= (count[k] >= 2) & rk
+            hole |= ~covered[k] & rk
+        first_cov[:, k] = np.minimum.reduceat(np.where(covered[k], idx, n_rows), starts)
+    dup = many & hole
     dup_last = dup[last].tolist()
     dup_start = (np.maximum.reduceat(np.where(dup, floor, idx), starts) + 1 - starts).tolist()
-    first_cov = np.minimum.reduceat(np.where(covered, idx[:, None], n_rows), starts, axis=0)
     all_reached: list[bool] = np.asarray(
         (~tmask | (first_cov < ends[:, None])).all(axis=1)
     ).tolist()
     last_reached = (np.where(tmask, first_cov, -1).max(axis=1) - starts).tolist()
-    end_count = count[last].tolist()  # (E, L)
-    still_start = (
-        np.maximum.reduceat(np.where(still, floor[:, None], idx[:, None]), starts, axis=0)
-        + 1
-        - starts[:, None]
-    ).tolist()
+    end_count = count[:, last].T.tolist()  # (E, L)
+    run_starts: list[list[int]] = []
+
+    def still_start(e: int, a: int) -> int:
+        """First step of agent a's still run that lasts to episode e's end (computed once)."""
+        if not run_starts:
+            run_starts.extend(
+                (
+                    np.maximum.reduceat(np.where(still, floor[:, None], idx[:, None]), starts, 0)
+                    + 1
+                    - starts[:, None]
+                ).tolist()
+            )
+        return run_starts[e][a]
+
     still_last = still[last].tolist()
     cover_last = cover[last].tolist()  # (E, A, L)
     dt = episodes[0].dt
@@ -267,7 +307,7 @@ def diagnose_block(
             continue
         for a in range(n_agents):
             if still_last[e][a] and not any(cover_last[e][a][lm] for lm in targets):
-                start = still_start[e][a]
+                start = still_start(e, a)
                 if t_end - start >= need:
                     x, y = ep.poses[start, a, :2]
                     out[e] = Diagnosis(

@@ -202,13 +202,17 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
         np.sqrt(seg, out=seg)
     top = np.array([a.max_speed for a in scene.agents], dtype=np.float64)
     limit = np.maximum(STILL_SPEED_FRACTION * top, STILL_SPEED_MIN)
-    speed = np.zeros((n_agents, n))
+    # still when speed = seg / dt < limit (as metrics.step_speeds): a step at or above
+    # limit * dt (1 + 1e-6) cannot pass, so only the rest are divided and compared
+    still_an = np.zeros((n_agents, n), dtype=bool)  # (A, N)
     if n > 1:
-        np.divide(seg, dt, out=speed[:, 1:])
+        ca, cc = _nonzero_2d(seg < (limit * dt * (1 + 1e-6))[:, None])
+        if cc.size:
+            slow = seg[ca, cc] / dt < limit[ca]
+            still_an[ca[slow], cc[slow] + 1] = True
     long_ep = lengths >= 2
-    speed[:, starts[long_ep]] = speed[:, starts[long_ep] + 1]
-    speed[:, starts[~long_ep]] = 0.0
-    still_an = speed < limit[:, None]  # (A, N)
+    still_an[:, starts[long_ep]] = still_an[:, starts[long_ep] + 1]  # step 0 copies step 1
+    still_an[:, starts[~long_ep]] = True  # a one-step episode has speed 0
     aa, rr = _nonzero_2d(still_an)
     if rr.size:
         later = rr.copy()
@@ -232,12 +236,24 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
     # contacts ---------------------------------------------------------------------------------
     radii = np.array([a.radius for a in scene.agents], dtype=np.float64)
     pi_, pj_ = np.triu_indices(n_agents, k=1)
-    overlap = np.empty((len(pi_), n), dtype=bool)  # (P, N)
+    overlap = np.zeros((len(pi_), n), dtype=bool)  # (P, N)
+    near = np.empty(n, dtype=bool)
+    part = np.empty(n, dtype=bool)
     for k, (i, j) in enumerate(zip(pi_.tolist(), pj_.tolist(), strict=True)):
+        # overlap: dx * dx + dy * dy < reach * reach (as metrics.overlap_mask); with |dx| or
+        # |dy| at or above reach (1 + 1e-6) it cannot hold, so only the rest are squared
         pdx = xa[i] - xa[j]
         pdy = ya[i] - ya[j]
         reach = radii[i] + radii[j]
-        np.less(pdx * pdx + pdy * pdy, reach * reach, out=overlap[k])
+        pad = reach * (1 + 1e-6)
+        np.less(pdx, pad, out=near)
+        near &= np.greater(pdx, -pad, out=part)
+        near &= np.less(pdy, pad, out=part)
+        near &= np.greater(pdy, -pad, out=part)
+        c = np.flatnonzero(near)
+        if c.size:
+            cx, cy = pdx[c], pdy[c]
+            overlap[k, c] = cx * cx + cy * cy < reach * reach
     pair_on = _seg_onsets(overlap, starts)
     exits = _exit_counts(scene, xa, ya, starts, floor, len(episodes))
     if pair_on.any():
