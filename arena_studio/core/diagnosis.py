@@ -197,7 +197,7 @@ def diagnose_block(
         if used[k] or misaligned:
             for a in range(n_agents):
                 count[k] += planes[k, a]
-    covered = count > 0  # (L, N)
+    covered: np.ndarray = np.asarray(count > 0)  # (L, N)
     if misaligned:  # first step a landmark outside the goal is hit
         off = np.zeros(n_rows, dtype=bool)
         for k in range(n_lm):
