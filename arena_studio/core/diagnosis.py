@@ -186,7 +186,7 @@ def diagnose_block(
     # when those share one goal its mask can stand for every row
     uniform = bool((tmask[todo] == tmask[todo[0]]).all())
     misaligned = any(aligned[e] is False for e in todo)
-    used = tmask.any(axis=0)
+    used: np.ndarray = np.asarray(tmask.any(axis=0))
 
     def rows_of(k: int) -> np.ndarray | None:
         """Rows whose episode targets landmark k; None: all of them (uniform goals)."""
