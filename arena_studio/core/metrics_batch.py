@@ -61,6 +61,23 @@ def _aligned(episode: Episode) -> bool | None:
     return team is None or team.tobytes() == fb
 
 
+def _judged(
+    episode: Episode, cache: dict[bytes, tuple[int, ...]]
+) -> tuple[bool | None, tuple[int, ...] | None]:
+    """(aligned, judged target indices or None) of an episode, as metrics.episode_metrics."""
+    aligned = _aligned(episode)
+    goal = episode.team_goal
+    if goal is None and aligned and episode.pursued_goals:
+        goal = episode.pursued_goals[0]
+    if goal is None:
+        return aligned, None
+    g = np.asarray(goal)
+    key = g.dtype.str.encode() + g.tobytes()
+    if key not in cache:
+        cache[key] = tuple(int(i) for i in np.flatnonzero(g))
+    return aligned, cache[key] or None
+
+
 def episodes_metrics(scene: Scene, episodes: Sequence[Episode]) -> list[EpisodeMetrics]:
     """``[episode_metrics(scene, e) for e in episodes]``, computed in blocks of episodes."""
     out: list[EpisodeMetrics] = []
@@ -127,23 +144,21 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
     idx = np.arange(n)
 
     # goals ------------------------------------------------------------------------------
-    aligned = [_aligned(ep) for ep in episodes]
+    # tapes hand out the same goal arrays episode after episode: answers are remembered by
+    # array identity (safe: every episode, hence every array, lives until this block ends)
+    aligned: list[bool | None] = []
     targets_of: list[tuple[int, ...] | None] = []
     goal_rows = np.zeros((len(episodes), n_lm), dtype=bool)
     cache: dict[bytes, tuple[int, ...]] = {}
+    seen: dict[tuple[int, ...], tuple[bool | None, tuple[int, ...] | None]] = {}
     for e, ep in enumerate(episodes):
-        goal = ep.team_goal
-        if goal is None and aligned[e] and ep.pursued_goals:
-            goal = ep.pursued_goals[0]
-        if goal is None:
-            targets_of.append(None)
-            continue
-        g = np.asarray(goal)
-        key = g.dtype.str.encode() + g.tobytes()
-        if key not in cache:
-            cache[key] = tuple(int(i) for i in np.flatnonzero(g))
-        t = cache[key]
-        targets_of.append(t or None)
+        ident = (id(ep.team_goal), *map(id, ep.pursued_goals))
+        known = seen.get(ident)
+        if known is None:
+            known = seen[ident] = _judged(ep, cache)
+        aligned.append(known[0])
+        t = known[1]
+        targets_of.append(t)
         if t:
             goal_rows[e, list(t)] = True
     has_goal = goal_rows.any(axis=1)

@@ -450,14 +450,14 @@ class Tape:
             raise TapeError(self._src, where, "does not start with an episode record")
         begin = records[0][1]
         a, n_lm = len(self.agent_ids), len(self.scene.landmarks)
-        team_goal = self._goal(begin.get("team_goal"), f"{where}.team_goal", n_lm)
+        team_goal = self._goal(begin.get("team_goal"), n_lm, copy, where, "team_goal")
         pursued_raw = begin.get("pursued_goals")
         pursued: tuple[np.ndarray | None, ...] = ()
         if pursued_raw is not None:
             if not isinstance(pursued_raw, list) or len(pursued_raw) != a:
                 raise TapeError(self._src, f"{where}.pursued_goals", f"expected {a} entries")
             pursued = tuple(
-                self._goal(g, f"{where}.pursued_goals[{k}]", n_lm)
+                self._goal(g, n_lm, copy, where, "pursued_goals", k)
                 for k, g in enumerate(pursued_raw)
             )
         roles = self._roles(begin.get("roles"), f"{where}.roles", a)
@@ -573,7 +573,11 @@ class Tape:
     ) -> np.ndarray:
         return decode_array(value, where, self._src, dtypes=dtypes, shape=shape)
 
-    def _goal(self, value: Any, where: str, n_lm: int) -> np.ndarray | None:
+    def _goal(
+        self, value: Any, n_lm: int, copy: bool, where: str, field: str, k: int | None = None
+    ) -> np.ndarray | None:
+        """A checked goal vector; ``where.field[k]`` names it in errors. With ``copy`` False
+        the remembered read-only array itself (callers that only look at it)."""
         if value is None:
             return None
         # the same few goal vectors recur in every episode: remember the checked ones
@@ -584,12 +588,15 @@ class Tape:
                 key = data
                 known = self._goal_cache.get(key)
                 if known is not None:
-                    return known.copy()
-        arr = self._array(value, where, GOAL_DTYPES, (n_lm,))
+                    return known.copy() if copy else known
+        place = f"{where}.{field}" if k is None else f"{where}.{field}[{k}]"
+        arr = self._array(value, place, GOAL_DTYPES, (n_lm,))
         if n_lm and max(value["data"]) > 1:  # |u1 bytes: a goal holds only 0 and 1
-            raise TapeError(self._src, where, "a goal holds only 0 and 1")
+            raise TapeError(self._src, place, "a goal holds only 0 and 1")
         if key is not None and len(self._goal_cache) < GOAL_CACHE_SIZE:
-            self._goal_cache[key] = arr.copy()
+            kept = arr.copy()
+            kept.flags.writeable = False
+            self._goal_cache[key] = kept
         return arr.copy()
 
     def _roles(self, value: Any, where: str, a: int) -> tuple[RoleTimeline, ...]:
