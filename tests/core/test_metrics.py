@@ -232,3 +232,25 @@ def test_batched_metrics_cover_every_diagnosis() -> None:
         _same(ref, episodes_metrics(scene, episodes))
         seen |= {m.diagnosis_code for m in ref}
     assert set(CODES) <= seen
+
+
+def test_tape_metrics_name_the_damaged_record(tmp_path: Path) -> None:
+    # reference: CRC-32 (zlib) detects every single-bit error in a record (its defining
+    # property [memory]); the tape format frames each record with one (DEVELOPERS.md)
+    import struct
+    import zlib
+
+    from arena_studio.core.tape import TapeError
+
+    from .tape_helpers import write_small_tape
+
+    assert zlib.crc32(b"123456789") == 0xCBF43926  # CRC-32 check value [memory]
+    path = tmp_path / "small.tape"
+    write_small_tape(path, box_scene(), episodes=4, steps=6)
+    entry = open_tape(path)._entries[2]
+    data = bytearray(path.read_bytes())
+    chunk = entry.begin + 5 + struct.unpack_from("<I", data, entry.begin)[0] + 4
+    data[chunk + 40] ^= 0x04  # inside episode 2's chunk record
+    path.write_bytes(bytes(data))
+    with pytest.raises(TapeError, match=f"episode 2 byte {chunk}: record checksum mismatch"):
+        tape_metrics(open_tape(path))

@@ -46,6 +46,7 @@ from .format import (
     TapeError,
     decode_array,
     finish_crc_checks,
+    first_bad_record,
     read_frame,
     start_crc_checks,
     unpack,
@@ -172,7 +173,7 @@ class Tape:
         if verify:
             for k, e in enumerate(entries):
                 view = span[e.begin - lo : e.end - lo]
-                bad = finish_crc_checks(start_crc_checks(view, inline=True))
+                bad = first_bad_record(view)
                 if bad is not None:
                     raise TapeError(
                         self._src,
