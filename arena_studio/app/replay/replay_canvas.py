@@ -26,11 +26,12 @@ from ...core.episode import Episode
 from ...core.roles import ROLE_NAMES
 from ...core.scene import Scene
 from ...render.episode_cache import episode_cache
-from ...render.episode_painter import FrameOptions, paint_clock, paint_episode_frame, paint_legend
+from ...render.episode_painter import FrameOptions, paint_episode_frame, paint_legend
 from ...render.theme import Theme
 from ...render.view import ViewTransform
 from ..canvas import SceneCanvas
 from ..scene_items import WORLD
+from .clock_overlay import ClockOverlay
 from .prepared import PreparedEpisode
 
 LEGEND_W = 200.0
@@ -105,6 +106,7 @@ class ReplayCanvas(SceneCanvas):
         self._hover_agent: int | None = None
         self._hover_pos = None
         self._legend_cache: tuple[tuple, QPixmap] | None = None
+        self._clock = ClockOverlay()  # render.legend.paint_clock with fonts made once
         self.auto_fit = True  # keep the scene fitted on resize until the user zooms or pans
         # the scene never changes during a replay: keep the background (floor, grid) and the
         # static scene layer as pixmaps, so a new step repaints only the episode layer's work
@@ -234,7 +236,7 @@ class ReplayCanvas(SceneCanvas):
         w, h = self.viewport().width(), self.viewport().height()
         ui = 1.0
         if self.show_clock:
-            paint_clock(painter, QRectF(0, 0, 320, 60), ep, self.step, self.theme, ui)
+            self._clock.paint(painter, QRectF(0, 0, 320, 60), ep, self.step, self.theme, ui)
         if self.show_legend and w > 520:
             legend_h = min(h - 20.0, 150.0 + 20.0 * (ep.agent_count + 9))
             painter.drawPixmap(int(w - LEGEND_W - 10), 10, self._legend_pixmap(ep, legend_h))
