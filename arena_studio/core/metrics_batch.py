@@ -291,8 +291,12 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
     paths = _path_lengths(seg, starts, lengths, n_agents)
     out: list[EpisodeMetrics] = []
     lo = 0
+    starts_list, split_list = starts.tolist(), on_split.tolist()
+    pi_list, pj_list = pi_.tolist(), pj_.tolist()
+    # goal key, kind and par time once per distinct goal of the block
+    per_goal: dict[tuple[int, ...] | None, tuple[str | None, str | None, float | None]] = {}
     for e, ep in enumerate(episodes):
-        s, t_len = int(starts[e]), int(lengths[e])
+        s = starts_list[e]
         targets = targets_of[e]
         ok = success_list[e]
         st = step_list[e] if ok else None
@@ -301,22 +305,21 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
             for lm in targets:
                 covered[lm_ids[lm]] = ids[who_list[e][lm]] if visited_list[e][lm] else None
         path = paths[e]
-        hi = int(on_split[e])
-        pairs = tuple(
-            (r - s, int(pi_[p]), int(pj_[p]))
-            for r, p in zip(on_rows[lo:hi].tolist(), on_pair[lo:hi].tolist(), strict=True)
-        )
+        hi = split_list[e]
+        pairs: tuple[tuple[int, int, int], ...] = ()
+        if hi > lo:
+            pairs = tuple(
+                (r - s, pi_list[p], pj_list[p])
+                for r, p in zip(on_rows[lo:hi].tolist(), on_pair[lo:hi].tolist(), strict=True)
+            )
         lo = hi
-        par = (
-            _MEMO.get(scene, ("par", targets), lambda t=targets: par_time_of(scene, t))
-            if targets
-            else None
-        )
+        if targets not in per_goal:
+            per_goal[targets] = _goal_facts(scene, targets)
+        key, kind, par = per_goal[targets]
         tts = None if st is None else st * ep.dt
         ratio = None
         if par is not None and tts is not None:
             ratio = par / tts if tts > 0 else (1.0 if par == 0 else None)
-        kind = None if targets is None else ("individual" if len(targets) == 1 else "cooperative")
         diag = found[e]
         out.append(
             EpisodeMetrics(
@@ -324,7 +327,7 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
                 steps=ep.steps,
                 duration=ep.duration,
                 goal=targets,
-                goal_key=None if targets is None else goal_key(scene, targets),
+                goal_key=key,
                 kind=kind,
                 success=ok,
                 success_step=st,
@@ -345,6 +348,17 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
             )
         )
     return out
+
+
+def _goal_facts(
+    scene: Scene, targets: tuple[int, ...] | None
+) -> tuple[str | None, str | None, float | None]:
+    """(goal key, kind, par time) of a judged goal, as metrics.episode_metrics gives them."""
+    if targets is None:
+        return None, None, None
+    par = _MEMO.get(scene, ("par", targets), lambda: par_time_of(scene, targets))
+    kind = "individual" if len(targets) == 1 else "cooperative"
+    return goal_key(scene, targets), kind, par
 
 
 def _exit_counts(
