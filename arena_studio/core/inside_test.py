@@ -27,6 +27,13 @@ MAX_CELLS = 128
 #: fewer points than this go straight to GEOS (building the grid would cost more)
 MIN_POINTS = 4096
 
+#: fewer points than this skip the grid once it is built
+FEW_POINTS = 64
+#: each mixed cell is split into this many sub-cells along each axis
+SUB_CELLS = 8
+#: no sub-grids when they would hold more sub-cells than this (building costs ~1 us each)
+MAX_SUB_CELLS = 1 << 16
+
 _DISJOINT, _COVERED, _MIXED = 0, 1, 2
 
 
@@ -41,6 +48,9 @@ class InsideTest:
         self._flat = np.zeros(0, dtype=np.uint8)
         #: (x0, y0, x1, y1) of a closed box GEOS says the geometry covers, or None
         self._box: tuple[float, float, float, float] | None = None
+        #: sub-cell classes of the mixed cells, and each cell's slot among them (-1: none)
+        self._sub = np.zeros(0, dtype=np.uint8)
+        self._slot = np.zeros(0, dtype=np.intp)
 
     def _build(self) -> None:
         geom = self.geometry
@@ -67,6 +77,7 @@ class InsideTest:
         self._table = table.reshape(nx, ny)
         self._flat = table
         self._grid = (minx, miny, 1.0 / hx, 1.0 / hy, nx, ny)
+        self._build_sub(minx, miny, hx, hy, ny)
         found = _largest_rectangle(self._table == _COVERED)
         if found is not None:
             i0, j0, i1, j1 = found  # cells i0..i1 along x, j0..j1 along y
@@ -75,6 +86,31 @@ class InsideTest:
             # confirms it, and only then do points in the box skip the grid
             if shapely.covers(geom, shapely.box(*box)):
                 self._box = box
+
+    def _build_sub(self, minx: float, miny: float, hx: float, hy: float, ny: int) -> None:
+        """Split every mixed cell into SUB_CELLS x SUB_CELLS sub-cells, classified like the
+        cells (grown by CELL_MARGIN), so that far fewer points near walls reach GEOS."""
+        mixed = np.flatnonzero(self._flat == _MIXED)
+        if not mixed.size or mixed.size * SUB_CELLS * SUB_CELLS > MAX_SUB_CELLS:
+            return
+        ci, cj = np.divmod(mixed, ny)
+        k = np.arange(SUB_CELLS)
+        bx = minx + ci[:, None, None] * hx + k[None, :, None] * (hx / SUB_CELLS)
+        by = miny + cj[:, None, None] * hy + k[None, None, :] * (hy / SUB_CELLS)
+        bx, by = np.broadcast_arrays(bx, by)
+        x0 = bx.ravel() - CELL_MARGIN
+        y0 = by.ravel() - CELL_MARGIN
+        boxes = shapely.box(
+            x0, y0, x0 + hx / SUB_CELLS + 2 * CELL_MARGIN, y0 + hy / SUB_CELLS + 2 * CELL_MARGIN
+        )
+        covered = shapely.covers(self.geometry, boxes)
+        disjoint = shapely.disjoint(self.geometry, boxes)
+        sub = np.full(boxes.shape, _MIXED, dtype=np.uint8)
+        sub[covered] = _COVERED
+        sub[disjoint & ~covered] = _DISJOINT
+        self._sub = sub
+        self._slot = np.full(self._flat.size, -1, dtype=np.intp)
+        self._slot[mixed] = np.arange(mixed.size)
 
     def contains_xy(self, x: Any, y: Any) -> np.ndarray:
         xs = np.asarray(x, dtype=np.float64)
@@ -103,7 +139,7 @@ class InsideTest:
         return inside
 
     def _grid_contains(self, xs: np.ndarray, ys: np.ndarray) -> np.ndarray:
-        if xs.size < MIN_POINTS:
+        if xs.size < FEW_POINTS or self._table is None:
             return np.asarray(shapely.intersects_xy(self.geometry, xs, ys))
         assert self._table is not None and self._grid is not None
         minx, miny, sx, sy, nx, ny = self._grid
@@ -129,6 +165,34 @@ class InsideTest:
             unsure |= ~finite
         if unsure.any():
             where = np.nonzero(unsure)
+            out[where] = self._fine_contains(xs[where], ys[where], flat[where])
+        return out
+
+    def _fine_contains(self, xs: np.ndarray, ys: np.ndarray, cells: np.ndarray) -> np.ndarray:
+        """Points of mixed cells (``cells``: their flat cell index): a point off the grid lies
+        beyond the geometry's bounds and is outside; the cell's sub-grid decides points in
+        covered or disjoint sub-cells; GEOS the rest (and every point that is not a number)."""
+        assert self._grid is not None
+        minx, miny, sx, sy, nx, ny = self._grid
+        slot = self._slot.take(cells) if self._slot.size else np.full(cells.shape, -1)
+        fx = (xs - minx) * sx
+        fy = (ys - miny) * sy
+        on_grid = (fx >= 0) & (fx < nx) & (fy >= 0) & (fy < ny)  # False for NaN
+        # off the grid means beyond the geometry's bounds (the grid reaches past them): outside
+        off_grid = (fx < 0) | (fx >= nx) | (fy < 0) | (fy >= ny)
+        ok = on_grid & (slot >= 0)
+        out = np.zeros(xs.shape, dtype=bool)
+        ask = ~(ok | off_grid)
+        if ok.any():
+            k = np.flatnonzero(ok)
+            fxk, fyk = fx[k], fy[k]
+            si = np.clip(((fxk - np.floor(fxk)) * SUB_CELLS).astype(np.intp), 0, SUB_CELLS - 1)
+            sj = np.clip(((fyk - np.floor(fyk)) * SUB_CELLS).astype(np.intp), 0, SUB_CELLS - 1)
+            cls = self._sub.take((slot[k] * SUB_CELLS + si) * SUB_CELLS + sj)
+            out[k] = cls == _COVERED
+            ask[k[cls == _MIXED]] = True
+        if ask.any():
+            where = np.flatnonzero(ask)
             out[where] = shapely.intersects_xy(self.geometry, xs[where], ys[where])
         return out
 

@@ -134,13 +134,9 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
     starts, floor = segment_starts(lengths)
     ends = starts + lengths
     n = int(ends[-1])
-    # x, y, heading as (A, N): one contiguous row per agent, episodes end to end
-    xa, ya, tha = np.empty((3, n_agents, n))
-    for ep, s0, t_len in zip(episodes, starts.tolist(), lengths.tolist(), strict=True):
-        cols = np.asarray(ep.poses).T  # (3, A, T) view
-        xa[:, s0 : s0 + t_len] = cols[0]
-        ya[:, s0 : s0 + t_len] = cols[1]
-        tha[:, s0 : s0 + t_len] = cols[2]
+    # x and y as (A, N): one contiguous row per agent, episodes end to end (headings are
+    # laid out the same way only when some step is slow enough to need its turn rate)
+    xa, ya = _agent_rows(episodes, starts, lengths, (0, 1))
     idx = np.arange(n)
 
     # goals ------------------------------------------------------------------------------
@@ -236,6 +232,7 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
         single = is_start & (lengths[np.searchsorted(starts, rr, side="right") - 1] < 2)
         later[single] = rr[single]
         earlier = np.where(single, rr, later - 1)
+        (tha,) = _agent_rows(episodes, starts, lengths, (2,))
         turn = tha[aa, later] - tha[aa, earlier]
         turn = np.abs((turn + np.pi) % (2 * np.pi) - np.pi) / dt
         turn[single] = 0.0
@@ -347,6 +344,19 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
                 collision_pairs=pairs,
             )
         )
+    return out
+
+
+def _agent_rows(
+    episodes: Sequence[Episode], starts: np.ndarray, lengths: np.ndarray, fields: tuple[int, ...]
+) -> np.ndarray:
+    """(len(fields), A, N): pose fields (0 x, 1 y, 2 heading) of episodes laid end to end."""
+    n_agents = episodes[0].agent_count
+    out = np.empty((len(fields), n_agents, int(starts[-1] + lengths[-1])))
+    for ep, s0, t_len in zip(episodes, starts.tolist(), lengths.tolist(), strict=True):
+        cols = np.asarray(ep.poses).T  # (3, A, T) view
+        for k, f in enumerate(fields):
+            out[k, :, s0 : s0 + t_len] = cols[f]
     return out
 
 

@@ -219,3 +219,29 @@ def test_largest_rectangle_against_brute_force() -> None:
             i0, j0, i1, j1 = found
             assert mask[i0 : i1 + 1, j0 : j1 + 1].all()
             assert (i1 - i0 + 1) * (j1 - j0 + 1) == best
+
+
+@pytest.mark.parametrize("shrink", [0.0, 0.013, 0.3])
+def test_inside_test_sub_cells_answer_like_geos(shrink: float) -> None:
+    # reference: shapely.intersects_xy (GEOS) point for point; a room with a round pillar
+    # (curved edges make many mixed cells and sub-cells), points beyond the bounds, on the
+    # walls within 1e-13 m, and non-finite ones
+    import shapely
+
+    room = (
+        shapely.Polygon([(0, 0), (10, 0), (10, 10), (0, 10)])
+        .difference(shapely.Point(5, 5).buffer(1.3))
+        .buffer(-shrink)
+    )
+    test = InsideTest(room)
+    rng = np.random.default_rng(11)
+    xs = rng.uniform(-1, 11, 60000)
+    ys = rng.uniform(-1, 11, 60000)
+    xs[:3000] = rng.choice([0.0, shrink, 10 - shrink, 10.0], 3000) + rng.choice(
+        [-1e-13, 0.0, 1e-13], 3000
+    )
+    xs[3000:3010] = np.nan
+    xs[3010:3020] = np.inf
+    ys[3020:3030] = -np.inf
+    assert np.array_equal(test.contains_xy(xs, ys), shapely.intersects_xy(room, xs, ys))
+    assert test._sub.size  # the sub-grid was built and used
