@@ -16,6 +16,7 @@ from PySide6.QtCore import QPointF, QRectF, Qt, Signal
 from PySide6.QtGui import QMouseEvent, QPainter, QPixmap
 from PySide6.QtWidgets import (
     QGraphicsItem,
+    QGraphicsScene,
     QGraphicsView,
     QStyleOptionGraphicsItem,
     QToolTip,
@@ -118,6 +119,10 @@ class ReplayCanvas(SceneCanvas):
         # here saves and restores the painter itself, so the view need not do it per item
         self.viewport().setAttribute(Qt.WidgetAttribute.WA_OpaquePaintEvent, True)
         self.setOptimizationFlag(QGraphicsView.OptimizationFlag.DontSavePainterState, True)
+        # every repaint is a full one (FullViewportUpdate) of three items: no exposed-rect
+        # margins to work out and no spatial index to keep
+        self.setOptimizationFlag(QGraphicsView.OptimizationFlag.DontAdjustForAntialiasing, True)
+        self.scene().setItemIndexMethod(QGraphicsScene.ItemIndexMethod.NoIndex)
         self.layer_ghost.setVisible(False)  # shown only while it has an episode
 
     # -- content -----------------------------------------------------------------------
