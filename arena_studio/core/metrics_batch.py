@@ -203,10 +203,13 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
         visited = np.asarray(c_at.any(axis=1))
 
     # motion -----------------------------------------------------------------------------------
-    seg = np.empty((n_agents, 0))
-    if n > 1:  # (A, N - 1), column r: move from row r to r + 1 (as metrics.step_lengths)
-        seg = np.diff(xa, axis=1)
-        dy = np.diff(ya, axis=1)
+    # (A, N) step lengths, column r: move from row r to r + 1 (as metrics.step_lengths); the
+    # last column, after the last row, is 0 so that the rows reshape into episodes
+    seg_rows = np.zeros((n_agents, n))
+    seg = seg_rows[:, :-1]
+    if n > 1:
+        np.subtract(xa[:, 1:], xa[:, :-1], out=seg)
+        dy = np.subtract(ya[:, 1:], ya[:, :-1])
         seg *= seg
         dy *= dy
         seg += dy
@@ -285,7 +288,7 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
     who_list, visited_list = who.tolist(), visited.tolist()
     exits_list = exits.tolist()
     still_time = (still_counts * dt).tolist()
-    paths = _path_lengths(seg, starts, lengths, n_agents)
+    paths = _path_lengths(seg_rows, starts, lengths, n_agents)
     out: list[EpisodeMetrics] = []
     lo = 0
     starts_list, split_list = starts.tolist(), on_split.tolist()
@@ -409,17 +412,16 @@ def _exit_counts(
 def _path_lengths(
     seg: np.ndarray, starts: np.ndarray, lengths: np.ndarray, n_agents: int
 ) -> list[tuple[float, ...]]:
-    """Per episode, per agent: the sum of its step lengths ``seg`` (A, N - 1), accumulated
-    left to right (``np.cumsum``) like metrics' per-episode running sum, so the last bit is
-    the same. Episodes of one length are summed together, one accumulate over a gathered
-    (A, E, T - 1) array; ``np.add.reduceat`` would be one call but rounds differently."""
+    """Per episode, per agent: the sum of its step lengths ``seg`` (A, N; column r is the
+    move from row r to r + 1), accumulated left to right (``np.cumsum``) like metrics'
+    per-episode running sum, so the last bit is the same. Episodes of one length are summed
+    together, one accumulate over an (A, E, T - 1) array; ``np.add.reduceat`` would be one
+    call but rounds differently."""
     out: list[tuple[float, ...]] = [(0.0,) * n_agents] * len(starts)
     if len(starts) and (lengths == lengths[0]).all() and lengths[0] >= 2:
-        # the usual case, episodes of one length: (A, E, T) is a view of the padded rows
+        # the usual case, episodes of one length: (A, E, T) is a view of the rows
         t_len = int(lengths[0])
-        pad = np.empty((n_agents, len(starts) * t_len))
-        pad[:, : seg.shape[1]] = seg
-        view = pad.reshape(n_agents, len(starts), t_len)[:, :, : t_len - 1]
+        view = seg.reshape(n_agents, len(starts), t_len)[:, :, : t_len - 1]
         return [tuple(t) for t in np.cumsum(view, axis=2)[:, :, -1].T.tolist()]
     for t_len in np.unique(lengths).tolist():
         if t_len < 2:

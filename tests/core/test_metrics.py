@@ -254,3 +254,17 @@ def test_tape_metrics_name_the_damaged_record(tmp_path: Path) -> None:
     path.write_bytes(bytes(data))
     with pytest.raises(TapeError, match=f"episode 2 byte {chunk}: record checksum mismatch"):
         tape_metrics(open_tape(path))
+
+
+@pytest.mark.parametrize("rule", ["all_at_once", "all_at_end", "all_visited"])
+def test_batched_metrics_match_per_episode_on_equal_lengths(rule: str) -> None:
+    # episodes of one length take the batched path's reshaped sums: same answers as above
+    scene = box_scene(rule, hold_time=0.5, agents=3)
+    rng = np.random.default_rng(9)
+    episodes = [
+        dataclasses.replace(ep, poses=ep.poses[:9])
+        for ep in (_random_episode(rng, i, 3) for i in range(120))
+        if ep.steps >= 9
+    ]
+    assert len(episodes) > 30
+    _same([episode_metrics(scene, e) for e in episodes], episodes_metrics(scene, episodes))
