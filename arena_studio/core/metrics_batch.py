@@ -257,17 +257,16 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
     for k, (i, j) in enumerate(zip(pi_.tolist(), pj_.tolist(), strict=True)):
         # overlap: dx * dx + dy * dy < reach * reach (as metrics.overlap_mask); with |dx| or
         # |dy| at or above reach (1 + 1e-6) it cannot hold, so only the rest are squared
+        # (x first: the rows that pass it are few, and only they are looked at in y)
         pdx = xa[i] - xa[j]
-        pdy = ya[i] - ya[j]
         reach = radii[i] + radii[j]
         pad = reach * (1 + 1e-6)
         np.less(pdx, pad, out=near)
         near &= np.greater(pdx, -pad, out=part)
-        near &= np.less(pdy, pad, out=part)
-        near &= np.greater(pdy, -pad, out=part)
         c = np.flatnonzero(near)
         if c.size:
-            cx, cy = pdx[c], pdy[c]
+            cx = pdx[c]
+            cy = ya[i, c] - ya[j, c]
             overlap[k, c] = cx * cx + cy * cy < reach * reach
     pair_on = _seg_onsets(overlap, starts)
     exits = _exit_counts(scene, xa, ya, starts, floor, len(episodes))
