@@ -46,8 +46,15 @@ def test_plots_show_distance_reward_and_channels(qtbot):
     np.testing.assert_allclose(
         curves(panel.plots["channel:battery"])[0].getData()[1], ep.channels["battery"]
     )
+    panel.show()
     clock.seek(30)
     assert panel.cursors["reward"].value() == pytest.approx(3.0)
+    # hidden (its tab not raised), the panel skips cursor moves and catches up when shown
+    panel.hide()
+    clock.seek(45)
+    assert panel.cursors["reward"].value() == pytest.approx(3.0)
+    panel.show()
+    assert panel.cursors["reward"].value() == pytest.approx(4.5)  # 45 steps x 0.1 s
 
 
 def test_team_target_gaps_only_for_unpursued_targets():

@@ -8,6 +8,8 @@ from __future__ import annotations
 
 import pytest
 from PySide6.QtCore import QPoint, QPointF, Qt
+from PySide6.QtGui import QImage
+from PySide6.QtWidgets import QApplication
 
 from arena_studio.app.replay.prepared import EventMark
 from arena_studio.app.replay.timeline import TimelineBar, nice_tick
@@ -146,3 +148,29 @@ def test_readme_lists_every_replay_shortcut():
     for spec in REPLAY_ACTIONS:
         for key in spec.shortcuts:
             assert key in section, f"README does not mention {key} ({spec.title})"
+
+
+def test_timeline_step_repaints_leave_the_same_pixels_as_a_full_paint(qtbot, clock):
+    """A step change repaints only the strips under the old and new cursor; what is on screen
+    (the window's backing store, read back with QScreen.grabWindow) must equal a full paint
+    of the bar at that step (QWidget.grab). Common practice, no source."""
+    bar = TimelineBar(clock)
+    qtbot.addWidget(bar)
+    bar.resize(628, 60)
+    bar.set_events((EventMark(40, "reached", agent=0, text="r"),), agent_count=1)
+    bar.show()
+    qtbot.waitExposed(bar)
+    for step in (10, 11, 60, 59, 99, 0):
+        clock.seek(step)
+        QApplication.processEvents()
+        on_screen = bar.screen().grabWindow(bar.winId()).toImage()
+        full = bar.grab().toImage()
+        assert on_screen.size() == full.size()
+        fmt = QImage.Format.Format_RGB32
+        assert on_screen.convertToFormat(fmt) == full.convertToFormat(fmt), step
+    # the cursor did move: a frame at another step differs
+    clock.seek(30)
+    QApplication.processEvents()
+    assert bar.screen().grabWindow(bar.winId()).toImage().convertToFormat(
+        fmt
+    ) != full.convertToFormat(fmt)

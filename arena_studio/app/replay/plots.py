@@ -10,6 +10,7 @@ from __future__ import annotations
 import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import Qt, QTimer
+from PySide6.QtGui import QShowEvent
 from PySide6.QtWidgets import QLabel, QVBoxLayout, QWidget
 
 from ...core.scene import Scene
@@ -50,6 +51,7 @@ class PlotsPanel(QWidget):
         self.plots: dict[str, pg.PlotItem] = {}
         self.cursors: dict[str, pg.InfiniteLine] = {}
         self.legends: list[pg.LegendItem] = []
+        self._cursors_stale = False  # a step went by while the panel was hidden
         self._cursor_timer = QTimer(self)
         self._cursor_timer.setSingleShot(True)
         self._cursor_timer.setInterval(33)
@@ -179,14 +181,24 @@ class PlotsPanel(QWidget):
                 return
 
     def _on_step(self, step: int) -> None:
-        """Move the cursors; while playing at most ~30 times a second (plots are costly)."""
+        """Move the cursors; while playing at most ~30 times a second (plots are costly);
+        while the panel is hidden (its tab not raised) not at all until it shows again."""
+        if not self.isVisible():
+            self._cursors_stale = True
+            return
         if self._clock.playing:
             if not self._cursor_timer.isActive():
                 self._cursor_timer.start()
             return
         self._move_cursors(step)
 
+    def showEvent(self, event: QShowEvent) -> None:
+        if self._cursors_stale:
+            self._move_cursors()
+        super().showEvent(event)
+
     def _move_cursors(self, step: int | None = None) -> None:
+        self._cursors_stale = False
         step = self._clock.step if step is None else step
         t = step * self._clock.dt
         for cursor in self.cursors.values():

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import math
 
-from PySide6.QtCore import QPointF, QRectF, QSize, Qt
+from PySide6.QtCore import QPointF, QRect, QRectF, QSize, Qt
 from PySide6.QtGui import (
     QColor,
     QMouseEvent,
@@ -29,6 +29,7 @@ from .transport import PlaybackClock
 MARGIN_X = 14.0
 TEAM_KINDS = ("success", "diagnosis", "collision", "other")
 HIT_RADIUS_PX = 6.0
+CURSOR_HALF_PX = 8  # half the strip repainted around the cursor when the step changes
 
 
 def nice_tick(span_s: float, width_px: float, min_gap_px: float = 60.0) -> float:
@@ -53,12 +54,13 @@ class TimelineBar(QWidget):
         self._events: tuple[EventMark, ...] = ()
         self._agent_count = 0
         self._static: tuple[tuple, QPixmap] | None = None
+        self._cursor_painted_x: float | None = None  # where the last paint put the cursor
         self.setMinimumHeight(58)
         self.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Fixed)
         self.setMouseTracking(True)
         self.setFocusPolicy(Qt.FocusPolicy.NoFocus)  # keys go to the window's actions
         self.setToolTip("")
-        clock.stepChanged.connect(self.update)
+        clock.stepChanged.connect(self._on_step)
         clock.loopChanged.connect(self.update)
         clock.lengthChanged.connect(self.update)
 
@@ -78,6 +80,22 @@ class TimelineBar(QWidget):
     @property
     def events(self) -> tuple[EventMark, ...]:
         return self._events
+
+    def _on_step(self, step: int) -> None:
+        """A new step moves only the cursor: repaint the strips under its old and new place
+        (the track under them is a cached blit), nothing while hidden or when it stays put."""
+        if not self.isVisible():
+            return
+        x = self.x_of_step(step)
+        if x == self._cursor_painted_x:
+            return
+        self.update(self._cursor_strip(x))
+        if self._cursor_painted_x is not None:
+            self.update(self._cursor_strip(self._cursor_painted_x))
+
+    def _cursor_strip(self, x: float) -> QRect:
+        """Pixels the cursor (2 px line, 10 px wide head, antialiased) can touch."""
+        return QRect(math.floor(x) - CURSOR_HALF_PX, 0, 2 * CURSOR_HALF_PX + 1, self.height())
 
     # -- geometry ----------------------------------------------------------------------
     def _track(self) -> QRectF:
@@ -272,6 +290,7 @@ class TimelineBar(QWidget):
 
     def _paint_cursor(self, p: QPainter, track: QRectF) -> None:
         x = self.x_of_step(self._clock.step)
+        self._cursor_painted_x = x
         color = self._theme.qcolor("selection")
         p.setPen(QPen(color, 2.0))
         p.drawLine(QPointF(x, track.top() - 2), QPointF(x, track.bottom() + 2))
