@@ -398,8 +398,9 @@ def _exit_counts(
     rr = np.concatenate(rr_parts)
     if not rr.size:
         return np.zeros(n_ep, dtype=np.int64)
-    order = np.lexsort((rr, aa))
-    aa, rr = aa[order], rr[order]
+    if len(by_radius) > 1:  # one group comes out of nonzero already by agent, then row
+        order = np.lexsort((rr, aa))
+        aa, rr = aa[order], rr[order]
     # an onset: the episode's first row, or a row whose previous row was inside
     cont = np.zeros(rr.size, dtype=bool)
     cont[1:] = (aa[1:] == aa[:-1]) & (rr[1:] == rr[:-1] + 1)
