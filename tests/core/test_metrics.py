@@ -268,3 +268,29 @@ def test_batched_metrics_match_per_episode_on_equal_lengths(rule: str) -> None:
     ]
     assert len(episodes) > 30
     _same([episode_metrics(scene, e) for e in episodes], episodes_metrics(scene, episodes))
+
+
+def test_batched_metrics_match_per_episode_with_mixed_radii_and_many_points() -> None:
+    # agents of different radii get different free spaces (tested in groups by radius), and
+    # enough steps that the grid, covered box and sub-cells of the inside test are used
+    from arena_studio.core.scene import Scene
+
+    data = box_scene("all_at_once", agents=3).to_dict()
+    for agent, radius in zip(data["agents"], (0.25, 0.4, 0.25), strict=True):
+        agent["radius"] = radius
+    scene = Scene.from_dict(data)
+    rng = np.random.default_rng(21)
+    episodes = []
+    for i in range(12):
+        steps = int(rng.integers(300, 900))
+        xy = rng.uniform(-0.2, 10.2, (steps, 3, 2))  # many centres near or past the walls
+        xy[: steps // 2] = np.repeat(xy[:1], steps // 2, axis=0)  # still, then jumping
+        heading = np.zeros((steps, 3, 1))
+        goal = np.array([1, 1, 0], np.uint8)
+        episodes.append(
+            Episode(index=i, dt=0.1, poses=np.concatenate([xy, heading], axis=2), team_goal=goal)
+        )
+    assert sum(ep.steps for ep in episodes) * 3 > 4096 * 2
+    got = episodes_metrics(scene, episodes)
+    _same([episode_metrics(scene, e) for e in episodes], got)
+    assert sum(m.free_space_exits for m in got) > 0
