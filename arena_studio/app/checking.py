@@ -19,43 +19,26 @@ from .goal_rows import goal_rows
 MAX_PAR_GOALS = 64  # par times beyond this many goals are left to the batch command
 
 
-def load_checker() -> Any | None:
-    try:
-        from ..core.checks import check_scene
-    except ImportError:
-        return None
-    return check_scene
-
-
-def load_planner() -> Any | None:
-    try:
-        from ..core.partime import plan_goal
-    except ImportError:
-        return None
-    return plan_goal
-
-
 def check(scene: Scene) -> tuple[list[Any], str | None]:
-    """Findings, and an error text when the checker is missing or failed."""
-    checker = load_checker()
-    if checker is None:
-        return [], "The scene checker is not part of this build."
+    """Findings, and an error text when the checker failed."""
+    from ..core.checks import check_scene  # lazy: shapely and scipy load off the UI thread
+
     try:
-        return list(checker(scene)), None
+        return list(check_scene(scene)), None
     except Exception as exc:  # a checker bug must never take the editor down
         return [], f"The checker stopped: {exc}"
 
 
 def par_plans(scene: Scene, stale: Callable[[], bool] = lambda: False) -> list[Any] | None:
     """One par-time plan per goal (``None`` entries where planning failed), or ``None`` when
-    the planner is missing, there is nothing to plan, or ``stale()`` turns true meanwhile."""
-    plan = load_planner()
+    there is nothing to plan or ``stale()`` turns true meanwhile."""
+    from ..core.partime import plan_goal
+    from ..core.paths import PathPlanner
+
     rows = goal_rows(scene)
-    if plan is None or not (0 < len(rows) <= MAX_PAR_GOALS) or not scene.agents:
+    if not (0 < len(rows) <= MAX_PAR_GOALS) or not scene.agents:
         return None
     try:
-        from ..core.paths import PathPlanner
-
         planner: Any = PathPlanner(scene)  # our own: prepared geometry stays in this thread
     except Exception:
         planner = None
@@ -64,7 +47,7 @@ def par_plans(scene: Scene, stale: Callable[[], bool] = lambda: False) -> list[A
         if stale():
             return None
         try:
-            plans.append(plan(scene, row.vector, planner=planner))
+            plans.append(plan_goal(scene, row.vector, planner=planner))
         except Exception:
             plans.append(None)
     return plans
@@ -88,12 +71,15 @@ class CheckRunner(QObject):
         self._pool = ThreadPoolExecutor(max_workers=1, thread_name_prefix="scene-check")
         self._pending: Scene | None = None
         self._running: Scene | None = None
+        self._closed = False
         self.latest: Scene | None = None
         self.last_seconds = 0.0
         self._checked.connect(self._on_checked)
         self._planned.connect(self._on_planned)
 
     def schedule(self, scene: Scene) -> None:
+        if self._closed:
+            return
         self.latest = scene
         self._pending = scene
         self._timer.start()
@@ -107,7 +93,8 @@ class CheckRunner(QObject):
         self.plans_ready.emit(scene, par_plans(scene))
 
     def _start(self) -> None:
-        if self._running is not None or self._pending is None:
+        # a result queued before shutdown may still arrive and ask for the next run
+        if self._closed or self._running is not None or self._pending is None:
             return
         scene, self._pending = self._pending, None
         self._running = scene
@@ -137,6 +124,8 @@ class CheckRunner(QObject):
         return self._running is not None or self._pending is not None or self._timer.isActive()
 
     def shutdown(self) -> None:
+        self._closed = True
+        self._pending = None
         self._timer.stop()
         self.latest = None  # lets a running par-time computation stop early
         self._pool.shutdown(wait=True, cancel_futures=True)

@@ -28,7 +28,6 @@ from PySide6.QtWidgets import (
 
 from ..core.scene import RULES, Scene
 from . import edits
-from .checking import load_planner
 from .editor import Editor
 from .fields import NumberField
 from .goal_rows import goal_rows
@@ -217,7 +216,7 @@ class GoalsPanel(QWidget):
         plans = self.plans if fresh and self.plans is not None else None
         if plans is not None and len(plans) != len(rows):
             plans = None
-        waiting = not fresh and load_planner() is not None
+        waiting = not fresh
         self.table.setRowCount(len(rows))
         names = [lm.label or lm.id for lm in scene.landmarks]
         for i, row in enumerate(rows):
@@ -251,8 +250,6 @@ class GoalsPanel(QWidget):
             text += f" {n_bad} cannot be reached."
         if waiting:
             text += " Working out par times…"
-        elif plans is None and load_planner() is None:
-            text += " Par times appear when the planner is part of this build."
         self.summary.setText(text)
 
     def _update_buttons(self) -> None:

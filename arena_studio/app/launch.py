@@ -139,10 +139,8 @@ def _open_demo_tape(window: object) -> None:
     tape = demo_path(DEMO_TAPE)
     if not tape.is_file():
         return
-    try:
-        from .replay import open_tape
-    except ImportError:
-        return
+    from .replay import open_tape
+
     open_tape(window, tape)
 
 

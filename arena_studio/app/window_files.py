@@ -92,18 +92,9 @@ class FileCommands:
 
     def open_tape(self, path: Path) -> bool:
         """Hand a tape to the replay mode (``arena_studio.app.replay.open_tape(window, path)``)."""
-        try:
-            from . import replay  # type: ignore[attr-defined]
+        from .replay import open_tape  # lazy: the replay page loads pyqtgraph
 
-            opener = replay.open_tape
-        except (ImportError, AttributeError):
-            self.dialogs.info(
-                "Replay not available",
-                f"{path.name} is a tape. Replaying tapes is not part of this build yet; "
-                "the layout editor opens scene files (.scene.json, .scene.msgpack).",
-            )
-            return False
-        ok = bool(opener(self, path))
+        ok = bool(open_tape(self, path))
         if ok:
             self.add_recent(path.resolve())
         return ok

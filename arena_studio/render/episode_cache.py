@@ -210,10 +210,8 @@ def _tree_collisions(xy: np.ndarray, radius: np.ndarray, tol: float) -> np.ndarr
 def _par_paths(scene: Scene, episode: Episode) -> list[np.ndarray] | None:
     if episode.team_goal is None:
         return None
-    try:
-        from ..core.partime import plan_goal
-    except ImportError:
-        return None
+    from ..core.partime import plan_goal  # lazy: the planner pulls in scipy
+
     try:
         plan: Any = plan_goal(scene, tuple(int(v) for v in np.asarray(episode.team_goal)))
     except Exception:  # a planning failure must not stop a replay or a clip

@@ -12,7 +12,7 @@ import numpy as np
 import pytest
 
 from arena_studio.app.replay.batch_stats import Occupancy, batch_stats
-from arena_studio.app.replay.events import episode_event_marks, observed_events
+from arena_studio.app.replay.events import episode_event_marks
 from arena_studio.app.replay.prepared import normalise_kind, prepare_episode
 from arena_studio.app.replay.summary import summarise_episode
 from arena_studio.core.events import episode_events
@@ -58,23 +58,6 @@ def test_timeline_marks_are_the_core_event_list():
     assert {normalise_kind(e.kind) for e in ref} == {k.kind for k in marks}
     diag = [k for k in marks if k.kind == "diagnosis"]
     assert [k.step for k in diag] == [m.diagnosis_step]
-
-
-def test_fallback_events_agree_with_core_on_reach_disc_crossings():
-    tape = open_tape(DEMOS[0])
-    ep = tape.episode(2)
-    m = episode_metrics(tape.scene, ep)
-    ref = {
-        (e.step, e.kind, e.agent, e.landmark)
-        for e in episode_events(tape.scene, ep, m)
-        if e.kind in ("reached", "left") and e.step > 0
-    }
-    got = {
-        (k.step, k.kind, k.agent, k.landmark)
-        for k in observed_events(tape.scene, ep, m)
-        if k.kind in ("reached", "left") and k.step > 0
-    }
-    assert got == ref
 
 
 def test_prepared_arrays():

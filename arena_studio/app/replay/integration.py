@@ -74,17 +74,10 @@ def _build_menu(window: Any, page: ReplayWindow) -> None:
 
 
 def _clip_action(window: Any, page: ReplayWindow):
-    """'Export clip…' when the clip dialog is part of this build."""
-    try:
-        from .. import clip_dialog
-    except ImportError:
-        return None
-    opener = getattr(clip_dialog, "open_clip_dialog", None) or getattr(
-        clip_dialog, "ClipDialog", None
-    )
-    if opener is None:
-        return None
+    """'Export Clip…': the clip and still dialog at the current episode and time."""
     from PySide6.QtGui import QAction
+
+    from ..clip_dialog import open_clip_dialog
 
     action = QAction("Export Clip…", page)
 
@@ -92,9 +85,10 @@ def _clip_action(window: Any, page: ReplayWindow):
         if page.session is None or page.prepared is None:
             return
         page.clock.pause()
-        dialog = opener(page, page.session.tape, page.prepared.episode.index, page.clock.time)
-        if hasattr(dialog, "exec"):
-            dialog.exec()
+        dialog = open_clip_dialog(
+            page, page.session.tape, page.prepared.episode.index, page.clock.time
+        )
+        dialog.exec()
 
     action.triggered.connect(lambda _c=False: run())
     return action

@@ -39,10 +39,7 @@ def load_prepared(scene: Scene, episode: Episode) -> PreparedEpisode:
 def _load_prepared(scene: Scene, episode: Episode) -> PreparedEpisode:
     from ...render.episode_cache import episode_cache
 
-    try:
-        metrics = _metrics_for(scene, episode)
-    except ImportError:
-        metrics = None
+    metrics = _metrics_for(scene, episode)
     events = episode_event_marks(scene, episode, metrics)
     prepared = prepare_episode(scene, episode, metrics=metrics)
     prepared = PreparedEpisode(
@@ -111,8 +108,6 @@ class ReplaySession(QObject):
                 try:
                     with CORE_LOCK:  # released between episodes so a selection gets in
                         row = summarise_episode(scene, episode)
-                except ImportError:
-                    row = EpisodeSummary(index=i, steps=episode.steps, loaded=True)
                 except Exception as exc:  # one bad episode must not stop the list
                     row = EpisodeSummary(
                         index=i, diagnosis=f"cannot compute metrics: {exc}", loaded=True
