@@ -284,18 +284,10 @@ def coverage_planes_sparse(scene: Scene, x: Any, y: Any, only: Any = None) -> np
     return out
 
 
-def goal_reached_planes(
-    scene: Scene,
-    goals: Any,
-    covered: np.ndarray,
-    lengths: Any,
-    rule: str | None = None,
-    dt: float | None = None,
-    hold_time: float | None = None,
-) -> np.ndarray:
-    """:func:`goal_reached_batch` from per-landmark coverage: ``covered`` (L, N) bool says
-    landmark l is covered by some agent at row n. Each landmark's row stays contiguous, and
-    when every episode has the same goal the target rows need no mask at all."""
+def _batch_goal_args(
+    scene: Scene, goals: Any, rule: str | None, hold_time: float | None
+) -> tuple[str, float, np.ndarray, np.ndarray]:
+    """Checked rule, hold time, (E, L) goals and their target mask for the batched rules."""
     rule = scene.goals.rule if rule is None else rule
     if rule not in RULES:
         raise ValueError(f"unknown success rule {rule!r} (expected one of {', '.join(RULES)})")
@@ -308,6 +300,23 @@ def goal_reached_planes(
     empty = np.flatnonzero(~tmask.any(axis=1))
     if empty.size:
         raise ValueError(f"goal of episode {int(empty[0])} has no targets (every entry is 0)")
+    return rule, hold, g, tmask
+
+
+def goal_reached_planes(
+    scene: Scene,
+    goals: Any,
+    covered: np.ndarray,
+    lengths: Any,
+    rule: str | None = None,
+    dt: float | None = None,
+    hold_time: float | None = None,
+) -> np.ndarray:
+    """:func:`goal_reached_batch` from per-landmark coverage: ``covered`` (L, N) bool says
+    landmark l is covered by some agent at row n. Each landmark's row stays contiguous, and
+    when every episode has the same goal the target rows need no mask at all."""
+    rule, hold, g, tmask = _batch_goal_args(scene, goals, rule, hold_time)
+    count = len(scene.landmarks)
     starts, floor = segment_starts(lengths)
     n = floor.shape[0]
     if covered.shape != (count, n) or starts.shape[0] != g.shape[0]:
@@ -378,18 +387,7 @@ def goal_reached_batch(
     ``goal_reached(scene, goals[e], positions of episode e, rule, dt, hold_time)[t]``.
     ``cover`` may pass a precomputed ``coverage(scene, positions)`` (N, A, L).
     """
-    rule = scene.goals.rule if rule is None else rule
-    if rule not in RULES:
-        raise ValueError(f"unknown success rule {rule!r} (expected one of {', '.join(RULES)})")
-    hold = scene.goals.hold_time if hold_time is None else float(hold_time)
-    g = np.asarray(goals)
-    count = len(scene.landmarks)
-    if g.ndim != 2 or g.shape[1] != count:
-        raise ValueError(f"goals: expected shape (E, {count}), got {g.shape}")
-    tmask = g != 0
-    empty = np.flatnonzero(~tmask.any(axis=1))
-    if empty.size:
-        raise ValueError(f"goal of episode {int(empty[0])} has no targets (every entry is 0)")
+    rule, hold, g, tmask = _batch_goal_args(scene, goals, rule, hold_time)
     starts, floor = segment_starts(lengths)
     if cover is None:
         arr = np.asarray(positions, dtype=np.float64)
