@@ -19,7 +19,7 @@ from PySide6.QtCore import (
     Qt,
     Signal,
 )
-from PySide6.QtGui import QColor
+from PySide6.QtGui import QColor, QFont, QFontMetrics
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QComboBox,
@@ -28,6 +28,7 @@ from PySide6.QtWidgets import (
     QLabel,
     QLineEdit,
     QProgressBar,
+    QStyle,
     QTableView,
     QVBoxLayout,
     QWidget,
@@ -41,11 +42,34 @@ COLUMNS: tuple[tuple[str, str], ...] = (
     ("kind", "Kind"),
     ("success", "Success"),
     ("time_to_success", "Time (s)"),
-    ("par_ratio", "Par ratio"),
+    ("par_ratio", "vs par"),
     ("aligned", "Aligned"),
     ("diagnosis", "Diagnosis"),
 )
 COL = {key: i for i, (key, _) in enumerate(COLUMNS)}
+#: header tooltips: what each short header means in full
+HEADER_TIPS = {
+    "index": "Episode number in the tape",
+    "goal_label": "Team goal: the targets the team must cover",
+    "kind": "team = cooperative goal (several targets), solo = individual goal",
+    "success": "Whether the episode reached its goal",
+    "time_to_success": "Time to success in seconds",
+    "par_ratio": "Time to success divided by the par time (1.00 = on par)",
+    "aligned": "Whether the targets the agents pursued matched the team goal",
+    "diagnosis": "What went wrong, in a few words",
+}
+#: the Kind column's compact words (the summary keeps the full ones)
+KIND_SHORT = {"cooperative": "team", "individual": "solo"}
+#: sample cell text per column: default widths fit the wider of this and the header
+WIDTH_SAMPLES = {
+    "index": "0000",
+    "goal_label": "Water tank",
+    "kind": "team",
+    "success": "yes",
+    "time_to_success": "000.0",
+    "par_ratio": "0.00",
+    "aligned": "yes",
+}
 SORT_ROLE = Qt.ItemDataRole.UserRole + 1
 SUMMARY_ROLE = Qt.ItemDataRole.UserRole + 2
 
@@ -116,8 +140,12 @@ class EpisodeTableModel(QAbstractTableModel):
         return 0 if parent.isValid() else len(COLUMNS)
 
     def headerData(self, section, orientation, role=Qt.ItemDataRole.DisplayRole):
-        if role == Qt.ItemDataRole.DisplayRole and orientation == Qt.Orientation.Horizontal:
+        if orientation != Qt.Orientation.Horizontal:
+            return None
+        if role == Qt.ItemDataRole.DisplayRole:
             return COLUMNS[section][1]
+        if role == Qt.ItemDataRole.ToolTipRole:
+            return HEADER_TIPS.get(COLUMNS[section][0])
         return None
 
     def data(self, index: QModelIndex | QPersistentModelIndex, role=Qt.ItemDataRole.DisplayRole):
@@ -144,6 +172,8 @@ class EpisodeTableModel(QAbstractTableModel):
                 return "-" if value is None else f"{value:.1f}"
             if key == "par_ratio":
                 return "-" if value is None else f"{value:.2f}"
+            if key == "kind":
+                return KIND_SHORT.get(value, "-" if value in (None, "") else str(value))
             return "-" if value in (None, "") else str(value)
         if role == Qt.ItemDataRole.ToolTipRole and key == "diagnosis" and s.diagnosis:
             return s.diagnosis
@@ -276,15 +306,19 @@ class EpisodeListPanel(QWidget):
         header = self.table.horizontalHeader()
         header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
         header.setStretchLastSection(True)
-        for key, width in (
-            ("index", 44),
-            ("goal_label", 150),
-            ("kind", 84),
-            ("success", 62),
-            ("time_to_success", 62),
-            ("par_ratio", 66),
-            ("aligned", 60),
-        ):
+        # widths from the fonts in use, so the columns up to Aligned fit a ~380 px dock
+        bold = QFont(header.font())
+        bold.setBold(True)  # some styles draw header titles bold
+        cell, head = self.table.fontMetrics(), QFontMetrics(bold)
+        style = header.style()
+        margin = style.pixelMetric(QStyle.PixelMetric.PM_HeaderMargin, None, header)
+        mark = style.pixelMetric(QStyle.PixelMetric.PM_HeaderMarkSize, None, header)
+        for key, sample in WIDTH_SAMPLES.items():
+            title = COLUMNS[COL[key]][1]
+            width = max(
+                cell.horizontalAdvance(sample) + 12,
+                head.horizontalAdvance(title) + 2 * margin + mark // 2 + 4,
+            )
             self.table.setColumnWidth(COL[key], width)
         layout.addWidget(self.table, 1)
         self.count_label = QLabel(self)

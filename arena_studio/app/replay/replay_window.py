@@ -132,7 +132,7 @@ class ReplayWindow(QMainWindow):
             Qt.Orientation.Vertical,
         )
         self.resizeDocks(
-            [self.dock_episodes], [min(max(int(w * 0.3), 340), 560)], Qt.Orientation.Horizontal
+            [self.dock_episodes], [min(max(int(w * 0.35), 340), 560)], Qt.Orientation.Horizontal
         )
         self.fit_views()
 
