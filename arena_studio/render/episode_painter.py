@@ -289,16 +289,16 @@ def paint_trails(
         piece = min(64, 1 + int(WIDE_PIECE_PX // spacing)) if spacing > 0 else 64
         for g, paths, starts in _wide_pieces(groups, window_all, view, max(2, piece)):
             band_of = np.searchsorted(edges[1:-1], starts, side="right")
-            for b in range(bands):
-                sel = np.flatnonzero(band_of == b).tolist()
-                if not sel:
+            order = np.argsort(band_of, kind="stable").tolist()  # by band, pieces in order
+            ends = np.cumsum(np.bincount(band_of, minlength=bands)).tolist()
+            begin = 0
+            for b, end in enumerate(ends):
+                if end == begin:
                     continue
-                pen = QPen(theme.agent_color(g, alpha=0.15 + 0.6 * (b + 1) / bands), width)
-                pen.setCapStyle(Qt.PenCapStyle.FlatCap)
-                pen.setJoinStyle(Qt.PenJoinStyle.BevelJoin)  # ~25 % cheaper than round joins
-                painter.setPen(pen)
-                for k in sel:
+                painter.setPen(_trail_pen(theme, g, b, bands, width))
+                for k in order[begin:end]:
                     painter.drawPath(paths[k])
+                begin = end
         return
     for b in range(bands):
         i0, i1 = int(edges[b]), int(edges[b + 1])
@@ -313,6 +313,24 @@ def paint_trails(
             pen.setJoinStyle(Qt.PenJoinStyle.BevelJoin)
             painter.setPen(pen)
             painter.drawPath(rows_path(world[:, window], view.scale, view.offset_x, view.offset_y))
+
+
+_TRAIL_PENS: dict[tuple[str, int, int, int, float], QPen] = {}
+
+
+def _trail_pen(theme: Theme, group: int, band: int, bands: int, width: float) -> QPen:
+    """The wide trail pen of one colour group and fade band, made once per theme and width
+    (a frame of a small team sets ~10 of them)."""
+    key = (theme.name, group, band, bands, width)
+    pen = _TRAIL_PENS.get(key)
+    if pen is None:
+        if len(_TRAIL_PENS) > 512:
+            _TRAIL_PENS.clear()
+        pen = QPen(theme.agent_color(group, alpha=0.15 + 0.6 * (band + 1) / bands), width)
+        pen.setCapStyle(Qt.PenCapStyle.FlatCap)
+        pen.setJoinStyle(Qt.PenJoinStyle.BevelJoin)  # ~25 % cheaper than round joins
+        _TRAIL_PENS[key] = pen
+    return pen
 
 
 def _wide_pieces(
