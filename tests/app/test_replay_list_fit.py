@@ -35,4 +35,4 @@ def test_headers_and_compact_kind_keep_the_full_meaning(qtbot, written_tape):  #
         tip = model.headerData(i, Qt.Orientation.Horizontal, Qt.ItemDataRole.ToolTipRole)
         assert tip == HEADER_TIPS[key] and len(tip) > 10
     kinds = {model.data(model.index(r, COL["kind"])) for r in range(model.rowCount())}
-    assert kinds <= {"team", "solo", "-"} and kinds - {"-"}
+    assert kinds <= {"coop", "indiv", "-"} and kinds - {"-"}

@@ -51,20 +51,20 @@ COL = {key: i for i, (key, _) in enumerate(COLUMNS)}
 HEADER_TIPS = {
     "index": "Episode number in the tape",
     "goal_label": "Team goal: the targets the team must cover",
-    "kind": "team = cooperative goal (several targets), solo = individual goal",
+    "kind": "coop = cooperative goal (two or more targets), indiv = individual goal (one)",
     "success": "Whether the episode reached its goal",
     "time_to_success": "Time to success in seconds",
-    "par_ratio": "Time to success divided by the par time (1.00 = on par)",
-    "aligned": "Whether the targets the agents pursued matched the team goal",
+    "par_ratio": "Par time divided by time to success (1.00 = as fast as the par time)",
+    "aligned": "Every agent pursued the same goal, and it was the team goal",
     "diagnosis": "What went wrong, in a few words",
 }
 #: the Kind column's compact words (the summary keeps the full ones)
-KIND_SHORT = {"cooperative": "team", "individual": "solo"}
+KIND_SHORT = {"cooperative": "coop", "individual": "indiv"}
 #: sample cell text per column: default widths fit the wider of this and the header
 WIDTH_SAMPLES = {
     "index": "0000",
     "goal_label": "Water tank",
-    "kind": "team",
+    "kind": "indiv",
     "success": "yes",
     "time_to_success": "000.0",
     "par_ratio": "0.00",
