@@ -9,8 +9,10 @@ is memory speed. (The same technique plotting libraries use for their connect-ar
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
-from PySide6.QtCore import QByteArray, QDataStream, QIODevice
+from PySide6.QtCore import QByteArray, QDataStream, QIODevice, QLineF
 from PySide6.QtGui import QPainterPath
 
 _ELEMENT = np.dtype([("type", ">i4"), ("x", ">f8"), ("y", ">f8")])
@@ -169,3 +171,19 @@ def chunked_rows_paths(
         paths.append(path)
     del stream
     return paths, starts
+
+
+def line_pieces(
+    x0: float, y0: float, x1: float, y1: float, piece_px: float = WIDE_PIECE_PX
+) -> list[QLineF]:
+    """One straight line as collinear pieces about ``piece_px`` long, for ``drawLines``.
+
+    Measured here: Qt's antialiased stroker takes 0.1-0.26 ms for one steep 1 px line of a
+    few hundred pixels, but ~0.01 ms for the same line in 24 px pieces (flat caps, so the
+    pieces abut without overlap and look the same).
+    """
+    dx, dy = x1 - x0, y1 - y0
+    n = max(1, int(math.hypot(dx, dy) // piece_px))
+    xs = [x0 + dx * k / n for k in range(n)] + [x1]  # plain floats: a few pieces per line
+    ys = [y0 + dy * k / n for k in range(n)] + [y1]
+    return [QLineF(xs[k], ys[k], xs[k + 1], ys[k + 1]) for k in range(n)]
