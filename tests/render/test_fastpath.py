@@ -101,3 +101,22 @@ def test_chunked_pieces_cover_each_row_and_share_their_end_points(qapp, points, 
             got += els if k == 0 else els[1:]  # shared end point drawn once
         assert [(x, y) for _t, x, y in got] == [(x, y) for _t, x, y in rows[r]]
     assert len(starts) == len(pieces) and starts.max() < points - 1
+
+
+def test_line_pieces_cover_the_line_end_to_end() -> None:
+    # Plane geometry (common practice, no source): collinear pieces that abut exactly,
+    # start and end on the line's end points, each about WIDE_PIECE_PX long.
+    import itertools
+    import math
+
+    from arena_studio.render.fastpath import WIDE_PIECE_PX, line_pieces
+
+    pieces = line_pieces(288.9, 329.7, 202.9, 141.5)
+    assert (pieces[0].x1(), pieces[0].y1()) == (288.9, 329.7)
+    assert (pieces[-1].x2(), pieces[-1].y2()) == (202.9, 141.5)
+    total = math.hypot(202.9 - 288.9, 141.5 - 329.7)
+    assert sum(p.length() for p in pieces) == pytest.approx(total)
+    for a, b in itertools.pairwise(pieces):
+        assert (a.x2(), a.y2()) == (b.x1(), b.y1())
+        assert WIDE_PIECE_PX <= a.length() < 2 * WIDE_PIECE_PX
+    assert len(line_pieces(0.0, 0.0, 5.0, 0.0)) == 1  # shorter than one piece: one piece
