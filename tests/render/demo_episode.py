@@ -7,11 +7,14 @@ the north sensor; rover-3 waits, then heads for the seed tray too slowly: the go
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import numpy as np
 
 from arena_studio.core.episode import Episode
 from arena_studio.core.resources import demo_path
 from arena_studio.core.scene import Scene, load_scene
+from arena_studio.core.tape import TapeWriter
 
 
 def greenhouse() -> Scene:
@@ -68,3 +71,16 @@ def demo_episode(
         pursued_goals=(goal.copy(), rover2, goal.copy()),
         rewards=rewards,
     )
+
+
+def write_demo_tape(path: Path, episodes: int = 2, seconds: float = 2.0) -> Path:
+    """A small tape of demo episodes in the greenhouse, written step by step."""
+    scene = greenhouse()
+    with TapeWriter(path, scene, dt=0.05) as writer:
+        for i in range(episodes):
+            ep = demo_episode(scene, seconds=seconds, index=i)
+            writer.begin_episode(team_goal=ep.team_goal, pursued_goals=list(ep.pursued_goals))
+            for t in range(ep.steps):
+                writer.step(ep.poses[t])
+            writer.end_episode()
+    return path

@@ -9,23 +9,14 @@ import pytest
 from PIL import Image
 
 from arena_studio.app.clip_dialog import KINDS, ClipDialog, open_clip_dialog
-from arena_studio.core.tape import TapeWriter, open_tape
+from arena_studio.core.tape import open_tape
 
-from .demo_episode import demo_episode, greenhouse
+from .demo_episode import write_demo_tape
 
 
 @pytest.fixture(scope="module")
 def tape(tmp_path_factory):
-    scene = greenhouse()
-    path = tmp_path_factory.mktemp("tapes") / "demo.tape"
-    with TapeWriter(path, scene, dt=0.05) as writer:
-        for i in range(2):
-            ep = demo_episode(scene, seconds=2.0, index=i)
-            writer.begin_episode(team_goal=ep.team_goal, pursued_goals=list(ep.pursued_goals))
-            for t in range(ep.steps):
-                writer.step(ep.poses[t])
-            writer.end_episode()
-    return open_tape(path)
+    return open_tape(write_demo_tape(tmp_path_factory.mktemp("tapes") / "demo.tape"))
 
 
 def _small(dialog: ClipDialog, kind: str, path) -> None:

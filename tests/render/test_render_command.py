@@ -12,23 +12,13 @@ import pytest
 from PIL import Image
 
 from arena_studio.cli import main
-from arena_studio.core.tape import TapeWriter
 
-from .demo_episode import demo_episode, greenhouse
+from .demo_episode import write_demo_tape
 
 
 @pytest.fixture(scope="module")
 def tape_path(tmp_path_factory):
-    scene = greenhouse()
-    path = tmp_path_factory.mktemp("tapes") / "demo.tape"
-    with TapeWriter(path, scene, dt=0.05) as writer:
-        for i in range(2):
-            ep = demo_episode(scene, seconds=2.0, index=i)
-            writer.begin_episode(team_goal=ep.team_goal, pursued_goals=list(ep.pursued_goals))
-            for t in range(ep.steps):
-                writer.step(ep.poses[t])
-            writer.end_episode()
-    return path
+    return write_demo_tape(tmp_path_factory.mktemp("tapes") / "demo.tape")
 
 
 def test_gif_clip_and_quiet_output(qapp, tape_path, tmp_path, capsys):
