@@ -13,6 +13,7 @@ from collections.abc import Sequence
 
 from . import __version__
 from .commands import COMMANDS, load_command
+from .commands.common import CommandError, error_line
 
 
 def _command_parser() -> argparse.ArgumentParser:
@@ -59,7 +60,11 @@ def main(argv: Sequence[str] | None = None) -> int:
         from .app.launch import launch_app
 
         return launch_app(args)
-    return int(load_command(args.command).run(args))
+    try:
+        return int(load_command(args.command).run(args))
+    except CommandError as exc:  # any command may raise it: one line on stderr, its exit code
+        error_line(str(exc))
+        return exc.code
 
 
 if __name__ == "__main__":  # pragma: no cover

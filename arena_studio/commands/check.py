@@ -13,7 +13,7 @@ from typing import TYPE_CHECKING
 
 if TYPE_CHECKING:  # the checker pulls in shapely and scipy; load it only when it runs
     from ..core.checks import Finding
-from .common import EXIT_OK, EXIT_PROBLEMS, EXIT_UNREADABLE, CommandError, error_line, read_scene
+from .common import EXIT_OK, EXIT_PROBLEMS, EXIT_UNREADABLE, error_line, read_scene
 
 HELP = "check a scene for problems (exit 0 ok, 1 errors found, 2 unreadable)"
 
@@ -26,11 +26,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    try:
-        scene = read_scene(args.scene)
-    except CommandError as exc:
-        error_line(str(exc))
-        return exc.code
+    scene = read_scene(args.scene)  # a CommandError becomes one line in cli.main
     try:
         from ..core.checks import check_scene
 

@@ -12,7 +12,7 @@ import argparse
 
 from ..core.errors import ArenaError
 from ..core.export import CAUTION, DEFAULT_RESOLUTION, FORMATS, export_scene
-from .common import EXIT_OK, EXIT_UNREADABLE, CommandError, error_line, read_scene
+from .common import EXIT_OK, EXIT_UNREADABLE, error_line, read_scene
 
 HELP = "export a scene for a simulator or a document (json, msgpack, npz, wkt, svg, grid)"
 
@@ -44,11 +44,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    try:
-        scene = read_scene(args.scene)
-    except CommandError as exc:
-        error_line(str(exc))
-        return exc.code
+    scene = read_scene(args.scene)  # a CommandError becomes one line in cli.main
     try:
         written = export_scene(scene, args.format, args.output, resolution=args.resolution)
     except ArenaError as exc:

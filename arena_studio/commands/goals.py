@@ -20,7 +20,7 @@ from ..core.scene import Scene
 if TYPE_CHECKING:  # the planner pulls in scipy; load it only when the command runs
     from ..core.goals import GoalTable
     from ..core.partime import GoalPlan
-from .common import EXIT_OK, EXIT_PROBLEMS, EXIT_UNREADABLE, CommandError, error_line, read_scene
+from .common import EXIT_OK, EXIT_PROBLEMS, EXIT_UNREADABLE, error_line, read_scene
 
 HELP = "list a scene's goals with par times and assignments (exit 0 ok, 1 problems, 2 unreadable)"
 
@@ -33,11 +33,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    try:
-        scene = read_scene(args.scene)
-    except CommandError as exc:
-        error_line(str(exc))
-        return exc.code
+    scene = read_scene(args.scene)  # a CommandError becomes one line in cli.main
     try:
         from ..core.goals import enumerate_goals
         from ..core.partime import plan_all
