@@ -202,26 +202,23 @@ class PropertiesPanel(QScrollArea):
         if isinstance(obj, Room):
             self._polygon_info(form, get, lambda o: o.outline)
         elif isinstance(obj, Obstacle) and obj.circle is not None:
-            self._num(
-                form,
-                "Centre x",
-                "cx",
-                "m",
-                get,
-                put,
-                lambda o: o.circle.center[0],
-                lambda o, v: replace(o, circle=replace(o.circle, center=(v, o.circle.center[1]))),
-            )
-            self._num(
-                form,
-                "Centre y",
-                "cy",
-                "m",
-                get,
-                put,
-                lambda o: o.circle.center[1],
-                lambda o, v: replace(o, circle=replace(o.circle, center=(o.circle.center[0], v))),
-            )
+
+            def centre(o: Obstacle, i: int, v: float) -> Obstacle:
+                c = list(o.circle.center)  # type: ignore[union-attr]
+                c[i] = v
+                return replace(o, circle=replace(o.circle, center=tuple(c)))
+
+            for i, label, name in ((0, "Centre x", "cx"), (1, "Centre y", "cy")):
+                self._num(
+                    form,
+                    label,
+                    name,
+                    "m",
+                    get,
+                    put,
+                    lambda o, i=i: o.circle.center[i],
+                    lambda o, v, i=i: centre(o, i, v),
+                )
             self._num(
                 form,
                 "Radius",
@@ -283,26 +280,17 @@ class PropertiesPanel(QScrollArea):
                     p[i] = v
                     return replace(o, start=replace(o.start, pose=tuple(p)))
 
-                self._num(
-                    form,
-                    "Start x",
-                    "start_x",
-                    "m",
-                    get,
-                    put,
-                    lambda o: o.start.pose[0],
-                    lambda o, v: pose(o, 0, v),
-                )
-                self._num(
-                    form,
-                    "Start y",
-                    "start_y",
-                    "m",
-                    get,
-                    put,
-                    lambda o: o.start.pose[1],
-                    lambda o, v: pose(o, 1, v),
-                )
+                for i, label, name in ((0, "Start x", "start_x"), (1, "Start y", "start_y")):
+                    self._num(
+                        form,
+                        label,
+                        name,
+                        "m",
+                        get,
+                        put,
+                        lambda o, i=i: o.start.pose[i],
+                        lambda o, v, i=i: pose(o, i, v),
+                    )
                 self._num(
                     form,
                     "Heading",

@@ -70,3 +70,25 @@ def test_picked_vertex_has_coordinate_fields(main_window):
     assert win.document.scene == SCENE
     assert _enter(fields["vertex_y"], "5.5")
     assert win.document.scene.rooms[0].outline[2] == (6.0, 5.5)
+
+
+def test_centre_and_start_coordinate_fields_edit_one_axis(main_window):
+    # Each x / y field changes its own axis and leaves the other alone (common practice).
+    from arena_studio.core.scene import Circle, Obstacle
+
+    scene = Scene(
+        name="axes",
+        rooms=SCENE.rooms,
+        obstacles=(Obstacle("drum", circle=Circle((3.0, 2.0), 0.4)),),
+        agents=SCENE.agents,
+    )
+    win = main_window
+    win.document.reset(scene, None)
+    win.editor.set_selection([("obstacles", "drum")])
+    assert _enter(win.properties.fields["cx"], "3.5")
+    assert _enter(win.properties.fields["cy"], "1.5")
+    assert win.document.scene.obstacles[0].circle == Circle((3.5, 1.5), 0.4)
+    win.editor.set_selection([("agents", "rover")])
+    assert _enter(win.properties.fields["start_y"], "2.5")
+    assert _enter(win.properties.fields["start_x"], "1.5")
+    assert win.document.scene.agents[0].start.pose == (1.5, 2.5, 0.0)
