@@ -41,6 +41,13 @@ class EpisodeCache:
     _groups: dict[int, list[np.ndarray]] = field(default_factory=dict, repr=False)
     _step_length: float | None = field(default=None, repr=False)
     _landmarks: tuple[np.ndarray, np.ndarray] | None = field(default=None, repr=False)
+    _arrivals: dict[int, tuple[tuple[int, ...], list[int]]] = field(
+        default_factory=dict, repr=False
+    )
+    #: pre-drawn trail blocks per view, owned by render.trail_blocks
+    trail_blocks: dict[tuple, Any] = field(default_factory=dict, repr=False)
+    #: other per-episode values painters work out once (keys name their owner)
+    memo: dict[tuple, Any] = field(default_factory=dict, repr=False)
 
     @property
     def steps(self) -> int:
@@ -62,6 +69,23 @@ class EpisodeCache:
             ]
             self._groups[n_colors] = groups
         return groups
+
+    def team_indices(self) -> list[int]:
+        """Indices of the landmarks on the team goal."""
+        return np.flatnonzero(self.team).tolist()
+
+    def arrivals(self, landmark: int) -> tuple[tuple[int, ...], list[int]]:
+        """The agents that ever cover ``landmark``, in order of their first cover (ties by
+        scene order), and those first steps: the agents there by step ``t`` are the first
+        ``bisect_right(steps, t)``."""
+        got = self._arrivals.get(landmark)
+        if got is None:
+            firsts = self.covered_first[:, landmark]
+            reached = np.flatnonzero(firsts >= 0)
+            order = reached[np.argsort(firsts[reached], kind="stable")]
+            got = (tuple(order.tolist()), firsts[order].tolist())
+            self._arrivals[landmark] = got
+        return got
 
     def landmark_arrays(self) -> tuple[np.ndarray, np.ndarray]:
         """(L, 2) landmark positions and (L,) reach radii, in metres."""

@@ -17,29 +17,26 @@ Visual language (our own design):
 
 from __future__ import annotations
 
+import bisect
 import math
-from functools import lru_cache
 
 import numpy as np
 from PySide6.QtCore import QPoint, QPointF, Qt
 from PySide6.QtGui import (
-    QColor,
     QFontMetricsF,
     QImage,
     QPaintEngine,
     QPainter,
     QPen,
-    QStaticText,
     QTransform,
 )
 
 from ..core.episode import Episode
 from ..core.scene import Scene
+from .agent_painter import paint_agents, prefill_sprites
 from .drawing import font, label
 from .episode_cache import EpisodeCache, episode_cache
 from .fastpath import (
-    WIDE_PIECE_PX,
-    chunked_rows_paths,
     line_pieces,
     polylines_path,
     rows_path,
@@ -47,14 +44,8 @@ from .fastpath import (
 )
 from .legend import paint_banner, paint_clock, paint_legend
 from .options import FrameOptions
-from .role_style import (
-    STYLE_HOLLOW,
-    agent_styles,
-    ink_for,
-    paint_role_mark,
-    show_numbers,
-)
 from .theme import Theme
+from .trail_blocks import paint_wide_trails, prefill_blocks
 from .view import ViewTransform
 
 #: above this many trail points in a frame, trails are drawn as 1-pixel lines (speed)
@@ -63,8 +54,6 @@ THIN_TRAIL_POINTS = 2400
 MAX_TRAIL_POINTS = 16000
 #: trails keep every k-th step when agents typically move less than this many pixels a step
 TRAIL_POINT_SPACING = 4.0
-#: above this many agents, raster frames blit pre-drawn body sprites
-SPRITES_ABOVE = 8
 
 __all__ = [
     "FrameOptions",
@@ -73,13 +62,6 @@ __all__ = [
     "paint_episode_frame",
     "paint_legend",
 ]
-
-
-@lru_cache(maxsize=4096)
-def _static_number(text: str, px: int) -> QStaticText:
-    st = QStaticText(text)
-    st.prepare(QTransform(), font(px, bold=True))
-    return st
 
 
 def paint_episode_frame(
@@ -98,19 +80,20 @@ def paint_episode_frame(
         return
     step = int(min(max(step, 0), cache.steps - 1))
     ui = opts.ui_scale or 1.0
+    raster = blits_exactly(painter)  # once a frame: asking Qt costs ~10 us
     painter.save()
     painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
     if opts.par_paths:
         paint_par_paths(painter, cache, view, theme, ui)
     if opts.team_goal and cache.has_team_goal:
-        paint_targets(painter, cache, step, view, theme, ui)
+        paint_targets(painter, cache, step, view, theme, ui, raster)
     if opts.trails:
-        paint_trails(painter, cache, step, view, theme, opts, ui)
+        paint_trails(painter, cache, step, view, theme, opts, ui, raster)
     if opts.pursued:
         paint_pursued(painter, cache, step, view, theme, ui)
     if opts.collisions:
-        paint_collisions(painter, cache, step, view, theme, ui, opts)
-    paint_agents(painter, cache, step, view, theme, opts, ui)
+        paint_collisions(painter, cache, step, view, theme, ui, opts, raster)
+    paint_agents(painter, cache, step, view, theme, opts, ui, raster)
     painter.restore()
 
 
@@ -143,7 +126,13 @@ def paint_par_paths(
 
 
 def paint_targets(
-    painter: QPainter, cache: EpisodeCache, step: int, view: ViewTransform, theme: Theme, ui: float
+    painter: QPainter,
+    cache: EpisodeCache,
+    step: int,
+    view: ViewTransform,
+    theme: Theme,
+    ui: float,
+    raster: bool | None = None,
 ) -> None:
     """Team-goal targets: ring, pips of who reached them, "n at t s" for the first.
 
@@ -151,16 +140,16 @@ def paint_targets(
     image each state is drawn once into a sprite aligned to the pixel grid and blitted after
     (the dashed wide ring and the label cost ~0.1 ms a target a frame otherwise)."""
     scene = cache.scene
-    raster = blits_exactly(painter)
-    for l_idx in np.flatnonzero(cache.team):
+    raster = blits_exactly(painter) if raster is None else raster
+    covered_now = cache.covered[step].tolist()
+    for l_idx in cache.team_indices():
         lm = scene.landmarks[l_idx]
         c = view.to_px(*lm.position)
         r = max(view.length_px(lm.reach_radius), 6 * ui)
-        covered = bool(cache.covered[step, l_idx])
-        firsts = cache.covered_first[:, l_idx]
-        reached = np.flatnonzero((firsts >= 0) & (firsts <= step))
-        order = tuple(int(a) for a in reached[np.argsort(firsts[reached], kind="stable")][:12])
-        text = f"{order[0] + 1} at {firsts[order[0]] * cache.episode.dt:.1f} s" if order else ""
+        covered = covered_now[l_idx]
+        agents, firsts = cache.arrivals(l_idx)
+        order = agents[: min(bisect.bisect_right(firsts, step), 12)]
+        text = f"{order[0] + 1} at {firsts[0] * cache.episode.dt:.1f} s" if order else ""
         if not raster:
             _draw_target(painter, c, r, covered, order, text, theme, ui)
             continue
@@ -253,25 +242,21 @@ def paint_trails(
     theme: Theme,
     opts: FrameOptions,
     ui: float,
+    raster: bool | None = None,
 ) -> None:
-    """Fading trails: the window splits into bands (older = fainter), one path per identity
-    colour per band. Wide antialiased pens cost ~100x more than 1-pixel ones on long
+    """Fading trails. Wide antialiased pens cost ~100x more than 1-pixel ones on long
     self-crossing paths (64 agents x 200 steps: 110-175 ms vs 1.4 ms), so crowds (or
-    ``fast_trails``) get hairlines, and very long windows keep every k-th step. Small teams
-    get the wide pen, stroked as pieces about :data:`~.fastpath.WIDE_PIECE_PX` long, which
-    Qt strokes several times cheaper per point than one long path."""
-    dt = cache.episode.dt
-    length = max(1, round(opts.trail_seconds / dt)) if dt > 0 else 1
-    first = max(0, step - length)
+    ``fast_trails``) get hairlines in fade bands (one path per identity colour per band), and
+    very long windows keep every k-th step. Small teams get the wide pen, in blocks that raster
+    frames stroke once and blit after (:mod:`.trail_blocks`)."""
+    first, stride, thin = _trail_window(cache, step, view, opts)
     if step - first < 1:
         return
-    total = (step - first + 1) * cache.agents
-    stride = max(1, math.ceil(total / MAX_TRAIL_POINTS))
-    step_px = view.length_px(cache.step_length())
-    if step_px > 0:
-        # keep about one point per TRAIL_POINT_SPACING pixels of typical travel: the dropped
-        # points bend the line by well under a pixel, and build and stroke cost halve
-        stride = max(stride, round(TRAIL_POINT_SPACING / step_px))
+    if not thin:
+        raster = blits_exactly(painter) if raster is None else raster
+        width = _wide_trail_width(view, ui)
+        paint_wide_trails(painter, cache, first, step, stride, view, theme, width, raster)
+        return
     idx = np.arange(first, step + 1, stride)
     if idx[-1] != step:
         idx = np.append(idx, step)
@@ -279,28 +264,7 @@ def paint_trails(
     bands = max(1, min(opts.trail_bands, n_pts - 1))
     edges = np.linspace(0, n_pts - 1, bands + 1).round().astype(int)
     groups = cache.group_xy(len(theme.identity))
-    thin = opts.fast_trails or total > THIN_TRAIL_POINTS
-    width = 1.0 if thin else max(1.6 * ui, view.length_px(0.05))
     painter.setBrush(Qt.BrushStyle.NoBrush)
-    window_all = slice(first, step + 1) if stride == 1 else idx
-    if not thin:
-        # wide pens: short pieces that share end points (one build for all colours), each piece
-        # in the band of its first point; flat caps so shared points are not blended twice
-        spacing = step_px * stride
-        piece = min(64, 1 + int(WIDE_PIECE_PX // spacing)) if spacing > 0 else 64
-        for g, paths, starts in _wide_pieces(groups, window_all, view, max(2, piece)):
-            band_of = np.searchsorted(edges[1:-1], starts, side="right")
-            order = np.argsort(band_of, kind="stable").tolist()  # by band, pieces in order
-            ends = np.cumsum(np.bincount(band_of, minlength=bands)).tolist()
-            begin = 0
-            for b, end in enumerate(ends):
-                if end == begin:
-                    continue
-                painter.setPen(_trail_pen(theme, g, b, bands, width))
-                for k in order[begin:end]:
-                    painter.drawPath(paths[k])
-                begin = end
-        return
     for b in range(bands):
         i0, i1 = int(edges[b]), int(edges[b + 1])
         if i1 <= i0:
@@ -308,7 +272,7 @@ def paint_trails(
         alpha = 0.15 + 0.6 * (b + 1) / bands
         window = slice(first + i0, first + i1 + 1) if stride == 1 else idx[i0 : i1 + 1]
         for g, world in enumerate(groups):
-            pen = QPen(theme.agent_color(g, alpha=alpha), width)
+            pen = QPen(theme.agent_color(g, alpha=alpha), 1.0)
             pen.setCosmetic(True)
             pen.setCapStyle(Qt.PenCapStyle.RoundCap)
             pen.setJoinStyle(Qt.PenJoinStyle.BevelJoin)
@@ -316,49 +280,53 @@ def paint_trails(
             painter.drawPath(rows_path(world[:, window], view.scale, view.offset_x, view.offset_y))
 
 
-_TRAIL_PENS: dict[tuple[str, int, int, int, float], QPen] = {}
+def _trail_window(
+    cache: EpisodeCache, step: int, view: ViewTransform, opts: FrameOptions
+) -> tuple[int, int, bool]:
+    """(first step, stride, thin) of the trails at ``step``."""
+    dt = cache.episode.dt
+    length = max(1, round(opts.trail_seconds / dt)) if dt > 0 else 1
+    first = max(0, step - length)
+    total = (step - first + 1) * cache.agents
+    stride = max(1, math.ceil(total / MAX_TRAIL_POINTS))
+    step_px = view.length_px(cache.step_length())
+    if step_px > 0:
+        # keep about one point per TRAIL_POINT_SPACING pixels of typical travel: the dropped
+        # points bend the line by well under a pixel, and build and stroke cost halve
+        stride = max(stride, round(TRAIL_POINT_SPACING / step_px))
+    return first, stride, opts.fast_trails or total > THIN_TRAIL_POINTS
 
 
-def _trail_pen(theme: Theme, group: int, band: int, bands: int, width: float) -> QPen:
-    """The wide trail pen of one colour group and fade band, made once per theme and width
-    (a frame of a small team sets ~10 of them)."""
-    key = (theme.name, group, band, bands, width)
-    pen = _TRAIL_PENS.get(key)
-    if pen is None:
-        if len(_TRAIL_PENS) > 512:
-            _TRAIL_PENS.clear()
-        pen = QPen(theme.agent_color(group, alpha=0.15 + 0.6 * (band + 1) / bands), width)
-        pen.setCapStyle(Qt.PenCapStyle.FlatCap)
-        pen.setJoinStyle(Qt.PenJoinStyle.BevelJoin)  # ~25 % cheaper than round joins
-        _TRAIL_PENS[key] = pen
-    return pen
+def _wide_trail_width(view: ViewTransform, ui: float) -> float:
+    return max(1.6 * ui, view.length_px(0.05))
 
 
-def _wide_pieces(
-    groups: list[np.ndarray], window: slice | np.ndarray, view: ViewTransform, piece: int
-) -> list[tuple[int, list, np.ndarray]]:
-    """Each colour group's trail pieces and their first indices, in the order one
-    :func:`chunked_rows_paths` call per group would give them, built from one call for all
-    groups (the build's fixed cost is about half of a 2-agent trail's time)."""
-    windows = [world[:, window] for world in groups]
-    rows = [len(w) for w in windows]
-    stacked = np.concatenate(windows) if windows else np.zeros((0, 0, 2))
-    if len(groups) < 2 or stacked.shape[1] < 2 or not np.isfinite(stacked.sum()):
-        return [
-            (g, *chunked_rows_paths(w, view.scale, view.offset_x, view.offset_y, piece))
-            for g, w in enumerate(windows)
-        ]
-    paths, starts = chunked_rows_paths(stacked, view.scale, view.offset_x, view.offset_y, piece)
-    total, n = stacked.shape[:2]
-    per_row = -(-(n - 1) // (piece - 1))
-    # pieces come as every row's full-length pieces, then every row's last piece
-    row_of = np.concatenate([np.repeat(np.arange(total), per_row - 1), np.arange(total)])
-    group_of = np.repeat(np.arange(len(groups)), rows)[row_of]
-    out = []
-    for g in range(len(groups)):
-        sel = np.flatnonzero(group_of == g)
-        out.append((g, [paths[k] for k in sel.tolist()], starts[sel]))
-    return out
+def prefill_frame(
+    scene: Scene,
+    episode: Episode,
+    step: int,
+    view: ViewTransform,
+    theme: Theme,
+    options: FrameOptions | None = None,
+    max_new: int = 24,
+) -> bool:
+    """Pre-draw up to ``max_new`` of the images raster frames of ``episode`` blit at this view
+    (wide-trail blocks nearest to ``step`` first, see :mod:`.trail_blocks`, then body
+    sprites), so later frames find them. A viewer calls this while idle; True while more
+    remain to draw."""
+    opts = options or FrameOptions()
+    cache = episode_cache(scene, episode)
+    if cache.steps < 2:
+        return False
+    step = int(min(max(step, 0), cache.steps - 1))
+    ui = opts.ui_scale or 1.0
+    # a full window: wide trails keep one stride for every step; thin ones need no blocks
+    _first, stride, thin = _trail_window(cache, cache.steps - 1, view, opts)
+    if opts.trails and not thin:
+        width = _wide_trail_width(view, ui)
+        if prefill_blocks(cache, step, stride, view, theme, width, max_new):
+            return True
+    return prefill_sprites(cache, view, theme, opts, ui, max_new)
 
 
 def paint_pursued(
@@ -374,32 +342,43 @@ def paint_pursued(
     lm, reach = cache.landmark_arrays()
     xy = cache.xy[step]
     here = np.linalg.norm(lm[None] - xy[:, None], axis=-1) <= reach
-    wanted = cache.pursued & ~here
-    if not wanted.any():
+    agents, marks = np.nonzero(cache.pursued & ~here)
+    if len(agents) == 0:
         return
-    pos = view.map_array(xy)
-    lm_px = view.map_array(lm)
-    # a handful of lines: one drawLine each is cheaper than building a path per agent
-    for a in np.flatnonzero(wanted.any(axis=1)).tolist():
-        start = QPointF(float(pos[a, 0]), float(pos[a, 1]))
-        for on_team in (True, False):
-            sel = np.flatnonzero(wanted[a] & (cache.team == on_team))
-            if len(sel) == 0:
-                continue
-            if on_team:
-                # solid thin line in short pieces: Qt strokes a long steep antialiased line
-                # ~10x slower than the same line cut up (see fastpath.line_pieces)
-                pen = QPen(theme.agent_color(a, alpha=0.45), 1.0 * ui)
-                pen.setCapStyle(Qt.PenCapStyle.FlatCap)
-                painter.setPen(pen)
-                for x, y in lm_px[sel].tolist():
-                    painter.drawLines(line_pieces(start.x(), start.y(), x, y))
-                continue
-            pen = QPen(theme.agent_color(a, alpha=0.95), 2.0 * ui)
-            pen.setStyle(Qt.PenStyle.DashLine)  # the dash pattern already cuts it up
+    pos = view.map_array(xy).tolist()
+    lm_px = view.map_array(lm).tolist()
+    team = cache.team.tolist()
+    # a handful of lines: one drawLine(s) each is cheaper than building a path per agent
+    for a, m in zip(agents.tolist(), marks.tolist(), strict=True):
+        (x0, y0), (x1, y1) = pos[a], lm_px[m]
+        if team[m]:
+            # thin solid line, cut where Qt strokes it slowly (see fastpath.line_pieces)
+            pen = _pursued_pen(theme, a, True, ui)
             painter.setPen(pen)
-            for x, y in lm_px[sel].tolist():
-                painter.drawLine(start, QPointF(x, y))
+            painter.drawLines(line_pieces(x0, y0, x1, y1, pen.widthF()))
+        else:
+            painter.setPen(_pursued_pen(theme, a, False, ui))
+            painter.drawLine(QPointF(x0, y0), QPointF(x1, y1))  # dashes cut it up already
+
+
+_PURSUED_PENS: dict[tuple[str, int, bool, float], QPen] = {}
+
+
+def _pursued_pen(theme: Theme, agent: int, on_team: bool, ui: float) -> QPen:
+    """Faint thin solid for a target on the team goal, strong dashed for one off it."""
+    key = (theme.name, agent, on_team, ui)
+    pen = _PURSUED_PENS.get(key)
+    if pen is None:
+        if len(_PURSUED_PENS) > 1024:
+            _PURSUED_PENS.clear()
+        if on_team:
+            pen = QPen(theme.agent_color(agent, alpha=0.45), 1.0 * ui)
+            pen.setCapStyle(Qt.PenCapStyle.FlatCap)
+        else:
+            pen = QPen(theme.agent_color(agent, alpha=0.95), 2.0 * ui)
+            pen.setStyle(Qt.PenStyle.DashLine)
+        _PURSUED_PENS[key] = pen
+    return pen
 
 
 def paint_collisions(
@@ -410,6 +389,7 @@ def paint_collisions(
     theme: Theme,
     ui: float,
     opts: FrameOptions | None = None,
+    raster: bool | None = None,
 ) -> None:
     ev = cache.collisions
     if len(ev) == 0:
@@ -427,7 +407,7 @@ def paint_collisions(
     recent_steps = 1.0 / cache.episode.dt if cache.episode.dt > 0 else 1
     px = view.map_array(ev[:, 1:3])
     recent = (step - ev[:, 0]) <= recent_steps
-    if blits_exactly(painter):
+    if blits_exactly(painter) if raster is None else raster:
         # crowds leave hundreds of marks: one blit each instead of an ellipse per recent one
         for is_recent in (False, True):
             sel = np.round(px[recent == is_recent]).astype(int)
@@ -483,139 +463,3 @@ def _mark_sprite(theme: Theme, ui: float, recent: bool) -> QImage:
     finally:
         p.end()
     return img
-
-
-def paint_agents(
-    painter: QPainter,
-    cache: EpisodeCache,
-    step: int,
-    view: ViewTransform,
-    theme: Theme,
-    opts: FrameOptions,
-    ui: float,
-) -> None:
-    """Bodies, role marks, heading ticks and numbers.
-
-    On a raster device with many agents each (colour, role, size) body is drawn once into a
-    small sprite and blitted (an antialiased ellipse costs ~30 us, a blit ~3 us); vector
-    output (SVG) and small teams draw every shape.
-    """
-    pos = view.map_array(cache.xy[step])
-    heading = cache.heading[step]
-    radii = np.maximum(cache.radius * view.scale, 2.5 * ui)
-    styles = agent_styles(cache, step, opts)
-    ring_color = theme.qcolor("text")
-    numbers = show_numbers(cache.agents, opts)
-    sprites = blits_exactly(painter) and cache.agents > SPRITES_ABOVE
-    n_colors = len(theme.identity)
-    if sprites:
-        for a in range(cache.agents):
-            img = _sprite(theme, a % n_colors, int(styles[a]), float(radii[a]), ui)
-            half = img.width() / 2
-            painter.drawImage(QPointF(pos[a, 0] - half, pos[a, 1] - half), img)
-    else:
-        edge = QPen(theme.qcolor("background"), 1.0 * ui)
-        for a in range(cache.agents):
-            c = QPointF(float(pos[a, 0]), float(pos[a, 1]))
-            _paint_body(painter, c, float(radii[a]), int(styles[a]), a, theme, ui, edge)
-    # heading ticks: one path per ink colour
-    inks = np.array(
-        [
-            _ink_index(theme, a % n_colors) if styles[a] != STYLE_HOLLOW else 2
-            for a in range(cache.agents)
-        ]
-    )
-    direction = np.stack([np.cos(heading), -np.sin(heading)], axis=1)
-    tips = pos + direction * radii[:, None]
-    bases = pos + direction * (radii[:, None] * (0.35 if numbers else 0.0))
-    width = max(1.5 * ui, float(np.median(radii)) * 0.18)
-    ink_colors = (QColor(17, 17, 17), QColor(255, 255, 255), ring_color)
-    for k, color in enumerate(ink_colors):
-        sel = inks == k
-        if sel.any():
-            pen = QPen(color, width)
-            pen.setCapStyle(Qt.PenCapStyle.FlatCap)
-            painter.setPen(pen)
-            painter.drawPath(segments_path(bases[sel], tips[sel]))
-    if numbers:
-        _paint_numbers(painter, pos, radii, inks, ink_colors, theme, ui)
-
-
-def _paint_body(
-    painter: QPainter,
-    c: QPointF,
-    r: float,
-    style: int,
-    color_index: int,
-    theme: Theme,
-    ui: float,
-    edge: QPen,
-) -> None:
-    hollow = style == STYLE_HOLLOW
-    painter.setPen(QPen(theme.agent_color(color_index), 2.0 * ui) if hollow else edge)
-    painter.setBrush(theme.agent_color(color_index, alpha=0.35 if hollow else None))
-    painter.drawEllipse(c, r, r)
-    paint_role_mark(painter, c, r, style, theme.qcolor("text"), theme, ui)
-
-
-_SPRITE_CACHE: dict[tuple[str, int, int, float, float], QImage] = {}
-
-
-def _sprite(theme: Theme, color_index: int, style: int, r: float, ui: float) -> QImage:
-    key = (theme.name, color_index, style, round(r * 4) / 4, round(ui, 3))
-    img = _SPRITE_CACHE.get(key)
-    if img is None:
-        if len(_SPRITE_CACHE) > 1024:
-            _SPRITE_CACHE.clear()
-        r = key[3]
-        extent = r + 2.5 * ui + 3.0 * ui + max(5.0 * ui, r * 0.55) + 2.0
-        size = 2 * math.ceil(extent)
-        img = QImage(size, size, QImage.Format.Format_ARGB32_Premultiplied)
-        img.fill(Qt.GlobalColor.transparent)
-        p = QPainter(img)
-        try:
-            p.setRenderHint(QPainter.RenderHint.Antialiasing, True)
-            edge = QPen(theme.qcolor("background"), 1.0 * ui)
-            _paint_body(p, QPointF(size / 2, size / 2), r, style, color_index, theme, ui, edge)
-        finally:
-            p.end()
-        _SPRITE_CACHE[key] = img
-    return img
-
-
-@lru_cache(maxsize=256)
-def _ink_for_hex(hexcode: str) -> int:
-    return 0 if ink_for(QColor(hexcode[:7])).lightness() < 128 else 1
-
-
-def _ink_index(theme: Theme, color_index: int) -> int:
-    """0 for a dark tick/number on this identity colour, 1 for a light one."""
-    return _ink_for_hex(theme.agent_hex(color_index))
-
-
-def _paint_numbers(
-    painter: QPainter,
-    pos: np.ndarray,
-    radii: np.ndarray,
-    inks: np.ndarray,
-    ink_colors: tuple[QColor, ...],
-    theme: Theme,
-    ui: float,
-) -> None:
-    """Each agent's 1-based number: inside its body, or beside it when the body is small."""
-    px = round(max(8.0 * ui, min(float(radii.min()) * 1.1, 13 * ui)))
-    painter.setFont(font(px, bold=True))
-    inside = radii >= 6 * ui
-    for k, color in enumerate((*ink_colors, theme.qcolor("text"))):
-        sel = np.flatnonzero((inks == k) & inside) if k < 3 else np.flatnonzero(~inside)
-        if len(sel) == 0:
-            continue
-        painter.setPen(color)
-        for a in sel:
-            st = _static_number(str(a + 1), px)
-            size = st.size()
-            if k < 3:
-                at = QPointF(pos[a, 0] - size.width() / 2, pos[a, 1] - size.height() / 2)
-            else:
-                at = QPointF(pos[a, 0] + radii[a] + 1, pos[a, 1] - radii[a] - size.height())
-            painter.drawStaticText(at, st)

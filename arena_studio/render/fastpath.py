@@ -173,17 +173,27 @@ def chunked_rows_paths(
     return paths, starts
 
 
-def line_pieces(
-    x0: float, y0: float, x1: float, y1: float, piece_px: float = WIDE_PIECE_PX
-) -> list[QLineF]:
-    """One straight line as collinear pieces about ``piece_px`` long, for ``drawLines``.
+#: a 1-pixel antialiased line steeper than 45 degrees is drawn as pieces at most this tall
+HAIRLINE_PIECE_PX = 32.0
 
-    Measured here: Qt's antialiased stroker takes 0.1-0.26 ms for one steep 1 px line of a
-    few hundred pixels, but ~0.01 ms for the same line in 24 px pieces (flat caps, so the
-    pieces abut without overlap and look the same).
+
+def line_pieces(x0: float, y0: float, x1: float, y1: float, width: float = 2.0) -> list[QLineF]:
+    """One straight line as collinear pieces, for ``drawLines``, cut where Qt's raster engine
+    needs it to stay fast (measured here, 600 px lines, flat caps so pieces abut unblended):
+
+    - pens wider than 1 px: pieces about :data:`WIDE_PIECE_PX` long (a whole line 150-550 us,
+      in pieces ~30 us);
+    - 1 px pens (Qt's hairline stroker): a line up to 45 degrees from horizontal stays whole
+      (~20 us); a steeper one costs ~400 us whole and ~12 us in pieces at most
+      :data:`HAIRLINE_PIECE_PX` tall.
     """
     dx, dy = x1 - x0, y1 - y0
-    n = max(1, int(math.hypot(dx, dy) // piece_px))
+    if width <= 1.0:
+        n = 1 if abs(dy) <= abs(dx) else max(1, math.ceil(abs(dy) / HAIRLINE_PIECE_PX))
+    else:
+        n = max(1, int(math.hypot(dx, dy) // WIDE_PIECE_PX))
+    if n == 1:
+        return [QLineF(x0, y0, x1, y1)]
     xs = [x0 + dx * k / n for k in range(n)] + [x1]  # plain floats: a few pieces per line
     ys = [y0 + dy * k / n for k in range(n)] + [y1]
     return [QLineF(xs[k], ys[k], xs[k + 1], ys[k + 1]) for k in range(n)]

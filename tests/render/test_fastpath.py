@@ -120,3 +120,22 @@ def test_line_pieces_cover_the_line_end_to_end() -> None:
         assert (a.x2(), a.y2()) == (b.x1(), b.y1())
         assert WIDE_PIECE_PX <= a.length() < 2 * WIDE_PIECE_PX
     assert len(line_pieces(0.0, 0.0, 5.0, 0.0)) == 1  # shorter than one piece: one piece
+
+
+def test_hairline_pieces_cut_only_steep_lines() -> None:
+    # Plane geometry (common practice, no source); the cut rule is what Qt's 1 px stroker
+    # needs here (fastpath.line_pieces): shallow lines whole, steep ones at most
+    # HAIRLINE_PIECE_PX tall, and the pieces still run end to end along the line.
+    import itertools
+
+    from arena_studio.render.fastpath import HAIRLINE_PIECE_PX, line_pieces
+
+    assert len(line_pieces(0.0, 0.0, 600.0, 400.0, width=1.0)) == 1  # ~34 degrees: whole
+    steep = line_pieces(10.0, 500.0, 110.0, 20.5, width=1.0)
+    assert len(steep) == int(np.ceil(479.5 / HAIRLINE_PIECE_PX))
+    assert all(abs(p.dy()) <= HAIRLINE_PIECE_PX for p in steep)
+    assert (steep[0].x1(), steep[0].y1()) == (10.0, 500.0)
+    assert (steep[-1].x2(), steep[-1].y2()) == (110.0, 20.5)
+    for a, b in itertools.pairwise(steep):
+        assert (a.x2(), a.y2()) == (b.x1(), b.y1())
+    assert len(line_pieces(0.0, 0.0, 600.0, 400.0, width=1.5)) > 1  # wide pens: by length
