@@ -34,6 +34,7 @@ from ..canvas import SceneCanvas
 from ..scene_items import WORLD
 from .clock_overlay import ClockOverlay
 from .prepared import PreparedEpisode
+from .trail_prefill import TrailPrefill
 
 LEGEND_W = 200.0
 HOVER_SLACK_PX = 6.0
@@ -57,6 +58,7 @@ class EpisodeLayer(QGraphicsItem):
         self.step = 0
         self.options = FrameOptions()
         self.painted_step: int | None = None  # what the last paint() drew (for tests)
+        self.prefill: TrailPrefill | None = None  # draws trail blocks ahead when idle
         self.setZValue(30 if not ghost else 25)
         if ghost:
             self.setOpacity(0.38)
@@ -87,6 +89,10 @@ class EpisodeLayer(QGraphicsItem):
         )
         painter.restore()
         self.painted_step = self.step
+        if self.prefill is not None:
+            self.prefill.request(
+                self, self.scene_value, self.episode, self.step, view, self.theme, self.options
+            )
 
 
 class ReplayCanvas(SceneCanvas):
@@ -100,6 +106,8 @@ class ReplayCanvas(SceneCanvas):
         self.layer_ghost = EpisodeLayer(theme, ghost=True)
         self.scene().addItem(self.layer_ghost)
         self.scene().addItem(self.layer_episode)
+        self.trail_prefill = TrailPrefill(self.viewport())
+        self.layer_episode.prefill = self.layer_ghost.prefill = self.trail_prefill
         self.prepared: PreparedEpisode | None = None
         self.caption: str | None = None  # e.g. "episode 12 (aligned success)" in compare mode
         self.show_legend = True
