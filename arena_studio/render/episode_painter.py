@@ -37,9 +37,9 @@ from .agent_painter import paint_agents, prefill_sprites
 from .drawing import font, label
 from .episode_cache import EpisodeCache, episode_cache
 from .fastpath import (
+    grouped_rows_paths,
     line_pieces,
     polylines_path,
-    rows_path,
     segments_path,
 )
 from .legend import paint_banner, paint_clock, paint_legend
@@ -262,22 +262,39 @@ def paint_trails(
         idx = np.append(idx, step)
     n_pts = len(idx)
     bands = max(1, min(opts.trail_bands, n_pts - 1))
-    edges = np.linspace(0, n_pts - 1, bands + 1).round().astype(int)
+    edges = np.linspace(0, n_pts - 1, bands + 1).round().astype(int).tolist()
     groups = cache.group_xy(len(theme.identity))
+    kept = [b for b in range(bands) if edges[b + 1] > edges[b]]
+    windows = [
+        slice(first + edges[b], first + edges[b + 1] + 1)
+        if stride == 1
+        else idx[edges[b] : edges[b + 1] + 1]
+        for b in kept
+    ]
+    paths = grouped_rows_paths(groups, windows, view.scale, view.offset_x, view.offset_y)
     painter.setBrush(Qt.BrushStyle.NoBrush)
-    for b in range(bands):
-        i0, i1 = int(edges[b]), int(edges[b + 1])
-        if i1 <= i0:
-            continue
-        alpha = 0.15 + 0.6 * (b + 1) / bands
-        window = slice(first + i0, first + i1 + 1) if stride == 1 else idx[i0 : i1 + 1]
-        for g, world in enumerate(groups):
-            pen = QPen(theme.agent_color(g, alpha=alpha), 1.0)
-            pen.setCosmetic(True)
-            pen.setCapStyle(Qt.PenCapStyle.RoundCap)
-            pen.setJoinStyle(Qt.PenJoinStyle.BevelJoin)
-            painter.setPen(pen)
-            painter.drawPath(rows_path(world[:, window], view.scale, view.offset_x, view.offset_y))
+    for b, row in zip(kept, paths, strict=True):
+        for g, path in enumerate(row):
+            painter.setPen(_hairline_pen(theme, g, b, bands))
+            painter.drawPath(path)
+
+
+_HAIRLINE_PENS: dict[tuple[str, int, int, int], QPen] = {}
+
+
+def _hairline_pen(theme: Theme, group: int, band: int, bands: int) -> QPen:
+    """A crowd's 1-pixel trail pen of one colour group and fade band (older = fainter)."""
+    key = (theme.name, group, band, bands)
+    pen = _HAIRLINE_PENS.get(key)
+    if pen is None:
+        if len(_HAIRLINE_PENS) > 1024:
+            _HAIRLINE_PENS.clear()
+        pen = QPen(theme.agent_color(group, alpha=0.15 + 0.6 * (band + 1) / bands), 1.0)
+        pen.setCosmetic(True)
+        pen.setCapStyle(Qt.PenCapStyle.RoundCap)
+        pen.setJoinStyle(Qt.PenJoinStyle.BevelJoin)
+        _HAIRLINE_PENS[key] = pen
+    return pen
 
 
 def _trail_window(

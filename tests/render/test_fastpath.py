@@ -139,3 +139,26 @@ def test_hairline_pieces_cut_only_steep_lines() -> None:
     for a, b in itertools.pairwise(steep):
         assert (a.x2(), a.y2()) == (b.x1(), b.y1())
     assert len(line_pieces(0.0, 0.0, 600.0, 400.0, width=1.5)) > 1  # wide pens: by length
+
+
+def test_grouped_paths_equal_one_path_per_group_and_window(qapp):
+    # Reference: the path Qt builds point by point (_qt_path) for each group and window,
+    # including an empty window and a group whose window has a missing point.
+    from arena_studio.render.fastpath import grouped_rows_paths
+
+    rng = np.random.default_rng(4)
+    groups = [rng.uniform(0, 10, (r, 30, 2)) for r in (3, 1, 2)]
+    groups[2][1, 12] = np.nan
+    windows = [slice(0, 11), np.array([10, 12, 14, 15]), slice(20, 30), slice(5, 5)]
+    got = grouped_rows_paths(groups, windows, 7.5, 12.0, 300.0)
+    assert [len(row) for row in got] == [3, 3, 3, 3]
+    for w, window in enumerate(windows):
+        for g, group in enumerate(groups):
+            want = group[:, window]
+            if not np.isfinite(want).all():
+                from arena_studio.render.fastpath import rows_path
+
+                expected = _elements(rows_path(want, 7.5, 12.0, 300.0))  # breaks at the gap
+            else:
+                expected = _elements(_qt_path(want, 7.5, 12.0, 300.0))
+            assert _elements(got[w][g]) == expected
