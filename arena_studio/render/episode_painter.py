@@ -11,7 +11,8 @@ Visual language (our own design):
   a pip per agent that has covered it so far and "n at t s" for the first to reach it;
 - pursued goals: a thin line from each agent to each of its pursued targets, solid when the
   target is on the team goal, dashed when it is not, so misalignment shows at a glance;
-- trails fade in bands (one path per colour group per band, see :mod:`.fastpath`);
+- trails fade with age: a small team's wide trails block by block (:mod:`.trail_blocks`),
+  a crowd's 1 px trails in bands (one path per colour group per band, :mod:`.fastpath`);
 - collisions: an x where a contact began, larger for the last second.
 """
 
