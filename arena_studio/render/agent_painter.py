@@ -26,6 +26,9 @@ from .view import ViewTransform
 
 #: sub-pixel positions per pixel a body sprite comes in, in x and in y
 SPRITE_PHASES = 4
+#: bodies larger than this (zoomed far in) are drawn, not blitted: 16 sprites each would
+#: cost megabytes, and few bodies are on screen then
+SPRITE_MAX_RADIUS_PX = 40.0
 #: up to this many agents, heading ticks are single lines (a shared path costs ~35 us to build)
 TICK_LINES_UP_TO = 8
 _INK_COLORS = (QColor(17, 17, 17), QColor(255, 255, 255))
@@ -50,7 +53,7 @@ def paint_agents(
     styles = agent_styles(cache, step, opts).tolist()
     numbers = show_numbers(cache.agents, opts)
     n_colors = len(theme.identity)
-    if raster:
+    if raster and float(radii.max()) <= SPRITE_MAX_RADIUS_PX:
         _blit_bodies(painter, pos, radii, styles, theme, ui)
     else:
         edge = QPen(theme.qcolor("background"), 1.0 * ui)
@@ -196,6 +199,8 @@ def prefill_sprites(
         combos = [(a, sorted(set(every[:, a].tolist()))) for a in range(cache.agents)]
         cache.memo[key] = combos
     radii = np.maximum(cache.radius * view.scale, 2.5 * ui)
+    if float(radii.max()) > SPRITE_MAX_RADIUS_PX:
+        return False
     n_colors = len(theme.identity)
     name, ui_key = theme.name, round(ui, 3)
     made = 0

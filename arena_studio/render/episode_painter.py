@@ -327,11 +327,13 @@ def prefill_frame(
     theme: Theme,
     options: FrameOptions | None = None,
     max_new: int = 24,
+    bounds: tuple[int, int] | None = None,
 ) -> bool:
     """Pre-draw up to ``max_new`` of the images raster frames of ``episode`` blit at this view
     (wide-trail blocks nearest to ``step`` first, see :mod:`.trail_blocks`, then body
-    sprites), so later frames find them. A viewer calls this while idle; True while more
-    remain to draw."""
+    sprites), in about 2 ms at most, so later frames find them. ``bounds``: the output's
+    (width, height) in pixels, to skip blocks off screen. A viewer calls this while idle;
+    True while more remain to draw."""
     opts = options or FrameOptions()
     cache = episode_cache(scene, episode)
     if cache.steps < 2:
@@ -342,7 +344,7 @@ def prefill_frame(
     _first, stride, thin = _trail_window(cache, cache.steps - 1, view, opts)
     if opts.trails and not thin:
         width = _wide_trail_width(view, ui)
-        if prefill_blocks(cache, step, stride, view, theme, width, max_new):
+        if prefill_blocks(cache, step, stride, view, theme, width, max_new, bounds):
             return True
     return prefill_sprites(cache, view, theme, opts, ui, max_new)
 

@@ -18,6 +18,8 @@ from __future__ import annotations
 
 import math
 import threading
+import time
+from collections.abc import Iterator
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -36,6 +38,9 @@ BLOCK_PX = 48.0
 NEW_BLOCKS_PER_FRAME = 8
 #: spans wider or taller than this (zoomed far in) are stroked directly, not blitted
 MAX_SCRATCH_PX = 1024
+#: blocks wider or taller than this are drawn through the work image each frame, not kept
+#: (zoomed in, few are on screen and keeping them would cost megabytes each)
+MAX_KEEP_PX = 256
 #: block images kept per episode and view, in pixels (4 bytes each), before caching stops
 MAX_STORE_PIXELS = 8_000_000
 #: views (zoom levels, themes, pen widths) kept per episode
@@ -85,6 +90,7 @@ class _Store:
     images: dict[tuple[int, int], tuple[int, int, QImage]] = field(default_factory=dict)
     skip: set[tuple[int, int]] = field(default_factory=set)  # blocks with nothing to keep
     pixels: int = 0
+    job: tuple[tuple, Iterator[tuple[int, int]]] | None = None  # an unfinished prefill
 
     def add(self, key: tuple[int, int], entry: tuple[int, int, QImage] | None) -> None:
         if entry is None:
@@ -160,6 +166,8 @@ def paint_wide_trails(
             live[start] = _pixels(cache.xy[span_samples(start, end, stride)], view)
     budget = NEW_BLOCKS_PER_FRAME
     base = painter.opacity()  # e.g. a ghosted episode's layer opacity
+    device = painter.device()
+    visible = (-ix, -iy, device.width() - ix, device.height() - iy)  # in the local frame
     scratch = _scratch()
     try:
         for a in range(cache.agents):
@@ -179,8 +187,8 @@ def paint_wide_trails(
                     continue
                 pts = _pixels(_world(cache, start, end, stride, a), local)
                 box = _span_box(pts, width)
-                if box is None:
-                    continue  # no two finite points: nothing to draw
+                if box is None or not _overlaps(box, visible):
+                    continue  # nothing to draw, or off screen (zoomed in)
                 if box[2] > MAX_SCRATCH_PX or box[3] > MAX_SCRATCH_PX:
                     # zoomed far in: a span wider than any work image is stroked directly
                     painter.setOpacity(base)
@@ -190,7 +198,8 @@ def paint_wide_trails(
                     continue
                 rect = scratch.stroke(pts, box, trail_pen(theme, color, 1.0, width), piece)
                 painter.drawImage(QPoint(box[0] + ix, box[1] + iy), scratch.image, rect)
-                if budget > 0 and store.pixels < MAX_STORE_PIXELS:
+                small = box[2] <= MAX_KEEP_PX and box[3] <= MAX_KEEP_PX
+                if small and budget > 0 and store.pixels < MAX_STORE_PIXELS:
                     budget -= 1
                     store.add((a, start), (box[0], box[1], scratch.image.copy(rect)))
     finally:
@@ -325,30 +334,54 @@ def prefill_blocks(
     theme: Theme,
     width: float,
     max_new: int,
+    bounds: tuple[int, int] | None = None,
+    seconds: float = 0.002,
 ) -> bool:
-    """Draw up to ``max_new`` missing block images of the whole episode, nearest to ``step``
-    first (a viewer calls this while idle, so scrubbing finds its blocks drawn). True while
-    blocks are still missing and the store has room."""
+    """Draw up to ``max_new`` missing block images of the episode (for at most ``seconds``),
+    nearest to ``step`` first, so scrubbing finds them drawn. A viewer calls this while idle;
+    ``bounds`` (width, height in pixels) limits it to blocks on screen. True while it has more
+    to do; a later call with the same step and bounds carries on where this one stopped."""
     segments, piece = block_layout(cache, view, stride)
-    store, _ix, _iy, local = _store_at(cache, view, theme, width, stride, segments, True)
+    store, ix, iy, local = _store_at(cache, view, theme, width, stride, segments, True)
     assert store is not None
     size = segments * stride
     last = (cache.steps - 1) // size  # blocks 0 .. last - 1 are whole
     here = min(max(step // size, 0), max(last - 1, 0))
-    order = _nearest_first(here, last)
+    job_key = (here, bounds, theme.name)
+    if store.job is None or store.job[0] != job_key:
+        order = ((a, j) for j in _nearest_first(here, last) for a in range(cache.agents))
+        store.job = (job_key, order)
+    order = store.job[1]
+    visible = None
+    if bounds is not None:  # the view's pixels, in the block images' (local) frame
+        visible = (-ix, -iy, bounds[0] - ix, bounds[1] - iy)
     n_colors = len(theme.identity)
+    deadline = time.perf_counter() + seconds
     made = 0
-    for j in order:
-        for a in range(cache.agents):
-            if (a, j * size) in store.images or (a, j * size) in store.skip:
-                continue
-            if made >= max_new or store.pixels >= MAX_STORE_PIXELS:
-                return store.pixels < MAX_STORE_PIXELS
-            samples = span_samples(j * size, (j + 1) * size, stride)
-            entry = _block_image(cache.xy[samples, a], local, piece, theme, a % n_colors, width)
-            store.add((a, j * size), entry)
-            made += 1
+    for a, j in order:
+        key = (a, j * size)
+        if key in store.images or key in store.skip:
+            continue
+        if store.pixels >= MAX_STORE_PIXELS:
+            return False
+        pts = _pixels(_world(cache, j * size, (j + 1) * size, stride, a), local)
+        box = _span_box(pts, width)
+        if box is None or box[2] > MAX_KEEP_PX or box[3] > MAX_KEEP_PX:
+            store.skip.add(key)  # nothing to draw, or drawn through the work image each frame
+            continue
+        if visible is not None and not _overlaps(box, visible):
+            continue
+        store.add(key, _block_image(pts, box, piece, theme, a % n_colors, width))
+        made += 1
+        if made >= max_new or time.perf_counter() > deadline:
+            return True
+    store.job = None
     return False
+
+
+def _overlaps(box: tuple[int, int, int, int], rect: tuple[int, int, int, int]) -> bool:
+    x0, y0, w, h = box
+    return x0 < rect[2] and x0 + w > rect[0] and y0 < rect[3] and y0 + h > rect[1]
 
 
 def _nearest_first(here: int, count: int):
@@ -390,15 +423,10 @@ def _pieces(pts: list, piece: int) -> list[QPainterPath]:
 
 
 def _block_image(
-    world: np.ndarray, view: ViewTransform, piece: int, theme: Theme, color: int, width: float
-) -> tuple[int, int, QImage] | None:
-    """One block ((S, 2) metres) stroked at full strength into a transparent image on the
-    pixel grid, exactly as :func:`paint_wide_trails` strokes it; None when it draws nothing
-    or is too large to keep."""
-    pts = _pixels(world, view)
-    box = _span_box(pts, width)
-    if box is None or box[2] > MAX_SCRATCH_PX or box[3] > MAX_SCRATCH_PX:
-        return None
+    pts: list, box: tuple[int, int, int, int], piece: int, theme: Theme, color: int, width: float
+) -> tuple[int, int, QImage]:
+    """One block (pixel polyline ``pts`` in ``box``) stroked at full strength into a
+    transparent image on the pixel grid, exactly as :func:`paint_wide_trails` strokes it."""
     scratch = _scratch()
     try:
         rect = scratch.stroke(pts, box, trail_pen(theme, color, 1.0, width), piece)

@@ -212,3 +212,49 @@ def test_sprites_skip_agents_without_a_pose(qapp):
     cache = episode_cache(scene, gap)
     got = _frame(lambda p: paint_agents(p, cache, 2, view, theme, FrameOptions(), 1.0, True))
     assert (np.abs(got - 250).max(axis=-1) > 40).sum() > 20  # the other agent is drawn
+
+
+def test_zoomed_in_frames_keep_only_small_blocks_on_screen(qapp):
+    # zoomed far in, most blocks are off screen and the rest are large: nothing off screen
+    # or larger than MAX_KEEP_PX is kept, and the frame still equals the stroked one
+    from arena_studio.render.trail_blocks import MAX_KEEP_PX
+
+    scene, ep = _hall_episode()
+    theme = load_theme("light")
+    base = ViewTransform.fit_scene(scene, (0, 0, W, H))
+    cache = episode_cache(scene, ep)
+    x, y = cache.xy[300, 0]
+    scale = base.scale * 12
+    view = ViewTransform(scale, W / 2 - scale * x, H / 2 + scale * y)
+    opts = FrameOptions(trail_seconds=12.0)
+    cache.trail_blocks.clear()
+    blitted = _frame(lambda p: paint_trails(p, cache, 300, view, theme, opts, 1.0, True))
+    stroked = _frame(lambda p: paint_trails(p, cache, 300, view, theme, opts, 1.0, False))
+    (store,) = cache.trail_blocks.values()
+    for x0, y0, img in store.images.values():
+        assert img.width() <= MAX_KEEP_PX and img.height() <= MAX_KEEP_PX
+        ix, iy = int(np.floor(view.offset_x)), int(np.floor(view.offset_y))
+        assert x0 + ix < W and x0 + ix + img.width() > 0  # on screen
+        assert y0 + iy < H and y0 + iy + img.height() > 0
+    diff = np.abs(blitted - stroked).max(axis=-1)
+    ink = np.abs(stroked - 250).max(axis=-1) > 8
+    assert ink.sum() > 500 and (diff > 3).sum() <= 0.05 * ink.sum()
+
+
+def test_prefill_stops_on_its_budget_and_carries_on(qapp):
+    from arena_studio.render.trail_blocks import prefill_blocks
+
+    scene, ep = _hall_episode(agents=2, steps=400)
+    theme = load_theme("light")
+    view = ViewTransform.fit_scene(scene, (0, 0, W, H))
+    cache = episode_cache(scene, ep)
+    cache.trail_blocks.clear()
+    assert prefill_blocks(cache, 200, 2, view, theme, 1.6, max_new=5) is True
+    (store,) = cache.trail_blocks.values()
+    assert len(store.images) == 5
+    calls = 1
+    while prefill_blocks(cache, 200, 2, view, theme, 1.6, max_new=5):
+        calls += 1
+    total = len(store.images) + len(store.skip)
+    # every call but the last drew its 5: it carried on, it never started over
+    assert calls == total // 5 and store.job is None

@@ -64,7 +64,11 @@ class TrailPrefill(QObject):
     def _tick(self) -> None:
         for layer_id, job in list(self._pending.items()):
             key, scene, episode, step, view, theme, options = job
-            more = prefill_frame(scene, episode, step, view, theme, options, BLOCKS_PER_TICK)
+            size = self._viewport.size()
+            bounds = (size.width(), size.height())
+            more = prefill_frame(
+                scene, episode, step, view, theme, options, BLOCKS_PER_TICK, bounds
+            )
             if not more:
                 del self._pending[layer_id]
                 self._done[layer_id] = key
