@@ -89,6 +89,7 @@ class _Store:
 
     images: dict[tuple[int, int], tuple[int, int, QImage]] = field(default_factory=dict)
     skip: set[tuple[int, int]] = field(default_factory=set)  # blocks with nothing to keep
+    seen: set[tuple[int, int]] = field(default_factory=set)  # shown once, not kept yet
     pixels: int = 0
     job: tuple[tuple, Iterator[tuple[int, int]]] | None = None  # an unfinished prefill
 
@@ -164,6 +165,7 @@ def paint_wide_trails(
     for start, end, whole, _alpha in spans:
         if not whole:
             live[start] = _pixels(cache.xy[span_samples(start, end, stride)], view)
+    missing: dict[int, tuple[list, list]] = {}  # span start -> pixels and boxes, per agent
     budget = NEW_BLOCKS_PER_FRAME
     base = painter.opacity()  # e.g. a ghosted episode's layer opacity
     device = painter.device()
@@ -185,8 +187,9 @@ def paint_wide_trails(
                 if entry is not None:
                     painter.drawImage(QPoint(entry[0] + ix, entry[1] + iy), entry[2])
                     continue
-                pts = _pixels(_world(cache, start, end, stride, a), local)
-                box = _span_box(pts, width)
+                if start not in missing:  # the span's pixels and boxes for every agent
+                    missing[start] = _span_geometry(cache, start, end, stride, local, width)
+                pts, box = missing[start][0][a], missing[start][1][a]
                 if box is None or not _overlaps(box, visible):
                     continue  # nothing to draw, or off screen (zoomed in)
                 if box[2] > MAX_SCRATCH_PX or box[3] > MAX_SCRATCH_PX:
@@ -198,6 +201,10 @@ def paint_wide_trails(
                     continue
                 rect = scratch.stroke(pts, box, trail_pen(theme, color, 1.0, width), piece)
                 painter.drawImage(QPoint(box[0] + ix, box[1] + iy), scratch.image, rect)
+                if (a, start) not in store.seen:
+                    # kept from its second showing: a one-off jump copies nothing
+                    store.seen.add((a, start))
+                    continue
                 small = box[2] <= MAX_KEEP_PX and box[3] <= MAX_KEEP_PX
                 if small and budget > 0 and store.pixels < MAX_STORE_PIXELS:
                     budget -= 1
@@ -280,6 +287,26 @@ def _span_box(pts: list, width: float) -> tuple[int, int, int, int] | None:
     pad = width / 2 + 2.0
     x0, y0 = math.floor(min(xs) - pad), math.floor(min(ys) - pad)
     return x0, y0, math.ceil(max(xs) + pad) - x0, math.ceil(max(ys) + pad) - y0
+
+
+def _span_geometry(
+    cache: EpisodeCache, start: int, end: int, stride: int, view: ViewTransform, width: float
+) -> tuple[list, list]:
+    """Every agent's pixels of one span and their :func:`_span_box` (one numpy pass)."""
+    px = cache.xy[span_samples(start, end, stride)] * np.array([view.scale, -view.scale])
+    px += np.array([view.offset_x, view.offset_y])  # (S, A, 2)
+    pad = width / 2 + 2.0
+    with np.errstate(invalid="ignore"):
+        finite = np.isfinite(px).all(axis=2)
+        lo = np.floor(np.where(finite[..., None], px, np.inf).min(axis=0) - pad)
+        hi = np.ceil(np.where(finite[..., None], px, -np.inf).max(axis=0) + pad)
+    boxes: list = [
+        (int(l0), int(l1), int(h0 - l0), int(h1 - l1)) if n >= 2 else None
+        for (l0, l1), (h0, h1), n in zip(
+            lo.tolist(), hi.tolist(), finite.sum(axis=0).tolist(), strict=True
+        )
+    ]
+    return px.swapaxes(0, 1).tolist(), boxes
 
 
 def _world(cache: EpisodeCache, start: int, end: int, stride: int, agent: int) -> np.ndarray:
