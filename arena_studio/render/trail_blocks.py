@@ -4,11 +4,12 @@ block once and blit it after.
 A small team's trail is drawn with a wide antialiased pen, and stroking it costs most of a
 frame (2 agents with 200-step trails at 1280x720: ~0.6 ms of a 1.5 ms budget, measured here).
 Blocks begin at multiples of a fixed number of steps (not at the window's first step), so a
-block looks the same in every frame that shows it: on a raster device it is stroked once, at
-full strength, into a small transparent image aligned to the pixel grid, and each later frame
-blits it with the opacity of its age. Only the two partial blocks at the window's ends are
-stroked every frame. Vector output (SVG) and cold blocks over the per-frame budget are
-stroked directly with the same pen at the same opacity, so every path looks the same.
+block looks the same in every frame that shows it. On a raster device a block is stroked at
+full strength into a transparent work image aligned to the pixel grid and blitted with the
+opacity of its age; from its second showing the image is kept, and later frames only blit
+it. A frame therefore has the same pixels whether its blocks were kept or not. The two
+ragged ends of the window are stroked every frame with a translucent pen. Vector output
+(SVG) and scaled painters stroke every span that way.
 
 Opacity falls with the age of a block's middle step, from :data:`NEWEST_ALPHA` to
 :data:`OLDEST_ALPHA` across the window: the fade moves smoothly as time runs.
