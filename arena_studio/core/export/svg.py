@@ -13,20 +13,26 @@ from __future__ import annotations
 import json
 import math
 import xml.etree.ElementTree as ET
+from collections.abc import Sequence
 from pathlib import Path
 
 from shapely.geometry import Polygon
 from shapely.geometry.base import BaseGeometry
 
-from ..geometry import bounds, inward_normals, obstacle_geometry, open_area, walkable_area
+from ..geometry import bounds, obstacle_geometry, open_area, walkable_area
 from ..resources import resource_path
 from ..scene import Scene
+from .label_place import Box, LabelPlacement, place_labels, start_marks
 from .meta import provenance, write_export_bytes
 
 SVG_NS = "http://www.w3.org/2000/svg"
 MAX_SIDE_MM = 250.0
 MARGIN_MM = 12.0
 NICE_STEPS = (1, 2, 5)
+MARK_MM = 1.1  # radius of a landmark's dot
+LABEL_FONT_MM = 3.0
+LABEL_PAD_MM = 0.4  # kept clear around a label's text
+START_FONT_MM = 2.6
 
 
 def palette(name: str = "light") -> dict[str, str]:
@@ -52,11 +58,17 @@ def nice_length(target: float) -> float:
 class _Canvas:
     """World metres (y up) -> paper millimetres (y down)."""
 
-    def __init__(self, scene: Scene) -> None:
+    def __init__(self, scene: Scene, labels: Sequence[Box] = ()) -> None:
+        """The scene's bounds set the scale; the paper then grows to hold ``labels`` (world
+        boxes placed outside the rooms), so the scene keeps its size on paper."""
         minx, miny, maxx, maxy = bounds(scene, margin=0.5)
-        self.minx, self.maxy = minx, maxy
         span = max(maxx - minx, maxy - miny, 1e-9)
         self.scale = MAX_SIDE_MM / span  # mm per metre
+        edge = 1.0 / self.scale  # 1 mm of paper beyond a label
+        for x0, y0, x1, y1 in labels:
+            minx, miny = min(minx, x0 - edge), min(miny, y0 - edge)
+            maxx, maxy = max(maxx, x1 + edge), max(maxy, y1 + edge)
+        self.minx, self.maxy = minx, maxy
         self.width = (maxx - minx) * self.scale + 2 * MARGIN_MM
         self.height = (maxy - miny) * self.scale + 2 * MARGIN_MM + 10.0  # room for the bar
 
@@ -83,7 +95,8 @@ def _el(parent: ET.Element, tag: str, **attrs: object) -> ET.Element:
 
 def svg_tree(scene: Scene, theme: str = "light") -> ET.ElementTree:
     colors = palette(theme)
-    c = _Canvas(scene)
+    places = _label_places(scene, _Canvas(scene).scale)
+    c = _Canvas(scene, [p.box for p in places])
     meta = provenance(scene, "svg")
     root = ET.Element(
         "svg",
@@ -186,13 +199,7 @@ def svg_tree(scene: Scene, theme: str = "light") -> ET.ElementTree:
                 stroke=colors["start"],
                 stroke_width="0.5",
             )
-        label_xy = c.xy(
-            *(
-                agent.start.pose[:2]
-                if agent.start.pose
-                else Polygon(agent.start.region).centroid.coords[0]
-            )
-        )
+        label_xy = c.xy(*_start_label_point(agent.start.pose, agent.start.region))
         text = _el(
             starts,
             "text",
@@ -205,8 +212,7 @@ def svg_tree(scene: Scene, theme: str = "light") -> ET.ElementTree:
         text.text = agent.id
 
     marks = _el(root, "g", id="landmarks")
-    normals = inward_normals(scene)
-    for lm, (nx, ny) in zip(scene.landmarks, normals, strict=True):
+    for lm, place in zip(scene.landmarks, places, strict=True):
         color = colors["landmark_wall" if lm.mount == "wall" else "landmark_free"]
         cx, cy = c.xy(*lm.position)
         group = _el(marks, "g", id=f"landmark-{lm.id}")
@@ -221,14 +227,10 @@ def svg_tree(scene: Scene, theme: str = "light") -> ET.ElementTree:
             stroke_width="0.3",
             stroke_dasharray="0.8 0.6",
         )
-        _el(group, "circle", cx=f"{cx:.3f}", cy=f"{cy:.3f}", r="1.1", fill=color)
-        # Labels go into the room: a wall landmark's label follows its wall's inward normal
-        # (left of a right-hand wall, below a top wall); a free one runs right of its mark,
-        # or left where it would leave the paper (sans-serif glyphs average about 0.55 em
-        # wide; common practice, no source).
-        x, y, anchor = _label_place(cx, cy, nx, ny, lm.mount == "wall")
-        if anchor == "start" and x + 0.55 * 3.0 * len(lm.label) > c.width - 1.0:
-            x, anchor = cx - 1.8, "end"
+        _el(group, "circle", cx=f"{cx:.3f}", cy=f"{cy:.3f}", r=f"{MARK_MM}", fill=color)
+        x, y, anchor = _label_xy(c, place)
+        if not place.clear:  # no clear place was left: a backdrop, as on screen
+            _label_backdrop(group, c, place.box, colors["room_fill"])
         label = _el(
             group,
             "text",
@@ -236,7 +238,7 @@ def svg_tree(scene: Scene, theme: str = "light") -> ET.ElementTree:
             y=f"{y:.3f}",
             text_anchor=anchor,
             font_family="sans-serif",
-            font_size="3",
+            font_size=f"{LABEL_FONT_MM:g}",
             fill=colors["landmark_text"],
         )
         label.text = lm.label
@@ -279,16 +281,78 @@ def svg_tree(scene: Scene, theme: str = "light") -> ET.ElementTree:
     return ET.ElementTree(root)
 
 
-def _label_place(
-    cx: float, cy: float, nx: float, ny: float, on_wall: bool
-) -> tuple[float, float, str]:
-    """Text position (mm, y down) and text-anchor for a landmark label."""
-    gap = 1.8
-    if on_wall and abs(nx) >= abs(ny):  # a vertical wall: beside the mark, into the room
-        return (cx + gap, cy + 1.0, "start") if nx > 0 else (cx - gap, cy + 1.0, "end")
-    if on_wall:  # a horizontal wall: below a top wall, above a bottom one (y runs down)
-        return (cx, cy + gap + 2.6, "middle") if ny < 0 else (cx, cy - gap - 0.6, "middle")
-    return cx + gap, cy - gap, "start"
+def text_box_mm(text: str, font_mm: float) -> tuple[float, float]:
+    """Approximate (width, height) in mm of a sans-serif text line, padding included.
+
+    Sans-serif glyphs average about 0.55 em wide and a line (ascent + descent) is about
+    1.2 em (common practice, no source); no font is at hand to measure.
+    """
+    return (0.55 * font_mm * len(text) + 2 * LABEL_PAD_MM, 1.2 * font_mm + 2 * LABEL_PAD_MM)
+
+
+def _start_label_point(
+    pose: tuple[float, float, float] | None, region: tuple[tuple[float, float], ...] | None
+) -> tuple[float, float]:
+    """World point an agent's id label hangs from: its start pose, or its region's centre."""
+    if pose is not None:
+        return (pose[0], pose[1])
+    x, y = Polygon(region).centroid.coords[0]
+    return (float(x), float(y))
+
+
+def _label_places(scene: Scene, scale: float) -> tuple[LabelPlacement, ...]:
+    """Label boxes in world metres at ``scale`` mm per metre, clear of the start marks and
+    their id labels. No frame: the paper grows to hold a label set outside the rooms."""
+    mm = 1.0 / scale  # metres per mm
+    sizes = [text_box_mm(lm.label, LABEL_FONT_MM) for lm in scene.landmarks]
+    avoid = start_marks(scene, 0.0, 1.8)
+    for agent in scene.agents:  # the id text: 2 mm right of the point, baseline 3.5 mm below
+        x, y = _start_label_point(agent.start.pose, agent.start.region)
+        w = 0.55 * START_FONT_MM * len(agent.id)
+        top, bottom = 3.5 - 0.95 * START_FONT_MM, 3.5 + 0.25 * START_FONT_MM
+        avoid.append((x + 2.0 * mm, y - bottom * mm, x + (2.0 + w) * mm, y - top * mm))
+    return place_labels(
+        scene,
+        [(w * mm, h * mm) for w, h in sizes],
+        MARK_MM * mm,
+        0.7 * mm,
+        clearance=0.3 * mm,  # half the 0.6 mm wall stroke
+        avoid=avoid,
+    )
+
+
+def _label_backdrop(group: ET.Element, c: _Canvas, box: Box, room_fill: str) -> None:
+    """The screen's translucent label backdrop (drawing.label), so a label that must cross
+    a wall or another mark stays readable."""
+    x0, y0 = c.xy(box[0], box[3])
+    x1, y1 = c.xy(box[2], box[1])
+    fill, opacity = _color(room_fill)
+    _el(
+        group,
+        "rect",
+        x=f"{x0:.3f}",
+        y=f"{y0:.3f}",
+        width=f"{x1 - x0:.3f}",
+        height=f"{y1 - y0:.3f}",
+        rx="0.6",
+        fill=fill,
+        fill_opacity=f"{0.8 * float(opacity):.3f}",
+    )
+
+
+def _label_xy(c: _Canvas, place: LabelPlacement) -> tuple[float, float, str]:
+    """SVG text x, baseline y (mm, y down) and text-anchor for a placed label box."""
+    x0, y0, x1, y1 = place.box
+    left, top = c.xy(x0, y1)
+    right, bottom = c.xy(x1, y0)
+    # the baseline sits about 0.35 em below the line's middle (DejaVu-like metrics
+    # [memory]: ascent 0.93 em, descent 0.24 em)
+    baseline = (top + bottom) / 2 + 0.35 * LABEL_FONT_MM
+    if place.align == "left":
+        return left + LABEL_PAD_MM, baseline, "start"
+    if place.align == "right":
+        return right - LABEL_PAD_MM, baseline, "end"
+    return (left + right) / 2, baseline, "middle"
 
 
 def svg_bytes(scene: Scene, theme: str = "light") -> bytes:
