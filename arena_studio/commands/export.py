@@ -1,4 +1,5 @@
-"""``arena-studio export SCENE --format FMT -o OUT [--resolution R]``: files for simulators.
+"""``arena-studio export SCENE --format FMT -o OUT [--resolution R] [--clearance C]``: files
+for simulators.
 
 Formats: json / msgpack (the scene file itself, canonical form), npz (numpy arrays), wkt
 (labelled OGC WKT lines), svg (vector drawing in millimetres), grid (occupancy .npy + PNG
@@ -41,12 +42,26 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         metavar="R",
         help=f"grid cell size in metres (default {DEFAULT_RESOLUTION})",
     )
+    parser.add_argument(
+        "--clearance",
+        type=float,
+        default=0.0,
+        metavar="C",
+        help="grid: a free cell's centre stays C metres from walls and obstacles, e.g. the "
+        "robot radius (default 0)",
+    )
 
 
 def run(args: argparse.Namespace) -> int:
     scene = read_scene(args.scene)  # a CommandError becomes one line in cli.main
     try:
-        written = export_scene(scene, args.format, args.output, resolution=args.resolution)
+        written = export_scene(
+            scene,
+            args.format,
+            args.output,
+            resolution=args.resolution,
+            clearance=args.clearance,
+        )
     except ArenaError as exc:
         error_line(str(exc))
         return EXIT_UNREADABLE

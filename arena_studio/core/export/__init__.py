@@ -60,9 +60,14 @@ FORMATS: tuple[str, ...] = ("json", "msgpack", "npz", "wkt", "svg", "grid")
 
 
 def export_scene(
-    scene: Scene, fmt: str, out: str | Path, resolution: float = DEFAULT_RESOLUTION
+    scene: Scene,
+    fmt: str,
+    out: str | Path,
+    resolution: float = DEFAULT_RESOLUTION,
+    clearance: float = 0.0,
 ) -> list[Path]:
-    """Write ``scene`` as ``fmt`` to ``out``; returns every path written."""
+    """Write ``scene`` as ``fmt`` to ``out``; returns every path written. ``resolution`` and
+    ``clearance`` (metres kept from walls and obstacles) apply to the grid."""
     writer = _writer(fmt)
     target = Path(out)
     if target.is_dir():
@@ -73,7 +78,7 @@ def export_scene(
         if fmt in ("json", "msgpack"):
             return writer(scene, target, fmt)
         if fmt == "grid":
-            return writer(scene, target, resolution)
+            return writer(scene, target, resolution, clearance)
         return writer(scene, target)
     except OSError as exc:
         raise ExportError(f"{target}: cannot write ({exc.strerror or exc})") from None

@@ -3,8 +3,10 @@
 Cell (row i, column j) covers x in [x0 + j r, x0 + (j + 1) r] and y in [y0 + i r,
 y0 + (i + 1) r], where (x0, y0) is the recorded ``origin`` (the lower-left corner of cell
 (0, 0)) and r the resolution: row 0 is the southern edge (lowest y). A cell is free when its
-centre lies in the open area (rooms minus obstacles, agent size not applied: simulators
-inflate by their own robot radius). The PNG preview is flipped so north is up.
+centre lies in the open area (rooms minus obstacles). With a ``clearance`` c > 0 the centre
+must also lie at least c from every wall and obstacle: the open area eroded by c, which is
+where the centre of a round robot of radius c fits (its configuration space; a doorway
+narrower than 2c closes). The PNG preview is flipped so north is up.
 """
 
 from __future__ import annotations
@@ -16,7 +18,7 @@ from pathlib import Path
 import numpy as np
 import shapely
 
-from ..geometry import bounds, open_area
+from ..geometry import bounds, free_space, open_area
 from ..png import encode_png
 from ..scene import Scene
 from . import ExportError
@@ -26,10 +28,16 @@ from .meta import provenance, write_export_bytes, write_json_atomic
 MAX_CELLS = 40_000_000
 
 
-def occupancy(scene: Scene, resolution: float) -> tuple[np.ndarray, tuple[float, float]]:
-    """(rows, cols) uint8 grid (0 free, 1 blocked) and its origin (lower-left corner)."""
+def occupancy(
+    scene: Scene, resolution: float, clearance: float = 0.0
+) -> tuple[np.ndarray, tuple[float, float]]:
+    """(rows, cols) uint8 grid (0 free, 1 blocked) and its origin (lower-left corner).
+
+    ``clearance``: metres a free cell's centre keeps from walls and obstacles (0: none)."""
     if not (isinstance(resolution, int | float) and math.isfinite(resolution) and resolution > 0):
         raise ExportError(f"--resolution must be a number of metres > 0, got {resolution!r}")
+    if not (isinstance(clearance, int | float) and math.isfinite(clearance) and clearance >= 0):
+        raise ExportError(f"--clearance must be a number of metres >= 0, got {clearance!r}")
     minx, miny, maxx, maxy = bounds(scene)
     cols = max(1, math.ceil((maxx - minx) / resolution - 1e-9))
     rows = max(1, math.ceil((maxy - miny) / resolution - 1e-9))
@@ -41,7 +49,8 @@ def occupancy(scene: Scene, resolution: float) -> tuple[np.ndarray, tuple[float,
     xs = minx + (np.arange(cols) + 0.5) * resolution
     ys = miny + (np.arange(rows) + 0.5) * resolution
     gx, gy = np.meshgrid(xs, ys)
-    area = open_area(scene)
+    # the same free space the reachability checks and the planner use for an agent this size
+    area = free_space(scene, clearance) if clearance > 0 else open_area(scene)
     if area.is_empty:
         free = np.zeros(gx.shape, dtype=bool)
     else:
@@ -59,10 +68,10 @@ def _paths(out: Path) -> tuple[Path, Path, Path]:
     )
 
 
-def write_grid(scene: Scene, out: Path, resolution: float) -> list[Path]:
+def write_grid(scene: Scene, out: Path, resolution: float, clearance: float = 0.0) -> list[Path]:
     from .svg import palette
 
-    grid, origin = occupancy(scene, resolution)
+    grid, origin = occupancy(scene, resolution, clearance)
     npy_path, png_path, json_path = _paths(out)
     buffer = io.BytesIO()
     np.save(buffer, grid, allow_pickle=False)
@@ -85,10 +94,15 @@ def write_grid(scene: Scene, out: Path, resolution: float) -> list[Path]:
             "grid": npy_path.name,
             "preview": png_path.name,
             "resolution": float(resolution),
+            "clearance": float(clearance),
             "origin": [origin[0], origin[1]],
             "shape": [int(grid.shape[0]), int(grid.shape[1])],
             "row_order": "row 0 is the lowest y (south); the PNG preview has north up",
-            "values": {"0": "free (cell centre in the open area)", "1": "blocked"},
+            "values": {
+                "0": "free (cell centre in the open area, at least `clearance` m from walls "
+                "and obstacles)",
+                "1": "blocked",
+            },
             "units": "m",
         },
     )
