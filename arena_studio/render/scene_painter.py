@@ -22,6 +22,7 @@ from PySide6.QtGui import QBrush, QFontMetricsF, QPainter, QPainterPath, QPen, Q
 from shapely.geometry import Polygon
 from shapely.ops import unary_union
 
+from ..core.export.label_place import LabelPlacement, place_labels, start_marks
 from ..core.geometry import bounds, inward_normals, obstacle_geometry, walkable_area
 from ..core.scene import Landmark, Scene
 from .drawing import font, geometry_path, label, nice_step
@@ -266,22 +267,7 @@ def paint_landmarks(
         painter.setBrush(QBrush(theme.qcolor(role)))
         painter.drawPath(landmark_glyph(view, lm, normal, glyph))
     if opts.landmark_labels:
-        paint_landmark_labels(painter, scene, view, theme, opts.ui_scale, size)
-
-
-def label_anchor(
-    view: ViewTransform, lm: Landmark, normal: tuple[float, float], size_px: float
-) -> tuple[QPointF, str]:
-    """Where a landmark's label goes: into the room, away from its wall, aligned to suit."""
-    c = view.to_px(*lm.position)
-    nx, ny = normal[0], -normal[1]  # screen space
-    gap = size_px + 6.0
-    if lm.mount != "wall":
-        return QPointF(c.x() + gap, c.y() - gap * 0.6), "left"
-    anchor = QPointF(c.x() + nx * (gap + 6), c.y() + ny * (gap + 6))
-    if abs(nx) > 0.5:
-        return anchor, "left" if nx > 0 else "right"
-    return anchor, "center"
+        paint_landmark_labels(painter, scene, view, theme, opts.ui_scale, size, opts.starts)
 
 
 def paint_landmark_labels(
@@ -291,28 +277,65 @@ def paint_landmark_labels(
     theme: Theme,
     ui_scale: float = 1.0,
     size: tuple[float, float] | None = None,
+    starts: bool = False,
 ) -> None:
-    """Labels beside their glyphs; one that would leave the image flips to the other side."""
-    normals = inward_normals(scene)
-    glyph = glyph_size(view, ui_scale)
+    """Labels beside their glyphs, placed clear of walls, obstacles, other glyphs and each
+    other (core.export.label_place); with ``size`` they also stay inside the image, and with
+    ``starts`` clear of the start arrows."""
     qfont = font(12 * ui_scale)
-    metrics = QFontMetricsF(qfont)
     backdrop = theme.qcolor("room_fill", alpha=0.8)
-    right_edge = size[0] - 4 if size is not None else float("inf")
-    for lm, normal in zip(scene.landmarks, normals, strict=True):
-        text = lm.label or lm.id
-        anchor, align = label_anchor(view, lm, normal, glyph)
-        width = metrics.horizontalAdvance(text)
-        if align == "left" and anchor.x() + width > right_edge:
-            c = view.to_px(*lm.position)
-            anchor = QPointF(2 * c.x() - anchor.x(), anchor.y())
-            align = "right"
-        elif align == "center" and anchor.x() + width / 2 > right_edge:
-            anchor, align = QPointF(right_edge, anchor.y()), "right"
-        anchor = QPointF(
-            max(anchor.x(), width + 4) if align == "right" else max(anchor.x(), 4), anchor.y()
+    color = theme.qcolor("landmark_text")
+    texts = [lm.label or lm.id for lm in scene.landmarks]
+    for place, text in zip(label_places(scene, view, ui_scale, size, starts), texts, strict=True):
+        x0, y0, x1, y1 = place.box
+        top_left, bottom_right = view.to_px(x0, y1), view.to_px(x1, y0)
+        mid_y = (top_left.y() + bottom_right.y()) / 2
+        if place.align == "left":
+            anchor = QPointF(top_left.x() + LABEL_PAD, mid_y)
+        elif place.align == "right":
+            anchor = QPointF(bottom_right.x() - LABEL_PAD, mid_y)
+        else:
+            anchor = QPointF((top_left.x() + bottom_right.x()) / 2, mid_y)
+        label(painter, text, anchor, qfont, color, backdrop, place.align, LABEL_PAD)
+
+
+#: padding around a label's text inside its backdrop (pixels; drawing.label's default)
+LABEL_PAD = 2.0
+
+
+def label_places(
+    scene: Scene,
+    view: ViewTransform,
+    ui_scale: float = 1.0,
+    size: tuple[float, float] | None = None,
+    starts: bool = False,
+) -> tuple[LabelPlacement, ...]:
+    """Where each landmark's label box goes in world metres, text measured in our font."""
+    metrics = QFontMetricsF(font(12 * ui_scale))
+    px = 1.0 / view.scale  # metres per pixel
+    sizes = [
+        (
+            (metrics.horizontalAdvance(lm.label or lm.id) + 2 * LABEL_PAD) * px,
+            (metrics.height() + 2 * LABEL_PAD) * px,
         )
-        label(painter, text, anchor, qfont, theme.qcolor("landmark_text"), backdrop, align)
+        for lm in scene.landmarks
+    ]
+    frame = None
+    if size is not None:  # keep 4 px inside the image
+        x0, y0, x1, y1 = view.world_rect(*size)
+        frame = (x0 + 4 * px, y0 + 4 * px, x1 - 4 * px, y1 - 4 * px)
+    wall_half = max(2.0 * ui_scale, view.length_px(0.07)) / 2
+    # a start's heading arrow: 14 px at least, else 2.2 agent radii long (paint_starts)
+    avoid = start_marks(scene, 14.0 * ui_scale * px, 2.2) if starts else []
+    return place_labels(
+        scene,
+        sizes,
+        glyph_size(view, ui_scale) * px,
+        6.0 * ui_scale * px,
+        clearance=wall_half * px,
+        frame=frame,
+        avoid=avoid,
+    )
 
 
 def arrow_path(tip_base: QPointF, heading: float, length: float) -> QPainterPath:

@@ -8,12 +8,14 @@ Each landmark gets a fixed list of candidate positions around its mark: first th
 old fixed rule used (into the room along the wall's inward normal; right of a free mark), then
 the eight compass positions at one and at two distances, the nearest in angle to the first one
 first. A candidate is *clear* when its box lies inside the open area (rooms minus obstacles)
-or entirely outside every room (beside an outer wall, on the paper), stays inside the frame,
-and overlaps neither a label already placed nor another landmark's mark. Labels are placed
-most-constrained first (fewest clear candidates before any label is placed; ties in scene
-order), each taking its first clear candidate, inside the rooms before outside, and one that
-leaves the usual place of every label still to come free before one that does not. When nothing
-is clear the label takes the candidate with the least overlap: a label is never dropped.
+in sight of its mark (no wall between them), or, for a mark on a wall line, entirely outside
+every room just beyond that wall; when it stays inside the frame; and when it overlaps
+neither a label already placed nor another landmark's mark (nor a box the caller avoids).
+Labels are placed most-constrained first (fewest clear candidates before any label is
+placed; ties in scene order). Each takes its first clear candidate: inside the rooms before
+outside, and one that leaves the usual place of every label still to come free before one
+that does not. When nothing is clear the label takes the candidate with the least overlap
+(walls crossed, area in another room, marks and labels covered): a label is never dropped.
 The same input always gives the same output.
 """
 
@@ -26,9 +28,11 @@ from typing import Literal
 
 import numpy as np
 import shapely
+from shapely.geometry import Point
 from shapely.geometry.base import BaseGeometry
+from shapely.ops import unary_union
 
-from ..geometry import inward_normals, open_area, per_thread_cache, walkable_area
+from ..geometry import inward_normals, open_area, per_thread_cache, polygon, walkable_area
 from ..scene import Landmark, Scene
 
 Box = tuple[float, float, float, float]
@@ -145,6 +149,9 @@ class _Walls:
 
     inner: BaseGeometry
     rooms: BaseGeometry
+    open: BaseGeometry  # rooms minus obstacles, not shrunk: what a sight line may cross
+    floor: BaseGeometry  # the rooms, not grown
+    room_parts: tuple[BaseGeometry, ...]  # each room on its own
 
     @staticmethod
     def of(scene: Scene, clearance: float) -> _Walls:
@@ -152,15 +159,16 @@ class _Walls:
 
     @classmethod
     def build(cls, scene: Scene, clearance: float) -> _Walls:
-        inner = open_area(scene)
-        rooms = walkable_area(scene)
+        # copies, so preparing them leaves the shared cached geometry alone
+        open_ = shapely.from_wkb(open_area(scene).wkb)
+        floor = shapely.from_wkb(walkable_area(scene).wkb)
+        inner, rooms = open_, floor
         if clearance > 0:
-            inner, rooms = inner.buffer(-clearance), rooms.buffer(clearance)
-        else:  # copies, so preparing them leaves the shared cached geometry alone
-            inner, rooms = shapely.from_wkb(inner.wkb), shapely.from_wkb(rooms.wkb)
-        shapely.prepare(inner)
-        shapely.prepare(rooms)
-        return cls(inner, rooms)
+            inner, rooms = open_.buffer(-clearance), floor.buffer(clearance)
+        for g in {id(g): g for g in (inner, rooms, open_, floor)}.values():
+            shapely.prepare(g)
+        parts = tuple(shapely.make_valid(polygon(r.outline)) for r in scene.rooms)
+        return cls(inner, rooms, open_, floor, parts)
 
     def classify(self, boxes: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """Per box: inside the open area; entirely outside every room."""
@@ -171,6 +179,23 @@ class _Walls:
         outside = ~shapely.intersects(self.rooms, geoms)
         return np.asarray(inside, bool), np.asarray(outside, bool)
 
+    def in_sight(
+        self, boxes: np.ndarray, starts: np.ndarray, outward: np.ndarray
+    ) -> tuple[np.ndarray, np.ndarray]:
+        """Per box: the short line from its landmark (``starts``, just inside the room) to
+        the box's nearest point stays in the open area; and for a box outside the rooms,
+        the line from ``outward`` (just outside the wall) stays outside every room. A label
+        across a wall from its mark (in the next room) would be read as that room's."""
+        if self.rooms.is_empty:
+            ones = np.ones(len(boxes), bool)
+            return ones, ones
+        near_in = np.clip(starts, boxes[:, :2], boxes[:, 2:])
+        near_out = np.clip(outward, boxes[:, :2], boxes[:, 2:])
+        seen_in = shapely.covers(self.open, shapely.linestrings(np.stack([starts, near_in], 1)))
+        lines_out = shapely.linestrings(np.stack([outward, near_out], 1))
+        seen_out = ~shapely.intersects(self.floor, lines_out)
+        return np.asarray(seen_in, bool), np.asarray(seen_out, bool)
+
     def crossing_area(self, boxes: np.ndarray) -> np.ndarray:
         """Area of each box over walls or obstacles (0 for one wholly outside the rooms)."""
         if self.rooms.is_empty:
@@ -180,6 +205,17 @@ class _Walls:
         crossing = area - shapely.area(shapely.intersection(geoms, self.inner))
         outside = ~shapely.intersects(self.rooms, geoms)
         return np.where(outside, 0.0, np.asarray(crossing, dtype=np.float64))
+
+    def foreign_area(self, boxes: np.ndarray, start: tuple[float, float]) -> np.ndarray:
+        """Area of each box lying in rooms other than the one(s) its mark is in: a label
+        half in the next room reads as that room's."""
+        here = Point(start)
+        home = [r for r in self.room_parts if r.covers(here)]
+        if not home:
+            return np.zeros(len(boxes))
+        foreign = self.inner.difference(unary_union(home))
+        geoms = shapely.box(boxes[:, 0], boxes[:, 1], boxes[:, 2], boxes[:, 3])
+        return np.asarray(shapely.area(shapely.intersection(geoms, foreign)), dtype=np.float64)
 
 
 @per_thread_cache(maxsize=32)
@@ -235,9 +271,21 @@ def place_labels(
     flat = boxes.reshape(-1, 4)
     walls = _Walls.of(scene, clearance)
     inside, outside = walls.classify(flat)
+    # sight lines start a little off the landmark: into the room, and (wall landmarks only,
+    # whose mark sits on the wall line) out of it
+    step = 0.5 * mark_radius
+    pos = np.array([lm.position for lm in landmarks], dtype=np.float64)
+    nrm = np.array(normals, dtype=np.float64)
+    on_wall = np.array([lm.mount == "wall" for lm in landmarks])
+    starts = np.where(on_wall[:, None], pos + step * nrm, pos)
+    seen_in, seen_out = walls.in_sight(
+        flat, np.repeat(starts, per, axis=0), np.repeat(pos - step * nrm, per, axis=0)
+    )
     off_frame = _outside_frame(flat, frame) > 1e-12
-    inside = (inside & ~off_frame).reshape(-1, per)
-    outside = (outside & ~off_frame).reshape(-1, per)
+    inside = (inside & seen_in & ~off_frame).reshape(-1, per)
+    outside = (outside & seen_out & ~off_frame).reshape(-1, per) & on_wall[:, None]
+    hidden = ~(seen_in | seen_out).reshape(-1, per)
+    areas = (boxes[..., 2] - boxes[..., 0]) * (boxes[..., 3] - boxes[..., 1])
 
     r = mark_radius
     marks = np.array([(x - r, y - r, x + r, y + r) for x, y in (lm.position for lm in landmarks)])
@@ -272,9 +320,11 @@ def place_labels(
         if pick is None:
             cost = (
                 walls.crossing_area(boxes[i])
-                + _outside_frame(boxes[i], frame)
+                + walls.foreign_area(boxes[i], (float(starts[i, 0]), float(starts[i, 1])))
+                + 3.0 * _outside_frame(boxes[i], frame)  # cut off by the edge: unreadable
                 + fixed_cost[i]
                 + 2.0 * label_cost  # text over text is the worst to read
+                + hidden[i] * areas[i]  # a wall between label and mark: as bad as covered
             )
             pick = int(np.argmin(cost))  # first of equals: deterministic
         cand = cands[i][pick]
