@@ -303,6 +303,7 @@ def paint_landmark_labels(
 LABEL_PAD = 2.0
 
 
+@lru_cache(maxsize=16)  # repaints that keep the view (hover, selection) reuse the layout
 def label_places(
     scene: Scene,
     view: ViewTransform,
