@@ -45,6 +45,7 @@ from .fastpath import (
 )
 from .legend import paint_banner, paint_clock, paint_legend
 from .options import FrameOptions
+from .scene_painter import label_places
 from .theme import Theme
 from .trail_blocks import paint_wide_trails, prefill_blocks
 from .view import ViewTransform
@@ -143,6 +144,8 @@ def paint_targets(
     scene = cache.scene
     raster = blits_exactly(painter) if raster is None else raster
     covered_now = cache.covered[step].tolist()
+    device = painter.device()
+    above = _arrival_above(cache, view, ui, (float(device.width()), float(device.height())))
     for l_idx in cache.team_indices():
         lm = scene.landmarks[l_idx]
         c = view.to_px(*lm.position)
@@ -151,13 +154,14 @@ def paint_targets(
         agents, firsts = cache.arrivals(l_idx)
         order = agents[: min(bisect.bisect_right(firsts, step), 12)]
         text = f"{order[0] + 1} at {firsts[0] * cache.episode.dt:.1f} s" if order else ""
+        up = above[l_idx]
         if not raster:
-            _draw_target(painter, c, r, covered, order, text, theme, ui)
+            _draw_target(painter, c, r, covered, order, text, theme, ui, up)
             continue
-        key = (theme.name, round(c.x(), 4), round(c.y(), 4), r, ui, covered, order, text)
+        key = (theme.name, round(c.x(), 4), round(c.y(), 4), r, ui, covered, order, text, up)
         sprite = _TARGET_SPRITES.get(key)
         if sprite is None:
-            sprite = _target_sprite(c, r, covered, order, text, theme, ui)
+            sprite = _target_sprite(c, r, covered, order, text, theme, ui, up)
             if len(_TARGET_SPRITES) > 512:
                 _TARGET_SPRITES.clear()
             _TARGET_SPRITES[key] = sprite
@@ -165,6 +169,41 @@ def paint_targets(
 
 
 _TARGET_SPRITES: dict[tuple, tuple[QPoint, QImage]] = {}
+#: the widest "n at t s" text a target shows, for keeping it off the landmark's label
+_WIDEST_ARRIVAL = "99 at 999.9 s"
+
+
+def _arrival_above(
+    cache: EpisodeCache, view: ViewTransform, ui: float, size: tuple[float, float]
+) -> list[bool]:
+    """Per landmark: True when the "n at t s" text goes above its ring, because the
+    landmark's label (placed by the scene painter, render.scene_painter.label_places) sits
+    where the text would go below it. Worked out once per view."""
+    key = ("episode_painter.arrival_above", view, ui, size)
+    got = cache.memo.get(key)
+    if got is None:
+        if len(cache.memo) > 64:
+            cache.memo.clear()
+        metrics = QFontMetricsF(font(11 * ui, bold=True))
+        half_w = metrics.horizontalAdvance(_WIDEST_ARRIVAL) / 2 + 2.0
+        half_h = metrics.height() / 2 + 2.0
+        places = label_places(cache.scene, view, ui, size, False)
+        got = []
+        for lm, place in zip(cache.scene.landmarks, places, strict=True):
+            c = view.to_px(*lm.position)
+            r = max(view.length_px(lm.reach_radius), 6 * ui)
+            cy = c.y() + r + 10 * ui  # the text's middle below the ring
+            x0, y0, x1, y1 = place.box
+            left, top = view.to_px(x0, y1).x(), view.to_px(x0, y1).y()
+            right, bottom = view.to_px(x1, y0).x(), view.to_px(x1, y0).y()
+            got.append(
+                left < c.x() + half_w
+                and right > c.x() - half_w
+                and top < cy + half_h
+                and bottom > cy - half_h
+            )
+        cache.memo[key] = got
+    return got
 
 
 def _target_sprite(
@@ -175,17 +214,21 @@ def _target_sprite(
     text: str,
     theme: Theme,
     ui: float,
+    above: bool = False,
 ) -> tuple[QPoint, QImage]:
     """The target drawn into a transparent image at whole-pixel ``origin``: painting uses the
     frame's own (fractional) coordinates, so the blit lands exactly where direct drawing
     would."""
     ring = r + 2 * 4.0 * ui + 4.0 * ui
-    half_w, below = ring, ring
+    half_w, below, over = ring, ring, ring
     if text:
         metrics = QFontMetricsF(font(11 * ui, bold=True))
         half_w = max(half_w, metrics.horizontalAdvance(text) / 2 + 4.0)
-        below = max(below, r + 10 * ui + metrics.height() / 2 + 4.0)
-    x0, y0 = math.floor(c.x() - half_w), math.floor(c.y() - ring)
+        if above:
+            over = max(over, _arrival_offset(r, ui, True) + metrics.height() / 2 + 4.0)
+        else:
+            below = max(below, _arrival_offset(r, ui, False) + metrics.height() / 2 + 4.0)
+    x0, y0 = math.floor(c.x() - half_w), math.floor(c.y() - over)
     w, h = math.ceil(c.x() + half_w) - x0 + 1, math.ceil(c.y() + below) - y0 + 1
     img = QImage(w, h, QImage.Format.Format_ARGB32_Premultiplied)
     img.fill(Qt.GlobalColor.transparent)
@@ -193,7 +236,7 @@ def _target_sprite(
     try:
         p.setRenderHint(QPainter.RenderHint.Antialiasing, True)
         p.translate(-x0, -y0)
-        _draw_target(p, c, r, covered, order, text, theme, ui)
+        _draw_target(p, c, r, covered, order, text, theme, ui, above)
     finally:
         p.end()
     return QPoint(x0, y0), img
@@ -208,7 +251,10 @@ def _draw_target(
     text: str,
     theme: Theme,
     ui: float,
+    above: bool = False,
 ) -> None:
+    """Ring, visitor pips and the first arrival's "n at t s", below the ring or ``above``
+    it (past the pips) when the landmark's label is below."""
     hi = theme.qcolor("target_highlight")
     painter.setBrush(theme.qcolor("target_highlight", alpha=0.22 if covered else 0.1))
     pen = QPen(hi, (3.0 if covered else 2.2) * ui)
@@ -224,15 +270,22 @@ def _draw_target(
         painter.setPen(QPen(theme.qcolor("text"), 1.0 * ui))
         painter.setBrush(theme.agent_color(a))
         painter.drawEllipse(p, pip, pip)
+    offset = _arrival_offset(r, ui, above)
     label(
         painter,
         text,
-        QPointF(c.x(), c.y() + r + 10 * ui),
+        QPointF(c.x(), c.y() - offset if above else c.y() + offset),
         font(11 * ui, bold=True),
         theme.qcolor("text"),
         theme.qcolor("room_fill", alpha=0.8),
         align="center",
     )
+
+
+def _arrival_offset(r: float, ui: float, above: bool) -> float:
+    """Pixels from a target's centre to the middle of its "n at t s" text."""
+    pip = 4.0 * ui
+    return r + 2 * pip + 1 + 9 * ui if above else r + 10 * ui
 
 
 def paint_trails(
