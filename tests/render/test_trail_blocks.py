@@ -258,3 +258,25 @@ def test_prefill_stops_on_its_budget_and_carries_on(qapp):
     total = len(store.images) + len(store.skip)
     # every call but the last drew its 5: it carried on, it never started over
     assert calls == total // 5 and store.job is None
+
+
+def test_small_team_path_draws_the_same_bodies_as_the_general_one(qapp, monkeypatch):
+    # the plain-float path for a few agents must give the very pixels of the array path
+    import arena_studio.render.agent_painter as agent_painter
+
+    scene, ep = _hall_episode(agents=3, steps=60)
+    theme = load_theme("light")
+    view = ViewTransform.fit_scene(scene, (0, 0, W, H))
+    cache = episode_cache(scene, ep)
+    opts = FrameOptions()
+    frames = []
+    for step in (5, 33, 59):
+        fast = _frame(lambda p, s=step: paint_agents(p, cache, s, view, theme, opts, 1.0, True))
+        with monkeypatch.context() as m:
+            m.setattr(agent_painter, "_paint_small_team", lambda *a, **k: False)
+            slow = _frame(
+                lambda p, s=step: paint_agents(p, cache, s, view, theme, opts, 1.0, True)
+            )
+        assert np.array_equal(fast, slow), f"step {step}"
+        frames.append(fast)
+    assert not np.array_equal(frames[0], frames[1])  # the agents moved: the check has teeth
