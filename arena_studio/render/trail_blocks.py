@@ -293,21 +293,10 @@ def _span_box(pts: list, width: float) -> tuple[int, int, int, int] | None:
 def _span_geometry(
     cache: EpisodeCache, start: int, end: int, stride: int, view: ViewTransform, width: float
 ) -> tuple[list, list]:
-    """Every agent's pixels of one span and their :func:`_span_box` (one numpy pass)."""
-    px = cache.xy[span_samples(start, end, stride)] * np.array([view.scale, -view.scale])
-    px += np.array([view.offset_x, view.offset_y])  # (S, A, 2)
-    pad = width / 2 + 2.0
-    with np.errstate(invalid="ignore"):
-        finite = np.isfinite(px).all(axis=2)
-        lo = np.floor(np.where(finite[..., None], px, np.inf).min(axis=0) - pad)
-        hi = np.ceil(np.where(finite[..., None], px, -np.inf).max(axis=0) + pad)
-    boxes: list = [
-        (int(l0), int(l1), int(h0 - l0), int(h1 - l1)) if n >= 2 else None
-        for (l0, l1), (h0, h1), n in zip(
-            lo.tolist(), hi.tolist(), finite.sum(axis=0).tolist(), strict=True
-        )
-    ]
-    return px.swapaxes(0, 1).tolist(), boxes
+    """Every agent's pixels of one span (one numpy pass) and their :func:`_span_box` (plain
+    floats: a dozen points an agent, where numpy's per-call cost would dominate)."""
+    per_agent = _pixels(cache.xy[span_samples(start, end, stride)], view)
+    return per_agent, [_span_box(pts, width) for pts in per_agent]
 
 
 def _world(cache: EpisodeCache, start: int, end: int, stride: int, agent: int) -> np.ndarray:
@@ -326,11 +315,16 @@ def _scratch() -> _Scratch:
 
 
 def block_layout(cache: EpisodeCache, view: ViewTransform, stride: int) -> tuple[int, int]:
-    """(steps' strides per block, points per stroked piece) for this episode at this zoom."""
+    """(steps' strides per block, points per stroked piece) for this episode at this zoom:
+    pieces about :data:`~.fastpath.WIDE_PIECE_PX` long, a block split into equal pieces (no
+    one-segment remainder to stroke on its own)."""
     step_px = view.length_px(cache.step_length()) * stride
     if step_px <= 0:
         return 16, 64
-    return max(1, round(BLOCK_PX / step_px)), max(2, 1 + int(WIDE_PIECE_PX // step_px))
+    segments = max(1, round(BLOCK_PX / step_px))
+    per_piece = max(1, int(WIDE_PIECE_PX // step_px))
+    pieces = -(-segments // per_piece)
+    return segments, 1 + -(-segments // pieces)
 
 
 def _store_at(
