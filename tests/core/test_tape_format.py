@@ -242,6 +242,17 @@ def test_wrong_dtype_and_shape_refused(tmp_path: Path) -> None:
             tape.episode(0)
 
 
+def test_non_finite_pose_refused_with_its_step_and_agent(tmp_path: Path) -> None:
+    # IEEE 754 NaN / infinity are valid doubles but no position: the writer refuses them, and
+    # a tape from elsewhere that holds one is refused when the episode is read
+    poses = np.zeros((1, 2, 3))
+    poses[0, 1, 0] = np.nan
+    value = {"dtype": "<f8", "shape": [1, 2, 3], "data": poses.tobytes()}
+    tape = open_tape(_tape_with_chunk(tmp_path, value))
+    with pytest.raises(TapeError, match=r"episode 0 step 0 agent 1.*not a finite number"):
+        tape.episode(0)
+
+
 def test_hostile_record_length_refused_before_reading(tmp_path: Path) -> None:
     # a header frame claiming 2^31 bytes in a tiny file: refused from the length alone
     path = tmp_path / "big.tape"

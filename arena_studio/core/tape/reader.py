@@ -559,6 +559,12 @@ class Tape:
                 else arrs[0]
             )
             out[name] = joined.astype(np.float64, copy=False) if name != "done" else joined
+        poses = out["poses"]
+        if not np.isfinite(poses).all():  # the writer refuses them; a foreign tape may not
+            t, agent = (int(v) for v in np.argwhere(~np.isfinite(poses).all(axis=2))[0])
+            raise TapeError(
+                self._src, f"{where} step {t} agent {agent}", "pose is not a finite number"
+            )
         if channel_parts:
             out["channels"] = {
                 name: np.concatenate(arrs, axis=0) if len(arrs) > 1 else arrs[0].copy()
