@@ -475,6 +475,7 @@ def paint_collisions(
     upto = int(np.searchsorted(ev[:, 0], step, side="right"))
     since = int(np.searchsorted(ev[:, 0], step - keep, side="left"))
     ev = ev[max(since, upto - 200) : upto]
+    ev = ev[np.isfinite(ev[:, 1:3]).all(axis=1)]  # a missing pose leaves no mark
     if len(ev) == 0:
         return
     recent_steps = 1.0 / cache.episode.dt if cache.episode.dt > 0 else 1

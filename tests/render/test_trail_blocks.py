@@ -274,9 +274,38 @@ def test_small_team_path_draws_the_same_bodies_as_the_general_one(qapp, monkeypa
         fast = _frame(lambda p, s=step: paint_agents(p, cache, s, view, theme, opts, 1.0, True))
         with monkeypatch.context() as m:
             m.setattr(agent_painter, "_paint_small_team", lambda *a, **k: False)
-            slow = _frame(
-                lambda p, s=step: paint_agents(p, cache, s, view, theme, opts, 1.0, True)
-            )
+            slow = _frame(lambda p, s=step: paint_agents(p, cache, s, view, theme, opts, 1.0, True))
         assert np.array_equal(fast, slow), f"step {step}"
         frames.append(fast)
     assert not np.array_equal(frames[0], frames[1])  # the agents moved: the check has teeth
+
+
+@given(
+    agents=st.integers(1, 3),
+    steps=st.integers(1, 40),
+    gaps=st.lists(st.tuples(st.integers(0, 39), st.integers(0, 2)), max_size=6),
+    step=st.integers(-5, 45),
+    zoom=st.sampled_from([0.2, 1.0, 9.0, 60.0]),
+    trail=st.sampled_from([0.0, 0.3, 2.0, 50.0]),
+)
+@settings(max_examples=40, deadline=None)
+def test_frames_of_ragged_episodes_paint_and_prefill_without_error(
+    qapp, agents, steps, gaps, step, zoom, trail
+):
+    # missing samples, one-step episodes, steps out of range, extreme zooms: never an error
+    from arena_studio.render.episode_painter import paint_episode_frame
+
+    scene, ep = _hall_episode(agents=agents, steps=max(steps, 1))
+    poses = ep.poses.copy()
+    for t, a in gaps:
+        if t < steps and a < agents:
+            poses[t, a, :2] = np.nan
+    ragged = Episode(0, 0.05, poses)
+    theme = load_theme("light")
+    base = ViewTransform.fit_scene(scene, (0, 0, W, H))
+    view = ViewTransform(base.scale * zoom, base.offset_x, base.offset_y)
+    opts = FrameOptions(trail_seconds=trail)
+    for _ in range(3):
+        if not prefill_frame(scene, ragged, step, view, theme, opts, 8, (W, H)):
+            break
+    _frame(lambda p: paint_episode_frame(p, scene, ragged, step, view, theme, opts))
