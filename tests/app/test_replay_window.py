@@ -169,6 +169,10 @@ def test_batch_goal_click_filters_list_and_compare_ghosts(qtbot, written_tape):
     qtbot.waitUntil(lambda: w.compare is not None, timeout=5000)
     assert w.canvas.layer_ghost.episode is not None
     assert w.canvas.layer_ghost.episode.index == 0
+    # the ghost shows only where the other team went: no goal rings, pursued lines or roles,
+    # even before any view option was touched
+    ghost = w.canvas.layer_ghost.options
+    assert not ghost.team_goal and not ghost.pursued and ghost.roles == "none"
     w.set_compare_mode("side")
     assert w.canvas_b.isVisible() and w.canvas_b.prepared.episode.index == 0
     w.clock.seek(7)

@@ -132,6 +132,7 @@ class ReplayCanvas(SceneCanvas):
         self.setOptimizationFlag(QGraphicsView.OptimizationFlag.DontAdjustForAntialiasing, True)
         self.scene().setItemIndexMethod(QGraphicsScene.ItemIndexMethod.NoIndex)
         self.layer_ghost.setVisible(False)  # shown only while it has an episode
+        self.set_options(self.layer_episode.options)  # the ghost's reduced overlays from the start
 
     # -- content -----------------------------------------------------------------------
     def set_episode(self, scene: Scene, prepared: PreparedEpisode | None) -> None:
