@@ -157,14 +157,17 @@ def diagnose_block(
     cover: np.ndarray,
     still: np.ndarray,
     starts: np.ndarray,
+    xs: np.ndarray,
+    ys: np.ndarray,
 ) -> list[Diagnosis | None]:
     """:func:`diagnose` for episodes laid end to end, one answer per episode, identical to
     calling it episode by episode: every per-step test runs once over all rows and is reduced
     per episode (``starts`` are the first rows), leaving only the wording to a Python loop.
 
     ``success``, ``goals`` (judged target indices) and ``aligned`` are the episodes'
-    metrics; ``cover`` (N, A, L) and ``still`` (N, A) their arrays concatenated. All
-    episodes share one ``dt``.
+    metrics; ``cover`` (N, A, L) and ``still`` (N, A) their arrays concatenated, ``xs`` and
+    ``ys`` (A, N) the agents' positions laid out the same way (as float64). All episodes
+    share one ``dt``.
     """
     n_ep = len(episodes)
     out: list[Diagnosis | None] = [None] * n_ep
@@ -180,8 +183,11 @@ def diagnose_block(
     floor = np.repeat(starts - 1, lengths)
     idx = np.arange(n_rows)
     tmask = np.zeros((n_ep, n_lm), dtype=bool)
+    by_goal: dict[tuple[int, ...], list[int]] = {}
     for e in todo:
-        tmask[e, list(goals[e] or ())] = True
+        by_goal.setdefault(goals[e] or (), []).append(e)
+    for goal, rows in by_goal.items():  # one assignment per distinct goal
+        tmask[np.ix_(rows, goal)] = True
     # every result below is reduced per episode and read only for the episodes in todo, so
     # when those share one goal its mask can stand for every row
     uniform = bool((tmask[todo] == tmask[todo[0]]).all())
@@ -243,7 +249,14 @@ def diagnose_block(
         return run_starts[e][a]
 
     still_last = still[last].tolist()
-    cover_last = cover[last].tolist()  # (E, A, L)
+    cover_rows: list[list[list[bool]]] = []
+
+    def cover_last(e: int) -> list[list[bool]]:
+        """(A, L) coverage at episode e's last step (computed once, when first asked)."""
+        if not cover_rows:
+            cover_rows.extend(cover[last].tolist())
+        return cover_rows[e]
+
     dt = episodes[0].dt
     lm_all = np.array([lm.position for lm in scene.landmarks], dtype=np.float64)
     ids = [a.id for a in scene.agents]
@@ -252,6 +265,10 @@ def diagnose_block(
     back_steps = round(1.0 / dt)
     simultaneous = scene.goals.rule != "all_visited"
     hold_words = f" for {scene.goals.hold_time:g} s" if scene.goals.hold_time > 0 else ""
+    back = np.maximum(last - back_steps, starts)
+    approaching_of = _approaching(
+        todo, tmask, count[:, last].T, lm_all, (xs, ys), last[todo], back[todo]
+    )
     for e in todo:
         ep = episodes[e]
         targets = list(goals[e] or ())
@@ -275,7 +292,7 @@ def diagnose_block(
                 k_dup = counts.index(max(counts))
                 k_empty = counts.index(0)
                 lm_dup = targets[k_dup]
-                who = " and ".join(ids[a] for a in range(n_agents) if cover_last[e][a][lm_dup])
+                who = " and ".join(ids[a] for a in range(n_agents) if cover_last(e)[a][lm_dup])
                 out[e] = Diagnosis(
                     "duplicate-target",
                     f"{who} went to {lm_ids[lm_dup]} while {lm_ids[targets[k_empty]]} stayed empty",
@@ -291,14 +308,10 @@ def diagnose_block(
                 continue
         empty = [lm for lm, c in zip(targets, counts, strict=True) if c == 0] or list(targets)
         empty_words = "+".join(lm_ids[i] for i in empty)
-        lm_pos = lm_all[empty]
-        xy = ep.poses[:, :, :2]
-        back = max(0, t_end - back_steps)
-        d_now = np.linalg.norm(xy[t_end][:, None, :] - lm_pos[None], axis=-1).min(axis=1)
-        d_then = np.linalg.norm(xy[back][:, None, :] - lm_pos[None], axis=-1).min(axis=1)
-        approaching = ~np.asarray(still_last[e]) & (d_now < d_then - 1e-6)
-        if approaching.any():
-            names = ", ".join(ids[a] for a in np.flatnonzero(approaching))
+        closer = approaching_of[e]
+        approaching = [a for a in range(n_agents) if closer[a] and not still_last[e][a]]
+        if approaching:
+            names = ", ".join(ids[a] for a in approaching)
             out[e] = Diagnosis(
                 "time-ran-out",
                 f"time ran out while {names} still moved towards {empty_words}",
@@ -306,7 +319,7 @@ def diagnose_block(
             )
             continue
         for a in range(n_agents):
-            if still_last[e][a] and not any(cover_last[e][a][lm] for lm in targets):
+            if still_last[e][a] and not any(cover_last(e)[a][lm] for lm in targets):
                 start = still_start(e, a)
                 if t_end - start >= need:
                     x, y = ep.poses[start, a, :2]
@@ -320,6 +333,44 @@ def diagnose_block(
         else:
             out[e] = Diagnosis("uncovered", f"targets left empty at the end: {empty_words}", t_end)
     return out
+
+
+def _approaching(
+    todo: list[int],
+    tmask: np.ndarray,
+    end_count: np.ndarray,
+    lm_all: np.ndarray,
+    xy: tuple[np.ndarray, np.ndarray],
+    now_rows: np.ndarray,
+    back_rows: np.ndarray,
+) -> dict[int, list[bool]]:
+    """Per episode of ``todo``, per agent: is it nearer its nearest empty target at the last
+    step (row ``now_rows``) than one second earlier (``back_rows``), by more than 1e-6 m? As
+    :func:`diagnose` computes it, with the same subtractions, squares and square roots, for
+    every episode at once; the minimum over the empty targets is a running ``np.minimum``
+    with the other targets left at infinity, which leaves it unchanged (NaN propagates as
+    in ``min``). Empty targets: those no agent covers at the end, or all of them when every
+    one is covered."""
+    xs, ys = xy
+    targets = tmask[todo]  # (E, L)
+    empty = targets & (end_count[todo] == 0)
+    none_empty = ~empty.any(axis=1)
+    empty[none_empty] = targets[none_empty]
+
+    def nearest(rows: np.ndarray) -> np.ndarray:
+        """(E, A) distance to the nearest empty target: sqrt(dx * dx + dy * dy), what
+        np.linalg.norm sums over a pair of coordinates, one landmark at a time."""
+        x, y = xs[:, rows].T, ys[:, rows].T  # (E, A)
+        best = np.full(x.shape, np.inf)
+        for k in np.flatnonzero(empty.any(axis=0)).tolist():
+            dx = x - lm_all[k, 0]
+            dy = y - lm_all[k, 1]
+            dist = np.sqrt(dx * dx + dy * dy)
+            np.minimum(best, np.where(empty[:, k, None], dist, np.inf), out=best)
+        return best
+
+    closer = (nearest(now_rows) < nearest(back_rows) - 1e-6).tolist()
+    return dict(zip(todo, closer, strict=True))
 
 
 def _any_row(mask: np.ndarray) -> np.ndarray:

@@ -38,7 +38,7 @@ from .observe import coverage_planes_sparse, goal_reached_planes, segment_starts
 from .scene import Scene
 
 #: episodes are processed in groups of about this many steps (arrays stay cache-sized)
-BLOCK_STEPS = 16384
+BLOCK_STEPS = 32768
 
 
 def _aligned(episode: Episode) -> bool | None:
@@ -147,6 +147,7 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
     goal_rows = np.zeros((len(episodes), n_lm), dtype=bool)
     cache: dict[bytes, tuple[int, ...]] = {}
     seen: dict[tuple[int, ...], tuple[bool | None, tuple[int, ...] | None]] = {}
+    rows_of: dict[tuple[int, ...], list[int]] = {}
     for e, ep in enumerate(episodes):
         ident = (id(ep.team_goal), *map(id, ep.pursued_goals))
         known = seen.get(ident)
@@ -156,7 +157,9 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
         t = known[1]
         targets_of.append(t)
         if t:
-            goal_rows[e, list(t)] = True
+            rows_of.setdefault(t, []).append(e)
+    for t, rows in rows_of.items():  # one assignment per distinct goal
+        goal_rows[np.ix_(rows, t)] = True
     has_goal = goal_rows.any(axis=1)
     # only landmarks some episode is judged on, or all when one is misaligned (its diagnosis
     # looks for landmarks outside the goal); the rest stay False and are never read
@@ -208,12 +211,15 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
     seg_rows = np.zeros((n_agents, n))
     seg = seg_rows[:, :-1]
     if n > 1:
-        np.subtract(xa[:, 1:], xa[:, :-1], out=seg)
-        dy = np.subtract(ya[:, 1:], ya[:, :-1])
-        seg *= seg
-        dy *= dy
-        seg += dy
-        np.sqrt(seg, out=seg)
+        dy = np.empty(n - 1)
+        for a in range(n_agents):  # agent by agent: the rows stay in cache
+            sa = seg[a]
+            np.subtract(xa[a, 1:], xa[a, :-1], out=sa)
+            np.subtract(ya[a, 1:], ya[a, :-1], out=dy)
+            sa *= sa
+            dy *= dy
+            sa += dy
+            np.sqrt(sa, out=sa)
     top = np.array([a.max_speed for a in scene.agents], dtype=np.float64)
     limit = np.maximum(STILL_SPEED_FRACTION * top, STILL_SPEED_MIN)
     # still when speed = seg / dt < limit (as metrics.step_speeds): a step at or above
@@ -249,33 +255,9 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
     still_counts = still_counts.reshape(len(episodes), n_agents)
 
     # contacts ---------------------------------------------------------------------------------
-    radii = np.array([a.radius for a in scene.agents], dtype=np.float64)
-    pi_, pj_ = np.triu_indices(n_agents, k=1)
-    overlap = np.zeros((len(pi_), n), dtype=bool)  # (P, N)
-    near = np.empty(n, dtype=bool)
-    part = np.empty(n, dtype=bool)
-    for k, (i, j) in enumerate(zip(pi_.tolist(), pj_.tolist(), strict=True)):
-        # overlap: dx * dx + dy * dy < reach * reach (as metrics.overlap_mask); with |dx| or
-        # |dy| at or above reach (1 + 1e-6) it cannot hold, so only the rest are squared
-        # (x first: the rows that pass it are few, and only they are looked at in y)
-        pdx = xa[i] - xa[j]
-        reach = radii[i] + radii[j]
-        pad = reach * (1 + 1e-6)
-        np.less(pdx, pad, out=near)
-        near &= np.greater(pdx, -pad, out=part)
-        c = np.flatnonzero(near)
-        if c.size:
-            cx = pdx[c]
-            cy = ya[i, c] - ya[j, c]
-            overlap[k, c] = cx * cx + cy * cy < reach * reach
-    pair_on = _seg_onsets(overlap, starts)
+    on_rows, on_pair = _contact_onsets(scene, xa, ya, floor)
     exits = _exit_counts(scene, xa, ya, starts, floor, len(episodes))
-    if pair_on.any():
-        on_pair, on_rows = _nonzero_2d(pair_on)
-        order = np.lexsort((on_pair, on_rows))  # by step, then pair
-        on_rows, on_pair = on_rows[order], on_pair[order]
-    else:
-        on_rows = on_pair = np.zeros(0, dtype=np.intp)
+    pi_, pj_ = _pairs(n_agents)
     on_split = np.searchsorted(on_rows, ends)
 
     # assemble -----------------------------------------------------------------------------
@@ -283,7 +265,9 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
     lm_ids = [lm.id for lm in scene.landmarks]
     success_list = success.tolist()
     step_list = step.tolist()
-    found = diagnose_block(scene, episodes, success_list, targets_of, aligned, cover, still, starts)
+    found = diagnose_block(
+        scene, episodes, success_list, targets_of, aligned, cover, still, starts, xa, ya
+    )
     who_list, visited_list = who.tolist(), visited.tolist()
     exits_list = exits.tolist()
     still_time = (still_counts * dt).tolist()
@@ -355,10 +339,11 @@ def _agent_rows(
     """(len(fields), A, N): pose fields (0 x, 1 y, 2 heading) of episodes laid end to end."""
     n_agents = episodes[0].agent_count
     out = np.empty((len(fields), n_agents, int(starts[-1] + lengths[-1])))
+    lo, hi = fields[0], fields[-1] + 1
+    pick: slice | list[int] = slice(lo, hi) if list(fields) == list(range(lo, hi)) else [*fields]
     for ep, s0, t_len in zip(episodes, starts.tolist(), lengths.tolist(), strict=True):
-        cols = np.asarray(ep.poses).T  # (3, A, T) view
-        for k, f in enumerate(fields):
-            out[k, :, s0 : s0 + t_len] = cols[f]
+        # one copy per episode for all fields: (3, A, T) view, fields picked
+        out[:, :, s0 : s0 + t_len] = np.asarray(ep.poses).T[pick]
     return out
 
 
@@ -371,6 +356,63 @@ def _goal_facts(
     par = _MEMO.get(scene, ("par", targets), lambda: par_time_of(scene, targets))
     kind = "individual" if len(targets) == 1 else "cooperative"
     return goal_key(scene, targets), kind, par
+
+
+def _pairs(n_agents: int) -> tuple[np.ndarray, np.ndarray]:
+    """``np.triu_indices(n_agents, k=1)``: agent pairs (i < j) in row-major order, built
+    directly (triu_indices costs tens of microseconds, once per block)."""
+    first = [i for i in range(n_agents) for _ in range(i + 1, n_agents)]
+    second = [j for i in range(n_agents) for j in range(i + 1, n_agents)]
+    return np.array(first, dtype=np.intp), np.array(second, dtype=np.intp)
+
+
+def _contact_onsets(
+    scene: Scene, xa: np.ndarray, ya: np.ndarray, floor: np.ndarray
+) -> tuple[np.ndarray, np.ndarray]:
+    """(rows, pairs) where a pair of agents starts to overlap (as metrics.overlap_mask and
+    onsets; pairs numbered as ``np.triu_indices(A, 1)``), sorted by row, then pair.
+
+    Overlap is ``dx * dx + dy * dy < reach * reach``; with ``|dx|`` at or above
+    ``reach * (1 + 1e-6)`` it cannot hold, so one pass over a pair's x gaps finds the few
+    candidates and only they are squared (pair by pair, in buffers that stay in cache).
+    Onsets come from the sparse overlaps: the first row of a run, or an episode's first row.
+    """
+    n_agents, n = xa.shape
+    pi_, pj_ = _pairs(n_agents)
+    radii = np.array([a.radius for a in scene.agents], dtype=np.float64)
+    reach = radii[pi_] + radii[pj_]
+    pad = (reach * (1 + 1e-6)).tolist()
+    reach2 = (reach * reach).tolist()
+    gap = np.empty(n)
+    size = np.empty(n)
+    near = np.empty(n, dtype=bool)
+    pair_parts: list[np.ndarray] = []
+    row_parts: list[np.ndarray] = []
+    for k, (i, j) in enumerate(zip(pi_.tolist(), pj_.tolist(), strict=True)):
+        np.subtract(xa[i], xa[j], out=gap)
+        np.abs(gap, out=size)
+        np.less(size, pad[k], out=near)
+        c = np.flatnonzero(near)
+        if c.size:
+            cx = gap[c]
+            cy = ya[i, c] - ya[j, c]
+            cx *= cx
+            cy *= cy
+            cx += cy
+            c = c[cx < reach2[k]]
+            if c.size:
+                row_parts.append(c)
+                pair_parts.append(np.full(c.size, k, dtype=np.intp))
+    if not row_parts:
+        empty = np.zeros(0, dtype=np.intp)
+        return empty, empty
+    pp, cc = np.concatenate(pair_parts), np.concatenate(row_parts)  # by pair, then row
+    cont = np.zeros(pp.size, dtype=bool)
+    cont[1:] = (pp[1:] == pp[:-1]) & (cc[1:] == cc[:-1] + 1)
+    onset = ~cont | (floor[cc] + 1 == cc)
+    pp, cc = pp[onset], cc[onset]
+    order = np.lexsort((pp, cc))  # by step, then pair
+    return cc[order], pp[order]
 
 
 def _exit_counts(
@@ -439,16 +481,6 @@ def _nonzero_2d(mask: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     flat = np.flatnonzero(mask)
     rows, cols = np.divmod(flat, mask.shape[1])
     return rows, cols
-
-
-def _seg_onsets(mask: np.ndarray, starts: np.ndarray) -> np.ndarray:
-    """:func:`metrics.onsets` along the last axis (rows) of episodes laid end to end; each
-    episode's first row counts as its step 0."""
-    prev = np.empty_like(mask)
-    prev[..., 0] = False
-    prev[..., 1:] = mask[..., :-1]
-    prev[..., starts] = False
-    return mask & ~prev
 
 
 __all__ = ["BLOCK_STEPS", "episodes_metrics", "tape_metrics"]

@@ -59,6 +59,8 @@ ZERO_COPY_BYTES = 1 << 16
 GOAL_CACHE_SIZE = 4096
 #: smallest number of bytes one recorded step of one agent occupies (a float32 pose)
 MIN_STEP_BYTES = 12
+#: per-step fields a chunk may carry besides the poses
+_OPTIONAL_FIELDS = frozenset(("rewards", "actions", "done", "channels"))
 
 
 @dataclass(frozen=True)
@@ -502,6 +504,10 @@ class Tape:
     ) -> dict[str, Any]:
         if not chunks:
             raise TapeError(self._src, where, "has no steps")
+        if len(chunks) == 1:
+            quick = self._poses_only_chunk(chunks[0], where, a, copy)
+            if quick is not None:
+                return quick
         parts: dict[str, list[np.ndarray]] = {}
         channel_parts: dict[str, list[np.ndarray]] = {}
         optional = ("rewards", "actions", "done", "channels")
@@ -559,12 +565,7 @@ class Tape:
                 else arrs[0]
             )
             out[name] = joined.astype(np.float64, copy=False) if name != "done" else joined
-        poses = out["poses"]
-        if not np.isfinite(poses).all():  # the writer refuses them; a foreign tape may not
-            t, agent = (int(v) for v in np.argwhere(~np.isfinite(poses).all(axis=2))[0])
-            raise TapeError(
-                self._src, f"{where} step {t} agent {agent}", "pose is not a finite number"
-            )
+        self._check_finite(out["poses"], where)
         if channel_parts:
             out["channels"] = {
                 name: np.concatenate(arrs, axis=0) if len(arrs) > 1 else arrs[0].copy()
@@ -574,6 +575,37 @@ class Tape:
             if any(len(s) > 1 for s in shapes):
                 raise TapeError(self._src, f"{where}.channels", "channels must be (T,) or (T, A)")
         return out
+
+    def _poses_only_chunk(
+        self, chunk: tuple[int, Any, int], where: str, a: int, copy: bool
+    ) -> dict[str, Any] | None:
+        """:meth:`_chunks` of an episode held in one chunk of poses alone (what the writer
+        usually makes): the same checks and messages, without the bookkeeping for several
+        chunks and optional fields. None when the chunk is anything else."""
+        _, rec, offset = chunk
+        if type(rec) is not dict or not _OPTIONAL_FIELDS.isdisjoint(rec):
+            return None
+        n = rec.get("steps")
+        if type(n) is not int or n < 1 or rec.get("start") != 0:
+            return None  # the general path names the problem
+        poses = self._array(
+            rec.get("poses"), f"{where} chunk at byte {offset}.poses", FLOAT_DTYPES, (n, a, 3)
+        )
+        if copy:
+            poses = poses.copy()
+        poses = poses.astype(np.float64, copy=False)
+        self._check_finite(poses, where)
+        return {"poses": poses}
+
+    def _check_finite(self, poses: np.ndarray, where: str) -> None:
+        """Refuse a pose that is not a finite number, naming its step and agent. The writer
+        refuses them; a foreign tape may not. A finite sum means every term is finite (an
+        infinity or NaN makes any sum infinite or NaN), so the elementwise test runs only
+        when the sum is not (a bad pose, or finite values whose sum overflows)."""
+        if math.isfinite(np.add.reduce(poses.reshape(-1))) or np.isfinite(poses).all():
+            return
+        t, agent = (int(v) for v in np.argwhere(~np.isfinite(poses).all(axis=2))[0])
+        raise TapeError(self._src, f"{where} step {t} agent {agent}", "pose is not a finite number")
 
     def _array(
         self, value: Any, where: str, dtypes: tuple[str, ...], shape: tuple[int | None, ...]
