@@ -274,41 +274,50 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
     paths = _path_lengths(seg_rows, starts, lengths, n_agents)
     out: list[EpisodeMetrics] = []
     lo = 0
-    starts_list, split_list = starts.tolist(), on_split.tolist()
-    pi_list, pj_list = pi_.tolist(), pj_.tolist()
+    split_list = on_split.tolist()
+    lengths_list = lengths.tolist()
+    # (step in its episode, agent i, agent j) of every contact onset, episode after episode
+    on_ep = np.searchsorted(on_split, np.arange(on_rows.size), side="right")
+    contacts = list(
+        zip(
+            (on_rows - starts[on_ep]).tolist(),
+            pi_[on_pair].tolist(),
+            pj_[on_pair].tolist(),
+            strict=True,
+        )
+    )
     # goal key, kind and par time once per distinct goal of the block
     per_goal: dict[tuple[int, ...] | None, tuple[str | None, str | None, float | None]] = {}
     for e, ep in enumerate(episodes):
-        s = starts_list[e]
         targets = targets_of[e]
         ok = success_list[e]
         st = step_list[e] if ok else None
         covered: dict[str, str | None] = {}
         if targets:
+            who_e, visited_e = who_list[e], visited_list[e]
             for lm in targets:
-                covered[lm_ids[lm]] = ids[who_list[e][lm]] if visited_list[e][lm] else None
-        path = paths[e]
+                covered[lm_ids[lm]] = ids[who_e[lm]] if visited_e[lm] else None
         hi = split_list[e]
         pairs: tuple[tuple[int, int, int], ...] = ()
         if hi > lo:
-            pairs = tuple(
-                (r - s, pi_list[p], pj_list[p])
-                for r, p in zip(on_rows[lo:hi].tolist(), on_pair[lo:hi].tolist(), strict=True)
-            )
-        lo = hi
-        if targets not in per_goal:
-            per_goal[targets] = _goal_facts(scene, targets)
-        key, kind, par = per_goal[targets]
-        tts = None if st is None else st * ep.dt
+            pairs = tuple(contacts[lo:hi])
+            lo = hi
+        facts = per_goal.get(targets)
+        if facts is None:
+            facts = per_goal[targets] = _goal_facts(scene, targets)
+        key, kind, par = facts
+        ep_dt = ep.dt
+        tts = None if st is None else st * ep_dt
         ratio = None
         if par is not None and tts is not None:
             ratio = par / tts if tts > 0 else (1.0 if par == 0 else None)
         diag = found[e]
+        steps = lengths_list[e]
         out.append(
             EpisodeMetrics(
                 index=ep.index,
-                steps=ep.steps,
-                duration=ep.duration,
+                steps=steps,
+                duration=max(steps - 1, 0) * ep_dt,  # Episode.duration, without the calls
                 goal=targets,
                 goal_key=key,
                 kind=kind,
@@ -316,7 +325,7 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
                 success_step=st,
                 time_to_success=tts,
                 covered_by=covered,
-                path_length=path,
+                path_length=paths[e],
                 par_time=par,
                 par_ratio=ratio,
                 aligned=aligned[e],
@@ -455,25 +464,38 @@ def _path_lengths(
     seg: np.ndarray, starts: np.ndarray, lengths: np.ndarray, n_agents: int
 ) -> list[tuple[float, ...]]:
     """Per episode, per agent: the sum of its step lengths ``seg`` (A, N; column r is the
-    move from row r to r + 1), accumulated left to right (``np.cumsum``) like metrics'
-    per-episode running sum, so the last bit is the same. Episodes of one length are summed
-    together, one accumulate over an (A, E, T - 1) array; ``np.add.reduceat`` would be one
-    call but rounds differently."""
+    move from row r to r + 1), accumulated left to right like metrics' per-episode running
+    sum (``np.cumsum``), so the last bit is the same. Episodes of one length are summed
+    together (``np.add.reduceat`` would be one call but rounds differently)."""
     out: list[tuple[float, ...]] = [(0.0,) * n_agents] * len(starts)
     if len(starts) and (lengths == lengths[0]).all() and lengths[0] >= 2:
         # the usual case, episodes of one length: (A, E, T) is a view of the rows
         t_len = int(lengths[0])
         view = seg.reshape(n_agents, len(starts), t_len)[:, :, : t_len - 1]
-        return [tuple(t) for t in np.cumsum(view, axis=2)[:, :, -1].T.tolist()]
+        return [tuple(t) for t in _running_totals(view).T.tolist()]
     for t_len in np.unique(lengths).tolist():
         if t_len < 2:
             continue
         group = np.flatnonzero(lengths == t_len)
         cols = starts[group][:, None] + np.arange(t_len - 1)  # (G, T - 1)
-        totals = np.cumsum(seg[:, cols], axis=2)[:, :, -1].T.tolist()  # (G, A)
+        totals = _running_totals(seg[:, cols]).T.tolist()  # (G, A)
         for e, total in zip(group.tolist(), totals, strict=True):
             out[e] = tuple(total)
     return out
+
+
+def _running_totals(parts: np.ndarray) -> np.ndarray:
+    """(A, G): ``np.cumsum(parts, axis=2)[:, :, -1]`` of (A, G, K) step lengths, the same to
+    the last bit and several times faster: numpy adds along a slow axis one element after
+    the other (pairwise summation is only used along the fast axis in memory, numpy.sum
+    notes), so with K made the slowest axis ``np.add.reduce`` adds each column left to right,
+    all columns at once, instead of one dependent running sum per column. A single column
+    leaves only K, which would become the fast axis: that case keeps the running sum."""
+    n_agents, n_group, _ = parts.shape
+    if n_agents * n_group < 2:
+        return np.cumsum(parts, axis=2)[:, :, -1]
+    rows = np.ascontiguousarray(parts.transpose(2, 0, 1))  # (K, A, G), K slowest
+    return np.add.reduce(rows, axis=0)
 
 
 def _nonzero_2d(mask: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

@@ -459,11 +459,12 @@ class Tape:
         if pursued_raw is not None:
             if not isinstance(pursued_raw, list) or len(pursued_raw) != a:
                 raise TapeError(self._src, f"{where}.pursued_goals", f"expected {a} entries")
+            goal = self._goal
             pursued = tuple(
-                self._goal(g, n_lm, copy, where, "pursued_goals", k)
-                for k, g in enumerate(pursued_raw)
+                [goal(g, n_lm, copy, where, "pursued_goals", k) for k, g in enumerate(pursued_raw)]
             )
-        roles = self._roles(begin.get("roles"), f"{where}.roles", a)
+        roles_raw = begin.get("roles")
+        roles = () if roles_raw is None else self._roles(roles_raw, f"{where}.roles", a)
         messages = begin.get("messages", [])
         if not isinstance(messages, list):
             raise TapeError(self._src, f"{where}.messages", "expected a list")
@@ -598,11 +599,9 @@ class Tape:
         return {"poses": poses}
 
     def _check_finite(self, poses: np.ndarray, where: str) -> None:
-        """Refuse a pose that is not a finite number, naming its step and agent. The writer
-        refuses them; a foreign tape may not. A finite sum means every term is finite (an
-        infinity or NaN makes any sum infinite or NaN), so the elementwise test runs only
-        when the sum is not (a bad pose, or finite values whose sum overflows)."""
-        if math.isfinite(np.add.reduce(poses.reshape(-1))) or np.isfinite(poses).all():
+        """Refuse a pose that is not a finite number, naming its step and agent (the writer
+        refuses them; a foreign tape may not)."""
+        if np.isfinite(poses).all():
             return
         t, agent = (int(v) for v in np.argwhere(~np.isfinite(poses).all(axis=2))[0])
         raise TapeError(self._src, f"{where} step {t} agent {agent}", "pose is not a finite number")
@@ -622,8 +621,16 @@ class Tape:
         # the same few goal vectors recur in every episode: remember the checked ones
         key = None
         if type(value) is dict and len(value) == 3:
-            data = value.get("data")
-            if type(data) is bytes and value.get("dtype") == "|u1" and value.get("shape") == [n_lm]:
+            data, shape = value.get("data"), value.get("shape")
+            # exact types, as decode_array checks them: 3.0 == 3 must not pass for a length
+            if (
+                type(data) is bytes
+                and value.get("dtype") == "|u1"
+                and type(shape) is list
+                and len(shape) == 1
+                and type(shape[0]) is int
+                and shape[0] == n_lm
+            ):
                 key = data
                 known = self._goal_cache.get(key)
                 if known is not None:

@@ -1,0 +1,140 @@
+"""The tape reader's quick paths (one chunk of poses, the finite check by sum, remembered goal
+vectors) refuse and accept exactly what the general path does, with the same messages."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from arena_studio.core.tape import TapeError, TapeWriter, open_tape
+from arena_studio.core.tape.format import MAGIC, frame, pack
+
+from .tape_helpers import box_scene
+
+SCENE = box_scene()
+GOOD_GOAL = {"dtype": "|u1", "shape": [3], "data": bytes([1, 1, 0])}
+
+
+def _header() -> dict:
+    return {
+        "type": "header",
+        "format": "arena-studio.tape",
+        "version": 1,
+        "dt": 0.1,
+        "agent_ids": ["r0", "r1"],
+        "scene": SCENE.to_dict(),
+        "scene_hash": SCENE.content_hash(),
+        "metadata": {},
+    }
+
+
+def _tape(tmp_path: Path, episodes: list[tuple[dict, list[dict]]]) -> Path:
+    """A tape without index (read by the recovery scan) from (begin fields, chunks) pairs."""
+    path = tmp_path / "quick.tape"
+    data = MAGIC + frame(ord("H"), pack(_header()))
+    for i, (fields, chunks) in enumerate(episodes):
+        begin = {"type": "begin", "episode": i, "roles": None, "messages": []}
+        begin.update({"team_goal": None, "pursued_goals": None, **fields})
+        data += frame(ord("B"), pack(begin))
+        steps = 0
+        for chunk in chunks:
+            data += frame(ord("C"), pack({"type": "chunk", "episode": i, **chunk}))
+            steps += chunk["steps"] if isinstance(chunk["steps"], int) else 1
+        data += frame(ord("E"), pack({"type": "end", "episode": i, "steps": steps}))
+    path.write_bytes(data)
+    return path
+
+
+def _poses(values: np.ndarray) -> dict:
+    return {"dtype": "<f8", "shape": list(values.shape), "data": values.tobytes()}
+
+
+def _chunk(values: np.ndarray, start: int = 0, **extra: object) -> dict:
+    return {"start": start, "steps": values.shape[0], "poses": _poses(values), **extra}
+
+
+def test_huge_finite_poses_are_accepted(tmp_path: Path) -> None:
+    # IEEE 754 binary64: the largest finite double is about 1.798e308 (numpy.finfo); such
+    # positions are absurd but finite numbers, so the reader keeps them
+    big = np.full((2, 2, 3), np.finfo(np.float64).max)
+    tape = open_tape(_tape(tmp_path, [({}, [_chunk(big)])]))
+    assert np.array_equal(tape.episode(0).poses, big)
+
+
+@pytest.mark.parametrize("chunks", [1, 2])
+def test_infinities_of_both_signs_are_refused_at_the_first(tmp_path: Path, chunks: int) -> None:
+    # +inf + -inf is NaN (IEEE 754), so the sum is not finite and the elementwise test names
+    # the first bad pose in step order; the same with one chunk (quick path) or two
+    poses = np.zeros((4, 2, 3))
+    poses[2, 1, 1] = np.inf
+    poses[3, 0, 0] = -np.inf
+    parts = [_chunk(poses)] if chunks == 1 else [_chunk(poses[:2]), _chunk(poses[2:], start=2)]
+    tape = open_tape(_tape(tmp_path, [({}, parts)]))
+    with pytest.raises(TapeError, match=r"episode 0 step 2 agent 1: pose is not a finite number"):
+        tape.episode(0)
+
+
+def test_one_chunk_problems_get_the_general_messages(tmp_path: Path) -> None:
+    # a bool is no step count: the recovery scan lets it through, the decoder refuses it
+    chunk = {**_chunk(np.zeros((1, 2, 3))), "steps": True}
+    tape = open_tape(_tape(tmp_path, [({}, [chunk])]))
+    with pytest.raises(TapeError, match=r"episode 0 chunk at byte \d+: bad start or step count"):
+        tape.episode(0)
+    # a lone chunk that does not start at 0, or holds no step, is left to the general path
+    good = _chunk(np.zeros((1, 2, 3)))
+    for change in ({"start": 1}, {"steps": 0}, {"steps": -1}):
+        with pytest.raises(
+            TapeError, match=r"quick.tape: w chunk at byte 7: bad start or step count$"
+        ):
+            tape._chunks([(ord("C"), {**good, **change}, 7)], "w", 2)
+
+
+def test_one_chunk_with_optional_fields_keeps_them(tmp_path: Path) -> None:
+    poses = np.arange(12.0).reshape(2, 2, 3)
+    rewards = {"dtype": "<f8", "shape": [2, 2], "data": np.ones((2, 2)).tobytes()}
+    tape = open_tape(_tape(tmp_path, [({}, [_chunk(poses, rewards=rewards)])]))
+    ep = tape.episode(0)
+    assert np.array_equal(ep.poses, poses) and np.array_equal(ep.rewards, np.ones((2, 2)))
+
+
+def test_copied_and_viewed_episodes_agree(tmp_path: Path) -> None:
+    # reference: numpy.shares_memory answers whether two arrays overlap in memory
+    path = tmp_path / "w.tape"
+    rng = np.random.default_rng(1)
+    with TapeWriter(path, SCENE, dt=0.1) as w:
+        for _ in range(5):
+            w.begin_episode(team_goal=np.array([1, 1, 0], np.uint8))
+            w.steps(rng.uniform(0, 10, (7, 2, 3)))
+            w.end_episode()
+    tape = open_tape(path)
+    own = tape.episodes(0, 5)
+    views = tape.episodes(0, 5, copy=False)
+    for a, b in zip(own, views, strict=True):
+        assert np.array_equal(a.poses, b.poses) and a.poses.dtype == np.float64
+        assert np.array_equal(a.team_goal, b.team_goal)
+        assert a.poses.flags.writeable and a.team_goal is not None
+        a.team_goal[0] = 0  # the copy is the caller's own: the next read is unchanged
+    assert not any(np.shares_memory(x.poses, y.poses) for x in own for y in own if x is not y)
+    assert tape.episode(0).team_goal.tolist() == [1, 1, 0]
+
+
+def test_remembered_goal_never_excuses_a_bad_one(tmp_path: Path) -> None:
+    # episode 0 makes the reader remember the good vector; episode 1 repeats it for the team
+    # goal and agent 0, then gives agent 1 a 2 (a goal is multi-hot: 0 or 1 per landmark)
+    bad = {**GOOD_GOAL, "data": bytes([1, 2, 0])}
+    good = {"team_goal": GOOD_GOAL, "pursued_goals": [GOOD_GOAL, GOOD_GOAL]}
+    worse = {"team_goal": GOOD_GOAL, "pursued_goals": [GOOD_GOAL, bad]}
+    steps = [_chunk(np.zeros((1, 2, 3)))]
+    tape = open_tape(_tape(tmp_path, [(good, steps), (worse, steps), (good, steps)]))
+    assert tape.episode(0).pursued_goals[1].tolist() == [1, 1, 0]
+    for read in (lambda: tape.episode(1), lambda: tape.episodes(0, 3, copy=False)):
+        with pytest.raises(TapeError, match=r"episode 1\.pursued_goals\[1\]: a goal holds only"):
+            read()
+    # a float in the shape is refused although it equals the remembered one's length
+    odd = {**GOOD_GOAL, "shape": [3.0]}
+    tape = open_tape(_tape(tmp_path, [(good, steps), ({"team_goal": odd}, steps)]))
+    tape.episode(0)
+    with pytest.raises(TapeError, match=r"episode 1\.team_goal: shape\[0\] must be a whole"):
+        tape.episode(1)
