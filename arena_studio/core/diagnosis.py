@@ -156,7 +156,8 @@ def diagnose_block(
     aligned: Sequence[bool | None],
     cover: np.ndarray,
     still: np.ndarray,
-    starts: np.ndarray,
+    rows: tuple[np.ndarray, np.ndarray, np.ndarray],
+    count: np.ndarray,
     xs: np.ndarray,
     ys: np.ndarray,
 ) -> list[Diagnosis | None]:
@@ -166,28 +167,28 @@ def diagnose_block(
 
     ``success``, ``goals`` (judged target indices) and ``aligned`` are the episodes'
     metrics; ``cover`` (N, A, L) and ``still`` (N, A) their arrays concatenated, ``xs`` and
-    ``ys`` (A, N) the agents' positions laid out the same way (as float64). All episodes
-    share one ``dt``.
+    ``ys`` (A, N) the agents' positions laid out the same way (as float64). ``rows`` is
+    (starts, lengths, floor) of the episodes as :func:`observe.segment_starts` gives them;
+    ``count`` (L, N) the number of agents covering each landmark, needed for every landmark
+    an episode without success targets (for all of them when one such is misaligned). All
+    episodes share one ``dt``.
     """
+    starts, lengths, floor = rows
     n_ep = len(episodes)
     out: list[Diagnosis | None] = [None] * n_ep
     todo = [e for e in range(n_ep) if not success[e] and goals[e] is not None]
     if not todo:
         return out
     n_rows, n_agents, n_lm = cover.shape
-    # landmark-major rows (L, A, N): a contiguous view when cover came from coverage_planes
-    planes = cover.transpose(2, 1, 0)
-    lengths = np.array([ep.steps for ep in episodes], dtype=np.int64)
     ends = starts + lengths
     last = ends - 1
-    floor = np.repeat(starts - 1, lengths)
     idx = np.arange(n_rows)
     tmask = np.zeros((n_ep, n_lm), dtype=bool)
     by_goal: dict[tuple[int, ...], list[int]] = {}
     for e in todo:
         by_goal.setdefault(goals[e] or (), []).append(e)
-    for goal, rows in by_goal.items():  # one assignment per distinct goal
-        tmask[np.ix_(rows, goal)] = True
+    for goal, members in by_goal.items():  # one assignment per distinct goal
+        tmask[np.ix_(members, goal)] = True
     # every result below is reduced per episode and read only for the episodes in todo, so
     # when those share one goal its mask can stand for every row
     uniform = bool((tmask[todo] == tmask[todo[0]]).all())
@@ -198,11 +199,6 @@ def diagnose_block(
         """Rows whose episode targets landmark k; None: all of them (uniform goals)."""
         return None if uniform else np.repeat(tmask[:, k], lengths)
 
-    count = np.zeros((n_lm, n_rows), dtype=np.uint8 if n_agents < 256 else np.int64)
-    for k in range(n_lm):
-        if used[k] or misaligned:
-            for a in range(n_agents):
-                count[k] += planes[k, a]
     covered: np.ndarray = np.asarray(count > 0)  # (L, N)
     if misaligned:  # first step a landmark outside the goal is hit
         off = np.zeros(n_rows, dtype=bool)

@@ -138,3 +138,38 @@ def test_remembered_goal_never_excuses_a_bad_one(tmp_path: Path) -> None:
     tape.episode(0)
     with pytest.raises(TapeError, match=r"episode 1\.team_goal: shape\[0\] must be a whole"):
         tape.episode(1)
+
+
+def test_damage_found_in_one_pass_names_the_same_record(tmp_path: Path) -> None:
+    # reference: CRC-32 as zlib computes it (check value of b"123456789" is 0xCBF43926,
+    # [memory]); one pass over a span of episodes finds what one check per episode finds
+    import zlib
+
+    from arena_studio.core.tape.format import first_bad_in_ranges, first_bad_record
+
+    assert zlib.crc32(b"123456789") == 0xCBF43926
+    path = tmp_path / "d.tape"
+    with TapeWriter(path, SCENE, dt=0.1) as w:
+        for _ in range(4):
+            w.begin_episode()
+            w.steps(np.zeros((3, 2, 3)))
+            w.end_episode()
+    tape = open_tape(path)
+    entries = tape._entries
+    clean = bytearray(path.read_bytes())
+    lo, hi = entries[0].begin, entries[-1].end
+    ranges = [(e.begin - lo, e.end - lo) for e in entries]
+    hits = 0
+    for where in range(lo, hi, 7):
+        data = bytearray(clean)
+        data[where] ^= 0x10
+        span = memoryview(bytes(data[lo:hi]))
+        expect = None
+        for k, (a, b) in enumerate(ranges):
+            bad = first_bad_record(span[a:b])
+            if bad is not None:
+                expect = (k, a + bad)
+                break
+        hits += expect is not None
+        assert first_bad_in_ranges(span, ranges) == expect, where
+    assert hits > 10

@@ -222,6 +222,26 @@ def first_bad_record(buf: memoryview) -> int | None:
     return None
 
 
+def first_bad_in_ranges(buf: memoryview, ranges: list[tuple[int, int]]) -> tuple[int, int] | None:
+    """``first_bad_record`` over each ``buf[lo:hi]`` of ``ranges`` in turn, in one call:
+    (index of the first range holding a damaged record, that record's offset in ``buf``), or
+    None. Records are walked within each range only, exactly as one call per range would."""
+    head, tail = FRAME_HEAD.unpack_from, FRAME_CRC.unpack_from
+    crc32 = zlib.crc32
+    head_size, overhead, crc_size = FRAME_HEAD.size, FRAME_OVERHEAD, FRAME_CRC.size
+    for k, (lo, hi) in enumerate(ranges):
+        pos = lo
+        while pos + head_size <= hi:
+            length, _ = head(buf, pos)
+            end = pos + overhead + length
+            if length > MAX_RECORD or end > hi:
+                break
+            if crc32(buf[pos + 4 : end - crc_size]) != tail(buf, end - crc_size)[0]:
+                return k, pos
+            pos = end
+    return None
+
+
 def start_crc_checks(buf: memoryview, inline: bool = False) -> list[Any]:
     """Check every complete record of ``buf`` on worker threads; see finish_crc_checks.
 

@@ -46,7 +46,7 @@ from .format import (
     TapeError,
     decode_array,
     finish_crc_checks,
-    first_bad_record,
+    first_bad_in_ranges,
     read_frame,
     start_crc_checks,
     unpack,
@@ -173,15 +173,14 @@ class Tape:
         lo = entries[0].begin
         span = self._read_span(lo, entries[-1].end, f"episodes {start}..{stop - 1}")
         if verify:
-            for k, e in enumerate(entries):
-                view = span[e.begin - lo : e.end - lo]
-                bad = first_bad_record(view)
-                if bad is not None:
-                    raise TapeError(
-                        self._src,
-                        f"episode {start + k} byte {e.begin + bad}",
-                        "record checksum mismatch (damaged bytes)",
-                    )
+            found = first_bad_in_ranges(span, [(e.begin - lo, e.end - lo) for e in entries])
+            if found is not None:
+                k, bad = found
+                raise TapeError(
+                    self._src,
+                    f"episode {start + k} byte {lo + bad}",
+                    "record checksum mismatch (damaged bytes)",
+                )
         return EpisodeSpan(start, entries, span)
 
     def decode_span(self, span: EpisodeSpan, *, copy: bool = True) -> list[Episode]:
