@@ -405,14 +405,14 @@ def _contact_onsets(
     pad = (reach * (1 + 1e-6)).tolist()
     reach2 = (reach * reach).tolist()
     gap = np.empty(n)
-    size = np.empty(n)
     near = np.empty(n, dtype=bool)
+    part = np.empty(n, dtype=bool)
     pair_parts: list[np.ndarray] = []
     row_parts: list[np.ndarray] = []
     for k, (i, j) in enumerate(zip(pi_.tolist(), pj_.tolist(), strict=True)):
         np.subtract(xa[i], xa[j], out=gap)
-        np.abs(gap, out=size)
-        np.less(size, pad[k], out=near)
+        np.less(gap, pad[k], out=near)  # -pad < dx < pad, i.e. |dx| < pad
+        near &= np.greater(gap, -pad[k], out=part)
         c = np.flatnonzero(near)
         if c.size:
             cx = gap[c]
