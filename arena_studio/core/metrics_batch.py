@@ -10,8 +10,9 @@ start). Path lengths are running sums over each episode's slice, as in the per-e
 so the two agree exactly (tests/core/test_metrics.py checks every field; the diagnoses come
 from :func:`diagnosis.diagnose_block`, the batched twin of ``diagnose``).
 
-``tape_metrics(tape)`` reads a tape in blocks of whole episodes (one file read per block,
-array bytes not copied) and is what ``arena-studio stats`` uses.
+``tape_metrics(tape)`` reads a tape in blocks of whole episodes (one file read per block;
+chunks of 64 KiB and more are decoded as views into it, smaller ones are copied)
+and is what ``arena-studio stats`` uses.
 """
 
 from __future__ import annotations
