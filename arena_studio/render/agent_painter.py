@@ -17,7 +17,7 @@ import numpy as np
 from PySide6.QtCore import QPoint, QPointF, Qt
 from PySide6.QtGui import QColor, QImage, QPainter, QPen, QStaticText, QTransform
 
-from .drawing import font
+from .drawing import cached_pen, font
 from .episode_cache import EpisodeCache
 from .fastpath import segments_path
 from .options import FrameOptions
@@ -137,19 +137,13 @@ def _paint_small_team(
     return True
 
 
-_TICK_PENS: dict[tuple[int, float], QPen] = {}
-
-
 def _tick_pen(color: QColor, width: float) -> QPen:
-    key = (color.rgba(), width)
-    pen = _TICK_PENS.get(key)
-    if pen is None:
-        if len(_TICK_PENS) > 256:
-            _TICK_PENS.clear()
+    def make() -> QPen:
         pen = QPen(color, width)
         pen.setCapStyle(Qt.PenCapStyle.FlatCap)
-        _TICK_PENS[key] = pen
-    return pen
+        return pen
+
+    return cached_pen(("tick", color.rgba(), width), make)
 
 
 def paint_body(

@@ -6,9 +6,11 @@ Kept apart so the scene painter and the episode painter draw text and outlines t
 
 from __future__ import annotations
 
+from collections.abc import Callable
+
 import numpy as np
 from PySide6.QtCore import QPointF, QRectF, Qt
-from PySide6.QtGui import QColor, QFont, QFontMetricsF, QPainter, QPainterPath, QPolygonF
+from PySide6.QtGui import QColor, QFont, QFontMetricsF, QPainter, QPainterPath, QPen, QPolygonF
 from shapely.geometry import MultiPolygon, Polygon
 from shapely.geometry.base import BaseGeometry
 
@@ -24,6 +26,22 @@ def font(pixel_size: float, bold: bool = False) -> QFont:
     f.setBold(bold)
     f.setHintingPreference(QFont.HintingPreference.PreferNoHinting)
     return f
+
+
+_PENS: dict[tuple, QPen] = {}
+
+
+def cached_pen(key: tuple, make: Callable[[], QPen]) -> QPen:
+    """The pen ``make()`` builds, built once per ``key`` (start keys with the caller's name).
+
+    A frame sets dozens of pens, and a QPen with a parsed theme colour costs a few
+    microseconds to build, which a 2-agent frame's budget notices."""
+    pen = _PENS.get(key)
+    if pen is None:
+        if len(_PENS) > 4096:
+            _PENS.clear()
+        pen = _PENS[key] = make()
+    return pen
 
 
 def polygon_f(points: np.ndarray) -> QPolygonF:

@@ -35,7 +35,7 @@ from PySide6.QtGui import (
 from ..core.episode import Episode
 from ..core.scene import Scene
 from .agent_painter import paint_agents, prefill_sprites
-from .drawing import font, label
+from .drawing import cached_pen, font, label
 from .episode_cache import EpisodeCache, episode_cache
 from .fastpath import (
     grouped_rows_paths,
@@ -333,22 +333,17 @@ def paint_trails(
             painter.drawPath(path)
 
 
-_HAIRLINE_PENS: dict[tuple[str, int, int, int], QPen] = {}
-
-
 def _hairline_pen(theme: Theme, group: int, band: int, bands: int) -> QPen:
     """A crowd's 1-pixel trail pen of one colour group and fade band (older = fainter)."""
-    key = (theme.name, group, band, bands)
-    pen = _HAIRLINE_PENS.get(key)
-    if pen is None:
-        if len(_HAIRLINE_PENS) > 1024:
-            _HAIRLINE_PENS.clear()
+
+    def make() -> QPen:
         pen = QPen(theme.agent_color(group, alpha=0.15 + 0.6 * (band + 1) / bands), 1.0)
         pen.setCosmetic(True)
         pen.setCapStyle(Qt.PenCapStyle.RoundCap)
         pen.setJoinStyle(Qt.PenJoinStyle.BevelJoin)
-        _HAIRLINE_PENS[key] = pen
-    return pen
+        return pen
+
+    return cached_pen(("hairline", theme.name, group, band, bands), make)
 
 
 def _trail_window(
@@ -434,24 +429,19 @@ def paint_pursued(
             painter.drawLine(QPointF(x0, y0), QPointF(x1, y1))  # dashes cut it up already
 
 
-_PURSUED_PENS: dict[tuple[str, int, bool, float], QPen] = {}
-
-
 def _pursued_pen(theme: Theme, agent: int, on_team: bool, ui: float) -> QPen:
     """Faint thin solid for a target on the team goal, strong dashed for one off it."""
-    key = (theme.name, agent, on_team, ui)
-    pen = _PURSUED_PENS.get(key)
-    if pen is None:
-        if len(_PURSUED_PENS) > 1024:
-            _PURSUED_PENS.clear()
+
+    def make() -> QPen:
         if on_team:
             pen = QPen(theme.agent_color(agent, alpha=0.45), 1.0 * ui)
             pen.setCapStyle(Qt.PenCapStyle.FlatCap)
         else:
             pen = QPen(theme.agent_color(agent, alpha=0.95), 2.0 * ui)
             pen.setStyle(Qt.PenStyle.DashLine)
-        _PURSUED_PENS[key] = pen
-    return pen
+        return pen
+
+    return cached_pen(("pursued", theme.name, agent, on_team, ui), make)
 
 
 def paint_collisions(

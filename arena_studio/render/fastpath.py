@@ -171,62 +171,6 @@ def grouped_rows_paths(
 #: several times slower per point than short pieces (measured here, 1.6 px pen: a 22 px
 #: piece ~3 us, a 48 px piece ~16 us, a whole 200-step trail ~500 us)
 WIDE_PIECE_PX = 24.0
-WIDE_CHUNK_POINTS = 12  # default piece length in points
-
-
-def chunked_rows_paths(
-    world: np.ndarray,
-    scale: float,
-    offset_x: float,
-    offset_y: float,
-    chunk: int = WIDE_CHUNK_POINTS,
-) -> tuple[list[QPainterPath], np.ndarray]:
-    """Each row of ``world`` ((R, N, 2) metres) as short polylines of ``chunk`` points that
-    share their end points, all parsed from one stream: the fast way to stroke wide trails.
-
-    Returns the pieces and, for each, the index (along N) of its first point.
-    """
-    rows, n = world.shape[:2]
-    if rows == 0 or n < 2:
-        return [], np.zeros(0, dtype=np.int64)
-    if not np.isfinite(world.sum()) or chunk < 2:
-        return [rows_path(world, scale, offset_x, offset_y)], np.zeros(1, dtype=np.int64)
-    hop = chunk - 1
-    m = -(-(n - 1) // hop)  # chunks per row
-    last_len = n - (m - 1) * hop
-    starts = np.concatenate(
-        [np.tile(np.arange(m - 1) * hop, rows), np.full(rows, (m - 1) * hop)]
-    ).astype(np.int64)
-    blobs = []
-    for count, index in (
-        (chunk, (np.arange(m - 1) * hop)[:, None] + np.arange(chunk)),
-        (last_len, ((m - 1) * hop + np.arange(last_len))[None, :]),
-    ):
-        if index.shape[0] == 0:
-            continue
-        record = np.dtype([("n", "=i4"), ("el", _NATIVE, (count,)), ("tail", "=i4", (2,))])
-        recs = np.empty((rows, index.shape[0]), dtype=record)
-        recs["n"] = count
-        recs["tail"] = 0  # subpath start 0, odd-even fill
-        pts = world[:, index]  # (R, chunks, count, 2)
-        el = recs["el"]
-        el["type"] = _LINE_TO
-        el["type"][..., 0] = _MOVE_TO
-        el["x"] = offset_x + scale * pts[..., 0]
-        el["y"] = offset_y - scale * pts[..., 1]
-        blobs.append(recs.tobytes())
-    data = QByteArray(b"".join(blobs))
-    stream = QDataStream(data, QIODevice.OpenModeFlag.ReadOnly)
-    stream.setByteOrder(_NATIVE_ORDER)
-    paths = []
-    for _ in range(rows * m):
-        path = QPainterPath()
-        stream >> path
-        paths.append(path)
-    del stream
-    return paths, starts
-
-
 #: a 1-pixel antialiased line steeper than 45 degrees is drawn as pieces at most this tall
 HAIRLINE_PIECE_PX = 32.0
 

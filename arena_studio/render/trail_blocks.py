@@ -27,6 +27,7 @@ import numpy as np
 from PySide6.QtCore import QPoint, QRect, Qt
 from PySide6.QtGui import QImage, QPainter, QPainterPath, QPen
 
+from .drawing import cached_pen
 from .episode_cache import EpisodeCache
 from .fastpath import WIDE_PIECE_PX
 from .theme import Theme
@@ -112,23 +113,18 @@ def _store(cache: EpisodeCache, key: tuple) -> _Store:
     return store
 
 
-_PENS: dict[tuple, QPen] = {}
-
-
 def trail_pen(theme: Theme, color_index: int, alpha: float, width: float) -> QPen:
     """Flat caps so neighbouring pieces abut without blending twice; bevel joins (~25 %
-    cheaper than round ones). Opacity in 1/256 steps, as Qt stores it."""
+    cheaper than round ones). Opacity in 1/255 steps, as Qt stores it."""
     level = round(alpha * 255)
-    key = (theme.name, color_index, level, width)
-    pen = _PENS.get(key)
-    if pen is None:
-        if len(_PENS) > 2048:
-            _PENS.clear()
+
+    def make() -> QPen:
         pen = QPen(theme.agent_color(color_index, alpha=level / 255), width)
         pen.setCapStyle(Qt.PenCapStyle.FlatCap)
         pen.setJoinStyle(Qt.PenJoinStyle.BevelJoin)
-        _PENS[key] = pen
-    return pen
+        return pen
+
+    return cached_pen(("trail", theme.name, color_index, level, width), make)
 
 
 def paint_wide_trails(

@@ -13,7 +13,7 @@ from PySide6.QtGui import QImage, QPainter, QPainterPath
 from PySide6.QtSvg import QSvgGenerator
 
 from arena_studio.render.episode_painter import blits_exactly
-from arena_studio.render.fastpath import chunked_rows_paths, rows_path
+from arena_studio.render.fastpath import rows_path
 
 
 def _elements(path: QPainterPath) -> list[tuple[int, float, float]]:
@@ -78,29 +78,6 @@ def test_sprites_only_where_a_blit_lands_exactly(qapp, kind):
     finally:
         painter.end()
         buffer.close()
-
-
-@pytest.mark.parametrize(("points", "chunk"), [(23, 5), (12, 12), (13, 12), (2, 6)])
-def test_chunked_pieces_cover_each_row_and_share_their_end_points(qapp, points, chunk):
-    # Reference: the same rows built point by point by Qt; pieces in order, each starting
-    # where the previous one ended, must give back exactly those points.
-    rng = np.random.default_rng(points)
-    world = rng.uniform(0, 20, (3, points, 2))
-    pieces, starts = chunked_rows_paths(world, 25.0, 3.0, 500.0, chunk)
-    want = _elements(_qt_path(world, 25.0, 3.0, 500.0))
-    rows = [want[r * points : (r + 1) * points] for r in range(3)]
-    per_row = len(pieces) // 3
-    full = per_row - 1
-    for r in range(3):
-        mine = [pieces[r * full + j] for j in range(full)] + [pieces[3 * full + r]]
-        got: list[tuple[int, float, float]] = []
-        for k, piece in enumerate(mine):
-            els = _elements(piece)
-            assert els[0][0] == 0 and all(e[0] == 1 for e in els[1:])  # one polyline each
-            assert len(els) <= chunk
-            got += els if k == 0 else els[1:]  # shared end point drawn once
-        assert [(x, y) for _t, x, y in got] == [(x, y) for _t, x, y in rows[r]]
-    assert len(starts) == len(pieces) and starts.max() < points - 1
 
 
 def test_line_pieces_cover_the_line_end_to_end() -> None:
