@@ -10,6 +10,11 @@ reaches past the geometry's bounds and so is never covered: the point is either 
 disjoint cell (and, being beyond the bounds, outside) or asked of GEOS. The answers are
 therefore the same as ``shapely.intersects_xy(geometry, x, y)`` point for point
 (tests/core/test_tape_bulk.py checks them against GEOS near every boundary).
+
+A geometry that *is* an axis-aligned rectangle (GEOS finds it topologically equal to the box of
+its bounds; an empty room, a room's free space shrunk by an agent's radius) needs no grid: its
+points are exactly those of the closed box, so four comparisons answer every point, and a
+number that is not finite fails them as it fails GEOS (tests/core/test_inside_test_box.py).
 """
 
 from __future__ import annotations
@@ -48,6 +53,8 @@ class InsideTest:
         self._flat = np.zeros(0, dtype=np.uint8)
         #: (x0, y0, x1, y1) of a closed box GEOS says the geometry covers, or None
         self._box: tuple[float, float, float, float] | None = None
+        #: True when the geometry is exactly that closed box (no grid is built then)
+        self._exact_box = False
         #: sub-cell classes of the mixed cells, and each cell's slot among them (-1: none)
         self._sub = np.zeros(0, dtype=np.uint8)
         self._slot = np.zeros(0, dtype=np.intp)
@@ -60,6 +67,12 @@ class InsideTest:
             self._grid = (0.0, 0.0, 1.0, 1.0, 1, 1)
             return
         minx, miny, maxx, maxy = geom.bounds
+        if geom.geom_type == "Polygon" and shapely.equals(geom, shapely.box(*geom.bounds)):
+            # the same point set as the closed box of its bounds: comparisons decide exactly
+            self._box = (minx, miny, maxx, maxy)
+            self._exact_box = True
+            self._table = np.zeros((1, 1), dtype=np.uint8)
+            return
         minx, miny = minx - 2 * CELL_MARGIN, miny - 2 * CELL_MARGIN
         maxx, maxy = maxx + 2 * CELL_MARGIN, maxy + 2 * CELL_MARGIN
         nx = int(min(MAX_CELLS, max(1, np.ceil((maxx - minx) / 0.1))))
@@ -120,9 +133,43 @@ class InsideTest:
         if self._table is None:
             self._build()
         if self._box is None or xs.shape != ys.shape:
+            if self._exact_box:
+                return self._in_box(*np.broadcast_arrays(xs, ys))
             return self._grid_contains(xs, ys)
         # most centres lie in the covered box: four comparisons settle them, and only the rest
         # go through the grid (a point in the closed box is covered, so it intersects)
+        inside = self._in_box(xs, ys)
+        if self._exact_box:
+            return inside
+        rest = np.flatnonzero(~inside)
+        if rest.size:
+            flat = inside.reshape(-1)  # a view: inside is a new contiguous array
+            flat[rest] = self._grid_contains(xs.reshape(-1)[rest], ys.reshape(-1)[rest])
+        return inside
+
+    def outside_flat(self, x: Any, y: Any) -> np.ndarray:
+        """Ascending flat (C-order) indices of the points ``contains_xy`` answers False for,
+        ``np.flatnonzero(~contains_xy(x, y))`` without the full answer array: only the points
+        outside the covered box are looked at again. ``x`` and ``y`` have one shape."""
+        xs = np.asarray(x, dtype=np.float64)
+        ys = np.asarray(y, dtype=np.float64)
+        if xs.shape != ys.shape:
+            raise ValueError(f"x and y differ in shape: {xs.shape} and {ys.shape}")
+        if xs.size >= MIN_POINTS and self._table is None:
+            self._build()
+        if xs.size < MIN_POINTS or self._box is None:
+            return np.flatnonzero(~self.contains_xy(xs, ys))
+        inside = self._in_box(xs, ys)
+        np.logical_not(inside, out=inside)
+        rest = np.flatnonzero(inside)
+        if self._exact_box or not rest.size:
+            return rest
+        found = self._grid_contains(xs.reshape(-1)[rest], ys.reshape(-1)[rest])
+        return rest[~found]
+
+    def _in_box(self, xs: np.ndarray, ys: np.ndarray) -> np.ndarray:
+        """Points in the closed box ``_box`` (False for NaN: every comparison fails)."""
+        assert self._box is not None
         x0, y0, x1, y1 = self._box
         inside = np.greater_equal(xs, x0)
         part = np.less_equal(xs, x1)
@@ -131,11 +178,6 @@ class InsideTest:
         inside &= part
         np.less_equal(ys, y1, out=part)
         inside &= part
-        np.logical_not(inside, out=part)
-        rest = np.flatnonzero(part)
-        if rest.size:
-            flat = inside.reshape(-1)  # a view: inside is a new contiguous array
-            flat[rest] = self._grid_contains(xs.reshape(-1)[rest], ys.reshape(-1)[rest])
         return inside
 
     def _grid_contains(self, xs: np.ndarray, ys: np.ndarray) -> np.ndarray:

@@ -451,11 +451,10 @@ def _exit_counts(
     for radius, agents in by_radius.items():
         test = _prepared_free_space(scene, radius)
         if len(agents) == n_agents:
-            inside = test.contains_xy(xa, ya)
+            gx, gy = xa, ya
         else:
-            inside = test.contains_xy(xa[agents], ya[agents])
-        np.logical_not(inside, out=inside)
-        k, r = _nonzero_2d(inside)
+            gx, gy = xa[agents], ya[agents]
+        k, r = np.divmod(test.outside_flat(gx, gy), gx.shape[1])  # as _nonzero_2d(~inside)
         aa_parts.append(np.asarray(agents, dtype=np.intp)[k])
         rr_parts.append(r)
     aa = np.concatenate(aa_parts)
