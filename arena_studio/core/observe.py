@@ -261,14 +261,20 @@ def coverage_planes_sparse(scene: Scene, x: Any, y: Any, only: Any = None) -> np
         lx, ly, r = float(lm_pos[k, 0]), float(lm_pos[k, 1]), float(reach[k])
         pad_x = r * 1e-6 + abs(lx) * 1e-12
         pad_y = r * 1e-6 + abs(ly) * 1e-12
+        # the x band first over every point, then the y band over the few in it: the same
+        # points as all four comparisons at once, in the same (ascending) order
         np.greater_equal(fx, lx - r - pad_x, out=near)
         near &= np.less_equal(fx, lx + r + pad_x, out=part)
-        near &= np.greater_equal(fy, ly - r - pad_y, out=part)
-        near &= np.less_equal(fy, ly + r + pad_y, out=part)
         where = np.flatnonzero(near)
         if not where.size:
             continue
-        cx, cy = fx[where], fy[where]
+        cy = fy[where]
+        in_y = cy >= ly - r - pad_y
+        in_y &= cy <= ly + r + pad_y
+        where, cy = where[in_y], cy[in_y]
+        if not where.size:
+            continue
+        cx = fx[where]
         r2 = reach[k] * reach[k]
         d2 = np.subtract(lx, cx)
         d2 *= d2
