@@ -123,6 +123,25 @@ def test_two_landmarks_side_by_side() -> None:
     assert places[0].candidate != 0
 
 
+def test_a_covered_box_counts_as_off_the_frame() -> None:
+    # a viewer's legend drawn over the top right: the label moves out from under it, and when
+    # no clear place is left it still prefers crossing a wall to hiding under the legend
+    room = [(0.0, 0.0), (10.0, 0.0), (10.0, 10.0), (0.0, 10.0)]
+    lm = _free(0, 8.0, 8.0, "gauge")
+    scene = _scene([room], [lm])
+    legend = (8.05, 7.0, 12.0, 12.0)  # covers the usual place, right of the mark
+    usual = candidates(lm, (0.0, 1.0), (1.0, 0.3), MARK, GAP)[0]
+    assert box(*usual.box).relate_pattern(box(*legend), INTERIORS_MEET)
+    (place,) = place_labels(scene, [(1.0, 0.3)], MARK, GAP, covered=[legend])
+    assert place.clear and not _geom(place).relate_pattern(box(*legend), INTERIORS_MEET)
+    _assert_readable(scene, (place,))
+    # only walls or the legend left: a tiny room around the mark, legend over its right half
+    tight = _scene([[(7.6, 7.8), (8.4, 7.8), (8.4, 8.2), (7.6, 8.2)]], [lm])
+    (forced,) = place_labels(tight, [(1.0, 0.3)], MARK, GAP, covered=[legend])
+    assert not forced.clear
+    assert not _geom(forced).relate_pattern(box(*legend), INTERIORS_MEET)
+
+
 def test_landmark_on_a_wall_labels_into_the_room() -> None:
     room = [(0.0, 0.0), (10.0, 0.0), (10.0, 10.0), (0.0, 10.0)]
     west = Landmark("w", "west sign", (0.0, 5.0), 0.3, "wall")

@@ -248,13 +248,15 @@ def place_labels(
     clearance: float = 0.0,
     frame: Box | None = None,
     avoid: Sequence[Box] = (),
+    covered: Sequence[Box] = (),
 ) -> tuple[LabelPlacement, ...]:
     """Place every landmark's label (one per landmark, in scene order).
 
     ``sizes[i]`` is landmark i's label box (width, height) in metres, padding included.
     ``clearance`` keeps boxes that far from wall lines (half a drawn wall's width);
     ``frame`` is the visible world box (labels leaving it count as colliding); ``avoid``
-    are further boxes to keep clear of (start marks, other text).
+    are further boxes to keep clear of (start marks, other text); ``covered`` are parts of
+    the frame drawn over later (a viewer's legend), where a label counts as off the frame.
     """
     landmarks = scene.landmarks
     if len(sizes) != len(landmarks):
@@ -281,7 +283,9 @@ def place_labels(
     seen_in, seen_out = walls.in_sight(
         flat, np.repeat(starts, per, axis=0), np.repeat(pos - step * nrm, per, axis=0)
     )
-    off_frame = _outside_frame(flat, frame) > 1e-12
+    # area under boxes drawn over the labels, (L, C): as unreadable as off the frame
+    under = _overlap(boxes, np.asarray(covered, dtype=np.float64).reshape(-1, 4)).sum(axis=2)
+    off_frame = (_outside_frame(flat, frame) + under.reshape(-1)) > 1e-12
     inside = (inside & seen_in & ~off_frame).reshape(-1, per)
     outside = (outside & seen_out & ~off_frame).reshape(-1, per) & on_wall[:, None]
     hidden = ~(seen_in | seen_out).reshape(-1, per)
@@ -321,7 +325,7 @@ def place_labels(
             cost = (
                 walls.crossing_area(boxes[i])
                 + walls.foreign_area(boxes[i], (float(starts[i, 0]), float(starts[i, 1])))
-                + 3.0 * _outside_frame(boxes[i], frame)  # cut off by the edge: unreadable
+                + 3.0 * (_outside_frame(boxes[i], frame) + under[i])  # cut off: unreadable
                 + fixed_cost[i]
                 + 2.0 * label_cost  # text over text is the worst to read
                 + hidden[i] * areas[i]  # a wall between label and mark: as bad as covered
