@@ -41,6 +41,8 @@ class SceneOptions:
     starts: bool = True
     fill_background: bool = True
     ui_scale: float = 1.0
+    #: pixel rectangles (x0, y0, x1, y1) no landmark label may cover, e.g. a viewer's legend
+    label_keep_out: tuple[tuple[float, float, float, float], ...] = ()
 
 
 def paint_scene(
@@ -267,7 +269,9 @@ def paint_landmarks(
         painter.setBrush(QBrush(theme.qcolor(role)))
         painter.drawPath(landmark_glyph(view, lm, normal, glyph))
     if opts.landmark_labels:
-        paint_landmark_labels(painter, scene, view, theme, opts.ui_scale, size, opts.starts)
+        paint_landmark_labels(
+            painter, scene, view, theme, opts.ui_scale, size, opts.starts, opts.label_keep_out
+        )
 
 
 def paint_landmark_labels(
@@ -278,15 +282,17 @@ def paint_landmark_labels(
     ui_scale: float = 1.0,
     size: tuple[float, float] | None = None,
     starts: bool = False,
+    keep_out: tuple[tuple[float, float, float, float], ...] = (),
 ) -> None:
     """Labels beside their glyphs, placed clear of walls, obstacles, other glyphs and each
-    other (core.export.label_place); with ``size`` they also stay inside the image, and with
-    ``starts`` clear of the start arrows."""
+    other (core.export.label_place); with ``size`` they also stay inside the image, with
+    ``starts`` clear of the start arrows, and clear of the ``keep_out`` pixel rectangles."""
     qfont = font(12 * ui_scale)
     backdrop = theme.qcolor("room_fill", alpha=0.8)
     color = theme.qcolor("landmark_text")
     texts = [lm.label or lm.id for lm in scene.landmarks]
-    for place, text in zip(label_places(scene, view, ui_scale, size, starts), texts, strict=True):
+    places = label_places(scene, view, ui_scale, size, starts, keep_out)
+    for place, text in zip(places, texts, strict=True):
         x0, y0, x1, y1 = place.box
         top_left, bottom_right = view.to_px(x0, y1), view.to_px(x1, y0)
         mid_y = (top_left.y() + bottom_right.y()) / 2
@@ -310,8 +316,10 @@ def label_places(
     ui_scale: float = 1.0,
     size: tuple[float, float] | None = None,
     starts: bool = False,
+    keep_out: tuple[tuple[float, float, float, float], ...] = (),
 ) -> tuple[LabelPlacement, ...]:
-    """Where each landmark's label box goes in world metres, text measured in our font."""
+    """Where each landmark's label box goes in world metres, text measured in our font;
+    ``keep_out``: pixel rectangles (x0, y0, x1, y1) to keep clear of."""
     metrics = QFontMetricsF(font(12 * ui_scale))
     px = 1.0 / view.scale  # metres per pixel
     sizes = [
@@ -328,6 +336,10 @@ def label_places(
     wall_half = max(2.0 * ui_scale, view.length_px(0.07)) / 2
     # a start's heading arrow: 14 px at least, else 2.2 agent radii long (paint_starts)
     avoid = start_marks(scene, 14.0 * ui_scale * px, 2.2) if starts else []
+    covered = []
+    for x0, y0, x1, y1 in keep_out:  # pixels (y down) -> world box (y up)
+        (wx0, wy1), (wx1, wy0) = view.to_world(x0, y0), view.to_world(x1, y1)
+        covered.append((wx0, wy0, wx1, wy1))
     return place_labels(
         scene,
         sizes,
@@ -336,6 +348,7 @@ def label_places(
         clearance=wall_half * px,
         frame=frame,
         avoid=avoid,
+        covered=covered,
     )
 
 

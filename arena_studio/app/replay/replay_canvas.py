@@ -10,6 +10,7 @@ diagnosis line once it has happened) are painted in screen pixels by the same re
 from __future__ import annotations
 
 import math
+from dataclasses import replace
 
 import numpy as np
 from PySide6.QtCore import QPointF, QRectF, Qt, Signal
@@ -141,6 +142,7 @@ class ReplayCanvas(SceneCanvas):
             self.resetCachedContent()
         self.prepared = prepared
         self.layer_episode.set_content(scene, None if prepared is None else prepared.episode)
+        self._keep_labels_off_the_legend()
         self.viewport().update()
 
     def set_ghost(self, episode: Episode | None) -> None:
@@ -169,6 +171,7 @@ class ReplayCanvas(SceneCanvas):
         )
         self.layer_episode.update()
         self.layer_ghost.update()
+        self._keep_labels_off_the_legend()  # the legend may have been switched on or off
 
     @property
     def options(self) -> FrameOptions:
@@ -227,6 +230,7 @@ class ReplayCanvas(SceneCanvas):
 
     def resizeEvent(self, event) -> None:
         super().resizeEvent(event)
+        self._keep_labels_off_the_legend()
         if self.auto_fit and self.viewport().width() > 50:
             self.fit_scene()
 
@@ -247,16 +251,37 @@ class ReplayCanvas(SceneCanvas):
             return
         painter.save()
         painter.resetTransform()
-        w, h = self.viewport().width(), self.viewport().height()
+        w = self.viewport().width()
         ui = 1.0
         if self.show_clock:
             self._clock.paint(painter, QRectF(0, 0, 320, 60), ep, self.step, self.theme, ui)
-        if self.show_legend and w > 520:
-            legend_h = min(h - 20.0, 150.0 + 20.0 * (ep.agent_count + 9))
-            painter.drawPixmap(int(w - LEGEND_W - 10), 10, self._legend_pixmap(ep, legend_h))
+        legend = self.legend_rect()
+        if legend is not None:
+            top_left = legend.topLeft().toPoint()
+            painter.drawPixmap(top_left, self._legend_pixmap(ep, legend.height()))
         if self.caption:
             self._paint_caption(painter, w)
         painter.restore()
+
+    def legend_rect(self) -> QRectF | None:
+        """Where the legend goes in the viewport (top right), or None when it is not shown."""
+        ep = self.layer_episode.episode
+        w, h = self.viewport().width(), self.viewport().height()
+        if ep is None or not self.show_legend or w <= 520:
+            return None
+        height = min(h - 20.0, 150.0 + 20.0 * (ep.agent_count + 9))
+        return QRectF(int(w - LEGEND_W - 10), 10, LEGEND_W, height)
+
+    def _keep_labels_off_the_legend(self) -> None:
+        """Landmark labels are placed clear of the legend: its rectangle goes to the scene
+        layer, whose cached background is redrawn when the rectangle changes."""
+        legend = self.legend_rect()
+        keep = () if legend is None else ((legend.left() - 4, 0.0, legend.right() + 10,
+                                           legend.bottom() + 4),)  # fmt: skip
+        if keep != self.layer.options.label_keep_out:
+            self.layer.options = replace(self.layer.options, label_keep_out=keep)
+            self.resetCachedContent()
+            self.viewport().update()
 
     def _legend_pixmap(self, ep: Episode, height: float) -> QPixmap:
         """The legend does not change with the step: paint it once per episode/theme/size."""
