@@ -173,3 +173,51 @@ def test_damage_found_in_one_pass_names_the_same_record(tmp_path: Path) -> None:
         hits += expect is not None
         assert first_bad_in_ranges(span, ranges) == expect, where
     assert hits > 10
+
+
+def test_unchecked_reads_name_the_broken_frame_like_the_layout_says(tmp_path: Path) -> None:
+    # reference: the frame layout documented in format.py / DEVELOPERS.md ("u32 LE payload
+    # length | u8 kind | payload | u32 LE CRC-32"), walked here with the standard library's
+    # struct; an unchecked read (verify=False) cuts frames itself, and must name the first
+    # frame that walk finds cut or of an unknown kind, at the same byte
+    import re
+    import struct
+
+    path = tmp_path / "u.tape"
+    with TapeWriter(path, SCENE, dt=0.1) as w:
+        for _ in range(2):
+            w.begin_episode()
+            w.steps(np.zeros((3, 2, 3)))
+            w.end_episode()
+    clean = path.read_bytes()
+    entry = open_tape(path)._entries[1]
+    named = 0
+    for at in range(entry.begin, entry.end):
+        for value in (0x00, 0x7F, 0xFF):
+            data = bytearray(clean)
+            data[at] = value
+            path.write_bytes(bytes(data))
+            tape = open_tape(path)
+            if tape.truncated:  # the damage reached the index: another path reads it
+                continue
+            pos, broken = entry.begin, None
+            while pos < entry.end:
+                if pos + 5 > entry.end:
+                    broken = pos
+                    break
+                length, kind = struct.unpack_from("<IB", data, pos)
+                if kind not in b"HBCEI" or pos + 9 + length > entry.end:
+                    broken = pos
+                    break
+                pos += 9 + length
+            try:
+                tape.episode(1, verify=False)
+            except TapeError as exc:
+                # a payload that no longer decodes may be met first; a frame named is this one
+                found = re.search(r"episode 1 byte (\d+):", str(exc))
+                if found is not None:
+                    assert int(found.group(1)) == broken, (at, value, str(exc))
+                    named += 1
+            else:
+                assert broken is None, (at, value)
+    assert named > 10
