@@ -148,3 +148,26 @@ def test_time_ran_out_names_agents_nearing_the_empty_target_only() -> None:
     _same([episode_metrics(scene, e) for e in episodes], got)
     assert got[0].diagnosis_code == "time-ran-out"
     assert got[0].diagnosis is not None and "while r1 still moved towards B" in got[0].diagnosis
+
+
+def test_batched_metrics_are_whole_frozen_dataclass_instances() -> None:
+    # reference: the standard library's dataclasses (fields, asdict, FrozenInstanceError) and
+    # the generated __init__: an object built by filling its dict must be indistinguishable
+    from arena_studio.core.metrics_batch import _METRIC_FIELDS
+
+    assert tuple(f.name for f in FIELDS) == _METRIC_FIELDS
+    scene = box_scene()
+    rng = np.random.default_rng(5)
+    episodes = [
+        Episode(index=i, dt=0.1, poses=rng.uniform(0, 4, (12, len(scene.agents), 3)))
+        for i in range(3)
+    ]
+    for got in episodes_metrics(scene, episodes):
+        assert type(got) is EpisodeMetrics
+        rebuilt = EpisodeMetrics(**{f.name: getattr(got, f.name) for f in FIELDS})
+        assert got == rebuilt
+        assert dataclasses.asdict(got) == dataclasses.asdict(rebuilt)
+        assert got.to_dict() == rebuilt.to_dict()
+        assert set(vars(got)) == set(_METRIC_FIELDS)
+        with pytest.raises(dataclasses.FrozenInstanceError):
+            got.steps = 0  # type: ignore[misc]
