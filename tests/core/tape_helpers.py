@@ -49,3 +49,18 @@ def write_small_tape(path: Path, scene: Scene, episodes: int = 3, steps: int = 5
             poses[:, :, 0] += np.arange(steps)[:, None]
             w.steps(poses, rewards=np.ones((steps, len(scene.agents))))
             w.end_episode({"e": e})
+
+
+def header_record(scene: Scene) -> dict:
+    """A valid tape header record for ``scene`` with two agents (r0, r1), for tests that
+    write tape records by hand."""
+    return {
+        "type": "header",
+        "format": "arena-studio.tape",
+        "version": 1,
+        "dt": 0.1,
+        "agent_ids": ["r0", "r1"],
+        "scene": scene.to_dict(),
+        "scene_hash": scene.content_hash(),
+        "metadata": {},
+    }

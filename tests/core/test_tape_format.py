@@ -15,7 +15,7 @@ from hypothesis import strategies as st
 from arena_studio.core.tape import TapeError, TapeWriter, open_tape
 from arena_studio.core.tape.format import MAGIC, frame, pack, unpack
 
-from .tape_helpers import box_scene, write_small_tape
+from .tape_helpers import box_scene, header_record, write_small_tape
 
 SCENE = box_scene()
 
@@ -178,16 +178,7 @@ def _tape_with_header(tmp_path: Path, header: dict) -> Path:
 
 
 def _good_header() -> dict:
-    return {
-        "type": "header",
-        "format": "arena-studio.tape",
-        "version": 1,
-        "dt": 0.1,
-        "agent_ids": ["r0", "r1"],
-        "scene": SCENE.to_dict(),
-        "scene_hash": SCENE.content_hash(),
-        "metadata": {},
-    }
+    return header_record(SCENE)
 
 
 def test_newer_version_and_foreign_format_refused(tmp_path: Path) -> None:

@@ -1,4 +1,4 @@
-"""The tape reader's quick paths (one chunk of poses, the finite check by sum, remembered goal
+"""The tape reader's quick paths (one chunk of poses, the finite-pose check, remembered goal
 vectors) refuse and accept exactly what the general path does, with the same messages."""
 
 from __future__ import annotations
@@ -11,29 +11,16 @@ import pytest
 from arena_studio.core.tape import TapeError, TapeWriter, open_tape
 from arena_studio.core.tape.format import MAGIC, frame, pack
 
-from .tape_helpers import box_scene
+from .tape_helpers import box_scene, header_record
 
 SCENE = box_scene()
 GOOD_GOAL = {"dtype": "|u1", "shape": [3], "data": bytes([1, 1, 0])}
 
 
-def _header() -> dict:
-    return {
-        "type": "header",
-        "format": "arena-studio.tape",
-        "version": 1,
-        "dt": 0.1,
-        "agent_ids": ["r0", "r1"],
-        "scene": SCENE.to_dict(),
-        "scene_hash": SCENE.content_hash(),
-        "metadata": {},
-    }
-
-
 def _tape(tmp_path: Path, episodes: list[tuple[dict, list[dict]]]) -> Path:
     """A tape without index (read by the recovery scan) from (begin fields, chunks) pairs."""
     path = tmp_path / "quick.tape"
-    data = MAGIC + frame(ord("H"), pack(_header()))
+    data = MAGIC + frame(ord("H"), pack(header_record(SCENE)))
     for i, (fields, chunks) in enumerate(episodes):
         begin = {"type": "begin", "episode": i, "roles": None, "messages": []}
         begin.update({"team_goal": None, "pursued_goals": None, **fields})
