@@ -2,7 +2,7 @@
 
 Expected values come from plane geometry worked by hand (perpendicular distance to a wall
 line, disc widths against doorway widths), from ``math.comb`` / ``itertools.combinations``
-for goal indices (REFERENCES.md, Combinatorics), and from networkx's Hopcroft-Karp matching
+for goal indices, and from networkx's Hopcroft-Karp matching
 as the reference for the team-assignment check.
 """
 

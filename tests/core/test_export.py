@@ -1,8 +1,8 @@
 """Exports checked with the libraries that read them.
 
 Sources: shapely/GEOS (OGC Simple Features WKT, 06-103r4) reloads the WKT; xml.etree parses
-the SVG (SVG 2 has no DTD: check the root in the SVG namespace and its viewBox, REFERENCES.md
-"Formats"); numpy.load with allow_pickle=False reads the npz and npy; Pillow opens the PNG;
+the SVG (SVG 2 has no DTD: check the root in the SVG namespace and its viewBox; W3C SVG 2
+recommendation); numpy.load with allow_pickle=False reads the npz and npy; Pillow opens the PNG;
 the scene loader reads the json/msgpack exports back.
 """
 

@@ -1,4 +1,4 @@
-"""core/ must stay importable by a simulator without Qt (DESIGN.md, layers)."""
+"""core/ must stay importable by a simulator without Qt (docs/architecture.md, layers)."""
 
 from __future__ import annotations
 

@@ -137,7 +137,8 @@ def test_default_time_limit_from_longest_par_time() -> None:
 
 
 def test_time_limit_below_par_time_never_succeeds() -> None:
-    # par time is a lower bound on the time to success (DESIGN.md), so a limit of 0.6x the
+    # par time is a lower bound on the time to success (its definition in the README),
+    # so a limit of 0.6x the
     # par time must end every episode in failure, at exactly that limit
     scene = load_scene(SCENES / "greenhouse.scene.json")
     sim = Rollout(scene)

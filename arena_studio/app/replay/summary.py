@@ -37,7 +37,7 @@ class EpisodeSummary:
 
 
 def goal_kind(goal: np.ndarray | None) -> str:
-    """One target: an individual goal; two or more: a cooperative goal (DESIGN.md terms)."""
+    """One target: an individual goal; two or more: a cooperative goal (glossary terms)."""
     n = len(goal_targets(goal))
     if n == 0:
         return ""

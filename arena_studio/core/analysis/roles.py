@@ -7,7 +7,7 @@ small ints (:data:`ROLE_NAMES` gives their words), computed for every step at on
 
 Definitions (per agent ``a`` and step ``t``; "team targets" are the landmarks of the episode's
 team goal, every landmark when the tape has none; "covers" means the agent's centre is within
-the landmark's reach radius, the definition in DESIGN.md, via ``observe.coverage``):
+the landmark's reach radius, the README's definition, via ``observe.coverage``):
 
 ``HOLDING``  (holding a target) covers at least one team target.
 ``OFF_GOAL`` (off the team goal) covers only landmarks outside the team goal, or is moving and

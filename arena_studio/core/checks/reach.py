@@ -1,6 +1,6 @@
 """Checks on agents and reachability: starts inside free space, every landmark reachable.
 
-Reach rule (DESIGN.md): a landmark counts as reached when an agent's centre is within its
+Reach rule (README glossary): a landmark counts as reached when an agent's centre is within its
 reach radius. An agent's centre lives in its *free space* (rooms minus obstacles, shrunk by
 the agent's radius), and it can only travel inside the connected part it starts in. So agent
 ``a`` can reach landmark ``l`` exactly when the closed reach disc of ``l`` meets a part of

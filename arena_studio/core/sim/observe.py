@@ -5,7 +5,7 @@ reach its goal": the replay viewer, the metrics and any simulator that imports t
 all call them, so they cannot disagree. Everything is vectorised with numpy over leading
 axes (time, batch); nothing loops over steps in Python.
 
-Conventions (DESIGN.md): metres, x right, y up, heading counter-clockwise from +x. The body
+Conventions (README): metres, x right, y up, heading counter-clockwise from +x. The body
 frame has x forward and y to the left, so a landmark on the agent's left has a positive
 bearing. Bearings are wrapped into the half-open interval (-pi, pi].
 
@@ -415,16 +415,6 @@ def goal_reached_batch(
     return np.asarray(~_any_last(~visited & rows_mask, -1))
 
 
-__all__ = [
-    "coverage",
-    "coverage_fast",
-    "coverage_planes",
-    "coverage_planes_sparse",
-    "goal_reached",
-    "goal_reached_batch",
-    "goal_reached_planes",
-    "hold_steps",
-    "observe",
-    "segment_starts",
-    "wrap_angle",
-]
+# The batched helpers above (``*_planes``, ``*_batch``, ``coverage_fast``, ``segment_starts``)
+# serve the analysis package's batched metrics and are not part of the simulator API.
+__all__ = ["coverage", "goal_reached", "hold_steps", "observe", "wrap_angle"]
