@@ -85,6 +85,36 @@ def snap_point(
     return Snap((float(p[0]), float(p[1])), "none")
 
 
+def grid_point_on_segment(
+    a: Point, b: Point, near: Point, step: float
+) -> Point | None:
+    """The point of segment ``a``-``b`` nearest to ``near`` whose x or y lies on the grid.
+
+    Wall-mounted landmarks stay on their wall line; this lets them land on round numbers
+    along it (on an axis-aligned wall, the coordinate that runs along the wall is snapped).
+    None when no such point lies within one grid step of ``near``.
+    """
+    if step <= 0 or not math.isfinite(step):
+        return None
+    best: Point | None = None
+    best_d = step
+    for axis in (0, 1):
+        span = b[axis] - a[axis]
+        if abs(span) < 1e-12:
+            continue
+        k0 = round(near[axis] / step)
+        for k in (k0 - 1, k0, k0 + 1):
+            t = (k * step - a[axis]) / span
+            if not 0.0 <= t <= 1.0:
+                continue
+            q = [a[0] + t * (b[0] - a[0]), a[1] + t * (b[1] - a[1])]
+            q[axis] = k * step  # exact grid value, no rounding error
+            d = math.dist(q, near)
+            if d <= best_d:
+                best, best_d = (q[0], q[1]), d
+    return best
+
+
 def nice_step(approx: float) -> float:
     """The 1-2-5 series value at or above ``approx`` (common practice for grids and rulers)."""
     if approx <= 0 or not math.isfinite(approx):

@@ -12,14 +12,15 @@ import math
 from dataclasses import dataclass, field
 from typing import Protocol
 
+import numpy as np
 from shapely.geometry import Polygon
 
-from arena_studio.core.geometry.regions import nearest_wall_point
+from arena_studio.core.geometry.regions import nearest_wall_point, segments_of, walkable_area
 from arena_studio.core.scene.model import Scene, Start
-from arena_studio.editing import edits as edits
+from arena_studio.editing import edits
 from arena_studio.editing.edits import ObjKey, Point
 from arena_studio.editing.hit import hit_edge, hit_object, hit_vertex, objects_in_rect
-from arena_studio.editing.snapping import Snap
+from arena_studio.editing.snapping import Snap, grid_point_on_segment, nearest_on_segments
 
 _drag_serial = itertools.count(1)
 HEADING_STEP = math.radians(15.0)
@@ -353,8 +354,27 @@ def landmark_placement(scene: Scene, ev: ToolEvent, host: ToolHost) -> tuple[Poi
     if not ev.bypass:
         wall, dist = nearest_wall_point(scene, ev.pos)
         if dist <= ev.tol:
-            return wall, "wall"
+            return _along_wall_on_grid(scene, wall, host), "wall"
     return host.snap(ev.pos, ev.bypass).point, "free"
+
+
+def _along_wall_on_grid(scene: Scene, wall: Point, host: ToolHost) -> Point:
+    """A wall point moved along its wall to the nearest grid value, when grid snapping is on."""
+    if host.snap(wall, False).kind == "none":  # snapping off (or no grid)
+        return wall
+    segs = segments_of(walkable_area(scene))
+    if len(segs) == 0:
+        return wall
+    p = np.asarray(wall, dtype=np.float64)
+    i = int(np.argmin([_segment_distance(s, p) for s in segs]))
+    (ax, ay), (bx, by) = segs[i]
+    on_grid = grid_point_on_segment((ax, ay), (bx, by), wall, host.grid_step())
+    return on_grid if on_grid is not None else wall
+
+
+def _segment_distance(seg: np.ndarray, p: np.ndarray) -> float:
+    _, d = nearest_on_segments(seg[None], p)
+    return d
 
 
 class StartPoseTool(Tool):
@@ -368,9 +388,11 @@ class StartPoseTool(Tool):
         super().__init__(host)
         self._p: Point | None = None
         self._q: Point | None = None
+        self._pressed: Point = (0.0, 0.0)
 
     def press(self, ev: ToolEvent) -> None:
         self._p = self._q = self.snapped(ev)
+        self._pressed = ev.pos
 
     def move(self, ev: ToolEvent) -> None:
         if self._p is not None:
@@ -381,7 +403,10 @@ class StartPoseTool(Tool):
             return
         (x, y), (qx, qy) = self._p, ev.pos
         self._p = self._q = None
-        heading = math.atan2(qy - y, qx - x) if math.hypot(qx - x, qy - y) > ev.tol else 0.0
+        # the heading is the direction the pointer was dragged, measured from where it was
+        # pressed (not from the snapped position, which would tilt a straight drag)
+        px, py = self._pressed
+        heading = math.atan2(qy - py, qx - px) if math.hypot(qx - px, qy - py) > ev.tol else 0.0
         if not ev.bypass and self.host.snap(ev.pos, False).kind != "none":
             heading = round(heading / HEADING_STEP) * HEADING_STEP  # snapping: 15 degree steps
         heading = math.atan2(math.sin(heading), math.cos(heading))

@@ -121,3 +121,39 @@ def test_select_tool_merges_a_drag_into_one_key_and_esc_restores():
     assert len({key for _, key in host.history}) == 1  # every step carries one merge key
     assert tool.key("escape")
     assert host.scene == HALL
+
+
+def test_start_pose_straight_drag_from_an_off_grid_press_is_exactly_upward():
+    # Dragging straight up is 90 degrees (counter-clockwise from +x, common practice) even
+    # when the press lands off the grid and the start snaps to the nearest grid point.
+    host = FakeHost(HALL, grid=0.5)
+    tool = StartPoseTool(host)
+    tool.press(ToolEvent((2.2, 2.2)))
+    tool.release(ToolEvent((2.2, 3.4)))
+    x, y, heading = host.scene.agents[0].start.pose
+    assert (x, y) == (2.0, 2.0)
+    assert heading == math.pi / 2
+
+
+def test_wall_landmark_lands_on_the_grid_along_its_wall():
+    host = FakeHost(HALL, grid=0.5)
+    tool = LandmarkTool(host)
+    tool.press(ToolEvent((4.6882, 5.93), tol=0.2))  # near the north wall y = 6
+    (lm,) = host.scene.landmarks
+    assert lm.mount == "wall" and lm.position == (4.5, 6.0)
+    host.snapping = False  # without snapping: the plain nearest wall point
+    tool.press(ToolEvent((4.6882, 5.93), tol=0.2))
+    assert host.scene.landmarks[1].position == (4.6882, 6.0)
+
+
+def test_grid_point_on_a_sloped_segment_is_on_the_segment_and_a_grid_line():
+    from arena_studio.editing.snapping import grid_point_on_segment
+
+    q = grid_point_on_segment((0.0, 0.0), (4.0, 3.0), (2.1, 1.6), 1.0)
+    assert q is not None
+    # on a grid line: x or y an integer; on the segment: shapely distance 0 (OGC, via GEOS)
+    assert q[0] == round(q[0]) or q[1] == round(q[1])
+    from shapely.geometry import LineString
+
+    assert LineString([(0, 0), (4, 3)]).distance(Point(q)) < 1e-12
+    assert grid_point_on_segment((0.0, 0.0), (4.0, 3.0), (2.1, 1.6), 0.0) is None
