@@ -6,7 +6,9 @@ import argparse
 import os
 from pathlib import Path
 
+from ..core import limits as lim
 from ..core.errors import ArenaError
+from .arg_types import number
 from .common import EXIT_OK, EXIT_UNREADABLE, CommandError, error_line, read_scene
 from .progress import progress_bar
 
@@ -18,7 +20,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("input", metavar="IN", help="the CSV or NPZ file")
     parser.add_argument("--scene", required=True, help="the scene the episodes were run in")
     parser.add_argument("-o", "--output", required=True, metavar="OUT.tape", help="tape to write")
-    parser.add_argument("--dt", type=float, default=None, help="time step in seconds (0.1)")
+    parser.add_argument(
+        "--dt", type=number(lim.DT), default=None, help="time step in seconds (0.1)"
+    )
     parser.add_argument(
         "--columns",
         default=None,
@@ -32,8 +36,6 @@ def run(args: argparse.Namespace) -> int:
     from ..core.importers import import_csv, import_npz, parse_columns
 
     try:
-        if args.dt is not None and not args.dt > 0:
-            raise CommandError("--dt: expected a time step > 0")
         src = Path(args.input)
         if not src.is_file():
             raise CommandError(f"{args.input}: no such file")
