@@ -8,6 +8,7 @@ from pathlib import Path
 
 from ..core import limits as lim
 from ..core.errors import ArenaError
+from ..core.safe_open import check_input
 from .arg_types import number
 from .common import EXIT_OK, EXIT_UNREADABLE, CommandError, error_line, read_scene
 from .progress import progress_bar
@@ -37,8 +38,7 @@ def run(args: argparse.Namespace) -> int:
 
     try:
         src = Path(args.input)
-        if not src.is_file():
-            raise CommandError(f"{args.input}: no such file")
+        check_input(src, args.kind)  # a folder, pipe or device is refused by name
         if not Path(args.output).parent.is_dir():
             raise CommandError(f"{args.output}: folder does not exist")
         scene = read_scene(args.scene)

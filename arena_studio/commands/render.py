@@ -179,11 +179,8 @@ def _run(args: argparse.Namespace) -> int:
 def _open(path: str):
     from ..core.tape import open_tape
 
-    p = Path(path)
-    if not p.is_file():
-        raise CommandError(f"{path}: no such file" if not p.exists() else f"{path}: not a file")
     try:
-        tape = open_tape(p)
+        tape = open_tape(Path(path))  # refuses folders, pipes and devices by name
     except ArenaError as exc:
         raise CommandError(str(exc)) from None
     if tape.truncated and tape.recovery_message:
