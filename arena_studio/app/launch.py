@@ -12,6 +12,8 @@ import os
 import sys
 from pathlib import Path
 
+from arena_studio.core.safe_open import InputFileError, check_input
+
 SCREENSHOT_SIZE = (1600, 1000)
 DEMO_TAPE = "greenhouse-greedy.tape"  # default demo scene; successes and several failure kinds
 SCENE_SUFFIXES = (".json", ".msgpack", ".mpk")
@@ -36,10 +38,10 @@ def argument_problem(args: argparse.Namespace) -> str | None:
     is_tape = path is not None and Path(path).suffix.lower() == TAPE_SUFFIX
     if path is not None:
         p = Path(path)
-        if not p.exists():
-            return f"{path}: no such file"
-        if p.is_dir():
-            return f"{path}: is a folder, not a scene or tape file"
+        try:  # folders, pipes, devices and oversized files are named, never opened
+            check_input(p, "tape" if is_tape else "scene")
+        except InputFileError as exc:
+            return str(exc)
         if not (is_tape or p.suffix.lower() in SCENE_SUFFIXES):
             expected = ".scene.json, .scene.msgpack or .tape"
             return f"{path}: not a scene or tape file (expected {expected})"

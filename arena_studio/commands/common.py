@@ -30,13 +30,12 @@ def warning_line(message: str) -> None:
 
 
 def read_scene(path: str) -> Scene:
-    """Load a scene or raise CommandError with the file and field named."""
-    p = Path(path)
-    if not p.exists():
-        raise CommandError(f"{path}: no such file")
-    if p.is_dir():
-        raise CommandError(f"{path}: is a folder, expected a scene file")
+    """Load a scene or raise CommandError with the file and field named.
+
+    Folders, pipes, devices and files over the size bound are refused by name
+    (:mod:`arena_studio.core.safe_open`) before anything is read.
+    """
     try:
-        return load_scene(p)
+        return load_scene(Path(path))
     except ArenaError as exc:
         raise CommandError(str(exc)) from None

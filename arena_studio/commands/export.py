@@ -11,7 +11,9 @@ from __future__ import annotations
 
 import argparse
 
+from arena_studio.commands.arg_types import number
 from arena_studio.commands.common import EXIT_OK, EXIT_UNREADABLE, error_line, read_scene
+from arena_studio.core import limits as lim
 from arena_studio.core.errors import ArenaError
 from arena_studio.core.export import CAUTION, DEFAULT_RESOLUTION, FORMATS, export_scene
 
@@ -37,14 +39,14 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     )
     parser.add_argument(
         "--resolution",
-        type=float,
+        type=number(lim.RESOLUTION),
         default=DEFAULT_RESOLUTION,
         metavar="R",
         help=f"grid cell size in metres (default {DEFAULT_RESOLUTION})",
     )
     parser.add_argument(
         "--clearance",
-        type=float,
+        type=number(lim.CLEARANCE),
         default=0.0,
         metavar="C",
         help="grid: a free cell's centre stays C metres from walls and obstacles, e.g. the "

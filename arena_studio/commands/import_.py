@@ -6,6 +6,7 @@ import argparse
 import os
 from pathlib import Path
 
+from arena_studio.commands.arg_types import number
 from arena_studio.commands.common import (
     EXIT_OK,
     EXIT_UNREADABLE,
@@ -14,7 +15,9 @@ from arena_studio.commands.common import (
     read_scene,
 )
 from arena_studio.commands.progress import progress_bar
+from arena_studio.core import limits as lim
 from arena_studio.core.errors import ArenaError
+from arena_studio.core.safe_open import check_input
 
 HELP = "convert a long-format CSV table or an NPZ array file into a tape"
 
@@ -24,7 +27,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("input", metavar="IN", help="the CSV or NPZ file")
     parser.add_argument("--scene", required=True, help="the scene the episodes were run in")
     parser.add_argument("-o", "--output", required=True, metavar="OUT.tape", help="tape to write")
-    parser.add_argument("--dt", type=float, default=None, help="time step in seconds (0.1)")
+    parser.add_argument(
+        "--dt", type=number(lim.DT), default=None, help="time step in seconds (0.1)"
+    )
     parser.add_argument(
         "--columns",
         default=None,
@@ -38,11 +43,8 @@ def run(args: argparse.Namespace) -> int:
     from arena_studio.core.tape.importers import import_csv, import_npz, parse_columns
 
     try:
-        if args.dt is not None and not args.dt > 0:
-            raise CommandError("--dt: expected a time step > 0")
         src = Path(args.input)
-        if not src.is_file():
-            raise CommandError(f"{args.input}: no such file")
+        check_input(src, args.kind)  # a folder, pipe or device is refused by name
         if not Path(args.output).parent.is_dir():
             raise CommandError(f"{args.output}: folder does not exist")
         scene = read_scene(args.scene)

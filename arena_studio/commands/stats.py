@@ -9,8 +9,10 @@ import math
 import sys
 from typing import Any
 
+from arena_studio.commands.arg_types import number
 from arena_studio.commands.common import EXIT_OK, EXIT_UNREADABLE, error_line, warning_line
 from arena_studio.commands.progress import progress_bar
+from arena_studio.core import limits as lim
 from arena_studio.core.errors import ArenaError
 
 HELP = "summarise a tape: success by goal and kind, alignment, diagnoses, per-episode rows"
@@ -39,7 +41,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     fmt = parser.add_mutually_exclusive_group()
     fmt.add_argument("--json", action="store_true", help="print JSON {summary, episodes}")
     fmt.add_argument("--csv", action="store_true", help="print one CSV row per episode")
-    parser.add_argument("--episode", type=int, default=None, metavar="N", help="only episode N")
+    parser.add_argument(
+        "--episode", type=number(lim.EPISODE), default=None, metavar="N", help="only episode N"
+    )
     parser.add_argument("--quiet", action="store_true", help="no progress bar")
 
 

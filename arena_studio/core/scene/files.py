@@ -10,10 +10,11 @@ import msgpack
 
 from arena_studio.core.atomic import write_bytes_atomic
 from arena_studio.core.errors import SceneFormatError
+from arena_studio.core.safe_open import MAX_BYTES, InputFileError, check_input, read_input
 from arena_studio.core.scene.model import Scene
 
 #: Scene files are small; anything larger is refused before it is read into memory.
-MAX_SCENE_BYTES = 64 * 1024 * 1024
+MAX_SCENE_BYTES = MAX_BYTES["scene"]
 
 
 def scene_kind(path: Path) -> str:
@@ -109,16 +110,12 @@ def _shallow(items: list[Any]) -> bool:
 
 
 def read_scene_file(path: Path) -> Scene:
-    kind = scene_kind(path)
     try:
-        size = path.stat().st_size
-        if size > MAX_SCENE_BYTES:
-            raise SceneFormatError("", f"file too large for a scene ({size} bytes)", str(path))
-        data = path.read_bytes()
-    except SceneFormatError:
-        raise
-    except OSError as exc:
-        raise SceneFormatError("", f"cannot read file: {exc.strerror or exc}", str(path)) from None
+        check_input(path, "scene")  # a folder, pipe or device is named before the file type
+        kind = scene_kind(path)
+        data = read_input(path, "scene")  # regular files only, within the size bound
+    except InputFileError as exc:
+        raise SceneFormatError("", str(exc)) from None
     try:
         return Scene.from_dict(decode_scene_bytes(data, kind))
     except SceneFormatError as exc:

@@ -22,6 +22,7 @@ Errors name the file and the line and column (CSV) or the array (NPZ).
 from __future__ import annotations
 
 import csv
+import io
 import math
 import re
 import zipfile
@@ -32,13 +33,14 @@ from typing import Any
 import numpy as np
 
 from arena_studio.core.errors import ArenaError
-from arena_studio.core.scene.model import Scene
+from arena_studio.core.safe_open import open_input
+from arena_studio.core.scene import Scene
 from arena_studio.core.tape import TapeWriter
 
 REQUIRED = ("episode", "step", "agent", "x", "y", "heading")
 OPTIONAL = ("reward", "goal", "role")
-#: an NPZ member larger than this (uncompressed bytes) is refused before it is loaded
-MAX_NPZ_MEMBER = 8 << 30
+#: NPZ members together larger than this (uncompressed bytes) are refused before loading
+MAX_NPZ_MEMBER = 2 << 30
 #: a compressed member may expand at most this many times: deflate (RFC 1951), which numpy
 #: uses, cannot exceed about 1032:1, so a genuine member never trips this
 MAX_NPZ_RATIO = 1100
@@ -95,11 +97,8 @@ def import_csv(
     agent_ids = [a.id for a in scene.agents]
     lm_ids = {lm.id: i for i, lm in enumerate(scene.landmarks)}
     episodes: dict[str, _EpisodeRows] = {}
-    try:
-        handle = open(path, newline="", encoding="utf-8-sig")  # noqa: SIM115
-    except OSError as exc:
-        raise ImportFormatError(f"{src}: cannot read: {exc.strerror or exc}") from None
-    with handle:
+    raw = open_input(path, "csv")  # regular files only, size bounded
+    with io.TextIOWrapper(raw, newline="", encoding="utf-8-sig") as handle:
         reader = csv.reader(handle)
         try:
             header = next(reader)
@@ -285,11 +284,6 @@ def _check_npz_member(src: str, zf: zipfile.ZipFile, info: zipfile.ZipInfo) -> N
     """
     name = info.filename[:-4] if info.filename.endswith(".npy") else info.filename
     where = f"{src}: array {name}"
-    if info.file_size > MAX_NPZ_MEMBER:
-        raise ImportFormatError(
-            f"{where}: {info.file_size} bytes uncompressed, more than an import takes "
-            f"({MAX_NPZ_MEMBER} bytes)"
-        )
     compressed = info.compress_type != zipfile.ZIP_STORED
     if (
         compressed
@@ -299,6 +293,11 @@ def _check_npz_member(src: str, zf: zipfile.ZipFile, info: zipfile.ZipInfo) -> N
         raise ImportFormatError(
             f"{where}: claims {info.file_size} bytes from {info.compress_size} compressed "
             f"bytes (more than {MAX_NPZ_RATIO}:1), refused as a possible zip bomb"
+        )
+    if info.file_size > MAX_NPZ_MEMBER:
+        raise ImportFormatError(
+            f"{where}: {info.file_size} bytes uncompressed, more than an import takes "
+            f"({MAX_NPZ_MEMBER} bytes)"
         )
     if not info.filename.endswith(".npy"):
         return
@@ -324,6 +323,16 @@ def _check_npz_member(src: str, zf: zipfile.ZipFile, info: zipfile.ZipInfo) -> N
         )
 
 
+def _check_npz_total(src: str, members: list[zipfile.ZipInfo]) -> None:
+    """Refuse an archive whose arrays together exceed what one import may hold in memory."""
+    total = sum(info.file_size for info in members)
+    if total > MAX_NPZ_MEMBER:
+        raise ImportFormatError(
+            f"{src}: its arrays hold {total:,} bytes uncompressed, more than an import takes "
+            f"({MAX_NPZ_MEMBER:,} bytes)"
+        )
+
+
 def import_npz(
     path: str | Path,
     scene: Scene,
@@ -335,16 +344,22 @@ def import_npz(
 ) -> int:
     """Convert an ``.npz`` file (array names in the module docstring) into a tape."""
     src = str(path)
+    raw = open_input(path, "npz")  # regular files only, size bounded
     try:
-        with zipfile.ZipFile(path) as zf:
-            for info in zf.infolist():
+        with zipfile.ZipFile(raw) as zf:
+            members = zf.infolist()
+            for info in members:
                 _check_npz_member(src, zf, info)
-        data = np.load(path, allow_pickle=False)
+            _check_npz_total(src, members)
+        raw.seek(0)
+        data = np.load(raw, allow_pickle=False)
     except ImportFormatError:
+        raw.close()
         raise
     except (OSError, zipfile.BadZipFile, ValueError) as exc:
+        raw.close()
         raise ImportFormatError(f"{src}: not a readable .npz file ({exc})") from None
-    with data:
+    with raw, data:
         names = set(data.files)
         a, n_lm = len(scene.agents), len(scene.landmarks)
 
