@@ -97,9 +97,7 @@ def test_one_pin_per_package_on_this_python(pins: list[Pin]) -> None:
 
 
 def test_pyproject_packages_are_locked_within_their_ranges(pins: list[Pin]) -> None:
-    here = {
-        canonicalize_name(p.requirement.name): p for p in pins if applies(p.requirement)
-    }
+    here = {canonicalize_name(p.requirement.name): p for p in pins if applies(p.requirement)}
     checked = 0
     for where, req in named_requirements():
         # markers are honoured for this Python: "PySide6-Essentials<6.12; python_version <
