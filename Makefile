@@ -15,6 +15,9 @@ LATEST := .venv-latest
 UV_COMPILE = $(BIN)/uv pip compile pyproject.toml --all-extras --generate-hashes --universal \
 	--custom-compile-command "make lock" --quiet -o $(LOCK)
 
+# name==version lines with names normalised (lower case, - for . and _) and sorted
+NAME_VERSION = awk -F== '{n = tolower($$1); gsub(/[._]/, "-", n); print n "==" $$2}' | sort
+
 .PHONY: run test lint bench demos clean lock lock-upgrade test-latest
 
 $(BIN)/python:
@@ -78,9 +81,9 @@ test-latest:
 	  $(LATEST)/bin/python -m pip install --quiet --upgrade --upgrade-strategy eager -e ".[$$extras]"
 	$(LATEST)/bin/python -m pip list --format=freeze > $(LATEST)/versions.txt
 	@echo "versions tested: $(LATEST)/versions.txt (differences from the lock:)"
-	@diff <(grep -i -E '^[a-z0-9._-]+==' $(LOCK) | sed 's/ .*//' | tr 'A-Z_.' 'a-z--' | sort) \
-	  <(tr 'A-Z_.' 'a-z--' < $(LATEST)/versions.txt | grep -v '^-e\|^arena-studio\|^#' | sort) \
-	  | grep '^>' || true
+	@diff <(grep -i -E '^[a-z0-9._-]+==' $(LOCK) | sed 's/ .*//' | $(NAME_VERSION)) \
+	  <(grep -v -i -E '^(-e |#|arena.studio==|pip==|setuptools==)' $(LATEST)/versions.txt \
+	    | $(NAME_VERSION)) | grep '^>' || true
 	QT_QPA_PLATFORM=$${QT_QPA_PLATFORM:-offscreen} $(LATEST)/bin/python -m pytest -q -p no:cacheprovider
 
 clean:
