@@ -45,7 +45,14 @@ class ReplayWindow(QMainWindow):
     openSceneInEditor = Signal(object)  # Scene: an editable copy for the layout editor
     statusMessage = Signal(str)
 
-    def __init__(self, theme: Theme | str = "light", parent: QWidget | None = None) -> None:
+    def __init__(
+        self,
+        theme: Theme | str = "light",
+        parent: QWidget | None = None,
+        now: Callable[[], float] | None = None,
+    ) -> None:
+        """``now``: seconds for the playback clock (default: a monotonic wall clock; tests
+        pass one they move themselves)."""
         super().__init__(parent)
         self.setObjectName("replayWindow")
         self.theme = load_theme(theme) if isinstance(theme, str) else theme
@@ -61,7 +68,7 @@ class ReplayWindow(QMainWindow):
         self.warn: Callable[[str, str], object] = lambda title, text: QMessageBox.warning(
             self, title, text
         )
-        self.clock = PlaybackClock(self)
+        self.clock = PlaybackClock(self, now=now)
         self.replay_actions = build_actions(self.clock, self)
         for action in self.replay_actions.values():
             self.addAction(action)

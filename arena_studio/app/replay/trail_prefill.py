@@ -10,6 +10,9 @@ them ready. A zoom or a new episode starts over.
 
 from __future__ import annotations
 
+import time
+from collections.abc import Callable
+
 from PySide6.QtCore import QObject, QTimer
 from PySide6.QtWidgets import QWidget
 
@@ -26,9 +29,11 @@ BLOCKS_PER_TICK = 16
 class TrailPrefill(QObject):
     """Idle-time block drawing for the episode layers of one viewport."""
 
-    def __init__(self, viewport: QWidget) -> None:
+    def __init__(self, viewport: QWidget, clock: Callable[[], float] = time.perf_counter) -> None:
         super().__init__(viewport)
         self._viewport = viewport
+        #: what times each tick's budget (tests set one that only they move)
+        self.clock = clock
         self._timer = QTimer(self)
         self._timer.setSingleShot(True)
         self._timer.setInterval(0)
@@ -67,7 +72,7 @@ class TrailPrefill(QObject):
             size = self._viewport.size()
             bounds = (size.width(), size.height())
             more = prefill_frame(
-                scene, episode, step, view, theme, options, BLOCKS_PER_TICK, bounds
+                scene, episode, step, view, theme, options, BLOCKS_PER_TICK, bounds, self.clock
             )
             if not more:
                 del self._pending[layer_id]

@@ -20,8 +20,12 @@ one second, or at its time limit: ``max_time`` when given, else the scene's
 so even a detour through every target fits). With ``par_limit=(lo, hi)`` each episode's limit
 is instead drawn between ``lo`` and ``hi`` times its team goal's par time (capped by the
 limit above); below 1x the team cannot make it, so such tapes show agents still on their way
-when time runs out. Episode ``i`` uses ``numpy.random.default_rng([seed, i])``, so runs are
-reproducible bit for bit and any episode can be regenerated alone.
+when time runs out. Episode ``i`` uses ``numpy.random.default_rng([seed, i])``, so any
+episode can be regenerated alone. What "the same again" means: with the same inputs, package
+versions and machine, a run writes a byte-identical tape. Across numpy/scipy/shapely versions
+and CPUs (whose SIMD paths round differently) the floating-point results may differ in the
+last bits, so a regenerated run is the same in meaning only: the same episodes, goals,
+outcomes, diagnoses and step counts, every pose within :data:`REGENERATED_POSE_TOLERANCE`.
 """
 
 from __future__ import annotations
@@ -59,6 +63,10 @@ STUCK_DISTANCE = 0.05
 STUCK_WINDOW = 3.0
 #: how deep (fraction of the reach radius) an agent drives into a target's reach disc
 REACH_DEPTH = 0.5
+#: a run regenerated on other library versions or another CPU keeps every position within
+#: this many metres (and heading within this many radians) of the recorded one; same versions
+#: on the same machine give the very same bytes (tests/core/test_rollout.py checks both)
+REGENERATED_POSE_TOLERANCE = 1e-6
 
 
 @dataclass
