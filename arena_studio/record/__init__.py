@@ -32,9 +32,7 @@ def __getattr__(name: str) -> Any:
     except ModuleNotFoundError as exc:
         if exc.name not in (_NEEDS[module], "gymnasium"):
             raise
-        raise RecordError(
-            f"{name} needs {exc.name}: pip install 'arena-studio[record]'"
-        ) from None
+        raise RecordError(f"{name} needs {exc.name}: pip install 'arena-studio[record]'") from None
     return getattr(loaded, name)
 
 

@@ -98,9 +98,7 @@ def from_infos(
         return None
     if per_agent_infos:
         found = {
-            n: infos[n][key]
-            for n in names
-            if isinstance(infos.get(n), Mapping) and key in infos[n]
+            n: infos[n][key] for n in names if isinstance(infos.get(n), Mapping) and key in infos[n]
         }
         return found or None
     return infos.get(key)
