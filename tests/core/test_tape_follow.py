@@ -90,6 +90,7 @@ def test_damage_stops_following_without_raising(tmp_path):
     part = partial_path(tmp_path / "d.tape")
     part.write_bytes(bytes(data[: ref._entries[2].end]))
     tape = follow_tape(tmp_path / "d.tape")
+    assert tape.poll() == [0]
     assert len(tape) == 1 and tape.problem is not None and "byte" in tape.problem
     assert tape.poll() == []
 

@@ -3,13 +3,14 @@
 ::
 
     tape = follow_tape("runs/train.tape")      # the .partial while training runs
-    while not tape.finished:
+    while tape.recording:
         for i in tape.poll():                  # indices of newly finished episodes
             print(i, tape.episode(i).steps)
         time.sleep(1.0)
 
 :class:`GrowingTape` is a :class:`~arena_studio.core.tape.reader.Tape` whose episode list
-grows. ``poll()`` reads the records written since the last call, from where it stopped; a
+grows. It opens with no episodes listed; each ``poll()`` reads the records written since the last
+call, from where it stopped; a
 record the writer has only half written is left for the next poll (never an error), and the
 unfinished episode is not listed (``open_steps`` says how far it got). When the writer
 closes, ``NAME.tape.partial`` becomes ``NAME.tape``: the follower moves to it, reads the rest
@@ -75,7 +76,7 @@ class GrowingTape(Tape):
         self.problem: str | None = None
         self.truncated = True
         self.recovery_message: str | None = None
-        self.poll()
+        self._describe()
 
     @property
     def recording(self) -> bool:

@@ -19,7 +19,7 @@ from typing import Any
 import numpy as np
 
 from ..atomic import atomic_writer, make_temp, publish
-from .tables import Columns, columns, to_table
+from .tables import Columns, columns, rows_table, to_table
 
 FORMATS = ("parquet", "csv", "npz")
 
@@ -59,6 +59,13 @@ def _parquet(table: Any, target: Path) -> int:
         tmp.unlink(missing_ok=True)
         raise
     return int(table.num_rows)
+
+
+def write_rows_parquet(
+    rows: Sequence[dict[str, Any]], fields: Sequence[str], out: str | Path
+) -> int:
+    """Per-episode rows (e.g. ``stats`` metrics) as a Parquet file; returns the row count."""
+    return _parquet(rows_table(rows, fields), Path(out))
 
 
 def _csv(cols: Columns, target: Path) -> None:
@@ -109,4 +116,4 @@ def _npz(cols: Columns, target: Path) -> None:
         np.savez(handle, **arrays)  # type: ignore[arg-type]
 
 
-__all__ = ["FORMATS", "export_table"]
+__all__ = ["FORMATS", "export_table", "write_rows_parquet"]
