@@ -24,8 +24,23 @@ def test_parquet_of_a_demo_tape(tmp_path: Path, capsys) -> None:
 
 def test_csv_of_chosen_episodes(tmp_path: Path) -> None:
     out = tmp_path / "two.csv"
-    assert main(["export-tape", str(DEMO), "-f", "csv", "-o", str(out), "--episode", "1",
-                 "--episode", "3"]) == 0
+    assert (
+        main(
+            [
+                "export-tape",
+                str(DEMO),
+                "-f",
+                "csv",
+                "-o",
+                str(out),
+                "--episode",
+                "1",
+                "--episode",
+                "3",
+            ]
+        )
+        == 0
+    )
     lines = out.read_text().splitlines()
     assert lines[0].startswith("episode,step,time,agent,x,y,heading,reward,done")
     assert {line.split(",")[0] for line in lines[1:]} == {"1", "3"}

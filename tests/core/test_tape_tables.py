@@ -47,8 +47,12 @@ def _expected(tape):
             for a, agent in enumerate(tape.agent_ids):
                 rows.append(
                     {
-                        "episode": ep.index, "step": t, "time": t * tape.dt, "agent": agent,
-                        "x": ep.poses[t, a, 0], "y": ep.poses[t, a, 1],
+                        "episode": ep.index,
+                        "step": t,
+                        "time": t * tape.dt,
+                        "agent": agent,
+                        "x": ep.poses[t, a, 0],
+                        "y": ep.poses[t, a, 1],
                         "heading": ep.poses[t, a, 2],
                         "reward": None if ep.rewards is None else ep.rewards[t, a],
                         "done": None if ep.done is None else bool(ep.done[t, a]),
@@ -77,7 +81,15 @@ def test_arrow_table_long_form(tape_path):
     # row count = sum over episodes of steps x agents
     assert table.num_rows == (4 + 1 + 7) * 2
     assert table.column_names[:9] == [
-        "episode", "step", "time", "agent", "x", "y", "heading", "reward", "done"
+        "episode",
+        "step",
+        "time",
+        "agent",
+        "x",
+        "y",
+        "heading",
+        "reward",
+        "done",
     ]
     assert {"action_0", "action_1", "battery", "wind"} <= set(table.column_names)
     _same(table.to_pylist(), _expected(tape))

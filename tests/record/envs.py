@@ -107,12 +107,19 @@ class Rover(gymnasium.Env):
     def step(self, action):
         v, w = np.clip(np.asarray(action, dtype=np.float64), -1.0, 1.0) * [1.0, 2.0]
         x, y, h = self.pose
-        self.pose = np.array([x + v * math.cos(h) * self.dt, y + v * math.sin(h) * self.dt,
-                              h + w * self.dt])
+        self.pose = np.array(
+            [x + v * math.cos(h) * self.dt, y + v * math.sin(h) * self.dt, h + w * self.dt]
+        )
         self.t += 1
         reward = float(-np.hypot(self.pose[0] - 5.0, self.pose[1] - 5.0))
         terminated = bool(reward > -0.5)
         truncated = self.t >= self.max_steps
-        self.log.append({"pose": self.pose.copy(), "reward": reward,
-                         "done": terminated or truncated, "action": np.array(action, float)})
+        self.log.append(
+            {
+                "pose": self.pose.copy(),
+                "reward": reward,
+                "done": terminated or truncated,
+                "action": np.array(action, float),
+            }
+        )
         return self.pose.copy(), reward, terminated, truncated, {"pose": self.pose.copy()}

@@ -22,8 +22,14 @@ def one_agent_scene() -> Scene:
 
 def test_tape_equals_what_the_environment_produced(tmp_path):
     rover = Rover(max_steps=12)
-    env = RecordEnv(rover, tmp_path / "g.tape", one_agent_scene(), poses="pose",
-                    team_goal=lambda e: ["A"], channels={"speed_cmd": lambda e: 0.5})
+    env = RecordEnv(
+        rover,
+        tmp_path / "g.tape",
+        one_agent_scene(),
+        poses="pose",
+        team_goal=lambda e: ["A"],
+        channels={"speed_cmd": lambda e: 0.5},
+    )
     rng = np.random.default_rng(0)
     for e in range(3):
         env.reset(seed=e)

@@ -23,7 +23,10 @@ def _run(env, episodes: int, seed: int = 3) -> None:
 def test_tape_equals_what_the_environment_produced(tmp_path):
     herd = Herd(agents=3)
     env = RecordParallelEnv(
-        herd, tmp_path / "run.tape", box_scene(agents=3), poses=lambda e: e.poses,
+        herd,
+        tmp_path / "run.tape",
+        box_scene(agents=3),
+        poses=lambda e: e.poses,
         channels={"energy": "energy"},
     )
     _run(env, episodes=4)
@@ -80,8 +83,9 @@ def test_an_agent_finishing_early_is_recorded_as_done(tmp_path):
 
 def test_wrapped_environment_passes_the_parallel_api_test(tmp_path, capsys):
     # source: PettingZoo's own conformance test (pettingzoo.test.parallel_api_test)
-    env = RecordParallelEnv(Herd(agents=3), tmp_path / "api.tape", box_scene(agents=3),
-                            poses=lambda e: e.poses)
+    env = RecordParallelEnv(
+        Herd(agents=3), tmp_path / "api.tape", box_scene(agents=3), poses=lambda e: e.poses
+    )
     parallel_api_test(env, num_cycles=50)
     env.close()
     assert "Passed Parallel API test" in capsys.readouterr().out
@@ -90,8 +94,13 @@ def test_wrapped_environment_passes_the_parallel_api_test(tmp_path, capsys):
 
 def test_every_nth_trigger_and_rotation(tmp_path):
     env = RecordParallelEnv(
-        Herd(agents=2, max_steps=3), tmp_path / "r.tape", box_scene(),
-        poses=lambda e: e.poses, every=2, trigger=lambda n: n != 4, episodes_per_tape=2,
+        Herd(agents=2, max_steps=3),
+        tmp_path / "r.tape",
+        box_scene(),
+        poses=lambda e: e.poses,
+        every=2,
+        trigger=lambda n: n != 4,
+        episodes_per_tape=2,
     )
     _run(env, episodes=9)
     env.close()
@@ -103,8 +112,9 @@ def test_every_nth_trigger_and_rotation(tmp_path):
 
 
 def test_reset_mid_episode_ends_it_as_cut(tmp_path):
-    env = RecordParallelEnv(Herd(agents=2), tmp_path / "c.tape", box_scene(),
-                            poses=lambda e: e.poses)
+    env = RecordParallelEnv(
+        Herd(agents=2), tmp_path / "c.tape", box_scene(), poses=lambda e: e.poses
+    )
     env.reset(seed=1)
     env.step({"r0": 1, "r1": 1})
     env.reset(seed=2)
@@ -123,16 +133,22 @@ def test_agent_names_must_match_the_scene(tmp_path):
 
     with pytest.raises(RecordError, match="agent_ids"):
         RecordParallelEnv(Named(), tmp_path / "x.tape", box_scene(), poses=lambda e: e.poses)
-    env = RecordParallelEnv(Named(), tmp_path / "x.tape", box_scene(),
-                            poses=lambda e: e.poses, agent_ids={"alpha": "r0", "beta": "r1"})
+    env = RecordParallelEnv(
+        Named(),
+        tmp_path / "x.tape",
+        box_scene(),
+        poses=lambda e: e.poses,
+        agent_ids={"alpha": "r0", "beta": "r1"},
+    )
     env.reset(seed=0)
     env.close()
     assert open_tape(tmp_path / "x.tape").agent_ids == ("r0", "r1")
 
 
 def test_bad_pose_shape_names_episode_and_step(tmp_path):
-    env = RecordParallelEnv(Herd(agents=2), tmp_path / "y.tape", box_scene(),
-                            poses=lambda e: e.poses[:, :2])
+    env = RecordParallelEnv(
+        Herd(agents=2), tmp_path / "y.tape", box_scene(), poses=lambda e: e.poses[:, :2]
+    )
     with pytest.raises(RecordError, match=r"episode 0 step 0: poses: expected shape \(2, 3\)"):
         env.reset(seed=0)
     env.close()
