@@ -16,6 +16,16 @@ SCREENSHOT_SIZE = (1600, 1000)
 DEMO_TAPE = "greenhouse-greedy.tape"  # default demo scene; successes and several failure kinds
 SCENE_SUFFIXES = (".json", ".msgpack", ".mpk")
 TAPE_SUFFIX = ".tape"
+
+
+def is_tape_path(path: str | Path) -> bool:
+    """A tape, or one still being written (``NAME.tape.partial``)."""
+    return Path(path).name.lower().endswith((TAPE_SUFFIX, TAPE_SUFFIX + ".partial"))
+
+
+def _still_written(p: Path) -> bool:
+    """``NAME.tape`` named while only ``NAME.tape.partial`` exists (a trainer is writing)."""
+    return is_tape_path(p) and not p.exists() and p.with_name(p.name + ".partial").exists()
 HEADLESS_PLATFORMS = ("offscreen", "minimal")
 IMAGE_SUFFIXES = (".png", ".jpg", ".jpeg", ".bmp")
 
@@ -33,10 +43,10 @@ def argument_problem(args: argparse.Namespace) -> str | None:
     path = getattr(args, "path", None)
     episode = getattr(args, "episode", None)
     seconds = getattr(args, "time", None)
-    is_tape = path is not None and Path(path).suffix.lower() == TAPE_SUFFIX
+    is_tape = path is not None and is_tape_path(path)
     if path is not None:
         p = Path(path)
-        if not p.exists():
+        if not p.exists() and not _still_written(p):
             return f"{path}: no such file"
         if p.is_dir():
             return f"{path}: is a folder, not a scene or tape file"
@@ -97,7 +107,7 @@ def launch_app(args: argparse.Namespace) -> int:
                 return int(app.exec())  # the dialog said why; the window stays usable
             _close_quietly(window)
             return 2
-        is_tape = Path(path).suffix.lower() == TAPE_SUFFIX
+        is_tape = is_tape_path(path)
         if is_tape and (screenshot or _wants_moment(args)):
             if screenshot:
                 window.resize(*SCREENSHOT_SIZE)

@@ -28,6 +28,7 @@ from .actions import build_actions
 from .batch_stats import batch_stats
 from .batch_view import BatchPanel
 from .episode_list import EpisodeListPanel
+from .follow import RecordingLine, TapeFollowing, is_growing, open_growing
 from .plots import PlotsPanel
 from .prepared import PreparedEpisode
 from .replay_canvas import ReplayCanvas
@@ -79,6 +80,9 @@ class ReplayWindow(QMainWindow):
         layout = QVBoxLayout(central)
         layout.setContentsMargins(0, 0, 0, 0)
         layout.setSpacing(0)
+        self.recording_line = RecordingLine(self.theme, central)
+        layout.addWidget(self.recording_line)
+        self.following: TapeFollowing | None = None
         self.split = QSplitter(Qt.Orientation.Horizontal, central)
         self.canvas = ReplayCanvas(self.theme, self.split)
         self.canvas_b = ReplayCanvas(self.theme, self.split)
@@ -214,7 +218,8 @@ class ReplayWindow(QMainWindow):
         """Open a tape (errors raise :class:`TapeError` with a clear message)."""
         from ...core.tape import open_tape
 
-        tape = tape if tape is not None else open_tape(path)
+        if tape is None:
+            tape = open_growing(path) if is_growing(path) else open_tape(path)
         self.close_tape()
         self._first_episode = True
         self.session = ReplaySession(tape, self)
@@ -239,11 +244,40 @@ class ReplayWindow(QMainWindow):
             self.statusMessage.emit(msg)
         if len(tape) == 0:
             self.verdict.setText("This tape has no episodes.")
+        self._follow(tape)
         s.start_summaries()
         if len(tape):
             self.select_episode(0)
 
+    def _follow(self, tape: Any) -> None:
+        """Poll a tape that is still being written; show the recording strip."""
+        from ...core.tape.follow import GrowingTape
+
+        if not isinstance(tape, GrowingTape):
+            return
+        self.following = TapeFollowing(tape, parent=self)
+        self.following.episodesAdded.connect(self._on_more_episodes)
+        self.following.stateChanged.connect(lambda: self.recording_line.show_tape(tape))
+        self.recording_line.show_tape(tape)
+        if len(tape) == 0:
+            self.verdict.setText("Recording: waiting for the first episode to finish…")
+
+    def _on_more_episodes(self, indices: list[int]) -> None:
+        if self.session is None:
+            return
+        from .summary import EpisodeSummary
+
+        self.episode_list.model.update_rows([EpisodeSummary(index=i) for i in indices])
+        self.session.start_summaries(indices=indices)
+        if self.prepared is None and self._pending_index is None:
+            self.select_episode(indices[0])
+
     def close_tape(self) -> None:
+        if self.following is not None:
+            self.following.stop()
+            self.following.deleteLater()
+            self.following = None
+        self.recording_line.show_tape(None)
         if self.session is not None:
             self.session.close()
             self.session.deleteLater()
@@ -439,6 +473,7 @@ class ReplayWindow(QMainWindow):
             self.batch,
             self.episode_list,
             self.verdict,
+            self.recording_line,
         ):
             w.set_theme(self.theme)
         self._update_verdict()

@@ -84,23 +84,28 @@ class ReplaySession(QObject):
         self._compare_call.failed.connect(lambda _t, m: self.failed.emit(m))
         self.occupancy = Occupancy.empty(self.scene)
         self.summaries_done = False
+        self._earlier: list[StreamWorker] = []
 
     def __len__(self) -> int:
         return len(self.tape)
 
     # -- the list ----------------------------------------------------------------------
-    def start_summaries(self, reopen: Callable[[], Any] | None = None) -> None:
+    def start_summaries(
+        self, reopen: Callable[[], Any] | None = None, indices: list[int] | None = None
+    ) -> None:
         """Compute every episode's row (and the occupancy grid) on a worker thread.
 
-        ``reopen`` gives the worker its own tape reader (file handles are not shared).
+        ``reopen`` gives the worker its own tape reader (file handles are not shared);
+        ``indices`` limits the work to those episodes (a growing tape's new ones).
         """
         scene = self.scene
         occupancy = self.occupancy
         opener = reopen or self._reopen
+        wanted = list(range(len(self.tape))) if indices is None else list(indices)
 
         def produce(stop: Callable[[], bool]) -> Iterator[EpisodeSummary]:
             tape = opener()
-            for i in range(len(tape)):
+            for i in wanted:
                 if stop():
                     return
                 episode = tape.episode(i)
@@ -114,7 +119,9 @@ class ReplaySession(QObject):
                     )
                 yield row
 
-        self._worker = StreamWorker(produce, len(self.tape), self)
+        if self._worker is not None:  # earlier work on a growing tape: let it finish
+            self._earlier.append(self._worker)
+        self._worker = StreamWorker(produce, len(wanted), self)
         self._worker.batchReady.connect(self._on_batch)
         self._worker.progress.connect(self.progress)
         self._worker.failed.connect(self.failed)
@@ -123,7 +130,10 @@ class ReplaySession(QObject):
 
     def _reopen(self) -> Any:
         from ...core.tape import open_tape
+        from ...core.tape.follow import GrowingTape
 
+        if isinstance(self.tape, GrowingTape):
+            return self.tape  # it reads by offsets it already knows; rescanning costs the file
         return open_tape(self.path)
 
     def _on_batch(self, batch: list[EpisodeSummary]) -> None:
@@ -154,6 +164,9 @@ class ReplaySession(QObject):
         return load_prepared(self.scene, self.tape.episode(index))
 
     def close(self) -> None:
+        for worker in self._earlier:
+            worker.stop()
+        self._earlier.clear()
         if self._worker is not None:
             self._worker.stop()
             self._worker = None
