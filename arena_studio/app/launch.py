@@ -53,7 +53,7 @@ def argument_problem(args: argparse.Namespace) -> str | None:
         if not (is_tape or p.suffix.lower() in SCENE_SUFFIXES):
             expected = ".scene.json, .scene.msgpack or .tape"
             return f"{path}: not a scene or tape file (expected {expected})"
-        if not os.access(p, os.R_OK):
+        if not os.access(p if p.exists() else p.with_name(p.name + ".partial"), os.R_OK):
             return f"{path}: cannot read (permission denied)"
     if (episode is not None or seconds is not None) and not is_tape:
         option = "--episode" if episode is not None else "--time"
