@@ -67,3 +67,47 @@ def test_a_finished_tape_has_no_recording_strip(qtbot, demo):
     assert w.wait_loaded()
     assert w.following is None and not w.recording_line.isVisible()
     w.close_tape()
+
+
+def test_recording_mismatches_are_marked_on_timeline_and_canvas(qtbot, tmp_path, demo):
+    # a recording whose rover crosses a bench: the timeline gets a "mismatch" mark at the
+    # step core.tape_checks names, and the canvas draws its square once the clock gets there
+    from arena_studio.core.tape_checks import check_episode
+
+    poses = demo.episode(0).poses.copy()
+    a = 0
+    start = poses[0, a, :2].copy()
+    poses[:, a, :2] = start
+    poses[5:, a, 1] = start[1] + 1.5  # one step of 1.5 m: a jump
+    path = tmp_path / "odd.tape"
+    with TapeWriter(path, demo.scene, dt=demo.dt) as w:
+        w.begin_episode(team_goal=demo.episode(0).team_goal)
+        w.steps(poses)
+        w.end_episode()
+    want = check_episode(demo.scene, open_tape(path).episode(0))
+    assert [(f.code, f.step) for f in want] == [("jump", 5)]
+    win = ReplayWindow("light")
+    qtbot.addWidget(win)
+    win.resize(1280, 800)
+    win.show()
+    win.open_tape(path)
+    assert win.wait_loaded()
+    marks = [m for m in win.timeline.events if m.kind == "mismatch"]
+    assert [(m.step, m.agent) for m in marks] == [(5, 0)]
+    assert "jump" in marks[0].text
+    error = win.theme.qcolor("error").name()
+
+    def error_pixels() -> int:
+        img = win.canvas.viewport().grab().toImage()
+        at = win.canvas.mapFromScene(*want[0].point)
+        return sum(
+            img.pixelColor(at.x() + dx, at.y() + dy).name() == error
+            for dx in range(-8, 9)
+            for dy in range(-8, 9)
+        )
+
+    win.clock.seek(0)
+    before = error_pixels()
+    win.clock.seek(6)
+    assert error_pixels() > before + 20  # the square's outline (14 px a side) appeared
+    win.close_tape()

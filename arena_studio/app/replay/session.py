@@ -20,7 +20,7 @@ from ...core.scene import Scene
 from .batch_stats import Occupancy
 from .events import episode_event_marks
 from .loader import CORE_LOCK, BackgroundCall, StreamWorker
-from .prepared import PreparedEpisode, prepare_episode
+from .prepared import EventMark, PreparedEpisode, prepare_episode
 from .summary import EpisodeSummary, summarise_episode
 
 
@@ -28,6 +28,30 @@ def _metrics_for(scene: Scene, episode: Episode) -> Any:
     from ...core.metrics import episode_metrics
 
     return episode_metrics(scene, episode)
+
+
+def _findings_for(scene: Scene, episode: Episode) -> list[Any]:
+    """Where this recording disagrees with its scene (never stops the episode loading)."""
+    from ...core.tape_checks import check_episode
+
+    try:
+        return check_episode(scene, episode)
+    except Exception:  # a checker problem must not keep the episode from showing
+        return []
+
+
+def mismatch_marks(scene: Scene, findings: list[Any]) -> tuple[EventMark, ...]:
+    """Timeline marks for recording-vs-scene findings."""
+    ids = [a.id for a in scene.agents]
+    return tuple(
+        EventMark(
+            step=int(f.step or 0),
+            kind="mismatch",
+            agent=ids.index(f.agent) if f.agent in ids else None,
+            text=f"{f.code}: {f.message}",
+        )
+        for f in findings
+    )
 
 
 def load_prepared(scene: Scene, episode: Episode) -> PreparedEpisode:
@@ -40,7 +64,8 @@ def _load_prepared(scene: Scene, episode: Episode) -> PreparedEpisode:
     from ...render.episode_cache import episode_cache
 
     metrics = _metrics_for(scene, episode)
-    events = episode_event_marks(scene, episode, metrics)
+    findings = _findings_for(scene, episode)
+    events = episode_event_marks(scene, episode, metrics) + mismatch_marks(scene, findings)
     prepared = prepare_episode(scene, episode, metrics=metrics)
     prepared = PreparedEpisode(
         episode=prepared.episode,
@@ -48,8 +73,9 @@ def _load_prepared(scene: Scene, episode: Episode) -> PreparedEpisode:
         reward_so_far=prepared.reward_so_far,
         targets=prepared.targets,
         distances=prepared.distances,
-        events=events,
+        events=tuple(sorted(events, key=lambda m: m.step)),
         metrics=metrics,
+        extra={"findings": findings},
     )
     cache = episode_cache(scene, episode)  # built here, off the UI thread; frames only slice it
     # par-time paths plan routes with shapely; compute them here (under CORE_LOCK) so that

@@ -13,6 +13,7 @@ Sorted errors first. A damaged episode is one finding; the others are still chec
 from __future__ import annotations
 
 from collections.abc import Callable, Sequence
+from dataclasses import replace
 from typing import Any
 
 import numpy as np
@@ -77,6 +78,17 @@ def check_tape(
     return _sorted(_capped(found, max_per_code))
 
 
+def check_episode(scene: Scene, episode: Any) -> list[TapeFinding]:
+    """Findings of one episode on its own (what a viewer marks on its timeline and canvas):
+    a unit or axis mistake in its poses replaces the per-step findings it explains."""
+    walls = SceneWalls(scene)
+    frame = check_frame(walls, sample_points([episode.poses]))
+    if frame:
+        return [replace(f, episode=episode.index, step=0) for f in frame]
+    found = check_start(scene, episode) + check_walls(walls, episode)
+    return _sorted(found + check_motion(scene, episode))
+
+
 def _header_findings(tape: Any, scene: Scene | None) -> list[TapeFinding]:
     found = []
     if getattr(tape, "scene_hash_ok", True) is False:
@@ -128,4 +140,4 @@ def _sorted(found: list[TapeFinding]) -> list[TapeFinding]:
     return sorted(found, key=lambda f: rank[f.severity])
 
 
-__all__ = ["MAX_PER_CODE", "TAPE_CODES", "TapeFinding", "check_tape"]
+__all__ = ["MAX_PER_CODE", "TAPE_CODES", "TapeFinding", "check_episode", "check_tape"]
