@@ -60,7 +60,7 @@ def agent_names(env: Any, scene: Scene, agent_ids: Mapping[str, str] | None) -> 
     )
 
 
-class RecordEnv(gymnasium.Wrapper):  # type: ignore[misc]
+class RecordEnv(gymnasium.Wrapper):
     """A Gymnasium environment that also writes its episodes to tapes.
 
     ``poses``, ``team_goal``, ``pursued_goals`` and ``channels`` are callables on the wrapped

@@ -105,15 +105,15 @@ class RecordParallelEnv(ParallelEnv):  # type: ignore[misc]
 
     # -- what PettingZoo asks of a ParallelEnv, passed through --------------------------
     @property
-    def metadata(self) -> dict[str, Any]:  # type: ignore[override]
+    def metadata(self) -> dict[str, Any]:
         return dict(getattr(self.env, "metadata", {}))
 
     @property
-    def possible_agents(self) -> list[Any]:  # type: ignore[override]
+    def possible_agents(self) -> list[Any]:
         return list(self.env.possible_agents)
 
     @property
-    def agents(self) -> list[Any]:  # type: ignore[override]
+    def agents(self) -> list[Any]:
         return list(self.env.agents)
 
     @property
