@@ -56,3 +56,11 @@ def test_stats_parquet_matches_json(tmp_path: Path, capsys) -> None:
     assert len(frame) == len(doc["episodes"])
     assert frame["success"].tolist() == [e["success"] for e in doc["episodes"]]
     assert frame["index"].tolist() == [e["index"] for e in doc["episodes"]]
+
+
+def test_follow_refuses_options_it_cannot_honour(tmp_path: Path, capsys) -> None:
+    assert main(["stats", str(DEMO), "--follow", "--parquet", str(tmp_path / "x.parquet")]) == 2
+    assert "--parquet cannot be used with --follow" in capsys.readouterr().err
+    assert main(["stats", str(DEMO), "--follow", "--interval", "0"]) == 2
+    assert main(["stats", str(tmp_path / "none.tape"), "--follow"]) == 2
+    assert capsys.readouterr().err.count("\n") == 2

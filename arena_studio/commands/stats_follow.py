@@ -35,6 +35,9 @@ def run_follow(args: argparse.Namespace, sleep: Sleep | None = None) -> int:
 
     if not args.interval > 0:
         raise CommandError("--interval: expected seconds > 0")
+    if args.parquet or args.episode is not None:
+        option = "--parquet" if args.parquet else "--episode"
+        raise CommandError(f"{option} cannot be used with --follow")
     try:
         tape = follow_tape(args.tape)
     except (ArenaError, OSError) as exc:
