@@ -219,3 +219,47 @@ def test_json_form_names_episode_step_agent(tmp_path):
     found = check_tape(write(tmp_path / "s.tape", scene, [walk(xs, 1.5)], dt=0.05))
     where = found[0].to_dict()["where"]
     assert (where["episode"], where["step"], where["agent"]) == (0, 4, "r0")
+
+
+def test_goal_of_the_wrong_length_is_its_own_finding(tmp_path):
+    # records written by hand after the documented layout (DEVELOPERS.md "Tape format"):
+    # episode 0 is sound, episode 1's team goal has 2 entries for the box scene's 3 landmarks
+    from arena_studio.core.tape.format import (
+        KIND_BEGIN,
+        KIND_CHUNK,
+        KIND_END,
+        KIND_HEADER,
+        MAGIC,
+        encode_array,
+        frame,
+        pack,
+    )
+    from tests.core.tape_helpers import box_scene, header_record
+
+    scene = box_scene()
+    data = bytearray(MAGIC + frame(KIND_HEADER, pack(header_record(scene))))
+    poses = np.zeros((3, 2, 3))
+    poses[:, 0, :2], poses[:, 1, :2] = (1.0, 1.0), (2.0, 1.0)
+    for e, goal in enumerate(([1, 0, 0], [1, 0])):
+        begin = {
+            "type": "begin",
+            "episode": e,
+            "pursued_goals": None,
+            "roles": None,
+            "messages": [],
+            "team_goal": encode_array(np.array(goal, np.uint8), "|u1"),
+        }
+        chunk = {
+            "type": "chunk",
+            "episode": e,
+            "start": 0,
+            "steps": 3,
+            "poses": encode_array(poses, "<f8"),
+        }
+        data += frame(KIND_BEGIN, pack(begin)) + frame(KIND_CHUNK, pack(chunk))
+        data += frame(KIND_END, pack({"type": "end", "episode": e, "steps": 3, "outcome": None}))
+    path = tmp_path / "g.tape"
+    path.write_bytes(bytes(data))
+    found = check_tape(open_tape(path))
+    assert codes(found) == [("goal-vector-length", 1, None, None)]
+    assert "team_goal" in found[0].message
