@@ -23,6 +23,7 @@ EVENT_KINDS: tuple[str, ...] = (
     "collision",
     "role",
     "diagnosis",
+    "mismatch",  # the recording disagrees with the scene (core.tape_checks)
     "other",
 )
 

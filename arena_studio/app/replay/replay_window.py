@@ -26,6 +26,7 @@ from arena_studio.app.replay.actions import build_actions
 from arena_studio.app.replay.batch_stats import batch_stats
 from arena_studio.app.replay.batch_view import BatchPanel
 from arena_studio.app.replay.episode_list import EpisodeListPanel
+from arena_studio.app.replay.follow import RecordingLine, TapeFollowing, is_growing, open_growing
 from arena_studio.app.replay.plots import PlotsPanel
 from arena_studio.app.replay.prepared import PreparedEpisode
 from arena_studio.app.replay.replay_canvas import ReplayCanvas
@@ -35,7 +36,7 @@ from arena_studio.app.replay.transport import PlaybackClock
 from arena_studio.app.replay.transport_bar import TransportBar
 from arena_studio.app.replay.verdict import VerdictLine
 from arena_studio.app.replay.view_toolbar import COMPARE_MODES, ViewToolbar
-from arena_studio.core.scene.model import Scene
+from arena_studio.core.scene import Scene
 from arena_studio.render.theme import Theme, load_theme
 
 
@@ -86,6 +87,9 @@ class ReplayWindow(QMainWindow):
         layout = QVBoxLayout(central)
         layout.setContentsMargins(0, 0, 0, 0)
         layout.setSpacing(0)
+        self.recording_line = RecordingLine(self.theme, central)
+        layout.addWidget(self.recording_line)
+        self.following: TapeFollowing | None = None
         self.split = QSplitter(Qt.Orientation.Horizontal, central)
         self.canvas = ReplayCanvas(self.theme, self.split)
         self.canvas_b = ReplayCanvas(self.theme, self.split)
@@ -221,7 +225,8 @@ class ReplayWindow(QMainWindow):
         """Open a tape (errors raise :class:`TapeError` with a clear message)."""
         from arena_studio.core.tape import open_tape
 
-        tape = tape if tape is not None else open_tape(path)
+        if tape is None:
+            tape = open_growing(path) if is_growing(path) else open_tape(path)
         self.close_tape()
         self._first_episode = True
         self.session = ReplaySession(tape, self)
@@ -246,11 +251,40 @@ class ReplayWindow(QMainWindow):
             self.statusMessage.emit(msg)
         if len(tape) == 0:
             self.verdict.setText("This tape has no episodes.")
+        self._follow(tape)
         s.start_summaries()
         if len(tape):
             self.select_episode(0)
 
+    def _follow(self, tape: Any) -> None:
+        """Poll a tape that is still being written; show the recording strip."""
+        from arena_studio.core.tape.follow import GrowingTape
+
+        if not isinstance(tape, GrowingTape):
+            return
+        self.following = TapeFollowing(tape, parent=self)
+        self.following.episodesAdded.connect(self._on_more_episodes)
+        self.following.stateChanged.connect(lambda: self.recording_line.show_tape(tape))
+        self.recording_line.show_tape(tape)
+        if len(tape) == 0:
+            self.verdict.setText("Recording: waiting for the first episode to finish…")
+
+    def _on_more_episodes(self, indices: list[int]) -> None:
+        if self.session is None:
+            return
+        from arena_studio.app.replay.summary import EpisodeSummary
+
+        self.episode_list.model.update_rows([EpisodeSummary(index=i) for i in indices])
+        self.session.start_summaries(indices=indices)
+        if self.prepared is None and self._pending_index is None:
+            self.select_episode(indices[0])
+
     def close_tape(self) -> None:
+        if self.following is not None:
+            self.following.stop()
+            self.following.deleteLater()
+            self.following = None
+        self.recording_line.show_tape(None)
         if self.session is not None:
             self.session.close()
             self.session.deleteLater()
@@ -446,6 +480,7 @@ class ReplayWindow(QMainWindow):
             self.batch,
             self.episode_list,
             self.verdict,
+            self.recording_line,
         ):
             w.set_theme(self.theme)
         self._update_verdict()

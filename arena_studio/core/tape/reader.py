@@ -143,6 +143,13 @@ class Tape:
         """Steps of episode ``i`` without decoding it."""
         return self._entries[self._check_index(i)].steps
 
+    def to_table(self, episodes: list[int] | None = None) -> Any:
+        """Every step of every agent as an Apache Arrow table in long form (needs pyarrow);
+        columns in :mod:`arena_studio.core.tape.tables`."""
+        from arena_studio.core.tape.tables import to_table
+
+        return to_table(self, episodes)
+
     @property
     def total_steps(self) -> int:
         return sum(e.steps for e in self._entries)
