@@ -24,10 +24,10 @@ class Episode:
     team_goal: np.ndarray | None = None  # (L,) uint8 multi-hot, or None
     pursued_goals: tuple[np.ndarray | None, ...] = ()  # per agent: (L,) uint8 or None
     roles: tuple[RoleTimeline, ...] = ()  # per agent; empty tuple when the tape has none
-    rewards: np.ndarray | None = None  # (T, A) float
-    actions: np.ndarray | None = None  # (T, A, K) float
+    rewards: np.ndarray | None = None  # (T, A) float per agent, or (T,) one team reward
+    actions: np.ndarray | None = None  # (T, A, K) float64, or int64 for whole numbers
     done: np.ndarray | None = None  # (T, A) bool
-    channels: dict[str, np.ndarray] = field(default_factory=dict)  # name -> (T,) or (T, A)
+    channels: dict[str, np.ndarray] = field(default_factory=dict)  # (T,), (T, A) or (T, A, K)
     messages: tuple[Any, ...] = ()  # pre-episode messages: free small values
     outcome: dict[str, Any] | None = None  # simulator-reported outcome, free small values
     complete: bool = True  # False when recovered from a cut tape before the episode ended

@@ -151,6 +151,8 @@ def prepare_episode(
     reward = None
     if episode.rewards is not None:
         reward = np.cumsum(np.asarray(episode.rewards, dtype=np.float64), axis=0)
+        if reward.ndim == 1:  # a team reward: every agent's share of the story is the team's
+            reward = np.repeat(reward[:, None], agents, axis=1)
     targets: list[tuple[int, ...]] = []
     team = goal_targets(episode.team_goal)
     for a in range(agents):

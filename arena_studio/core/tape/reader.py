@@ -41,6 +41,7 @@ from .format import (
     MAX_RECORD,
     NUMBER_DTYPES,
     PARALLEL_CRC_BYTES,
+    REWARD_DTYPES,
     TRAILER,
     TRAILER_MAGIC,
     TRAILER_SIZE,
@@ -79,6 +80,20 @@ class EpisodeSpan:
     start: int
     entries: list[_Entry]
     data: memoryview
+
+
+def _rank(value: Any) -> int:
+    """Dimensions an encoded array claims (0 when it is not an array map)."""
+    if type(value) is dict and type(value.get("shape")) is list:
+        return len(value["shape"])
+    return 0
+
+
+def _widened(arr: np.ndarray) -> np.ndarray:
+    """float64 for real numbers, int64 for whole numbers (bool flags become 0/1)."""
+    if arr.dtype.kind == "f":
+        return arr.astype(np.float64, copy=False)
+    return arr.astype(np.int64, copy=False)
 
 
 def open_tape(path: str | Path) -> Tape:
@@ -542,11 +557,16 @@ class Tape:
                 dec(rec.get("poses"), f"{cw}.poses", FLOAT_DTYPES, (n, a, 3))
             )
             if "rewards" in rec:
-                parts.setdefault("rewards", []).append(
-                    dec(rec["rewards"], f"{cw}.rewards", FLOAT_DTYPES, (n, a))
-                )
+                # (n,) one team reward per step, (n, A) one per agent; fixed by the first chunk
+                rshape = (n,) if _rank(rec["rewards"]) == 1 else (n, a)
+                rew = dec(rec["rewards"], f"{cw}.rewards", REWARD_DTYPES, rshape)
+                if parts.get("rewards") and parts["rewards"][0].ndim != rew.ndim:
+                    raise TapeError(self._src, f"{cw}.rewards", "shape differs from chunk 0")
+                parts.setdefault("rewards", []).append(rew)
             if "actions" in rec:
-                act = dec(rec["actions"], f"{cw}.actions", FLOAT_DTYPES, (n, a, k_actions))
+                act = dec(rec["actions"], f"{cw}.actions", NUMBER_DTYPES, (n, a, k_actions))
+                if parts.get("actions") and parts["actions"][0].dtype.kind != act.dtype.kind:
+                    raise TapeError(self._src, f"{cw}.actions", "dtype differs from chunk 0")
                 k_actions = act.shape[2]
                 parts.setdefault("actions", []).append(act)
             if "done" in rec:
@@ -560,10 +580,14 @@ class Tape:
                 ):
                     raise TapeError(self._src, f"{cw}.channels", "expected the same named arrays")
                 for name, value in chans.items():
-                    cshape: tuple[int | None, ...] = (n,)
-                    if isinstance(value, dict) and isinstance(value.get("shape"), list):
-                        cshape = (n,) if len(value["shape"]) == 1 else (n, a)
+                    rank = _rank(value)
+                    cshape: tuple[int | None, ...] = (n, a, None)[: rank if 1 <= rank <= 3 else 1]
                     arr = dec(value, f"{cw}.channels.{name}", NUMBER_DTYPES, cshape)
+                    first = channel_parts.get(name)
+                    if first and first[0].shape[1:] != arr.shape[1:]:
+                        raise TapeError(
+                            self._src, f"{cw}.channels.{name}", "shape differs from the first chunk"
+                        )
                     channel_parts.setdefault(name, []).append(arr)
             start += n
         out: dict[str, Any] = {}
@@ -575,16 +599,13 @@ class Tape:
                 if copy
                 else arrs[0]
             )
-            out[name] = joined.astype(np.float64, copy=False) if name != "done" else joined
+            out[name] = _widened(joined) if name != "done" else joined
         self._check_finite(out["poses"], where)
         if channel_parts:
             out["channels"] = {
                 name: np.concatenate(arrs, axis=0) if len(arrs) > 1 else arrs[0].copy()
                 for name, arrs in channel_parts.items()
             }
-            shapes = {arr.shape[1:] for arr in out["channels"].values()}
-            if any(len(s) > 1 for s in shapes):
-                raise TapeError(self._src, f"{where}.channels", "channels must be (T,) or (T, A)")
         return out
 
     def _poses_only_chunk(
@@ -647,8 +668,9 @@ class Tape:
                     return known.copy() if copy else known
         place = f"{where}.{field}" if k is None else f"{where}.{field}[{k}]"
         arr = self._array(value, place, GOAL_DTYPES, (n_lm,))
-        if n_lm and max(value["data"]) > 1:  # |u1 bytes: a goal holds only 0 and 1
+        if n_lm and max(value["data"]) > 1:  # |u1 or |b1 bytes: a goal holds only 0 and 1
             raise TapeError(self._src, place, "a goal holds only 0 and 1")
+        arr = arr.view(np.uint8)  # |b1 goals are stored as the same 0/1 bytes
         if key is not None and len(self._goal_cache) < GOAL_CACHE_SIZE:
             kept = arr.copy()
             kept.flags.writeable = False

@@ -159,22 +159,38 @@ class TapeWriter:
     def step(
         self,
         poses: np.ndarray | Sequence[Sequence[float]],
-        reward: np.ndarray | Sequence[float] | None = None,
-        action: np.ndarray | Sequence[Sequence[float]] | None = None,
+        reward: np.ndarray | Sequence[float] | float | None = None,
+        action: np.ndarray | Sequence[Any] | None = None,
         done: np.ndarray | Sequence[bool] | None = None,
         channels: Mapping[str, Any] | None = None,
     ) -> None:
-        """Record one step: ``poses`` (A, 3), optional reward (A,), action (A, K), done (A,)."""
+        """Record one step: ``poses`` (A, 3); optional ``reward`` (A,) per agent or one number
+        for the team, ``action`` (A, K) or (A,) (one discrete action each), ``done`` (A,),
+        ``channels`` name -> a number, (A,) or (A, K).
+
+        Every array is copied before this returns: a simulator may update its own arrays in
+        place for the next step.
+        """
         ep = self._current()
+        where = f"episode {ep.index} step {ep.steps}"
         block_channels = None
         if channels is not None:
-            block_channels = {k: np.asarray(v)[None] for k, v in channels.items()}
+            block_channels = {
+                k: _own_numbers(v, self._src, f"{where}.channels.{k}")[None]
+                for k, v in channels.items()
+            }
+        act = None
+        if action is not None:
+            act = _own_numbers(action, self._src, f"{where}.actions")
+            act = act[:, None] if act.ndim == 1 else act
         self._add(
             ep,
-            np.asarray(poses, dtype=np.float64)[None],
-            None if reward is None else np.asarray(reward, dtype=np.float64)[None],
-            None if action is None else np.asarray(action, dtype=np.float64)[None],
-            None if done is None else np.asarray(done, dtype=bool)[None],
+            _own(poses, np.float64, self._src, f"{where}.poses")[None],
+            None
+            if reward is None
+            else _own(reward, np.float64, self._src, f"{where}.rewards")[None],
+            None if act is None else act[None],
+            None if done is None else _own(done, np.bool_, self._src, f"{where}.done")[None],
             block_channels,
         )
 
@@ -186,15 +202,26 @@ class TapeWriter:
         done: np.ndarray | None = None,
         channels: Mapping[str, np.ndarray] | None = None,
     ) -> None:
-        """Record a block of steps: ``poses`` (T, A, 3) and the matching optional arrays."""
+        """Record a block of steps: ``poses`` (T, A, 3); optional ``rewards`` (T, A) or (T,)
+        for the team, ``actions`` (T, A, K) or (T, A), ``done`` (T, A), ``channels`` name ->
+        (T,), (T, A) or (T, A, K). Every array is copied before this returns."""
         ep = self._current()
+        where = f"episode {ep.index} step {ep.steps}"
+        act = None
+        if actions is not None:
+            act = _own_numbers(actions, self._src, f"{where}.actions")
+            act = act[:, :, None] if act.ndim == 2 else act
         self._add(
             ep,
-            np.asarray(poses, dtype=np.float64),
-            None if rewards is None else np.asarray(rewards, dtype=np.float64),
-            None if actions is None else np.asarray(actions, dtype=np.float64),
-            None if done is None else np.asarray(done, dtype=bool),
-            None if channels is None else {k: np.asarray(v) for k, v in channels.items()},
+            _own(poses, np.float64, self._src, f"{where}.poses"),
+            None if rewards is None else _own(rewards, np.float64, self._src, f"{where}.rewards"),
+            act,
+            None if done is None else _own(done, np.bool_, self._src, f"{where}.done"),
+            None
+            if channels is None
+            else {
+                k: _own_numbers(v, self._src, f"{where}.channels.{k}") for k, v in channels.items()
+            },
         )
 
     def end_episode(self, outcome: Mapping[str, Any] | None = None) -> None:
@@ -336,19 +363,19 @@ class TapeWriter:
         for name, arr in fields.items():
             if arr is None:
                 continue
-            ok = arr.shape[:2] == (n, a) and arr.ndim == (3 if name == "actions" else 2)
+            if name == "rewards":  # (n,) a team reward, (n, A) one per agent
+                ok = arr.shape in ((n,), (n, a))
+            else:
+                ok = arr.shape[:2] == (n, a) and arr.ndim == (3 if name == "actions" else 2)
             if not ok:
                 raise TapeError(self._src, f"{where}.{name}", f"shape {arr.shape} does not fit")
         if channels is not None:
             for name, arr in channels.items():
-                if not isinstance(name, str) or arr.shape[:1] != (n,) or arr.ndim > 2:
-                    raise TapeError(
-                        self._src, f"{where}.channels.{name}", "expected (T,) or (T, A)"
-                    )
-                if arr.ndim == 2 and arr.shape[1] != a:
-                    raise TapeError(self._src, f"{where}.channels.{name}", "expected (T, A)")
-                if arr.dtype.kind not in "fiub":
-                    raise TapeError(self._src, f"{where}.channels.{name}", "expected numbers")
+                place = f"{where}.channels.{name}"
+                if not isinstance(name, str) or arr.shape[:1] != (n,) or arr.ndim > 3:
+                    raise TapeError(self._src, place, "expected (T,), (T, A) or (T, A, K)")
+                if arr.ndim >= 2 and arr.shape[1] != a:
+                    raise TapeError(self._src, place, f"expected (T, {a}) or (T, {a}, K)")
         ep.check_layout(self._src, where, fields, channels)
         ep.blocks.append((poses, rewards, actions, done, channels))
         ep.buffered += n
@@ -383,17 +410,12 @@ class TapeWriter:
                 "steps": part.stop - part.start,
                 "poses": encode_array(fields[0][part], "<f8"),
             }
-            for i, name, dtype in (
-                (1, "rewards", "<f8"),
-                (2, "actions", "<f8"),
-                (3, "done", "|b1"),
-            ):
+            for i, name in ((1, "rewards"), (2, "actions"), (3, "done")):
                 if fields[i] is not None:
-                    record[name] = encode_array(fields[i][part], dtype)
+                    record[name] = encode_array(fields[i][part], _stored_dtype(fields[i]))
             if chans is not None:
                 record["channels"] = {
-                    name: encode_array(arr[part], "<f8" if arr.dtype.kind == "f" else "<i8")
-                    for name, arr in chans.items()
+                    name: encode_array(arr[part], _stored_dtype(arr)) for name, arr in chans.items()
                 }
             self._write(frame(KIND_CHUNK, pack(record)))
             done = part.stop
@@ -421,6 +443,32 @@ class TapeWriter:
             os.fsync(self._file.fileno())
 
 
+def _own(value: Any, dtype: Any, source: str, where: str) -> np.ndarray:
+    """A C-ordered copy of ``value`` as ``dtype``: the caller keeps its own array to reuse."""
+    try:
+        return np.array(value, dtype=dtype, order="C", copy=True)
+    except (TypeError, ValueError) as exc:
+        raise TapeError(source, where, f"expected numbers ({exc})") from None
+
+
+def _own_numbers(value: Any, source: str, where: str) -> np.ndarray:
+    """A C-ordered copy of ``value`` kept as whole numbers when it holds whole numbers
+    (int64; bool counts as 0/1) and as float64 otherwise."""
+    arr = np.asarray(value)
+    if arr.dtype.kind in "iub":
+        return _own(arr, np.int64, source, where)
+    if arr.dtype.kind != "f":
+        raise TapeError(source, where, f"expected numbers, got dtype {arr.dtype}")
+    return _own(arr, np.float64, source, where)
+
+
+def _stored_dtype(arr: np.ndarray) -> str:
+    """The tape dtype of a kept array: ``|b1`` flags, ``<i8`` whole numbers, ``<f8`` else."""
+    if arr.dtype.kind == "b":
+        return "|b1"
+    return "<i8" if arr.dtype.kind in "iu" else "<f8"
+
+
 def _cat(arrays: list[np.ndarray]) -> np.ndarray:
     return arrays[0] if len(arrays) == 1 else np.concatenate(arrays, axis=0)
 
@@ -444,10 +492,14 @@ class _EpisodeBuffer:
         fields: dict[str, np.ndarray | None],
         channels: dict[str, np.ndarray] | None,
     ) -> None:
+        actions = fields["actions"]
         layout = (
             tuple(name for name, arr in fields.items() if arr is not None),
-            None if fields["actions"] is None else fields["actions"].shape[2],
-            None if channels is None else tuple(sorted((k, v.ndim) for k, v in channels.items())),
+            None if actions is None else (*actions.shape[2:], actions.dtype.kind),
+            None if fields["rewards"] is None else fields["rewards"].ndim,
+            None
+            if channels is None
+            else tuple(sorted((k, v.shape[1:], v.dtype.kind) for k, v in channels.items())),
         )
         if self.layout is None:
             self.layout = layout
