@@ -31,6 +31,10 @@ class Episode:
     messages: tuple[Any, ...] = ()  # pre-episode messages: free small values
     outcome: dict[str, Any] | None = None  # simulator-reported outcome, free small values
     complete: bool = True  # False when recovered from a cut tape before the episode ended
+    # per agent: (L,) uint8, its own share of the team goal's targets, or None; () when absent
+    assigned_targets: tuple[np.ndarray | None, ...] = ()
+    # (L, 2) float64 where this episode's landmarks stood, or None: the scene's positions
+    landmark_positions: np.ndarray | None = None
 
     @classmethod
     def _of_fields(
@@ -48,6 +52,8 @@ class Episode:
         messages: tuple[Any, ...],
         outcome: dict[str, Any] | None,
         complete: bool,
+        assigned_targets: tuple[np.ndarray | None, ...] = (),
+        landmark_positions: np.ndarray | None = None,
     ) -> Episode:
         """``Episode(...)`` with every field given in order, for the tape reader (thousands a
         second): the generated frozen ``__init__`` sets each field through
@@ -69,6 +75,8 @@ class Episode:
             messages=messages,
             outcome=outcome,
             complete=complete,
+            assigned_targets=assigned_targets,
+            landmark_positions=landmark_positions,
         )
         return ep
 

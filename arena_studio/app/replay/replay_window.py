@@ -234,9 +234,11 @@ class ReplayWindow(QMainWindow):
         self.batch.set_occupancy(s.scene, None)
         self.setWindowTitle(f"{Path(path).name} (replay)")
         self.set_actions_enabled(True)
-        msg = getattr(tape, "recovery_message", None)
-        if getattr(tape, "truncated", False) and msg:
-            self.statusMessage.emit(msg)
+        notes = [getattr(tape, "scene_hash_warning", None)]
+        if getattr(tape, "truncated", False):
+            notes.insert(0, getattr(tape, "recovery_message", None))
+        if any(notes):
+            self.statusMessage.emit("  ".join(n for n in notes if n))
         if len(tape) == 0:
             self.verdict.setText("This tape has no episodes.")
         s.start_summaries()
@@ -454,10 +456,8 @@ class ReplayWindow(QMainWindow):
         """True/False when a tape is open: does ``scene`` have the tape's content hash?"""
         if self.session is None:
             return None
-        tape_hash = (
-            getattr(self.session.tape, "scene_hash", None) or self.session.scene.content_hash()
-        )
-        return scene.content_hash() == tape_hash
+        # the embedded scene's own hash: a tape's stored hash may be wrong (foreign writers)
+        return scene.content_hash() == self.session.scene.content_hash()
 
     def warn_if_scene_differs(self, scene: Scene, path: str | Path) -> bool:
         """Say so when a scene opened beside the tape is not the tape's scene. True = differs."""

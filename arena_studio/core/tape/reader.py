@@ -20,7 +20,7 @@ import numpy as np
 
 from ..episode import Episode, RoleTimeline
 from ..errors import ArenaError
-from ..scene import Scene
+from ..scene import Scene, scene_hash
 from .format import (
     BOOL_DTYPES,
     FLOAT_DTYPES,
@@ -284,37 +284,59 @@ class Tape:
                 self._src, "header.agent_ids", "must equal the embedded scene's agent ids in order"
             )
         self.agent_ids = tuple(ids)
-        stored_hash = header.get("scene_hash")
-        self.scene_hash = stored_hash if isinstance(stored_hash, str) else None
-        #: False when the embedded scene no longer hashes to the stored value
-        self.scene_hash_ok = self.scene_hash == self.scene.content_hash()
+        self._check_scene_hash(header)
         meta = header.get("metadata", {})
         if not isinstance(meta, dict):
             raise TapeError(self._src, "header.metadata", "expected a map")
         self.metadata: dict[str, Any] = meta
 
+    def _check_scene_hash(self, header: dict[str, Any]) -> None:
+        """Compare the stored scene hash with the embedded scene's own (a warning, not an
+        error: the scene itself is what the tape holds and what is used)."""
+        stored = header.get("scene_hash")
+        actual = scene_hash(self.scene)
+        self.scene_hash: str | None = stored if isinstance(stored, str) else None
+        #: True when the stored hash matches the embedded scene, None when none is stored
+        self.scene_hash_ok: bool | None = None if stored is None else stored == actual
+        #: one line for users when the stored hash is wrong, else None
+        self.scene_hash_warning: str | None = None
+        if self.scene_hash_ok is False:
+            shown = repr(stored) if not isinstance(stored, str) else stored[:16] + "..."
+            self.scene_hash_warning = (
+                f"{self._src}: header.scene_hash {shown} does not match the embedded scene "
+                f"(its hash is {actual[:16]}...; see arena_studio.core.scene.scene_hash)"
+            )
+
     # -- index -----------------------------------------------------------------------------
     def _read_index(self, f: Any) -> list[_Entry] | None:
         """Entries from the trailer's index, or None when the tape must be scanned."""
+        #: why a finished-looking tape's index was not used (the scan's message says it)
+        self._index_problem: str | None = None
         size = self.file_size
         if size < self.header_end + TRAILER_SIZE:
             return None
         f.seek(size - TRAILER_SIZE)
         at, magic = TRAILER.unpack(f.read(TRAILER_SIZE))
-        if magic != TRAILER_MAGIC or not self.header_end <= at < size - TRAILER_SIZE:
+        if magic != TRAILER_MAGIC:
+            return None
+        if not self.header_end <= at < size - TRAILER_SIZE:
+            self._index_problem = f"the trailer points at byte {at}, outside the records"
             return None
         f.seek(at)
         buf = memoryview(f.read(size - TRAILER_SIZE - at))
         try:
             kind, payload, end = read_frame(buf, 0)
-        except (EOFError, ValueError):
+        except (EOFError, ValueError) as exc:
+            self._index_problem = f"the trailer points at byte {at}, not at a sound record ({exc})"
             return None
         if kind != KIND_INDEX or end != len(buf):
+            self._index_problem = f"the trailer points at byte {at}, not at the index record"
             return None
         try:
             index = self._unpack(payload, "index")
             return self._index_entries(index, at)
-        except TapeError:
+        except TapeError as exc:
+            self._index_problem = f"the index at byte {at} is unusable ({exc.where}: {exc.problem})"
             return None
 
     def _index_entries(self, index: Any, limit: int) -> list[_Entry]:
@@ -322,8 +344,10 @@ class Tape:
         if not isinstance(index, dict) or not isinstance(index.get("episodes"), int):
             raise TapeError(self._src, where, "malformed index")
         n = index["episodes"]
-        cols = {
-            k: decode_array(index.get(k), f"index.{k}", self._src, dtypes=INDEX_DTYPES, shape=(n,))
+        cols = {  # any whole-number width is read; offsets past 2^63 cannot occur
+            k: decode_array(
+                index.get(k), f"index.{k}", self._src, dtypes=INDEX_DTYPES, shape=(n,)
+            ).astype(np.int64)
             for k in ("begin", "end", "steps")
         }
         begin, end, steps = cols["begin"], cols["end"], cols["steps"]
@@ -389,7 +413,7 @@ class Tape:
                     entries.append(_Entry(open_begin, end, open_steps, True))
                 open_begin, open_steps = None, 0
             elif kind == KIND_INDEX:
-                problem = f"the index at byte {pos} has no valid trailer"
+                problem = self._index_problem or f"the index at byte {pos} has no valid trailer"
                 last_good = end
                 break
             else:
@@ -490,6 +514,7 @@ class Tape:
             )
         roles_raw = begin.get("roles")
         roles = () if roles_raw is None else self._roles(roles_raw, f"{where}.roles", a)
+        assigned, positions = self._begin_extras(begin, where, a, n_lm, copy)
         messages = begin.get("messages", [])
         if not isinstance(messages, list):
             raise TapeError(self._src, f"{where}.messages", "expected a list")
@@ -523,7 +548,30 @@ class Tape:
             tuple(messages),  # messages
             outcome,  # outcome
             entry.complete and bool(ends),  # complete
+            assigned,  # assigned_targets
+            positions,  # landmark_positions
         )
+
+    def _begin_extras(
+        self, begin: dict[str, Any], where: str, a: int, n_lm: int, copy: bool
+    ) -> tuple[tuple[np.ndarray | None, ...], np.ndarray | None]:
+        """The optional ``assigned_targets`` and ``landmark_positions`` of a begin record."""
+        assigned: tuple[np.ndarray | None, ...] = ()
+        raw = begin.get("assigned_targets")
+        if raw is not None:
+            if not isinstance(raw, list) or len(raw) != a:
+                raise TapeError(self._src, f"{where}.assigned_targets", f"expected {a} entries")
+            assigned = tuple(
+                self._goal(g, n_lm, copy, where, "assigned_targets", k) for k, g in enumerate(raw)
+            )
+        positions = None
+        raw = begin.get("landmark_positions")
+        if raw is not None:
+            place = f"{where}.landmark_positions"
+            positions = self._array(raw, place, FLOAT_DTYPES, (n_lm, 2)).astype(np.float64)
+            if not np.isfinite(positions).all():
+                raise TapeError(self._src, place, "positions must be finite numbers")
+        return assigned, positions
 
     def _chunks(
         self, chunks: list[tuple[int, Any, int]], where: str, a: int, copy: bool = True

@@ -127,8 +127,17 @@ class TapeWriter:
         pursued_goals: Sequence[Sequence[int] | np.ndarray | None] | None = None,
         roles: Sequence[Sequence[tuple[int, str]] | str | None] | None = None,
         messages: Sequence[Any] | None = None,
+        *,
+        assigned_targets: Sequence[Sequence[int] | np.ndarray | None] | None = None,
+        landmark_positions: np.ndarray | Sequence[Sequence[float]] | None = None,
     ) -> int:
-        """Start an episode; returns its index. ``roles[a]`` is a label or (step, label) pairs."""
+        """Start an episode; returns its index. ``roles[a]`` is a label or (step, label) pairs.
+
+        ``pursued_goals[a]`` is the team goal agent ``a`` works toward (the team goal itself
+        when it cooperates); ``assigned_targets[a]`` is its own share of that goal's targets
+        (0/1 over the landmarks). ``landmark_positions`` (L, 2) records where this episode's
+        landmarks stood when the simulator moved them at reset.
+        """
         self._require_open()
         if self._episode is not None:
             raise TapeError(self._src, f"episode {self._episode.index}", "not ended yet")
@@ -147,6 +156,15 @@ class TapeWriter:
             ]
         record["roles"] = self._roles(roles, where)
         record["messages"] = list(messages) if messages is not None else []
+        if assigned_targets is not None:  # optional keys are written only when given
+            shares = list(assigned_targets)
+            if len(shares) != len(self.agent_ids):
+                raise TapeError(self._src, f"{where}.assigned_targets", "expected one per agent")
+            record["assigned_targets"] = [
+                self._goal(g, f"{where}.assigned_targets[{a}]") for a, g in enumerate(shares)
+            ]
+        if landmark_positions is not None:
+            record["landmark_positions"] = self._positions(landmark_positions, where)
         try:
             payload = pack(record)
         except (TypeError, ValueError) as exc:
@@ -310,6 +328,15 @@ class TapeWriter:
         if self._episode is None:
             raise TapeError(self._src, "", "call begin_episode() before recording steps")
         return self._episode
+
+    def _positions(self, value: Any, where: str) -> dict[str, Any]:
+        place = f"{where}.landmark_positions"
+        arr = _own(value, np.float64, self._src, place)
+        if arr.shape != (self.landmark_count, 2) or not np.isfinite(arr).all():
+            raise TapeError(
+                self._src, place, f"expected ({self.landmark_count}, 2) finite x, y in metres"
+            )
+        return encode_array(arr, "<f8")
 
     def _goal(self, goal: Any, where: str) -> dict[str, Any] | None:
         if goal is None:
