@@ -33,6 +33,7 @@ import math
 import numpy as np
 
 from .episode import Episode
+from .episode_scene import episode_scene
 from .observe import coverage
 from .scene import Scene
 
@@ -76,10 +77,13 @@ def team_mask(scene: Scene, episode: Episode) -> np.ndarray:
 
 
 def pursued_mask(scene: Scene, episode: Episode) -> np.ndarray:
-    """(A, L) bool: each agent's pursued targets (all False when the tape has none)."""
+    """(A, L) bool: each agent's own targets: its share of the team goal when the tape
+    records shares (``assigned_targets``), else its pursued goal's targets (all False when
+    the tape has neither)."""
     a, n = episode.agent_count, len(scene.landmarks)
     out = np.zeros((a, n), dtype=bool)
-    for i, goal in enumerate(episode.pursued_goals[:a]):
+    own = episode.assigned_targets or episode.pursued_goals
+    for i, goal in enumerate(own[:a]):
         if goal is not None:
             g = np.asarray(goal).astype(bool).reshape(-1)
             if g.shape[0] != n:
@@ -93,6 +97,7 @@ def pursued_mask(scene: Scene, episode: Episode) -> np.ndarray:
 
 def derive_roles(scene: Scene, episode: Episode) -> np.ndarray:
     """(T, A) uint8 role codes for every step (see the module docstring for definitions)."""
+    scene = episode_scene(scene, episode)
     poses = np.asarray(episode.poses, dtype=np.float64)
     steps, agents = poses.shape[0], poses.shape[1]
     out = np.full((steps, agents), MOVING, dtype=np.uint8)

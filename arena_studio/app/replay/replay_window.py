@@ -22,6 +22,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from ...core.episode_scene import episode_scene
 from ...core.scene import Scene
 from ...render.theme import Theme, load_theme
 from .actions import build_actions
@@ -287,8 +288,8 @@ class ReplayWindow(QMainWindow):
         step = self._pending_step
         self._pending_index = self._pending_step = None
         self.prepared = prepared
-        scene = self.session.scene
         ep = prepared.episode
+        scene = episode_scene(self.session.scene, ep)  # landmarks where this episode had them
         self.canvas.set_episode(scene, prepared)
         self.clock.set_episode(ep.steps, ep.dt, prepared.event_steps)
         self.timeline.set_events(prepared.events, ep.agent_count)
@@ -395,7 +396,7 @@ class ReplayWindow(QMainWindow):
         side = mode == "side" and scene is not None
         self.canvas_b.setVisible(side)
         if side and other is not None and scene is not None:
-            self.canvas_b.set_episode(scene, other)
+            self.canvas_b.set_episode(episode_scene(scene, other.episode), other)
             self.canvas_b.set_options(self.canvas.options)
             self.canvas_b.set_step(self.clock.step)
             self.canvas_b.caption = f"compared: episode {other.episode.index}"

@@ -37,7 +37,10 @@ def load_prepared(scene: Scene, episode: Episode) -> PreparedEpisode:
 
 
 def _load_prepared(scene: Scene, episode: Episode) -> PreparedEpisode:
+    from ...core.episode_scene import episode_scene
     from ...render.episode_cache import episode_cache
+
+    scene = episode_scene(scene, episode)  # the episode's own landmark positions, if any
 
     metrics = _metrics_for(scene, episode)
     events = episode_event_marks(scene, episode, metrics)
