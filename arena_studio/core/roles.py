@@ -181,6 +181,7 @@ def _aims(
         for k in range(lm.shape[0]):
             w = np.full((rows.size, 2), np.nan)
             length = np.full(rows.size, np.nan)
+            known = sampled.copy()
             idx = np.flatnonzero(sampled)
             w[idx], length[idx] = next_waypoints(scene, a, k, p[rows[idx], a])
             # between planned steps whose waypoints differ: plan every step
@@ -190,7 +191,7 @@ def _aims(
             )
             if fill.size:
                 w[fill], length[fill] = next_waypoints(scene, a, k, p[rows[fill], a])
-            known = ~np.isnan(length)
+                known[fill] = True
             src = np.flatnonzero(known)[np.cumsum(known) - 1]  # latest planned step
             rest = length[src] - np.hypot(*(w[src] - p[rows[src], a]).T)
             way[rows, a, k] = w[src]
