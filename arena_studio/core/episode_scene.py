@@ -19,8 +19,8 @@ from typing import Any
 
 import numpy as np
 
-from arena_studio.core.episode import Episode
-from arena_studio.core.scene import Scene
+from arena_studio.core.scene.model import Scene
+from arena_studio.core.tape.episode import Episode
 
 #: distinct landmark layouts remembered per thread
 MAX_LAYOUTS = 256

@@ -1,9 +1,9 @@
 """The next waypoint on an agent's shortest path to a landmark, from many positions at once.
 
 An agent rounding a doorway toward its target moves toward the doorway's corner, not along
-the straight line to the target; derived roles (:mod:`arena_studio.core.roles`) compare its
+the straight line to the target; derived roles (:mod:`arena_studio.core.analysis.roles`) compare its
 motion with the direction to this waypoint. The path is the planner's
-(:mod:`arena_studio.core.paths`): visibility graph of the agent's free space, Dijkstra from
+(:mod:`arena_studio.core.geometry.paths`): visibility graph of the agent's free space, Dijkstra from
 the landmark's reach, best first leg from the query point. Where the target's anchor (its
 point nearest the landmark) is in sight the waypoint is the landmark itself: the straight
 line, which the shortest path follows up to the reach radius. From a point outside the free
@@ -18,10 +18,10 @@ import numpy as np
 import shapely
 from shapely.geometry.base import BaseGeometry
 
-from arena_studio.core.paths import shared_planner
-from arena_studio.core.scene import Scene
-from arena_studio.core.visibility import VisibilityGraph
-from arena_studio.core.visibility_fields import TargetField
+from arena_studio.core.geometry.paths import shared_planner
+from arena_studio.core.geometry.visibility import VisibilityGraph
+from arena_studio.core.geometry.visibility_fields import TargetField
+from arena_studio.core.scene.model import Scene
 
 
 def next_waypoints(

@@ -16,10 +16,10 @@ import pytest
 from shapely.geometry import Point
 
 from arena_studio.cli import main
+from arena_studio.core.analysis.metrics import aligned_goals, episode_metrics, summarize_metrics
+from arena_studio.core.analysis.metrics_batch import tape_metrics
+from arena_studio.core.analysis.roles import HEADING, derive_roles
 from arena_studio.core.episode_scene import episode_scene
-from arena_studio.core.metrics import aligned_goals, batch_metrics, episode_metrics
-from arena_studio.core.metrics_batch import tape_metrics
-from arena_studio.core.roles import HEADING, derive_roles
 from arena_studio.core.tape import TapeWriter, open_tape
 
 from .tape_helpers import box_scene
@@ -80,7 +80,7 @@ def test_shares_keep_alignment(shares_tape: Path) -> None:
     assert one[0].success and one[1].success and not one[2].success
     assert one[2].diagnosis_code == "misaligned" and "r1 share C" in (one[2].diagnosis or "")
     assert tape_metrics(tape) == one  # the batched path, field by field (dataclass equality)
-    summary = batch_metrics(tape.scene, one)
+    summary = summarize_metrics(tape.scene, one)
     assert summary["alignment_rate"] == pytest.approx(2 / 3)
     # each target always covered by the same agent: fully specialised (score 1.0)
     assert summary["specialisation"]["A+B"] == 1.0

@@ -18,9 +18,9 @@ from shapely.geometry import LineString, MultiLineString, Point, box
 from shapely.ops import unary_union
 
 from arena_studio.core.export.npz import scene_arrays
-from arena_studio.core.observe import goal_reached, observe, wrap_angle
-from arena_studio.core.partime import plan_goal
-from arena_studio.core.scene import Landmark, Scene
+from arena_studio.core.planning.partime import plan_goal
+from arena_studio.core.scene.model import Landmark, Scene
+from arena_studio.core.sim.observe import goal_reached, observe, wrap_angle
 
 ROOT = Path(__file__).resolve().parents[2]
 README = (ROOT / "README.md").read_text(encoding="utf-8")

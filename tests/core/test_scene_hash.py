@@ -12,7 +12,7 @@ import numpy as np
 import pytest
 
 from arena_studio.cli import main
-from arena_studio.core.scene import Scene, canonical_scene_json, scene_hash
+from arena_studio.core.scene.model import Scene, canonical_scene_json, scene_hash
 from arena_studio.core.tape import open_tape
 from arena_studio.core.tape.format import (
     MAGIC,

@@ -19,7 +19,7 @@ from typing import Any
 import msgpack
 import numpy as np
 
-from arena_studio.core.scene import Scene
+from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape import TapeWriter, open_tape
 
 REFERENCE = Path(__file__).resolve().parents[1] / "data" / "reference.tape"

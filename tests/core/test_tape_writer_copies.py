@@ -14,7 +14,7 @@ import numpy as np
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from arena_studio.core.scene import Scene
+from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape import TapeWriter, open_tape
 from tests.core.tape_helpers import box_scene
 

@@ -15,8 +15,8 @@ from typing import Any
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QLabel, QWidget
 
-from ...render.theme import Theme
-from .prepared import PreparedEpisode
+from arena_studio.app.replay.prepared import PreparedEpisode
+from arena_studio.render.theme import Theme
 
 #: longest outcome text shown (characters); a simulator may report a lot
 OUTCOME_CHARS = 160

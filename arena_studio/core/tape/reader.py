@@ -18,10 +18,10 @@ from typing import Any, cast
 
 import numpy as np
 
-from ..episode import Episode, RoleTimeline
-from ..errors import ArenaError
-from ..scene import Scene, scene_hash
-from .format import (
+from arena_studio.core.errors import ArenaError
+from arena_studio.core.scene.model import Scene, scene_hash
+from arena_studio.core.tape.episode import Episode, RoleTimeline
+from arena_studio.core.tape.format import (
     BOOL_DTYPES,
     FLOAT_DTYPES,
     FORMAT_NAME,
@@ -304,7 +304,7 @@ class Tape:
             shown = repr(stored) if not isinstance(stored, str) else stored[:16] + "..."
             self.scene_hash_warning = (
                 f"{self._src}: header.scene_hash {shown} does not match the embedded scene "
-                f"(its hash is {actual[:16]}...; see arena_studio.core.scene.scene_hash)"
+                f"(its hash is {actual[:16]}...; see arena_studio.core.scene.model.scene_hash)"
             )
 
     # -- index -----------------------------------------------------------------------------
