@@ -96,6 +96,8 @@ def run(args: argparse.Namespace) -> int:
         return EXIT_UNREADABLE
     if tape.truncated:
         warning_line(tape.recovery_message or f"{args.tape}: tape is incomplete")
+    if tape.scene_hash_warning:
+        warning_line(tape.scene_hash_warning)
     if args.episode is not None and not 0 <= args.episode < len(tape):
         error_line(f"--episode {args.episode}: the tape has episodes 0..{len(tape) - 1}")
         return EXIT_UNREADABLE
@@ -112,6 +114,7 @@ def run(args: argparse.Namespace) -> int:
         return 130
     summary = summarize_metrics(tape.scene, metrics)
     summary["truncated"] = tape.truncated
+    summary["scene_hash_ok"] = tape.scene_hash_ok  # None: the tape stores no scene hash
     rows = [m.to_dict() for m in metrics]
     if args.episode is not None:
         from arena_studio.core.analysis.events import episode_events

@@ -36,7 +36,8 @@ from arena_studio.app.replay.transport import PlaybackClock
 from arena_studio.app.replay.transport_bar import TransportBar
 from arena_studio.app.replay.verdict import VerdictLine
 from arena_studio.app.replay.view_toolbar import COMPARE_MODES, ViewToolbar
-from arena_studio.core.scene import Scene
+from arena_studio.core.episode_scene import episode_scene
+from arena_studio.core.scene.model import Scene
 from arena_studio.render.theme import Theme, load_theme
 
 
@@ -246,9 +247,11 @@ class ReplayWindow(QMainWindow):
         self.batch.set_occupancy(s.scene, None)
         self.setWindowTitle(f"{Path(path).name} (replay)")
         self.set_actions_enabled(True)
-        msg = getattr(tape, "recovery_message", None)
-        if getattr(tape, "truncated", False) and msg:
-            self.statusMessage.emit(msg)
+        notes = [getattr(tape, "scene_hash_warning", None)]
+        if getattr(tape, "truncated", False):
+            notes.insert(0, getattr(tape, "recovery_message", None))
+        if any(notes):
+            self.statusMessage.emit("  ".join(n for n in notes if n))
         if len(tape) == 0:
             self.verdict.setText("This tape has no episodes.")
         self._follow(tape)
@@ -326,8 +329,8 @@ class ReplayWindow(QMainWindow):
         step = self._pending_step
         self._pending_index = self._pending_step = None
         self.prepared = prepared
-        scene = self.session.scene
         ep = prepared.episode
+        scene = episode_scene(self.session.scene, ep)  # landmarks where this episode had them
         self.canvas.set_episode(scene, prepared)
         self.clock.set_episode(ep.steps, ep.dt, prepared.event_steps)
         self.timeline.set_events(prepared.events, ep.agent_count)
@@ -434,7 +437,7 @@ class ReplayWindow(QMainWindow):
         side = mode == "side" and scene is not None
         self.canvas_b.setVisible(side)
         if side and other is not None and scene is not None:
-            self.canvas_b.set_episode(scene, other)
+            self.canvas_b.set_episode(episode_scene(scene, other.episode), other)
             self.canvas_b.set_options(self.canvas.options)
             self.canvas_b.set_step(self.clock.step)
             self.canvas_b.caption = f"compared: episode {other.episode.index}"
@@ -496,10 +499,8 @@ class ReplayWindow(QMainWindow):
         """True/False when a tape is open: does ``scene`` have the tape's content hash?"""
         if self.session is None:
             return None
-        tape_hash = (
-            getattr(self.session.tape, "scene_hash", None) or self.session.scene.content_hash()
-        )
-        return scene.content_hash() == tape_hash
+        # the embedded scene's own hash: a tape's stored hash may be wrong (foreign writers)
+        return scene.content_hash() == self.session.scene.content_hash()
 
     def warn_if_scene_differs(self, scene: Scene, path: str | Path) -> bool:
         """Say so when a scene opened beside the tape is not the tape's scene. True = differs."""

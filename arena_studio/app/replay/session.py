@@ -20,7 +20,7 @@ from arena_studio.app.replay.events import episode_event_marks
 from arena_studio.app.replay.loader import CORE_LOCK, BackgroundCall, StreamWorker
 from arena_studio.app.replay.prepared import EventMark, PreparedEpisode, prepare_episode
 from arena_studio.app.replay.summary import EpisodeSummary, summarise_episode
-from arena_studio.core.scene import Scene
+from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.episode import Episode
 
 
@@ -61,7 +61,10 @@ def load_prepared(scene: Scene, episode: Episode) -> PreparedEpisode:
 
 
 def _load_prepared(scene: Scene, episode: Episode) -> PreparedEpisode:
+    from arena_studio.core.episode_scene import episode_scene
     from arena_studio.render.episode_cache import episode_cache
+
+    scene = episode_scene(scene, episode)  # the episode's own landmark positions, if any
 
     metrics = _metrics_for(scene, episode)
     findings = _findings_for(scene, episode)
