@@ -45,6 +45,7 @@ from .fastpath import (
 )
 from .legend import paint_banner, paint_clock, paint_legend
 from .options import FrameOptions
+from .paint_guard import guarded, saved
 from .scene_painter import label_places
 from .theme import Theme
 from .trail_blocks import paint_wide_trails, prefill_blocks
@@ -75,7 +76,22 @@ def paint_episode_frame(
     theme: Theme,
     options: FrameOptions | None = None,
 ) -> None:
-    """Paint the episode's dynamic layer at ``step`` (clamped) over an already painted scene."""
+    """Paint the episode's dynamic layer at ``step`` (clamped) over an already painted scene.
+
+    Never raises: a layer that cannot be drawn becomes a placeholder and one report."""
+    with guarded(painter, "the episode"):
+        _paint_episode_frame(painter, scene, episode, step, view, theme, options)
+
+
+def _paint_episode_frame(
+    painter: QPainter,
+    scene: Scene,
+    episode: Episode,
+    step: int,
+    view: ViewTransform,
+    theme: Theme,
+    options: FrameOptions | None,
+) -> None:
     opts = options or FrameOptions()
     cache = episode_cache(scene, episode)
     if cache.steps == 0:
@@ -83,20 +99,26 @@ def paint_episode_frame(
     step = int(min(max(step, 0), cache.steps - 1))
     ui = opts.ui_scale or 1.0
     raster = blits_exactly(painter)  # once a frame: asking Qt costs ~10 us
-    painter.save()
-    painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
-    if opts.par_paths:
-        paint_par_paths(painter, cache, view, theme, ui)
-    if opts.team_goal and cache.has_team_goal:
-        paint_targets(painter, cache, step, view, theme, ui, raster)
-    if opts.trails:
-        paint_trails(painter, cache, step, view, theme, opts, ui, raster)
-    if opts.pursued:
-        paint_pursued(painter, cache, step, view, theme, ui)
-    if opts.collisions:
-        paint_collisions(painter, cache, step, view, theme, ui, opts, raster)
-    paint_agents(painter, cache, step, view, theme, opts, ui, raster)
-    painter.restore()
+    with saved(painter):
+        painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+        # each layer on its own: one that cannot be drawn leaves a placeholder, not a crash
+        if opts.par_paths:
+            with guarded(painter, "the par-time paths"):
+                paint_par_paths(painter, cache, view, theme, ui)
+        if opts.team_goal and cache.has_team_goal:
+            with guarded(painter, "the team-goal targets"):
+                paint_targets(painter, cache, step, view, theme, ui, raster)
+        if opts.trails:
+            with guarded(painter, "the trails"):
+                paint_trails(painter, cache, step, view, theme, opts, ui, raster)
+        if opts.pursued:
+            with guarded(painter, "the pursued-goal lines"):
+                paint_pursued(painter, cache, step, view, theme, ui)
+        if opts.collisions:
+            with guarded(painter, "the contact marks"):
+                paint_collisions(painter, cache, step, view, theme, ui, opts, raster)
+        with guarded(painter, "the agents"):
+            paint_agents(painter, cache, step, view, theme, opts, ui, raster)
 
 
 def blits_exactly(painter: QPainter) -> bool:

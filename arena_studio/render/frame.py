@@ -25,6 +25,7 @@ from .episode_painter import (
     paint_episode_frame,
     paint_legend,
 )
+from .paint_guard import guarded, saved
 from .scene_painter import SceneOptions, paint_scene
 from .theme import Theme, load_theme
 from .view import ViewTransform
@@ -124,17 +125,16 @@ def paint_static(
 ) -> None:
     """Background, scene, panel and legend, title and caption: what no step changes."""
     w, h = layout.size
-    painter.save()
-    painter.setClipRect(layout.scene_rect)
-    paint_scene(
-        painter,
-        scene,
-        layout.view,
-        theme,
-        scene_options(options, layout.ui),
-        size=(layout.scene_rect.right(), layout.scene_rect.bottom()),
-    )
-    painter.restore()
+    with saved(painter):
+        painter.setClipRect(layout.scene_rect)
+        paint_scene(
+            painter,
+            scene,
+            layout.view,
+            theme,
+            scene_options(options, layout.ui),
+            size=(layout.scene_rect.right(), layout.scene_rect.bottom()),
+        )
     painter.fillRect(QRectF(0, 0, w, layout.scene_rect.top()), theme.qcolor("background"))
     painter.fillRect(
         QRectF(0, layout.scene_rect.bottom(), w, h - layout.scene_rect.bottom()),
@@ -143,20 +143,25 @@ def paint_static(
     if layout.panel_rect is not None:
         painter.fillRect(layout.panel_rect, theme.qcolor("background"))
     if layout.legend_rect is not None:
-        paint_legend(
-            painter,
-            layout.legend_rect,
-            scene,
-            episode,
-            theme,
-            options,
-            layout.ui,
-            columns=layout.legend_columns,
-        )
+        with guarded(painter, "the legend", layout.legend_rect):
+            paint_legend(
+                painter,
+                layout.legend_rect,
+                scene,
+                episode,
+                theme,
+                options,
+                layout.ui,
+                columns=layout.legend_columns,
+            )
     if layout.title_rect is not None and options.title:
-        paint_banner(painter, layout.title_rect, options.title, theme, 18 * layout.ui, True)
+        with guarded(painter, "the title"):
+            paint_banner(painter, layout.title_rect, options.title, theme, 18 * layout.ui, True)
     if layout.caption_rect is not None and options.caption:
-        paint_banner(painter, layout.caption_rect, options.caption, theme, 13 * layout.ui, False)
+        with guarded(painter, "the caption"):
+            paint_banner(
+                painter, layout.caption_rect, options.caption, theme, 13 * layout.ui, False
+            )
 
 
 def paint_dynamic(
@@ -169,12 +174,12 @@ def paint_dynamic(
     options: FrameOptions,
 ) -> None:
     opts = replace(options, ui_scale=layout.ui)
-    painter.save()
-    painter.setClipRect(layout.scene_rect)
-    paint_episode_frame(painter, scene, episode, step, layout.view, theme, opts)
-    painter.restore()
+    with saved(painter):
+        painter.setClipRect(layout.scene_rect)
+        paint_episode_frame(painter, scene, episode, step, layout.view, theme, opts)
     if layout.clock_rect is not None:
-        paint_clock(painter, layout.clock_rect, episode, step, theme, layout.ui)
+        with guarded(painter, "the clock"):
+            paint_clock(painter, layout.clock_rect, episode, step, theme, layout.ui)
 
 
 class FrameRenderer:
