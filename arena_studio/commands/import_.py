@@ -7,7 +7,9 @@ import os
 from pathlib import Path
 
 from ..core.errors import ArenaError
+from ..core.outputs import tape_outputs
 from .common import EXIT_OK, EXIT_UNREADABLE, CommandError, error_line, read_scene
+from .output_plan import add_force_argument, keep_earlier_partial, plan_outputs
 from .progress import progress_bar
 
 HELP = "convert a long-format CSV table or an NPZ array file into a tape"
@@ -26,6 +28,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         help="CSV column names, e.g. 'x=pos_x,y=pos_y' (ours=theirs)",
     )
     parser.add_argument("--quiet", action="store_true", help="no progress bar")
+    add_force_argument(parser)
 
 
 def run(args: argparse.Namespace) -> int:
@@ -40,6 +43,8 @@ def run(args: argparse.Namespace) -> int:
         if not Path(args.output).parent.is_dir():
             raise CommandError(f"{args.output}: folder does not exist")
         scene = read_scene(args.scene)
+        plan_outputs(tape_outputs(args.output), [args.input, args.scene], args.force)
+        keep_earlier_partial(Path(args.output))
         if args.kind == "csv":
             columns = parse_columns(args.columns)
             total = max(1, os.path.getsize(src) // 40)  # rough rows, for the bar only

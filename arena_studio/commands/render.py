@@ -7,6 +7,7 @@ from pathlib import Path
 
 from ..core.errors import ArenaError
 from .common import EXIT_OK, EXIT_UNREADABLE, CommandError, error_line, warning_line
+from .output_plan import add_force_argument, plan_outputs
 
 HELP = "render episodes of a tape to a clip (.mp4, .gif, PNG folder) or a still (.png, .svg)"
 
@@ -80,6 +81,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     clip.add_argument("--scale", type=float, default=1.0, help="PNG still: pixel scale")
     clip.add_argument("--dpi", type=float, default=None, help="PNG still: DPI stored in file")
     parser.add_argument("--quiet", action="store_true", help="no progress bar")
+    add_force_argument(parser)
 
 
 def run(args: argparse.Namespace) -> int:
@@ -112,6 +114,9 @@ def _run(args: argparse.Namespace) -> int:
         raise CommandError(f"{out.parent}: folder does not exist")
     if args.compare and args.episode != [0]:
         raise CommandError("use --episode (one or several in sequence) or --compare A B, not both")
+    from ..core.outputs import render_outputs
+
+    plan_outputs(render_outputs(out), [args.tape], args.force)
     tape = _open(args.tape)
     indices = list(args.compare) if args.compare else list(args.episode)
     episodes = []

@@ -6,7 +6,9 @@ import argparse
 from pathlib import Path
 
 from ..core.errors import ArenaError
+from ..core.outputs import tape_outputs
 from .common import EXIT_OK, EXIT_UNREADABLE, CommandError, error_line, read_scene
+from .output_plan import add_force_argument, keep_earlier_partial, plan_outputs
 from .progress import progress_bar
 
 HELP = "record scripted preview episodes of a scene into a tape"
@@ -40,6 +42,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     )
     parser.add_argument("--dt", type=float, default=0.1, help="time step in seconds")
     parser.add_argument("--quiet", action="store_true", help="no progress bar")
+    add_force_argument(parser)
 
 
 def run(args: argparse.Namespace) -> int:
@@ -55,6 +58,8 @@ def run(args: argparse.Namespace) -> int:
         if not out.parent.is_dir():
             raise CommandError(f"{args.output}: folder does not exist")
         scene = read_scene(args.scene)
+        plan_outputs(tape_outputs(out), [args.scene], args.force)
+        keep_earlier_partial(out)
         from ..core.rollout import run_rollout
 
         with progress_bar(args.episodes, "rollout", args.quiet) as bar:

@@ -30,6 +30,8 @@ from .scene_painter import SceneOptions, paint_scene
 from .theme import Theme, load_theme
 from .view import ViewTransform
 
+#: Written into stills, so a re-run recognises its own earlier output (core.outputs).
+STILL_MARK = "arena-studio render"
 IMAGE_FORMAT = QImage.Format.Format_RGB32  # memory order B, G, R, 0xFF on little-endian
 
 
@@ -263,12 +265,16 @@ def render_frame(
 
 
 # -- stills -------------------------------------------------------------------------------------
-def png_bytes(image: QImage, dpi: float | None = None) -> bytes:
+def png_bytes(image: QImage, dpi: float | None = None, software: str | None = None) -> bytes:
+    """PNG of ``image``; ``software`` goes into a text chunk (stills name us there)."""
+    if dpi is not None or software is not None:
+        image = image.copy()
     if dpi is not None:
         per_metre = round(dpi / 0.0254)
-        image = image.copy()
         image.setDotsPerMeterX(per_metre)
         image.setDotsPerMeterY(per_metre)
+    if software is not None:
+        image.setText("Software", software)
     data = QByteArray()
     buffer = QBuffer(data)
     buffer.open(QIODevice.OpenModeFlag.WriteOnly)
@@ -294,7 +300,7 @@ def save_png_still(
     ui = ui_scale_for(size, opts) * scale
     image = render_frame(scene, episode, step, replace(opts, ui_scale=ui), (w, h))
     target = Path(path)
-    write_bytes_atomic(target, png_bytes(image, dpi))
+    write_bytes_atomic(target, png_bytes(image, dpi, STILL_MARK))
     return target
 
 
@@ -320,7 +326,7 @@ def svg_bytes(
     gen.setSize(QSize(*size))
     gen.setViewBox(QRectF(0, 0, *size))
     gen.setTitle(title)
-    gen.setDescription(f"{scene.name}, episode {episode.index}, step {step}")
+    gen.setDescription(f"{STILL_MARK}: {scene.name}, episode {episode.index}, step {step}")
     painter = QPainter(gen)
     try:
         painter.fillRect(QRectF(0, 0, *size), theme.qcolor("background"))
