@@ -58,6 +58,9 @@ MAX_TRAIL_POINTS = 16000
 #: trails keep every k-th step when agents typically move less than this many pixels a step
 TRAIL_POINT_SPACING = 4.0
 
+#: Largest pixel coordinate drawn; beyond it positions are damage, not drawing.
+PIXEL_LIMIT = 1e7
+
 __all__ = [
     "FrameOptions",
     "paint_banner",
@@ -493,6 +496,9 @@ def paint_collisions(
     recent_steps = 1.0 / cache.episode.dt if cache.episode.dt > 0 else 1
     px = view.map_array(ev[:, 1:3])
     recent = (step - ev[:, 0]) <= recent_steps
+    # marks far off the image (damaged poses) are skipped: Qt's int coordinates overflow
+    on_canvas = (np.abs(px) < PIXEL_LIMIT).all(axis=1)
+    px, recent = px[on_canvas], recent[on_canvas]
     if blits_exactly(painter) if raster is None else raster:
         # crowds leave hundreds of marks: one blit each instead of an ellipse per recent one
         for is_recent in (False, True):
