@@ -14,6 +14,7 @@ from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QComboBox, QFormLayout, QLabel, QScrollArea, QVBoxLayout, QWidget
 from shapely.geometry import Polygon
 
+from ..core.fields import line_problem
 from ..core.scene import Agent, Landmark, Obstacle, Room, Scene
 from . import edits
 from .editor import Editor
@@ -452,12 +453,21 @@ class PropertiesPanel(QScrollArea):
 
 
 def _nonempty(what: str) -> Callable[[str], str | None]:
-    return lambda text: None if text else f"The {what} cannot be empty."
+    """Names and labels: not empty, one line of printable text (as the file reader asks)."""
+
+    def problem(text: str) -> str | None:
+        if not text.strip():
+            return f"The {what} cannot be empty."
+        unsafe = line_problem(text)
+        return f"The {what} has a {unsafe}." if unsafe else None
+
+    return problem
 
 
 def _id_problem(text: str) -> str | None:
-    if not text:
+    if not text.strip():
         return "An id cannot be empty."
     if len(text) > 64:
         return "An id has at most 64 characters."
-    return None
+    unsafe = line_problem(text)
+    return f"The id has a {unsafe}." if unsafe else None

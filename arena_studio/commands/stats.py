@@ -10,6 +10,7 @@ import sys
 from typing import Any
 
 from ..core.errors import ArenaError
+from ..core.export.text_safety import csv_cell
 from .common import EXIT_OK, EXIT_UNREADABLE, error_line, warning_line
 from .progress import progress_bar
 
@@ -121,7 +122,8 @@ def _emit(args: argparse.Namespace, tape: Any, summary: dict[str, Any], rows: li
         writer = csv.writer(sys.stdout, lineterminator="\n")
         writer.writerow(ROW_FIELDS)
         for row in rows:
-            writer.writerow(["" if row[k] is None else row[k] for k in ROW_FIELDS])
+            # text cells a spreadsheet would run as formulas are neutralised (OWASP)
+            writer.writerow(["" if row[k] is None else csv_cell(row[k]) for k in ROW_FIELDS])
     else:
         _print_text(tape, summary, rows)
 
