@@ -106,10 +106,7 @@ def run(args: argparse.Namespace) -> int:
             }
             for e in events
         ]
-    try:
-        _emit(args, tape, summary, rows)
-    except BrokenPipeError:  # output piped into head and closed early: not an error
-        sys.stderr.close()
+    _emit(args, tape, summary, rows)  # a closed pipe is handled in cli (stdout_safety)
     return EXIT_OK
 
 
