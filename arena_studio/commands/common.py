@@ -2,10 +2,13 @@
 
 from __future__ import annotations
 
+import contextlib
 import sys
 from pathlib import Path
 
 from ..core.errors import ArenaError
+from ..core.fields import cap_text
+from ..core.outputs import path_kind
 from ..core.scene import Scene, load_scene
 
 EXIT_OK = 0
@@ -21,21 +24,41 @@ class CommandError(Exception):
         self.code = code
 
 
+#: Longest message printed; a longer one (a huge refused value) is cut, its length stated.
+MAX_MESSAGE = 1000
+
+
+def _say(kind: str, message: str) -> None:
+    with contextlib.suppress(OSError, ValueError):  # stderr closed or full: nowhere to say it
+        print(f"arena-studio: {kind}: {cap_text(message, MAX_MESSAGE)}", file=sys.stderr)
+
+
 def error_line(message: str) -> None:
-    print(f"arena-studio: error: {message}", file=sys.stderr)
+    """One line on stderr, at most :data:`MAX_MESSAGE` characters."""
+    _say("error", message)
 
 
 def warning_line(message: str) -> None:
-    print(f"arena-studio: warning: {message}", file=sys.stderr)
+    _say("warning", message)
+
+
+def input_problem(path: str | Path, expected: str = "a file") -> str | None:
+    """Why ``path`` cannot be read as an input file, naming what is there truthfully
+    (missing, a folder, a pipe, a device), or None for a regular file."""
+    kind = path_kind(Path(path))
+    if kind == "a file":
+        return None
+    if kind == "missing":
+        return f"{path}: no such file"
+    return f"{path}: is {kind}, expected {expected}" if kind.startswith("a") else f"{path}: {kind}"
 
 
 def read_scene(path: str) -> Scene:
     """Load a scene or raise CommandError with the file and field named."""
     p = Path(path)
-    if not p.exists():
-        raise CommandError(f"{path}: no such file")
-    if p.is_dir():
-        raise CommandError(f"{path}: is a folder, expected a scene file")
+    problem = input_problem(p, "a scene file")
+    if problem:
+        raise CommandError(problem)
     try:
         return load_scene(p)
     except ArenaError as exc:

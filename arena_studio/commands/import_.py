@@ -8,7 +8,14 @@ from pathlib import Path
 
 from ..core.errors import ArenaError
 from ..core.outputs import tape_outputs
-from .common import EXIT_OK, EXIT_UNREADABLE, CommandError, error_line, read_scene
+from .common import (
+    EXIT_OK,
+    EXIT_UNREADABLE,
+    CommandError,
+    error_line,
+    input_problem,
+    read_scene,
+)
 from .output_plan import add_force_argument, keep_earlier_partial, plan_outputs
 from .progress import progress_bar
 
@@ -38,8 +45,9 @@ def run(args: argparse.Namespace) -> int:
         if args.dt is not None and not args.dt > 0:
             raise CommandError("--dt: expected a time step > 0")
         src = Path(args.input)
-        if not src.is_file():
-            raise CommandError(f"{args.input}: no such file")
+        problem = input_problem(src, f"a {args.kind.upper()} file")
+        if problem:
+            raise CommandError(problem)
         if not Path(args.output).parent.is_dir():
             raise CommandError(f"{args.output}: folder does not exist")
         scene = read_scene(args.scene)

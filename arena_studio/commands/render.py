@@ -176,10 +176,12 @@ def _run(args: argparse.Namespace) -> int:
 
 def _open(path: str):
     from ..core.tape import open_tape
+    from .common import input_problem
 
     p = Path(path)
-    if not p.is_file():
-        raise CommandError(f"{path}: no such file" if not p.exists() else f"{path}: not a file")
+    problem = input_problem(p, "a tape file")
+    if problem:
+        raise CommandError(problem)
     try:
         tape = open_tape(p)
     except ArenaError as exc:

@@ -49,6 +49,8 @@ def run(args: argparse.Namespace) -> int:
     try:
         if args.episodes < 1:
             raise CommandError("--episodes: expected a whole number >= 1")
+        if not 0 <= args.seed < 2**63:  # numpy's seeds; a bad one is not the scene's fault
+            raise CommandError(f"--seed {args.seed}: expected a whole number from 0 to 2**63 - 1")
         if not args.dt > 0 or (
             args.max_time is not None and (not args.max_time > 0 or args.dt > args.max_time)
         ):
@@ -77,8 +79,11 @@ def run(args: argparse.Namespace) -> int:
     except CommandError as exc:
         error_line(str(exc))
         return exc.code
-    except (ArenaError, ValueError) as exc:
-        error_line(f"{args.scene}: {exc}")
+    except ArenaError as exc:
+        error_line(str(exc) if str(exc).startswith(args.scene) else f"{args.scene}: {exc}")
+        return EXIT_UNREADABLE
+    except ValueError as exc:  # not the scene file's fault: no file name to blame
+        error_line(f"rollout: {exc}")
         return EXIT_UNREADABLE
     except KeyboardInterrupt:
         error_line(f"interrupted; {args.output} was not written")

@@ -11,7 +11,7 @@ from typing import Any
 
 from ..core.errors import ArenaError
 from ..core.export.text_safety import csv_cell
-from .common import EXIT_OK, EXIT_UNREADABLE, error_line, warning_line
+from .common import EXIT_OK, EXIT_UNREADABLE, error_line, input_problem, warning_line
 from .progress import progress_bar
 
 HELP = "summarise a tape: success by goal and kind, alignment, diagnoses, per-episode rows"
@@ -62,6 +62,10 @@ def run(args: argparse.Namespace) -> int:
     from ..core.metrics_batch import tape_metrics
     from ..core.tape import open_tape
 
+    problem = input_problem(args.tape, "a tape file")
+    if problem:
+        error_line(problem)
+        return EXIT_UNREADABLE
     try:
         tape = open_tape(args.tape)
     except FileNotFoundError:

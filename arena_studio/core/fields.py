@@ -145,6 +145,14 @@ def shorten(value: object, limit: int = 80) -> str:
     return text if len(text) <= limit else f"{text[:limit]}... ({len(text)} characters)"
 
 
+def cap_text(text: str, limit: int = 300) -> str:
+    """One line of at most ``limit`` characters; a longer text is cut, its length stated."""
+    line_text = " ".join(text.split())
+    if len(line_text) <= limit:
+        return line_text
+    return f"{line_text[:limit]}... ({len(line_text)} characters in all)"
+
+
 def choice(value: object, path: str, options: tuple[str, ...]) -> str:
     if not isinstance(value, str) or value not in options:
         shown = shorten(value) if isinstance(value, str) else repr(type_name(value))
