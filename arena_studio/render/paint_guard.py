@@ -16,8 +16,10 @@ through these helpers instead:
 from __future__ import annotations
 
 import contextlib
+import functools
 import sys
 from collections.abc import Callable, Iterator
+from typing import Any
 
 from PySide6.QtCore import QRectF, Qt
 from PySide6.QtGui import QColor, QPainter, QPen
@@ -103,6 +105,30 @@ def paint_safely(painter: QPainter, what: str, draw: Callable[[], object]) -> bo
     return done
 
 
+def guarded_paint_event(what: str) -> Callable[[Callable[..., None]], Callable[..., None]]:
+    """Decorate a widget's ``paintEvent``: a failure is reported once and the widget shows
+    a placeholder instead of raising out of Qt's event loop."""
+
+    def decorate(method: Callable[..., None]) -> Callable[..., None]:
+        @functools.wraps(method)
+        def paint_event(widget: Any, event: Any) -> None:
+            failed = False
+            try:
+                method(widget, event)
+            except Exception as exc:  # the method's painter ends when its frame is freed
+                report(what, exc)
+                failed = True
+            if failed:
+                with contextlib.suppress(Exception):
+                    painter = QPainter(widget)
+                    placeholder(painter, what, QRectF(widget.rect()).adjusted(1, 1, -1, -1))
+                    painter.end()
+
+        return paint_event
+
+    return decorate
+
+
 def placeholder(painter: QPainter, what: str, rect: QRectF | None = None) -> None:
     """A crossed box (when ``rect`` is given) and ``could not draw WHAT``; never raises."""
     try:
@@ -135,6 +161,7 @@ def placeholder(painter: QPainter, what: str, rect: QRectF | None = None) -> Non
 
 __all__ = [
     "guarded",
+    "guarded_paint_event",
     "paint_safely",
     "placeholder",
     "reason",

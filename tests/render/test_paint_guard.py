@@ -165,3 +165,26 @@ def test_no_bare_save() -> None:
             if "painter.save()" in line and not line.lstrip().startswith(("#", '"', "-")):
                 bare.append(f"{path.relative_to(REPO)}:{number}")
     assert not bare
+
+
+def test_widget_paint_event_failure_is_a_placeholder(qtbot, qtlog, reports) -> None:
+    from PySide6.QtWidgets import QWidget
+
+    class Broken(QWidget):
+        @paint_guard.guarded_paint_event("the test widget")
+        def paintEvent(self, _event) -> None:
+            p = QPainter(self)
+            with paint_guard.saved(p):
+                p.drawLine(0, 0, 10, 10)
+                raise ValueError("cannot convert float NaN to integer")
+
+    widget = Broken()
+    qtbot.addWidget(widget)
+    widget.resize(300, 60)
+    image = widget.grab().toImage()  # pytest-qt fails the test on an exception in Qt's loop
+    widget.grab()
+    assert reports == [
+        "could not draw the test widget (ValueError: cannot convert float NaN to integer)"
+    ]
+    assert not _unbalanced(qtlog)
+    assert image.pixelColor(1, 1).red() > 150  # the placeholder frame

@@ -22,6 +22,7 @@ from PySide6.QtGui import (
 )
 from PySide6.QtWidgets import QSizePolicy, QToolTip, QWidget
 
+from ...render.paint_guard import guarded_paint_event
 from ...render.theme import Theme, load_theme
 from .prepared import EventMark
 from .transport import PlaybackClock
@@ -150,6 +151,7 @@ class TimelineBar(QWidget):
             QToolTip.hideText()
 
     # -- drawing -----------------------------------------------------------------------
+    @guarded_paint_event("the scrub bar")
     def paintEvent(self, event: QPaintEvent) -> None:
         """Blit the cached track (ruler, loop, event glyphs), then draw the cursor: playback
         repaints every step, and thousands of glyphs must not be redrawn each time."""
