@@ -154,7 +154,7 @@ class SceneCanvas(QGraphicsView):
         t = self.viewportTransform()
         view = ViewTransform(math.hypot(t.m11(), t.m12()), t.dx(), t.dy())
         size = (float(self.viewport().width()), float(self.viewport().height()))
-        with guarded(painter, "the scale bar"):
+        with guarded(painter, "the scale bar", theme=self.theme):
             painter.resetTransform()
             if blits_exactly(painter):
                 origin, image = self._scale_bar_image(view, size)

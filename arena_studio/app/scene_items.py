@@ -122,17 +122,17 @@ class SceneLayer(QGraphicsItem):
             paint_scene(painter, self.scene_value, view, self.theme, self.options, size)
         # the editor's marks, each on its own: one that fails leaves a placeholder
         if self.show_agent_ids:
-            with guarded(painter, "the agent names"):
+            with guarded(painter, "the agent names", theme=self.theme):
                 self._paint_agent_ids(painter)
-        with guarded(painter, "the goal highlight"):
+        with guarded(painter, "the goal highlight", theme=self.theme):
             self._paint_highlight(painter)
-        with guarded(painter, "the picked landmarks"):
+        with guarded(painter, "the picked landmarks", theme=self.theme):
             self._paint_picked(painter)
-        with guarded(painter, "the selection"):
+        with guarded(painter, "the selection", theme=self.theme):
             self._paint_selection(painter)
-        with guarded(painter, "the finding marks"):
+        with guarded(painter, "the finding marks", theme=self.theme):
             self._paint_findings(painter)
-        with guarded(painter, "the outline being drawn"):
+        with guarded(painter, "the outline being drawn", theme=self.theme):
             self._paint_preview(painter)
 
     def _paint_agent_ids(self, painter: QPainter) -> None:

@@ -79,11 +79,11 @@ def run(args: argparse.Namespace) -> int:
     except CommandError as exc:
         error_line(str(exc))
         return exc.code
-    except ArenaError as exc:
-        error_line(str(exc) if str(exc).startswith(args.scene) else f"{args.scene}: {exc}")
+    except ArenaError as exc:  # these name their own place (the scene, the tape written)
+        error_line(str(exc))
         return EXIT_UNREADABLE
-    except ValueError as exc:  # not the scene file's fault: no file name to blame
-        error_line(f"rollout: {exc}")
+    except ValueError as exc:  # what is left is about the scene (no agents, no goals)
+        error_line(f"{args.scene}: {exc}")
         return EXIT_UNREADABLE
     except KeyboardInterrupt:
         error_line(f"interrupted; {args.output} was not written")

@@ -82,7 +82,7 @@ def paint_episode_frame(
     """Paint the episode's dynamic layer at ``step`` (clamped) over an already painted scene.
 
     Never raises: a layer that cannot be drawn becomes a placeholder and one report."""
-    with guarded(painter, "the episode"):
+    with guarded(painter, "the episode", theme=theme):
         _paint_episode_frame(painter, scene, episode, step, view, theme, options)
 
 
@@ -106,21 +106,21 @@ def _paint_episode_frame(
         painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
         # each layer on its own: one that cannot be drawn leaves a placeholder, not a crash
         if opts.par_paths:
-            with guarded(painter, "the par-time paths"):
+            with guarded(painter, "the par-time paths", theme=theme):
                 paint_par_paths(painter, cache, view, theme, ui)
         if opts.team_goal and cache.has_team_goal:
-            with guarded(painter, "the team-goal targets"):
+            with guarded(painter, "the team-goal targets", theme=theme):
                 paint_targets(painter, cache, step, view, theme, ui, raster)
         if opts.trails:
-            with guarded(painter, "the trails"):
+            with guarded(painter, "the trails", theme=theme):
                 paint_trails(painter, cache, step, view, theme, opts, ui, raster)
         if opts.pursued:
-            with guarded(painter, "the pursued-goal lines"):
+            with guarded(painter, "the pursued-goal lines", theme=theme):
                 paint_pursued(painter, cache, step, view, theme, ui)
         if opts.collisions:
-            with guarded(painter, "the contact marks"):
+            with guarded(painter, "the contact marks", theme=theme):
                 paint_collisions(painter, cache, step, view, theme, ui, opts, raster)
-        with guarded(painter, "the agents"):
+        with guarded(painter, "the agents", theme=theme):
             paint_agents(painter, cache, step, view, theme, opts, ui, raster)
 
 

@@ -145,7 +145,7 @@ def paint_static(
     if layout.panel_rect is not None:
         painter.fillRect(layout.panel_rect, theme.qcolor("background"))
     if layout.legend_rect is not None:
-        with guarded(painter, "the legend", layout.legend_rect):
+        with guarded(painter, "the legend", layout.legend_rect, theme):
             paint_legend(
                 painter,
                 layout.legend_rect,
@@ -157,10 +157,10 @@ def paint_static(
                 columns=layout.legend_columns,
             )
     if layout.title_rect is not None and options.title:
-        with guarded(painter, "the title"):
+        with guarded(painter, "the title", theme=theme):
             paint_banner(painter, layout.title_rect, options.title, theme, 18 * layout.ui, True)
     if layout.caption_rect is not None and options.caption:
-        with guarded(painter, "the caption"):
+        with guarded(painter, "the caption", theme=theme):
             paint_banner(
                 painter, layout.caption_rect, options.caption, theme, 13 * layout.ui, False
             )
@@ -180,7 +180,7 @@ def paint_dynamic(
         painter.setClipRect(layout.scene_rect)
         paint_episode_frame(painter, scene, episode, step, layout.view, theme, opts)
     if layout.clock_rect is not None:
-        with guarded(painter, "the clock"):
+        with guarded(painter, "the clock", theme=theme):
             paint_clock(painter, layout.clock_rect, episode, step, theme, layout.ui)
 
 

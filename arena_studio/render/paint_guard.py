@@ -22,7 +22,9 @@ from collections.abc import Callable, Iterator
 from typing import Any
 
 from PySide6.QtCore import QRectF, Qt
-from PySide6.QtGui import QColor, QPainter, QPen
+from PySide6.QtGui import QPainter, QPen
+
+from .theme import Theme, load_theme
 
 #: Longest reason shown in a placeholder or a report line.
 MAX_REASON = 160
@@ -83,7 +85,9 @@ def saved(painter: QPainter) -> Iterator[QPainter]:
 
 
 @contextlib.contextmanager
-def guarded(painter: QPainter, what: str, rect: QRectF | None = None) -> Iterator[None]:
+def guarded(
+    painter: QPainter, what: str, rect: QRectF | None = None, theme: Theme | None = None
+) -> Iterator[None]:
     """Run a part of a picture; a failure becomes a placeholder and one report, not a raise.
 
     ``rect`` is where the part would be (device pixels); without one the placeholder is a
@@ -93,7 +97,7 @@ def guarded(painter: QPainter, what: str, rect: QRectF | None = None) -> Iterato
             yield
     except Exception as exc:  # geometry and data errors of any kind: never past a paint path
         report(what, exc)
-        placeholder(painter, what, rect)
+        placeholder(painter, what, rect, theme)
 
 
 def paint_safely(painter: QPainter, what: str, draw: Callable[[], object]) -> bool:
@@ -129,14 +133,18 @@ def guarded_paint_event(what: str) -> Callable[[Callable[..., None]], Callable[.
     return decorate
 
 
-def placeholder(painter: QPainter, what: str, rect: QRectF | None = None) -> None:
-    """A crossed box (when ``rect`` is given) and ``could not draw WHAT``; never raises."""
+def placeholder(
+    painter: QPainter, what: str, rect: QRectF | None = None, theme: Theme | None = None
+) -> None:
+    """A crossed box (when ``rect`` is given) and ``could not draw WHAT`` in the theme's
+    error colour on its background; never raises."""
     try:
+        theme = theme or load_theme("light")
         with saved(painter):
             painter.resetTransform()
             painter.setClipping(False)
             painter.setOpacity(1.0)
-            color = QColor(200, 40, 40)
+            color = theme.qcolor("error")
             painter.setPen(QPen(color, 2.0))
             painter.setBrush(Qt.BrushStyle.NoBrush)
             slot = int(getattr(painter, "_arena_placeholders", 0))
@@ -149,7 +157,7 @@ def placeholder(painter: QPainter, what: str, rect: QRectF | None = None) -> Non
             else:
                 origin = QRectF(0, 0, 1, 1).topLeft()
             box = QRectF(origin.x() + 8, origin.y() + 8 + 20 * slot, 520, 20)
-            painter.fillRect(box, QColor(255, 255, 255, 220))
+            painter.fillRect(box, theme.qcolor("background", alpha=0.9))
             painter.drawText(
                 box.adjusted(6, 0, 0, 0),
                 int(Qt.AlignmentFlag.AlignVCenter | Qt.AlignmentFlag.AlignLeft),

@@ -64,24 +64,24 @@ def paint_scene(
         if opts.fill_background:
             painter.fillRect(QRectF(0, 0, w, h), theme.qcolor("background"))
         # each part on its own: one that cannot be drawn leaves a placeholder, not a crash
-        with guarded(painter, "the rooms"):
+        with guarded(painter, "the rooms", theme=theme):
             paint_rooms(painter, scene, view, theme)
         if opts.grid:
-            with guarded(painter, "the grid"):
+            with guarded(painter, "the grid", theme=theme):
                 paint_grid(painter, scene, view, theme, (w, h))
-        with guarded(painter, "the doorways"):
+        with guarded(painter, "the doorways", theme=theme):
             paint_doorways(painter, scene, view, theme)
-        with guarded(painter, "the obstacles"):
+        with guarded(painter, "the obstacles", theme=theme):
             paint_obstacles(painter, scene, view, theme)
-        with guarded(painter, "the walls"):
+        with guarded(painter, "the walls", theme=theme):
             paint_walls(painter, scene, view, theme, opts.ui_scale)
         if opts.starts:
-            with guarded(painter, "the starts"):
+            with guarded(painter, "the starts", theme=theme):
                 paint_starts(painter, scene, view, theme, opts.ui_scale)
-        with guarded(painter, "the landmarks"):
+        with guarded(painter, "the landmarks", theme=theme):
             paint_landmarks(painter, scene, view, theme, opts, (w, h))
         if opts.scale_bar:
-            with guarded(painter, "the scale bar"):
+            with guarded(painter, "the scale bar", theme=theme):
                 # just under the drawn scene (not far below it in a tall frame), in the image
                 minx, miny, _, _ = bounds(scene)
                 corner = view.to_px(minx, miny)

@@ -198,7 +198,7 @@ class ReplayCanvas(SceneCanvas):
 
     def drawBackground(self, painter: QPainter, rect: QRectF) -> None:
         super().drawBackground(painter, rect)
-        with guarded(painter, "the scene"):
+        with guarded(painter, "the scene", theme=self.theme):
             self.layer.paint(painter, QStyleOptionGraphicsItem(), None)
 
     # -- fitting -----------------------------------------------------------------------
@@ -248,7 +248,7 @@ class ReplayCanvas(SceneCanvas):
         ep = self.layer_episode.episode
         if ep is None or self.scene_value is None:
             return
-        with guarded(painter, "the clock, legend and caption"):
+        with guarded(painter, "the clock, legend and caption", theme=self.theme):
             painter.resetTransform()
             w = self.viewport().width()
             ui = 1.0
