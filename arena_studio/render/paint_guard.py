@@ -100,15 +100,6 @@ def guarded(
         placeholder(painter, what, rect, theme)
 
 
-def paint_safely(painter: QPainter, what: str, draw: Callable[[], object]) -> bool:
-    """Call ``draw()`` inside :func:`guarded`; True when it finished."""
-    done = False
-    with guarded(painter, what):
-        draw()
-        done = True
-    return done
-
-
 def guarded_paint_event(what: str) -> Callable[[Callable[..., None]], Callable[..., None]]:
     """Decorate a widget's ``paintEvent``: a failure is reported once and the widget shows
     a placeholder instead of raising out of Qt's event loop."""
@@ -170,7 +161,6 @@ def placeholder(
 __all__ = [
     "guarded",
     "guarded_paint_event",
-    "paint_safely",
     "placeholder",
     "reason",
     "report",
