@@ -32,9 +32,9 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from ..render.clip import SIZE_PRESETS, ClipCancelled, ClipError, ClipSpec, export_clip
-from ..render.episode_painter import FrameOptions
-from ..render.theme import load_theme
+from arena_studio.render.clip import SIZE_PRESETS, ClipCancelled, ClipError, ClipSpec, export_clip
+from arena_studio.render.episode_painter import FrameOptions
+from arena_studio.render.theme import load_theme
 
 KINDS = (
     ("MP4 video (H.264)", ".mp4"),
@@ -294,7 +294,7 @@ class ClipDialog(QDialog):
         options = self.frame_options()
         size = self.frame_size()
         if target.suffix.lower() in (".png", ".svg"):
-            from ..render.frame import save_png_still, save_svg_still
+            from arena_studio.render.frame import save_png_still, save_svg_still
 
             if not target.parent.is_dir():
                 raise ClipError(f"{target.parent}: folder does not exist")
@@ -321,7 +321,7 @@ class ClipDialog(QDialog):
     def _check_target(self, target: Path) -> None:
         """Never the tape itself; a file we did not write there only when the user says so.
         Leftovers of killed exports in that folder are removed."""
-        from ..core.outputs import OutputClash, prepare_outputs, render_outputs
+        from arena_studio.core.outputs import OutputClash, prepare_outputs, render_outputs
 
         tape_path = getattr(self.tape, "path", None)
         inputs = [tape_path] if tape_path else []

@@ -6,10 +6,10 @@ import contextlib
 import sys
 from pathlib import Path
 
-from ..core.errors import ArenaError
-from ..core.fields import cap_text
-from ..core.outputs import path_kind
-from ..core.scene import Scene, load_scene
+from arena_studio.core.errors import ArenaError
+from arena_studio.core.outputs import path_kind
+from arena_studio.core.scene.fields import cap_text
+from arena_studio.core.scene.model import Scene, load_scene
 
 EXIT_OK = 0
 EXIT_PROBLEMS = 1

@@ -11,11 +11,17 @@ from __future__ import annotations
 
 import argparse
 
-from ..core.errors import ArenaError
-from ..core.export import CAUTION, DEFAULT_RESOLUTION, FORMATS, export_scene
-from ..core.outputs import export_outputs
-from .common import EXIT_OK, EXIT_UNREADABLE, error_line, read_scene, warning_line
-from .output_plan import add_force_argument, plan_outputs
+from arena_studio.commands.common import (
+    EXIT_OK,
+    EXIT_UNREADABLE,
+    error_line,
+    read_scene,
+    warning_line,
+)
+from arena_studio.commands.output_plan import add_force_argument, plan_outputs
+from arena_studio.core.errors import ArenaError
+from arena_studio.core.export import CAUTION, DEFAULT_RESOLUTION, FORMATS, export_scene
+from arena_studio.core.outputs import export_outputs
 
 HELP = "export a scene for a simulator or a document (json, msgpack, npz, wkt, svg, grid)"
 

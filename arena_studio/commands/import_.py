@@ -6,9 +6,7 @@ import argparse
 import os
 from pathlib import Path
 
-from ..core.errors import ArenaError
-from ..core.outputs import tape_outputs
-from .common import (
+from arena_studio.commands.common import (
     EXIT_OK,
     EXIT_UNREADABLE,
     CommandError,
@@ -16,8 +14,10 @@ from .common import (
     input_problem,
     read_scene,
 )
-from .output_plan import add_force_argument, keep_earlier_partial, plan_outputs
-from .progress import progress_bar
+from arena_studio.commands.output_plan import add_force_argument, keep_earlier_partial, plan_outputs
+from arena_studio.commands.progress import progress_bar
+from arena_studio.core.errors import ArenaError
+from arena_studio.core.outputs import tape_outputs
 
 HELP = "convert a long-format CSV table or an NPZ array file into a tape"
 
@@ -39,7 +39,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from ..core.importers import import_csv, import_npz, parse_columns
+    from arena_studio.core.tape.importers import import_csv, import_npz, parse_columns
 
     try:
         if args.dt is not None and not args.dt > 0:

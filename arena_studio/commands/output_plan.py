@@ -12,8 +12,8 @@ import argparse
 from collections.abc import Sequence
 from pathlib import Path
 
-from ..core.outputs import Output, OutputClash, prepare_outputs
-from .common import EXIT_UNREADABLE, CommandError, warning_line
+from arena_studio.commands.common import EXIT_UNREADABLE, CommandError, warning_line
+from arena_studio.core.outputs import Output, OutputClash, prepare_outputs
 
 
 def add_force_argument(parser: argparse.ArgumentParser) -> None:
@@ -38,7 +38,7 @@ def plan_outputs(
 
 def keep_earlier_partial(out: Path) -> Path | None:
     """Move an earlier run's recoverable ``OUT.partial`` aside (never truncated) and say so."""
-    from ..core.tape.writer import partial_path, set_aside_partial
+    from arena_studio.core.tape.writer import partial_path, set_aside_partial
 
     try:
         aside = set_aside_partial(out)

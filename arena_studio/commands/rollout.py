@@ -5,11 +5,17 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from ..core.errors import ArenaError
-from ..core.outputs import tape_outputs
-from .common import EXIT_OK, EXIT_UNREADABLE, CommandError, error_line, read_scene
-from .output_plan import add_force_argument, keep_earlier_partial, plan_outputs
-from .progress import progress_bar
+from arena_studio.commands.common import (
+    EXIT_OK,
+    EXIT_UNREADABLE,
+    CommandError,
+    error_line,
+    read_scene,
+)
+from arena_studio.commands.output_plan import add_force_argument, keep_earlier_partial, plan_outputs
+from arena_studio.commands.progress import progress_bar
+from arena_studio.core.errors import ArenaError
+from arena_studio.core.outputs import tape_outputs
 
 HELP = "record scripted preview episodes of a scene into a tape"
 
@@ -62,7 +68,7 @@ def run(args: argparse.Namespace) -> int:
         scene = read_scene(args.scene)
         plan_outputs(tape_outputs(out), [args.scene], args.force)
         keep_earlier_partial(out)
-        from ..core.rollout import run_rollout
+        from arena_studio.core.sim.rollout import run_rollout
 
         with progress_bar(args.episodes, "rollout", args.quiet) as bar:
             run_rollout(

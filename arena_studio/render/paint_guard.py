@@ -24,7 +24,7 @@ from typing import Any
 from PySide6.QtCore import QRectF, Qt
 from PySide6.QtGui import QPainter, QPen
 
-from .theme import Theme, load_theme
+from arena_studio.render.theme import Theme, load_theme
 
 #: Longest reason shown in a placeholder or a report line.
 MAX_REASON = 160

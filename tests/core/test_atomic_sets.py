@@ -23,7 +23,7 @@ from arena_studio.core import atomic
 from arena_studio.core.atomic import clean_stale_temps, make_temp, temp_owner, write_set_atomic
 from arena_studio.core.export import ExportError, export_scene
 from arena_studio.core.export.grid import read_grid
-from arena_studio.core.scene import load_scene
+from arena_studio.core.scene.model import load_scene
 from tests.conftest import REPO, SCENES
 
 GREENHOUSE = SCENES / "greenhouse.scene.json"
@@ -33,7 +33,7 @@ KILLING_EXPORT = textwrap.dedent(
     import os, signal, sys
     from arena_studio.core import atomic
     from arena_studio.core.export import export_scene
-    from arena_studio.core.scene import load_scene
+    from arena_studio.core.scene.model import load_scene
     allowed = int(sys.argv[2])
     real = atomic.publish
     done = [0]

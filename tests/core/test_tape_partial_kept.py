@@ -15,7 +15,7 @@ import textwrap
 from pathlib import Path
 
 from arena_studio.cli import main
-from arena_studio.core.scene import load_scene
+from arena_studio.core.scene.model import load_scene
 from arena_studio.core.tape import TapeWriter, open_tape
 from arena_studio.core.tape.writer import partial_path, set_aside_partial
 from tests.conftest import REPO, SCENES
@@ -25,8 +25,8 @@ GREENHOUSE = SCENES / "greenhouse.scene.json"
 CRASHING_ROLLOUT = textwrap.dedent(
     """
     import os, sys
-    from arena_studio.core.rollout import run_rollout
-    from arena_studio.core.scene import load_scene
+    from arena_studio.core.sim.rollout import run_rollout
+    from arena_studio.core.scene.model import load_scene
     from arena_studio.core.tape import writer
     real = writer.TapeWriter.end_episode
     ended = [0]

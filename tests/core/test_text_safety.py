@@ -20,7 +20,7 @@ from arena_studio.cli import main
 from arena_studio.core.errors import SceneFormatError
 from arena_studio.core.export.text_safety import csv_cell, escape_line, unescape_line
 from arena_studio.core.export.wkt import labelled_geometries, read_wkt_lines, wkt_text
-from arena_studio.core.scene import Scene, load_scene
+from arena_studio.core.scene.model import Scene, load_scene
 from tests.conftest import SCENES
 
 GREENHOUSE = SCENES / "greenhouse.scene.json"

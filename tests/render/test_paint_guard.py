@@ -22,8 +22,8 @@ import pytest
 from PySide6.QtCore import QRectF
 from PySide6.QtGui import QImage, QPainter
 
-from arena_studio.core.scene import Scene, load_scene
-from arena_studio.core.scene_parse import parse_scene
+from arena_studio.core.scene.model import Scene, load_scene
+from arena_studio.core.scene.parse import parse_scene
 from arena_studio.render import paint_guard, scene_painter
 from arena_studio.render.episode_painter import FrameOptions
 from arena_studio.render.frame import render_frame, svg_bytes

@@ -21,12 +21,12 @@ from typing import Any
 import numpy as np
 import shapely
 
-from ..atomic import write_set_atomic
-from ..geometry import bounds, free_space, open_area
-from ..png import encode_png
-from ..scene import Scene
-from . import ExportError
-from .meta import json_bytes, provenance
+from arena_studio.core.atomic import write_set_atomic
+from arena_studio.core.export import ExportError
+from arena_studio.core.export.meta import json_bytes, provenance
+from arena_studio.core.export.png import encode_png
+from arena_studio.core.geometry.regions import bounds, free_space, open_area
+from arena_studio.core.scene.model import Scene
 
 #: Largest grid written (cells); a finer resolution is refused with a reason.
 MAX_CELLS = 40_000_000
@@ -75,7 +75,7 @@ def grid_paths(out: Path) -> tuple[Path, Path, Path]:
 def write_grid(scene: Scene, out: Path, resolution: float, clearance: float = 0.0) -> list[Path]:
     """Write the three files as one set: the JSON sidecar (with a SHA-256 of each part) is
     published last, see :func:`arena_studio.core.atomic.write_set_atomic`."""
-    from .svg import palette
+    from arena_studio.core.export.svg import palette
 
     grid, origin = occupancy(scene, resolution, clearance)
     npy_path, png_path, json_path = grid_paths(out)

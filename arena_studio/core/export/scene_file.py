@@ -10,10 +10,10 @@ from __future__ import annotations
 import hashlib
 from pathlib import Path
 
-from ..atomic import write_set_atomic
-from ..scene import Scene
-from ..scene_files import encode_scene
-from .meta import json_bytes, provenance, sidecar_path
+from arena_studio.core.atomic import write_set_atomic
+from arena_studio.core.export.meta import json_bytes, provenance, sidecar_path
+from arena_studio.core.scene.files import encode_scene
+from arena_studio.core.scene.model import Scene
 
 
 def write_scene_export(scene: Scene, path: Path, fmt: str) -> list[Path]:

@@ -1,7 +1,7 @@
 """What text exports do with names so no name can forge a line, a field or a formula.
 
 Ids, labels and names are one line of printable text when they come from a file
-(:func:`arena_studio.core.fields.line`), but a scene built in Python skips the parser, so
+(:func:`arena_studio.core.scene.fields.line`), but a scene built in Python skips the parser, so
 every text export also escapes what it writes:
 
 - :func:`escape_line` writes a backslash as ``\\\\`` and any control character or line
@@ -17,7 +17,7 @@ from __future__ import annotations
 
 import re
 
-from ..fields import UNSAFE_CHARACTERS
+from arena_studio.core.scene.fields import UNSAFE_CHARACTERS
 
 #: First characters a spreadsheet reads as the start of a formula (OWASP, CSV injection).
 FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")

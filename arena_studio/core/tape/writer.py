@@ -31,8 +31,8 @@ from typing import Any, BinaryIO
 
 import numpy as np
 
-from ..scene import Scene
-from .format import (
+from arena_studio.core.scene.model import Scene
+from arena_studio.core.tape.format import (
     FORMAT_NAME,
     FORMAT_VERSION,
     KIND_BEGIN,
@@ -66,7 +66,7 @@ def _recoverable(partial: Path) -> bool:
             return False
     except OSError:
         return False
-    from .reader import open_tape
+    from arena_studio.core.tape.reader import open_tape
 
     try:
         return len(open_tape(partial)) > 0
