@@ -74,11 +74,17 @@ def main(argv: Sequence[str] | None = None) -> int:
         from arena_studio.app.launch import launch_app
 
         return launch_app(args)
-    try:
-        return int(load_command(args.command).run(args))
-    except CommandError as exc:  # any command may raise it: one line on stderr, its exit code
-        error_line(str(exc))
-        return exc.code
+    from arena_studio.commands.stdout_safety import run_with_safe_stdout
+
+    def run() -> int:
+        try:
+            return int(load_command(args.command).run(args))
+        except CommandError as exc:  # any command may raise it: one line, its exit code
+            error_line(str(exc))
+            return exc.code
+
+    # a closed pipe (| head) ends quietly; a full device is one line and exit 2
+    return run_with_safe_stdout(run, error_line)
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -28,6 +28,7 @@ from arena_studio.core.geometry.regions import bounds
 from arena_studio.core.scene.model import Scene
 from arena_studio.render.drawing import nice_step
 from arena_studio.render.episode_painter import blits_exactly
+from arena_studio.render.paint_guard import guarded
 from arena_studio.render.scene_painter import paint_scale_bar
 from arena_studio.render.theme import Theme
 from arena_studio.render.view import ViewTransform
@@ -153,15 +154,14 @@ class SceneCanvas(QGraphicsView):
         t = self.viewportTransform()
         view = ViewTransform(math.hypot(t.m11(), t.m12()), t.dx(), t.dy())
         size = (float(self.viewport().width()), float(self.viewport().height()))
-        painter.save()
-        painter.resetTransform()
-        if blits_exactly(painter):
-            origin, image = self._scale_bar_image(view, size)
-            painter.drawImage(origin, image)
-        else:
-            painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
-            paint_scale_bar(painter, view, self.theme, size)
-        painter.restore()
+        with guarded(painter, "the scale bar", theme=self.theme):
+            painter.resetTransform()
+            if blits_exactly(painter):
+                origin, image = self._scale_bar_image(view, size)
+                painter.drawImage(origin, image)
+            else:
+                painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+                paint_scale_bar(painter, view, self.theme, size)
 
     def _scale_bar_image(
         self, view: ViewTransform, size: tuple[float, float]

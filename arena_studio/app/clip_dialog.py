@@ -24,6 +24,7 @@ from PySide6.QtWidgets import (
     QHBoxLayout,
     QLabel,
     QLineEdit,
+    QMessageBox,
     QProgressBar,
     QPushButton,
     QSpinBox,
@@ -206,7 +207,12 @@ class ClipDialog(QDialog):
                 self.path.setText(str(Path(folder) / "frames"))
             return
         name, _ = QFileDialog.getSaveFileName(
-            self, "Export to", self.path.text(), f"{self.kind.currentText()} (*{ext})"
+            self,
+            "Export to",
+            self.path.text(),
+            f"{self.kind.currentText()} (*{ext})",
+            # export asks itself, and only about files it did not write (core.outputs)
+            options=QFileDialog.Option.DontConfirmOverwrite,
         )
         if name:
             self.path.setText(name if name.lower().endswith(ext) else name + ext)
@@ -283,6 +289,7 @@ class ClipDialog(QDialog):
         target = Path(self.path.text().strip()).expanduser()
         if not str(target):
             raise ClipError("choose a file or folder to export to")
+        self._check_target(target)
         indices = self.episode_indices()
         episodes = [self.tape.episode(i) for i in indices]
         options = self.frame_options()
@@ -311,6 +318,33 @@ class ClipDialog(QDialog):
         return export_clip(
             self.tape.scene, episodes, target, spec, progress=self._progress, cancel=self._cancelled
         )
+
+    def _check_target(self, target: Path) -> None:
+        """Never the tape itself; a file we did not write there only when the user says so.
+        Leftovers of killed exports in that folder are removed."""
+        from arena_studio.core.outputs import OutputClash, prepare_outputs, render_outputs
+
+        tape_path = getattr(self.tape, "path", None)
+        inputs = [tape_path] if tape_path else []
+        try:
+            prepare_outputs(render_outputs(target), inputs)
+        except OutputClash as exc:
+            if not exc.needs_force:
+                raise ClipError(str(exc)) from None
+            if not self.confirm_replace(target):
+                raise ClipCancelled(f"{target.name} was kept; nothing was written") from None
+            prepare_outputs(render_outputs(target), inputs, force=True)
+
+    def confirm_replace(self, target: Path) -> bool:
+        """Ask before replacing a file that is not an earlier export (tests replace this)."""
+        answer = QMessageBox.question(
+            self,
+            "Replace file?",
+            f"“{target.name}” already exists and was not exported by arena-studio. Replace it?",
+            QMessageBox.StandardButton.Yes | QMessageBox.StandardButton.No,
+            QMessageBox.StandardButton.No,
+        )
+        return answer == QMessageBox.StandardButton.Yes
 
     def _progress(self, done: int, total: int) -> None:
         self.progress.setRange(0, total)

@@ -7,6 +7,8 @@ Other modes add a page with :meth:`add_mode`.
 
 from __future__ import annotations
 
+import contextlib
+import sys
 from collections.abc import Callable
 from pathlib import Path
 
@@ -261,6 +263,20 @@ class MainWindow(FileCommands, ModePages, QMainWindow):
         bar.addWidget(self.message_label, 1)
         bar.addPermanentWidget(self.zoom_label)
         bar.addPermanentWidget(self.coords_label)
+        from arena_studio.render.paint_guard import set_reporter
+
+        set_reporter(self._drawing_problem)  # a part that cannot be drawn: said here, once
+
+    def _drawing_problem(self, message: str) -> None:
+        """Show a paint failure after the paint event (never from inside it); stderr too,
+        for runs nobody watches (screenshots)."""
+        print(f"arena-studio: warning: {message}", file=sys.stderr)
+
+        def show() -> None:
+            with contextlib.suppress(RuntimeError):  # the window may be gone by then
+                self.show_message(f"Drawing problem: {message}")
+
+        QTimer.singleShot(0, show)
 
     def _connect(self) -> None:
         doc = self.document

@@ -18,6 +18,7 @@ from shapely.geometry import MultiPolygon, Polygon
 from arena_studio.core.scene.model import Scene
 from arena_studio.editing.edits import ObjKey, outline_of
 from arena_studio.editing.tools import Preview
+from arena_studio.render.paint_guard import guarded, saved
 from arena_studio.render.scene_painter import SceneOptions, paint_scene
 from arena_studio.render.theme import Theme
 from arena_studio.render.view import ViewTransform
@@ -75,17 +76,16 @@ def draw_label(
     label.
     """
     mpp = metres_per_pixel(painter)
-    painter.save()
-    painter.translate(at[0], at[1])
-    painter.scale(mpp, -mpp)
-    if backdrop is not None:
-        box = QFontMetricsF(painter.font()).boundingRect(text).translated(dx, dy)
-        painter.setPen(Qt.PenStyle.NoPen)
-        painter.setBrush(backdrop)
-        painter.drawRoundedRect(box.adjusted(-2, -1, 2, 1), 3, 3)
-    painter.setPen(color)
-    painter.drawText(QPointF(dx, dy), text)
-    painter.restore()
+    with saved(painter):
+        painter.translate(at[0], at[1])
+        painter.scale(mpp, -mpp)
+        if backdrop is not None:
+            box = QFontMetricsF(painter.font()).boundingRect(text).translated(dx, dy)
+            painter.setPen(Qt.PenStyle.NoPen)
+            painter.setBrush(backdrop)
+            painter.drawRoundedRect(box.adjusted(-2, -1, 2, 1), 3, 3)
+        painter.setPen(color)
+        painter.drawText(QPointF(dx, dy), text)
 
 
 class SceneLayer(QGraphicsItem):
@@ -117,17 +117,23 @@ class SceneLayer(QGraphicsItem):
         t = painter.worldTransform()
         view = ViewTransform(math.hypot(t.m11(), t.m12()), t.dx(), t.dy())
         size = (float(widget.width()), float(widget.height())) if widget else (1600.0, 1000.0)
-        painter.save()
-        painter.resetTransform()
-        paint_scene(painter, self.scene_value, view, self.theme, self.options, size)
-        painter.restore()
+        with saved(painter):
+            painter.resetTransform()
+            paint_scene(painter, self.scene_value, view, self.theme, self.options, size)
+        # the editor's marks, each on its own: one that fails leaves a placeholder
         if self.show_agent_ids:
-            self._paint_agent_ids(painter)
-        self._paint_highlight(painter)
-        self._paint_picked(painter)
-        self._paint_selection(painter)
-        self._paint_findings(painter)
-        self._paint_preview(painter)
+            with guarded(painter, "the agent names", theme=self.theme):
+                self._paint_agent_ids(painter)
+        with guarded(painter, "the goal highlight", theme=self.theme):
+            self._paint_highlight(painter)
+        with guarded(painter, "the picked landmarks", theme=self.theme):
+            self._paint_picked(painter)
+        with guarded(painter, "the selection", theme=self.theme):
+            self._paint_selection(painter)
+        with guarded(painter, "the finding marks", theme=self.theme):
+            self._paint_findings(painter)
+        with guarded(painter, "the outline being drawn", theme=self.theme):
+            self._paint_preview(painter)
 
     def _paint_agent_ids(self, painter: QPainter) -> None:
         mpp = metres_per_pixel(painter)

@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import argparse
 import json
+import os
+import stat
 import sys
 from collections.abc import Callable
 from pathlib import Path
@@ -28,6 +30,8 @@ def is_tape(path: str) -> bool:
     if path.endswith((".tape", ".tape.partial")):
         return True
     try:
+        if not stat.S_ISREG(os.stat(path).st_mode):  # a pipe or device would block the read
+            return False
         with open(path, "rb") as f:
             return f.read(len(TAPE_MAGIC)) == TAPE_MAGIC
     except OSError:

@@ -12,10 +12,18 @@ from __future__ import annotations
 import argparse
 
 from arena_studio.commands.arg_types import number
-from arena_studio.commands.common import EXIT_OK, EXIT_UNREADABLE, error_line, read_scene
+from arena_studio.commands.common import (
+    EXIT_OK,
+    EXIT_UNREADABLE,
+    error_line,
+    read_scene,
+    warning_line,
+)
+from arena_studio.commands.output_plan import add_force_argument, plan_outputs
 from arena_studio.core import limits as lim
 from arena_studio.core.errors import ArenaError
 from arena_studio.core.export import CAUTION, DEFAULT_RESOLUTION, FORMATS, export_scene
+from arena_studio.core.outputs import export_outputs
 
 HELP = "export a scene for a simulator or a document (json, msgpack, npz, wkt, svg, grid)"
 
@@ -52,10 +60,14 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         help="grid: a free cell's centre stays C metres from walls and obstacles, e.g. the "
         "robot radius (default 0)",
     )
+    add_force_argument(parser)
 
 
 def run(args: argparse.Namespace) -> int:
     scene = read_scene(args.scene)  # a CommandError becomes one line in cli.main
+    # every file (sidecars too) is checked before any is written
+    plan_outputs(export_outputs(args.format, args.output), [args.scene], args.force)
+    failures: list[str] = []
     try:
         written = export_scene(
             scene,
@@ -63,6 +75,7 @@ def run(args: argparse.Namespace) -> int:
             args.output,
             resolution=args.resolution,
             clearance=args.clearance,
+            failures=failures,
         )
     except ArenaError as exc:
         error_line(str(exc))
@@ -70,6 +83,8 @@ def run(args: argparse.Namespace) -> int:
     except Exception as exc:  # an exporter bug must still end in one line, not a traceback
         error_line(f"{args.scene}: export failed ({type(exc).__name__}: {exc}); please report")
         return EXIT_UNREADABLE
+    for message in failures:
+        warning_line(f"{args.output}: {message}")
     for path in written:
         print(f"wrote {path}")
     print(f"scene content hash {scene.content_hash()}")

@@ -14,9 +14,11 @@ from arena_studio.commands.common import (
     error_line,
     read_scene,
 )
+from arena_studio.commands.output_plan import add_force_argument, keep_earlier_partial, plan_outputs
 from arena_studio.commands.progress import progress_bar
 from arena_studio.core import limits as lim
 from arena_studio.core.errors import ArenaError
+from arena_studio.core.outputs import tape_outputs
 from arena_studio.core.safe_open import check_input
 
 HELP = "convert a long-format CSV table or an NPZ array file into a tape"
@@ -37,6 +39,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         help="CSV column names, e.g. 'x=pos_x,y=pos_y' (ours=theirs)",
     )
     parser.add_argument("--quiet", action="store_true", help="no progress bar")
+    add_force_argument(parser)
 
 
 def run(args: argparse.Namespace) -> int:
@@ -48,6 +51,8 @@ def run(args: argparse.Namespace) -> int:
         if not Path(args.output).parent.is_dir():
             raise CommandError(f"{args.output}: folder does not exist")
         scene = read_scene(args.scene)
+        plan_outputs(tape_outputs(args.output), [args.input, args.scene], args.force)
+        keep_earlier_partial(Path(args.output))
         if args.kind == "csv":
             columns = parse_columns(args.columns)
             total = max(1, os.path.getsize(src) // 40)  # rough rows, for the bar only

@@ -13,6 +13,7 @@ from arena_studio.commands.common import (
     error_line,
     warning_line,
 )
+from arena_studio.commands.output_plan import add_force_argument, plan_outputs
 from arena_studio.core import limits as lim
 from arena_studio.core.errors import ArenaError
 
@@ -96,6 +97,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         "--dpi", type=number(lim.DPI), default=None, help="PNG still: DPI stored in file"
     )
     parser.add_argument("--quiet", action="store_true", help="no progress bar")
+    add_force_argument(parser)
 
 
 def run(args: argparse.Namespace) -> int:
@@ -125,6 +127,9 @@ def _run(args: argparse.Namespace) -> int:
         raise CommandError(f"{out.parent}: folder does not exist")
     if args.compare and args.episode != [0]:
         raise CommandError("use --episode (one or several in sequence) or --compare A B, not both")
+    from arena_studio.core.outputs import render_outputs
+
+    plan_outputs(render_outputs(out), [args.tape], args.force)
     tape = _open(args.tape)
     indices = list(args.compare) if args.compare else list(args.episode)
     episodes = []
@@ -183,8 +188,13 @@ def _run(args: argparse.Namespace) -> int:
 
 
 def _open(path: str):
+    from arena_studio.commands.common import input_problem
     from arena_studio.core.tape import open_tape
 
+    p = Path(path)
+    problem = input_problem(p, "a tape file")
+    if problem:
+        raise CommandError(problem)
     try:
         tape = open_tape(Path(path))  # refuses folders, pipes and devices by name
     except ArenaError as exc:

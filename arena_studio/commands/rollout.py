@@ -13,9 +13,11 @@ from arena_studio.commands.common import (
     error_line,
     read_scene,
 )
+from arena_studio.commands.output_plan import add_force_argument, keep_earlier_partial, plan_outputs
 from arena_studio.commands.progress import progress_bar
 from arena_studio.core import limits as lim
 from arena_studio.core.errors import ArenaError
+from arena_studio.core.outputs import tape_outputs
 
 HELP = "record scripted preview episodes of a scene into a tape"
 
@@ -50,6 +52,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     )
     parser.add_argument("--dt", type=number(lim.DT), default=0.1, help="time step in seconds")
     parser.add_argument("--quiet", action="store_true", help="no progress bar")
+    add_force_argument(parser)
 
 
 def run(args: argparse.Namespace) -> int:
@@ -60,6 +63,8 @@ def run(args: argparse.Namespace) -> int:
         if not out.parent.is_dir():
             raise CommandError(f"{args.output}: folder does not exist")
         scene = read_scene(args.scene)
+        plan_outputs(tape_outputs(out), [args.scene], args.force)
+        keep_earlier_partial(out)
         from arena_studio.core.sim.rollout import run_rollout
 
         with progress_bar(args.episodes, "rollout", args.quiet) as bar:
@@ -77,7 +82,10 @@ def run(args: argparse.Namespace) -> int:
     except CommandError as exc:
         error_line(str(exc))
         return exc.code
-    except (ArenaError, ValueError) as exc:
+    except ArenaError as exc:  # these name their own place (the scene, the tape written)
+        error_line(str(exc))
+        return EXIT_UNREADABLE
+    except ValueError as exc:  # what is left is about the scene (no agents, no goals)
         error_line(f"{args.scene}: {exc}")
         return EXIT_UNREADABLE
     except KeyboardInterrupt:

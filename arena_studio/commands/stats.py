@@ -20,6 +20,7 @@ from arena_studio.commands.common import (
 from arena_studio.commands.progress import progress_bar
 from arena_studio.core import limits as lim
 from arena_studio.core.errors import ArenaError
+from arena_studio.core.export.text_safety import csv_cell
 
 HELP = "summarise a tape: success by goal and kind, alignment, diagnoses, per-episode rows"
 
@@ -135,10 +136,7 @@ def run(args: argparse.Namespace) -> int:
         ]
     if args.parquet:
         _write_parquet(args.parquet, rows)
-    try:
-        _emit(args, tape, summary, rows)
-    except BrokenPipeError:  # output piped into head and closed early: not an error
-        sys.stderr.close()
+    _emit(args, tape, summary, rows)  # a closed pipe is handled in cli (stdout_safety)
     return EXIT_OK
 
 
@@ -161,7 +159,8 @@ def _emit(args: argparse.Namespace, tape: Any, summary: dict[str, Any], rows: li
         writer = csv.writer(sys.stdout, lineterminator="\n")
         writer.writerow(ROW_FIELDS)
         for row in rows:
-            writer.writerow(["" if row[k] is None else row[k] for k in ROW_FIELDS])
+            # text cells a spreadsheet would run as formulas are neutralised (OWASP)
+            writer.writerow(["" if row[k] is None else csv_cell(row[k]) for k in ROW_FIELDS])
     else:
         _print_text(tape, summary, rows)
 

@@ -16,7 +16,6 @@ import os
 import queue
 import shutil
 import subprocess
-import tempfile
 import threading
 from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass, field, replace
@@ -26,7 +25,8 @@ from typing import IO
 from PySide6.QtCore import QSize
 from PySide6.QtGui import QImage, QPainter
 
-from arena_studio.core.atomic import make_temp, publish
+from arena_studio.core.atomic import make_temp, make_temp_dir, publish
+from arena_studio.core.child_process import die_with_parent
 from arena_studio.core.limits import FRAME_SIDE, MAX_CLIP_FRAMES, RangeError
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.episode import Episode
@@ -42,6 +42,8 @@ FORMATS = (".mp4", ".gif", "folder of PNGs (a path without extension)")
 
 #: images in the painter's ring when piping: one painted, one queued, one being written
 PIPE_BUFFERS = 3
+#: Written into every clip and still, so a re-run recognises its own earlier output.
+RENDER_MARK = "arena-studio render"
 
 ProgressFn = Callable[[int, int], None]
 CancelFn = Callable[[], bool]
@@ -327,7 +329,8 @@ def _ffmpeg_args(exe: str, kind: str, size: tuple[int, int], spec: ClipSpec, out
             f"-sws_flags neighbor -c:v libx264 -preset {spec.preset} -crf {spec.crf} "
             "-pix_fmt yuv420p"
         )
-        return [*head, *encode.split(), "-movflags", "+faststart", "-f", "mp4", out]
+        mark = ["-metadata", f"comment={RENDER_MARK}"]  # how a re-run knows its own file
+        return [*head, *encode.split(), *mark, "-movflags", "+faststart", "-f", "mp4", out]
     # one palette for the whole clip, ordered dithering (stable between frames, no shimmer)
     graph = (
         "split[a][b];[a]palettegen=stats_mode=full:max_colors=256[p];"
@@ -350,6 +353,7 @@ def _write_ffmpeg(
         stdin=subprocess.PIPE,
         stdout=subprocess.DEVNULL,
         stderr=subprocess.PIPE,
+        preexec_fn=die_with_parent(),  # a killed render leaves no encoder running
     )
     assert proc.stdin is not None and proc.stderr is not None
     _widen_pipe(proc.stdin.fileno())
@@ -362,6 +366,8 @@ def _write_ffmpeg(
                 raise ClipError(f"{target}: the disk is full; nothing was written")
             last = err.splitlines()[-1] if err else f"exit code {code}"
             raise ClipError(f"{target}: could not encode the clip: {last}")
+        if kind == "gif":
+            mark_gif(tmp)
         publish(tmp, target)
     except BaseException:
         with contextlib.suppress(Exception):
@@ -374,6 +380,19 @@ def _write_ffmpeg(
         for pipe in (proc.stdin, proc.stderr):
             with contextlib.suppress(Exception):
                 pipe.close()
+
+
+def mark_gif(path: Path) -> None:
+    """Add a GIF89a comment extension naming us just before the trailer byte, so a re-run
+    knows the file as its own (GIF89a: a comment block may sit between any two blocks)."""
+    text = RENDER_MARK.encode("ascii")
+    block = b"\x21\xfe" + bytes([len(text)]) + text + b"\x00\x3b"
+    with open(path, "r+b") as handle:
+        handle.seek(-1, os.SEEK_END)
+        if handle.read(1) != b"\x3b":
+            return  # not a complete GIF: leave it as ffmpeg wrote it
+        handle.seek(-1, os.SEEK_END)
+        handle.write(block)
 
 
 def _widen_pipe(fd: int) -> None:
@@ -438,7 +457,7 @@ def _temp_name(target: Path) -> Path:
 
 def _write_png_folder(target: Path, frames: Iterator[QImage]) -> None:
     try:
-        tmp = Path(tempfile.mkdtemp(prefix=f".{target.name}.", suffix=".part", dir=target.parent))
+        tmp = make_temp_dir(target)
     except OSError as exc:
         raise ClipError(f"{target.parent}: cannot write here ({exc.strerror})") from None
     try:

@@ -47,6 +47,7 @@ from arena_studio.render.fastpath import (
 )
 from arena_studio.render.legend import paint_banner, paint_clock, paint_legend
 from arena_studio.render.options import FrameOptions
+from arena_studio.render.paint_guard import guarded, saved
 from arena_studio.render.scene_painter import label_places
 from arena_studio.render.theme import Theme
 from arena_studio.render.trail_blocks import paint_wide_trails, prefill_blocks
@@ -58,6 +59,9 @@ THIN_TRAIL_POINTS = 2400
 MAX_TRAIL_POINTS = 16000
 #: trails keep every k-th step when agents typically move less than this many pixels a step
 TRAIL_POINT_SPACING = 4.0
+
+#: Largest pixel coordinate drawn; beyond it positions are damage, not drawing.
+PIXEL_LIMIT = 1e7
 
 __all__ = [
     "FrameOptions",
@@ -77,7 +81,22 @@ def paint_episode_frame(
     theme: Theme,
     options: FrameOptions | None = None,
 ) -> None:
-    """Paint the episode's dynamic layer at ``step`` (clamped) over an already painted scene."""
+    """Paint the episode's dynamic layer at ``step`` (clamped) over an already painted scene.
+
+    Never raises: a layer that cannot be drawn becomes a placeholder and one report."""
+    with guarded(painter, "the episode", theme=theme):
+        _paint_episode_frame(painter, scene, episode, step, view, theme, options)
+
+
+def _paint_episode_frame(
+    painter: QPainter,
+    scene: Scene,
+    episode: Episode,
+    step: int,
+    view: ViewTransform,
+    theme: Theme,
+    options: FrameOptions | None,
+) -> None:
     opts = options or FrameOptions()
     cache = episode_cache(scene, episode)
     if cache.steps == 0:
@@ -85,20 +104,26 @@ def paint_episode_frame(
     step = int(min(max(step, 0), cache.steps - 1))
     ui = opts.ui_scale or 1.0
     raster = blits_exactly(painter)  # once a frame: asking Qt costs ~10 us
-    painter.save()
-    painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
-    if opts.par_paths:
-        paint_par_paths(painter, cache, view, theme, ui)
-    if opts.team_goal and cache.has_team_goal:
-        paint_targets(painter, cache, step, view, theme, ui, raster)
-    if opts.trails:
-        paint_trails(painter, cache, step, view, theme, opts, ui, raster)
-    if opts.pursued:
-        paint_pursued(painter, cache, step, view, theme, ui)
-    if opts.collisions:
-        paint_collisions(painter, cache, step, view, theme, ui, opts, raster)
-    paint_agents(painter, cache, step, view, theme, opts, ui, raster)
-    painter.restore()
+    with saved(painter):
+        painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+        # each layer on its own: one that cannot be drawn leaves a placeholder, not a crash
+        if opts.par_paths:
+            with guarded(painter, "the par-time paths", theme=theme):
+                paint_par_paths(painter, cache, view, theme, ui)
+        if opts.team_goal and cache.has_team_goal:
+            with guarded(painter, "the team-goal targets", theme=theme):
+                paint_targets(painter, cache, step, view, theme, ui, raster)
+        if opts.trails:
+            with guarded(painter, "the trails", theme=theme):
+                paint_trails(painter, cache, step, view, theme, opts, ui, raster)
+        if opts.pursued:
+            with guarded(painter, "the pursued-goal lines", theme=theme):
+                paint_pursued(painter, cache, step, view, theme, ui)
+        if opts.collisions:
+            with guarded(painter, "the contact marks", theme=theme):
+                paint_collisions(painter, cache, step, view, theme, ui, opts, raster)
+        with guarded(painter, "the agents", theme=theme):
+            paint_agents(painter, cache, step, view, theme, opts, ui, raster)
 
 
 def blits_exactly(painter: QPainter) -> bool:
@@ -474,6 +499,9 @@ def paint_collisions(
     recent_steps = 1.0 / cache.episode.dt if cache.episode.dt > 0 else 1
     px = view.map_array(ev[:, 1:3])
     recent = (step - ev[:, 0]) <= recent_steps
+    # marks far off the image (damaged poses) are skipped: Qt's int coordinates overflow
+    on_canvas = (np.abs(px) < PIXEL_LIMIT).all(axis=1)
+    px, recent = px[on_canvas], recent[on_canvas]
     if blits_exactly(painter) if raster is None else raster:
         # crowds leave hundreds of marks: one blit each instead of an ellipse per recent one
         for is_recent in (False, True):

@@ -26,10 +26,13 @@ from arena_studio.render.episode_painter import (
     paint_episode_frame,
     paint_legend,
 )
+from arena_studio.render.paint_guard import guarded, saved
 from arena_studio.render.scene_painter import SceneOptions, paint_scene
 from arena_studio.render.theme import Theme, load_theme
 from arena_studio.render.view import ViewTransform
 
+#: Written into stills, so a re-run recognises its own earlier output (core.outputs).
+STILL_MARK = "arena-studio render"
 IMAGE_FORMAT = QImage.Format.Format_RGB32  # memory order B, G, R, 0xFF on little-endian
 
 
@@ -125,17 +128,16 @@ def paint_static(
 ) -> None:
     """Background, scene, panel and legend, title and caption: what no step changes."""
     w, h = layout.size
-    painter.save()
-    painter.setClipRect(layout.scene_rect)
-    paint_scene(
-        painter,
-        scene,
-        layout.view,
-        theme,
-        scene_options(options, layout.ui),
-        size=(layout.scene_rect.right(), layout.scene_rect.bottom()),
-    )
-    painter.restore()
+    with saved(painter):
+        painter.setClipRect(layout.scene_rect)
+        paint_scene(
+            painter,
+            scene,
+            layout.view,
+            theme,
+            scene_options(options, layout.ui),
+            size=(layout.scene_rect.right(), layout.scene_rect.bottom()),
+        )
     painter.fillRect(QRectF(0, 0, w, layout.scene_rect.top()), theme.qcolor("background"))
     painter.fillRect(
         QRectF(0, layout.scene_rect.bottom(), w, h - layout.scene_rect.bottom()),
@@ -144,20 +146,25 @@ def paint_static(
     if layout.panel_rect is not None:
         painter.fillRect(layout.panel_rect, theme.qcolor("background"))
     if layout.legend_rect is not None:
-        paint_legend(
-            painter,
-            layout.legend_rect,
-            scene,
-            episode,
-            theme,
-            options,
-            layout.ui,
-            columns=layout.legend_columns,
-        )
+        with guarded(painter, "the legend", layout.legend_rect, theme):
+            paint_legend(
+                painter,
+                layout.legend_rect,
+                scene,
+                episode,
+                theme,
+                options,
+                layout.ui,
+                columns=layout.legend_columns,
+            )
     if layout.title_rect is not None and options.title:
-        paint_banner(painter, layout.title_rect, options.title, theme, 18 * layout.ui, True)
+        with guarded(painter, "the title", theme=theme):
+            paint_banner(painter, layout.title_rect, options.title, theme, 18 * layout.ui, True)
     if layout.caption_rect is not None and options.caption:
-        paint_banner(painter, layout.caption_rect, options.caption, theme, 13 * layout.ui, False)
+        with guarded(painter, "the caption", theme=theme):
+            paint_banner(
+                painter, layout.caption_rect, options.caption, theme, 13 * layout.ui, False
+            )
 
 
 def paint_dynamic(
@@ -170,12 +177,12 @@ def paint_dynamic(
     options: FrameOptions,
 ) -> None:
     opts = replace(options, ui_scale=layout.ui)
-    painter.save()
-    painter.setClipRect(layout.scene_rect)
-    paint_episode_frame(painter, scene, episode, step, layout.view, theme, opts)
-    painter.restore()
+    with saved(painter):
+        painter.setClipRect(layout.scene_rect)
+        paint_episode_frame(painter, scene, episode, step, layout.view, theme, opts)
     if layout.clock_rect is not None:
-        paint_clock(painter, layout.clock_rect, episode, step, theme, layout.ui)
+        with guarded(painter, "the clock", theme=theme):
+            paint_clock(painter, layout.clock_rect, episode, step, theme, layout.ui)
 
 
 class FrameRenderer:
@@ -261,12 +268,16 @@ def render_frame(
 
 
 # -- stills -------------------------------------------------------------------------------------
-def png_bytes(image: QImage, dpi: float | None = None) -> bytes:
+def png_bytes(image: QImage, dpi: float | None = None, software: str | None = None) -> bytes:
+    """PNG of ``image``; ``software`` goes into a text chunk (stills name us there)."""
+    if dpi is not None or software is not None:
+        image = image.copy()
     if dpi is not None:
         per_metre = round(dpi / 0.0254)
-        image = image.copy()
         image.setDotsPerMeterX(per_metre)
         image.setDotsPerMeterY(per_metre)
+    if software is not None:
+        image.setText("Software", software)
     data = QByteArray()
     buffer = QBuffer(data)
     buffer.open(QIODevice.OpenModeFlag.WriteOnly)
@@ -292,7 +303,7 @@ def save_png_still(
     ui = ui_scale_for(size, opts) * scale
     image = render_frame(scene, episode, step, replace(opts, ui_scale=ui), (w, h))
     target = Path(path)
-    write_bytes_atomic(target, png_bytes(image, dpi))
+    write_bytes_atomic(target, png_bytes(image, dpi, STILL_MARK))
     return target
 
 
@@ -319,7 +330,7 @@ def svg_bytes(
     gen.setSize(QSize(*size))
     gen.setViewBox(QRectF(0, 0, *size))
     gen.setTitle(title)
-    gen.setDescription(f"{scene.name}, episode {episode.index}, step {step}")
+    gen.setDescription(f"{STILL_MARK}: {scene.name}, episode {episode.index}, step {step}")
     painter = QPainter(gen)
     try:
         painter.fillRect(QRectF(0, 0, *size), theme.qcolor("background"))

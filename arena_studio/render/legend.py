@@ -10,6 +10,7 @@ from arena_studio.core.tape.episode import Episode
 from arena_studio.render.drawing import font, label
 from arena_studio.render.episode_cache import EpisodeCache, episode_cache
 from arena_studio.render.options import FrameOptions
+from arena_studio.render.paint_guard import saved
 from arena_studio.render.role_style import (
     STYLE_HOLLOW,
     paint_role_mark,
@@ -49,11 +50,10 @@ def paint_banner(
     painter: QPainter, rect: QRectF, text: str, theme: Theme, px: float, bold: bool
 ) -> None:
     """A strip of text centred in ``rect`` (title line or caption line)."""
-    painter.save()
-    painter.setFont(font(px, bold))
-    painter.setPen(theme.qcolor("text"))
-    painter.drawText(rect, Qt.AlignmentFlag.AlignCenter | Qt.TextFlag.TextSingleLine, text)
-    painter.restore()
+    with saved(painter):
+        painter.setFont(font(px, bold))
+        painter.setPen(theme.qcolor("text"))
+        painter.drawText(rect, Qt.AlignmentFlag.AlignCenter | Qt.TextFlag.TextSingleLine, text)
 
 
 def paint_legend(
@@ -72,66 +72,67 @@ def paint_legend(
     Rows that do not fit are left out; agents beyond the room say how many more there are.
     """
     cache = episode_cache(scene, episode)
-    painter.save()
-    painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
-    row = 20 * ui
-    sections = _sections(cache, scene, options, ui, rect, row, columns)
-    if columns:
-        used = max(len(rows) + 1 for _t, rows in sections) * row
-    else:
-        used = sum((len(rows) + 1) * row for _t, rows in sections) + 0.4 * row * (len(sections) - 1)
-    box = QRectF(rect.x(), rect.y(), rect.width(), min(rect.height(), used + 12 * ui))
-    painter.setPen(QPen(theme.qcolor("grid_major"), 1.0))
-    painter.setBrush(theme.qcolor("room_fill"))
-    painter.drawRoundedRect(box, 6 * ui, 6 * ui)
-    x0, y = rect.x() + 12 * ui, rect.y() + 18 * ui
-    text, muted = theme.qcolor("text"), theme.qcolor("text_muted")
-    r = 6.0 * ui
-    bottom = rect.bottom() - row * 0.6
-    head, body = font(12 * ui, bold=True), font(11.5 * ui)
-    lefts = [x0] * len(sections)
-    if columns:
-        # columns as wide as their longest text; smaller type when they would not fit
-        widths = _column_widths(sections, head, body, r, ui)
-        fit = (rect.width() - 24 * ui) / max(sum(widths), 1.0)
-        if fit < 1.0:
-            head, body = font(12 * ui * max(fit, 0.6), True), font(11.5 * ui * max(fit, 0.6))
-            widths = _column_widths(sections, head, body, r, ui)
-        lefts = [x0 + sum(widths[:k]) for k in range(len(sections))]
-    for k, (title, rows) in enumerate(sections):
-        x = lefts[k]
+    with saved(painter):
+        painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+        row = 20 * ui
+        sections = _sections(cache, scene, options, ui, rect, row, columns)
         if columns:
-            y = rect.y() + 18 * ui
-        elif k:
-            y += row * 0.4
-        if y > bottom - row:
-            break
-        label(painter, title, QPointF(x, y), head, muted, None)
-        y += row
-        for kind, arg, name in rows:
-            if y > bottom:
+            used = max(len(rows) + 1 for _t, rows in sections) * row
+        else:
+            used = sum((len(rows) + 1) * row for _t, rows in sections) + 0.4 * row * (
+                len(sections) - 1
+            )
+        box = QRectF(rect.x(), rect.y(), rect.width(), min(rect.height(), used + 12 * ui))
+        painter.setPen(QPen(theme.qcolor("grid_major"), 1.0))
+        painter.setBrush(theme.qcolor("room_fill"))
+        painter.drawRoundedRect(box, 6 * ui, 6 * ui)
+        x0, y = rect.x() + 12 * ui, rect.y() + 18 * ui
+        text, muted = theme.qcolor("text"), theme.qcolor("text_muted")
+        r = 6.0 * ui
+        bottom = rect.bottom() - row * 0.6
+        head, body = font(12 * ui, bold=True), font(11.5 * ui)
+        lefts = [x0] * len(sections)
+        if columns:
+            # columns as wide as their longest text; smaller type when they would not fit
+            widths = _column_widths(sections, head, body, r, ui)
+            fit = (rect.width() - 24 * ui) / max(sum(widths), 1.0)
+            if fit < 1.0:
+                head, body = font(12 * ui * max(fit, 0.6), True), font(11.5 * ui * max(fit, 0.6))
+                widths = _column_widths(sections, head, body, r, ui)
+            lefts = [x0 + sum(widths[:k]) for k in range(len(sections))]
+        for k, (title, rows) in enumerate(sections):
+            x = lefts[k]
+            if columns:
+                y = rect.y() + 18 * ui
+            elif k:
+                y += row * 0.4
+            if y > bottom - row:
                 break
-            c = QPointF(x + r + 2 * ui, y)
-            if kind == "agent":
-                painter.setPen(QPen(theme.qcolor("background"), 1.0))
-                painter.setBrush(theme.agent_color(int(arg)))
-                painter.drawEllipse(c, r, r)
-            elif kind == "role":
-                hollow = arg == STYLE_HOLLOW
-                painter.setPen(
-                    QPen(theme.qcolor("text_muted"), 2.0 * ui)
-                    if hollow
-                    else QPen(theme.qcolor("background"), 1.0)
-                )
-                painter.setBrush(theme.qcolor("text_muted", alpha=0.35 if hollow else 1.0))
-                painter.drawEllipse(c, r, r)
-                paint_role_mark(painter, c, r, int(arg), text, theme, ui)
-            elif kind == "mark":
-                _paint_key(painter, str(arg), c, r, theme, ui)
-            color = muted if kind == "more" else text
-            label(painter, name, QPointF(x + 2 * r + 12 * ui, y), body, color, None)
+            label(painter, title, QPointF(x, y), head, muted, None)
             y += row
-    painter.restore()
+            for kind, arg, name in rows:
+                if y > bottom:
+                    break
+                c = QPointF(x + r + 2 * ui, y)
+                if kind == "agent":
+                    painter.setPen(QPen(theme.qcolor("background"), 1.0))
+                    painter.setBrush(theme.agent_color(int(arg)))
+                    painter.drawEllipse(c, r, r)
+                elif kind == "role":
+                    hollow = arg == STYLE_HOLLOW
+                    painter.setPen(
+                        QPen(theme.qcolor("text_muted"), 2.0 * ui)
+                        if hollow
+                        else QPen(theme.qcolor("background"), 1.0)
+                    )
+                    painter.setBrush(theme.qcolor("text_muted", alpha=0.35 if hollow else 1.0))
+                    painter.drawEllipse(c, r, r)
+                    paint_role_mark(painter, c, r, int(arg), text, theme, ui)
+                elif kind == "mark":
+                    _paint_key(painter, str(arg), c, r, theme, ui)
+                color = muted if kind == "more" else text
+                label(painter, name, QPointF(x + 2 * r + 12 * ui, y), body, color, None)
+                y += row
 
 
 Row = tuple[str, object, str]

@@ -31,6 +31,7 @@ from arena_studio.core.geometry.regions import (
 )
 from arena_studio.core.scene.model import Landmark, Scene
 from arena_studio.render.drawing import font, geometry_path, label, nice_step
+from arena_studio.render.paint_guard import guarded, saved
 from arena_studio.render.theme import Theme
 from arena_studio.render.view import ViewTransform
 
@@ -62,28 +63,36 @@ def paint_scene(
     it defaults to the painter's device size."""
     opts = options or SceneOptions()
     w, h = size if size is not None else _device_size(painter)
-    painter.save()
-    painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
-    painter.setRenderHint(QPainter.RenderHint.TextAntialiasing, True)
-    if opts.fill_background:
-        painter.fillRect(QRectF(0, 0, w, h), theme.qcolor("background"))
-    paint_rooms(painter, scene, view, theme)
-    if opts.grid:
-        paint_grid(painter, scene, view, theme, (w, h))
-    paint_doorways(painter, scene, view, theme)
-    paint_obstacles(painter, scene, view, theme)
-    paint_walls(painter, scene, view, theme, opts.ui_scale)
-    if opts.starts:
-        paint_starts(painter, scene, view, theme, opts.ui_scale)
-    paint_landmarks(painter, scene, view, theme, opts, (w, h))
-    if opts.scale_bar:
-        # just under the drawn scene (not far below it in a tall frame), inside the image
-        minx, miny, _, _ = bounds(scene)
-        corner = view.to_px(minx, miny)
-        y = min(h - 16.0 * opts.ui_scale, corner.y() + 28.0 * opts.ui_scale)
-        x = max(16.0 * opts.ui_scale, corner.x())
-        paint_scale_bar(painter, view, theme, (w, h), opts.ui_scale, (x, y))
-    painter.restore()
+    with saved(painter):
+        painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+        painter.setRenderHint(QPainter.RenderHint.TextAntialiasing, True)
+        if opts.fill_background:
+            painter.fillRect(QRectF(0, 0, w, h), theme.qcolor("background"))
+        # each part on its own: one that cannot be drawn leaves a placeholder, not a crash
+        with guarded(painter, "the rooms", theme=theme):
+            paint_rooms(painter, scene, view, theme)
+        if opts.grid:
+            with guarded(painter, "the grid", theme=theme):
+                paint_grid(painter, scene, view, theme, (w, h))
+        with guarded(painter, "the doorways", theme=theme):
+            paint_doorways(painter, scene, view, theme)
+        with guarded(painter, "the obstacles", theme=theme):
+            paint_obstacles(painter, scene, view, theme)
+        with guarded(painter, "the walls", theme=theme):
+            paint_walls(painter, scene, view, theme, opts.ui_scale)
+        if opts.starts:
+            with guarded(painter, "the starts", theme=theme):
+                paint_starts(painter, scene, view, theme, opts.ui_scale)
+        with guarded(painter, "the landmarks", theme=theme):
+            paint_landmarks(painter, scene, view, theme, opts, (w, h))
+        if opts.scale_bar:
+            with guarded(painter, "the scale bar", theme=theme):
+                # just under the drawn scene (not far below it in a tall frame), in the image
+                minx, miny, _, _ = bounds(scene)
+                corner = view.to_px(minx, miny)
+                y = min(h - 16.0 * opts.ui_scale, corner.y() + 28.0 * opts.ui_scale)
+                x = max(16.0 * opts.ui_scale, corner.x())
+                paint_scale_bar(painter, view, theme, (w, h), opts.ui_scale, (x, y))
 
 
 def _device_size(painter: QPainter) -> tuple[float, float]:

@@ -20,7 +20,12 @@ GREENHOUSE = Path(__file__).resolve().parents[2] / "scenes" / "greenhouse.scene.
 
 coord = st.floats(min_value=-1e6, max_value=1e6, allow_nan=False, allow_infinity=False)
 positive = st.floats(min_value=1e-6, max_value=1e3, allow_nan=False)
-text = st.text(min_size=1, max_size=20).filter(lambda s: s.strip() != "")
+# one line of printable text: the reader refuses control characters and line separators
+text = st.text(
+    alphabet=st.characters(blacklist_categories=("Cc", "Cs"), blacklist_characters="\u2028\u2029"),
+    min_size=1,
+    max_size=20,
+).filter(lambda s: s.strip() != "")
 ident = st.text(
     alphabet=st.characters(codec="utf-8", categories=("L", "N", "Pd")), min_size=1, max_size=12
 )

@@ -118,6 +118,12 @@ BAD_EDITS = [
     lambda d: d["goals"].update(vectors=[[2, 0, 0, 0, 0, 0]]),
     lambda d: d["goals"].update(weights={"families": [1, -1]}),
     lambda d: d["goals"].update(weights={"other": []}),
+    # ids, labels and names are one line of printable text (no forged export lines)
+    lambda d: d["rooms"][0].update(id="hall\tPOINT (0 0)"),
+    lambda d: d["landmarks"][0].update(label="West valve\nroom:x\tPOINT (0 0)"),
+    lambda d: d.update(name="demo\u2028second line"),
+    lambda d: d["agents"][0].update(id="rover\x1b[31m"),
+    lambda d: d["obstacles"][0].update(id="bench\x85"),
 ]
 
 

@@ -84,3 +84,27 @@ def test_look_of_the_dialog(qtbot, tape, tmp_path):
     shot = tmp_path / "clip_dialog.png"
     assert dialog.grab().save(str(shot))
     assert dialog.width() < 1100 and dialog.height() < 1000  # fits a laptop screen
+
+
+def test_dialog_never_writes_over_its_tape_and_asks_about_strangers(qtbot, tape, tmp_path):
+    dialog = ClipDialog(None, tape, 0, time=1.0)
+    qtbot.addWidget(dialog)
+    before = tape.path.read_bytes()
+    _small(dialog, ".png", tape.path)
+    dialog.path.setText(str(tape.path))  # typed by hand: the tape itself
+    assert not dialog.export()
+    assert "input" in dialog.status.text() and tape.path.read_bytes() == before
+    photo = tmp_path / "holiday.png"
+    photo.write_bytes(b"\x89PNG\r\n\x1a\nsomeone's photo")
+    asked = []
+    dialog.confirm_replace = lambda target: asked.append(target) or False
+    dialog.path.setText(str(photo))
+    assert not dialog.export()
+    assert asked == [photo] and photo.read_bytes().endswith(b"someone's photo")
+    dialog.confirm_replace = lambda target: True
+    assert dialog.export()
+    with Image.open(photo) as image:  # Pillow reads the new still
+        assert image.size == (320, 180)
+    asked.clear()
+    dialog.confirm_replace = lambda target: asked.append(target) or False
+    assert dialog.export() and asked == []  # an earlier still of ours: no question

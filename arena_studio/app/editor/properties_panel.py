@@ -16,6 +16,7 @@ from shapely.geometry import Polygon
 
 from arena_studio.app.editor.editor_view import Editor
 from arena_studio.app.editor.fields import Field, NumberField, TextField
+from arena_studio.core.scene.fields import line_problem
 from arena_studio.core.scene.model import Agent, Landmark, Obstacle, Room, Scene
 from arena_studio.editing import edits as edits
 from arena_studio.editing.edits import ObjKey
@@ -452,12 +453,21 @@ class PropertiesPanel(QScrollArea):
 
 
 def _nonempty(what: str) -> Callable[[str], str | None]:
-    return lambda text: None if text else f"The {what} cannot be empty."
+    """Names and labels: not empty, one line of printable text (as the file reader asks)."""
+
+    def problem(text: str) -> str | None:
+        if not text.strip():
+            return f"The {what} cannot be empty."
+        unsafe = line_problem(text)
+        return f"The {what} has a {unsafe}." if unsafe else None
+
+    return problem
 
 
 def _id_problem(text: str) -> str | None:
-    if not text:
+    if not text.strip():
         return "An id cannot be empty."
     if len(text) > 64:
         return "An id has at most 64 characters."
-    return None
+    unsafe = line_problem(text)
+    return f"The id has a {unsafe}." if unsafe else None

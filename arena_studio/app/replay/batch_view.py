@@ -17,6 +17,7 @@ from PySide6.QtWidgets import QHBoxLayout, QSizePolicy, QWidget
 
 from arena_studio.app.replay.batch_stats import BatchStats, GoalStat, Occupancy
 from arena_studio.core.scene.model import Scene
+from arena_studio.render.paint_guard import guarded_paint_event
 from arena_studio.render.scene_painter import SceneOptions, paint_scene
 from arena_studio.render.theme import Theme, load_theme
 from arena_studio.render.view import ViewTransform
@@ -89,6 +90,7 @@ class GoalGrid(QWidget):
         self.setToolTip("")
         self.unsetCursor()
 
+    @guarded_paint_event("the goal table")
     def paintEvent(self, _event) -> None:
         p = QPainter(self)
         p.setRenderHint(QPainter.RenderHint.Antialiasing)
@@ -205,6 +207,7 @@ class RateBars(QWidget):
             ("Success, misaligned", m_rate, m_txt),
         ]
 
+    @guarded_paint_event("the success bars")
     def paintEvent(self, _event) -> None:
         p = QPainter(self)
         theme = self._theme
@@ -276,6 +279,7 @@ class OccupancyView(QWidget):
         image = QImage(rgba.data, w, h, 4 * w, QImage.Format.Format_ARGB32_Premultiplied)
         return image.copy()  # own the pixels
 
+    @guarded_paint_event("the overview map")
     def paintEvent(self, _event) -> None:
         p = QPainter(self)
         theme = self._theme

@@ -14,6 +14,7 @@ from PySide6.QtWidgets import QApplication, QMenu
 
 from arena_studio.app.replay.replay_window import ReplayWindow
 from arena_studio.core.errors import ArenaError
+from arena_studio.core.scene.fields import cap_text
 
 PAGE_ATTR = "replay_page"
 MODE = "replay"
@@ -149,9 +150,14 @@ def _show_moment(page: ReplayWindow, episode: int | None, seconds: float | None)
     index = 0 if episode is None else int(episode)
     if not 0 <= index < count:
         return f"--episode {index}: the tape has episodes 0 to {count - 1}"
+    page.last_load_error = None
     page.select_episode(index)
-    if not page.wait_loaded(60000) or page.prepared is None:
-        return f"episode {index} did not load"
+    loaded = page.wait_loaded(60000)
+    if not loaded or page.prepared is None or page.prepared.episode.index != index:
+        reason = getattr(page, "last_load_error", None) or (
+            "still loading after 60 s" if not loaded else "no reason given"
+        )
+        return f"{page.session.path}: episode {index} did not load: {cap_text(reason)}"
     if seconds is not None:
         ep = page.prepared.episode
         if seconds < 0 or seconds > ep.duration + 1e-9:

@@ -34,6 +34,7 @@ from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.episode import Episode
 from arena_studio.render.episode_cache import episode_cache
 from arena_studio.render.episode_painter import FrameOptions, paint_episode_frame, paint_legend
+from arena_studio.render.paint_guard import guarded, saved
 from arena_studio.render.theme import Theme
 from arena_studio.render.view import ViewTransform
 
@@ -83,12 +84,11 @@ class EpisodeLayer(QGraphicsItem):
         if self.scene_value is None or self.episode is None:
             return
         view = view_from_painter(painter)
-        painter.save()
-        painter.resetTransform()
-        paint_episode_frame(
-            painter, self.scene_value, self.episode, self.step, view, self.theme, self.options
-        )
-        painter.restore()
+        with saved(painter):
+            painter.resetTransform()
+            paint_episode_frame(
+                painter, self.scene_value, self.episode, self.step, view, self.theme, self.options
+            )
         self.painted_step = self.step
         if self.prefill is not None:
             self.prefill.request(
@@ -198,9 +198,8 @@ class ReplayCanvas(SceneCanvas):
 
     def drawBackground(self, painter: QPainter, rect: QRectF) -> None:
         super().drawBackground(painter, rect)
-        painter.save()
-        self.layer.paint(painter, QStyleOptionGraphicsItem(), None)
-        painter.restore()
+        with guarded(painter, "the scene", theme=self.theme):
+            self.layer.paint(painter, QStyleOptionGraphicsItem(), None)
 
     # -- fitting -----------------------------------------------------------------------
     def legend_room(self) -> float:
@@ -249,20 +248,19 @@ class ReplayCanvas(SceneCanvas):
         ep = self.layer_episode.episode
         if ep is None or self.scene_value is None:
             return
-        painter.save()
-        painter.resetTransform()
-        w = self.viewport().width()
-        ui = 1.0
-        if self.show_clock:
-            self._clock.paint(painter, QRectF(0, 0, 320, 60), ep, self.step, self.theme, ui)
-        legend = self.legend_rect()
-        if legend is not None:
-            top_left = legend.topLeft().toPoint()
-            painter.drawPixmap(top_left, self._legend_pixmap(ep, legend.height()))
-        if self.caption:
-            self._paint_caption(painter, w)
-        self._paint_mismatches(painter)
-        painter.restore()
+        with guarded(painter, "the clock, legend and caption", theme=self.theme):
+            painter.resetTransform()
+            w = self.viewport().width()
+            ui = 1.0
+            if self.show_clock:
+                self._clock.paint(painter, QRectF(0, 0, 320, 60), ep, self.step, self.theme, ui)
+            legend = self.legend_rect()
+            if legend is not None:
+                top_left = legend.topLeft().toPoint()
+                painter.drawPixmap(top_left, self._legend_pixmap(ep, legend.height()))
+            if self.caption:
+                self._paint_caption(painter, w)
+            self._paint_mismatches(painter)
 
     def _paint_mismatches(self, painter: QPainter) -> None:
         """Recording-vs-scene findings reached by now: a hollow square where each happened

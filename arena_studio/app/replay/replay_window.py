@@ -60,6 +60,7 @@ class ReplayWindow(QMainWindow):
         self.theme = load_theme(theme) if isinstance(theme, str) else theme
         self.session: ReplaySession | None = None
         self.prepared: PreparedEpisode | None = None
+        self.last_load_error: str | None = None  # the last background load failure
         self.compare: PreparedEpisode | None = None
         self.compare_mode = "off"
         self._pending_index: int | None = None
@@ -347,6 +348,7 @@ class ReplayWindow(QMainWindow):
 
     def _on_failed(self, message: str) -> None:
         """A background load failed: say so where the user looks, never leave "Loading…"."""
+        self.last_load_error = message
         if self._pending_index is not None:
             self.verdict.setText(f"Episode {self._pending_index} cannot be shown: {message}")
             self._pending_index = self._pending_step = None

@@ -24,6 +24,7 @@ from PySide6.QtWidgets import QSizePolicy, QToolTip, QWidget
 
 from arena_studio.app.replay.prepared import EventMark
 from arena_studio.app.replay.transport import PlaybackClock
+from arena_studio.render.paint_guard import guarded_paint_event
 from arena_studio.render.theme import Theme, load_theme
 
 MARGIN_X = 14.0
@@ -150,6 +151,7 @@ class TimelineBar(QWidget):
             QToolTip.hideText()
 
     # -- drawing -----------------------------------------------------------------------
+    @guarded_paint_event("the scrub bar")
     def paintEvent(self, event: QPaintEvent) -> None:
         """Blit the cached track (ruler, loop, event glyphs), then draw the cursor: playback
         repaints every step, and thousands of glyphs must not be redrawn each time."""

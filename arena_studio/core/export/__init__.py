@@ -59,15 +59,33 @@ def _writer(fmt: str) -> Callable[..., list[Path]]:
 FORMATS: tuple[str, ...] = ("json", "msgpack", "npz", "wkt", "svg", "grid")
 
 
+def output_paths(fmt: str, out: str | Path) -> list[Path]:
+    """Every file ``export_scene(scene, fmt, out)`` writes, sidecars included, so a caller
+    can check them all before anything is written."""
+    target = Path(out)
+    if fmt == "grid":
+        from arena_studio.core.export.grid import grid_paths
+
+        return list(grid_paths(target))
+    if fmt in ("json", "msgpack"):
+        from arena_studio.core.export.meta import sidecar_path
+
+        return [target, sidecar_path(target)]
+    _writer(fmt)  # refuses an unknown format
+    return [target]
+
+
 def export_scene(
     scene: Scene,
     fmt: str,
     out: str | Path,
     resolution: float = DEFAULT_RESOLUTION,
     clearance: float = 0.0,
+    failures: list[str] | None = None,
 ) -> list[Path]:
     """Write ``scene`` as ``fmt`` to ``out``; returns every path written. ``resolution`` and
-    ``clearance`` (metres kept from walls and obstacles) apply to the grid."""
+    ``clearance`` (metres kept from walls and obstacles) apply to the grid. Parts of an SVG
+    that cannot be drawn become visible notes, listed in ``failures``."""
     writer = _writer(fmt)
     target = Path(out)
     if target.is_dir():
@@ -79,9 +97,18 @@ def export_scene(
             return writer(scene, target, fmt)
         if fmt == "grid":
             return writer(scene, target, resolution, clearance)
+        if fmt == "svg":
+            return writer(scene, target, failures)
         return writer(scene, target)
     except OSError as exc:
         raise ExportError(f"{target}: cannot write ({exc.strerror or exc})") from None
 
 
-__all__ = ["CAUTION", "DEFAULT_RESOLUTION", "FORMATS", "ExportError", "export_scene"]
+__all__ = [
+    "CAUTION",
+    "DEFAULT_RESOLUTION",
+    "FORMATS",
+    "ExportError",
+    "export_scene",
+    "output_paths",
+]

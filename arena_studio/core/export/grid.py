@@ -11,15 +11,22 @@ narrower than 2c closes). The PNG preview is flipped so north is up.
 
 from __future__ import annotations
 
+import hashlib
 import io
+import json
 import math
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 import shapely
 
+from arena_studio.core.atomic import write_set_atomic
 from arena_studio.core.export import ExportError
-from arena_studio.core.export.meta import provenance, write_export_bytes, write_json_atomic
+from arena_studio.core.export.meta import (
+    json_bytes,
+    provenance,
+)
 from arena_studio.core.export.png import encode_png
 from arena_studio.core.geometry.regions import bounds, free_space, open_area
 from arena_studio.core.scene.model import Scene
@@ -59,7 +66,7 @@ def occupancy(
     return np.where(free, 0, 1).astype(np.uint8), (float(minx), float(miny))
 
 
-def _paths(out: Path) -> tuple[Path, Path, Path]:
+def grid_paths(out: Path) -> tuple[Path, Path, Path]:
     base = out.with_suffix("") if out.suffix.lower() in (".npy", ".png", ".json") else out
     return (
         base.with_name(base.name + ".npy"),
@@ -69,13 +76,15 @@ def _paths(out: Path) -> tuple[Path, Path, Path]:
 
 
 def write_grid(scene: Scene, out: Path, resolution: float, clearance: float = 0.0) -> list[Path]:
+    """Write the three files as one set: the JSON sidecar (with a SHA-256 of each part) is
+    published last, see :func:`arena_studio.core.atomic.write_set_atomic`."""
     from arena_studio.core.export.svg import palette
 
     grid, origin = occupancy(scene, resolution, clearance)
-    npy_path, png_path, json_path = _paths(out)
+    npy_path, png_path, json_path = grid_paths(out)
     buffer = io.BytesIO()
     np.save(buffer, grid, allow_pickle=False)
-    write_export_bytes(npy_path, buffer.getvalue())
+    npy = buffer.getvalue()
 
     colors = palette("light")
     lut = np.array(
@@ -85,28 +94,51 @@ def write_grid(scene: Scene, out: Path, resolution: float, clearance: float = 0.
     png = encode_png(
         lut[grid[::-1]], {"content_hash": meta["content_hash"], "caution": meta["caution"]}
     )
-    write_export_bytes(png_path, png)
-
-    write_json_atomic(
-        json_path,
-        {
-            **meta,
-            "grid": npy_path.name,
-            "preview": png_path.name,
-            "resolution": float(resolution),
-            "clearance": float(clearance),
-            "origin": [origin[0], origin[1]],
-            "shape": [int(grid.shape[0]), int(grid.shape[1])],
-            "row_order": "row 0 is the lowest y (south); the PNG preview has north up",
-            "values": {
-                "0": "free (cell centre in the open area, at least `clearance` m from walls "
-                "and obstacles)",
-                "1": "blocked",
-            },
-            "units": "m",
+    doc = {
+        **meta,
+        "grid": npy_path.name,
+        "preview": png_path.name,
+        "grid_sha256": hashlib.sha256(npy).hexdigest(),
+        "preview_sha256": hashlib.sha256(png).hexdigest(),
+        "resolution": float(resolution),
+        "clearance": float(clearance),
+        "origin": [origin[0], origin[1]],
+        "shape": [int(grid.shape[0]), int(grid.shape[1])],
+        "row_order": "row 0 is the lowest y (south); the PNG preview has north up",
+        "values": {
+            "0": "free (cell centre in the open area, at least `clearance` m from walls "
+            "and obstacles)",
+            "1": "blocked",
         },
-    )
-    return [npy_path, png_path, json_path]
+        "units": "m",
+    }
+    return write_set_atomic([(npy_path, npy), (png_path, png), (json_path, json_bytes(doc))])
+
+
+def read_grid(sidecar: str | Path) -> tuple[np.ndarray, dict[str, Any]]:
+    """Load a grid export through its JSON sidecar and check the parts belong to it.
+
+    Raises :class:`ExportError` naming the file when the sidecar is not a grid export, or
+    when the ``.npy`` is missing or is not the one the sidecar describes (checksum, shape):
+    the leftovers of an interrupted export are never taken for a grid."""
+    path = Path(sidecar)
+    try:
+        doc = json.loads(path.read_text(encoding="utf-8"))
+    except (OSError, ValueError) as exc:
+        raise ExportError(f"{path}: not a readable grid sidecar ({exc})") from None
+    if not isinstance(doc, dict) or doc.get("format") != "arena-studio.export.grid":
+        raise ExportError(f"{path}: not a grid export sidecar")
+    npy_path = path.with_name(str(doc.get("grid", "")))
+    try:
+        data = npy_path.read_bytes()
+    except OSError as exc:
+        raise ExportError(f"{npy_path}: cannot read the grid ({exc.strerror or exc})") from None
+    if hashlib.sha256(data).hexdigest() != doc.get("grid_sha256"):
+        raise ExportError(f"{npy_path}: does not match {path.name} (another export's grid?)")
+    grid = np.load(io.BytesIO(data), allow_pickle=False)
+    if list(grid.shape) != doc.get("shape"):
+        raise ExportError(f"{npy_path}: shape {list(grid.shape)} differs from {path.name}")
+    return grid, doc
 
 
 def _rgb(hex_color: str) -> tuple[int, int, int]:

@@ -28,9 +28,13 @@ def write_export_bytes(path: Path, data: bytes) -> None:
     write_bytes_atomic(path, data)
 
 
-def write_json_atomic(path: Path, doc: dict[str, Any]) -> None:
+def json_bytes(doc: dict[str, Any]) -> bytes:
     text = json.dumps(doc, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
-    write_export_bytes(path, text.encode("utf-8"))
+    return text.encode("utf-8")
+
+
+def write_json_atomic(path: Path, doc: dict[str, Any]) -> None:
+    write_export_bytes(path, json_bytes(doc))
 
 
 def sidecar_path(path: Path) -> Path:

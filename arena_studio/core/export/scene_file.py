@@ -7,20 +7,22 @@ recomputed from the scene file itself.
 
 from __future__ import annotations
 
+import hashlib
 from pathlib import Path
 
+from arena_studio.core.atomic import write_set_atomic
 from arena_studio.core.export.meta import (
+    json_bytes,
     provenance,
     sidecar_path,
-    write_export_bytes,
-    write_json_atomic,
 )
 from arena_studio.core.scene.files import encode_scene
 from arena_studio.core.scene.model import Scene
 
 
 def write_scene_export(scene: Scene, path: Path, fmt: str) -> list[Path]:
-    write_export_bytes(path, encode_scene(scene, fmt))
-    about = sidecar_path(path)
-    write_json_atomic(about, {**provenance(scene, fmt), "file": path.name})
-    return [path, about]
+    """The scene file and its sidecar, published as one set (the sidecar last)."""
+    data = encode_scene(scene, fmt)
+    about = {**provenance(scene, fmt), "file": path.name}
+    about["file_sha256"] = hashlib.sha256(data).hexdigest()
+    return write_set_atomic([(path, data), (sidecar_path(path), json_bytes(about))])

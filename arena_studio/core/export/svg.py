@@ -10,10 +10,11 @@ are in ``<metadata>`` and ``<desc>``.
 
 from __future__ import annotations
 
+import contextlib
 import json
 import math
 import xml.etree.ElementTree as ET
-from collections.abc import Sequence
+from collections.abc import Iterator, Sequence
 from pathlib import Path
 
 from shapely.geometry import Polygon
@@ -93,9 +94,51 @@ def _el(parent: ET.Element, tag: str, **attrs: object) -> ET.Element:
     return ET.SubElement(parent, tag, {k.replace("_", "-"): str(v) for k, v in attrs.items()})
 
 
-def svg_tree(scene: Scene, theme: str = "light") -> ET.ElementTree:
+@contextlib.contextmanager
+def _part(
+    parent: ET.Element, what: str, failures: list[str], c: _Canvas, **attrs: object
+) -> Iterator[ET.Element]:
+    """A ``<g>`` for one part of the drawing. When the part cannot be drawn (geometry that
+    GEOS cannot process, values out of range) the group is emptied and holds a visible
+    note instead, and ``could not draw WHAT (reason)`` goes to ``failures`` once."""
+    group = _el(parent, "g", **attrs)
+    try:
+        yield group
+    except Exception as exc:  # an export never fails on one bad part of a scene
+        for child in list(group):
+            group.remove(child)
+        text = " ".join(str(exc).split())[:160]
+        message = f"could not draw {what} ({type(exc).__name__}: {text})"
+        if message not in failures:
+            failures.append(message)
+        group.set("class", "could-not-draw")
+        note = _el(
+            group,
+            "text",
+            x=f"{MARGIN_MM:.3f}",
+            y=f"{MARGIN_MM + 4.0 * len(failures):.3f}",
+            font_family="sans-serif",
+            font_size="3",
+            fill="#c82828",
+        )
+        note.text = f"could not draw {what}"
+
+
+def _safe_places(scene: Scene, failures: list[str]) -> tuple[LabelPlacement, ...]:
+    try:
+        return _label_places(scene, _Canvas(scene).scale)
+    except Exception as exc:  # labels then sit nowhere; the landmarks part says so
+        failures.append(f"could not place the labels ({type(exc).__name__})")
+        return ()
+
+
+def svg_tree(
+    scene: Scene, theme: str = "light", failures: list[str] | None = None
+) -> ET.ElementTree:
+    """The drawing; parts that cannot be drawn become visible notes listed in ``failures``."""
+    failures = [] if failures is None else failures
     colors = palette(theme)
-    places = _label_places(scene, _Canvas(scene).scale)
+    places = _safe_places(scene, failures)
     c = _Canvas(scene, [p.box for p in places])
     meta = provenance(scene, "svg")
     root = ET.Element(
@@ -124,149 +167,157 @@ def svg_tree(scene: Scene, theme: str = "light") -> ET.ElementTree:
         fill=colors["background"],
     )
 
-    area = _el(root, "g", id="walkable")
-    _el(
-        area,
-        "path",
-        d=c.path(walkable_area(scene)),
-        fill=colors["room_fill"],
-        fill_rule="evenodd",
-        stroke="none",
-    )
-    obstacles = _el(root, "g", id="obstacles")
-    for obstacle in scene.obstacles:
+    with _part(root, "the rooms", failures, c, id="walkable") as area:
         _el(
-            obstacles,
+            area,
             "path",
-            id=f"obstacle-{obstacle.id}",
-            d=c.path(obstacle_geometry(obstacle)),
-            fill=colors["obstacle_fill"],
-            stroke=colors["obstacle_edge"],
-            stroke_width="0.3",
+            d=c.path(walkable_area(scene)),
+            fill=colors["room_fill"],
+            fill_rule="evenodd",
+            stroke="none",
         )
-    walls = _el(root, "g", id="walls")
-    _el(
-        walls,
-        "path",
-        d=c.path(open_area(scene)),
-        fill="none",
-        stroke=colors["wall"],
-        stroke_width="0.6",
-        stroke_linejoin="round",
-    )
-
-    starts = _el(root, "g", id="starts")
-    fill, opacity = _color(colors["start_region"])
-    for agent in scene.agents:
-        if agent.start.region is not None:
+    with _part(root, "the obstacles", failures, c, id="obstacles") as obstacles:
+        for obstacle in scene.obstacles:
             _el(
-                starts,
+                obstacles,
                 "path",
-                id=f"start-{agent.id}",
-                d=c.path(Polygon(agent.start.region)),
-                fill=fill,
-                fill_opacity=opacity,
-                stroke=colors["start"],
+                id=f"obstacle-{obstacle.id}",
+                d=c.path(obstacle_geometry(obstacle)),
+                fill=colors["obstacle_fill"],
+                stroke=colors["obstacle_edge"],
                 stroke_width="0.3",
-                stroke_dasharray="1.2 0.8",
             )
-        elif agent.start.pose is not None:
-            x, y, heading = agent.start.pose
-            r = max(agent.radius * c.scale, 1.2)
-            tip = c.xy(
-                x + math.cos(heading) * agent.radius * 1.8,
-                y + math.sin(heading) * agent.radius * 1.8,
+    with _part(root, "the walls", failures, c, id="walls") as walls:
+        _el(
+            walls,
+            "path",
+            d=c.path(open_area(scene)),
+            fill="none",
+            stroke=colors["wall"],
+            stroke_width="0.6",
+            stroke_linejoin="round",
+        )
+
+    fill, opacity = _color(colors["start_region"])
+    with _part(root, "the starts", failures, c, id="starts") as starts:
+        for agent in scene.agents:
+            if agent.start.region is not None:
+                _el(
+                    starts,
+                    "path",
+                    id=f"start-{agent.id}",
+                    d=c.path(Polygon(agent.start.region)),
+                    fill=fill,
+                    fill_opacity=opacity,
+                    stroke=colors["start"],
+                    stroke_width="0.3",
+                    stroke_dasharray="1.2 0.8",
+                )
+            elif agent.start.pose is not None:
+                x, y, heading = agent.start.pose
+                r = max(agent.radius * c.scale, 1.2)
+                tip = c.xy(
+                    x + math.cos(heading) * agent.radius * 1.8,
+                    y + math.sin(heading) * agent.radius * 1.8,
+                )
+                cx, cy = c.xy(x, y)
+                group = _el(starts, "g", id=f"start-{agent.id}")
+                _el(
+                    group,
+                    "circle",
+                    cx=f"{cx:.3f}",
+                    cy=f"{cy:.3f}",
+                    r=f"{r:.3f}",
+                    fill="none",
+                    stroke=colors["start"],
+                    stroke_width="0.4",
+                )
+                _el(
+                    group,
+                    "line",
+                    x1=f"{cx:.3f}",
+                    y1=f"{cy:.3f}",
+                    x2=f"{tip[0]:.3f}",
+                    y2=f"{tip[1]:.3f}",
+                    stroke=colors["start"],
+                    stroke_width="0.5",
+                )
+            label_xy = c.xy(*_start_label_point(agent.start.pose, agent.start.region))
+            text = _el(
+                starts,
+                "text",
+                x=f"{label_xy[0] + 2:.3f}",
+                y=f"{label_xy[1] + 3.5:.3f}",
+                font_family="sans-serif",
+                font_size="2.6",
+                fill=colors["start"],
             )
-            cx, cy = c.xy(x, y)
-            group = _el(starts, "g", id=f"start-{agent.id}")
+            text.text = agent.id
+
+    with _part(root, "the landmarks", failures, c, id="landmarks") as marks:
+        # labels that could not be placed are left out; the marks are still drawn
+        spots: Sequence[LabelPlacement | None] = places or [None] * len(scene.landmarks)
+        if scene.landmarks and not places:
+            note = _el(marks, "text", x=f"{MARGIN_MM:.3f}", y=f"{MARGIN_MM:.3f}", font_size="3")
+            note.set("fill", "#c82828")
+            note.text = "could not place the labels"
+        for lm, place in zip(scene.landmarks, spots, strict=True):
+            color = colors["landmark_wall" if lm.mount == "wall" else "landmark_free"]
+            cx, cy = c.xy(*lm.position)
+            group = _el(marks, "g", id=f"landmark-{lm.id}")
             _el(
                 group,
                 "circle",
                 cx=f"{cx:.3f}",
                 cy=f"{cy:.3f}",
-                r=f"{r:.3f}",
+                r=f"{lm.reach_radius * c.scale:.3f}",
                 fill="none",
-                stroke=colors["start"],
-                stroke_width="0.4",
+                stroke=color,
+                stroke_width="0.3",
+                stroke_dasharray="0.8 0.6",
             )
-            _el(
+            _el(group, "circle", cx=f"{cx:.3f}", cy=f"{cy:.3f}", r=f"{MARK_MM}", fill=color)
+            if place is None:
+                continue
+            x, y, anchor = _label_xy(c, place)
+            if not place.clear:  # no clear place was left: a backdrop, as on screen
+                _label_backdrop(group, c, place.box, colors["room_fill"])
+            label = _el(
                 group,
-                "line",
-                x1=f"{cx:.3f}",
-                y1=f"{cy:.3f}",
-                x2=f"{tip[0]:.3f}",
-                y2=f"{tip[1]:.3f}",
-                stroke=colors["start"],
-                stroke_width="0.5",
+                "text",
+                x=f"{x:.3f}",
+                y=f"{y:.3f}",
+                text_anchor=anchor,
+                font_family="sans-serif",
+                font_size=f"{LABEL_FONT_MM:g}",
+                fill=colors["landmark_text"],
             )
-        label_xy = c.xy(*_start_label_point(agent.start.pose, agent.start.region))
-        text = _el(
-            starts,
-            "text",
-            x=f"{label_xy[0] + 2:.3f}",
-            y=f"{label_xy[1] + 3.5:.3f}",
-            font_family="sans-serif",
-            font_size="2.6",
-            fill=colors["start"],
-        )
-        text.text = agent.id
+            label.text = lm.label
 
-    marks = _el(root, "g", id="landmarks")
-    for lm, place in zip(scene.landmarks, places, strict=True):
-        color = colors["landmark_wall" if lm.mount == "wall" else "landmark_free"]
-        cx, cy = c.xy(*lm.position)
-        group = _el(marks, "g", id=f"landmark-{lm.id}")
+    with _part(root, "the scale bar", failures, c, id="scale-bar") as scale_bar:
+        bar_m = nice_length((c.width - 2 * MARGIN_MM) / c.scale / 4)
+        x0, y0 = MARGIN_MM, c.height - 8.0
+        x1 = x0 + bar_m * c.scale
         _el(
-            group,
-            "circle",
-            cx=f"{cx:.3f}",
-            cy=f"{cy:.3f}",
-            r=f"{lm.reach_radius * c.scale:.3f}",
+            scale_bar,
+            "path",
+            d=f"M {x0:.3f} {y0 - 1.2:.3f} L {x0:.3f} {y0:.3f} L {x1:.3f} "
+            f"{y0:.3f} L {x1:.3f} {y0 - 1.2:.3f}",
             fill="none",
-            stroke=color,
-            stroke_width="0.3",
-            stroke_dasharray="0.8 0.6",
+            stroke=colors["scale_bar"],
+            stroke_width="0.5",
         )
-        _el(group, "circle", cx=f"{cx:.3f}", cy=f"{cy:.3f}", r=f"{MARK_MM}", fill=color)
-        x, y, anchor = _label_xy(c, place)
-        if not place.clear:  # no clear place was left: a backdrop, as on screen
-            _label_backdrop(group, c, place.box, colors["room_fill"])
-        label = _el(
-            group,
+        bar_text = _el(
+            scale_bar,
             "text",
-            x=f"{x:.3f}",
-            y=f"{y:.3f}",
-            text_anchor=anchor,
+            x=f"{(x0 + x1) / 2:.3f}",
+            y=f"{y0 - 1.8:.3f}",
+            text_anchor="middle",
             font_family="sans-serif",
-            font_size=f"{LABEL_FONT_MM:g}",
-            fill=colors["landmark_text"],
+            font_size="3",
+            fill=colors["scale_bar"],
         )
-        label.text = lm.label
-
-    bar_m = nice_length((c.width - 2 * MARGIN_MM) / c.scale / 4)
-    x0, y0 = MARGIN_MM, c.height - 8.0
-    x1 = x0 + bar_m * c.scale
-    scale_bar = _el(root, "g", id="scale-bar")
-    _el(
-        scale_bar,
-        "path",
-        d=f"M {x0:.3f} {y0 - 1.2:.3f} L {x0:.3f} {y0:.3f} L {x1:.3f} "
-        f"{y0:.3f} L {x1:.3f} {y0 - 1.2:.3f}",
-        fill="none",
-        stroke=colors["scale_bar"],
-        stroke_width="0.5",
-    )
-    bar_text = _el(
-        scale_bar,
-        "text",
-        x=f"{(x0 + x1) / 2:.3f}",
-        y=f"{y0 - 1.8:.3f}",
-        text_anchor="middle",
-        font_family="sans-serif",
-        font_size="3",
-        fill=colors["scale_bar"],
-    )
-    bar_text.text = f"{bar_m:g} m"
+        bar_text.text = f"{bar_m:g} m"
     note = _el(
         root,
         "text",
@@ -355,14 +406,14 @@ def _label_xy(c: _Canvas, place: LabelPlacement) -> tuple[float, float, str]:
     return (left + right) / 2, baseline, "middle"
 
 
-def svg_bytes(scene: Scene, theme: str = "light") -> bytes:
-    tree = svg_tree(scene, theme)
+def svg_bytes(scene: Scene, theme: str = "light", failures: list[str] | None = None) -> bytes:
+    tree = svg_tree(scene, theme, failures)
     ET.indent(tree)
     root = tree.getroot()
     assert root is not None
     return ET.tostring(root, encoding="utf-8", xml_declaration=True) + b"\n"
 
 
-def write_svg(scene: Scene, path: Path) -> list[Path]:
-    write_export_bytes(path, svg_bytes(scene))
+def write_svg(scene: Scene, path: Path, failures: list[str] | None = None) -> list[Path]:
+    write_export_bytes(path, svg_bytes(scene, failures=failures))
     return [path]

@@ -188,18 +188,33 @@ def wall_segments(scene: Scene) -> np.ndarray:
 
 
 def bounds(scene: Scene, margin: float = 0.0) -> tuple[float, float, float, float]:
-    """(minx, miny, maxx, maxy) of everything drawn; a unit box for an empty scene."""
-    geoms: list[BaseGeometry] = [walkable_area(scene), obstacle_area(scene)]
-    geoms += [Point(lm.position) for lm in scene.landmarks]
+    """(minx, miny, maxx, maxy) of everything drawn; a unit box for an empty scene.
+
+    Taken from the coordinates themselves, not from a union of shapes: a bounding box needs
+    no topology, so an invalid outline (a bow-tie start region) cannot make it fail, and
+    values that do not fit a float box (a vertex at -1e308 plus a margin) are left out."""
+    points: list[tuple[float, float]] = []
+    points += [p for r in scene.rooms if len(r.outline) >= 3 for p in r.outline]
+    for o in scene.obstacles:
+        if o.outline is not None and len(o.outline) >= 3:
+            points += o.outline
+        elif o.circle is not None:
+            (cx, cy), rad = o.circle.center, o.circle.radius
+            points += [(cx - rad, cy - rad), (cx + rad, cy + rad)]
+    points += [lm.position for lm in scene.landmarks]
     for a in scene.agents:
         if a.start.pose is not None:
-            geoms.append(Point(a.start.pose[:2]))
-        elif a.start.region is not None:
-            geoms.append(polygon(a.start.region))
-    geoms = [g for g in geoms if not g.is_empty]
-    if not geoms:
+            points.append((a.start.pose[0], a.start.pose[1]))
+        elif a.start.region is not None and len(a.start.region) >= 3:
+            points += a.start.region
+    xy = np.asarray(points, dtype=float).reshape(-1, 2)
+    with np.errstate(over="ignore", invalid="ignore"):
+        xy = xy[np.isfinite(xy).all(axis=1) & np.isfinite(xy - margin).all(axis=1)]
+        xy = xy[np.isfinite(xy + margin).all(axis=1)]
+    if not len(xy):
         return (-margin, -margin, 1.0 + margin, 1.0 + margin)
-    minx, miny, maxx, maxy = unary_union(geoms).bounds
+    minx, miny = (float(v) for v in xy.min(axis=0))
+    maxx, maxy = (float(v) for v in xy.max(axis=0))
     return (minx - margin, miny - margin, maxx + margin, maxy + margin)
 
 

@@ -106,10 +106,57 @@ def string(value: object, path: str, *, nonempty: bool = True, max_length: int =
     return value
 
 
+#: Characters no id, label or name may hold: C0 and C1 control characters (TAB, CR, LF, ESC,
+#: DEL...) and the Unicode line and paragraph separators. Such a character would let a name
+#: start a new line or a new field in a text export (a forged WKT line, a CSV row).
+UNSAFE_CHARACTERS = frozenset(
+    [chr(c) for c in range(0x00, 0x20)] + [chr(c) for c in range(0x7F, 0xA0)] + ["\u2028", "\u2029"]
+)
+#: The same rule as a regular expression (JSON Schema ``pattern``; Python ``re``).
+SAFE_LINE_PATTERN = "^[^\\u0000-\\u001f\\u007f-\\u009f\\u2028\\u2029]*$"
+
+
+def line_problem(text: str) -> str | None:
+    """Why ``text`` cannot be one line of an id, a label or a name (None: it can)."""
+    for i, ch in enumerate(text):
+        if ch in UNSAFE_CHARACTERS:
+            return (
+                f"control character U+{ord(ch):04X} at position {i}; ids, labels and names are "
+                "one line of printable text"
+            )
+    return None
+
+
+def line(value: object, path: str, *, max_length: int = 200) -> str:
+    """A non-empty single line of printable text (see :data:`UNSAFE_CHARACTERS`)."""
+    text = string(value, path, max_length=max_length)
+    problem = line_problem(text)
+    if problem:
+        raise SceneFormatError(path, problem)
+    return text
+
+
+def shorten(value: object, limit: int = 80) -> str:
+    """``repr(value)``, cut to ``limit`` characters with the full length stated: a refused
+    63 MB string makes a one-line message, not a 63 MB one."""
+    if isinstance(value, str) and len(value) > limit:
+        return f"{value[:limit]!r}... ({len(value)} characters)"
+    text = repr(value)
+    return text if len(text) <= limit else f"{text[:limit]}... ({len(text)} characters)"
+
+
+def cap_text(text: str, limit: int = 300) -> str:
+    """One line of at most ``limit`` characters; a longer text is cut, its length stated."""
+    line_text = " ".join(text.split())
+    if len(line_text) <= limit:
+        return line_text
+    return f"{line_text[:limit]}... ({len(line_text)} characters in all)"
+
+
 def choice(value: object, path: str, options: tuple[str, ...]) -> str:
     if not isinstance(value, str) or value not in options:
-        shown = value if isinstance(value, str) else type_name(value)
-        raise SceneFormatError(path, f"expected one of {', '.join(options)}, got {shown!r}")
+        shown = shorten(value) if isinstance(value, str) else repr(type_name(value))
+        raise SceneFormatError(path, f"expected one of {', '.join(options)}, got {shown}")
     return value
 
 

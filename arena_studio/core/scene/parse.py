@@ -49,7 +49,7 @@ def parse_scene(data: Mapping[str, Any]) -> Scene:
     if doc["units"] != "m":
         raise SceneFormatError("units", f"expected 'm' (metres), got {doc['units']!r}")
     return Scene(
-        name=f.string(doc["name"], "name"),
+        name=f.line(doc["name"], "name"),
         description=f.string(
             doc.get("description", ""), "description", nonempty=False, max_length=10_000
         ),
@@ -72,7 +72,7 @@ def parse_scene(data: Mapping[str, Any]) -> Scene:
 
 
 def _id(obj: Mapping[str, Any], path: str) -> str:
-    return f.string(obj["id"], f.join(path, "id"), max_length=64)
+    return f.line(obj["id"], f.join(path, "id"), max_length=64)
 
 
 def _room(value: object, path: str) -> Room:
@@ -104,7 +104,7 @@ def _landmark(value: object, path: str) -> Landmark:
     f.check_keys(obj, path, ("id", "label", "position", "reach_radius", "mount"))
     return Landmark(
         id=_id(obj, path),
-        label=f.string(obj["label"], f.join(path, "label"), max_length=80),
+        label=f.line(obj["label"], f.join(path, "label"), max_length=80),
         position=f.point(obj["position"], f.join(path, "position")),
         reach_radius=f.number(
             obj["reach_radius"], f.join(path, "reach_radius"), exclusive_minimum=0

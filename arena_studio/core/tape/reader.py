@@ -349,6 +349,10 @@ class Tape:
             self._index_problem = f"the index at byte {at} is unusable ({exc.where}: {exc.problem})"
             return None
 
+    def _step_bytes(self) -> int:
+        """Fewest bytes one step of every agent takes in a chunk (a Python int, > 0)."""
+        return max(1, len(self.agent_ids)) * MIN_STEP_BYTES
+
     def _index_entries(self, index: Any, limit: int) -> list[_Entry]:
         where = "index"
         if not isinstance(index, dict) or not isinstance(index.get("episodes"), int):
@@ -368,8 +372,10 @@ class Tape:
                 and bool((begin < end).all())
                 and bool((begin[1:] >= end[:-1]).all())
                 and bool((steps >= 1).all())
-                # a step of every agent needs at least MIN_STEP_BYTES: bounds the claim by size
-                and bool((steps * len(self.agent_ids) * MIN_STEP_BYTES <= end - begin).all())
+                # a step of every agent needs at least MIN_STEP_BYTES: bounds the claim by
+                # size. Divided, not multiplied: 2**62 steps times the bytes of a step would
+                # wrap around in int64 and pass
+                and bool((steps <= (end - begin) // self._step_bytes()).all())
             )
             if not ok:
                 raise TapeError(self._src, where, "offsets or step counts out of bounds")

@@ -58,8 +58,52 @@ def partial_path(path: str | Path) -> Path:
     return p.with_name(p.name + ".partial")
 
 
+def _recoverable(partial: Path) -> bool:
+    """True when ``partial`` holds at least one episode a reader could recover (or cannot
+    be read well enough to be sure it holds none)."""
+    try:
+        if partial.stat().st_size == 0:
+            return False
+    except OSError:
+        return False
+    from arena_studio.core.tape.reader import open_tape
+
+    try:
+        return len(open_tape(partial)) > 0
+    except Exception:  # damaged beyond a reader's walk: keep it rather than guess
+        return True
+
+
+def set_aside_partial(path: str | Path) -> Path | None:
+    """Move an earlier run's recoverable ``<path>.partial`` to a free name beside it
+    (``NAME.earlier-N.tape.partial``) so a new writer never truncates it; returns the new
+    name, or None when there was nothing to keep. A partial without episodes is left for
+    the new writer to replace."""
+    partial = partial_path(path)
+    if not _recoverable(partial):
+        return None
+    target = Path(path)
+    stem, suffix = (
+        (target.name[: -len(".tape")], ".tape")
+        if target.suffix == ".tape"
+        else (
+            target.name,
+            "",
+        )
+    )
+    for n in range(1, 10_000):
+        aside = target.with_name(f"{stem}.earlier-{n}{suffix}.partial")
+        if not os.path.lexists(aside):
+            os.rename(partial, aside)
+            return aside
+    raise TapeError(str(target), "partial", f"{partial} exists and no free name was left")
+
+
 class TapeWriter:
-    """Append episodes to a new tape; see the module docstring for crash behaviour."""
+    """Append episodes to a new tape; see the module docstring for crash behaviour.
+
+    An earlier run's recoverable ``.partial`` is moved aside first (``set_aside``
+    names where), never truncated."""
 
     def __init__(
         self,
@@ -88,6 +132,7 @@ class TapeWriter:
         self.keep_partial = keep_partial
         self.fsync_chunks = fsync_chunks
         self.partial = partial_path(self.path)
+        self.set_aside = set_aside_partial(self.path)
         self._file: BinaryIO | None = open(self.partial, "wb")  # noqa: SIM115 (closed in close)
         self._pos = 0
         self._episodes: list[tuple[int, int, int]] = []  # begin offset, end offset, steps
