@@ -10,7 +10,7 @@ import sys
 from typing import Any
 
 from ..core.errors import ArenaError
-from .common import EXIT_OK, EXIT_UNREADABLE, error_line, warning_line
+from .common import EXIT_OK, EXIT_PROBLEMS, EXIT_UNREADABLE, error_line, warning_line
 from .progress import progress_bar
 
 HELP = "summarise a tape: success by goal and kind, alignment, diagnoses, per-episode rows"
@@ -31,7 +31,10 @@ ROW_FIELDS = (
     "diagnosis",
     "steps",
     "complete",
+    "damage",
 )
+#: damaged episodes named in full in the warning line; the rest are counted
+WARN_NAMED = 3
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
@@ -41,6 +44,11 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     fmt.add_argument("--csv", action="store_true", help="print one CSV row per episode")
     parser.add_argument("--episode", type=int, default=None, metavar="N", help="only episode N")
     parser.add_argument("--quiet", action="store_true", help="no progress bar")
+    parser.add_argument(
+        "--strict",
+        action="store_true",
+        help="exit 1 when some episode is damaged (default: warn, report it, exit 0)",
+    )
 
 
 def _clean(value: Any) -> Any:
@@ -75,20 +83,27 @@ def run(args: argparse.Namespace) -> int:
         error_line(f"--episode {args.episode}: the tape has episodes 0..{len(tape) - 1}")
         return EXIT_UNREADABLE
     indices = range(len(tape)) if args.episode is None else [args.episode]
+    damaged: list[Any] = []
     try:
         with progress_bar(len(indices), "stats", args.quiet) as bar:
-            # many episodes at once (same results as core.metrics.episode_metrics)
-            metrics = tape_metrics(tape, indices, advance=bar.advance)
+            # many episodes at once (same results as core.metrics.episode_metrics); a damaged
+            # episode is left out and reported, the others are measured
+            metrics = tape_metrics(tape, indices, advance=bar.advance, damaged=damaged)
     except ArenaError as exc:
         error_line(str(exc))
         return EXIT_UNREADABLE
     except KeyboardInterrupt:
         error_line("interrupted")
         return 130
+    damaged.sort(key=lambda d: d.episode)
     summary = batch_metrics(tape.scene, metrics)
     summary["truncated"] = tape.truncated
-    rows = [m.to_dict() for m in metrics]
-    if args.episode is not None:
+    summary["damaged"] = len(damaged)
+    summary["damaged_episodes"] = [d.to_dict() for d in damaged]
+    rows = _rows(metrics, damaged)
+    if damaged:
+        warning_line(_damage_warning(args.tape, damaged))
+    if args.episode is not None and not damaged:
         from ..core.events import episode_events
 
         ids = [a.id for a in tape.scene.agents]
@@ -109,7 +124,30 @@ def run(args: argparse.Namespace) -> int:
         _emit(args, tape, summary, rows)
     except BrokenPipeError:  # output piped into head and closed early: not an error
         sys.stderr.close()
-    return EXIT_OK
+    return EXIT_PROBLEMS if damaged and args.strict else EXIT_OK
+
+
+def _rows(metrics: list[Any], damaged: list[Any]) -> list[dict[str, Any]]:
+    """Per-episode rows in episode order: measured ones, and one for each damaged episode
+    (its ``damage`` column says what and where; every metric is empty)."""
+    rows = [{**m.to_dict(), "damage": None} for m in metrics]
+    for d in damaged:
+        row: dict[str, Any] = dict.fromkeys(ROW_FIELDS)
+        row.update(index=d.episode, damage=d.text(), success=None, complete=False)
+        rows.append(row)
+    rows.sort(key=lambda r: r["index"])
+    return rows
+
+
+def _damage_warning(source: str, damaged: list[Any]) -> str:
+    """One line: how many episodes are damaged, the first few in full."""
+    named = "; ".join(d.text() for d in damaged[:WARN_NAMED])
+    more = len(damaged) - WARN_NAMED
+    tail = f"; and {more} more" if more > 0 else ""
+    return (
+        f"{source}: {len(damaged)} damaged episode(s) left out of the totals "
+        f"(the others read normally): {named}{tail}"
+    )
 
 
 def _emit(args: argparse.Namespace, tape: Any, summary: dict[str, Any], rows: list[Any]) -> None:
@@ -154,8 +192,13 @@ def _print_text(tape: Any, summary: dict[str, Any], rows: list[dict[str, Any]]) 
     if summary["diagnoses"]:
         words = ", ".join(f"{k} {v}" for k, v in summary["diagnoses"].items())
         out.write(f"  failures: {words}\n")
+    if summary["damaged"]:
+        out.write(f"  damaged: {summary['damaged']} episode(s), not counted above\n")
     out.write("\n  #  goal                           ok   time    par  aligned  diagnosis\n")
     for r in rows:
+        if r["damage"]:
+            out.write(f"{r['index']:>3}  DAMAGED: {r['damage']}\n")
+            continue
         ok = "yes" if r["success"] else "no"
         aligned = "-" if r["aligned"] is None else ("yes" if r["aligned"] else "no")
         diag = r["diagnosis"] or ""
