@@ -94,8 +94,8 @@ def run(args: argparse.Namespace) -> int:
 
 
 def _run(args: argparse.Namespace) -> int:
-    from ..render.clip import ClipError, ClipSpec, export_clip, parse_size
     from ..core.tape.damage import EpisodeDamaged
+    from ..render.clip import ClipError, ClipSpec, export_clip, parse_size
     from ..render.episode_painter import FrameOptions
 
     out = Path(args.output)

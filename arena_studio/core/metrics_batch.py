@@ -140,7 +140,7 @@ def _read_block(tape: Any, start: int, stop: int, damaged: list[Damage] | None) 
     is recorded there and the block is read again around it (damage is rare: the usual block
     costs one read)."""
     try:
-        return tape.decode_span(tape.read_span(start, stop), copy=False)  # type: ignore[no-any-return]
+        return tape.decode_span(tape.read_span(start, stop), copy=False)
     except EpisodeDamaged as exc:
         if damaged is None:
             raise

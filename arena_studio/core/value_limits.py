@@ -28,4 +28,11 @@ def describe_number(value: float) -> str:
     return f"{value:g}"
 
 
-__all__ = ["COORDINATE_LIMIT", "DT_MAX", "DT_MIN", "HEADING_LIMIT", "RADIUS_LIMIT", "describe_number"]
+__all__ = [
+    "COORDINATE_LIMIT",
+    "DT_MAX",
+    "DT_MIN",
+    "HEADING_LIMIT",
+    "RADIUS_LIMIT",
+    "describe_number",
+]

@@ -150,7 +150,15 @@ def _show_moment(page: ReplayWindow, episode: int | None, seconds: float | None)
     if not 0 <= index < count:
         return f"--episode {index}: the tape has episodes 0 to {count - 1}"
     page.select_episode(index)
-    if not page.wait_loaded(60000) or page.prepared is None:
+    loaded = page.wait_loaded(60000)
+    damage = page.shown_damage
+    if damage is not None and damage.episode == index:
+        place = f"{damage.place}: " if damage.place else ""
+        return (
+            f"episode {index} is damaged and cannot be shown ({place}{damage.reason}); "
+            "the other episodes read normally"
+        )
+    if not loaded or page.prepared is None:
         return f"episode {index} did not load"
     if seconds is not None:
         ep = page.prepared.episode

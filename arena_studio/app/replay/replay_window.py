@@ -23,6 +23,7 @@ from PySide6.QtWidgets import (
 )
 
 from ...core.scene import Scene
+from ...core.tape.damage import Damage
 from ...render.theme import Theme, load_theme
 from .actions import build_actions
 from .batch_stats import batch_stats
@@ -32,6 +33,7 @@ from .plots import PlotsPanel
 from .prepared import PreparedEpisode
 from .replay_canvas import ReplayCanvas
 from .session import ReplaySession
+from .summary import damaged_summary
 from .timeline import TimelineBar
 from .transport import PlaybackClock
 from .transport_bar import TransportBar
@@ -51,6 +53,8 @@ class ReplayWindow(QMainWindow):
         self.theme = load_theme(theme) if isinstance(theme, str) else theme
         self.session: ReplaySession | None = None
         self.prepared: PreparedEpisode | None = None
+        #: the damaged episode shown instead of an episode (the last selection was damaged)
+        self.shown_damage: Damage | None = None
         self.compare: PreparedEpisode | None = None
         self.compare_mode = "off"
         self._pending_index: int | None = None
@@ -277,14 +281,18 @@ class ReplayWindow(QMainWindow):
             loop.processEvents(QEventLoop.ProcessEventsFlag.AllEvents, 50)
         return self._pending_index is None
 
-    def _on_episode_ready(self, prepared: PreparedEpisode) -> None:
+    def _on_episode_ready(self, prepared: PreparedEpisode | Damage) -> None:
         if prepared is None or self.session is None:
+            return
+        if isinstance(prepared, Damage):
+            self._show_damaged(prepared)
             return
         if self._pending_index is not None and prepared.episode.index != self._pending_index:
             return
         step = self._pending_step
         self._pending_index = self._pending_step = None
         self.prepared = prepared
+        self.shown_damage = None
         scene = self.session.scene
         ep = prepared.episode
         self.canvas.set_episode(scene, prepared)
@@ -300,6 +308,29 @@ class ReplayWindow(QMainWindow):
         self._update_verdict()
         self._update_compare_views()
         self.episode_list.select_episode(ep.index) if self._list_current() != ep.index else None
+
+    def _show_damaged(self, damage: Damage) -> None:
+        """A damaged episode is not shown as an episode: the canvas keeps the bare scene,
+        the line under it says which episode and why, and its list row is marked."""
+        if self._pending_index is not None and damage.episode != self._pending_index:
+            return
+        self._pending_index = self._pending_step = None
+        self.prepared = None
+        self.shown_damage = damage
+        assert self.session is not None
+        scene = self.session.scene
+        self.canvas.set_episode(scene, None)
+        self.plots.set_episode(scene, None)
+        self.timeline.set_events((), 0)
+        self.clock.set_episode(1, self.session.tape.dt)
+        row = damaged_summary(damage)
+        self.episode_list.model.update_rows([row])
+        self.verdict.setText(
+            f"Episode {damage.episode} is damaged and cannot be shown ({row.damage}). "
+            "The other episodes read normally."
+        )
+        if self._list_current() != damage.episode:
+            self.episode_list.select_episode(damage.episode)
 
     def _on_failed(self, message: str) -> None:
         """A background load failed: say so where the user looks, never leave "Loading…"."""

@@ -17,11 +17,12 @@ from PySide6.QtCore import QObject, Signal
 
 from ...core.episode import Episode
 from ...core.scene import Scene
+from ...core.tape.damage import Damage, EpisodeDamaged
 from .batch_stats import Occupancy
 from .events import episode_event_marks
 from .loader import CORE_LOCK, BackgroundCall, StreamWorker
 from .prepared import PreparedEpisode, prepare_episode
-from .summary import EpisodeSummary, summarise_episode
+from .summary import EpisodeSummary, damaged_summary, summarise_episode
 
 
 def _metrics_for(scene: Scene, episode: Episode) -> Any:
@@ -66,7 +67,7 @@ class ReplaySession(QObject):
     progress = Signal(int, int)
     summariesDone = Signal()
     occupancyReady = Signal(object)  # Occupancy
-    episodeReady = Signal(object)  # PreparedEpisode (the selected one)
+    episodeReady = Signal(object)  # PreparedEpisode (the selected one), or its Damage
     compareReady = Signal(object)  # PreparedEpisode or None
     failed = Signal(str)
 
@@ -103,7 +104,11 @@ class ReplaySession(QObject):
             for i in range(len(tape)):
                 if stop():
                     return
-                episode = tape.episode(i)
+                try:
+                    episode = tape.episode(i)
+                except EpisodeDamaged as exc:  # the damage stays in its row
+                    yield damaged_summary(exc.damage)
+                    continue
                 occupancy.add(episode.poses, episode.dt)
                 try:
                     with CORE_LOCK:  # released between episodes so a selection gets in
@@ -139,8 +144,18 @@ class ReplaySession(QObject):
 
     # -- episodes ----------------------------------------------------------------------
     def request_episode(self, index: int) -> int:
+        """Prepare episode ``index`` off the UI thread; ``episodeReady`` brings the
+        :class:`PreparedEpisode`, or the episode's ``Damage`` record when it is damaged."""
         scene, tape = self.scene, self.tape
-        return self._episode_call.submit(lambda: load_prepared(scene, tape.episode(index)))
+
+        def load() -> PreparedEpisode | Damage:
+            try:
+                episode = tape.episode(index)
+            except EpisodeDamaged as exc:
+                return exc.damage
+            return load_prepared(scene, episode)
+
+        return self._episode_call.submit(load)
 
     def request_compare(self, index: int | None) -> None:
         if index is None:

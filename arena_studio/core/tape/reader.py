@@ -232,8 +232,10 @@ class Tape:
             reason = f"{field}: {exc.problem}" if field else exc.problem
             found = _BYTE_AT.search(rest)
             byte = int(found.group(1)) if found else None
-            damage = Damage(i, reason, chunk=_chunk_number(buf, entry.begin, byte), byte=byte)
-            raise self._remember(EpisodeDamaged(self._src, damage, exc.where, exc.problem)) from None
+            chunk = _chunk_number(buf, entry.begin, byte)
+            damage = Damage(i, reason, chunk=chunk, byte=byte)
+            found_here = EpisodeDamaged(self._src, damage, exc.where, exc.problem)
+            raise self._remember(found_here) from None
 
     def _damaged(self, i: int, buf: memoryview, begin: int, byte: int) -> None:
         """Record and raise a checksum mismatch at file offset ``byte`` of episode ``i``."""
