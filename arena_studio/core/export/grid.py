@@ -39,12 +39,23 @@ def occupancy(
     if not (isinstance(clearance, int | float) and math.isfinite(clearance) and clearance >= 0):
         raise ExportError(f"--clearance must be a number of metres >= 0, got {clearance!r}")
     minx, miny, maxx, maxy = bounds(scene)
-    cols = max(1, math.ceil((maxx - minx) / resolution - 1e-9))
-    rows = max(1, math.ceil((maxy - miny) / resolution - 1e-9))
+    # sizes as floats first: a tiny resolution must give a readable refusal, not a 300-digit
+    # integer or an overflow (the quotient may be inf)
+    with np.errstate(over="ignore"):
+        across = np.float64(maxx - minx) / np.float64(resolution)
+        up = np.float64(maxy - miny) / np.float64(resolution)
+        too_many = not across * up <= MAX_CELLS * (1 + 1e-9)
+    if too_many:
+        raise ExportError(
+            f"a {resolution:g} m grid of this scene would have {cells_in_words(up, across)} "
+            f"cells, more than the {MAX_CELLS:,} allowed; choose a coarser --resolution"
+        )
+    cols = max(1, math.ceil(float(across) - 1e-9))
+    rows = max(1, math.ceil(float(up) - 1e-9))
     if rows * cols > MAX_CELLS:
         raise ExportError(
-            f"a {resolution:g} m grid of this scene has {rows} x {cols} cells, more than "
-            f"{MAX_CELLS}; choose a coarser --resolution"
+            f"a {resolution:g} m grid of this scene would have {rows:,} x {cols:,} cells, "
+            f"more than the {MAX_CELLS:,} allowed; choose a coarser --resolution"
         )
     xs = minx + (np.arange(cols) + 0.5) * resolution
     ys = miny + (np.arange(rows) + 0.5) * resolution
@@ -57,6 +68,18 @@ def occupancy(
         shapely.prepare(area)
         free = shapely.contains_xy(area, gx, gy)
     return np.where(free, 0, 1).astype(np.uint8), (float(minx), float(miny))
+
+
+def cells_in_words(rows: float, cols: float) -> str:
+    """``12,000 x 40,000`` (whole cells, rounded up, with thousands separators); sizes too
+    large to be worth spelling out as ``about 2e+306``."""
+
+    def one(n: float) -> str:
+        if not math.isfinite(n) or n >= 1e15:
+            return f"about {n:.0e}" if math.isfinite(n) else "over 1e+308"
+        return f"{max(1, math.ceil(n - 1e-9)):,}"
+
+    return f"{one(float(rows))} x {one(float(cols))}"
 
 
 def _paths(out: Path) -> tuple[Path, Path, Path]:
