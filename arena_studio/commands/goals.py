@@ -21,6 +21,7 @@ if TYPE_CHECKING:  # the planner pulls in scipy; load it only when the command r
     from ..core.goals import GoalTable
     from ..core.partime import GoalPlan
 from .common import EXIT_OK, EXIT_PROBLEMS, EXIT_UNREADABLE, error_line, read_scene
+from .progress import progress_bar
 
 HELP = "list a scene's goals with par times and assignments (exit 0 ok, 1 problems, 2 unreadable)"
 
@@ -30,6 +31,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument(
         "--json", action="store_true", help='print {"goals": [...]} as JSON instead of a table'
     )
+    parser.add_argument("--quiet", action="store_true", help="no progress bar")
 
 
 def run(args: argparse.Namespace) -> int:
@@ -39,7 +41,11 @@ def run(args: argparse.Namespace) -> int:
         from ..core.partime import plan_all
 
         table = enumerate_goals(scene)
-        plans = plan_all(scene, table)
+        with progress_bar(len(table), "goals", getattr(args, "quiet", False)) as bar:
+            plans = plan_all(scene, table, advance=bar.advance)
+    except KeyboardInterrupt:
+        error_line("interrupted")
+        return 130
     except Exception as exc:  # a planner bug must still end in one line, not a traceback
         error_line(f"{args.scene}: planning failed ({type(exc).__name__}: {exc}); please report")
         return EXIT_UNREADABLE
