@@ -42,7 +42,6 @@ from shapely.geometry.base import BaseGeometry
 
 from .geometry import free_space, per_thread_cache, quad_segments
 from .scene import Scene
-from .visibility import VisibilityGraph, build_visibility_graph, polygons_of
 from .start_search import (
     LastLegs,
     StartSearch,
@@ -51,6 +50,7 @@ from .start_search import (
     route_points,
     target_costs,
 )
+from .visibility import VisibilityGraph, build_visibility_graph, polygons_of
 from .visibility_fields import (
     TargetField,
     best_first_node,
@@ -178,9 +178,9 @@ class PathPlanner:
         if start_xy is None and key in self._routes:
             return self._routes[key]
         if start_xy is None and not self.per_landmark_fields:
-            result = self._route_by_search(agent_index, landmark_index)
-            self._routes[key] = result
-            return result
+            found = self._route_by_search(agent_index, landmark_index)
+            self._routes[key] = found
+            return found
         field = self.field(agent.radius, landmark_index)
         if field.target.is_empty:
             result: tuple[Route | None, str | None] = (

@@ -190,7 +190,7 @@ def route_points(
     if last < 0:
         end = costs.end[sample]
         return np.array([start]) if np.isnan(end[0]) else np.array([start, end])
-    chain = []
+    chain: list[int] = []
     u = last
     while u >= 0 and len(chain) <= graph.node_count:
         chain.append(u)
