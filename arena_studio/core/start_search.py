@@ -117,16 +117,27 @@ def target_costs(
         return TargetCosts(
             np.full(n, np.inf), np.full(n, -1, dtype=np.int64), np.full((n, 2), np.nan)
         )
-    # straight legs first (one batch of tests): where one is clear it bounds the search
-    direct, direct_end = best_straight_leg(graph, target, corners, samples)
-    via, via_node = _via_nodes(graph, search, target, corners, disc, legs, direct)
+    cx, cy, reach = disc
+    gap = np.hypot(samples[:, 0] - cx, samples[:, 1] - cy) - reach
+    if n == 1:
+        # one start: its straight leg first (one batch of tests) bounds the search
+        direct, direct_end = best_straight_leg(graph, target, corners, samples)
+        via, via_node = _via_nodes(graph, search, target, corners, disc, legs, direct)
+    else:
+        # many samples: routes via nodes first, then straight legs only where their lower
+        # bound (the gap to the disc) can still match the route found
+        via, via_node = _via_nodes(graph, search, target, corners, disc, legs, np.full(n, np.inf))
+        direct, direct_end = np.full(n, np.inf), np.full((n, 2), np.nan)
+        wanted = np.flatnonzero(gap - BOUND_SLACK <= via)
+        if wanted.size:
+            direct[wanted], direct_end[wanted] = best_straight_leg(
+                graph, target, corners, samples[wanted]
+            )
     use_via = via < direct  # the straight leg wins ties, as in a field's start query
     cost = np.where(use_via, via, direct)
     node = np.where(use_via, via_node, -1)
     end = np.where(use_via[:, None], np.nan, direct_end)
     # samples already inside the target
-    cx, cy, reach = disc
-    gap = np.hypot(samples[:, 0] - cx, samples[:, 1] - cy) - reach
     near = np.flatnonzero(gap <= BOUND_SLACK)
     if near.size:
         inside = shapely.distance(target, shapely.points(samples[near])) <= 1e-9

@@ -85,7 +85,8 @@ def target_corners(
     keep = shapely.distance(graph.boundary, pts) < 1e-7
     if rim is not None:
         keep &= shapely.distance(rim, pts) < 1e-7
-    return np.unique(verts[keep], axis=0)
+    found = verts[keep]
+    return found if found.shape[0] < 2 else np.unique(found, axis=0)
 
 
 def build_target_field(
