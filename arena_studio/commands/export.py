@@ -14,6 +14,7 @@ import argparse
 from ..core.errors import ArenaError
 from ..core.export import CAUTION, DEFAULT_RESOLUTION, FORMATS, export_scene
 from .common import EXIT_OK, EXIT_UNREADABLE, error_line, read_scene
+from .progress import progress_bar
 
 HELP = "export a scene for a simulator or a document (json, msgpack, npz, wkt, svg, grid)"
 
@@ -50,18 +51,29 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         help="grid: a free cell's centre stays C metres from walls and obstacles, e.g. the "
         "robot radius (default 0)",
     )
+    parser.add_argument("--quiet", action="store_true", help="no progress bar")
 
 
 def run(args: argparse.Namespace) -> int:
     scene = read_scene(args.scene)  # a CommandError becomes one line in cli.main
     try:
-        written = export_scene(
-            scene,
-            args.format,
-            args.output,
-            resolution=args.resolution,
-            clearance=args.clearance,
-        )
+        total = 0
+        if args.format == "npz":  # par times of every goal: the long part on big scenes
+            from ..core.goals import enumerate_goals
+
+            total = len(enumerate_goals(scene))
+        with progress_bar(total, "export", getattr(args, "quiet", False) or not total) as bar:
+            written = export_scene(
+                scene,
+                args.format,
+                args.output,
+                resolution=args.resolution,
+                clearance=args.clearance,
+                advance=bar.advance,
+            )
+    except KeyboardInterrupt:
+        error_line(f"interrupted; {args.output} was not written")
+        return 130
     except ArenaError as exc:
         error_line(str(exc))
         return EXIT_UNREADABLE

@@ -65,9 +65,11 @@ def export_scene(
     out: str | Path,
     resolution: float = DEFAULT_RESOLUTION,
     clearance: float = 0.0,
+    advance: Callable[[int], None] | None = None,
 ) -> list[Path]:
     """Write ``scene`` as ``fmt`` to ``out``; returns every path written. ``resolution`` and
-    ``clearance`` (metres kept from walls and obstacles) apply to the grid."""
+    ``clearance`` (metres kept from walls and obstacles) apply to the grid; ``advance(1)``
+    is called after each goal an export plans (npz: par times)."""
     writer = _writer(fmt)
     target = Path(out)
     if target.is_dir():
@@ -79,6 +81,8 @@ def export_scene(
             return writer(scene, target, fmt)
         if fmt == "grid":
             return writer(scene, target, resolution, clearance)
+        if fmt == "npz":
+            return writer(scene, target, advance)
         return writer(scene, target)
     except OSError as exc:
         raise ExportError(f"{target}: cannot write ({exc.strerror or exc})") from None
