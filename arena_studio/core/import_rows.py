@@ -15,7 +15,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from arena_studio.core.errors import ArenaError
-from arena_studio.core.value_limits import COORDINATE_LIMIT, HEADING_LIMIT
+from arena_studio.core.value_limits import COORDINATE_LIMIT, HEADING_LIMIT, pose_problem
 
 _STEP = re.compile(r"\d{1,9}")
 _INDEX = re.compile(r"\d+")
@@ -111,23 +111,7 @@ def _number(layout: RowLayout, line: int, name: str, text: str, limit: float, un
 
 def pose_array_problem(poses: np.ndarray) -> str | None:
     """What is wrong with an episode's (T, A, 3) poses (first step and agent), or None."""
-    with np.errstate(invalid="ignore"):
-        arr = np.asarray(poses, dtype=np.float64)
-    if arr.size == 0:
-        return None
-    finite = np.isfinite(arr)
-    if not finite.all():
-        t, a = (int(v) for v in np.argwhere(~finite.all(axis=2))[0])
-        return f"step {t} agent {a}: pose is not a finite number"
-    limits = np.array([COORDINATE_LIMIT, COORDINATE_LIMIT, HEADING_LIMIT])
-    far = np.abs(arr) > limits
-    if far.any():
-        t, a, k = (int(v) for v in np.argwhere(far)[0])
-        name, unit = (("x", "m"), ("y", "m"), ("heading", "rad"))[k]
-        return (
-            f"step {t} agent {a}: pose {name} = {arr[t, a, k]:g} is outside ±{limits[k]:g} {unit}"
-        )
-    return None
+    return pose_problem(poses)
 
 
 __all__ = ["ImportFormatError", "ImportRow", "RowLayout", "parse_row", "pose_array_problem"]

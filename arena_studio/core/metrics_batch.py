@@ -39,6 +39,7 @@ from .metrics import (
 from .observe import coverage_planes_sparse, goal_reached_planes, segment_starts
 from .scene import Scene
 from .tape.damage import Damage, EpisodeDamaged
+from .value_limits import pose_problem
 
 #: episodes are processed in groups of about this many steps (arrays stay cache-sized)
 BLOCK_STEPS = 32768
@@ -84,7 +85,19 @@ def _judged(
 
 
 def episodes_metrics(scene: Scene, episodes: Sequence[Episode]) -> list[EpisodeMetrics]:
-    """``[episode_metrics(scene, e) for e in episodes]``, computed in blocks of episodes."""
+    """``[episode_metrics(scene, e) for e in episodes]``, computed in blocks of episodes.
+
+    Episodes made in memory are checked first (a pose that is not finite or outside the
+    documented range raises ValueError naming episode, step and agent); ``tape_metrics``
+    skips that, the tape reader checked them already."""
+    for ep in episodes:
+        problem = pose_problem(ep.poses)
+        if problem is not None:
+            raise ValueError(f"episode {ep.index} {problem}")
+    return _episodes_metrics(scene, episodes)
+
+
+def _episodes_metrics(scene: Scene, episodes: Sequence[Episode]) -> list[EpisodeMetrics]:
     out: list[EpisodeMetrics] = []
     block: list[Episode] = []
     rows = 0
@@ -129,7 +142,7 @@ def tape_metrics(
     out: list[EpisodeMetrics] = []
     for start, stop in blocks:
         episodes = _read_block(tape, start, stop, damaged)
-        out.extend(episodes_metrics(tape.scene, episodes))
+        out.extend(_episodes_metrics(tape.scene, episodes))
         if advance is not None:
             advance(stop - start)
     return out

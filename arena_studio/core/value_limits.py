@@ -10,6 +10,8 @@ from __future__ import annotations
 
 import math
 
+import numpy as np
+
 #: largest |x| or |y| (metres) of any position in a scene, a tape or an import
 COORDINATE_LIMIT = 1e6
 #: largest |heading| (radians): far beyond any real angle, small enough for float64 sin/cos
@@ -28,6 +30,30 @@ def describe_number(value: float) -> str:
     return f"{value:g}"
 
 
+def pose_problem(poses: np.ndarray) -> str | None:
+    """What is wrong with an episode's (T, A, 3) poses (first step and agent), or None."""
+    with np.errstate(invalid="ignore"):
+        arr = np.asarray(poses, dtype=np.float64)
+    if arr.size == 0:
+        return None
+    bound = min(COORDINATE_LIMIT, HEADING_LIMIT)
+    if arr.min() >= -bound and arr.max() <= bound:  # the usual case: two reductions (NaN fails)
+        return None
+    finite = np.isfinite(arr)
+    if not finite.all():
+        t, a = (int(v) for v in np.argwhere(~finite.all(axis=2))[0])
+        return f"step {t} agent {a}: pose is not a finite number"
+    limits = np.array([COORDINATE_LIMIT, COORDINATE_LIMIT, HEADING_LIMIT])
+    far = np.abs(arr) > limits
+    if far.any():
+        t, a, k = (int(v) for v in np.argwhere(far)[0])
+        name, unit = (("x", "m"), ("y", "m"), ("heading", "rad"))[k]
+        return (
+            f"step {t} agent {a}: pose {name} = {arr[t, a, k]:g} is outside ±{limits[k]:g} {unit}"
+        )
+    return None
+
+
 __all__ = [
     "COORDINATE_LIMIT",
     "DT_MAX",
@@ -35,4 +61,5 @@ __all__ = [
     "HEADING_LIMIT",
     "RADIUS_LIMIT",
     "describe_number",
+    "pose_problem",
 ]

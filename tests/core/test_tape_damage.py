@@ -8,13 +8,15 @@ the frame layout is the documented one (DEVELOPERS.md, "Tape format").
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from pathlib import Path
 
 import numpy as np
 import pytest
 
-from arena_studio.core.metrics_batch import tape_metrics
+from arena_studio.core.episode import Episode
+from arena_studio.core.metrics_batch import episodes_metrics, tape_metrics
 from arena_studio.core.tape import TapeError, open_tape
 from arena_studio.core.tape.damage import Damage, EpisodeDamaged
 from arena_studio.core.tape.format import TRAILER_SIZE
@@ -97,3 +99,45 @@ def test_scan_of_a_cut_tape_steps_over_a_damaged_chunk(tmp_path: Path) -> None:
         assert np.array_equal(tape.episode(i).poses, clean[i])
     with pytest.raises(EpisodeDamaged):
         tape.episode(2)
+
+
+def test_undecodable_chunk_with_a_matching_checksum(tmp_path: Path) -> None:
+    # msgpack specification: 0xc1 is never used, so a chunk whose "poses" key header
+    # (fixstr of 5, 0xa5) becomes 0xc1 cannot be decoded; its CRC-32 is recomputed (zlib, the
+    # documented frame) so only the decoding fails
+    import struct
+    import zlib
+
+    path, clean = _marked(tmp_path)
+    data = bytearray(path.read_bytes())
+    at = data.find(struct.pack("<d", 4321.125))  # tape_helpers.SENTINEL, in episode 2
+    pos = 8
+    while True:  # the frame holding the sentinel
+        length = struct.unpack_from("<I", data, pos)[0]
+        if pos < at < pos + 9 + length:
+            break
+        pos += 9 + length
+    key = data.find(b"\xa5poses", pos, pos + 9 + length)
+    assert key > 0
+    data[key] = 0xC1
+    struct.pack_into(
+        "<I", data, pos + 5 + length, zlib.crc32(bytes(data[pos + 4 : pos + 5 + length]))
+    )
+    path.write_bytes(bytes(data))
+    tape = open_tape(path)
+    damage = tape.check_episode(2)
+    assert damage is not None and "not valid msgpack" in damage.reason
+    assert (damage.chunk, damage.byte) == (1, pos)
+    for i in (0, 1, 3, 4):
+        assert np.array_equal(tape.episode(i).poses, clean[i])
+
+
+def test_batched_metrics_of_episodes_in_memory_check_poses() -> None:
+    # episodes made in a program (not read from a tape) are checked by episodes_metrics too
+    poses = np.zeros((3, 2, 3))
+    poses[:, :, 0] = 1.0
+    ep = Episode(index=4, dt=0.1, poses=poses)
+    assert len(episodes_metrics(SCENE, [ep])) == 1
+    bad = dataclasses.replace(ep, poses=np.where(np.arange(3)[:, None, None] == 1, np.nan, poses))
+    with pytest.raises(ValueError, match=r"episode 4 step 1 agent 0: pose is not a finite"):
+        episodes_metrics(SCENE, [bad])
