@@ -160,3 +160,26 @@ def test_tape_time_step_out_of_range_is_refused_naming_the_field(tmp_path: Path,
     assert done.returncode == 2
     line = _one_line(done)
     assert "header.dt" in line and "time step from 1e-06 s to 3600 s" in line
+
+
+def test_self_crossing_start_region_gives_no_traceback(tmp_path: Path) -> None:
+    # OGC Simple Features: a ring that crosses itself (a bowtie) is not a valid polygon; the
+    # checker reports it, and the other commands work on its valid parts (GEOS make_valid)
+    doc = json.loads((REPO / "scenes" / "greenhouse.scene.json").read_text())
+    regions = [a for a in doc["agents"] if "region" in a["start"]]
+    assert regions
+    regions[0]["start"]["region"] = [[0.5, 8.4], [2.0, 9.5], [2.0, 8.4], [0.5, 9.5]]
+    path = tmp_path / "bowtie.scene.json"
+    path.write_text(json.dumps(doc))
+    done = _run("check", str(path))
+    assert done.returncode == 1 and "start-region-invalid" in done.stdout
+    tape = tmp_path / "b.tape"
+    for args in (
+        ("export", str(path), "--format", "svg", "-o", str(tmp_path / "b.svg")),
+        ("rollout", str(path), "-o", str(tape), "--episodes", "2", "--quiet"),
+        (str(path), "--screenshot", str(tmp_path / "b.png")),
+    ):
+        done = _run(*args)
+        ours = [ln for ln in done.stderr.splitlines() if not ln.startswith("This plugin")]
+        assert done.returncode == 0 and ours == [], (args, done.stderr)
+    assert tape.exists() and (tmp_path / "b.png").exists()

@@ -85,6 +85,12 @@ def polygon(outline: tuple[tuple[float, float], ...]) -> Polygon:
     return Polygon(outline)
 
 
+def region_area(outline: tuple[tuple[float, float], ...]) -> BaseGeometry:
+    """A start region as a valid area: a self-crossing outline (a bowtie) becomes its valid
+    parts, so set operations on it cannot fail (the checker reports the outline itself)."""
+    return _valid(polygon(outline))
+
+
 def obstacle_geometry(obstacle: Obstacle) -> Polygon:
     if obstacle.outline is not None:
         return polygon(obstacle.outline)
@@ -195,7 +201,7 @@ def bounds(scene: Scene, margin: float = 0.0) -> tuple[float, float, float, floa
         if a.start.pose is not None:
             geoms.append(Point(a.start.pose[:2]))
         elif a.start.region is not None:
-            geoms.append(polygon(a.start.region))
+            geoms.append(region_area(a.start.region))
     geoms = [g for g in geoms if not g.is_empty]
     if not geoms:
         return (-margin, -margin, 1.0 + margin, 1.0 + margin)

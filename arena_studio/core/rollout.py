@@ -35,10 +35,10 @@ from typing import Any, Literal
 import numpy as np
 import shapely
 import shapely.ops
-from shapely.geometry import LineString, Point, Polygon
+from shapely.geometry import LineString, Point
 
 from .controller import FollowerLimits, LegFollower, PathFollower
-from .geometry import free_space
+from .geometry import free_space, region_area
 from .goals import enumerate_goals
 from .kinematics import unicycle_step
 from .partime import plan_goal
@@ -191,9 +191,9 @@ class Rollout:
                 out[a] = start.pose
                 continue
             assert start.region is not None
-            region = Polygon(start.region).intersection(self._free[a])
+            region = region_area(start.region).intersection(self._free[a])
             if region.is_empty:
-                region = Polygon(start.region)
+                region = region_area(start.region)
             minx, miny, maxx, maxy = region.bounds
             for _ in range(1000):
                 x, y = rng.uniform(minx, maxx), rng.uniform(miny, maxy)
