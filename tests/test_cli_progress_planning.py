@@ -1,5 +1,6 @@
-"""`goals` and `export --format npz` plan every goal: on a terminal they show the progress
-bar (commands/progress.py), counting goals; off a terminal or with --quiet nothing."""
+"""`goals` and `export --format npz` plan every goal, `export --format grid` tests every cell:
+on a terminal they show the progress bar (commands/progress.py), counting goals or percent of
+the cells; off a terminal or with --quiet nothing."""
 
 from __future__ import annotations
 
@@ -23,9 +24,10 @@ class _Terminal(io.StringIO):
 def test_goals_and_npz_export_show_progress_on_a_terminal(
     tmp_path: Path, monkeypatch, capsys, quiet: bool
 ) -> None:
-    for args, label in (
-        (["goals", SCENE], "goals"),
-        (["export", SCENE, "--format", "npz", "-o", str(tmp_path / "s.npz")], "export"),
+    for args, label, count in (
+        (["goals", SCENE], "goals", "21/21"),
+        (["export", SCENE, "--format", "npz", "-o", str(tmp_path / "s.npz")], "export", "21/21"),
+        (["export", SCENE, "--format", "grid", "-o", str(tmp_path / "g")], "export", "100/100"),
     ):
         err = _Terminal()
         monkeypatch.setattr(sys, "stderr", err)
@@ -36,4 +38,5 @@ def test_goals_and_npz_export_show_progress_on_a_terminal(
             assert shown == ""
         else:
             # the greenhouse demo has 6 landmarks, families 1 and 2: 6 + 15 = 21 goals
-            assert f"{label} [" in shown and "21/21" in shown and shown.endswith("\r\033[K")
+            # (binomial coefficients, common practice); a grid counts percent of its cells
+            assert f"{label} [" in shown and count in shown and shown.endswith("\r\033[K")

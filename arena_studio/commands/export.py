@@ -62,6 +62,8 @@ def run(args: argparse.Namespace) -> int:
             from ..core.goals import enumerate_goals
 
             total = len(enumerate_goals(scene))
+        elif args.format == "grid":  # percent of the cells tested
+            total = 100
         with progress_bar(total, "export", getattr(args, "quiet", False) or not total) as bar:
             written = export_scene(
                 scene,

@@ -69,7 +69,8 @@ def export_scene(
 ) -> list[Path]:
     """Write ``scene`` as ``fmt`` to ``out``; returns every path written. ``resolution`` and
     ``clearance`` (metres kept from walls and obstacles) apply to the grid; ``advance(1)``
-    is called after each goal an export plans (npz: par times)."""
+    is called after each goal an export plans (npz: par times) and, for a grid, with
+    percent steps of the cells tested."""
     writer = _writer(fmt)
     target = Path(out)
     if target.is_dir():
@@ -80,7 +81,7 @@ def export_scene(
         if fmt in ("json", "msgpack"):
             return writer(scene, target, fmt)
         if fmt == "grid":
-            return writer(scene, target, resolution, clearance)
+            return writer(scene, target, resolution, clearance, advance)
         if fmt == "npz":
             return writer(scene, target, advance)
         return writer(scene, target)

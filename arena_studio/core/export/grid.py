@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import io
 import math
+from collections.abc import Callable
 from pathlib import Path
 
 import numpy as np
@@ -26,14 +27,20 @@ from .meta import provenance, write_export_bytes, write_json_atomic
 
 #: Largest grid written (cells); a finer resolution is refused with a reason.
 MAX_CELLS = 40_000_000
+#: cells tested per block (bounds the temporary coordinate arrays, paces the progress bar)
+BLOCK_CELLS = 1_000_000
 
 
 def occupancy(
-    scene: Scene, resolution: float, clearance: float = 0.0
+    scene: Scene,
+    resolution: float,
+    clearance: float = 0.0,
+    advance: Callable[[int], None] | None = None,
 ) -> tuple[np.ndarray, tuple[float, float]]:
     """(rows, cols) uint8 grid (0 free, 1 blocked) and its origin (lower-left corner).
 
-    ``clearance``: metres a free cell's centre keeps from walls and obstacles (0: none)."""
+    ``clearance``: metres a free cell's centre keeps from walls and obstacles (0: none).
+    ``advance`` receives percent steps (100 in all) as blocks of rows are done."""
     if not (isinstance(resolution, int | float) and math.isfinite(resolution) and resolution > 0):
         raise ExportError(f"--resolution must be a number of metres > 0, got {resolution!r}")
     if not (isinstance(clearance, int | float) and math.isfinite(clearance) and clearance >= 0):
@@ -59,15 +66,23 @@ def occupancy(
         )
     xs = minx + (np.arange(cols) + 0.5) * resolution
     ys = miny + (np.arange(rows) + 0.5) * resolution
-    gx, gy = np.meshgrid(xs, ys)
     # the same free space the reachability checks and the planner use for an agent this size
     area = free_space(scene, clearance) if clearance > 0 else open_area(scene)
-    if area.is_empty:
-        free = np.zeros(gx.shape, dtype=bool)
-    else:
+    grid = np.ones((rows, cols), dtype=np.uint8)
+    if not area.is_empty:
         shapely.prepare(area)
-        free = shapely.contains_xy(area, gx, gy)
-    return np.where(free, 0, 1).astype(np.uint8), (float(minx), float(miny))
+    step = max(1, BLOCK_CELLS // cols)
+    reported = 0
+    for r0 in range(0, rows, step):
+        r1 = min(rows, r0 + step)
+        if not area.is_empty:
+            gx, gy = np.meshgrid(xs, ys[r0:r1])
+            grid[r0:r1][shapely.contains_xy(area, gx, gy)] = 0
+        if advance is not None:
+            now = round(100 * r1 / rows)
+            advance(now - reported)
+            reported = now
+    return grid, (float(minx), float(miny))
 
 
 def cells_in_words(rows: float, cols: float) -> str:
@@ -91,10 +106,16 @@ def _paths(out: Path) -> tuple[Path, Path, Path]:
     )
 
 
-def write_grid(scene: Scene, out: Path, resolution: float, clearance: float = 0.0) -> list[Path]:
+def write_grid(
+    scene: Scene,
+    out: Path,
+    resolution: float,
+    clearance: float = 0.0,
+    advance: Callable[[int], None] | None = None,
+) -> list[Path]:
     from .svg import palette
 
-    grid, origin = occupancy(scene, resolution, clearance)
+    grid, origin = occupancy(scene, resolution, clearance, advance)
     npy_path, png_path, json_path = _paths(out)
     buffer = io.BytesIO()
     np.save(buffer, grid, allow_pickle=False)
