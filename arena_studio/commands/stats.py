@@ -174,7 +174,8 @@ def _num(value: float | None, unit: str = "") -> str:
 
 def _print_text(tape: Any, summary: dict[str, Any], rows: list[dict[str, Any]]) -> None:
     out = sys.stdout
-    out.write(f"{tape.path}: {summary['episodes']} episode(s) of '{tape.scene.name}'\n")
+    hurt = f" and {summary['damaged']} damaged" if summary["damaged"] else ""
+    out.write(f"{tape.path}: {summary['episodes']} episode(s){hurt} of '{tape.scene.name}'\n")
     out.write(
         f"  success {_pct(summary['success_rate'])}, alignment {_pct(summary['alignment_rate'])}"
         f", aligned success {_pct(summary['aligned']['success_rate'])}"
