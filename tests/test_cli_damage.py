@@ -19,7 +19,7 @@ from pathlib import Path
 import pytest
 
 from arena_studio.cli import main
-from arena_studio.core.metrics import episode_metrics
+from arena_studio.core.analysis.metrics import episode_metrics
 from arena_studio.core.tape import open_tape
 
 from .core.tape_helpers import box_scene, replace_marked_value, write_tape_with_marked_episode

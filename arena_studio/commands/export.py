@@ -11,10 +11,10 @@ from __future__ import annotations
 
 import argparse
 
-from ..core.errors import ArenaError
-from ..core.export import CAUTION, DEFAULT_RESOLUTION, FORMATS, export_scene
-from .common import EXIT_OK, EXIT_UNREADABLE, error_line, read_scene
-from .progress import progress_bar
+from arena_studio.commands.common import EXIT_OK, EXIT_UNREADABLE, error_line, read_scene
+from arena_studio.commands.progress import progress_bar
+from arena_studio.core.errors import ArenaError
+from arena_studio.core.export import CAUTION, DEFAULT_RESOLUTION, FORMATS, export_scene
 
 HELP = "export a scene for a simulator or a document (json, msgpack, npz, wkt, svg, grid)"
 
@@ -59,7 +59,7 @@ def run(args: argparse.Namespace) -> int:
     try:
         total = 0
         if args.format == "npz":  # par times of every goal: the long part on big scenes
-            from ..core.goals import enumerate_goals
+            from arena_studio.core.planning.goal_set import enumerate_goals
 
             total = len(enumerate_goals(scene))
         elif args.format == "grid":  # percent of the cells tested

@@ -6,9 +6,16 @@ import argparse
 import os
 from pathlib import Path
 
-from ..core.errors import ArenaError
-from .common import EXIT_OK, EXIT_UNREADABLE, CommandError, error_line, read_scene, warning_line
-from .progress import progress_bar
+from arena_studio.commands.common import (
+    EXIT_OK,
+    EXIT_UNREADABLE,
+    CommandError,
+    error_line,
+    read_scene,
+    warning_line,
+)
+from arena_studio.commands.progress import progress_bar
+from arena_studio.core.errors import ArenaError
 
 HELP = "convert a long-format CSV table or an NPZ array file into a tape"
 
@@ -38,7 +45,7 @@ WARN_NAMED = 3
 
 
 def run(args: argparse.Namespace) -> int:
-    from ..core.importers import import_csv, import_npz, parse_columns
+    from arena_studio.core.tape.importers import import_csv, import_npz, parse_columns
 
     skipped: list[str] | None = [] if args.skip_bad else None
     try:

@@ -31,8 +31,8 @@ from scipy.sparse import coo_matrix
 from scipy.sparse.csgraph import dijkstra
 from shapely.geometry.base import BaseGeometry
 
-from arena_studio.core.visibility import EDGE_EPSILON, VisibilityGraph
-from arena_studio.core.visibility_fields import best_straight_leg
+from arena_studio.core.geometry.visibility import EDGE_EPSILON, VisibilityGraph
+from arena_studio.core.geometry.visibility_fields import best_straight_leg
 
 #: last legs are tested in batches of this many nodes, best lower bound first
 NODE_BATCH = 64

@@ -17,7 +17,7 @@ from PySide6.QtCore import Qt
 from arena_studio.app.replay.batch_stats import batch_stats
 from arena_studio.app.replay.episode_list import COL
 from arena_studio.app.replay.replay_window import ReplayWindow
-from arena_studio.core.metrics import episode_metrics
+from arena_studio.core.analysis.metrics import episode_metrics
 from arena_studio.core.resources import resource_path
 from arena_studio.core.tape import open_tape
 

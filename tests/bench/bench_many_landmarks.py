@@ -15,9 +15,9 @@ import dataclasses
 import os
 import time
 
-from arena_studio.core.goals import enumerate_goals
-from arena_studio.core.partime import plan_all
-from arena_studio.core.paths import PathPlanner
+from arena_studio.core.geometry.paths import PathPlanner
+from arena_studio.core.planning.goal_set import enumerate_goals
+from arena_studio.core.planning.partime import plan_all
 from tests.core.test_start_search import many_landmarks_scene
 
 LANDMARKS = 3000

@@ -23,9 +23,9 @@ from arena_studio.core.import_rows import (
     parse_row,
     pose_array_problem,
 )
-from arena_studio.core.importers import import_csv, import_npz
-from arena_studio.core.scene import save_scene
+from arena_studio.core.scene.model import save_scene
 from arena_studio.core.tape import open_tape
+from arena_studio.core.tape.importers import import_csv, import_npz
 
 from .tape_helpers import box_scene
 

@@ -15,9 +15,9 @@ import math
 
 import numpy as np
 
-from arena_studio.core.partime import plan_all
-from arena_studio.core.paths import PathPlanner
-from arena_studio.core.scene import (
+from arena_studio.core.geometry.paths import PathPlanner
+from arena_studio.core.planning.partime import plan_all
+from arena_studio.core.scene.model import (
     Agent,
     Circle,
     GoalSpec,

@@ -15,10 +15,10 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from arena_studio.core.episode import Episode
-from arena_studio.core.metrics_batch import episodes_metrics, tape_metrics
+from arena_studio.core.analysis.metrics_batch import episodes_metrics, tape_metrics
 from arena_studio.core.tape import TapeError, open_tape
 from arena_studio.core.tape.damage import Damage, EpisodeDamaged
+from arena_studio.core.tape.episode import Episode
 from arena_studio.core.tape.format import TRAILER_SIZE
 
 from .tape_helpers import box_scene, replace_marked_value, write_tape_with_marked_episode

@@ -17,7 +17,7 @@ from typing import Any
 
 from PySide6.QtCore import QObject, QThread, Signal
 
-from ...core.errors import ArenaError
+from arena_studio.core.errors import ArenaError
 
 #: held around every core computation the viewer runs off the UI thread (metrics, planning,
 #: episode caches). Core keeps GEOS prepared geometry per thread, so this is not needed for

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from .format import TapeError
+from arena_studio.core.tape.format import TapeError
 
 
 @dataclass(frozen=True)

@@ -19,12 +19,11 @@ from typing import Any, cast
 
 import numpy as np
 
-from ..episode import Episode, RoleTimeline
-from ..errors import ArenaError
-from ..scene import Scene
-from ..value_limits import COORDINATE_LIMIT, DT_MAX, DT_MIN, HEADING_LIMIT
-from .damage import Damage, EpisodeDamaged
-from .format import (
+from arena_studio.core.errors import ArenaError
+from arena_studio.core.scene.model import Scene
+from arena_studio.core.tape.damage import Damage, EpisodeDamaged
+from arena_studio.core.tape.episode import Episode, RoleTimeline
+from arena_studio.core.tape.format import (
     BOOL_DTYPES,
     FLOAT_DTYPES,
     FORMAT_NAME,
@@ -56,6 +55,7 @@ from .format import (
     unpack,
     unpack_views,
 )
+from arena_studio.core.value_limits import COORDINATE_LIMIT, DT_MAX, DT_MIN, HEADING_LIMIT
 
 #: chunk payloads at least this large are decoded without copying their array bytes
 ZERO_COPY_BYTES = 1 << 16
