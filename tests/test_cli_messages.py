@@ -103,6 +103,6 @@ def test_screenshot_of_damaged_episode_names_file_and_reason(tmp_path: Path) -> 
         timeout=300,
     )
     assert proc.returncode == 2
-    lines = [ln for ln in proc.stderr.splitlines() if "did not load" in ln]
+    lines = [ln for ln in proc.stderr.splitlines() if "episode 0" in ln]
     assert len(lines) == 1
-    assert str(tape) in lines[0] and "episode 0" in lines[0] and "checksum" in lines[0]
+    assert str(tape) in lines[0] and "damaged" in lines[0] and "checksum" in lines[0]

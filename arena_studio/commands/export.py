@@ -20,6 +20,7 @@ from arena_studio.commands.common import (
     warning_line,
 )
 from arena_studio.commands.output_plan import add_force_argument, plan_outputs
+from arena_studio.commands.progress import progress_bar
 from arena_studio.core import limits as lim
 from arena_studio.core.errors import ArenaError
 from arena_studio.core.export import CAUTION, DEFAULT_RESOLUTION, FORMATS, export_scene
@@ -61,6 +62,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         "robot radius (default 0)",
     )
     add_force_argument(parser)
+    parser.add_argument("--quiet", action="store_true", help="no progress bar")
 
 
 def run(args: argparse.Namespace) -> int:
@@ -69,14 +71,26 @@ def run(args: argparse.Namespace) -> int:
     plan_outputs(export_outputs(args.format, args.output), [args.scene], args.force)
     failures: list[str] = []
     try:
-        written = export_scene(
-            scene,
-            args.format,
-            args.output,
-            resolution=args.resolution,
-            clearance=args.clearance,
-            failures=failures,
-        )
+        total = 0
+        if args.format == "npz":  # par times of every goal: the long part on big scenes
+            from arena_studio.core.planning.goal_set import enumerate_goals
+
+            total = len(enumerate_goals(scene))
+        elif args.format == "grid":  # percent of the cells tested
+            total = 100
+        with progress_bar(total, "export", getattr(args, "quiet", False) or not total) as bar:
+            written = export_scene(
+                scene,
+                args.format,
+                args.output,
+                resolution=args.resolution,
+                clearance=args.clearance,
+                failures=failures,
+                advance=bar.advance,
+            )
+    except KeyboardInterrupt:
+        error_line(f"interrupted; {args.output} was not written")
+        return 130
     except ArenaError as exc:
         error_line(str(exc))
         return EXIT_UNREADABLE

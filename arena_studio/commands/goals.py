@@ -27,6 +27,7 @@ from arena_studio.commands.common import (
     error_line,
     read_scene,
 )
+from arena_studio.commands.progress import progress_bar
 
 HELP = "list a scene's goals with par times and assignments (exit 0 ok, 1 problems, 2 unreadable)"
 
@@ -36,6 +37,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument(
         "--json", action="store_true", help='print {"goals": [...]} as JSON instead of a table'
     )
+    parser.add_argument("--quiet", action="store_true", help="no progress bar")
 
 
 def run(args: argparse.Namespace) -> int:
@@ -45,7 +47,11 @@ def run(args: argparse.Namespace) -> int:
         from arena_studio.core.planning.partime import plan_all
 
         table = enumerate_goals(scene)
-        plans = plan_all(scene, table)
+        with progress_bar(len(table), "goals", getattr(args, "quiet", False)) as bar:
+            plans = plan_all(scene, table, advance=bar.advance)
+    except KeyboardInterrupt:
+        error_line("interrupted")
+        return 130
     except Exception as exc:  # a planner bug must still end in one line, not a traceback
         error_line(f"{args.scene}: planning failed ({type(exc).__name__}: {exc}); please report")
         return EXIT_UNREADABLE

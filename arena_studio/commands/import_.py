@@ -13,6 +13,7 @@ from arena_studio.commands.common import (
     CommandError,
     error_line,
     read_scene,
+    warning_line,
 )
 from arena_studio.commands.output_plan import add_force_argument, keep_earlier_partial, plan_outputs
 from arena_studio.commands.progress import progress_bar
@@ -40,11 +41,21 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     )
     parser.add_argument("--quiet", action="store_true", help="no progress bar")
     add_force_argument(parser)
+    parser.add_argument(
+        "--skip-bad",
+        action="store_true",
+        help="leave out bad rows (CSV) or episodes (NPZ), say which, and import the rest",
+    )
+
+
+#: skipped rows or episodes named in full in the warning line; the rest are counted
+WARN_NAMED = 3
 
 
 def run(args: argparse.Namespace) -> int:
     from arena_studio.core.tape.importers import import_csv, import_npz, parse_columns
 
+    skipped: list[str] | None = [] if args.skip_bad else None
     try:
         src = Path(args.input)
         check_input(src, args.kind)  # a folder, pipe or device is refused by name
@@ -64,20 +75,39 @@ def run(args: argparse.Namespace) -> int:
                     dt=0.1 if args.dt is None else args.dt,
                     columns=columns,
                     advance=bar.advance,
+                    skipped=skipped,
                 )
         else:
             if args.columns:
                 raise CommandError("--columns applies to CSV input only")
             with progress_bar(1, "import", args.quiet) as bar:
-                count = import_npz(src, scene, args.output, dt=args.dt, advance=bar.advance)
+                count = import_npz(
+                    src, scene, args.output, dt=args.dt, advance=bar.advance, skipped=skipped
+                )
     except CommandError as exc:
         error_line(str(exc))
         return exc.code
     except ArenaError as exc:
-        error_line(str(exc))
+        hint = "" if args.skip_bad else "; --skip-bad imports the rest"
+        row_level = ": line " in str(exc) or ": episode " in str(exc)
+        error_line(str(exc) + (hint if row_level else ""))
         return EXIT_UNREADABLE
     except KeyboardInterrupt:
         error_line(f"interrupted; {args.output} was not written")
         return 130
+    if skipped:
+        named = "; ".join(skipped[:WARN_NAMED])
+        more = f"; and {len(skipped) - WARN_NAMED} more" if len(skipped) > WARN_NAMED else ""
+        episodes = sum(t.endswith("episode left out") for t in skipped)
+        rows = len(skipped) - episodes
+        what = " and ".join(
+            part
+            for part in (
+                f"{rows} bad row(s)" if rows else "",
+                f"{episodes} episode(s)" if episodes else "",
+            )
+            if part
+        )
+        warning_line(f"{args.input}: left out {what}: {named}{more}")
     print(f"{args.output}: {count} episode(s) imported")
     return EXIT_OK

@@ -112,6 +112,7 @@ def run(args: argparse.Namespace) -> int:
 
 
 def _run(args: argparse.Namespace) -> int:
+    from arena_studio.core.tape.damage import EpisodeDamaged
     from arena_studio.render.clip import ClipError, ClipSpec, export_clip, parse_size
     from arena_studio.render.episode_painter import FrameOptions
 
@@ -138,6 +139,13 @@ def _run(args: argparse.Namespace) -> int:
             raise CommandError(f"{args.tape}: no episode {i} (the tape has {len(tape)})")
         try:
             episodes.append(tape.episode(i))
+        except EpisodeDamaged as exc:
+            d = exc.damage
+            raise CommandError(
+                f"{args.tape}: episode {i} is damaged and cannot be drawn "
+                f"({d.place + ': ' if d.place else ''}{d.reason}); the other episodes read "
+                "normally"
+            ) from None
         except ArenaError as exc:
             raise CommandError(str(exc)) from None
     options = FrameOptions(

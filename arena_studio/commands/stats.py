@@ -12,6 +12,7 @@ from typing import Any
 from arena_studio.commands.arg_types import number
 from arena_studio.commands.common import (
     EXIT_OK,
+    EXIT_PROBLEMS,
     EXIT_UNREADABLE,
     CommandError,
     error_line,
@@ -40,7 +41,10 @@ ROW_FIELDS = (
     "diagnosis",
     "steps",
     "complete",
+    "damage",
 )
+#: damaged episodes named in full in the warning line; the rest are counted
+WARN_NAMED = 3
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
@@ -62,6 +66,11 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     )
     parser.add_argument(
         "--parquet", metavar="OUT", default=None, help="also write the per-episode rows as Parquet"
+    )
+    parser.add_argument(
+        "--strict",
+        action="store_true",
+        help="exit 1 when some episode is damaged (default: warn, report it, exit 0)",
     )
 
 
@@ -103,21 +112,28 @@ def run(args: argparse.Namespace) -> int:
         error_line(f"--episode {args.episode}: the tape has episodes 0..{len(tape) - 1}")
         return EXIT_UNREADABLE
     indices = range(len(tape)) if args.episode is None else [args.episode]
+    damaged: list[Any] = []
     try:
         with progress_bar(len(indices), "stats", args.quiet) as bar:
-            # many episodes at once (same results as core.metrics.episode_metrics)
-            metrics = tape_metrics(tape, indices, advance=bar.advance)
+            # many episodes at once (same results as core.metrics.episode_metrics); a damaged
+            # episode is left out and reported, the others are measured
+            metrics = tape_metrics(tape, indices, advance=bar.advance, damaged=damaged)
     except ArenaError as exc:
         error_line(str(exc))
         return EXIT_UNREADABLE
     except KeyboardInterrupt:
         error_line("interrupted")
         return 130
+    damaged.sort(key=lambda d: d.episode)
     summary = summarize_metrics(tape.scene, metrics)
     summary["truncated"] = tape.truncated
+    summary["damaged"] = len(damaged)
+    summary["damaged_episodes"] = [d.to_dict() for d in damaged]
     summary["scene_hash_ok"] = tape.scene_hash_ok  # None: the tape stores no scene hash
-    rows = [m.to_dict() for m in metrics]
-    if args.episode is not None:
+    rows = _rows(metrics, damaged)
+    if damaged:
+        warning_line(_damage_warning(args.tape, damaged))
+    if args.episode is not None and not damaged:
         from arena_studio.core.analysis.events import episode_events
 
         ids = [a.id for a in tape.scene.agents]
@@ -137,7 +153,30 @@ def run(args: argparse.Namespace) -> int:
     if args.parquet:
         _write_parquet(args.parquet, rows)
     _emit(args, tape, summary, rows)  # a closed pipe is handled in cli (stdout_safety)
-    return EXIT_OK
+    return EXIT_PROBLEMS if damaged and args.strict else EXIT_OK
+
+
+def _rows(metrics: list[Any], damaged: list[Any]) -> list[dict[str, Any]]:
+    """Per-episode rows in episode order: measured ones, and one for each damaged episode
+    (its ``damage`` column says what and where; every metric is empty)."""
+    rows = [{**m.to_dict(), "damage": None} for m in metrics]
+    for d in damaged:
+        row: dict[str, Any] = dict.fromkeys(ROW_FIELDS)
+        row.update(index=d.episode, damage=d.text(), success=None, complete=False)
+        rows.append(row)
+    rows.sort(key=lambda r: r["index"])
+    return rows
+
+
+def _damage_warning(source: str, damaged: list[Any]) -> str:
+    """One line: how many episodes are damaged, the first few in full."""
+    named = "; ".join(d.text() for d in damaged[:WARN_NAMED])
+    more = len(damaged) - WARN_NAMED
+    tail = f"; and {more} more" if more > 0 else ""
+    return (
+        f"{source}: {len(damaged)} damaged episode(s) left out of the totals "
+        f"(the others read normally): {named}{tail}"
+    )
 
 
 def _write_parquet(out: str, rows: list[dict[str, Any]]) -> None:
@@ -175,7 +214,8 @@ def _num(value: float | None, unit: str = "") -> str:
 
 def _print_text(tape: Any, summary: dict[str, Any], rows: list[dict[str, Any]]) -> None:
     out = sys.stdout
-    out.write(f"{tape.path}: {summary['episodes']} episode(s) of '{tape.scene.name}'\n")
+    hurt = f" and {summary['damaged']} damaged" if summary["damaged"] else ""
+    out.write(f"{tape.path}: {summary['episodes']} episode(s){hurt} of '{tape.scene.name}'\n")
     out.write(
         f"  success {_pct(summary['success_rate'])}, alignment {_pct(summary['alignment_rate'])}"
         f", aligned success {_pct(summary['aligned']['success_rate'])}"
@@ -193,8 +233,13 @@ def _print_text(tape: Any, summary: dict[str, Any], rows: list[dict[str, Any]]) 
     if summary["diagnoses"]:
         words = ", ".join(f"{k} {v}" for k, v in summary["diagnoses"].items())
         out.write(f"  failures: {words}\n")
+    if summary["damaged"]:
+        out.write(f"  damaged: {summary['damaged']} episode(s), not counted above\n")
     out.write("\n  #  goal                           ok   time    par  aligned  diagnosis\n")
     for r in rows:
+        if r["damage"]:
+            out.write(f"{r['index']:>3}  DAMAGED: {r['damage']}\n")
+            continue
         ok = "yes" if r["success"] else "no"
         aligned = "-" if r["aligned"] is None else ("yes" if r["aligned"] else "no")
         diag = r["diagnosis"] or ""

@@ -19,6 +19,7 @@ from typing import Any
 
 from arena_studio.commands.common import EXIT_OK, CommandError, warning_line
 from arena_studio.core.errors import ArenaError
+from arena_studio.core.export.text_safety import csv_cell
 
 Sleep = Callable[[float], None]
 
@@ -83,9 +84,9 @@ def _emit(
     clean: Callable[[Any], Any],
 ) -> None:
     if table is not None:
-        table.writerow(["" if row[k] is None else row[k] for k in fields])
+        table.writerow(["" if row.get(k) is None else csv_cell(row[k]) for k in fields])
     elif args.json:
-        print(json.dumps(clean({k: row[k] for k in fields})))
+        print(json.dumps(clean({k: row.get(k) for k in fields})))
     else:
         ok = sum(1 for m in metrics if m.success)
         aligned = [m.aligned for m in metrics if m.aligned is not None]

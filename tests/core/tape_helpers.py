@@ -64,3 +64,48 @@ def header_record(scene: Scene) -> dict:
         "scene_hash": scene.content_hash(),
         "metadata": {},
     }
+
+
+#: a pose value no test writes otherwise: its bytes mark the place a helper damages
+SENTINEL = 4321.125
+
+
+def write_tape_with_marked_episode(
+    path: Path, scene: Scene, episodes: int = 5, marked: int = 2, steps: int = 6
+) -> None:
+    """Sound episodes of ``steps`` steps (chunks of 2) where episode ``marked`` holds
+    ``SENTINEL`` as agent 1's x at step 3, for :func:`replace_marked_value` to damage."""
+    with TapeWriter(path, scene, dt=0.5, chunk_steps=2) as w:
+        for e in range(episodes):
+            w.begin_episode(team_goal=[1, 0, 0], pursued_goals=[[1, 0, 0]] * len(scene.agents))
+            poses = np.full((steps, len(scene.agents), 3), 1.0 + 0.1 * e)
+            poses[:, :, 0] += 0.5 * np.arange(steps)[:, None]
+            if e == marked:
+                poses[3, 1, 0] = SENTINEL
+            w.steps(poses)
+            w.end_episode({"e": e})
+
+
+def replace_marked_value(path: Path, value: float, fix_crc: bool = True) -> int:
+    """Put ``value`` where ``SENTINEL`` is and return that file offset. With ``fix_crc`` the
+    record's CRC-32 (zlib, over kind byte and payload: the documented frame) is recomputed,
+    so only the value is wrong; without it the record fails its checksum."""
+    import struct
+    import zlib
+
+    data = bytearray(path.read_bytes())
+    at = data.find(struct.pack("<d", SENTINEL))
+    assert at > 0 and data.find(struct.pack("<d", SENTINEL), at + 1) < 0
+    struct.pack_into("<d", data, at, value)
+    if fix_crc:
+        pos = 8  # after the magic bytes: walk the frames to the one holding ``at``
+        while True:
+            length = struct.unpack_from("<I", data, pos)[0]
+            end = pos + 5 + length + 4
+            if pos < at < end:
+                crc = zlib.crc32(bytes(data[pos + 4 : pos + 5 + length]))
+                struct.pack_into("<I", data, pos + 5 + length, crc)
+                break
+            pos = end
+    path.write_bytes(bytes(data))
+    return at

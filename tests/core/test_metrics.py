@@ -252,8 +252,18 @@ def test_tape_metrics_name_the_damaged_record(tmp_path: Path) -> None:
     chunk = entry.begin + 5 + struct.unpack_from("<I", data, entry.begin)[0] + 4
     data[chunk + 40] ^= 0x04  # inside episode 2's chunk record
     path.write_bytes(bytes(data))
-    with pytest.raises(TapeError, match=f"episode 2 byte {chunk}: record checksum mismatch"):
+    with pytest.raises(TapeError, match=f"episode 2 chunk 0 byte {chunk}: record checksum mis"):
         tape_metrics(open_tape(path))
+    # with a list for the damage, episode 2 is left out and named; the others are measured
+    # exactly as from the undamaged copy (the damage stays in its episode)
+    damaged: list = []
+    kept = tape_metrics(open_tape(path), damaged=damaged)
+    assert [m.index for m in kept] == [0, 1, 3]
+    assert [(d.episode, d.chunk, d.byte) for d in damaged] == [(2, 0, chunk)]
+    data[chunk + 40] ^= 0x04
+    path.write_bytes(bytes(data))
+    whole = tape_metrics(open_tape(path))
+    assert [whole[i] for i in (0, 1, 3)] == kept
 
 
 @pytest.mark.parametrize("rule", ["all_at_once", "all_at_end", "all_visited"])

@@ -42,12 +42,19 @@ def _chunk(values: np.ndarray, start: int = 0, **extra: object) -> dict:
     return {"start": start, "steps": values.shape[0], "poses": _poses(values), **extra}
 
 
-def test_huge_finite_poses_are_accepted(tmp_path: Path) -> None:
-    # IEEE 754 binary64: the largest finite double is about 1.798e308 (numpy.finfo); such
-    # positions are absurd but finite numbers, so the reader keeps them
-    big = np.full((2, 2, 3), np.finfo(np.float64).max)
+def test_huge_finite_poses_mark_the_episode_damaged(tmp_path: Path) -> None:
+    # IEEE 754 binary64: the largest finite double is about 1.798e308 (numpy.finfo); such a
+    # position is a finite number but outside the documented ±1e6 m, so the episode is damaged
+    # (naming step, agent and field) while a pose exactly at the bound is kept
+    edge = np.full((2, 2, 3), 1e6)
+    tape = open_tape(_tape(tmp_path, [({}, [_chunk(edge)])]))
+    assert np.array_equal(tape.episode(0).poses, edge)
+    big = edge.copy()
+    big[1, 0, 1] = np.finfo(np.float64).max
     tape = open_tape(_tape(tmp_path, [({}, [_chunk(big)])]))
-    assert np.array_equal(tape.episode(0).poses, big)
+    with pytest.raises(TapeError, match=r"episode 0 step 1 agent 0: pose y = 1.79769e\+308 is"):
+        tape.episode(0)
+    assert tape.damage[0].step == 1 and tape.damage[0].agent == 0
 
 
 @pytest.mark.parametrize("chunks", [1, 2])

@@ -38,6 +38,7 @@ class BatchStats:
     aligned_success: tuple[int, int]  # successes, episodes among aligned
     misaligned_success: tuple[int, int]  # successes, episodes among misaligned
     goals: tuple[GoalStat, ...]
+    damaged: int = 0  # damaged episodes, left out of every number above
 
 
 def _rate(hits: int, total: int) -> float | None:
@@ -47,6 +48,8 @@ def _rate(hits: int, total: int) -> float | None:
 def batch_stats(rows: Iterable[EpisodeSummary]) -> BatchStats:
     """Aggregate loaded rows (placeholders are skipped)."""
     rows = [r for r in rows if r.loaded]
+    damaged = sum(1 for r in rows if r.damage is not None)
+    rows = [r for r in rows if r.damage is None]
     scored = [r for r in rows if r.success is not None]
     with_align = [r for r in rows if r.aligned is not None]
     aligned = [r for r in scored if r.aligned is True]
@@ -68,6 +71,7 @@ def batch_stats(rows: Iterable[EpisodeSummary]) -> BatchStats:
         aligned_success=(sum(1 for r in aligned if r.success), len(aligned)),
         misaligned_success=(sum(1 for r in misaligned if r.success), len(misaligned)),
         goals=goals,
+        damaged=damaged,
     )
 
 

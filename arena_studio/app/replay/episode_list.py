@@ -80,6 +80,7 @@ PRESETS: tuple[tuple[str, str], ...] = (
     ("Misaligned", "misaligned"),
     ("Failed", "failed"),
     ("Succeeded", "succeeded"),
+    ("Damaged", "damaged"),
 )
 
 
@@ -93,6 +94,7 @@ class EpisodeTableModel(QAbstractTableModel):
         self._rows: list[EpisodeSummary] = []
         self._row_of: dict[int, int] = {}
         self.fail_color: QColor | None = None  # "no" in Success/Aligned, set from the theme
+        self.muted_color: QColor | None = None  # damaged rows are drawn in it (greyed)
 
     # -- filling -----------------------------------------------------------------------
     def reset_rows(self, summaries: Iterable[EpisodeSummary]) -> None:
@@ -155,6 +157,8 @@ class EpisodeTableModel(QAbstractTableModel):
         key = COLUMNS[index.column()][0]
         if role == SUMMARY_ROLE:
             return s
+        if s.damage is not None and role != SORT_ROLE:
+            return self._damaged_data(s, key, role)
         if role == SORT_ROLE:
             value = getattr(s, key)
             if value is None or value == "":
@@ -194,6 +198,25 @@ class EpisodeTableModel(QAbstractTableModel):
             return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
         return None
 
+    def _damaged_data(self, s: EpisodeSummary, key: str, role: int) -> object:
+        """A damaged episode's row: greyed and italic, the reason in the Diagnosis column
+        and as every cell's tooltip; no metrics."""
+        if role == Qt.ItemDataRole.DisplayRole:
+            if key == "index":
+                return str(s.index)
+            if key == "goal_label":
+                return "damaged"
+            return f"Damaged: {s.damage}" if key == "diagnosis" else ""
+        if role == Qt.ItemDataRole.ToolTipRole:
+            return f"Episode {s.index} is damaged and cannot be shown: {s.damage}"
+        if role == Qt.ItemDataRole.ForegroundRole:
+            return self.muted_color
+        if role == Qt.ItemDataRole.FontRole:
+            font = QFont()
+            font.setItalic(True)
+            return font
+        return None
+
 
 class EpisodeFilterProxy(QSortFilterProxyModel):
     """Preset + goal + text filter; sorts by raw values with blanks last."""
@@ -231,7 +254,7 @@ class EpisodeFilterProxy(QSortFilterProxyModel):
         if self._goal is not None and s.goal != self._goal:
             return False
         if self._text:
-            hay = f"{s.goal_label} {s.diagnosis or ''}".lower()
+            hay = f"{s.goal_label} {s.diagnosis or ''} {s.damage or ''}".lower()
             if not all(word in hay for word in self._text.split()):
                 return False
         p = self._preset
@@ -243,6 +266,8 @@ class EpisodeFilterProxy(QSortFilterProxyModel):
             return s.success is False
         if p == "succeeded":
             return s.success is True
+        if p == "damaged":
+            return s.damage is not None
         return True
 
     def filterAcceptsRow(self, source_row: int, source_parent) -> bool:
@@ -332,6 +357,7 @@ class EpisodeListPanel(QWidget):
 
     def set_theme(self, theme) -> None:
         self.model.fail_color = theme.qcolor("error")
+        self.model.muted_color = theme.qcolor("text_muted")
         self.table.viewport().update()
 
     # -- filters -----------------------------------------------------------------------

@@ -153,6 +153,13 @@ def _show_moment(page: ReplayWindow, episode: int | None, seconds: float | None)
     page.last_load_error = None
     page.select_episode(index)
     loaded = page.wait_loaded(60000)
+    damage = page.shown_damage
+    if damage is not None and damage.episode == index:
+        place = f"{damage.place}: " if damage.place else ""
+        return (
+            f"{page.session.path}: episode {index} is damaged and cannot be shown "
+            f"({place}{cap_text(damage.reason)}); the other episodes read normally"
+        )
     if not loaded or page.prepared is None or page.prepared.episode.index != index:
         reason = getattr(page, "last_load_error", None) or (
             "still loading after 60 s" if not loaded else "no reason given"

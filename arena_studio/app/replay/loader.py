@@ -17,6 +17,8 @@ from typing import Any
 
 from PySide6.QtCore import QObject, QThread, Signal
 
+from arena_studio.core.errors import ArenaError
+
 #: held around every core computation the viewer runs off the UI thread (metrics, planning,
 #: episode caches). Core keeps GEOS prepared geometry per thread, so this is not needed for
 #: safety any more; it keeps the viewer's workers to one busy core of the two, so the UI
@@ -131,7 +133,11 @@ class BackgroundCall(QObject):
                     result = fn()
             except Exception as exc:
                 if token == self._token:
-                    self.failed.emit(token, f"{type(exc).__name__}: {exc}")
+                    # our own errors name the place already; others get their type
+                    text = (
+                        str(exc) if isinstance(exc, ArenaError) else f"{type(exc).__name__}: {exc}"
+                    )
+                    self.failed.emit(token, text)
             else:
                 if token == self._token:
                     self.done.emit(token, result)

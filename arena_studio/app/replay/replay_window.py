@@ -31,6 +31,7 @@ from arena_studio.app.replay.plots import PlotsPanel
 from arena_studio.app.replay.prepared import PreparedEpisode
 from arena_studio.app.replay.replay_canvas import ReplayCanvas
 from arena_studio.app.replay.session import ReplaySession
+from arena_studio.app.replay.summary import damaged_summary
 from arena_studio.app.replay.timeline import TimelineBar
 from arena_studio.app.replay.transport import PlaybackClock
 from arena_studio.app.replay.transport_bar import TransportBar
@@ -38,6 +39,7 @@ from arena_studio.app.replay.verdict import VerdictLine
 from arena_studio.app.replay.view_toolbar import COMPARE_MODES, ViewToolbar
 from arena_studio.core.episode_scene import episode_scene
 from arena_studio.core.scene.model import Scene
+from arena_studio.core.tape.damage import Damage
 from arena_studio.render.theme import Theme, load_theme
 
 
@@ -61,6 +63,8 @@ class ReplayWindow(QMainWindow):
         self.session: ReplaySession | None = None
         self.prepared: PreparedEpisode | None = None
         self.last_load_error: str | None = None  # the last background load failure
+        #: the damaged episode shown instead of an episode (the last selection was damaged)
+        self.shown_damage: Damage | None = None
         self.compare: PreparedEpisode | None = None
         self.compare_mode = "off"
         self._pending_index: int | None = None
@@ -322,14 +326,19 @@ class ReplayWindow(QMainWindow):
             loop.processEvents(QEventLoop.ProcessEventsFlag.AllEvents, 50)
         return self._pending_index is None
 
-    def _on_episode_ready(self, prepared: PreparedEpisode) -> None:
+    def _on_episode_ready(self, prepared: PreparedEpisode | Damage) -> None:
         if prepared is None or self.session is None:
+            return
+        if isinstance(prepared, Damage):
+            self._show_damaged(prepared)
             return
         if self._pending_index is not None and prepared.episode.index != self._pending_index:
             return
         step = self._pending_step
         self._pending_index = self._pending_step = None
         self.prepared = prepared
+        self.shown_damage = None
+        scene = self.session.scene
         ep = prepared.episode
         scene = episode_scene(self.session.scene, ep)  # landmarks where this episode had them
         self.canvas.set_episode(scene, prepared)
@@ -345,6 +354,29 @@ class ReplayWindow(QMainWindow):
         self._update_verdict()
         self._update_compare_views()
         self.episode_list.select_episode(ep.index) if self._list_current() != ep.index else None
+
+    def _show_damaged(self, damage: Damage) -> None:
+        """A damaged episode is not shown as an episode: the canvas keeps the bare scene,
+        the line under it says which episode and why, and its list row is marked."""
+        if self._pending_index is not None and damage.episode != self._pending_index:
+            return
+        self._pending_index = self._pending_step = None
+        self.prepared = None
+        self.shown_damage = damage
+        assert self.session is not None
+        scene = self.session.scene
+        self.canvas.set_episode(scene, None)
+        self.plots.set_episode(scene, None)
+        self.timeline.set_events((), 0)
+        self.clock.set_episode(1, self.session.tape.dt)
+        row = damaged_summary(damage)
+        self.episode_list.model.update_rows([row])
+        self.verdict.setText(
+            f"Episode {damage.episode} is damaged and cannot be shown ({row.damage}). "
+            "The other episodes read normally."
+        )
+        if self._list_current() != damage.episode:
+            self.episode_list.select_episode(damage.episode)
 
     def _on_failed(self, message: str) -> None:
         """A background load failed: say so where the user looks, never leave "Loading…"."""

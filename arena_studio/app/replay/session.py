@@ -19,8 +19,9 @@ from arena_studio.app.replay.batch_stats import Occupancy
 from arena_studio.app.replay.events import episode_event_marks
 from arena_studio.app.replay.loader import CORE_LOCK, BackgroundCall, StreamWorker
 from arena_studio.app.replay.prepared import EventMark, PreparedEpisode, prepare_episode
-from arena_studio.app.replay.summary import EpisodeSummary, summarise_episode
+from arena_studio.app.replay.summary import EpisodeSummary, damaged_summary, summarise_episode
 from arena_studio.core.scene.model import Scene
+from arena_studio.core.tape.damage import Damage, EpisodeDamaged
 from arena_studio.core.tape.episode import Episode
 
 
@@ -95,7 +96,7 @@ class ReplaySession(QObject):
     progress = Signal(int, int)
     summariesDone = Signal()
     occupancyReady = Signal(object)  # Occupancy
-    episodeReady = Signal(object)  # PreparedEpisode (the selected one)
+    episodeReady = Signal(object)  # PreparedEpisode (the selected one), or its Damage
     compareReady = Signal(object)  # PreparedEpisode or None
     failed = Signal(str)
 
@@ -137,7 +138,11 @@ class ReplaySession(QObject):
             for i in wanted:
                 if stop():
                     return
-                episode = tape.episode(i)
+                try:
+                    episode = tape.episode(i)
+                except EpisodeDamaged as exc:  # the damage stays in its row
+                    yield damaged_summary(exc.damage)
+                    continue
                 occupancy.add(episode.poses, episode.dt)
                 try:
                     with CORE_LOCK:  # released between episodes so a selection gets in
@@ -178,8 +183,18 @@ class ReplaySession(QObject):
 
     # -- episodes ----------------------------------------------------------------------
     def request_episode(self, index: int) -> int:
+        """Prepare episode ``index`` off the UI thread; ``episodeReady`` brings the
+        :class:`PreparedEpisode`, or the episode's ``Damage`` record when it is damaged."""
         scene, tape = self.scene, self.tape
-        return self._episode_call.submit(lambda: load_prepared(scene, tape.episode(index)))
+
+        def load() -> PreparedEpisode | Damage:
+            try:
+                episode = tape.episode(index)
+            except EpisodeDamaged as exc:
+                return exc.damage
+            return load_prepared(scene, episode)
+
+        return self._episode_call.submit(load)
 
     def request_compare(self, index: int | None) -> None:
         if index is None:

@@ -30,10 +30,21 @@ class EpisodeSummary:
     diagnosis_step: int | None = None
     steps: int | None = None
     loaded: bool = False  # False: placeholder row while metrics are being computed
+    damage: str | None = None  # why the episode cannot be read (where and what), else None
 
     @property
     def failed_cooperative(self) -> bool:
         return self.kind == "cooperative" and self.success is False
+
+
+def damaged_summary(damage: Any) -> EpisodeSummary:
+    """The row of a damaged episode (a core ``Damage`` record): no metrics, only why."""
+    place = damage.place
+    return EpisodeSummary(
+        index=int(damage.episode),
+        damage=f"{place}: {damage.reason}" if place else str(damage.reason),
+        loaded=True,
+    )
 
 
 def goal_kind(goal: np.ndarray | None) -> str:

@@ -42,7 +42,9 @@ from arena_studio.core.sim.observe import (
     goal_reached_planes,
     segment_starts,
 )
+from arena_studio.core.tape.damage import Damage, EpisodeDamaged
 from arena_studio.core.tape.episode import Episode
+from arena_studio.core.value_limits import pose_problem
 
 #: episodes are processed in groups of about this many steps (arrays stay cache-sized)
 BLOCK_STEPS = 32768
@@ -88,7 +90,19 @@ def _judged(
 
 
 def episodes_metrics(scene: Scene, episodes: Sequence[Episode]) -> list[EpisodeMetrics]:
-    """``[episode_metrics(scene, e) for e in episodes]``, computed in blocks of episodes."""
+    """``[episode_metrics(scene, e) for e in episodes]``, computed in blocks of episodes.
+
+    Episodes made in memory are checked first (a pose that is not finite or outside the
+    documented range raises ValueError naming episode, step and agent); ``tape_metrics``
+    skips that, the tape reader checked them already."""
+    for ep in episodes:
+        problem = pose_problem(ep.poses)
+        if problem is not None:
+            raise ValueError(f"episode {ep.index} {problem}")
+    return _episodes_metrics(scene, episodes)
+
+
+def _episodes_metrics(scene: Scene, episodes: Sequence[Episode]) -> list[EpisodeMetrics]:
     out: list[EpisodeMetrics] = []
     block: list[Episode] = []
     rows = 0
@@ -109,10 +123,16 @@ def tape_metrics(
     tape: Any,
     indices: Sequence[int] | None = None,
     advance: Callable[[int], None] | None = None,
+    damaged: list[Damage] | None = None,
 ) -> list[EpisodeMetrics]:
     """Metrics of a tape's episodes (all, or ``indices`` in order), read block by block:
     one file read and one checksum pass per block of consecutive episodes. (A reader thread
-    fetching the next block was tried: the GIL left it no faster on two cores.)"""
+    fetching the next block was tried: the GIL left it no faster on two cores.)
+
+    A damaged episode (bad checksum, undecodable record, a pose that is not finite or out of
+    range) raises :class:`EpisodeDamaged`; with a ``damaged`` list it is left out of the
+    result instead, its :class:`Damage` record appended there, and the rest are measured.
+    """
     order = list(range(len(tape))) if indices is None else [int(i) for i in indices]
     blocks: list[tuple[int, int]] = []
     pos = 0
@@ -128,11 +148,27 @@ def tape_metrics(
         pos = stop
     out: list[EpisodeMetrics] = []
     for start, stop in blocks:
-        episodes = tape.decode_span(tape.read_span(start, stop), copy=False)
-        out.extend(episodes_metrics(tape.scene, episodes))
+        episodes = _read_block(tape, start, stop, damaged)
+        out.extend(_episodes_metrics(tape.scene, episodes))
         if advance is not None:
-            advance(len(episodes))
+            advance(stop - start)
     return out
+
+
+def _read_block(tape: Any, start: int, stop: int, damaged: list[Damage] | None) -> list[Episode]:
+    """Episodes ``start .. stop - 1`` from one read; with ``damaged`` given, a damaged episode
+    is recorded there and the block is read again around it (damage is rare: the usual block
+    costs one read)."""
+    try:
+        return tape.decode_span(tape.read_span(start, stop), copy=False)
+    except EpisodeDamaged as exc:
+        if damaged is None:
+            raise
+        bad = exc.damage.episode
+        damaged.append(exc.damage)
+    before = _read_block(tape, start, bad, damaged) if bad > start else []
+    after = _read_block(tape, bad + 1, stop, damaged) if bad + 1 < stop else []
+    return before + after
 
 
 def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics]:

@@ -82,10 +82,13 @@ def export_scene(
     resolution: float = DEFAULT_RESOLUTION,
     clearance: float = 0.0,
     failures: list[str] | None = None,
+    advance: Callable[[int], None] | None = None,
 ) -> list[Path]:
     """Write ``scene`` as ``fmt`` to ``out``; returns every path written. ``resolution`` and
     ``clearance`` (metres kept from walls and obstacles) apply to the grid. Parts of an SVG
-    that cannot be drawn become visible notes, listed in ``failures``."""
+    that cannot be drawn become visible notes, listed in ``failures``. ``advance(1)`` is
+    called after each goal an export plans (npz: par times) and, for a grid, with percent
+    steps of the cells tested."""
     writer = _writer(fmt)
     target = Path(out)
     if target.is_dir():
@@ -96,9 +99,11 @@ def export_scene(
         if fmt in ("json", "msgpack"):
             return writer(scene, target, fmt)
         if fmt == "grid":
-            return writer(scene, target, resolution, clearance)
+            return writer(scene, target, resolution, clearance, advance)
         if fmt == "svg":
             return writer(scene, target, failures)
+        if fmt == "npz":
+            return writer(scene, target, advance)
         return writer(scene, target)
     except OSError as exc:
         raise ExportError(f"{target}: cannot write ({exc.strerror or exc})") from None

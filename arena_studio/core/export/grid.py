@@ -15,6 +15,7 @@ import hashlib
 import io
 import json
 import math
+from collections.abc import Callable
 from pathlib import Path
 from typing import Any
 
@@ -33,37 +34,74 @@ from arena_studio.core.scene.model import Scene
 
 #: Largest grid written (cells); a finer resolution is refused with a reason.
 MAX_CELLS = 40_000_000
+#: cells tested per block (bounds the temporary coordinate arrays, paces the progress bar)
+BLOCK_CELLS = 1_000_000
 
 
 def occupancy(
-    scene: Scene, resolution: float, clearance: float = 0.0
+    scene: Scene,
+    resolution: float,
+    clearance: float = 0.0,
+    advance: Callable[[int], None] | None = None,
 ) -> tuple[np.ndarray, tuple[float, float]]:
     """(rows, cols) uint8 grid (0 free, 1 blocked) and its origin (lower-left corner).
 
-    ``clearance``: metres a free cell's centre keeps from walls and obstacles (0: none)."""
+    ``clearance``: metres a free cell's centre keeps from walls and obstacles (0: none).
+    ``advance`` receives percent steps (100 in all) as blocks of rows are done."""
     if not (isinstance(resolution, int | float) and math.isfinite(resolution) and resolution > 0):
         raise ExportError(f"--resolution must be a number of metres > 0, got {resolution!r}")
     if not (isinstance(clearance, int | float) and math.isfinite(clearance) and clearance >= 0):
         raise ExportError(f"--clearance must be a number of metres >= 0, got {clearance!r}")
     minx, miny, maxx, maxy = bounds(scene)
-    cols = max(1, math.ceil((maxx - minx) / resolution - 1e-9))
-    rows = max(1, math.ceil((maxy - miny) / resolution - 1e-9))
+    # sizes as floats first: a tiny resolution must give a readable refusal, not a 300-digit
+    # integer or an overflow (the quotient may be inf)
+    with np.errstate(over="ignore"):
+        across = np.float64(maxx - minx) / np.float64(resolution)
+        up = np.float64(maxy - miny) / np.float64(resolution)
+        too_many = not across * up <= MAX_CELLS * (1 + 1e-9)
+    if too_many:
+        raise ExportError(
+            f"a {resolution:g} m grid of this scene would have {cells_in_words(up, across)} "
+            f"cells, more than the {MAX_CELLS:,} allowed; choose a coarser --resolution"
+        )
+    cols = max(1, math.ceil(float(across) - 1e-9))
+    rows = max(1, math.ceil(float(up) - 1e-9))
     if rows * cols > MAX_CELLS:
         raise ExportError(
-            f"a {resolution:g} m grid of this scene has {rows} x {cols} cells, more than "
-            f"{MAX_CELLS}; choose a coarser --resolution"
+            f"a {resolution:g} m grid of this scene would have {rows:,} x {cols:,} cells, "
+            f"more than the {MAX_CELLS:,} allowed; choose a coarser --resolution"
         )
     xs = minx + (np.arange(cols) + 0.5) * resolution
     ys = miny + (np.arange(rows) + 0.5) * resolution
-    gx, gy = np.meshgrid(xs, ys)
     # the same free space the reachability checks and the planner use for an agent this size
     area = free_space(scene, clearance) if clearance > 0 else open_area(scene)
-    if area.is_empty:
-        free = np.zeros(gx.shape, dtype=bool)
-    else:
+    grid = np.ones((rows, cols), dtype=np.uint8)
+    if not area.is_empty:
         shapely.prepare(area)
-        free = shapely.contains_xy(area, gx, gy)
-    return np.where(free, 0, 1).astype(np.uint8), (float(minx), float(miny))
+    step = max(1, BLOCK_CELLS // cols)
+    reported = 0
+    for r0 in range(0, rows, step):
+        r1 = min(rows, r0 + step)
+        if not area.is_empty:
+            gx, gy = np.meshgrid(xs, ys[r0:r1])
+            grid[r0:r1][shapely.contains_xy(area, gx, gy)] = 0
+        if advance is not None:
+            now = round(100 * r1 / rows)
+            advance(now - reported)
+            reported = now
+    return grid, (float(minx), float(miny))
+
+
+def cells_in_words(rows: float, cols: float) -> str:
+    """``12,000 x 40,000`` (whole cells, rounded up, with thousands separators); sizes too
+    large to be worth spelling out as ``about 2e+306``."""
+
+    def one(n: float) -> str:
+        if not math.isfinite(n) or n >= 1e15:
+            return f"about {n:.0e}" if math.isfinite(n) else "over 1e+308"
+        return f"{max(1, math.ceil(n - 1e-9)):,}"
+
+    return f"{one(float(rows))} x {one(float(cols))}"
 
 
 def grid_paths(out: Path) -> tuple[Path, Path, Path]:
@@ -75,12 +113,18 @@ def grid_paths(out: Path) -> tuple[Path, Path, Path]:
     )
 
 
-def write_grid(scene: Scene, out: Path, resolution: float, clearance: float = 0.0) -> list[Path]:
+def write_grid(
+    scene: Scene,
+    out: Path,
+    resolution: float,
+    clearance: float = 0.0,
+    advance: Callable[[int], None] | None = None,
+) -> list[Path]:
     """Write the three files as one set: the JSON sidecar (with a SHA-256 of each part) is
     published last, see :func:`arena_studio.core.atomic.write_set_atomic`."""
     from arena_studio.core.export.svg import palette
 
-    grid, origin = occupancy(scene, resolution, clearance)
+    grid, origin = occupancy(scene, resolution, clearance, advance)
     npy_path, png_path, json_path = grid_paths(out)
     buffer = io.BytesIO()
     np.save(buffer, grid, allow_pickle=False)

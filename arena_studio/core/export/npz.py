@@ -8,6 +8,7 @@ the README). Par times come from :func:`partime.plan_all` (NaN for infeasible go
 from __future__ import annotations
 
 import io
+from collections.abc import Callable
 from pathlib import Path
 
 import numpy as np
@@ -44,10 +45,12 @@ ARRAYS: dict[str, str] = {
 }
 
 
-def scene_arrays(scene: Scene) -> dict[str, np.ndarray]:
-    """Every array of :data:`ARRAYS` for ``scene``."""
+def scene_arrays(
+    scene: Scene, advance: Callable[[int], None] | None = None
+) -> dict[str, np.ndarray]:
+    """Every array of :data:`ARRAYS` for ``scene``; ``advance(1)`` after each goal planned."""
     table = enumerate_goals(scene)
-    plans = plan_all(scene, table)
+    plans = plan_all(scene, table, advance=advance)
     lms, agents = scene.landmarks, scene.agents
     poses = np.full((len(agents), 3), np.nan)
     longest = max((len(a.start.region or ()) for a in agents), default=0)
@@ -89,8 +92,8 @@ def scene_arrays(scene: Scene) -> dict[str, np.ndarray]:
     }
 
 
-def write_npz(scene: Scene, path: Path) -> list[Path]:
+def write_npz(scene: Scene, path: Path, advance: Callable[[int], None] | None = None) -> list[Path]:
     buffer = io.BytesIO()
-    np.savez_compressed(buffer, **scene_arrays(scene))  # type: ignore[arg-type]
+    np.savez_compressed(buffer, **scene_arrays(scene, advance))  # type: ignore[arg-type]
     write_export_bytes(path, buffer.getvalue())
     return [path]

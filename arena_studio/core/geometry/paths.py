@@ -51,8 +51,17 @@ from arena_studio.core.geometry.visibility_fields import (
     best_first_node,
     best_straight_leg,
     build_target_field,
+    target_corners,
 )
 from arena_studio.core.scene.model import Scene
+from arena_studio.core.start_search import (
+    LastLegs,
+    StartSearch,
+    build_start_search,
+    new_last_legs,
+    route_points,
+    target_costs,
+)
 
 #: Spacing (m) of start-region samples along the region's edges (at most 64 per edge ring).
 REGION_EDGE_SPACING = 0.1
@@ -91,12 +100,19 @@ def polyline_length(points: np.ndarray) -> float:
 class PathPlanner:
     """Shortest paths for one scene; caches free space, graphs and target fields.
 
-    Visibility graphs are cached per agent radius and target fields per (radius, landmark),
-    so planning every goal of a scene computes each agent-landmark path once.
+    Visibility graphs are cached per agent radius. A route from an agent's start to a
+    landmark comes from one search per agent start (:mod:`start_search`) and last legs shared
+    per (radius, landmark); target fields per (radius, landmark) serve the queries from other
+    points (``start_xy``, landmark gaps, groups). ``per_landmark_fields=True`` routes starts
+    through the fields too (the older, slower way: one field per landmark), for comparisons.
     """
 
-    def __init__(self, scene: Scene) -> None:
+    def __init__(self, scene: Scene, per_landmark_fields: bool = False) -> None:
         self.scene = scene
+        self.per_landmark_fields = per_landmark_fields
+        self._targets: dict[tuple[float, int], tuple[BaseGeometry, np.ndarray]] = {}
+        self._searches: dict[int, StartSearch] = {}
+        self._last_legs: dict[tuple[float, int], LastLegs] = {}
         self._graphs: dict[float, VisibilityGraph] = {}
         self._fields: dict[tuple[float, int], TargetField] = {}
         self._routes: dict[tuple[int, int], tuple[Route | None, str | None]] = {}
@@ -120,7 +136,19 @@ class PathPlanner:
 
     def target(self, radius: float, landmark_index: int) -> BaseGeometry:
         """Free space ∩ reach disc: where the agent's centre counts as reaching the landmark."""
-        return self.graph(radius).free.intersection(self.reach_disc(landmark_index))
+        return self._target_and_corners(radius, landmark_index)[0]
+
+    def _target_and_corners(
+        self, radius: float, landmark_index: int
+    ) -> tuple[BaseGeometry, np.ndarray]:
+        """The target and its rim corners (the field's end-point candidates), cached."""
+        key = (float(radius), int(landmark_index))
+        if key not in self._targets:
+            graph = self.graph(radius)
+            disc = self.reach_disc(landmark_index)
+            target = graph.free.intersection(disc)
+            self._targets[key] = (target, target_corners(graph, target, disc.exterior))
+        return self._targets[key]
 
     def field(self, radius: float, landmark_index: int) -> TargetField:
         key = (float(radius), int(landmark_index))
@@ -153,6 +181,10 @@ class PathPlanner:
         key = (agent_index, landmark_index)
         if start_xy is None and key in self._routes:
             return self._routes[key]
+        if start_xy is None and not self.per_landmark_fields:
+            found = self._route_by_search(agent_index, landmark_index)
+            self._routes[key] = found
+            return found
         field = self.field(agent.radius, landmark_index)
         if field.target.is_empty:
             result: tuple[Route | None, str | None] = (
@@ -276,6 +308,58 @@ class PathPlanner:
         return gap
 
     # -- internals -----------------------------------------------------------------------
+    def _route_by_search(
+        self, agent_index: int, landmark_index: int
+    ) -> tuple[Route | None, str | None]:
+        """:meth:`route_to_landmark` from the agent's start through its start search."""
+        agent = self.scene.agents[agent_index]
+        lm = self.scene.landmarks[landmark_index]
+        radius = float(agent.radius)
+        target, corners = self._target_and_corners(radius, landmark_index)
+        if target.is_empty:
+            return None, (
+                f"landmark '{lm.id}' is out of reach for agent '{agent.id}': its reach disc "
+                f"(radius {lm.reach_radius:g} m) does not meet the free space of an agent of "
+                f"radius {agent.radius:g} m"
+            )
+        samples, reason = self._start_samples(agent_index)
+        if reason is not None:
+            return None, reason.replace("{landmark}", f"landmark '{lm.id}'")
+        graph = self.graph(radius)
+        search = self._search(agent_index, samples)
+        if search.samples.shape[0] == 0:
+            x, y = samples[0]
+            where = "start region" if samples.shape[0] > 1 else f"start ({x:g}, {y:g})"
+            return None, (
+                f"{where} of agent '{agent.id}' is outside its free space (inside an obstacle, "
+                f"outside the rooms, or closer than its radius {agent.radius:g} m to a wall)"
+            )
+        legs = self._last_legs.setdefault((radius, landmark_index), new_last_legs(graph))
+        disc = (float(lm.position[0]), float(lm.position[1]), float(lm.reach_radius))
+        costs = target_costs(graph, search, target, corners, disc, legs)
+        finite = np.isfinite(costs.cost)
+        if not np.any(finite):
+            return None, (
+                f"landmark '{lm.id}' cannot be reached by agent '{agent.id}': its start and the "
+                "landmark's reach lie in different parts of its free space"
+            )
+        best = int(np.argmin(np.where(finite, costs.cost, np.inf)))
+        points = _drop_repeats(route_points(search, legs, costs, best, graph))
+        worst_len = worst_pts = None
+        if search.samples.shape[0] > 1:
+            worst = int(np.argmax(np.where(finite, costs.cost, -np.inf)))
+            worst_pts = _drop_repeats(route_points(search, legs, costs, worst, graph))
+            worst_len = polyline_length(worst_pts)
+        return Route(points, polyline_length(points), worst_len, worst_pts), None
+
+    def _search(self, agent_index: int, samples: np.ndarray) -> StartSearch:
+        """The agent's start search over the samples inside its free space (cached)."""
+        if agent_index not in self._searches:
+            graph = self.graph(self.scene.agents[agent_index].radius)
+            inside = samples[graph.contains(samples)]
+            self._searches[agent_index] = build_start_search(graph, inside)
+        return self._searches[agent_index]
+
     def _route_from_points(
         self, agent_index: int, field: TargetField, starts: np.ndarray
     ) -> tuple[Route | None, str | None]:

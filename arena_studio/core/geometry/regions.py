@@ -85,6 +85,12 @@ def polygon(outline: tuple[tuple[float, float], ...]) -> Polygon:
     return Polygon(outline)
 
 
+def region_area(outline: tuple[tuple[float, float], ...]) -> BaseGeometry:
+    """A start region as a valid area: a self-crossing outline (a bowtie) becomes its valid
+    parts, so set operations on it cannot fail (the checker reports the outline itself)."""
+    return _valid(polygon(outline))
+
+
 def obstacle_geometry(obstacle: Obstacle) -> Polygon:
     if obstacle.outline is not None:
         return polygon(obstacle.outline)

@@ -16,6 +16,7 @@ boundary, and the slack keeps such legs from being rejected by rounding.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 import shapely
@@ -103,6 +104,11 @@ class VisibilityGraph:
     @property
     def node_count(self) -> int:
         return int(self.nodes.shape[0])
+
+    @cached_property
+    def boundary(self) -> BaseGeometry:
+        """The free space's outline (walls and obstacle edges), built once."""
+        return self.free.boundary
 
     def clear(self, a: np.ndarray, b: np.ndarray) -> np.ndarray:
         """(N,) bool: the straight legs a[i] -> b[i] stay inside the closed free space."""

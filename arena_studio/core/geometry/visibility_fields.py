@@ -66,6 +66,29 @@ def best_straight_leg(
     return lengths[rows, pick], cands[rows, pick]
 
 
+def target_corners(
+    graph: VisibilityGraph,
+    target: BaseGeometry,
+    rim: BaseGeometry | None = None,
+    every_vertex: bool = False,
+) -> np.ndarray:
+    """(C, 2) end-point candidates every query shares: the target's corners on the rim (see
+    :func:`build_target_field` for ``rim`` and ``every_vertex``)."""
+    if target.is_empty:
+        return np.zeros((0, 2))
+    if every_vertex:
+        return np.unique(shapely.get_coordinates(target), axis=0)
+    if graph.free.is_empty:
+        return np.zeros((0, 2))
+    verts = shapely.get_coordinates(target)
+    pts = shapely.points(verts)
+    keep = shapely.distance(graph.boundary, pts) < 1e-7
+    if rim is not None:
+        keep &= shapely.distance(rim, pts) < 1e-7
+    found = verts[keep]
+    return found if found.shape[0] < 2 else np.unique(found, axis=0)
+
+
 def build_target_field(
     graph: VisibilityGraph,
     target: BaseGeometry,
@@ -80,16 +103,7 @@ def build_target_field(
     targets bounded by several rims, such as where reach discs overlap).
     """
     v = graph.node_count
-    corners = np.zeros((0, 2))
-    if every_vertex and not target.is_empty:
-        corners = np.unique(shapely.get_coordinates(target), axis=0)
-    elif not target.is_empty and not graph.free.is_empty:
-        verts = shapely.get_coordinates(target)
-        pts = shapely.points(verts)
-        keep = shapely.distance(graph.free.boundary, pts) < 1e-7
-        if rim is not None:
-            keep &= shapely.distance(rim, pts) < 1e-7
-        corners = np.unique(verts[keep], axis=0)
+    corners = target_corners(graph, target, rim, every_vertex)
     if target.is_empty or v == 0:
         return TargetField(
             target, corners, np.full(v, np.inf), np.full(v, -1), np.full((v, 2), np.nan)
@@ -159,4 +173,5 @@ __all__ = [
     "best_straight_leg",
     "build_target_field",
     "nearest_points_of",
+    "target_corners",
 ]

@@ -13,6 +13,7 @@ Every target needs its own agent (A >= K); agents may stay unassigned.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -85,6 +86,10 @@ def bottleneck_assignment(cost: np.ndarray) -> Assignment | None:
     agents, targets = c.shape
     if targets == 0:
         return Assignment((), 0.0, 0.0)
+    if targets == 1:  # the nearest agent (the first of equals): no matching to search
+        a = int(np.argmin(c[:, 0]))
+        best = float(c[a, 0])
+        return Assignment((a,), best, best) if math.isfinite(best) else None
     if targets > agents or not _covers_all(np.isfinite(c)):
         return None
     levels = np.unique(c[np.isfinite(c)])

@@ -35,6 +35,7 @@ Public API::
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass, field, replace
 from typing import Any
 
@@ -87,17 +88,19 @@ def _infeasible(vector: tuple[int, ...], rule: str, reason: str) -> GoalPlan:
 
 def _validate(scene: Scene, vector: Any, rule: str) -> tuple[tuple[int, ...], str | None]:
     try:
-        v = tuple(int(x) for x in np.asarray(vector).reshape(-1))
-    except (TypeError, ValueError):
+        # whole numbers as int() makes them, checked in numpy (a scene may have thousands)
+        bits = np.asarray(vector).reshape(-1).astype(np.int64)
+    except (TypeError, ValueError, OverflowError):
         return (), "goal vector must be a list of 0s and 1s"
+    v = tuple(bits.tolist())
     count = len(scene.landmarks)
     if rule not in RULES:
         return v, f"unknown success rule {rule!r} (expected one of {', '.join(RULES)})"
-    if any(x not in (0, 1) for x in v):
+    if bool(((bits != 0) & (bits != 1)).any()):
         return v, "goal vector must contain only 0s and 1s"
     if len(v) != count:
         return v, f"goal has {len(v)} entries but the scene has {count} landmarks"
-    if not any(v):
+    if not bits.any():
         return v, "goal has no 1s: it needs at least one target"
     if not scene.agents:
         return v, "the scene has no agents"
@@ -117,7 +120,7 @@ def plan_goal(
     if problem is not None:
         return _infeasible(v, rule, problem)
     planner = shared_planner(scene) if planner is None else planner
-    targets = [i for i, bit in enumerate(v) if bit]
+    targets = np.flatnonzero(np.asarray(v, dtype=np.int64)).tolist()
     agents = scene.agents
     routes: list[list[Route | None]] = []
     best = np.full((len(agents), len(targets)), np.inf)
@@ -480,12 +483,21 @@ def _greedy_sequences(best: np.ndarray, gaps: list[np.ndarray]) -> list[list[int
 
 
 def plan_all(
-    scene: Scene, table: GoalTable | None = None, planner: PathPlanner | None = None
+    scene: Scene,
+    table: GoalTable | None = None,
+    planner: PathPlanner | None = None,
+    advance: Callable[[int], None] | None = None,
 ) -> list[GoalPlan]:
-    """Plans for every goal of the scene's goal table, sharing one path cache."""
+    """Plans for every goal of the scene's goal table, sharing one path cache;
+    ``advance(1)`` is called after each goal (a progress bar)."""
     table = enumerate_goals(scene) if table is None else table
     planner = shared_planner(scene) if planner is None else planner
-    return [plan_goal(scene, table.vectors[i], planner=planner) for i in range(len(table))]
+    plans = []
+    for i in range(len(table)):
+        plans.append(plan_goal(scene, table.vectors[i], planner=planner))
+        if advance is not None:
+            advance(1)
+    return plans
 
 
 __all__ = ["EXACT_LIMIT", "GoalPlan", "plan_all", "plan_goal"]

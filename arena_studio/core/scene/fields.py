@@ -11,6 +11,7 @@ from collections.abc import Iterable, Mapping
 from typing import Any
 
 from arena_studio.core.errors import SceneFormatError
+from arena_studio.core.value_limits import COORDINATE_LIMIT, HEADING_LIMIT, RADIUS_LIMIT
 
 #: Upper bound on vertices in one outline. Real rooms have tens; a million-vertex outline is
 #: refused quickly instead of stalling geometry code for minutes.
@@ -168,11 +169,32 @@ def sequence(value: object, path: str, *, max_items: int = MAX_ITEMS) -> list[An
     return list(value)
 
 
+def bounded(value: object, path: str, limit: float, unit: str) -> float:
+    """A finite number with ``|value| <= limit`` (the documented ranges of value_limits)."""
+    x = number(value, path)
+    if abs(x) > limit:
+        raise SceneFormatError(path, f"expected a value within ±{limit:g} {unit}, got {x:g}")
+    return x
+
+
+def coordinate(value: object, path: str) -> float:
+    """An x or y in metres, within ±COORDINATE_LIMIT."""
+    return bounded(value, path, COORDINATE_LIMIT, "m")
+
+
+def radius(value: object, path: str) -> float:
+    """A radius or reach in metres: > 0 and at most RADIUS_LIMIT."""
+    x = number(value, path, exclusive_minimum=0)
+    if x > RADIUS_LIMIT:
+        raise SceneFormatError(path, f"expected a radius <= {RADIUS_LIMIT:g} m, got {x:g}")
+    return x
+
+
 def point(value: object, path: str) -> tuple[float, float]:
     items = sequence(value, path, max_items=3)
     if len(items) != 2:
         raise SceneFormatError(path, f"expected a point [x, y], got {len(items)} values")
-    return (number(items[0], join(path, 0)), number(items[1], join(path, 1)))
+    return (coordinate(items[0], join(path, 0)), coordinate(items[1], join(path, 1)))
 
 
 def pose(value: object, path: str) -> tuple[float, float, float]:
@@ -180,9 +202,9 @@ def pose(value: object, path: str) -> tuple[float, float, float]:
     if len(items) != 3:
         raise SceneFormatError(path, f"expected a pose [x, y, heading], got {len(items)} values")
     return (
-        number(items[0], join(path, 0)),
-        number(items[1], join(path, 1)),
-        number(items[2], join(path, 2)),
+        coordinate(items[0], join(path, 0)),
+        coordinate(items[1], join(path, 1)),
+        bounded(items[2], join(path, 2), HEADING_LIMIT, "rad"),
     )
 
 

@@ -27,6 +27,7 @@ from arena_studio.core.scene.model import (
     Start,
 )
 from arena_studio.core.scene.upgrade import upgrade_to_current
+from arena_studio.core.value_limits import HEADING_LIMIT
 
 TOP_REQUIRED = ("format", "version", "name", "units", "rooms", "landmarks", "agents", "goals")
 TOP_OPTIONAL = ("obstacles", "description")
@@ -92,7 +93,7 @@ def _obstacle(value: object, path: str) -> Obstacle:
         f.check_keys(c, cpath, ("center", "radius"))
         circle = Circle(
             center=f.point(c["center"], f.join(cpath, "center")),
-            radius=f.number(c["radius"], f.join(cpath, "radius"), exclusive_minimum=0),
+            radius=f.radius(c["radius"], f.join(cpath, "radius")),
         )
         return Obstacle(id=_id(obj, path), circle=circle)
     f.check_keys(obj, path, ("id", "outline"))
@@ -106,9 +107,7 @@ def _landmark(value: object, path: str) -> Landmark:
         id=_id(obj, path),
         label=f.line(obj["label"], f.join(path, "label"), max_length=80),
         position=f.point(obj["position"], f.join(path, "position")),
-        reach_radius=f.number(
-            obj["reach_radius"], f.join(path, "reach_radius"), exclusive_minimum=0
-        ),
+        reach_radius=f.radius(obj["reach_radius"], f.join(path, "reach_radius")),
         mount=f.choice(obj["mount"], f.join(path, "mount"), MOUNTS),  # type: ignore[arg-type]
     )
 
@@ -118,7 +117,7 @@ def _agent(value: object, path: str) -> Agent:
     f.check_keys(obj, path, ("id", "radius", "max_speed", "max_turn_rate", "start"))
     return Agent(
         id=_id(obj, path),
-        radius=f.number(obj["radius"], f.join(path, "radius"), exclusive_minimum=0),
+        radius=f.radius(obj["radius"], f.join(path, "radius")),
         max_speed=f.number(obj["max_speed"], f.join(path, "max_speed"), exclusive_minimum=0),
         max_turn_rate=f.number(
             obj["max_turn_rate"], f.join(path, "max_turn_rate"), exclusive_minimum=0
@@ -137,7 +136,9 @@ def _start(value: object, path: str) -> Start:
         heading = obj.get("heading")
         return Start(
             region=f.outline(obj["region"], f.join(path, "region")),
-            heading=None if heading is None else f.number(heading, f.join(path, "heading")),
+            heading=None
+            if heading is None
+            else f.bounded(heading, f.join(path, "heading"), HEADING_LIMIT, "rad"),
         )
     raise SceneFormatError(path, "expected 'pose' [x, y, heading] or 'region' [[x, y], ...]")
 

@@ -39,10 +39,10 @@ from typing import Any, Literal
 import numpy as np
 import shapely
 import shapely.ops
-from shapely.geometry import LineString, Point, Polygon
+from shapely.geometry import LineString, Point
 
 from arena_studio.core.geometry.paths import PathPlanner
-from arena_studio.core.geometry.regions import free_space
+from arena_studio.core.geometry.regions import free_space, region_area
 from arena_studio.core.planning.goal_set import enumerate_goals
 from arena_studio.core.planning.partime import plan_goal
 from arena_studio.core.scene.model import Scene
@@ -199,9 +199,9 @@ class Rollout:
                 out[a] = start.pose
                 continue
             assert start.region is not None
-            region = Polygon(start.region).intersection(self._free[a])
+            region = region_area(start.region).intersection(self._free[a])
             if region.is_empty:
-                region = Polygon(start.region)
+                region = region_area(start.region)
             minx, miny, maxx, maxy = region.bounds
             for _ in range(1000):
                 x, y = rng.uniform(minx, maxx), rng.uniform(miny, maxy)

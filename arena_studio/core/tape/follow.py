@@ -64,6 +64,7 @@ class GrowingTape(Tape):
     def __init__(self, path: Path) -> None:
         self.path = Path(path)
         self._src = str(self.path)
+        self.damage = {}  # episode -> Damage, as Tape keeps it
         self._goal_cache: dict[bytes, Any] = {}
         self._entries: list[_Entry] = []
         self.final = final_path(self.path)

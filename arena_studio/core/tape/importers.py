@@ -24,7 +24,6 @@ from __future__ import annotations
 import csv
 import io
 import math
-import re
 import zipfile
 from collections.abc import Callable, Mapping
 from pathlib import Path
@@ -33,9 +32,17 @@ from typing import Any
 import numpy as np
 
 from arena_studio.core.errors import ArenaError
+from arena_studio.core.import_rows import (
+    ImportFormatError,
+    ImportRow,
+    RowLayout,
+    parse_row,
+    pose_array_problem,
+)
 from arena_studio.core.safe_open import open_input
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape import TapeWriter
+from arena_studio.core.value_limits import DT_MAX, DT_MIN
 
 REQUIRED = ("episode", "step", "agent", "x", "y", "heading")
 OPTIONAL = ("reward", "goal", "role")
@@ -46,10 +53,6 @@ MAX_NPZ_MEMBER = 2 << 30
 MAX_NPZ_RATIO = 1100
 #: ... once it claims more than this many bytes (small members may compress better)
 NPZ_RATIO_FROM = 1 << 20
-
-
-class ImportFormatError(ArenaError, ValueError):
-    """Bad input to an importer; the message names the file and the line/column or array."""
 
 
 def parse_columns(text: str | None) -> dict[str, str]:
@@ -89,9 +92,16 @@ def import_csv(
     columns: Mapping[str, str] | None = None,
     advance: Callable[[int], None] | None = None,
     keep_partial: bool = False,
+    skipped: list[str] | None = None,
 ) -> int:
-    """Convert a long-format CSV file into the tape ``out``; returns the episode count."""
+    """Convert a long-format CSV file into the tape ``out``; returns the episode count.
+
+    A bad row raises :class:`ImportFormatError` naming its line and column. With a
+    ``skipped`` list the bad rows (and episodes left with missing steps) are described there
+    and left out, and the rest is imported (``--skip-bad``).
+    """
     src = str(path)
+    check_dt(src, dt)
     mapping = {name: name for name in REQUIRED + OPTIONAL}
     mapping.update(columns or {})
     agent_ids = [a.id for a in scene.agents]
@@ -114,6 +124,7 @@ def import_csv(
                 " map other names with --columns)"
             )
         col = {n: where[mapping[n]] for n in REQUIRED + OPTIONAL if mapping[n] in where}
+        layout = RowLayout(src, col, mapping, tuple(agent_ids))
         has_reward = "reward" in col
         line = 1
         try:
@@ -121,21 +132,37 @@ def import_csv(
                 line = reader.line_num
                 if not row or all(not c.strip() for c in row):
                     continue
-                _read_row(src, line, row, col, mapping, agent_ids, episodes, has_reward)
+                try:
+                    _add_row(
+                        src, parse_row(layout, line, row), mapping, agent_ids, episodes, has_reward
+                    )
+                except ImportFormatError as exc:
+                    if skipped is None:
+                        raise
+                    skipped.append(str(exc).removeprefix(f"{src}: "))
                 if advance is not None and line % 10_000 == 0:
                     advance(10_000)
         except (csv.Error, UnicodeDecodeError) as exc:
             raise ImportFormatError(f"{src}: line {line + 1}: {exc}") from None
-    if not episodes:
-        raise ImportFormatError(f"{src}: no data rows")
-    meta = {"generator": "arena-studio import csv", "source": Path(src).name}
-    with TapeWriter(out, scene, dt=dt, metadata=meta, keep_partial=keep_partial) as writer:
-        for ep in episodes.values():
+    ready = []
+    for ep in episodes.values():
+        try:
             arrays = _episode_arrays(src, ep, mapping)
             pursued = [
                 None if g is None else _goal_vector(src, g[1], mapping["goal"], g[0], lm_ids)
                 for g in ep.goals
             ]
+        except ImportFormatError as exc:
+            if skipped is None:
+                raise
+            skipped.append(str(exc).removeprefix(f"{src}: ") + "; episode left out")
+            continue
+        ready.append((ep, arrays, pursued))
+    if not ready:
+        raise ImportFormatError(f"{src}: no data rows" + (" left" if skipped else ""))
+    meta = {"generator": "arena-studio import csv", "source": Path(src).name}
+    with TapeWriter(out, scene, dt=dt, metadata=meta, keep_partial=keep_partial) as writer:
+        for ep, arrays, pursued in ready:
             writer.begin_episode(
                 pursued_goals=pursued if any(g is not None for g in pursued) else None,
                 roles=arrays["roles"],
@@ -143,91 +170,50 @@ def import_csv(
             )
             writer.steps(arrays["poses"], rewards=arrays["rewards"])
             writer.end_episode()
-    return len(episodes)
+    return len(ready)
 
 
-def _cell(src: str, line: int, row: list[str], col: dict[str, int], name: str, column: str) -> str:
-    i = col[name]
-    if i >= len(row):
-        raise ImportFormatError(f"{src}: line {line}, column '{column}': missing value")
-    return row[i].strip()
-
-
-def _number(src: str, line: int, column: str, text: str) -> float:
-    try:
-        value = float(text)
-    except ValueError:
+def check_dt(src: str, dt: float) -> None:
+    """Refuse a time step outside the documented range (as a tape reader would)."""
+    if not (isinstance(dt, int | float) and math.isfinite(dt) and DT_MIN <= dt <= DT_MAX):
         raise ImportFormatError(
-            f"{src}: line {line}, column '{column}': expected a number, got {text!r}"
-        ) from None
-    if not math.isfinite(value):
-        raise ImportFormatError(f"{src}: line {line}, column '{column}': expected a finite number")
-    return value
+            f"{src}: dt: expected a time step from {DT_MIN:g} s to {DT_MAX:g} s, got {dt!r}"
+        )
 
 
-def _read_row(
+def _add_row(
     src: str,
-    line: int,
-    row: list[str],
-    col: dict[str, int],
+    r: ImportRow,
     mapping: dict[str, str],
     agent_ids: list[str],
     episodes: dict[str, _EpisodeRows],
     has_reward: bool,
 ) -> None:
-    def cell(name: str) -> str:
-        return _cell(src, line, row, col, name, mapping[name])
-
-    label = cell("episode")
-    step_text = cell("step")
-    if not re.fullmatch(r"\d{1,9}", step_text):
-        raise ImportFormatError(
-            f"{src}: line {line}, column '{mapping['step']}': expected a step number >= 0, "
-            f"got {step_text!r}"
-        )
-    step = int(step_text)
-    agent_text = cell("agent")
-    if agent_text in agent_ids:
-        agent = agent_ids.index(agent_text)
-    elif re.fullmatch(r"\d+", agent_text) and int(agent_text) < len(agent_ids):
-        agent = int(agent_text)
-    else:
-        raise ImportFormatError(
-            f"{src}: line {line}, column '{mapping['agent']}': unknown agent {agent_text!r} "
-            f"(scene agents: {', '.join(agent_ids)})"
-        )
-    ep = episodes.get(label)
+    """File a checked row under its episode; a repeated step or a changed goal is refused."""
+    ep = episodes.get(r.episode)
     if ep is None:
-        ep = episodes[label] = _EpisodeRows(label, len(agent_ids), has_reward)
-    key = (step, agent)
+        ep = episodes[r.episode] = _EpisodeRows(r.episode, len(agent_ids), has_reward)
+    key = (r.step, r.agent)
     if key in ep.poses:
         raise ImportFormatError(
-            f"{src}: line {line}: episode {label!r} step {step} agent {agent_ids[agent]} "
-            "appears twice"
+            f"{src}: line {r.line}: episode {r.episode!r} step {r.step} agent "
+            f"{agent_ids[r.agent]} appears twice"
         )
-    ep.poses[key] = (
-        _number(src, line, mapping["x"], cell("x")),
-        _number(src, line, mapping["y"], cell("y")),
-        _number(src, line, mapping["heading"], cell("heading")),
-    )
-    if has_reward:
-        ep.rewards[key] = _number(src, line, mapping["reward"], cell("reward"))
-    if "goal" in col:
-        goal = cell("goal")
-        if goal:
-            known = ep.goals[agent]
-            if known is None:
-                ep.goals[agent] = (goal, line)
-            elif known[0] != goal:
-                raise ImportFormatError(
-                    f"{src}: line {line}, column '{mapping['goal']}': agent "
-                    f"{agent_ids[agent]} pursued {known[0]!r} earlier in episode {label!r} "
-                    f"(line {known[1]}), now {goal!r}"
-                )
-    if "role" in col:
-        role = cell("role")
-        if role:
-            ep.roles[key] = role
+    if r.goal:
+        known = ep.goals[r.agent]
+        if known is None:
+            ep.goals[r.agent] = (r.goal, r.line)
+        elif known[0] != r.goal:
+            raise ImportFormatError(
+                f"{src}: line {r.line}, column '{mapping['goal']}': agent "
+                f"{agent_ids[r.agent]} pursued {known[0]!r} earlier in episode {r.episode!r} "
+                f"(line {known[1]}), now {r.goal!r}"
+            )
+    ep.poses[key] = r.pose
+    if has_reward and r.reward is not None:
+        ep.rewards[key] = r.reward
+    if r.role:
+        ep.roles[key] = r.role
 
 
 def _goal_vector(src: str, line: int, column: str, text: str, lm_ids: dict[str, int]) -> np.ndarray:
@@ -341,8 +327,11 @@ def import_npz(
     dt: float | None = None,
     advance: Callable[[int], None] | None = None,
     keep_partial: bool = False,
+    skipped: list[str] | None = None,
 ) -> int:
-    """Convert an ``.npz`` file (array names in the module docstring) into a tape."""
+    """Convert an ``.npz`` file (array names in the module docstring) into a tape; with a
+    ``skipped`` list an episode whose poses are not finite or out of range is described
+    there and left out (``--skip-bad``), otherwise it is refused."""
     src = str(path)
     raw = open_input(path, "npz")  # regular files only, size bounded
     try:
@@ -384,7 +373,11 @@ def import_npz(
                 raise ImportFormatError(f"{src}: no array 'poses' (or poses_0, poses_1, ...)")
         step = dt
         if step is None:
-            step = float(load("dt")) if "dt" in names else 0.1
+            try:
+                step = float(load("dt")) if "dt" in names else 0.1
+            except (TypeError, ValueError):
+                raise ImportFormatError(f"{src}: array dt: expected one number") from None
+        check_dt(src, step)
 
         def per_episode(name: str, i: int) -> np.ndarray | None:
             if name in names:
@@ -400,6 +393,7 @@ def import_npz(
         if pursued is not None and pursued.shape != (count, a, n_lm):
             raise ImportFormatError(f"{src}: array pursued_goals: expected ({count}, {a}, {n_lm})")
         meta = {"generator": "arena-studio import npz", "source": Path(src).name}
+        left_out = 0
         with TapeWriter(out, scene, dt=step, metadata=meta, keep_partial=keep_partial) as w:
             for i in range(count):
                 poses = per_episode("poses", i)
@@ -407,6 +401,14 @@ def import_npz(
                 name = f"poses_{i}" if "poses" not in names else "poses"
                 if poses.ndim != 3 or poses.shape[1:] != (a, 3) or poses.shape[0] < 1:
                     raise ImportFormatError(f"{src}: array {name}: expected (T, {a}, 3)")
+                problem = pose_array_problem(poses) if poses.dtype.kind in "fiu" else None
+                if problem is not None:
+                    text = f"episode {i} (array {name}): {problem}"
+                    if skipped is None:
+                        raise ImportFormatError(f"{src}: {text}")
+                    skipped.append(text + "; episode left out")
+                    left_out += 1
+                    continue
                 try:
                     w.begin_episode(
                         team_goal=None if team is None else team[i],
@@ -423,7 +425,7 @@ def import_npz(
                     raise ImportFormatError(f"{src}: episode {i}: {exc}") from None
                 if advance is not None:
                     advance(1)
-    return count
+    return count - left_out
 
 
 __all__ = ["ImportFormatError", "import_csv", "import_npz", "parse_columns"]

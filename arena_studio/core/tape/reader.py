@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import math
 import os
+import re
 from collections.abc import Iterator
 from dataclasses import dataclass
 from pathlib import Path
@@ -21,6 +22,7 @@ import numpy as np
 from arena_studio.core.errors import ArenaError
 from arena_studio.core.safe_open import InputFileError, open_input
 from arena_studio.core.scene.model import Scene, scene_hash
+from arena_studio.core.tape.damage import Damage, EpisodeDamaged
 from arena_studio.core.tape.episode import Episode, RoleTimeline
 from arena_studio.core.tape.format import (
     BOOL_DTYPES,
@@ -55,6 +57,7 @@ from arena_studio.core.tape.format import (
     unpack,
     unpack_views,
 )
+from arena_studio.core.value_limits import COORDINATE_LIMIT, DT_MAX, DT_MIN, HEADING_LIMIT
 
 #: chunk payloads at least this large are decoded without copying their array bytes
 ZERO_COPY_BYTES = 1 << 16
@@ -64,6 +67,9 @@ GOAL_CACHE_SIZE = 4096
 MIN_STEP_BYTES = 12
 #: per-step fields a chunk may carry besides the poses
 _OPTIONAL_FIELDS = frozenset(("rewards", "actions", "done", "channels"))
+#: one bound for every pose value: x and y in metres, heading in radians
+_POSE_LIMIT = max(COORDINATE_LIMIT, HEADING_LIMIT)
+_BYTE_AT = re.compile(r"byte (\d+)")
 
 
 @dataclass(frozen=True)
@@ -127,6 +133,9 @@ class Tape:
         self.path = path
         self._src = str(path)
         self._goal_cache: dict[bytes, np.ndarray] = {}
+        #: episodes found damaged so far (while scanning, or when they were decoded)
+        self.damage: dict[int, Damage] = {}
+        self._damage_text: dict[int, tuple[str, str]] = {}  # (where, problem) as first reported
         try:
             with open_input(path, "tape") as f:  # regular files only, size bounded
                 self.file_size = os.fstat(f.fileno()).st_size
@@ -171,9 +180,19 @@ class Tape:
 
     def episode(self, i: int, *, verify: bool = True) -> Episode:
         """Decode episode ``i``; ``verify`` checks each record's CRC-32."""
-        entry = self._entries[self._check_index(i)]
+        i = self._check_index(i)
+        self._raise_known(i)
+        entry = self._entries[i]
         span = self._read_span(entry.begin, entry.end, f"episode {i}")
-        return self._decode_episode(i, entry, span, verify)
+        return self._decode_checked(i, entry, span, verify, True)
+
+    def check_episode(self, i: int) -> Damage | None:
+        """Decode episode ``i`` with checksums; its :class:`Damage` record, or None when sound."""
+        try:
+            self.episode(i)
+        except EpisodeDamaged as exc:
+            return exc.damage
+        return None
 
     def episodes(
         self, start: int, stop: int, *, verify: bool = True, copy: bool = True
@@ -198,15 +217,14 @@ class Tape:
         entries = self._entries[start:stop]
         lo = entries[0].begin
         span = self._read_span(lo, entries[-1].end, f"episodes {start}..{stop - 1}")
+        for k in range(start, stop):
+            self._raise_known(k)
         if verify:
             found = first_bad_in_ranges(span, [(e.begin - lo, e.end - lo) for e in entries])
             if found is not None:
                 k, bad = found
-                raise TapeError(
-                    self._src,
-                    f"episode {start + k} byte {lo + bad}",
-                    "record checksum mismatch (damaged bytes)",
-                )
+                e = entries[k]
+                self._damaged(start + k, span[e.begin - lo : e.end - lo], e.begin, lo + bad)
         return EpisodeSpan(start, entries, span)
 
     def decode_span(self, span: EpisodeSpan, *, copy: bool = True) -> list[Episode]:
@@ -215,11 +233,56 @@ class Tape:
             return []
         lo = span.entries[0].begin
         return [
-            self._decode_episode(
-                span.start + k, e, span.data[e.begin - lo : e.end - lo], False, copy=copy
+            self._decode_checked(
+                span.start + k, e, span.data[e.begin - lo : e.end - lo], False, copy
             )
             for k, e in enumerate(span.entries)
         ]
+
+    # -- damage ----------------------------------------------------------------------------
+    def _decode_checked(
+        self, i: int, entry: _Entry, buf: memoryview, verify: bool, copy: bool
+    ) -> Episode:
+        """:meth:`_decode_episode`, with anything wrong inside the episode turned into a
+        :class:`Damage` record (remembered) and raised as :class:`EpisodeDamaged`."""
+        try:
+            return self._decode_episode(i, entry, buf, verify, copy)
+        except EpisodeDamaged as exc:
+            self._remember(exc)
+            raise
+        except TapeError as exc:
+            prefix = f"episode {i}"
+            rest = exc.where[len(prefix) :] if exc.where.startswith(prefix) else exc.where
+            field = rest.rpartition(".")[2] if "." in rest else ""
+            reason = f"{field}: {exc.problem}" if field else exc.problem
+            found = _BYTE_AT.search(rest)
+            byte = int(found.group(1)) if found else None
+            chunk = _chunk_number(buf, entry.begin, byte)
+            damage = Damage(i, reason, chunk=chunk, byte=byte)
+            found_here = EpisodeDamaged(self._src, damage, exc.where, exc.problem)
+            raise self._remember(found_here) from None
+
+    def _damaged(self, i: int, buf: memoryview, begin: int, byte: int) -> None:
+        """Record and raise a checksum mismatch at file offset ``byte`` of episode ``i``."""
+        damage = Damage(
+            i,
+            "record checksum mismatch (damaged bytes)",
+            chunk=_chunk_number(buf, begin, byte),
+            byte=byte,
+        )
+        raise self._remember(EpisodeDamaged(self._src, damage))
+
+    def _remember(self, exc: EpisodeDamaged) -> EpisodeDamaged:
+        self.damage[exc.damage.episode] = exc.damage
+        self._damage_text[exc.damage.episode] = (exc.where, exc.problem)
+        return exc
+
+    def _raise_known(self, i: int) -> None:
+        """Raise the damage already found in episode ``i`` again, in the same words."""
+        known = self.damage.get(i)
+        if known is not None:
+            where, problem = self._damage_text.get(i, (None, None))
+            raise EpisodeDamaged(self._src, known, where, problem)
 
     def _read_span(self, begin: int, end: int, where: str) -> memoryview:
         try:
@@ -276,8 +339,12 @@ class Tape:
         dt = header.get("dt")
         if isinstance(dt, bool) or not isinstance(dt, int | float) or not math.isfinite(dt):
             raise TapeError(self._src, "header.dt", "expected a finite number")
-        if dt <= 0:
-            raise TapeError(self._src, "header.dt", f"expected a time step > 0, got {dt}")
+        if not DT_MIN <= dt <= DT_MAX:
+            raise TapeError(
+                self._src,
+                "header.dt",
+                f"expected a time step from {DT_MIN:g} s to {DT_MAX:g} s, got {dt:g}",
+            )
         self.dt = float(dt)
         scene_dict = header.get("scene")
         if not isinstance(scene_dict, dict):
@@ -408,25 +475,39 @@ class Tape:
                 problem = f"the file was cut inside a record at byte {pos}"
                 break
             except (ValueError, TapeError) as exc:
-                problem = f"damaged record at byte {pos} ({exc})"
-                break
+                skip = _skippable(f, pos, size) if open_begin is not None else None
+                if skip is None:
+                    problem = f"damaged record at byte {pos} ({exc})"
+                    break
+                # a damaged record inside an episode: that episode is marked, the scan goes on
+                # with the next record (the frame length still fits the file)
+                reason = getattr(exc, "problem", None) or str(exc)
+                self.damage.setdefault(len(entries), Damage(len(entries), reason, byte=pos))
+                pos = last_good = skip
+                continue
+            hurt = len(entries) in self.damage
             if kind == KIND_BEGIN:
-                if open_begin is not None and open_steps:
-                    entries.append(_Entry(open_begin, last_good, open_steps, False))
+                if open_begin is not None and (open_steps or hurt):
+                    entries.append(_Entry(open_begin, last_good, max(open_steps, 1), False))
                 if record.get("episode") != len(entries):
                     problem = f"episode numbering breaks at byte {pos}"
                     open_begin = None
                     break
                 open_begin, open_steps = pos, 0
             elif kind == KIND_CHUNK and open_begin is not None:
-                steps = record.get("steps")
-                if record.get("start") != open_steps or not isinstance(steps, int) or steps < 1:
+                steps, start = record.get("steps"), record.get("start")
+                if hurt and isinstance(start, int) and start >= open_steps:
+                    open_steps = start  # the steps of a damaged chunk before this one
+                if start != open_steps or not isinstance(steps, int) or steps < 1:
                     problem = f"chunk out of sequence at byte {pos}"
                     break
                 open_steps += steps
             elif kind == KIND_END and open_begin is not None:
-                if open_steps:
-                    entries.append(_Entry(open_begin, end, open_steps, True))
+                total = record.get("steps")
+                if hurt and type(total) is int and total > open_steps:
+                    open_steps = total  # counting the steps of a damaged chunk
+                if open_steps or hurt:
+                    entries.append(_Entry(open_begin, end, max(open_steps, 1), True))
                 open_begin, open_steps = None, 0
             elif kind == KIND_INDEX:
                 problem = self._index_problem or f"the index at byte {pos} has no valid trailer"
@@ -437,8 +518,8 @@ class Tape:
                 break
             pos = end
             last_good = end
-        if open_begin is not None and open_steps:
-            entries.append(_Entry(open_begin, last_good, open_steps, False))
+        if open_begin is not None and (open_steps or len(entries) in self.damage):
+            entries.append(_Entry(open_begin, last_good, max(open_steps, 1), False))
         complete = [e for e in entries if e.complete]
         partial = [e for e in entries if not e.complete]
         text = (
@@ -447,6 +528,8 @@ class Tape:
         )
         if partial:
             text += f" and {partial[0].steps} step(s) of unfinished episode {len(complete)}"
+        if self.damage:
+            text += f"; {len(self.damage)} damaged episode(s) are marked and skipped"
         return entries, text + "."
 
     # -- decoding ---------------------------------------------------------------------------
@@ -473,18 +556,14 @@ class Tape:
         try:
             episode = self._decode_records(i, entry, buf, False, copy)
         except TapeError:
-            self._raise_if_damaged(i, entry, finish_crc_checks(checks))
+            self._raise_if_damaged(i, entry, buf, finish_crc_checks(checks))
             raise
-        self._raise_if_damaged(i, entry, finish_crc_checks(checks))
+        self._raise_if_damaged(i, entry, buf, finish_crc_checks(checks))
         return episode
 
-    def _raise_if_damaged(self, i: int, entry: _Entry, bad: int | None) -> None:
+    def _raise_if_damaged(self, i: int, entry: _Entry, buf: memoryview, bad: int | None) -> None:
         if bad is not None:
-            raise TapeError(
-                self._src,
-                f"episode {i} byte {entry.begin + bad}",
-                "record checksum mismatch (damaged bytes)",
-            )
+            self._damaged(i, buf, entry.begin, entry.begin + bad)
 
     def _decode_records(
         self, i: int, entry: _Entry, buf: memoryview, verify: bool, copy: bool
@@ -503,15 +582,22 @@ class Tape:
                 try:
                     kind, payload, end = read_frame(buf, pos, verify)
                 except (EOFError, ValueError) as exc:
-                    place = f"{where} byte {entry.begin + pos}"
-                    raise TapeError(self._src, place, str(exc)) from None
+                    byte = entry.begin + pos
+                    chunk = _chunk_number(buf, entry.begin, byte)
+                    raise EpisodeDamaged(
+                        self._src, Damage(i, str(exc), chunk=chunk, byte=byte)
+                    ) from None
             else:
                 payload = buf[pos + FRAME_HEAD.size : end - FRAME_CRC.size]
             try:
                 big = kind == KIND_CHUNK and len(payload) >= ZERO_COPY_BYTES
                 record = unpack_views(payload) if big else unpack(payload)
             except Exception as exc:  # msgpack raises several unrelated types for bad bytes
-                raise TapeError(self._src, where, f"not valid msgpack ({exc})") from None
+                byte = entry.begin + pos
+                reason = f"not valid msgpack ({exc})"
+                chunk = _chunk_number(buf, entry.begin, byte)
+                damage = Damage(i, reason, chunk=chunk, byte=byte)
+                raise EpisodeDamaged(self._src, damage, where, reason) from None
             records.append((kind, record, entry.begin + pos))
             pos = end
         if not records or records[0][0] != KIND_BEGIN or not isinstance(records[0][1], dict):
@@ -694,12 +780,27 @@ class Tape:
         return {"poses": poses}
 
     def _check_finite(self, poses: np.ndarray, where: str) -> None:
-        """Refuse a pose that is not a finite number, naming its step and agent (the writer
-        refuses them; a foreign tape may not)."""
-        if np.isfinite(poses).all():
+        """Refuse a pose that is not a finite number or lies outside the documented range,
+        naming its step and agent (the writer refuses them; a foreign tape may not). Two
+        reductions and no temporary array in the usual case: NaN makes min/max NaN, and a
+        comparison with NaN is False."""
+        if poses.size == 0 or (poses.min() >= -_POSE_LIMIT and poses.max() <= _POSE_LIMIT):
             return
-        t, agent = (int(v) for v in np.argwhere(~np.isfinite(poses).all(axis=2))[0])
-        raise TapeError(self._src, f"{where} step {t} agent {agent}", "pose is not a finite number")
+        episode = int(where.split()[-1]) if where.startswith("episode ") else -1
+        bad = ~np.isfinite(poses)
+        if bad.any():
+            t, agent = (int(v) for v in np.argwhere(bad.any(axis=2))[0])
+            reason = "pose is not a finite number"
+        else:
+            far = np.abs(poses) > _POSE_LIMIT
+            t, agent, k = (int(v) for v in np.argwhere(far)[0])
+            name = ("x", "y", "heading")[k]
+            unit = "rad" if k == 2 else "m"
+            reason = (
+                f"pose {name} = {float(poses[t, agent, k]):g} is outside "
+                f"±{_POSE_LIMIT:g} {unit}"
+            )
+        raise EpisodeDamaged(self._src, Damage(episode, reason, step=t, agent=agent))
 
     def _array(
         self, value: Any, where: str, dtypes: tuple[str, ...], shape: tuple[int | None, ...]
@@ -763,4 +864,41 @@ class Tape:
         return tuple(out)
 
 
-__all__ = ["Tape", "TapeError", "open_tape"]
+def _skippable(f: Any, pos: int, size: int) -> int | None:
+    """End of the record at ``pos`` when its head is sound (a known kind, a length that fits
+    the file) although its contents are not, so a scan can step over it; else None."""
+    f.seek(pos)
+    head = f.read(FRAME_HEAD.size)
+    if len(head) < FRAME_HEAD.size:
+        return None
+    length, kind = FRAME_HEAD.unpack(head)
+    end = pos + FRAME_OVERHEAD + length
+    if kind not in (KIND_CHUNK, KIND_END) or length > MAX_RECORD or end > size:
+        return None
+    if end < size:  # the next record must start with a sound head too
+        f.seek(end)
+        nxt = f.read(FRAME_HEAD.size)
+        if len(nxt) < FRAME_HEAD.size or FRAME_HEAD.unpack(nxt)[1] not in KINDS:
+            return None
+    return end
+
+
+def _chunk_number(buf: memoryview, begin: int, byte: int | None) -> int | None:
+    """Which chunk of the episode (from 0) the record at file offset ``byte`` is: the chunk
+    records before it are counted from their frame heads (no checksums, no decoding)."""
+    if byte is None:
+        return None
+    target = byte - begin
+    pos, chunks = 0, 0
+    size = len(buf)
+    while pos + FRAME_HEAD.size <= size and pos < target:
+        length, kind = FRAME_HEAD.unpack_from(buf, pos)
+        if kind == KIND_CHUNK:
+            chunks += 1
+        pos += FRAME_OVERHEAD + length
+    if pos != target or pos + FRAME_HEAD.size > size:
+        return None
+    return chunks if FRAME_HEAD.unpack_from(buf, pos)[1] == KIND_CHUNK else None
+
+
+__all__ = ["Damage", "EpisodeDamaged", "Tape", "TapeError", "open_tape"]
