@@ -16,6 +16,7 @@ COMMANDS: tuple[str, ...] = (
     "import",
     "stats",
     "render",
+    "runs",
 )
 
 

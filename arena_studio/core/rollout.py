@@ -27,8 +27,9 @@ runs``): ``skill`` in (0, 1] scales every agent's top speed and turn rate to
 ``MIN_PACE + (1 - MIN_PACE) * skill`` of its own (1 = full speed), so with ``par_limit`` less
 skilled teams run out of time more often; ``shared_share`` in [0, 1] makes each episode
 ``shared`` with that probability and ``independent`` otherwise (a separate random stream,
-``default_rng([seed, i, 1])``, so the episodes' own draws are unchanged). Episode ``i`` uses ``numpy.random.default_rng([seed, i])``, so runs are
-reproducible bit for bit and any episode can be regenerated alone.
+``default_rng([seed, i, 1])``, so the episodes' own draws are unchanged). Episode ``i``
+uses ``numpy.random.default_rng([seed, i])``, so runs are reproducible bit for bit and any
+episode can be regenerated alone.
 """
 
 from __future__ import annotations

@@ -76,11 +76,12 @@ class Row:
 
 def load_runs(
     sweep: Sweep,
-    how: Execution = Execution(),
+    how: Execution | None = None,
     cache: FigureCache | None = None,
     advance: Callable[[int], None] | None = None,
 ) -> tuple[list[Run], list[str]]:
-    """(runs with figures, problems): cached figures reused, the others computed and cached.
+    """(runs with figures, problems and notes of damage): cached figures reused, the others
+    computed and cached.
 
     ``advance(n)`` reports tapes done (cached ones at once). The cache is saved even when the
     computation is interrupted, so finished groups are not computed again.
@@ -98,7 +99,7 @@ def load_runs(
         advance(len(found))
     computed: dict[str, TapeFigures] = {}
     try:
-        compute_figures([str(t.path) for t in todo], how, advance, into=computed)
+        compute_figures([str(t.path) for t in todo], how or Execution(), advance, into=computed)
     finally:
         if cache is not None:
             for tape in todo:
@@ -111,8 +112,10 @@ def load_runs(
         fig = found[str(tape.path)]
         if fig.problem:
             problems.append(fig.problem)
-        else:
-            runs.append(Run(tape, fig))
+            continue
+        if fig.note:
+            problems.append(fig.note)
+        runs.append(Run(tape, fig))
     return runs, problems
 
 
@@ -220,9 +223,8 @@ def final_comparison(
     """Groups at step ``at_step`` (None: each group's last step) and P(improvement) pairs."""
     chosen: dict[str, tuple[int, list[Run]]] = {}
     for (group, step), cell in cells(runs, by).items():
-        if at_step is None and (group not in chosen or step > chosen[group][0]):
-            chosen[group] = (step, cell)
-        elif at_step is not None and step == at_step:
+        later = group not in chosen or step > chosen[group][0]
+        if (at_step is None and later) or step == at_step:
             chosen[group] = (step, cell)
     rows = [cell_row(cell, metric, g, s, by, settings) for g, (s, cell) in sorted(chosen.items())]
     strata = {g: _strata(cell, metric, by) for g, (_, cell) in chosen.items()}

@@ -48,18 +48,19 @@ def write_demo_sweep(out: Path, scenes: Sequence[Path], quiet: bool = True) -> i
     written = 0
     loaded = [load_scene(p) for p in scenes]
     for scene in loaded:
-        for condition in CONDITIONS:
+        for c, condition in enumerate(CONDITIONS):
             for seed in SEEDS:
                 folder = out / (condition if len(loaded) == 1 else f"{scene.name}/{condition}")
                 folder = folder / f"seed{seed}"
                 folder.mkdir(parents=True, exist_ok=True)
                 for i, step in enumerate(STEPS):
                     skill, share = knobs(condition, seed, i)
+                    rollout_seed = seed * 1000 + c * 100 + i  # distinct episodes everywhere
                     run_rollout(
                         scene,
                         folder / f"step{step}.tape",
                         episodes=EPISODES,
-                        seed=seed * 1000 + i,
+                        seed=rollout_seed,
                         mode="shared",
                         dt=DT,
                         par_limit=PAR_LIMIT,
@@ -69,7 +70,7 @@ def write_demo_sweep(out: Path, scenes: Sequence[Path], quiet: bool = True) -> i
                             "condition": condition,
                             "seed": seed,
                             "step": step,
-                            "rollout_seed": seed * 1000 + i,
+                            "rollout_seed": rollout_seed,
                         },
                     )
                     written += 1

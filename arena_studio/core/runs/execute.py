@@ -12,6 +12,7 @@ processes for the duration of the call.
 
 from __future__ import annotations
 
+import importlib
 import logging
 import multiprocessing
 import signal
@@ -25,6 +26,10 @@ from arena_studio.core.runs.per_tape import TapeFigures, group_figures
 
 #: tasks per worker: enough to balance uneven tapes, few enough to keep overhead small
 TASKS_PER_WORKER = 4
+#: at most this many tapes a task (progress stays fine-grained, Ctrl+C quick)
+MAX_GROUP = 25
+#: how long to wait for a Dask scheduler to answer
+CONNECT_TIMEOUT = "5s"
 
 
 @dataclass(frozen=True)
@@ -46,11 +51,12 @@ class Execution:
 
 
 def split_groups(paths: Sequence[str], workers: int) -> list[list[str]]:
-    """Contiguous groups of about ``len(paths) / (workers * TASKS_PER_WORKER)`` tapes."""
+    """Contiguous groups of about ``len(paths) / (workers * TASKS_PER_WORKER)`` tapes, at
+    most MAX_GROUP each."""
     n = len(paths)
     if n == 0:
         return []
-    count = min(n, max(1, workers) * TASKS_PER_WORKER)
+    count = min(n, max(max(1, workers) * TASKS_PER_WORKER, -(-n // MAX_GROUP)))
     size, extra = divmod(n, count)
     groups, pos = [], 0
     for i in range(count):
@@ -62,7 +68,7 @@ def split_groups(paths: Sequence[str], workers: int) -> list[list[str]]:
 
 def compute_figures(
     paths: Sequence[str],
-    how: Execution = Execution(),
+    how: Execution | None = None,
     advance: Callable[[int], None] | None = None,
     into: dict[str, TapeFigures] | None = None,
 ) -> dict[str, TapeFigures]:
@@ -71,7 +77,7 @@ def compute_figures(
     Results are added to ``into`` (when given) as each group arrives, so a caller keeps what
     was finished when the computation is interrupted."""
     results: dict[str, TapeFigures] = {} if into is None else into
-    for batch in _batches(list(paths), how):
+    for batch in _batches(list(paths), how or Execution()):
         for d in batch:
             fig = TapeFigures.from_dict(d)
             results[fig.path] = fig
@@ -107,8 +113,8 @@ def _pool(paths: list[str], how: Execution) -> Iterator[list[dict[str, Any]]]:
 
 
 def _dask(paths: list[str], how: Execution) -> Iterator[list[dict[str, Any]]]:
-    try:
-        import distributed
+    try:  # typed as Any: distributed has no type hints
+        distributed: Any = importlib.import_module("distributed")
     except ImportError:
         raise ArenaError(
             "Dask is not installed; pip install 'arena-studio[cluster]' (or drop --workers/"
@@ -117,7 +123,7 @@ def _dask(paths: list[str], how: Execution) -> Iterator[list[dict[str, Any]]]:
     cluster = None
     try:
         if how.scheduler:
-            client = distributed.Client(how.scheduler, timeout="10s")
+            client = distributed.Client(how.scheduler, timeout=CONNECT_TIMEOUT)
             workers = max(1, len(client.scheduler_info().get("workers", {})))
         else:
             cluster = distributed.LocalCluster(
@@ -129,11 +135,12 @@ def _dask(paths: list[str], how: Execution) -> Iterator[list[dict[str, Any]]]:
             )
             client = distributed.Client(cluster)
             workers = how.dask_workers
-    except (OSError, TimeoutError) as exc:
+    except (OSError, TimeoutError, RuntimeError) as exc:
         if cluster is not None:
             cluster.close()
         where = how.scheduler or "local cluster"
-        raise ArenaError(f"{where}: cannot connect to the Dask scheduler ({exc})") from None
+        first = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
+        raise ArenaError(f"{where}: cannot start or reach the Dask scheduler ({first})") from None
     try:
         futures = client.map(group_figures, split_groups(paths, workers), pure=False)
         try:

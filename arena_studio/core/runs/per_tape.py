@@ -55,6 +55,7 @@ class TapeFigures:
     failed_cooperative: list[int] = field(default_factory=list)
     truncated: bool = False
     problem: str | None = None
+    note: str | None = None  # e.g. damaged episodes left out
 
     def to_dict(self) -> dict[str, Any]:
         return {
@@ -63,6 +64,7 @@ class TapeFigures:
             "failed_cooperative": list(self.failed_cooperative),
             "truncated": self.truncated,
             "problem": self.problem,
+            "note": self.note,
         }
 
     @classmethod
@@ -73,6 +75,7 @@ class TapeFigures:
             failed_cooperative=[int(i) for i in d.get("failed_cooperative", [])],
             truncated=bool(d.get("truncated", False)),
             problem=d.get("problem"),
+            note=d.get("note"),
         )
 
 
@@ -82,18 +85,46 @@ def tape_figures(path: str) -> TapeFigures:
     from arena_studio.core.metrics_batch import tape_metrics
     from arena_studio.core.tape import open_tape
 
+    note = None
     try:
         tape = open_tape(path)
-        metrics = tape_metrics(tape)
     except (ArenaError, OSError, ValueError) as exc:
-        return TapeFigures(path=path, problem=str(exc) if str(path) in str(exc) else f"{path}: {exc}")
+        return TapeFigures(path=path, problem=_named(path, exc))
+    try:
+        metrics = tape_metrics(tape)
+        damaged = 0
+    except (ArenaError, ValueError) as exc:
+        metrics, damaged = _episode_by_episode(tape)
+        note = f"{_named(path, exc)}; {damaged} damaged episode(s) left out"
     summary = batch_metrics(tape.scene, metrics)
-    out = TapeFigures(path=path, truncated=bool(tape.truncated))
+    out = TapeFigures(path=path, truncated=bool(tape.truncated), note=note)
     out.figures = figures_of_summary(summary, metrics)
-    out.failed_cooperative = [
-        m.index for m in metrics if m.kind == "cooperative" and not m.success
-    ]
+    if damaged:
+        total = len(metrics) + damaged
+        out.figures["damaged"] = (summary["incomplete_episodes"] + damaged) / total
+    out.failed_cooperative = [m.index for m in metrics if m.kind == "cooperative" and not m.success]
     return out
+
+
+def _named(path: str, exc: Exception) -> str:
+    text = str(exc)
+    return text if str(path) in text else f"{path}: {text}"
+
+
+def _episode_by_episode(tape: Any) -> tuple[list[Any], int]:
+    """Metrics of the readable episodes of a tape with damaged ones, and the damaged count."""
+    from arena_studio.core.metrics_batch import episodes_metrics
+
+    metrics: list[Any] = []
+    damaged = 0
+    for i in range(len(tape)):
+        try:
+            episode = tape.episode(i)
+        except (ArenaError, ValueError):
+            damaged += 1
+            continue
+        metrics.extend(episodes_metrics(tape.scene, [episode]))
+    return metrics, damaged
 
 
 def figures_of_summary(summary: dict[str, Any], metrics: list[Any]) -> dict[str, float | None]:

@@ -169,7 +169,8 @@ def probability_of_improvement(
 ) -> float:
     """Mean over the tasks both sides have of :func:`improvement_one_task` (NaN if none)."""
     values = [
-        improvement_one_task(x_by_task[t], y_by_task[t]) for t in sorted(x_by_task)
+        improvement_one_task(x_by_task[t], y_by_task[t])
+        for t in sorted(x_by_task)
         if t in y_by_task
     ]
     values = [v for v in values if np.isfinite(v)]

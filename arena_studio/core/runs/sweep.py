@@ -26,7 +26,7 @@ from typing import Any
 import msgpack
 
 from arena_studio.core.errors import ArenaError
-from arena_studio.core.tape.format import FRAME_HEAD, FRAME_OVERHEAD, KIND_HEADER, MAGIC
+from arena_studio.core.tape.format import FRAME_HEAD, KIND_HEADER, MAGIC
 
 TAPE_SUFFIX = ".tape"
 PARTIAL_SUFFIX = ".tape.partial"
@@ -90,9 +90,8 @@ def find_files(source: str | Path) -> tuple[Path, list[Path]]:
     text = str(source)
     p = Path(text)
     if p.is_dir():
-        files = [
-            f for f in p.rglob("*") if f.name.endswith((TAPE_SUFFIX, PARTIAL_SUFFIX)) and f.is_file()
-        ]
+        suffixes = (TAPE_SUFFIX, PARTIAL_SUFFIX)
+        files = [f for f in p.rglob("*") if f.name.endswith(suffixes) and f.is_file()]
         return p, sorted(files)
     if p.is_file():
         if p.name.endswith((TAPE_SUFFIX, PARTIAL_SUFFIX)):
@@ -244,21 +243,21 @@ def _sweep_tape(root: Path, path: Path, pattern: re.Pattern[str] | None) -> Swee
         payload = read_header_bytes(path)
         found.update(header_place(payload, path))  # header keys win over the path pattern
     except SweepError as exc:
-        return SweepTape(path, st.st_size, st.st_mtime_ns, place=_placement(found),
-                         problem=str(exc))
+        return SweepTape(
+            path, st.st_size, st.st_mtime_ns, place=_placement(found), problem=str(exc)
+        )
     except OSError as exc:
-        return SweepTape(path, st.st_size, st.st_mtime_ns,
-                         problem=f"{path}: cannot read ({exc.strerror or exc})")
+        return SweepTape(
+            path, st.st_size, st.st_mtime_ns, problem=f"{path}: cannot read ({exc.strerror or exc})"
+        )
     place = _placement(found)
     missing = place.missing()
     problem = None
     if missing:
-        problem = (
-            f"{path}: no {', '.join(missing)} in the header metadata"
-            + (" or from --layout" if pattern is not None else "; give --layout")
+        problem = f"{path}: no {', '.join(missing)} in the header metadata" + (
+            " or from --layout" if pattern is not None else "; give --layout"
         )
-    return SweepTape(path, st.st_size, st.st_mtime_ns, header_hash(payload), place,
-                     problem=problem)
+    return SweepTape(path, st.st_size, st.st_mtime_ns, header_hash(payload), place, problem=problem)
 
 
 def _placement(found: dict[str, Any]) -> Placement:
