@@ -38,8 +38,14 @@ def argument_problem(args: argparse.Namespace) -> str | None:
         p = Path(path)
         if not p.exists():
             return f"{path}: no such file"
-        if p.is_dir():
+        if p.is_dir() and (is_tape or p.suffix.lower() in SCENE_SUFFIXES):
             return f"{path}: is a folder, not a scene or tape file"
+        if p.is_dir():  # a sweep of tapes: the runs page
+            if episode is not None or seconds is not None:
+                return "--episode and --time need a tape (.tape), not a folder"
+            if next(p.rglob(f"*{TAPE_SUFFIX}*"), None) is None:
+                return f"{path}: is a folder with no tapes (.tape) in it"
+            return None if not screenshot else _screenshot_problem(screenshot)
         if not (is_tape or p.suffix.lower() in SCENE_SUFFIXES):
             expected = ".scene.json, .scene.msgpack or .tape"
             return f"{path}: not a scene or tape file (expected {expected})"
@@ -52,12 +58,15 @@ def argument_problem(args: argparse.Namespace) -> str | None:
         return f"--episode {episode}: episodes are numbered from 0"
     if seconds is not None and not (seconds >= 0):  # also refuses nan
         return f"--time {seconds:g}: expected seconds >= 0"
-    if screenshot:
-        out = Path(screenshot)
-        if not out.resolve().parent.is_dir():
-            return f"{screenshot}: folder does not exist"
-        if out.suffix.lower() not in IMAGE_SUFFIXES:
-            return f"{screenshot}: expected a .png (or .jpg, .bmp) file name"
+    return _screenshot_problem(screenshot) if screenshot else None
+
+
+def _screenshot_problem(screenshot: str) -> str | None:
+    out = Path(screenshot)
+    if not out.resolve().parent.is_dir():
+        return f"{screenshot}: folder does not exist"
+    if out.suffix.lower() not in IMAGE_SUFFIXES:
+        return f"{screenshot}: expected a .png (or .jpg, .bmp) file name"
     return None
 
 
@@ -98,6 +107,9 @@ def launch_app(args: argparse.Namespace) -> int:
             _close_quietly(window)
             return 2
         is_tape = Path(path).suffix.lower() == TAPE_SUFFIX
+        if Path(path).is_dir() and screenshot:
+            window.resize(*SCREENSHOT_SIZE)
+            window.runs_page.wait_loaded()
         if is_tape and (screenshot or _wants_moment(args)):
             if screenshot:
                 window.resize(*SCREENSHOT_SIZE)

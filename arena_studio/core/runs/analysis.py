@@ -237,9 +237,39 @@ def final_comparison(
     return Final(metric, rows, improvement)
 
 
+@dataclass(frozen=True)
+class GoalMatrix:
+    """Mean success per goal (rows) and step (columns) of one group; NaN where no run has
+    the goal at that step."""
+
+    goals: list[str]
+    steps: list[int]
+    values: np.ndarray  # (goals, steps)
+    runs: dict[int, list[Run]]  # step -> runs of the group
+
+
+def goal_matrix(runs: Sequence[Run], group: str, by: str = "condition") -> GoalMatrix:
+    """Success of each goal over steps for ``group`` (mean over its runs at each step)."""
+    mine: dict[int, list[Run]] = defaultdict(list)
+    for r in runs:
+        if str(r.key(by)) == group:
+            mine[int(r.key("step"))].append(r)
+    steps = sorted(mine)
+    goals = sorted({k[5:] for r in runs for k in r.figures.figures if k.startswith("goal:")})
+    values = np.full((len(goals), len(steps)), np.nan)
+    for j, step in enumerate(steps):
+        for i, goal in enumerate(goals):
+            v = np.array([r.value(f"goal:{goal}") for r in mine[step]])
+            v = v[np.isfinite(v)]
+            if v.size:
+                values[i, j] = float(v.mean())
+    return GoalMatrix(goals, steps, values, dict(mine))
+
+
 __all__ = [
     "GROUP_KEYS",
     "Final",
+    "GoalMatrix",
     "Row",
     "Run",
     "Settings",
@@ -247,6 +277,7 @@ __all__ = [
     "cells",
     "curve_rows",
     "final_comparison",
+    "goal_matrix",
     "load_runs",
     "metric_names",
 ]

@@ -171,3 +171,14 @@ def test_split_groups_covers_every_tape_once() -> None:
     assert execute_mod.split_groups(paths[:3], 4) == [["0"], ["1"], ["2"]]
     many = execute_mod.split_groups([str(i) for i in range(1000)], 2)
     assert max(len(g) for g in many) <= execute_mod.MAX_GROUP and sum(map(len, many)) == 1000
+
+
+def test_goal_matrix_means_over_runs(tmp_path: Path) -> None:
+    from arena_studio.core.runs.analysis import goal_matrix
+
+    write_sweep(tmp_path, {("c", 0, 1): 1, ("c", 1, 1): 3, ("c", 0, 2): 4, ("d", 0, 1): 0})
+    m = goal_matrix(_runs(tmp_path), "c")
+    # derived: every episode's goal is landmark A; step 1 runs 1/4 and 3/4 -> 0.5
+    assert m.goals == ["A"] and m.steps == [1, 2]
+    np.testing.assert_allclose(m.values, [[0.5, 1.0]])
+    assert len(m.runs[1]) == 2
