@@ -13,7 +13,7 @@ from __future__ import annotations
 import zlib
 from collections import defaultdict
 from collections.abc import Callable, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
@@ -25,6 +25,9 @@ from arena_studio.core.runs.per_tape import TapeFigures
 from arena_studio.core.runs.sweep import Sweep, SweepTape
 
 GROUP_KEYS = ("condition", "task", "seed")
+#: thresholds of the final step's performance profiles, and bootstrap replicates for bands
+PROFILE_POINTS = 21
+PROFILE_REPS = 2000
 
 
 @dataclass(frozen=True)
@@ -202,6 +205,8 @@ class Final:
     metric: str
     rows: list[Row]
     improvement: dict[tuple[str, str], float]
+    #: group -> (thresholds, fraction of runs above, band low, band high)
+    profiles: dict[str, tuple[np.ndarray, ...]] = field(default_factory=dict)
 
     def to_dict(self) -> dict[str, Any]:
         return {
@@ -210,6 +215,15 @@ class Final:
             "improvement": [
                 {"x": a, "y": b, "probability": p} for (a, b), p in self.improvement.items()
             ],
+            "profiles": {
+                g: {
+                    "thresholds": t.tolist(),
+                    "fraction_above": f.tolist(),
+                    "low": lo.tolist(),
+                    "high": hi.tolist(),
+                }
+                for g, (t, f, lo, hi) in self.profiles.items()
+            },
         }
 
 
@@ -234,7 +248,26 @@ def final_comparison(
         for b in sorted(strata)
         if a != b
     }
-    return Final(metric, rows, improvement)
+    return Final(metric, rows, improvement, _profiles(strata, metric, settings))
+
+
+def _profiles(
+    strata: dict[str, dict[str, np.ndarray]], metric: str, settings: Settings
+) -> dict[str, tuple[np.ndarray, ...]]:
+    """Performance profiles of every group over PROFILE_POINTS thresholds spanning all runs."""
+    every = stats.pooled([v for s in strata.values() for v in s.values()])
+    if not every.size:
+        return {}
+    tau = np.linspace(float(every.min()), float(every.max()), PROFILE_POINTS)
+    out: dict[str, tuple[np.ndarray, ...]] = {}
+    for g, s in sorted(strata.items()):
+        reps = min(settings.reps, PROFILE_REPS)
+        seed = _cell_seed(settings, "profile", metric, g)
+        frac, low, high = stats.performance_profile(
+            list(s.values()), tau, reps=reps, confidence=settings.confidence, seed=seed
+        )
+        out[g] = (tau, frac, low, high)
+    return out
 
 
 @dataclass(frozen=True)

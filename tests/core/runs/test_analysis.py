@@ -182,3 +182,14 @@ def test_goal_matrix_means_over_runs(tmp_path: Path) -> None:
     assert m.goals == ["A"] and m.steps == [1, 2]
     np.testing.assert_allclose(m.values, [[0.5, 1.0]])
     assert len(m.runs[1]) == 2
+
+
+def test_final_profiles_count_runs_above_thresholds(tmp_path: Path) -> None:
+    write_sweep(tmp_path, {("c", s, 1): s for s in range(4)})  # success 0, .25, .5, .75
+    final = final_comparison(_runs(tmp_path), "success", settings=FAST)
+    tau, frac, low, high = final.profiles["c"]
+    assert tau[0] == 0.0 and tau[-1] == 0.75 and len(tau) == 21
+    # derived: runs strictly above tau, out of 4
+    expected = [(np.array([0, 0.25, 0.5, 0.75]) > t).mean() for t in tau]
+    np.testing.assert_allclose(frac, expected)
+    assert (low <= frac + 1e-12).all() and (frac <= high + 1e-12).all()
