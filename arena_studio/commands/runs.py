@@ -6,6 +6,7 @@ import argparse
 import csv
 import json
 import math
+import os
 import sys
 from typing import Any
 
@@ -96,11 +97,11 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from ..core.runs import Execution, FigureCache, load_runs, scan_sweep
+    from ..core.runs import FigureCache, load_runs, scan_sweep
     from ..core.runs.sweep import SweepError
 
     try:
-        settings, at_step, how = _options(args, Execution)
+        settings, at_step, how = _options(args)
         sweep = scan_sweep(args.sweep, args.layout)
     except CommandError as exc:
         error_line(str(exc))
@@ -120,7 +121,7 @@ def run(args: argparse.Namespace) -> int:
         with progress_bar(len(sweep.ready), "runs", args.quiet) as bar:
             runs, problems = load_runs(sweep, how, cache, bar.advance)
     except KeyboardInterrupt:
-        error_line("interrupted (finished tapes are cached)")
+        error_line("interrupted" + ("" if cache is None else " (finished tapes are cached)"))
         return 130
     except ArenaError as exc:
         error_line(str(exc))
@@ -140,8 +141,9 @@ def run(args: argparse.Namespace) -> int:
         return 130
 
 
-def _options(args: argparse.Namespace, execution: Any) -> tuple[Any, int | None, Any]:
-    from ..core.runs import Settings
+def _options(args: argparse.Namespace) -> tuple[Any, int | None, Any]:
+    """(bootstrap settings, final step or None for the last, how to compute)."""
+    from ..core.runs import Execution, Settings
 
     if args.reps < 1:
         raise CommandError("--reps: expected a whole number >= 1")
@@ -157,14 +159,12 @@ def _options(args: argparse.Namespace, execution: Any) -> tuple[Any, int | None,
             ) from None
     if args.figure and not args.figure.lower().endswith((".svg", ".png", ".pdf")):
         raise CommandError(f"--figure {args.figure}: expected a .svg, .png or .pdf file name")
-    import os
-
     if args.workers is not None and args.workers < 1:
         raise CommandError("--workers: expected a whole number >= 1")
     processes = args.processes if args.processes is not None else (os.cpu_count() or 1)
     if processes < 1:
         raise CommandError("--processes: expected a whole number >= 1")
-    how = execution(processes=processes, scheduler=args.scheduler, dask_workers=args.workers or 0)
+    how = Execution(processes=processes, scheduler=args.scheduler, dask_workers=args.workers or 0)
     settings = Settings(
         statistic=args.statistic, reps=args.reps, confidence=args.confidence, seed=args.seed
     )
