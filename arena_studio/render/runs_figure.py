@@ -145,8 +145,9 @@ def _final(ax: Any, final: Any, groups: list[str], stat: str, level: str) -> Non
     ax.set_yticks(range(len(order)), names)
     ax.set_ylim(-0.6, len(order) - 0.4)
     ax.grid(axis="y", visible=False)
-    ax.set_xlabel(f"{final.metric} ({stat}, {level} interval)")
-    ax.set_title(f"step {steps.pop()}" if len(steps) == 1 else "final steps", loc="left")
+    ax.set_xlabel(f"{final.metric} ({stat})")
+    where = f"step {steps.pop()}" if len(steps) == 1 else "final steps"
+    ax.set_title(f"{where}, {level} interval", loc="left")
     if len(order) == 2:
         a, b = order
         p = final.improvement.get((a, b))
