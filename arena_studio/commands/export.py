@@ -11,9 +11,9 @@ from __future__ import annotations
 
 import argparse
 
-from ..core.errors import ArenaError
-from ..core.export import CAUTION, DEFAULT_RESOLUTION, FORMATS, export_scene
-from .common import EXIT_OK, EXIT_UNREADABLE, error_line, read_scene
+from arena_studio.commands.common import EXIT_OK, EXIT_UNREADABLE, error_line, read_scene
+from arena_studio.core.errors import ArenaError
+from arena_studio.core.export import CAUTION, DEFAULT_RESOLUTION, FORMATS, export_scene
 
 HELP = "export a scene for a simulator or a document (json, msgpack, npz, wkt, svg, grid)"
 

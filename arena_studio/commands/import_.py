@@ -6,9 +6,15 @@ import argparse
 import os
 from pathlib import Path
 
-from ..core.errors import ArenaError
-from .common import EXIT_OK, EXIT_UNREADABLE, CommandError, error_line, read_scene
-from .progress import progress_bar
+from arena_studio.commands.common import (
+    EXIT_OK,
+    EXIT_UNREADABLE,
+    CommandError,
+    error_line,
+    read_scene,
+)
+from arena_studio.commands.progress import progress_bar
+from arena_studio.core.errors import ArenaError
 
 HELP = "convert a long-format CSV table or an NPZ array file into a tape"
 
@@ -29,7 +35,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from ..core.importers import import_csv, import_npz, parse_columns
+    from arena_studio.core.tape.importers import import_csv, import_npz, parse_columns
 
     try:
         if args.dt is not None and not args.dt > 0:

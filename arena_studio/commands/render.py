@@ -5,8 +5,14 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from ..core.errors import ArenaError
-from .common import EXIT_OK, EXIT_UNREADABLE, CommandError, error_line, warning_line
+from arena_studio.commands.common import (
+    EXIT_OK,
+    EXIT_UNREADABLE,
+    CommandError,
+    error_line,
+    warning_line,
+)
+from arena_studio.core.errors import ArenaError
 
 HELP = "render episodes of a tape to a clip (.mp4, .gif, PNG folder) or a still (.png, .svg)"
 
@@ -94,8 +100,8 @@ def run(args: argparse.Namespace) -> int:
 
 
 def _run(args: argparse.Namespace) -> int:
-    from ..render.clip import ClipError, ClipSpec, export_clip, parse_size
-    from ..render.episode_painter import FrameOptions
+    from arena_studio.render.clip import ClipError, ClipSpec, export_clip, parse_size
+    from arena_studio.render.episode_painter import FrameOptions
 
     out = Path(args.output)
     suffix = out.suffix.lower()
@@ -137,7 +143,7 @@ def _run(args: argparse.Namespace) -> int:
         title=args.title,
         caption=args.caption,
     )
-    from ..render.offscreen import ensure_gui_app
+    from arena_studio.render.offscreen import ensure_gui_app
 
     ensure_gui_app()
     if suffix in (".png", ".svg"):
@@ -152,10 +158,10 @@ def _run(args: argparse.Namespace) -> int:
         frame=options,
         title_seconds=args.title_seconds if args.title else 0.0,
     )
-    from .progress import progress_bar
+    from arena_studio.commands.progress import progress_bar
 
     try:
-        from ..render.clip import schedule
+        from arena_studio.render.clip import schedule
 
         total = len(schedule(episodes, spec))
         with progress_bar(total, "render", args.quiet) as bar:
@@ -170,7 +176,7 @@ def _run(args: argparse.Namespace) -> int:
 
 
 def _open(path: str):
-    from ..core.tape import open_tape
+    from arena_studio.core.tape import open_tape
 
     p = Path(path)
     if not p.is_file():
@@ -185,7 +191,7 @@ def _open(path: str):
 
 
 def _still(args, out, scene, episode, options, size) -> int:
-    from ..render.frame import save_png_still, save_svg_still
+    from arena_studio.render.frame import save_png_still, save_svg_still
 
     step = episode.step_at(args.time)
     try:

@@ -5,9 +5,15 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from ..core.errors import ArenaError
-from .common import EXIT_OK, EXIT_UNREADABLE, CommandError, error_line, read_scene
-from .progress import progress_bar
+from arena_studio.commands.common import (
+    EXIT_OK,
+    EXIT_UNREADABLE,
+    CommandError,
+    error_line,
+    read_scene,
+)
+from arena_studio.commands.progress import progress_bar
+from arena_studio.core.errors import ArenaError
 
 HELP = "record scripted preview episodes of a scene into a tape"
 
@@ -55,7 +61,7 @@ def run(args: argparse.Namespace) -> int:
         if not out.parent.is_dir():
             raise CommandError(f"{args.output}: folder does not exist")
         scene = read_scene(args.scene)
-        from ..core.rollout import run_rollout
+        from arena_studio.core.sim.rollout import run_rollout
 
         with progress_bar(args.episodes, "rollout", args.quiet) as bar:
             run_rollout(

@@ -10,9 +10,16 @@ import os
 import sys
 from typing import Any
 
-from ..core.errors import ArenaError
-from .common import EXIT_OK, EXIT_PROBLEMS, EXIT_UNREADABLE, CommandError, error_line, warning_line
-from .progress import progress_bar
+from arena_studio.commands.common import (
+    EXIT_OK,
+    EXIT_PROBLEMS,
+    EXIT_UNREADABLE,
+    CommandError,
+    error_line,
+    warning_line,
+)
+from arena_studio.commands.progress import progress_bar
+from arena_studio.core.errors import ArenaError
 
 HELP = "analyse a sweep of tapes: curves over steps with bootstrap intervals, final comparison"
 
@@ -97,8 +104,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from ..core.runs import FigureCache, load_runs, scan_sweep
-    from ..core.runs.sweep import SweepError
+    from arena_studio.core.runs import FigureCache, load_runs, scan_sweep
+    from arena_studio.core.runs.sweep import SweepError
 
     try:
         settings, at_step, how = _options(args)
@@ -143,7 +150,7 @@ def run(args: argparse.Namespace) -> int:
 
 def _options(args: argparse.Namespace) -> tuple[Any, int | None, Any]:
     """(bootstrap settings, final step or None for the last, how to compute)."""
-    from ..core.runs import Execution, Settings
+    from arena_studio.core.runs import Execution, Settings
 
     if args.reps < 1:
         raise CommandError("--reps: expected a whole number >= 1")
@@ -178,7 +185,7 @@ def _report(
     settings: Any,
     at_step: int | None,
 ) -> int:
-    from ..core.runs import curve_rows, final_comparison, metric_names
+    from arena_studio.core.runs import curve_rows, final_comparison, metric_names
 
     names = metric_names(runs)
     metrics = args.metric or ["success"]
@@ -208,7 +215,7 @@ def _report(
 
 def _figure(path: str, rows: list[Any], final: Any, settings: Any) -> None:
     try:
-        from ..render.runs_figure import save_runs_figure
+        from arena_studio.render.runs_figure import save_runs_figure
     except ImportError as exc:
         raise CommandError(f"--figure: matplotlib is needed ({exc})") from None
     try:

@@ -7,8 +7,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from arena_studio.core.rollout import MIN_PACE, Rollout, run_rollout
-from arena_studio.core.scene import load_scene
+from arena_studio.core.scene.model import load_scene
+from arena_studio.core.sim.rollout import MIN_PACE, Rollout, run_rollout
 from arena_studio.core.tape import open_tape
 
 SCENES = Path(__file__).resolve().parents[2] / "scenes"

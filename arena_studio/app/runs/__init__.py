@@ -12,6 +12,6 @@ from typing import Any
 
 def open_sweep(window: Any, path: str | Path) -> bool:
     """Open the sweep folder ``path`` in the runs page of ``window`` (created on first use)."""
-    from .integration import open_sweep_in_window
+    from arena_studio.app.runs.integration import open_sweep_in_window
 
     return open_sweep_in_window(window, Path(path))

@@ -5,7 +5,7 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Any
 
-from .runs_page import RunsPage
+from arena_studio.app.runs.runs_page import RunsPage
 
 PAGE_ATTR = "runs_page"
 MODE = "runs"
@@ -38,7 +38,7 @@ def open_sweep_in_window(window: Any, path: Path) -> bool:
 def open_run_tape(window: Any, path: Path, failed: list[int]) -> bool:
     """Open a tape of the sweep in the replay, listing its failed cooperative episodes
     first (the first of them selected)."""
-    from ..replay import open_tape
+    from arena_studio.app.replay import open_tape
 
     if not open_tape(window, path):
         return False

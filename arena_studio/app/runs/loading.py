@@ -14,7 +14,7 @@ from typing import Any
 
 from PySide6.QtCore import QObject, Signal
 
-from ...core.errors import ArenaError
+from arena_studio.core.errors import ArenaError
 
 
 @dataclass
@@ -57,7 +57,7 @@ class SweepLoader(QObject):
             t.join(timeout)
 
     def _run(self, token: int, path: Path) -> None:
-        from ...core.runs import Execution, FigureCache, load_runs, scan_sweep
+        from arena_studio.core.runs import Execution, FigureCache, load_runs, scan_sweep
 
         try:
             sweep = scan_sweep(path)

@@ -33,10 +33,10 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from ...core.runs import Settings, curve_rows, final_comparison, metric_names
-from ...core.runs.analysis import Run, goal_matrix
-from ...render.theme import Theme, load_theme
-from .loading import SweepData, SweepLoader
+from arena_studio.app.runs.loading import SweepData, SweepLoader
+from arena_studio.core.runs import Settings, curve_rows, final_comparison, metric_names
+from arena_studio.core.runs.analysis import Run, goal_matrix
+from arena_studio.render.theme import Theme, load_theme
 
 #: replicates in the app (the CLI uses 10,000; the app stays responsive on every change)
 APP_REPS = 2000
@@ -410,7 +410,7 @@ class RunsPage(QWidget):
     # -- export and theme ----------------------------------------------------------------
     def export_figure(self, path: str | Path) -> None:
         """The curves and final intervals shown, as SVG/PNG/PDF (matplotlib)."""
-        from ...render.runs_figure import save_runs_figure
+        from arena_studio.render.runs_figure import save_runs_figure
 
         save_runs_figure(path, self.rows, self.final, self.settings)
 

@@ -42,8 +42,8 @@ def knobs(condition: str, seed: int, step_index: int) -> tuple[float, float]:
 
 def write_demo_sweep(out: Path, scenes: Sequence[Path], quiet: bool = True) -> int:
     """Write every tape of the demo sweep under ``out``; returns the tapes written."""
-    from arena_studio.core.rollout import run_rollout
-    from arena_studio.core.scene import load_scene
+    from arena_studio.core.scene.model import load_scene
+    from arena_studio.core.sim.rollout import run_rollout
 
     written = 0
     loaded = [load_scene(p) for p in scenes]

@@ -81,8 +81,8 @@ class TapeFigures:
 
 def tape_figures(path: str) -> TapeFigures:
     """Read one tape and compute its figures (batched metrics, as ``arena-studio stats``)."""
-    from arena_studio.core.metrics import batch_metrics
-    from arena_studio.core.metrics_batch import tape_metrics
+    from arena_studio.core.analysis.metrics import summarize_metrics
+    from arena_studio.core.analysis.metrics_batch import tape_metrics
     from arena_studio.core.tape import open_tape
 
     note = None
@@ -96,7 +96,7 @@ def tape_figures(path: str) -> TapeFigures:
     except (ArenaError, ValueError) as exc:
         metrics, damaged = _episode_by_episode(tape)
         note = f"{_named(path, exc)}; {damaged} damaged episode(s) left out"
-    summary = batch_metrics(tape.scene, metrics)
+    summary = summarize_metrics(tape.scene, metrics)
     out = TapeFigures(path=path, truncated=bool(tape.truncated), note=note)
     out.figures = figures_of_summary(summary, metrics)
     if damaged:
@@ -113,7 +113,7 @@ def _named(path: str, exc: Exception) -> str:
 
 def _episode_by_episode(tape: Any) -> tuple[list[Any], int]:
     """Metrics of the readable episodes of a tape with damaged ones, and the damaged count."""
-    from arena_studio.core.metrics_batch import episodes_metrics
+    from arena_studio.core.analysis.metrics_batch import episodes_metrics
 
     metrics: list[Any] = []
     damaged = 0
@@ -128,7 +128,7 @@ def _episode_by_episode(tape: Any) -> tuple[list[Any], int]:
 
 
 def figures_of_summary(summary: dict[str, Any], metrics: list[Any]) -> dict[str, float | None]:
-    """Flatten a :func:`metrics.batch_metrics` summary into named figures."""
+    """Flatten a :func:`metrics.summarize_metrics` summary into named figures."""
     n = summary["episodes"]
     spec = [v for v in summary["specialisation"].values() if v is not None]
     lengths = [m.duration for m in metrics]
