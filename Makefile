@@ -57,6 +57,9 @@ demos: $(STAMP)
 	  $(BIN)/arena-studio rollout scenes/$$s.scene.json -o scenes/$$s-greedy.tape \
 	    --episodes 20 --seed 13 --goals greedy --par-limit 0.8,2.0 --quiet || exit 1; \
 	done
+	# a small sweep (conditions x seeds x checkpoints) for `arena-studio runs`
+	rm -rf scenes/sweep-demo
+	$(BIN)/python -m arena_studio.core.runs.demo scenes/sweep-demo scenes/parking-level.scene.json
 
 # the lock tool lives in .venv, outside the lock (it only writes the lock)
 $(BIN)/uv: | $(BIN)/python

@@ -36,6 +36,13 @@ ACTIONS: tuple[ActionSpec, ...] = (
     ActionSpec("file.new", "&New", (SK.New,), "File", "file", "new", tip="Start an empty scene"),
     ActionSpec("file.open", "&Open…", (SK.Open,), "File", "file", "open"),
     ActionSpec(
+        "file.open_folder",
+        "Open &Folder…",
+        ("Ctrl+Shift+O",),
+        "File",
+        tip="Open a folder of tapes (a sweep) in the runs page",
+    ),
+    ActionSpec(
         "file.save",
         "&Save",
         (SK.Save,),
@@ -96,6 +103,16 @@ ACTIONS: tuple[ActionSpec, ...] = (
         enabled="has_replay",
         checkable=True,
         tip="Show the replay of the open tape (File > Open a .tape file first)",
+    ),
+    ActionSpec(
+        "mode.runs",
+        "R&uns",
+        ("Ctrl+3",),
+        "View",
+        "modes",
+        enabled="has_runs",
+        checkable=True,
+        tip="Show the sweep of tapes (File > Open Folder first)",
     ),
     ActionSpec(
         "tool.select",

@@ -50,6 +50,13 @@ def argument_problem(args: argparse.Namespace) -> str | None:
     is_tape = path is not None and is_tape_path(path)
     if path is not None:
         p = Path(path)
+        if p.is_dir() and not (is_tape or p.suffix.lower() in SCENE_SUFFIXES):
+            # a sweep of tapes: the runs page
+            if episode is not None or seconds is not None:
+                return "--episode and --time need a tape (.tape), not a folder"
+            if next(p.rglob(f"*{TAPE_SUFFIX}*"), None) is None:
+                return f"{path}: is a folder with no tapes (.tape) in it"
+            return None if not screenshot else _screenshot_problem(screenshot)
         # folders, pipes, devices and oversized files are named, never opened; a tape whose
         # writer still works on NAME.tape.partial is checked through that file
         checked = p.with_name(p.name + ".partial") if _still_written(p) else p
@@ -69,12 +76,15 @@ def argument_problem(args: argparse.Namespace) -> str | None:
         return f"--episode {episode}: episodes are numbered from 0"
     if seconds is not None and not (seconds >= 0):  # also refuses nan
         return f"--time {seconds:g}: expected seconds >= 0"
-    if screenshot:
-        out = Path(screenshot)
-        if not out.resolve().parent.is_dir():
-            return f"{screenshot}: folder does not exist"
-        if out.suffix.lower() not in IMAGE_SUFFIXES:
-            return f"{screenshot}: expected a .png (or .jpg, .bmp) file name"
+    return _screenshot_problem(screenshot) if screenshot else None
+
+
+def _screenshot_problem(screenshot: str) -> str | None:
+    out = Path(screenshot)
+    if not out.resolve().parent.is_dir():
+        return f"{screenshot}: folder does not exist"
+    if out.suffix.lower() not in IMAGE_SUFFIXES:
+        return f"{screenshot}: expected a .png (or .jpg, .bmp) file name"
     return None
 
 
@@ -115,6 +125,9 @@ def launch_app(args: argparse.Namespace) -> int:
             _close_quietly(window)
             return 2
         is_tape = is_tape_path(path)
+        if Path(path).is_dir() and screenshot:
+            window.resize(*SCREENSHOT_SIZE)
+            window.runs_page.wait_loaded()
         if is_tape and (screenshot or _wants_moment(args)):
             if screenshot:
                 window.resize(*SCREENSHOT_SIZE)

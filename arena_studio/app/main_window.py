@@ -106,6 +106,7 @@ class MainWindow(FileCommands, ModePages, QMainWindow):
             "has_selection": lambda: bool(self.editor.selection() or self.editor.active_vertex),
             "is_dirty_or_unnamed": lambda: self.document.dirty or self.document.path is None,
             "has_replay": lambda: "replay" in self._mode_pages,
+            "has_runs": lambda: "runs" in self._mode_pages,
         }
         self._build_actions()
         self._build_status_bar()
@@ -236,6 +237,7 @@ class MainWindow(FileCommands, ModePages, QMainWindow):
         table: dict[str, Callable[[], object]] = {
             "file.new": self.new_scene,
             "file.open": self.open_dialog,
+            "file.open_folder": self.open_folder_dialog,
             "file.save": self.save,
             "file.save_as": self.save_as,
             "file.quit": self.close,

@@ -66,6 +66,8 @@ class FileCommands:
     def open_path(self, path: str | Path) -> bool:
         """Open a scene in the layout editor or a ``.tape`` in the replay mode."""
         p = Path(path)
+        if p.is_dir():
+            return self.open_sweep(p)
         if p.name.lower().endswith((".tape", ".tape.partial")):  # .partial: still written
             return self.open_tape(p)
         if p.suffix.lower() not in SCENE_SUFFIXES:
@@ -89,6 +91,20 @@ class FileCommands:
         self.show_message(f"Opened {p.name}")
         self.scene_opened.emit(p.resolve())
         return True
+
+    def open_folder_dialog(self) -> None:
+        from PySide6.QtWidgets import QFileDialog
+
+        start = str(self.document.path.parent) if self.document.path else str(Path.cwd())
+        folder = QFileDialog.getExistingDirectory(self, "Open Folder of Tapes", start)
+        if folder:
+            self.open_sweep(Path(folder))
+
+    def open_sweep(self, path: Path) -> bool:
+        """Hand a folder of tapes to the runs page (``arena_studio.app.runs``)."""
+        from arena_studio.app.runs import open_sweep  # lazy: the runs page loads pyqtgraph
+
+        return bool(open_sweep(self, path))
 
     def open_tape(self, path: Path) -> bool:
         """Hand a tape to the replay mode (``arena_studio.app.replay.open_tape(window, path)``)."""

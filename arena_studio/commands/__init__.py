@@ -17,6 +17,7 @@ COMMANDS: tuple[str, ...] = (
     "stats",
     "render",
     "export-tape",
+    "runs",
 )
 
 

@@ -20,7 +20,15 @@ one second, or at its time limit: ``max_time`` when given, else the scene's
 so even a detour through every target fits). With ``par_limit=(lo, hi)`` each episode's limit
 is instead drawn between ``lo`` and ``hi`` times its team goal's par time (capped by the
 limit above); below 1x the team cannot make it, so such tapes show agents still on their way
-when time runs out. Episode ``i`` uses ``numpy.random.default_rng([seed, i])``, so any
+when time runs out.
+
+Two knobs make sweeps of tapes whose quality varies (e.g. the demo sweep of ``arena-studio
+runs``): ``skill`` in (0, 1] scales every agent's top speed and turn rate to
+``MIN_PACE + (1 - MIN_PACE) * skill`` of its own (1 = full speed), so with ``par_limit`` less
+skilled teams run out of time more often; ``shared_share`` in [0, 1] makes each episode
+``shared`` with that probability and ``independent`` otherwise (a separate random stream,
+``default_rng([seed, i, 1])``, so the episodes' own draws are unchanged). Episode ``i``
+uses ``numpy.random.default_rng([seed, i])``, so any
 episode can be regenerated alone. What "the same again" means: with the same inputs, package
 versions and machine, a run writes a byte-identical tape. Across numpy/scipy/shapely versions
 and CPUs (whose SIMD paths round differently) the floating-point results may differ in the
@@ -31,7 +39,7 @@ outcomes, diagnoses and step counts, every pose within :data:`REGENERATED_POSE_T
 from __future__ import annotations
 
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Literal
@@ -67,6 +75,8 @@ REACH_DEPTH = 0.5
 #: this many metres (and heading within this many radians) of the recorded one; same versions
 #: on the same machine give the very same bytes (tests/core/test_rollout.py checks both)
 REGENERATED_POSE_TOLERANCE = 1e-6
+#: slowest pace (share of full speed and turn rate) a skill near 0 gives
+MIN_PACE = 0.2
 
 
 @dataclass
@@ -100,6 +110,7 @@ class Rollout:
         self._free = []
         self._guards = []
         self._guard_free = []
+        self.pace = 1.0  # share of full speed and turn rate; set per episode from ``skill``
         for agent in scene.agents:
             geom = free_space(scene, agent.radius)
             guard = free_space(scene, max(agent.radius - 0.002, 0.0))
@@ -218,9 +229,13 @@ class Rollout:
         index: int,
         mode: Mode,
         par_limit: tuple[float, float] | None = None,
+        skill: float = 1.0,
     ) -> EpisodeRun:
         if mode not in MODES:
             raise ValueError(f"unknown goal mode {mode!r} (expected {', '.join(MODES)})")
+        if not 0 < skill <= 1:
+            raise ValueError(f"skill must be in (0, 1], got {skill}")
+        self.pace = 1.0 if skill == 1 else MIN_PACE + (1 - MIN_PACE) * float(skill)
         rng = np.random.default_rng([seed, index])
         scene = self.scene
         n_agents = len(scene.agents)
@@ -247,7 +262,9 @@ class Rollout:
                     followers.append(None)
                     roles.append([(0, "waits")])
                     continue
-                limits = FollowerLimits(agent.max_speed, agent.max_turn_rate)
+                limits = FollowerLimits(
+                    agent.max_speed * self.pace, agent.max_turn_rate * self.pace
+                )
                 followers.append(PathFollower(route, limits))
                 roles.append([(0, f"heads to {scene.landmarks[plans[a][-1]].id}")])
         limit = self.max_time
@@ -281,7 +298,7 @@ class Rollout:
         self, agent: int, order: list[int], start: np.ndarray, patience: float
     ) -> LegFollower | None:
         spec = self.scene.agents[agent]
-        limits = FollowerLimits(spec.max_speed, spec.max_turn_rate)
+        limits = FollowerLimits(spec.max_speed * self.pace, spec.max_turn_rate * self.pace)
         legs: list[tuple[PathFollower, str, int]] = []
         here = np.asarray(start, dtype=np.float64)
         wait = round(patience / self.dt)
@@ -382,11 +399,19 @@ def run_rollout(
     advance: Callable[[int], None] | None = None,
     keep_partial: bool = False,
     par_limit: tuple[float, float] | None = None,
+    skill: float = 1.0,
+    shared_share: float | None = None,
+    metadata: Mapping[str, Any] | None = None,
 ) -> int:
     """Simulate ``episodes`` episodes into the tape ``out``; returns the episodes written.
 
     ``max_time`` None takes the scene's default time limit (see the module docstring).
+    ``skill`` and ``shared_share`` are the sweep knobs of the module docstring (with
+    ``shared_share`` given, ``mode`` is only recorded as the tape's default); ``metadata``
+    is added to the tape header's (e.g. ``condition``, ``seed``, ``step``).
     """
+    if shared_share is not None and not 0 <= shared_share <= 1:
+        raise ValueError(f"shared_share must be in [0, 1], got {shared_share}")
     sim = Rollout(scene, dt=dt, max_time=max_time)
     meta: dict[str, Any] = {
         "generator": "arena-studio rollout",
@@ -397,9 +422,18 @@ def run_rollout(
     }
     if par_limit is not None:
         meta["par_limit"] = [float(par_limit[0]), float(par_limit[1])]
+    if skill != 1:
+        meta["skill"] = float(skill)
+    if shared_share is not None:
+        meta["shared_share"] = float(shared_share)
+    meta.update(metadata or {})
     with TapeWriter(out, scene, dt=dt, metadata=meta, keep_partial=keep_partial) as writer:
         for i in range(episodes):
-            run = sim.episode(seed, i, mode, par_limit=par_limit)
+            mode_i = mode
+            if shared_share is not None:
+                draw = float(np.random.default_rng([seed, i, 1]).random())
+                mode_i = "shared" if draw < shared_share else "independent"
+            run = sim.episode(seed, i, mode_i, par_limit=par_limit, skill=skill)
             writer.begin_episode(
                 team_goal=run.team_goal,
                 pursued_goals=run.pursued_goals,
@@ -413,4 +447,4 @@ def run_rollout(
     return episodes
 
 
-__all__ = ["MODES", "PATIENCE", "EpisodeRun", "Rollout", "run_rollout"]
+__all__ = ["MIN_PACE", "MODES", "PATIENCE", "EpisodeRun", "Rollout", "run_rollout"]
