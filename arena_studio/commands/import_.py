@@ -1,4 +1,8 @@
-"""``arena-studio import csv|npz IN --scene SCENE -o OUT.tape``: tapes from other files."""
+"""``arena-studio import csv|npz|bag IN --scene SCENE -o OUT.tape``: tapes from other files.
+
+``import map MAP.yaml -o OUT.scene.json`` traces a building map into a scene
+(:mod:`.import_robot`).
+"""
 
 from __future__ import annotations
 
@@ -7,16 +11,17 @@ import os
 from pathlib import Path
 
 from ..core.errors import ArenaError
+from . import import_robot
 from .common import EXIT_OK, EXIT_UNREADABLE, CommandError, error_line, read_scene
 from .progress import progress_bar
 
-HELP = "convert a long-format CSV table or an NPZ array file into a tape"
+HELP = "convert a CSV table, an NPZ array file or ROS 2 bags into a tape, or a map into a scene"
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("kind", choices=("csv", "npz"), help="input kind")
-    parser.add_argument("input", metavar="IN", help="the CSV or NPZ file")
-    parser.add_argument("--scene", required=True, help="the scene the episodes were run in")
+    parser.add_argument("kind", choices=("csv", "npz", "bag", "map"), help="input kind")
+    parser.add_argument("input", metavar="IN", help="the CSV, NPZ, bag or map YAML file")
+    parser.add_argument("--scene", help="the scene the episodes were run in (not for map)")
     parser.add_argument("-o", "--output", required=True, metavar="OUT.tape", help="tape to write")
     parser.add_argument("--dt", type=float, default=None, help="time step in seconds (0.1)")
     parser.add_argument(
@@ -26,9 +31,15 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         help="CSV column names, e.g. 'x=pos_x,y=pos_y' (ours=theirs)",
     )
     parser.add_argument("--quiet", action="store_true", help="no progress bar")
+    import_robot.add_arguments(parser)
 
 
 def run(args: argparse.Namespace) -> int:
+    if args.kind in ("map", "bag"):
+        return import_robot.run(args)
+    if args.more or args.scene is None:
+        error_line("extra input files" if args.more else "--scene: required for csv and npz")
+        return EXIT_UNREADABLE
     from ..core.importers import import_csv, import_npz, parse_columns
 
     try:

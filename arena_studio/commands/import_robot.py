@@ -1,0 +1,119 @@
+"""``arena-studio import map|bag``: building maps to scenes, recorded ROS 2 runs to tapes.
+
+The options live here so :mod:`.import_` only dispatches; see README "Real robots".
+"""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+
+from ..core.errors import ArenaError
+from .common import EXIT_OK, EXIT_UNREADABLE, CommandError, error_line, warning_line
+
+CAUTION = (
+    "A replay of real runs is an analysis aid; safety of robots near people is assessed on "
+    "site under the applicable standards."
+)
+
+
+def add_arguments(parser: argparse.ArgumentParser) -> None:
+    """Options of the map and bag kinds (the input and -o are shared with csv/npz)."""
+    parser.add_argument(
+        "more",
+        nargs="*",
+        metavar="BAG",
+        help="bag: further bags (one episode each with --split bag)",
+    )
+    group = parser.add_argument_group("map (a map-server YAML and its image)")
+    group.add_argument(
+        "--tolerance", type=float, default=None, help="outline simplification in metres (1 cell)"
+    )
+    group.add_argument(
+        "--min-area", type=float, default=None, help="drop specks below this many m² (9 cells)"
+    )
+    group = parser.add_argument_group("bag (ROS 2 bags, MCAP or SQLite3)")
+    group.add_argument(
+        "--agent",
+        action="append",
+        default=[],
+        metavar="ID=TOPIC",
+        help="scene agent and its pose topic (Odometry, PoseStamped, PoseWithCovarianceStamped)"
+        " or TF child frame as ID=tf:FRAME; repeat per agent",
+    )
+    group.add_argument("--fixed-frame", default="map", help="TF frame poses are taken in (map)")
+    group.add_argument(
+        "--transform",
+        default=None,
+        metavar="X,Y,YAW",
+        help="map frame to scene: pose of the map frame in the scene (metres, radians)",
+    )
+    group.add_argument(
+        "--transform-from", default=None, metavar="MAP.yaml", help="take --transform from a map"
+    )
+    group.add_argument(
+        "--split",
+        choices=("gap", "marker", "bag"),
+        default="gap",
+        help="episodes: at time gaps (default), at marker messages, or one per bag",
+    )
+    group.add_argument("--gap", type=float, default=2.0, help="gap in seconds that splits (2)")
+    group.add_argument("--marker", default=None, metavar="TOPIC", help="topic that starts episodes")
+    group.add_argument(
+        "--goal", default=None, metavar="IDS", help="team goal: landmark ids joined by '+'"
+    )
+    group.add_argument(
+        "--goal-topic", default=None, metavar="TOPIC", help="std_msgs/String landmark ids"
+    )
+
+
+def run(args: argparse.Namespace) -> int:
+    try:
+        if args.kind == "map":
+            return _run_map(args)
+        return _run_bag(args)
+    except CommandError as exc:
+        error_line(str(exc))
+        return exc.code
+    except ArenaError as exc:
+        error_line(str(exc))
+        return EXIT_UNREADABLE
+    except KeyboardInterrupt:
+        error_line(f"interrupted; {args.output} was not written")
+        return 130
+
+
+def _run_map(args: argparse.Namespace) -> int:
+    from ..core.robot.map_trace import map_scene, trace_map
+    from ..core.robot.map_yaml import read_map
+    from ..core.scene import save_scene
+
+    if args.more:
+        raise CommandError("import map takes one map YAML")
+    if not Path(args.input).is_file():
+        raise CommandError(f"{args.input}: no such file")
+    out = Path(args.output)
+    if not out.name.endswith((".json", ".msgpack", ".mpk")):
+        raise CommandError(f"{args.output}: expected a .scene.json or .scene.msgpack name")
+    if not out.parent.is_dir():
+        raise CommandError(f"{args.output}: folder does not exist")
+    omap = read_map(args.input)
+    traced = trace_map(omap, tolerance=args.tolerance, min_area=args.min_area)
+    if not traced.rooms:
+        raise CommandError(f"{args.input}: no free space larger than the speck size", 1)
+    name = Path(args.input).stem
+    scene = map_scene(traced, name, f"Traced from the map {Path(args.input).name}.")
+    save_scene(scene, out)
+    print(
+        f"{args.output}: {len(traced.rooms)} room(s), {len(traced.obstacles)} obstacle(s), "
+        f"{traced.vertex_count} vertices; {traced.dropped} speck(s) dropped "
+        f"(tolerance {traced.tolerance:g} m, min area {traced.min_area:g} m²)"
+    )
+    return EXIT_OK
+
+
+def _run_bag(args: argparse.Namespace) -> int:
+    raise CommandError("import bag: not available yet")
+
+
+__all__ = ["CAUTION", "add_arguments", "run", "warning_line"]
