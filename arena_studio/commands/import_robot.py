@@ -9,7 +9,7 @@ import argparse
 from pathlib import Path
 
 from ..core.errors import ArenaError
-from .common import EXIT_OK, EXIT_UNREADABLE, CommandError, error_line, warning_line
+from .common import EXIT_OK, EXIT_PROBLEMS, EXIT_UNREADABLE, CommandError, error_line, warning_line
 
 CAUTION = (
     "A replay of real runs is an analysis aid; safety of robots near people is assessed on "
@@ -49,7 +49,10 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         help="map frame to scene: pose of the map frame in the scene (metres, radians)",
     )
     group.add_argument(
-        "--transform-from", default=None, metavar="MAP.yaml", help="take --transform from a map"
+        "--stamps",
+        choices=("header", "bag"),
+        default="header",
+        help="pose times from message headers (default) or from the bag's record times",
     )
     group.add_argument(
         "--split",
@@ -113,7 +116,60 @@ def _run_map(args: argparse.Namespace) -> int:
 
 
 def _run_bag(args: argparse.Namespace) -> int:
-    raise CommandError("import bag: not available yet")
+    from ..core.robot.bag_read import count_messages, find_bags
+    from ..core.robot.bags import BagImportOptions, import_bags, parse_agent_args
+    from ..core.robot.pose_math import parse_transform
+    from .common import read_scene
+    from .progress import progress_bar
+
+    if args.scene is None:
+        raise CommandError("--scene: required for bag")
+    if not args.agent:
+        raise CommandError("--agent: give ID=TOPIC (or ID=tf:FRAME) for each scene agent")
+    if not Path(args.output).parent.is_dir():
+        raise CommandError(f"{args.output}: folder does not exist")
+    scene = read_scene(args.scene)
+    opts = BagImportOptions(
+        agents=parse_agent_args(args.agent),
+        dt=0.1 if args.dt is None else args.dt,
+        transform=parse_transform(args.transform),
+        fixed_frame=args.fixed_frame,
+        split=args.split,
+        gap=args.gap,
+        marker=args.marker,
+        goal=args.goal,
+        goal_topic=args.goal_topic,
+        use_header=args.stamps == "header",
+    )
+    paths = [args.input, *args.more]
+    bags = [b for p in paths for b in find_bags(p)]  # bad paths fail before any reading
+    with progress_bar(count_messages(bags), "import", args.quiet) as bar:
+        report = import_bags(paths, scene, args.output, opts, advance=bar.advance)
+    _print_usage(report)
+    for line in dict.fromkeys(report.warnings):
+        warning_line(line)
+    print(
+        f"{args.output}: {len(report.episodes)} episode(s) imported from {report.bags} bag(s)"
+        + (f", {report.skipped_episodes} skipped" if report.skipped_episodes else "")
+    )
+    print(f"note: {CAUTION}")
+    return EXIT_PROBLEMS if report.skipped_episodes else EXIT_OK
+
+
+def _print_usage(report: object) -> None:
+    """One row per topic: type, messages, used, skipped and why."""
+    topics = sorted(getattr(report, "topics", {}).values(), key=lambda u: u.topic)
+    if not topics:
+        return
+    width = max(len("topic"), *(len(u.topic) for u in topics))
+    twidth = max(len("type"), *(len(u.msgtype) for u in topics))
+    print(f"{'topic':<{width}}  {'type':<{twidth}}  messages      used   skipped")
+    for u in topics:
+        note = f"  {u.note}" if u.skipped and u.note else ""
+        print(
+            f"{u.topic:<{width}}  {u.msgtype:<{twidth}}  {u.messages:>8}  {u.used:>8}  "
+            f"{u.skipped:>8}{note}"
+        )
 
 
 __all__ = ["CAUTION", "add_arguments", "run", "warning_line"]
