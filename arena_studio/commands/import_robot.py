@@ -89,6 +89,7 @@ def run(args: argparse.Namespace) -> int:
 def _run_map(args: argparse.Namespace) -> int:
     from ..core.robot.map_trace import map_scene, trace_map
     from ..core.robot.map_yaml import read_map
+    from ..core.robot.underlay import map_underlay
     from ..core.scene import save_scene
 
     if args.more:
@@ -106,6 +107,7 @@ def _run_map(args: argparse.Namespace) -> int:
         raise CommandError(f"{args.input}: no free space larger than the speck size", 1)
     name = Path(args.input).stem
     scene = map_scene(traced, name, f"Traced from the map {Path(args.input).name}.")
+    scene = scene.with_changes(underlay=map_underlay(omap.info, out))
     save_scene(scene, out)
     print(
         f"{args.output}: {len(traced.rooms)} room(s), {len(traced.obstacles)} obstacle(s), "

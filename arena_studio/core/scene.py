@@ -21,7 +21,10 @@ from typing import Any, Literal
 from .errors import SceneFormatError
 
 FORMAT_NAME = "arena-studio.scene"
-FORMAT_VERSION = 1
+FORMAT_VERSION = 2
+#: content hashes are taken of the layout in its version-1 form (no underlay), so a scene
+#: keeps its hash across format versions that only add drawing aids, and old tapes match
+HASH_VERSION = 1
 
 Point = tuple[float, float]
 Pose = tuple[float, float, float]
@@ -182,6 +185,35 @@ class GoalSpec:
 
 
 @dataclass(frozen=True)
+class Underlay:
+    """A reference image (a building map, a floor plan) drawn under the layout.
+
+    ``image`` is a path relative to the scene file's folder (``/`` separators). The image's
+    lower-left corner sits at ``origin`` (metres), each pixel (an SVG's user unit) is
+    ``scale`` metres, and the image is turned ``rotation`` radians counter-clockwise about
+    that corner. ``opacity`` 0..1; ``locked`` keeps it from being moved in the editor.
+    The underlay is a drawing aid: it is not part of the layout's content hash.
+    """
+
+    image: str
+    origin: Point = (0.0, 0.0)
+    scale: float = 0.05
+    rotation: float = 0.0
+    opacity: float = 0.5
+    locked: bool = True
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "image": self.image,
+            "origin": _pts((self.origin,))[0],
+            "scale": float(self.scale),
+            "rotation": float(self.rotation),
+            "opacity": float(self.opacity),
+            "locked": bool(self.locked),
+        }
+
+
+@dataclass(frozen=True)
 class Scene:
     """One layout: rooms, obstacles, landmarks, agents, goal set and success rule."""
 
@@ -192,6 +224,7 @@ class Scene:
     agents: tuple[Agent, ...] = ()
     goals: GoalSpec = field(default_factory=GoalSpec)
     description: str = ""
+    underlay: Underlay | None = None
 
     # -- conversions -------------------------------------------------------------------
     def to_dict(self) -> dict[str, Any]:
@@ -209,6 +242,8 @@ class Scene:
         out["landmarks"] = [lm.to_dict() for lm in self.landmarks]
         out["agents"] = [a.to_dict() for a in self.agents]
         out["goals"] = self.goals.to_dict()
+        if self.underlay is not None:
+            out["underlay"] = self.underlay.to_dict()
         return out
 
     @classmethod
@@ -222,8 +257,14 @@ class Scene:
         return parse_scene(data)
 
     def content_hash(self) -> str:
-        """SHA-256 of the canonical JSON form: equal scenes share a hash on every machine."""
-        text = json.dumps(self.to_dict(), sort_keys=True, separators=(",", ":"))
+        """SHA-256 of the canonical JSON form: equal layouts share a hash on every machine.
+
+        Taken of the version-1 form without the underlay (:data:`HASH_VERSION`).
+        """
+        doc = self.to_dict()
+        doc.pop("underlay", None)
+        doc["version"] = HASH_VERSION
+        text = json.dumps(doc, sort_keys=True, separators=(",", ":"))
         return hashlib.sha256(text.encode("utf-8")).hexdigest()
 
     # -- lookups -----------------------------------------------------------------------
@@ -281,6 +322,7 @@ __all__ = [
     "Scene",
     "SceneFormatError",
     "Start",
+    "Underlay",
     "load_scene",
     "save_scene",
 ]

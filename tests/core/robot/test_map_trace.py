@@ -76,6 +76,9 @@ def test_scene_and_command(tmp_path: Path, capsys) -> None:
     loaded = load_scene(out)
     assert Polygon(loaded.rooms[0].outline).equals_exact(Polygon(scene.rooms[0].outline), 1e-6)
     assert "1 room(s), 1 obstacle(s)" in capsys.readouterr().out
+    # the map image lies under the layout, placed as the YAML says, by a relative path
+    assert loaded.underlay is not None and loaded.underlay.image == "floor.pgm"
+    assert loaded.underlay.origin == (1.0, 2.0) and loaded.underlay.scale == RES
     assert main(["import", "map", str(path), "-o", str(out), "--tolerance", "-1"]) == 2
     assert "tolerance" in capsys.readouterr().err
     (tmp_path / "floor.pgm").unlink()
