@@ -52,6 +52,7 @@ from .properties_panel import PropertiesPanel
 from .recovery import RecoveryStore
 from .window_files import FileCommands
 from .window_modes import ModePages
+from .window_robot import RobotCommands
 
 AUTOSAVE_MS = 30_000
 
@@ -61,7 +62,7 @@ def default_recovery_dir() -> Path:
     return Path(base or Path.home() / ".arena_studio") / "recovery"
 
 
-class MainWindow(FileCommands, ModePages, QMainWindow):
+class MainWindow(FileCommands, ModePages, RobotCommands, QMainWindow):
     scene_opened = Signal(object)  # Path of a scene file just opened in the layout editor
 
     def __init__(
@@ -108,6 +109,7 @@ class MainWindow(FileCommands, ModePages, QMainWindow):
         self._build_actions()
         self._build_status_bar()
         self._connect()
+        self._init_robot()
 
         self._autosave = QTimer(self)
         self._autosave.setInterval(AUTOSAVE_MS)
@@ -202,6 +204,7 @@ class MainWindow(FileCommands, ModePages, QMainWindow):
             if spec.menu:
                 menu = menus[spec.menu]
                 if spec.menu == previous_menu and spec.id in (
+                    "file.import_map",
                     "file.quit",
                     "edit.delete",
                     "edit.snap",
@@ -248,6 +251,7 @@ class MainWindow(FileCommands, ModePages, QMainWindow):
             "view.dark": lambda: self.apply_theme(
                 "dark" if self.actions_by_id["view.dark"].isChecked() else "light"
             ),
+            **self.robot_handlers(),
         }
         fn = table[spec.id]
         return lambda *_: (fn(), None)[1]
@@ -400,6 +404,7 @@ class MainWindow(FileCommands, ModePages, QMainWindow):
         if isinstance(app, QApplication):
             apply_theme(app, self.theme)
         self.canvas.set_theme(self.theme)
+        self.underlay_view.set_theme(self.theme)
         self.findings_panel.set_theme(self.theme)
         self.actions_by_id["view.dark"].setChecked(name == "dark")
         for spec in ACTIONS:

@@ -429,4 +429,7 @@ def make_tools(host: ToolHost) -> dict[str, Tool]:
     from .goal_pick import GoalPickTool  # its own module; it needs the host's goal picks
 
     tools.append(GoalPickTool(host))  # type: ignore[arg-type]
+    from .underlay_tools import CalibrateTool  # two clicks on the underlay image
+
+    tools.append(CalibrateTool(host))
     return {t.name: t for t in tools}

@@ -95,3 +95,15 @@ def test_missing_image_is_a_warning_and_paths_stay_relative(tmp_path: Path) -> N
     (tmp_path / "maps" / "floor.png").unlink()
     problem = underlay_problem(load_scene(first), first)  # the scene still loads
     assert problem is not None and "maps/floor.png not found" in problem
+
+
+def test_two_point_calibration_scales_about_the_first_point() -> None:
+    from arena_studio.core.robot.underlay import calibrate
+
+    u = Underlay("a.png", origin=(1.0, 1.0), scale=0.1, rotation=0.3)
+    # two points drawn 4 m apart that really are 2 m apart: everything halves about a
+    got = calibrate(u, (3.0, 1.0), (3.0, 5.0), 2.0)
+    assert got.scale == pytest.approx(0.05) and got.rotation == 0.3
+    assert got.origin == pytest.approx((2.0, 1.0))
+    with pytest.raises(ValueError):
+        calibrate(u, (3.0, 1.0), (3.0, 1.0), 2.0)

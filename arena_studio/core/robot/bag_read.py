@@ -91,6 +91,62 @@ def count_messages(paths: Iterable[Path]) -> int:
     return total
 
 
+@dataclass(frozen=True)
+class Source:
+    """A pose source an agent can be given: a topic, or ``tf:FRAME``."""
+
+    name: str
+    msgtype: str
+    messages: int
+
+
+def list_sources(paths: Iterable[Path], tf_scan: int = 5000) -> list[Source]:
+    """Pose topics and TF child frames in the bags (TF from the first ``tf_scan`` messages)."""
+    from rosbags.rosbag2 import Reader
+    from rosbags.typesys import Stores, get_typestore
+
+    typestore = get_typestore(Stores.ROS2_HUMBLE)
+    topics: dict[str, Source] = {}
+    frames: dict[str, int] = {}
+    for path in paths:
+        try:
+            with Reader(path) as reader:
+                for c in reader.connections:
+                    if c.msgtype in POSE_TYPES:
+                        have = topics.get(c.topic)
+                        count = int(c.msgcount or 0) + (have.messages if have else 0)
+                        topics[c.topic] = Source(c.topic, c.msgtype, count)
+                tf = [c for c in reader.connections if c.msgtype == TF]
+                # an empty connection list means "every message" to rosbags: skip instead
+                stream = reader.messages(connections=tf) if tf else iter(())
+                for n, (conn, _, raw) in enumerate(stream):
+                    if n >= tf_scan:
+                        break
+                    msg = typestore.deserialize_cdr(raw, conn.msgtype)
+                    for tr in msg.transforms:
+                        child = frame_name(tr.child_frame_id)
+                        frames[child] = frames.get(child, 0) + 1
+        except Exception as exc:
+            raise RobotImportError(f"{path}: not a readable ROS 2 bag ({exc})") from None
+    out = sorted(topics.values(), key=lambda s: s.name)
+    out += [Source(TF_PREFIX + f, TF, n) for f, n in sorted(frames.items())]
+    return out
+
+
+def bag_topics(paths: Iterable[Path]) -> list[tuple[str, str]]:
+    """Every (topic, type) in the bags, sorted by topic, for marker and goal choices."""
+    from rosbags.rosbag2 import Reader
+
+    found: dict[str, str] = {}
+    for path in paths:
+        try:
+            with Reader(path) as reader:
+                found.update((c.topic, c.msgtype) for c in reader.connections)
+        except Exception as exc:
+            raise RobotImportError(f"{path}: not a readable ROS 2 bag ({exc})") from None
+    return sorted(found.items())
+
+
 def frame_name(name: str) -> str:
     """TF frame ids compare without a leading slash (an old convention some bags keep)."""
     return name.lstrip("/")
@@ -252,10 +308,13 @@ __all__ = [
     "TF_PREFIX",
     "BagData",
     "BagRequest",
+    "Source",
     "TopicUsage",
+    "bag_topics",
     "count_messages",
     "find_bags",
     "frame_name",
+    "list_sources",
     "pose_sample",
     "read_bag",
     "samples_array",

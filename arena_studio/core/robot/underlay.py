@@ -55,6 +55,24 @@ def rebase(scene: Scene, old_path: str | Path | None, new_path: str | Path) -> S
     return dataclasses.replace(scene, underlay=moved)
 
 
+def calibrate(
+    underlay: Underlay, a: tuple[float, float], b: tuple[float, float], distance: float
+) -> Underlay:
+    """Rescale so the points ``a`` and ``b`` (where they are drawn now) lie ``distance`` m apart.
+
+    ``a`` stays where it is; the rotation is kept.
+    """
+    measured = ((b[0] - a[0]) ** 2 + (b[1] - a[1]) ** 2) ** 0.5
+    if not measured > 0:
+        raise ValueError("the two points are the same point")
+    if not distance > 0:
+        raise ValueError("the distance must be greater than 0")
+    k = distance / measured
+    ox, oy = underlay.origin
+    origin = (a[0] + k * (ox - a[0]), a[1] + k * (oy - a[1]))
+    return dataclasses.replace(underlay, origin=origin, scale=underlay.scale * k)
+
+
 def map_underlay(info: MapInfo, scene_path: str | Path, opacity: float = 0.5) -> Underlay:
     """The map image placed as its YAML says: lower-left corner at origin, turned by yaw."""
     ox, oy, yaw = info.origin
@@ -68,4 +86,11 @@ def map_underlay(info: MapInfo, scene_path: str | Path, opacity: float = 0.5) ->
     )
 
 
-__all__ = ["image_path", "map_underlay", "rebase", "relative_image", "underlay_problem"]
+__all__ = [
+    "calibrate",
+    "image_path",
+    "map_underlay",
+    "rebase",
+    "relative_image",
+    "underlay_problem",
+]

@@ -180,3 +180,23 @@ def test_command_reports_topics_and_writes_the_tape(tmp_path: Path, capsys) -> N
     assert "--transform" in capsys.readouterr().err
     assert main(["import", "bag", str(tmp_path / "none"), *base[3:], *args[len(base) :]]) == 2
     assert "no such bag" in capsys.readouterr().err
+
+
+def test_sources_list_pose_topics_and_tf_frames(tmp_path: Path) -> None:
+    from arena_studio.core.robot.bag_read import list_sources
+
+    b = BagBuilder()
+    t = sample_times(0, 1, 8)
+    b.odometry("/robot1/odom", t, circle(t))
+    b.tf("/tf", 0.5, [("map", "odom", (0.0, 0.0, 0.0)), ("odom", "robot2/base", (1.0, 0.0, 0.0))])
+    b.blob("/acme/blob", 0.2)
+    bag = b.write(tmp_path / "src", "mcap")
+    names = [s.name for s in list_sources([bag])]
+    assert names == ["/robot1/odom", "tf:odom", "tf:robot2/base"]
+
+
+def test_sources_of_a_bag_without_tf(tmp_path: Path) -> None:
+    from arena_studio.core.robot.bag_read import list_sources
+
+    bag = _two_robot_bag(tmp_path, "mcap")
+    assert [s.name for s in list_sources([bag])] == ["/robot1/odom", "/robot2/pose"]

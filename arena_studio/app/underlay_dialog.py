@@ -1,0 +1,135 @@
+"""View > Underlay…: choose the reference image and place it (corner, scale, turn), set its
+opacity and lock. OK makes one undoable edit; Remove takes the underlay away."""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+from PySide6.QtCore import Qt
+from PySide6.QtWidgets import (
+    QCheckBox,
+    QDialog,
+    QDialogButtonBox,
+    QDoubleSpinBox,
+    QFileDialog,
+    QFormLayout,
+    QHBoxLayout,
+    QLabel,
+    QLineEdit,
+    QPushButton,
+    QSlider,
+    QVBoxLayout,
+    QWidget,
+)
+
+from ..core.robot.underlay import image_path, relative_image
+from ..core.scene import Underlay
+
+IMAGE_FILTER = "Images (*.png *.jpg *.jpeg *.pgm *.ppm *.bmp *.svg);;All files (*)"
+
+
+def _spin(lo: float, hi: float, decimals: int, value: float, suffix: str) -> QDoubleSpinBox:
+    box = QDoubleSpinBox()
+    box.setRange(lo, hi)
+    box.setDecimals(decimals)
+    box.setValue(value)
+    box.setSuffix(suffix)
+    return box
+
+
+class UnderlayDialog(QDialog):
+    """``result_underlay()`` after OK: the new underlay, or None when removed."""
+
+    def __init__(
+        self, underlay: Underlay | None, scene_path: Path | None, parent: QWidget | None = None
+    ) -> None:
+        super().__init__(parent)
+        self.setWindowTitle("Underlay")
+        self.scene_path = scene_path
+        self.removed = False
+        u = underlay or Underlay(image="")
+        shown = str(image_path(u, scene_path)) if underlay is not None else ""
+        self.image = QLineEdit(shown)
+        browse = QPushButton("Browse…")
+        browse.clicked.connect(self._browse)
+        row = QWidget()
+        lay = QHBoxLayout(row)
+        lay.setContentsMargins(0, 0, 0, 0)
+        lay.addWidget(self.image, 1)
+        lay.addWidget(browse)
+        self.x = _spin(-1e6, 1e6, 3, u.origin[0], " m")
+        self.y = _spin(-1e6, 1e6, 3, u.origin[1], " m")
+        self.scale = _spin(1e-6, 1e3, 6, u.scale, " m/px")
+        self.rotation = _spin(-360.0, 360.0, 2, math.degrees(u.rotation), " °")
+        self.opacity = QSlider(Qt.Orientation.Horizontal)
+        self.opacity.setRange(0, 100)
+        self.opacity.setValue(round(u.opacity * 100))
+        self.opacity_label = QLabel()
+        self.opacity.valueChanged.connect(lambda v: self.opacity_label.setText(f"{v} %"))
+        self.opacity_label.setText(f"{self.opacity.value()} %")
+        orow = QWidget()
+        olay = QHBoxLayout(orow)
+        olay.setContentsMargins(0, 0, 0, 0)
+        olay.addWidget(self.opacity, 1)
+        olay.addWidget(self.opacity_label)
+        self.locked = QCheckBox("Locked (calibration and edits leave it in place)")
+        self.locked.setChecked(u.locked)
+        form = QFormLayout()
+        form.addRow("Image", row)
+        form.addRow("Lower-left corner x", self.x)
+        form.addRow("Lower-left corner y", self.y)
+        form.addRow("Scale", self.scale)
+        form.addRow("Rotation", self.rotation)
+        form.addRow("Opacity", orow)
+        form.addRow("", self.locked)
+        hint = QLabel(
+            "The image path is saved relative to the scene file. To set the scale from the "
+            "image itself, use Tools > Calibrate Underlay by Two Points."
+        )
+        hint.setWordWrap(True)
+        buttons = QDialogButtonBox(
+            QDialogButtonBox.StandardButton.Ok | QDialogButtonBox.StandardButton.Cancel
+        )
+        remove = buttons.addButton("Remove Underlay", QDialogButtonBox.ButtonRole.DestructiveRole)
+        remove.setEnabled(underlay is not None)
+        remove.clicked.connect(self._remove)
+        buttons.accepted.connect(self.accept)
+        buttons.rejected.connect(self.reject)
+        outer = QVBoxLayout(self)
+        outer.addLayout(form)
+        outer.addWidget(hint)
+        outer.addWidget(buttons)
+        self.resize(560, 360)
+
+    def _browse(self) -> None:
+        path, _ = QFileDialog.getOpenFileName(
+            self, "Underlay image", self.image.text(), IMAGE_FILTER
+        )
+        if path:
+            self.image.setText(path)
+
+    def _remove(self) -> None:
+        self.removed = True
+        self.accept()
+
+    def result_underlay(self) -> Underlay | None:
+        if self.removed or not self.image.text().strip():
+            return None
+        text = self.image.text().strip()
+        image = (
+            relative_image(text, self.scene_path)
+            if self.scene_path
+            else Path(text).resolve().as_posix()
+        )
+        return Underlay(
+            image=image,
+            origin=(self.x.value(), self.y.value()),
+            scale=self.scale.value(),
+            rotation=math.radians(self.rotation.value()),
+            opacity=self.opacity.value() / 100,
+            locked=self.locked.isChecked(),
+        )
+
+
+__all__ = ["UnderlayDialog"]

@@ -1,0 +1,176 @@
+"""The main window's real-robot commands: Import Map, Import Robot Run, the underlay.
+
+A mixin of :class:`~arena_studio.app.main_window.MainWindow`. File questions and the modal
+runs go through small methods (``ask_open_file``, ``ask_save_file``, ``run_dialog``,
+``ask_underlay_distance``) that tests replace.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any
+
+from PySide6.QtCore import Qt
+from PySide6.QtWidgets import QApplication, QDialog, QFileDialog, QInputDialog
+
+from ..core.errors import ArenaError
+from ..core.scene import Scene
+from .underlay_view import UnderlayView
+
+MAP_FILTER = "Map descriptions (*.yaml *.yml);;All files (*)"
+BAG_FILTER = "ROS 2 bags (metadata.yaml *.mcap *.db3);;All files (*)"
+
+
+class RobotCommands:
+    document: Any
+    editor: Any
+    canvas: Any
+    dialogs: Any
+    recovery: Any
+    theme: Any
+    underlay_view: UnderlayView
+
+    def _init_robot(self) -> None:
+        self.underlay_view = UnderlayView(self.canvas, self.document, self.show_message)
+        self.editor.tools["tool.calibrate_underlay"].ask = self.ask_underlay_distance
+
+    def robot_handlers(self) -> dict[str, Any]:
+        return {
+            "file.import_map": self.import_map,
+            "file.import_run": self.import_run,
+            "view.underlay": self.edit_underlay,
+        }
+
+    # -- questions (tests replace these) -------------------------------------------------
+    def ask_open_file(self, title: str, filter_text: str) -> str | None:
+        path, _ = QFileDialog.getOpenFileName(self, title, str(self._folder()), filter_text)  # type: ignore[arg-type]
+        return path or None
+
+    def ask_save_file(self, title: str, suggestion: str, filter_text: str) -> str | None:
+        path, _ = QFileDialog.getSaveFileName(self, title, suggestion, filter_text)  # type: ignore[arg-type]
+        return path or None
+
+    def run_dialog(self, dialog: QDialog) -> bool:
+        return dialog.exec() == QDialog.DialogCode.Accepted
+
+    def ask_underlay_distance(self, measured: float) -> float | None:
+        value, ok = QInputDialog.getDouble(
+            self,  # type: ignore[arg-type]
+            "Calibrate underlay",
+            f"The two points are {measured:.3f} m apart as drawn.\nTheir true distance (m):",
+            measured,
+            1e-6,
+            1e6,
+            3,
+        )
+        return value if ok else None
+
+    def _folder(self) -> Path:
+        path = self.document.path
+        return path.parent if path is not None else Path.cwd()
+
+    # -- File > Import Map -----------------------------------------------------------------
+    def import_map(self, path: str | Path | None = None) -> bool:
+        from ..core.robot.map_yaml import read_map
+        from .map_import_dialog import MapImportDialog
+
+        chosen = path or self.ask_open_file("Import map", MAP_FILTER)
+        if not chosen:
+            return False
+        try:
+            omap = read_map(chosen)
+        except ArenaError as exc:
+            self.dialogs.error("Cannot import map", f"{exc}\n\nNothing was changed.")
+            return False
+        dialog = MapImportDialog(omap, Path(chosen), self.theme, self)  # type: ignore[arg-type]
+        self.last_map_dialog = dialog
+        if not self.run_dialog(dialog):
+            return False
+        return self.adopt_scene(dialog.scene(), f"Imported {Path(chosen).name}")
+
+    def adopt_scene(self, scene: Scene, message: str) -> bool:
+        """A new unsaved document (after asking about unsaved changes)."""
+        if not self.maybe_keep_changes():
+            return False
+        self.recovery.discard()
+        self.document.reset(scene, None, dirty=True)
+        self.editor.set_selection(())
+        self.set_mode("layout")
+        self.canvas.fit_scene()
+        self.show_message(f"{message}: place landmarks and start poses, then save.")
+        return True
+
+    # -- View > Underlay -------------------------------------------------------------------
+    def edit_underlay(self) -> bool:
+        from .underlay_dialog import UnderlayDialog
+
+        scene = self.document.scene
+        dialog = UnderlayDialog(scene.underlay, self.document.path, self)  # type: ignore[arg-type]
+        self.last_underlay_dialog = dialog
+        if not self.run_dialog(dialog):
+            return False
+        new = dialog.result_underlay()
+        if new == scene.underlay:
+            return False
+        text = "Remove underlay" if new is None else "Set underlay"
+        self.document.apply(scene.with_changes(underlay=new), text)
+        return True
+
+    # -- File > Import Robot Run -----------------------------------------------------------
+    def import_run(self, path: str | Path | None = None) -> bool:
+        from ..core.robot.bag_read import bag_topics, find_bags, list_sources
+        from .run_import_dialog import RunImportDialog
+
+        chosen = path or self.ask_open_file("Import robot run", BAG_FILTER)
+        if not chosen:
+            return False
+        p = Path(chosen)
+        if p.name == "metadata.yaml" or (
+            p.suffix in (".mcap", ".db3") and (p.parent / "metadata.yaml").is_file()
+        ):
+            p = p.parent
+        scene = self.document.scene
+        if not scene.agents:
+            self.dialogs.error("Cannot import run", "The scene has no agents to give poses to.")
+            return False
+        try:
+            bags = find_bags(p)
+            sources = list_sources(bags)
+            topics = [t for t, _ in bag_topics(bags)]
+        except (ArenaError, ImportError) as exc:
+            self.dialogs.error("Cannot read the run", f"{exc}\n\nNothing was changed.")
+            return False
+        dialog = RunImportDialog(scene, bags, sources, topics, self)  # type: ignore[arg-type]
+        self.last_run_dialog = dialog
+        if not self.run_dialog(dialog):
+            return False
+        out = self.ask_save_file(
+            "Save the run as a tape", str(p.with_suffix(".tape")), "Tapes (*.tape)"
+        )
+        if not out:
+            return False
+        return self._write_run(bags, scene, Path(out), dialog)
+
+    def _write_run(self, bags: list[Path], scene: Scene, out: Path, dialog: Any) -> bool:
+        from ..core.robot.bags import import_bags
+
+        QApplication.setOverrideCursor(Qt.CursorShape.WaitCursor)
+        try:
+            report = import_bags(bags, scene, out, dialog.options())
+        except ArenaError as exc:
+            self.dialogs.error("Import failed", f"{exc}\n\nNo tape was written.")
+            return False
+        finally:
+            QApplication.restoreOverrideCursor()
+        skipped = [u for u in report.topics.values() if u.skipped]
+        lines = [f"{len(report.episodes)} episode(s) from {report.bags} bag(s) into {out.name}."]
+        lines += [f"{u.topic}: {u.skipped} of {u.messages} skipped ({u.note})" for u in skipped]
+        lines += list(dict.fromkeys(report.warnings))[:8]
+        self.last_run_report = report
+        self.show_message(lines[0])
+        if len(lines) > 1:
+            self.dialogs.info("Robot run imported", "\n".join(lines))
+        return bool(self.open_tape(out))
+
+
+__all__ = ["RobotCommands"]
