@@ -18,7 +18,6 @@ from PySide6.QtGui import QImage, QPainter, QPaintEvent, QPen, QPolygonF
 from PySide6.QtWidgets import (
     QDialog,
     QDialogButtonBox,
-    QFormLayout,
     QHBoxLayout,
     QLabel,
     QSlider,
@@ -120,12 +119,14 @@ class MapImportDialog(QDialog):
         caution = QLabel(CAUTION)
         caution.setWordWrap(True)
         caution.setObjectName("caution")
-        form = QFormLayout()
-        form.addRow("Simplify outlines", self._row(self.tolerance, self.tolerance_label))
-        form.addRow("Drop specks below", self._row(self.speck, self.speck_label))
         side = QVBoxLayout()
         side.addWidget(about)
-        side.addLayout(form)
+        side.addSpacing(8)
+        side.addWidget(self._row("Simplify outlines by", self.tolerance_label))
+        side.addWidget(self.tolerance)
+        side.addWidget(self._row("Drop specks smaller than", self.speck_label))
+        side.addWidget(self.speck)
+        side.addSpacing(8)
         side.addWidget(self.counts)
         side.addStretch(1)
         side.addWidget(caution)
@@ -158,13 +159,13 @@ class MapImportDialog(QDialog):
         self.resize(1000, 640)
 
     @staticmethod
-    def _row(slider: QSlider, label: QLabel) -> QWidget:
+    def _row(title: str, value: QLabel) -> QWidget:
+        """A caption with the slider's current value at its right."""
         box = QWidget()
         lay = QHBoxLayout(box)
         lay.setContentsMargins(0, 0, 0, 0)
-        lay.addWidget(slider, 1)
-        label.setMinimumWidth(90)
-        lay.addWidget(label)
+        lay.addWidget(QLabel(title), 1)
+        lay.addWidget(value)
         return box
 
     def tolerance_m(self) -> float:

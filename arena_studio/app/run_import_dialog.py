@@ -81,6 +81,12 @@ class RunImportDialog(QDialog):
             self.combos.append(combo)
         self.table.horizontalHeader().setStretchLastSection(True)
         self.table.setColumnWidth(0, 160)
+        rows = min(len(scene.agents), 8)
+        self.table.setFixedHeight(
+            self.table.horizontalHeader().sizeHint().height()
+            + rows * self.table.verticalHeader().defaultSectionSize()
+            + 6
+        )
         self.dt = _spin(0.001, 10.0, 0.1, " s")
         self.split = QComboBox()
         for title, key in SPLIT_CHOICES:
@@ -121,12 +127,13 @@ class RunImportDialog(QDialog):
         buttons.rejected.connect(self.reject)
         outer = QVBoxLayout(self)
         outer.addWidget(heading)
-        outer.addWidget(self.table, 1)
+        outer.addWidget(self.table)
         outer.addLayout(form)
         outer.addWidget(caution)
         outer.addWidget(self.problem)
+        outer.addStretch(1)
         outer.addWidget(buttons)
-        self.resize(720, 620)
+        self.resize(720, self.sizeHint().height())
 
     def options(self) -> BagImportOptions:
         """The choices as import options; raises RobotImportError for a bad transform."""

@@ -121,10 +121,21 @@ class UnderlayView(QObject):
     def refresh(self) -> None:
         under = self.document.scene.underlay
         image = self._image_for(self.path()) if under is not None else None
-        self.item.show(under, image)
+        self.item.show(under, self._themed(image))
         self.canvas.layer.theme = see_through(self.theme) if image is not None else self.theme
         self.canvas.layer.update()
         self.canvas.viewport().update()
+
+    def _themed(self, image: QImage | Any | None) -> QImage | Any | None:
+        """A grey map on the dark theme is drawn inverted: dark floor, light walls, as the
+        theme draws them (colour plans and SVGs are left as they are)."""
+        if not (isinstance(image, QImage) and image.isGrayscale()):
+            return image
+        if not self.theme.name.startswith("dark"):
+            return image
+        inverted = image.convertToFormat(QImage.Format.Format_Grayscale8)
+        inverted.invertPixels()
+        return inverted
 
     def set_theme(self, theme: Theme) -> None:
         self.theme = theme

@@ -14,7 +14,7 @@ from arena_studio.core.scene import Underlay, load_scene, save_scene
 
 from ..core.robot.bag_helpers import BagBuilder, circle, line, sample_times
 from ..core.robot.bag_helpers import scene as yard
-from ..core.robot.map_helpers import RES, write_map
+from ..core.robot.map_helpers import RES, draw_stairs_map, write_map
 from .conftest import view_point
 
 SHOTS = Path("/tmp/h8-shots")  # where a developer looks at the screens (not asserted)
@@ -30,11 +30,11 @@ def _accepting(win, answers: dict | None = None):
 
 def test_import_map_previews_and_adopts_the_scene(make_window, tmp_path: Path, qtbot) -> None:
     win = make_window()
-    path = write_map(tmp_path, origin=(-1.0, 0.5, 0.0))
+    path = write_map(tmp_path, origin=(-1.0, 0.5, 0.0), img=draw_stairs_map())
     _accepting(win)
     assert win.import_map(path)
     dialog = win.last_map_dialog
-    assert "1 room(s), 1 obstacle(s)" in dialog.counts.text()
+    assert "1 room(s), 2 obstacle(s)" in dialog.counts.text()
     before = dialog.traced.vertex_count
     dialog.tolerance.setValue(0)  # no simplification: more vertices
     dialog.retrace()
@@ -84,8 +84,9 @@ def test_calibration_by_two_clicks(make_window, tmp_path: Path, qtbot) -> None:
     win.editor.set_tool("tool.calibrate_underlay")
     win.editor.tools["tool.calibrate_underlay"].ask = lambda measured: measured * 2
     for x, y in ((1.0, 1.0), (4.0, 1.0)):
-        qtbot.mouseClick(win.canvas.viewport(), Qt.MouseButton.LeftButton,
-                         pos=view_point(win, x, y))
+        qtbot.mouseClick(
+            win.canvas.viewport(), Qt.MouseButton.LeftButton, pos=view_point(win, x, y)
+        )
     got = win.document.scene.underlay
     assert got.scale == pytest.approx(0.2, rel=0.02)
     win.document.undo_stack.undo()
@@ -130,7 +131,8 @@ def test_screens_for_a_look(make_window, tmp_path: Path, theme: str, size) -> No
     _accepting(win)
     win.import_map(path)
     tag = f"{theme}-{size[0]}"
-    shots = {"map-dialog": win.last_map_dialog, "window-underlay": win}
+    _look(win, f"window-underlay-{tag}")
+    shots = {"map-dialog": win.last_map_dialog}
     bag = BagBuilder()
     t = sample_times(0, 2, 1)
     bag.odometry("/robot1/odom", t, circle(t))
@@ -143,11 +145,13 @@ def test_screens_for_a_look(make_window, tmp_path: Path, theme: str, size) -> No
     win.edit_underlay()
     shots["underlay-dialog"] = win.last_underlay_dialog
     for name, widget in shots.items():
-        if widget is not win:
-            widget.show()
-        out = SHOTS / f"{name}-{tag}.png"
-        assert widget.grab().save(str(out))
-        pixels = np.asarray(Image.open(out).convert("L"))
-        assert pixels.std() > 5  # not a blank grab
-        if widget is not win:
-            widget.close()
+        widget.show()
+        _look(widget, f"{name}-{tag}")
+        widget.close()
+
+
+def _look(widget, name: str) -> None:
+    out = SHOTS / f"{name}.png"
+    assert widget.grab().save(str(out))
+    pixels = np.asarray(Image.open(out).convert("L"))
+    assert pixels.std() > 5  # not a blank grab

@@ -1,7 +1,8 @@
 """Trace an occupancy map's free space into rooms and obstacles of a scene.
 
-Free cells are outlined by contourpy's filled contours (marching squares on cell centres, so
-an outline runs along cell edges and cuts each corner by half a cell). Each connected free
+Free cells are outlined by contourpy's filled contours (marching squares on cell centres: an
+outline runs along cell edges but cuts each corner by half a cell; the corner point is put
+back, so outlines follow the cells' edges exactly). Each connected free
 area becomes a room; what lies inside it and is not free (walls, furniture, unknown cells)
 becomes an obstacle. Outlines are simplified with shapely (Douglas-Peucker, topology kept)
 to a tolerance in metres, by default one cell; free areas and enclosed blobs smaller than a
@@ -61,11 +62,50 @@ def free_polygons(cells: np.ndarray, resolution: float) -> list[Polygon]:
     )
     filled: Any = gen.filled(0.5, 1.5)  # OuterOffset: (points list, offsets list)
     points, offsets = filled
-    out = []
+    out: list[Polygon] = []
     for pts, offs in zip(points, offsets, strict=True):
-        rings = [pts[offs[i] : offs[i + 1]] for i in range(len(offs) - 1)]
-        out.append(Polygon(rings[0], rings[1:]))
+        rings = [
+            square_corners(pts[offs[i] : offs[i + 1]], resolution) for i in range(len(offs) - 1)
+        ]
+        poly = Polygon(rings[0], rings[1:])
+        if not poly.is_valid:  # two areas meeting at one cell corner: split them there
+            fixed = poly.buffer(0)
+            out.extend(getattr(fixed, "geoms", [fixed]))
+        else:
+            out.append(poly)
     return out
+
+
+def square_corners(ring: np.ndarray, resolution: float) -> np.ndarray:
+    """Put back the cell corner marching squares cuts off at each turn.
+
+    A cut runs between the midpoints of two edges of one square of cell centres; in units
+    of cells, the point on a horizontal edge has a whole x, the one on a vertical edge a
+    whole y, and the cells' common corner is (that x, that y).
+    """
+    u = ring / resolution
+    p, q = u[:-1], u[1:]
+    diagonal = (np.abs(q[:, 0] - p[:, 0]) > 1e-6) & (np.abs(q[:, 1] - p[:, 1]) > 1e-6)
+    p_whole_x = np.abs(p[:, 0] - np.round(p[:, 0])) < 1e-6
+    corner = np.where(
+        p_whole_x[:, None], np.column_stack([p[:, 0], q[:, 1]]), np.column_stack([q[:, 0], p[:, 1]])
+    )
+    out = [u[0]]
+    for i in range(len(p)):
+        if diagonal[i]:
+            out.append(corner[i])
+        out.append(q[i])
+    return _corners_only(np.round(np.array(out) * 2)) / 2 * resolution
+
+
+def _corners_only(ring: np.ndarray) -> np.ndarray:
+    """Drop repeated and straight-through points of a closed ring in whole half-cells, so
+    every vertex is a corner (simplification keeps a ring's first point: it must be one)."""
+    r = ring[:-1]
+    r = r[np.any(r != np.roll(r, 1, axis=0), axis=1)]
+    a, b = r - np.roll(r, 1, axis=0), np.roll(r, -1, axis=0) - r
+    r = r[a[:, 0] * b[:, 1] - a[:, 1] * b[:, 0] != 0]
+    return np.vstack([r, r[:1]])
 
 
 def trace_map(

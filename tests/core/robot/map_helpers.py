@@ -28,6 +28,14 @@ def draw_map() -> np.ndarray:
     return img
 
 
+def draw_stairs_map() -> np.ndarray:
+    """The map plus a triangular blob whose long side is a staircase of 16 cells."""
+    img = draw_map()
+    for i in range(16):
+        img[70 + i, 60 : 61 + i] = WALL_V
+    return img
+
+
 def _contains(poly: Polygon, gx: np.ndarray, gy: np.ndarray) -> np.ndarray:
     import shapely
 

@@ -15,7 +15,7 @@ from arena_studio.core.robot.map_trace import map_scene, trace_map
 from arena_studio.core.robot.map_yaml import read_map
 from arena_studio.core.scene import load_scene
 
-from .map_helpers import RES, TRUE_PILLAR, TRUE_ROOM, draw_map, write_map
+from .map_helpers import RES, TRUE_PILLAR, TRUE_ROOM, draw_map, draw_stairs_map, write_map
 
 
 def _within_one_cell_row(got: Polygon, true: Polygon) -> None:
@@ -63,8 +63,10 @@ def test_specks_are_dropped_and_tolerance_simplifies(tmp_path: Path) -> None:
     assert len(traced.rooms) == 1 and len(traced.obstacles) == 1 and traced.dropped == 2
     kept = trace_map(read_map(write_map(tmp_path, img=img, name="b")), min_area=0.0)
     assert len(kept.rooms) == 2 and len(kept.obstacles) == 2
-    fine = trace_map(read_map(write_map(tmp_path, name="c")), tolerance=0.0)
-    assert fine.vertex_count > traced.vertex_count
+    stairs = draw_stairs_map()
+    fine = trace_map(read_map(write_map(tmp_path, img=stairs, name="c")), tolerance=0.0)
+    coarse = trace_map(read_map(write_map(tmp_path, img=stairs, name="d")))
+    assert fine.vertex_count >= coarse.vertex_count + 25  # 32 stair corners become a line
 
 
 def test_scene_and_command(tmp_path: Path, capsys) -> None:
@@ -91,3 +93,15 @@ def test_empty_map_is_a_problem_not_a_crash(tmp_path: Path, capsys) -> None:
     path = write_map(tmp_path, img=np.full((20, 20), 205, dtype=np.uint8))
     assert main(["import", "map", str(path), "-o", str(tmp_path / "x.scene.json")]) == 1
     assert "no free space" in capsys.readouterr().err
+
+
+def test_unsimplified_outlines_follow_cell_edges_exactly(tmp_path: Path) -> None:
+    img = draw_map()
+    img[30:34, 40:43] = 0  # a second, odd-sized blob
+    img[70, 100] = 0  # a one-cell blob, kept with min_area 0
+    omap = read_map(write_map(tmp_path, img=img))
+    traced = trace_map(omap, tolerance=0.0, min_area=0.0)
+    free = traced.rooms[0].area - sum(o.area for o in traced.obstacles)
+    # numpy count of free cells x cell area; shapely areas of the traced outlines
+    assert free == pytest.approx(np.count_nonzero(omap.cells == 0) * RES * RES, abs=1e-9)
+    assert sorted(round(o.area / RES**2) for o in traced.obstacles) == [1, 12, 144]
