@@ -122,7 +122,7 @@ def list_sources(paths: Iterable[Path], tf_scan: int = 5000) -> list[Source]:
                 for n, (conn, _, raw) in enumerate(stream):
                     if n >= tf_scan:
                         break
-                    msg = typestore.deserialize_cdr(raw, conn.msgtype)
+                    msg: Any = typestore.deserialize_cdr(raw, conn.msgtype)
                     for tr in msg.transforms:
                         child = frame_name(tr.child_frame_id)
                         frames[child] = frames.get(child, 0) + 1
