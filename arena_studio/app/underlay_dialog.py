@@ -26,7 +26,10 @@ from PySide6.QtWidgets import (
 from ..core.robot.underlay import image_path, relative_image
 from ..core.scene import Underlay
 
-IMAGE_FILTER = "Images (*.png *.jpg *.jpeg *.pgm *.ppm *.bmp *.svg);;All files (*)"
+IMAGE_FILTER = (
+    "Images or map descriptions (*.png *.jpg *.jpeg *.pgm *.ppm *.bmp *.svg *.yaml *.yml);;"
+    "All files (*)"
+)
 
 
 def _spin(lo: float, hi: float, decimals: int, value: float, suffix: str) -> QDoubleSpinBox:
@@ -36,6 +39,12 @@ def _spin(lo: float, hi: float, decimals: int, value: float, suffix: str) -> QDo
     box.setValue(value)
     box.setSuffix(suffix)
     return box
+
+
+def _kept(box: QDoubleSpinBox, original: float) -> float:
+    """The box's value, or the original when the box only shows it rounded (OK alone must
+    not turn into an edit)."""
+    return original if box.value() == round(original, box.decimals()) else box.value()
 
 
 class UnderlayDialog(QDialog):
@@ -49,6 +58,7 @@ class UnderlayDialog(QDialog):
         self.scene_path = scene_path
         self.removed = False
         u = underlay or Underlay(image="")
+        self.original = u
         shown = str(image_path(u, scene_path)) if underlay is not None else ""
         self.image = QLineEdit(shown)
         browse = QPushButton("Browse…")
@@ -61,7 +71,7 @@ class UnderlayDialog(QDialog):
         self.x = _spin(-1e6, 1e6, 3, u.origin[0], " m")
         self.y = _spin(-1e6, 1e6, 3, u.origin[1], " m")
         self.scale = _spin(1e-6, 1e3, 6, u.scale, " m/px")
-        self.rotation = _spin(-360.0, 360.0, 2, math.degrees(u.rotation), " °")
+        self.rotation = _spin(-360.0, 360.0, 4, math.degrees(u.rotation), " °")
         self.opacity = QSlider(Qt.Orientation.Horizontal)
         self.opacity.setRange(0, 100)
         self.opacity.setValue(round(u.opacity * 100))
@@ -84,10 +94,13 @@ class UnderlayDialog(QDialog):
         form.addRow("Opacity", orow)
         form.addRow("", self.locked)
         hint = QLabel(
-            "The image path is saved relative to the scene file. To set the scale from the "
-            "image itself, use Tools > Calibrate Underlay by Two Points."
+            "Choose an image, or a map's YAML to place its image as the map says. The path is "
+            "saved relative to the scene file. To set the scale from the image itself, use "
+            "Tools > Calibrate Underlay by Two Points."
         )
         hint.setWordWrap(True)
+        self.note = QLabel()
+        self.note.setWordWrap(True)
         buttons = QDialogButtonBox(
             QDialogButtonBox.StandardButton.Ok | QDialogButtonBox.StandardButton.Cancel
         )
@@ -99,6 +112,7 @@ class UnderlayDialog(QDialog):
         outer = QVBoxLayout(self)
         outer.addLayout(form)
         outer.addWidget(hint)
+        outer.addWidget(self.note)
         outer.addWidget(buttons)
         self.resize(560, 360)
 
@@ -107,7 +121,27 @@ class UnderlayDialog(QDialog):
             self, "Underlay image", self.image.text(), IMAGE_FILTER
         )
         if path:
+            self.choose(path)
+
+    def choose(self, path: str) -> None:
+        """An image, or a map YAML: then its image, placed as the YAML says."""
+        if not path.lower().endswith((".yaml", ".yml")):
             self.image.setText(path)
+            return
+        from ..core.errors import ArenaError
+        from ..core.robot.map_yaml import read_map_yaml
+
+        try:
+            info = read_map_yaml(path)
+        except ArenaError as exc:
+            self.note.setText(f"⚠ {exc}")
+            return
+        self.image.setText(str(info.image))
+        self.x.setValue(info.origin[0])
+        self.y.setValue(info.origin[1])
+        self.scale.setValue(info.resolution)
+        self.rotation.setValue(math.degrees(info.origin[2]))
+        self.note.setText(f"Placed as {Path(path).name} says.")
 
     def _remove(self) -> None:
         self.removed = True
@@ -122,12 +156,17 @@ class UnderlayDialog(QDialog):
             if self.scene_path
             else Path(text).resolve().as_posix()
         )
+        u = self.original
         return Underlay(
             image=image,
-            origin=(self.x.value(), self.y.value()),
-            scale=self.scale.value(),
-            rotation=math.radians(self.rotation.value()),
-            opacity=self.opacity.value() / 100,
+            origin=(_kept(self.x, u.origin[0]), _kept(self.y, u.origin[1])),
+            scale=_kept(self.scale, u.scale),
+            rotation=u.rotation
+            if self.rotation.value() == round(math.degrees(u.rotation), self.rotation.decimals())
+            else math.radians(self.rotation.value()),
+            opacity=u.opacity
+            if self.opacity.value() == round(u.opacity * 100)
+            else self.opacity.value() / 100,
             locked=self.locked.isChecked(),
         )
 

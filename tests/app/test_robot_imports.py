@@ -155,3 +155,33 @@ def _look(widget, name: str) -> None:
     assert widget.grab().save(str(out))
     pixels = np.asarray(Image.open(out).convert("L"))
     assert pixels.std() > 5  # not a blank grab
+
+
+def test_underlay_dialog_places_a_map_from_its_yaml(make_window, tmp_path: Path) -> None:
+    path = write_map(tmp_path, origin=(3.0, -2.0, 0.5))
+    win = make_window()
+    win.document.reset(yard(), tmp_path / "yard.scene.json")
+    captured = {}
+
+    def run(dialog) -> bool:
+        dialog.choose(str(path))
+        dialog.opacity.setValue(30)
+        captured["dialog"] = dialog
+        return True
+
+    win.run_dialog = run
+    assert win.edit_underlay()
+    u = win.document.scene.underlay
+    assert u.image == "floor.pgm" and u.origin == (3.0, -2.0) and u.scale == RES
+    assert u.rotation == pytest.approx(0.5, abs=1e-5) and u.opacity == pytest.approx(0.3)
+    assert win.underlay_view.item.isVisible()
+    win.run_dialog = lambda d: (d._remove(), True)[1]
+    assert win.edit_underlay() and win.document.scene.underlay is None
+
+
+def test_ok_without_changes_is_no_edit(make_window, tmp_path: Path) -> None:
+    win = make_window()
+    under = Underlay("plan.png", (-10.0125, 3.00004), 0.0512345678, 0.123456789, 0.333, True)
+    win.document.reset(yard().with_changes(underlay=under), tmp_path / "yard.scene.json")
+    win.run_dialog = lambda dialog: True
+    assert not win.edit_underlay() and not win.document.undo_stack.canUndo()
