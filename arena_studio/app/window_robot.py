@@ -11,7 +11,7 @@ from pathlib import Path
 from typing import Any
 
 from PySide6.QtCore import Qt
-from PySide6.QtWidgets import QApplication, QDialog, QFileDialog, QInputDialog
+from PySide6.QtWidgets import QApplication, QDialog, QFileDialog, QInputDialog, QProgressDialog
 
 from ..core.errors import ArenaError
 from ..core.scene import Scene
@@ -19,6 +19,11 @@ from .underlay_view import UnderlayView
 
 MAP_FILTER = "Map descriptions (*.yaml *.yml);;All files (*)"
 BAG_FILTER = "ROS 2 bags (metadata.yaml *.mcap *.db3);;All files (*)"
+
+
+class ImportCancelled(BaseException):
+    """Raised from the progress callback; a BaseException so no reader mistakes it for
+    damage in the bag and carries on."""
 
 
 class RobotCommands:
@@ -152,16 +157,36 @@ class RobotCommands:
         return self._write_run(bags, scene, Path(out), dialog)
 
     def _write_run(self, bags: list[Path], scene: Scene, out: Path, dialog: Any) -> bool:
+        from ..core.robot.bag_read import count_messages
         from ..core.robot.bags import import_bags
+
+        progress = QProgressDialog("Reading the bags…", "Cancel", 0, 0, self)  # type: ignore[call-overload]
+        progress.setWindowTitle("Import Robot Run")
+        progress.setWindowModality(Qt.WindowModality.WindowModal)
+        progress.setMinimumDuration(500)
+        progress.setMaximum(max(count_messages(bags), 1))
+        done = [0]
+
+        def advance(n: int) -> None:
+            done[0] += n
+            if done[0] % 200 == 0:
+                progress.setValue(min(done[0], progress.maximum()))
+                QApplication.processEvents()
+                if progress.wasCanceled():
+                    raise ImportCancelled
 
         QApplication.setOverrideCursor(Qt.CursorShape.WaitCursor)
         try:
-            report = import_bags(bags, scene, out, dialog.options())
+            report = import_bags(bags, scene, out, dialog.options(), advance=advance)
+        except ImportCancelled:
+            self.show_message("Import cancelled; no tape was written.")
+            return False
         except ArenaError as exc:
             self.dialogs.error("Import failed", f"{exc}\n\nNo tape was written.")
             return False
         finally:
             QApplication.restoreOverrideCursor()
+            progress.close()
         skipped = [u for u in report.topics.values() if u.skipped]
         lines = [f"{len(report.episodes)} episode(s) from {report.bags} bag(s) into {out.name}."]
         lines += [f"{u.topic}: {u.skipped} of {u.messages} skipped ({u.note})" for u in skipped]

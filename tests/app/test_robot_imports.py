@@ -185,3 +185,21 @@ def test_ok_without_changes_is_no_edit(make_window, tmp_path: Path) -> None:
     win.document.reset(yard().with_changes(underlay=under), tmp_path / "yard.scene.json")
     win.run_dialog = lambda dialog: True
     assert not win.edit_underlay() and not win.document.undo_stack.canUndo()
+
+
+def test_cancelled_run_import_writes_nothing(make_window, tmp_path: Path, monkeypatch) -> None:
+    from arena_studio.app import window_robot
+
+    b = BagBuilder()
+    t = sample_times(0, 30, 1)  # 600 messages a topic: the progress callback gets a say
+    b.odometry("/robot1/odom", t, circle(t))
+    b.pose_stamped("/robot2/pose", t, line(t))
+    bag = b.write(tmp_path / "long", "sqlite3")
+    win = make_window()
+    win.document.reset(yard(), None)
+    out = tmp_path / "long.tape"
+    _accepting(win, {"save": str(out)})
+    monkeypatch.setattr(window_robot.QProgressDialog, "wasCanceled", lambda self: True)
+    assert not win.import_run(bag)
+    assert not out.exists() and not list(tmp_path.glob("long.tape*"))
+    assert "cancelled" in win.message_label.text()
