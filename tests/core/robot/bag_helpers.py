@@ -70,9 +70,11 @@ class BagBuilder:
         self.ts = get_typestore(Stores.ROS2_HUMBLE)
         self.ts.register(get_types_from_msg("uint8[] data\nstring label", "acme_msgs/msg/Blob"))
         self.items: list[tuple[int, str, str, Callable[[], bytes]]] = []
+        self.header_offset = 0.0  # seconds added to header stamps (another clock)
 
     def _header(self, t: float, frame: str = "map"):
         T = self.ts.types
+        t = t + self.header_offset
         sec = math.floor(t)
         stamp = T["builtin_interfaces/msg/Time"](sec=T0 + sec, nanosec=round((t - sec) * 1e9))
         return T["std_msgs/msg/Header"](stamp=stamp, frame_id=frame)
@@ -87,9 +89,8 @@ class BagBuilder:
 
     def add(self, topic: str, msgtype: str, t: float, make: Callable[[], object]) -> None:
         ns = (T0 + 0) * 1_000_000_000 + round(t * 1e9) + 3_000_000  # received 3 ms later
-        self.items.append(
-            (ns, topic, msgtype, lambda: bytes(self.ts.serialize_cdr(make(), msgtype)))
-        )
+        data = bytes(self.ts.serialize_cdr(make(), msgtype))  # now: header_offset as set now
+        self.items.append((ns, topic, msgtype, lambda: data))
 
     def odometry(
         self, topic: str, times: Iterable[float], poses: np.ndarray, tilt: float = 0.0
@@ -113,6 +114,21 @@ class BagBuilder:
                 )
 
             self.add(topic, "nav_msgs/msg/Odometry", t, make)
+
+    def pose_cov(self, topic: str, times: Iterable[float], poses: np.ndarray) -> None:
+        T = self.ts.types
+        for t, p in zip(times, poses, strict=True):
+            self.add(
+                topic,
+                "geometry_msgs/msg/PoseWithCovarianceStamped",
+                t,
+                lambda t=t, p=p: T["geometry_msgs/msg/PoseWithCovarianceStamped"](
+                    header=self._header(t),
+                    pose=T["geometry_msgs/msg/PoseWithCovariance"](
+                        pose=self._pose(p), covariance=np.zeros(36)
+                    ),
+                ),
+            )
 
     def pose_stamped(self, topic: str, times: Iterable[float], poses: np.ndarray) -> None:
         T = self.ts.types
@@ -186,4 +202,6 @@ def sample_times(start: float, end: float, seed: int) -> np.ndarray:
     """About RATE Hz with jitter, as real topics arrive."""
     rng = np.random.default_rng(seed)
     t = np.arange(start, end, 1 / RATE)
-    return np.clip(t + rng.uniform(-0.01, 0.01, len(t)), start, end)
+    t = np.clip(t + rng.uniform(-0.01, 0.01, len(t)), start, end)
+    t[0] = start  # the run starts at a known time, so episode times are true times
+    return t
