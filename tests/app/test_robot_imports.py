@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import os
 from pathlib import Path
 
 import numpy as np
@@ -17,7 +18,8 @@ from ..core.robot.bag_helpers import scene as yard
 from ..core.robot.map_helpers import RES, draw_stairs_map, write_map
 from .conftest import view_point
 
-SHOTS = Path("/tmp/h8-shots")  # where a developer looks at the screens (not asserted)
+#: set ARENA_STUDIO_SHOTS to a folder to keep the grabs and look at them
+SHOTS_ENV = "ARENA_STUDIO_SHOTS"
 
 
 def _accepting(win, answers: dict | None = None):
@@ -124,14 +126,15 @@ def test_bad_map_is_one_error_and_nothing_changes(make_window, tmp_path: Path) -
 @pytest.mark.parametrize("size", [(1280, 800), (1920, 1080)])
 def test_screens_for_a_look(make_window, tmp_path: Path, theme: str, size) -> None:
     """Grabs of the dialogs and the canvas with its underlay, to look at (non-blank checked)."""
-    SHOTS.mkdir(exist_ok=True)
+    shots_dir = Path(os.environ.get(SHOTS_ENV) or tmp_path / "shots")
+    shots_dir.mkdir(exist_ok=True)
     win = make_window(theme)
     win.resize(*size)
     path = write_map(tmp_path)
     _accepting(win)
     win.import_map(path)
     tag = f"{theme}-{size[0]}"
-    _look(win, f"window-underlay-{tag}")
+    _look(win, shots_dir / f"window-underlay-{tag}.png")
     shots = {"map-dialog": win.last_map_dialog}
     bag = BagBuilder()
     t = sample_times(0, 2, 1)
@@ -146,12 +149,11 @@ def test_screens_for_a_look(make_window, tmp_path: Path, theme: str, size) -> No
     shots["underlay-dialog"] = win.last_underlay_dialog
     for name, widget in shots.items():
         widget.show()
-        _look(widget, f"{name}-{tag}")
+        _look(widget, shots_dir / f"{name}-{tag}.png")
         widget.close()
 
 
-def _look(widget, name: str) -> None:
-    out = SHOTS / f"{name}.png"
+def _look(widget, out: Path) -> None:
     assert widget.grab().save(str(out))
     pixels = np.asarray(Image.open(out).convert("L"))
     assert pixels.std() > 5  # not a blank grab
