@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import hashlib
 import json
 from pathlib import Path
 
@@ -75,7 +76,12 @@ def test_underlay_is_not_part_of_the_layout_hash() -> None:
     scene = load_scene(V1)
     moved = scene.with_changes(underlay=Underlay("a.png", (1.0, 1.0)))
     assert moved.content_hash() == scene.content_hash()
-    # demo tapes were written with version-1 scenes: their stored hashes still match
+    # the hash version 1 wrote (SHA-256 of the sorted, compact JSON of the version-1
+    # document, hashlib) is the hash now: tapes recorded before version 2 still match
+    doc = scene.to_dict()
+    doc["version"] = 1
+    text = json.dumps(doc, sort_keys=True, separators=(",", ":"))
+    assert scene.content_hash() == hashlib.sha256(text.encode("utf-8")).hexdigest()
     tape = open_tape(REPO / "scenes" / "greenhouse-shared.tape")
     assert tape.scene_hash_ok
 
