@@ -10,14 +10,24 @@ from __future__ import annotations
 import argparse
 import sys
 from collections.abc import Sequence
+from typing import NoReturn
 
-from . import __version__
-from .commands import COMMANDS, load_command
-from .commands.common import CommandError, error_line
+from arena_studio import __version__
+from arena_studio.commands import COMMANDS, load_command
+from arena_studio.commands.arg_types import number
+from arena_studio.commands.common import CommandError, error_line
+from arena_studio.core import limits
+
+
+class _OneLineParser(argparse.ArgumentParser):
+    """Usage errors as one line (the option and the problem) plus exit 2, no usage block."""
+
+    def error(self, message: str) -> NoReturn:
+        self.exit(2, f"{self.prog}: error: {message} (see '{self.prog} --help')\n")
 
 
 def _command_parser() -> argparse.ArgumentParser:
-    parser = argparse.ArgumentParser(
+    parser = _OneLineParser(
         prog="arena-studio",
         description=(
             "Workbench for cooperative multi-robot landmark tasks. Run with no command (or a "
@@ -40,8 +50,12 @@ def _command_parser() -> argparse.ArgumentParser:
 def add_app_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("path", nargs="?", help="a scene (.scene.json/.scene.msgpack) or tape")
     parser.add_argument("--screenshot", metavar="OUT.png", help="render the window and exit")
-    parser.add_argument("--episode", type=int, default=None, help="tape episode to show")
-    parser.add_argument("--time", type=float, default=None, help="replay time in seconds")
+    parser.add_argument(
+        "--episode", type=number(limits.EPISODE), default=None, help="tape episode to show"
+    )
+    parser.add_argument(
+        "--time", type=number(limits.TIME), default=None, help="replay time in seconds"
+    )
     parser.add_argument("--theme", choices=("light", "dark"), default=None)
 
 
@@ -57,7 +71,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     except SystemExit as exc:  # argparse already printed one line of usage error
         return int(exc.code or 0)
     if args.command == "app":
-        from .app.launch import launch_app
+        from arena_studio.app.launch import launch_app
 
         return launch_app(args)
     try:

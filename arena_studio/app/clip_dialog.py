@@ -31,9 +31,10 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from ..render.clip import SIZE_PRESETS, ClipCancelled, ClipError, ClipSpec, export_clip
-from ..render.episode_painter import FrameOptions
-from ..render.theme import load_theme
+from arena_studio.core import limits
+from arena_studio.render.clip import SIZE_PRESETS, ClipCancelled, ClipError, ClipSpec, export_clip
+from arena_studio.render.episode_painter import FrameOptions
+from arena_studio.render.theme import load_theme
 
 KINDS = (
     ("MP4 video (H.264)", ".mp4"),
@@ -83,9 +84,9 @@ class ClipDialog(QDialog):
         self.more = QLineEdit()
         self.more.setPlaceholderText("more episodes, e.g. 4, 9  (sequence) or one (compare)")
         self.more.setEnabled(False)
-        self.start = _seconds(0.0, 0.0)
-        self.end = _seconds(duration, duration)
-        self.moment = _seconds(time, max(duration, time))
+        self.start = _seconds(0.0)
+        self.end = _seconds(duration)
+        self.moment = _seconds(time)
 
         self.size_choice = QComboBox()
         for name, (w, h) in SIZE_PRESETS.items():
@@ -93,7 +94,7 @@ class ClipDialog(QDialog):
         self.size_choice.addItem("Custom", None)
         self.width_box, self.height_box = QSpinBox(), QSpinBox()
         for box, value in ((self.width_box, 1280), (self.height_box, 720)):
-            box.setRange(16, 7680)
+            box.setRange(int(limits.FRAME_SIDE.low), int(limits.FRAME_SIDE.high))
             box.setValue(value)
             box.setEnabled(False)
         self.size_choice.currentIndexChanged.connect(self._size_changed)
@@ -102,10 +103,10 @@ class ClipDialog(QDialog):
         custom.addWidget(QLabel("x"))
         custom.addWidget(self.height_box)
         self.fps = QDoubleSpinBox()
-        self.fps.setRange(1, 120)
+        self.fps.setRange(limits.FPS.low, limits.FPS.high)
         self.fps.setValue(30)
         self.speed = QDoubleSpinBox()
-        self.speed.setRange(0.1, 16)
+        self.speed.setRange(limits.SPEED.low, limits.SPEED.high)
         self.speed.setSingleStep(0.5)
         self.speed.setValue(1.0)
         self.speed.setSuffix(" x")
@@ -114,7 +115,7 @@ class ClipDialog(QDialog):
         self.theme.addItems(["light", "dark"])
         self.roles = QComboBox()
         self.roles.addItems(["auto", "derived", "tape", "none"])
-        self.trail = _seconds(4.0, 60.0)
+        self.trail = _seconds(4.0, limits.TRAIL)
         self.trail.setSpecialValueText("off")
         self.checks: dict[str, QCheckBox] = {}
         overlays = QHBoxLayout()
@@ -132,7 +133,7 @@ class ClipDialog(QDialog):
             overlays.addWidget(box)
         self.title = QLineEdit()
         self.title.setPlaceholderText("optional title line (and a title card in clips)")
-        self.title_seconds = _seconds(2.0, 10.0)
+        self.title_seconds = _seconds(2.0, limits.TITLE_SECONDS)
         self.caption = QLineEdit()
         self.caption.setPlaceholderText("optional caption line")
 
@@ -287,7 +288,7 @@ class ClipDialog(QDialog):
         options = self.frame_options()
         size = self.frame_size()
         if target.suffix.lower() in (".png", ".svg"):
-            from ..render.frame import save_png_still, save_svg_still
+            from arena_studio.render.frame import save_png_still, save_svg_still
 
             if not target.parent.is_dir():
                 raise ClipError(f"{target.parent}: folder does not exist")
@@ -346,9 +347,10 @@ class ClipDialog(QDialog):
         self.status.setStyleSheet(f"color: {color};" if error else "")
 
 
-def _seconds(value: float, maximum: float) -> QDoubleSpinBox:
+def _seconds(value: float, limit: limits.Range = limits.TIME) -> QDoubleSpinBox:
+    """A seconds box with the range the command line accepts for the same value."""
     box = QDoubleSpinBox()
-    box.setRange(0.0, max(maximum, 0.0) + 1e6)
+    box.setRange(limit.low, limit.high)
     box.setDecimals(2)
     box.setSuffix(" s")
     box.setValue(value)

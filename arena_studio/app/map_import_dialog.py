@@ -25,11 +25,11 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from ..core.robot.map_trace import DEFAULT_SPECK_CELLS, TracedMap, map_scene, trace_map
-from ..core.robot.map_yaml import OccupancyMap
-from ..core.robot.underlay import map_underlay
-from ..core.scene import Scene
-from ..render.theme import Theme
+from arena_studio.core.robot.map_trace import DEFAULT_SPECK_CELLS, TracedMap, map_scene, trace_map
+from arena_studio.core.robot.map_yaml import OccupancyMap
+from arena_studio.core.robot.underlay import map_underlay
+from arena_studio.core.scene import Scene
+from arena_studio.render.theme import Theme
 
 CAUTION = (
     "Traced layouts and replays of real runs are analysis aids. Safety of robots near "

@@ -23,10 +23,10 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from ..core.robot.bag_read import Source
-from ..core.robot.bags import BagImportOptions
-from ..core.robot.pose_math import parse_transform
-from ..core.scene import Scene
+from arena_studio.core.robot.bag_read import Source
+from arena_studio.core.robot.bags import BagImportOptions
+from arena_studio.core.robot.pose_math import parse_transform
+from arena_studio.core.scene import Scene
 
 CAUTION = (
     "A replay of real runs is an analysis aid. Safety of robots near people is assessed on "
@@ -154,8 +154,8 @@ class RunImportDialog(QDialog):
         )
 
     def _accept(self) -> None:
-        from ..core.robot.bags import check_options
-        from ..core.robot.errors import RobotImportError
+        from arena_studio.core.robot.bags import check_options
+        from arena_studio.core.robot.errors import RobotImportError
 
         try:
             if any(c.currentData() is None for c in self.combos):

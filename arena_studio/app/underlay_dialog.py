@@ -23,8 +23,8 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from ..core.robot.underlay import image_path, relative_image
-from ..core.scene import Underlay
+from arena_studio.core.robot.underlay import image_path, relative_image
+from arena_studio.core.scene import Underlay
 
 IMAGE_FILTER = (
     "Images or map descriptions (*.png *.jpg *.jpeg *.pgm *.ppm *.bmp *.svg *.yaml *.yml);;"
@@ -128,8 +128,8 @@ class UnderlayDialog(QDialog):
         if not path.lower().endswith((".yaml", ".yml")):
             self.image.setText(path)
             return
-        from ..core.errors import ArenaError
-        from ..core.robot.map_yaml import read_map_yaml
+        from arena_studio.core.errors import ArenaError
+        from arena_studio.core.robot.map_yaml import read_map_yaml
 
         try:
             info = read_map_yaml(path)

@@ -16,9 +16,9 @@ from PySide6.QtCore import QObject, QRectF, QTimer
 from PySide6.QtGui import QImage, QImageReader, QPainter, QTransform
 from PySide6.QtWidgets import QGraphicsItem, QStyleOptionGraphicsItem, QWidget
 
-from ..core.robot.underlay import image_path
-from ..core.scene import Underlay
-from ..render.theme import Theme
+from arena_studio.core.robot.underlay import image_path
+from arena_studio.core.scene import Underlay
+from arena_studio.render.theme import Theme
 
 #: floor and obstacle fills while an underlay shows (alpha, as #RRGGBBAA)
 FLOOR_ALPHA, OBSTACLE_ALPHA = "55", "99"

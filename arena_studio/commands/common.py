@@ -5,8 +5,8 @@ from __future__ import annotations
 import sys
 from pathlib import Path
 
-from ..core.errors import ArenaError
-from ..core.scene import Scene, load_scene
+from arena_studio.core.errors import ArenaError
+from arena_studio.core.scene.model import Scene, load_scene
 
 EXIT_OK = 0
 EXIT_PROBLEMS = 1
@@ -30,13 +30,12 @@ def warning_line(message: str) -> None:
 
 
 def read_scene(path: str) -> Scene:
-    """Load a scene or raise CommandError with the file and field named."""
-    p = Path(path)
-    if not p.exists():
-        raise CommandError(f"{path}: no such file")
-    if p.is_dir():
-        raise CommandError(f"{path}: is a folder, expected a scene file")
+    """Load a scene or raise CommandError with the file and field named.
+
+    Folders, pipes, devices and files over the size bound are refused by name
+    (:mod:`arena_studio.core.safe_open`) before anything is read.
+    """
     try:
-        return load_scene(p)
+        return load_scene(Path(path))
     except ArenaError as exc:
         raise CommandError(str(exc)) from None

@@ -11,9 +11,11 @@ from __future__ import annotations
 
 import argparse
 
-from ..core.errors import ArenaError
-from ..core.export import CAUTION, DEFAULT_RESOLUTION, FORMATS, export_scene
-from .common import EXIT_OK, EXIT_UNREADABLE, error_line, read_scene
+from arena_studio.commands.arg_types import number
+from arena_studio.commands.common import EXIT_OK, EXIT_UNREADABLE, error_line, read_scene
+from arena_studio.core import limits as lim
+from arena_studio.core.errors import ArenaError
+from arena_studio.core.export import CAUTION, DEFAULT_RESOLUTION, FORMATS, export_scene
 
 HELP = "export a scene for a simulator or a document (json, msgpack, npz, wkt, svg, grid)"
 
@@ -37,14 +39,14 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     )
     parser.add_argument(
         "--resolution",
-        type=float,
+        type=number(lim.RESOLUTION),
         default=DEFAULT_RESOLUTION,
         metavar="R",
         help=f"grid cell size in metres (default {DEFAULT_RESOLUTION})",
     )
     parser.add_argument(
         "--clearance",
-        type=float,
+        type=number(lim.CLEARANCE),
         default=0.0,
         metavar="C",
         help="grid: a free cell's centre stays C metres from walls and obstacles, e.g. the "

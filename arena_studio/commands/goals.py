@@ -14,13 +14,19 @@ import json
 import sys
 from typing import TYPE_CHECKING, Any
 
-from ..core.export import CAUTION
-from ..core.scene import Scene
+from arena_studio.core.export import CAUTION
+from arena_studio.core.scene.model import Scene
 
 if TYPE_CHECKING:  # the planner pulls in scipy; load it only when the command runs
-    from ..core.goals import GoalTable
-    from ..core.partime import GoalPlan
-from .common import EXIT_OK, EXIT_PROBLEMS, EXIT_UNREADABLE, error_line, read_scene
+    from arena_studio.core.planning.goal_set import GoalTable
+    from arena_studio.core.planning.partime import GoalPlan
+from arena_studio.commands.common import (
+    EXIT_OK,
+    EXIT_PROBLEMS,
+    EXIT_UNREADABLE,
+    error_line,
+    read_scene,
+)
 
 HELP = "list a scene's goals with par times and assignments (exit 0 ok, 1 problems, 2 unreadable)"
 
@@ -35,8 +41,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 def run(args: argparse.Namespace) -> int:
     scene = read_scene(args.scene)  # a CommandError becomes one line in cli.main
     try:
-        from ..core.goals import enumerate_goals
-        from ..core.partime import plan_all
+        from arena_studio.core.planning.goal_set import enumerate_goals
+        from arena_studio.core.planning.partime import plan_all
 
         table = enumerate_goals(scene)
         plans = plan_all(scene, table)

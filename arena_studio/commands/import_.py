@@ -10,10 +10,19 @@ import argparse
 import os
 from pathlib import Path
 
-from ..core.errors import ArenaError
-from . import import_robot
-from .common import EXIT_OK, EXIT_UNREADABLE, CommandError, error_line, read_scene
-from .progress import progress_bar
+from arena_studio.commands import import_robot
+from arena_studio.commands.arg_types import number
+from arena_studio.commands.common import (
+    EXIT_OK,
+    EXIT_UNREADABLE,
+    CommandError,
+    error_line,
+    read_scene,
+)
+from arena_studio.commands.progress import progress_bar
+from arena_studio.core import limits as lim
+from arena_studio.core.errors import ArenaError
+from arena_studio.core.safe_open import check_input
 
 HELP = "convert a CSV table, an NPZ array file or ROS 2 bags into a tape, or a map into a scene"
 
@@ -23,7 +32,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("input", metavar="IN", help="the CSV, NPZ, bag or map YAML file")
     parser.add_argument("--scene", help="the scene the episodes were run in (not for map)")
     parser.add_argument("-o", "--output", required=True, metavar="OUT.tape", help="tape to write")
-    parser.add_argument("--dt", type=float, default=None, help="time step in seconds (0.1)")
+    parser.add_argument(
+        "--dt", type=number(lim.DT), default=None, help="time step in seconds (0.1)"
+    )
     parser.add_argument(
         "--columns",
         default=None,
@@ -40,14 +51,11 @@ def run(args: argparse.Namespace) -> int:
     if args.more or args.scene is None:
         error_line("extra input files" if args.more else "--scene: required for csv and npz")
         return EXIT_UNREADABLE
-    from ..core.importers import import_csv, import_npz, parse_columns
+    from arena_studio.core.tape.importers import import_csv, import_npz, parse_columns
 
     try:
-        if args.dt is not None and not args.dt > 0:
-            raise CommandError("--dt: expected a time step > 0")
         src = Path(args.input)
-        if not src.is_file():
-            raise CommandError(f"{args.input}: no such file")
+        check_input(src, args.kind)  # a folder, pipe or device is refused by name
         if not Path(args.output).parent.is_dir():
             raise CommandError(f"{args.output}: folder does not exist")
         scene = read_scene(args.scene)

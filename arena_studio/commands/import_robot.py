@@ -8,8 +8,10 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from ..core.errors import ArenaError
-from .common import EXIT_OK, EXIT_PROBLEMS, EXIT_UNREADABLE, CommandError, error_line, warning_line
+from arena_studio.commands.arg_types import number
+from arena_studio.core import limits as lim
+from arena_studio.core.errors import ArenaError
+from arena_studio.commands.common import EXIT_OK, EXIT_PROBLEMS, EXIT_UNREADABLE, CommandError, error_line, warning_line
 
 CAUTION = (
     "A replay of real runs is an analysis aid; safety of robots near people is assessed on "
@@ -27,10 +29,16 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     )
     group = parser.add_argument_group("map (a map-server YAML and its image)")
     group.add_argument(
-        "--tolerance", type=float, default=None, help="outline simplification in metres (1 cell)"
+        "--tolerance",
+        type=number(lim.TOLERANCE),
+        default=None,
+        help="outline simplification in metres (1 cell)",
     )
     group.add_argument(
-        "--min-area", type=float, default=None, help="drop specks below this many m² (9 cells)"
+        "--min-area",
+        type=number(lim.MIN_AREA),
+        default=None,
+        help="drop specks below this many m² (9 cells)",
     )
     group = parser.add_argument_group("bag (ROS 2 bags, MCAP or SQLite3)")
     group.add_argument(
@@ -60,7 +68,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         default="gap",
         help="episodes: at time gaps (default), at marker messages, or one per bag",
     )
-    group.add_argument("--gap", type=float, default=2.0, help="gap in seconds that splits (2)")
+    group.add_argument(
+        "--gap", type=number(lim.GAP), default=2.0, help="pause in seconds that splits (2)"
+    )
     group.add_argument("--marker", default=None, metavar="TOPIC", help="topic that starts episodes")
     group.add_argument(
         "--goal", default=None, metavar="IDS", help="team goal: landmark ids joined by '+'"
@@ -87,15 +97,13 @@ def run(args: argparse.Namespace) -> int:
 
 
 def _run_map(args: argparse.Namespace) -> int:
-    from ..core.robot.map_trace import map_scene, trace_map
-    from ..core.robot.map_yaml import read_map
-    from ..core.robot.underlay import map_underlay
-    from ..core.scene import save_scene
+    from arena_studio.core.robot.map_trace import map_scene, trace_map
+    from arena_studio.core.robot.map_yaml import read_map
+    from arena_studio.core.robot.underlay import map_underlay
+    from arena_studio.core.scene import save_scene
 
     if args.more:
         raise CommandError("import map takes one map YAML")
-    if not Path(args.input).is_file():
-        raise CommandError(f"{args.input}: no such file")
     out = Path(args.output)
     if not out.name.endswith((".json", ".msgpack", ".mpk")):
         raise CommandError(f"{args.output}: expected a .scene.json or .scene.msgpack name")
@@ -118,11 +126,11 @@ def _run_map(args: argparse.Namespace) -> int:
 
 
 def _run_bag(args: argparse.Namespace) -> int:
-    from ..core.robot.bag_read import count_messages, find_bags
-    from ..core.robot.bags import BagImportOptions, import_bags, parse_agent_args
-    from ..core.robot.pose_math import parse_transform
-    from .common import read_scene
-    from .progress import progress_bar
+    from arena_studio.core.robot.bag_read import count_messages, find_bags
+    from arena_studio.core.robot.bags import BagImportOptions, import_bags, parse_agent_args
+    from arena_studio.core.robot.pose_math import parse_transform
+    from arena_studio.commands.common import read_scene
+    from arena_studio.commands.progress import progress_bar
 
     if args.scene is None:
         raise CommandError("--scene: required for bag")

@@ -5,8 +5,16 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from ..core.errors import ArenaError
-from .common import EXIT_OK, EXIT_UNREADABLE, CommandError, error_line, warning_line
+from arena_studio.commands.arg_types import number
+from arena_studio.commands.common import (
+    EXIT_OK,
+    EXIT_UNREADABLE,
+    CommandError,
+    error_line,
+    warning_line,
+)
+from arena_studio.core import limits as lim
+from arena_studio.core.errors import ArenaError
 
 HELP = "render episodes of a tape to a clip (.mp4, .gif, PNG folder) or a still (.png, .svg)"
 
@@ -23,7 +31,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     what = parser.add_argument_group("what to show")
     what.add_argument(
         "--episode",
-        type=int,
+        type=number(lim.EPISODE),
         nargs="+",
         default=[0],
         metavar="N",
@@ -31,14 +39,16 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     )
     what.add_argument(
         "--compare",
-        type=int,
+        type=number(lim.EPISODE),
         nargs=2,
         metavar=("A", "B"),
         help="two episodes side by side on one timeline",
     )
-    what.add_argument("--start", type=float, default=0.0, help="start time in seconds")
-    what.add_argument("--end", type=float, default=None, help="end time in seconds")
-    what.add_argument("--time", type=float, default=0.0, help="time of a still (seconds)")
+    what.add_argument("--start", type=number(lim.TIME), default=0.0, help="start time in seconds")
+    what.add_argument("--end", type=number(lim.TIME), default=None, help="end time in seconds")
+    what.add_argument(
+        "--time", type=number(lim.TIME), default=0.0, help="time of a still (seconds)"
+    )
     look = parser.add_argument_group("look")
     look.add_argument(
         "--size",
@@ -48,7 +58,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     look.add_argument("--theme", choices=("light", "dark"), default="light")
     look.add_argument(
         "--trail",
-        type=float,
+        type=number(lim.TRAIL),
         default=4.0,
         metavar="SECONDS",
         help="trail length in seconds (0: no trails; default 4)",
@@ -69,16 +79,22 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     look.add_argument("--title", default=None, help="title line (and title card in clips)")
     look.add_argument(
         "--title-seconds",
-        type=float,
+        type=number(lim.TITLE_SECONDS),
         default=2.0,
         help="title card length before each episode (default 2; 0: none)",
     )
     look.add_argument("--caption", default=None, help="caption line at the bottom")
     clip = parser.add_argument_group("clip timing and stills")
-    clip.add_argument("--fps", type=float, default=30.0, help="frames per second (default 30)")
-    clip.add_argument("--speed", type=float, default=1.0, help="playback speed (default 1)")
-    clip.add_argument("--scale", type=float, default=1.0, help="PNG still: pixel scale")
-    clip.add_argument("--dpi", type=float, default=None, help="PNG still: DPI stored in file")
+    clip.add_argument(
+        "--fps", type=number(lim.FPS), default=30.0, help="frames per second (default 30)"
+    )
+    clip.add_argument(
+        "--speed", type=number(lim.SPEED), default=1.0, help="playback speed (default 1)"
+    )
+    clip.add_argument("--scale", type=number(lim.SCALE), default=1.0, help="PNG still: pixel scale")
+    clip.add_argument(
+        "--dpi", type=number(lim.DPI), default=None, help="PNG still: DPI stored in file"
+    )
     parser.add_argument("--quiet", action="store_true", help="no progress bar")
 
 
@@ -94,8 +110,8 @@ def run(args: argparse.Namespace) -> int:
 
 
 def _run(args: argparse.Namespace) -> int:
-    from ..render.clip import ClipError, ClipSpec, export_clip, parse_size
-    from ..render.episode_painter import FrameOptions
+    from arena_studio.render.clip import ClipError, ClipSpec, export_clip, parse_size
+    from arena_studio.render.episode_painter import FrameOptions
 
     out = Path(args.output)
     suffix = out.suffix.lower()
@@ -103,11 +119,8 @@ def _run(args: argparse.Namespace) -> int:
         size = parse_size(args.size)
     except ClipError as exc:
         raise CommandError(f"--size: {exc}") from None
-    for name in ("fps", "speed", "scale"):
-        if not getattr(args, name) > 0:
-            raise CommandError(f"--{name}: expected a number > 0")
-    if args.trail < 0:
-        raise CommandError("--trail: expected seconds >= 0")
+    if args.end is not None and not args.end > args.start:
+        raise CommandError(f"--end {args.end:g}: expected a time after --start {args.start:g}")
     if not out.parent.is_dir():
         raise CommandError(f"{out.parent}: folder does not exist")
     if args.compare and args.episode != [0]:
@@ -137,7 +150,7 @@ def _run(args: argparse.Namespace) -> int:
         title=args.title,
         caption=args.caption,
     )
-    from ..render.offscreen import ensure_gui_app
+    from arena_studio.render.offscreen import ensure_gui_app
 
     ensure_gui_app()
     if suffix in (".png", ".svg"):
@@ -152,10 +165,10 @@ def _run(args: argparse.Namespace) -> int:
         frame=options,
         title_seconds=args.title_seconds if args.title else 0.0,
     )
-    from .progress import progress_bar
+    from arena_studio.commands.progress import progress_bar
 
     try:
-        from ..render.clip import schedule
+        from arena_studio.render.clip import schedule
 
         total = len(schedule(episodes, spec))
         with progress_bar(total, "render", args.quiet) as bar:
@@ -170,13 +183,10 @@ def _run(args: argparse.Namespace) -> int:
 
 
 def _open(path: str):
-    from ..core.tape import open_tape
+    from arena_studio.core.tape import open_tape
 
-    p = Path(path)
-    if not p.is_file():
-        raise CommandError(f"{path}: no such file" if not p.exists() else f"{path}: not a file")
     try:
-        tape = open_tape(p)
+        tape = open_tape(Path(path))  # refuses folders, pipes and devices by name
     except ArenaError as exc:
         raise CommandError(str(exc)) from None
     if tape.truncated and tape.recovery_message:
@@ -185,7 +195,7 @@ def _open(path: str):
 
 
 def _still(args, out, scene, episode, options, size) -> int:
-    from ..render.frame import save_png_still, save_svg_still
+    from arena_studio.render.frame import save_png_still, save_svg_still
 
     step = episode.step_at(args.time)
     try:

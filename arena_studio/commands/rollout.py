@@ -5,9 +5,17 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from ..core.errors import ArenaError
-from .common import EXIT_OK, EXIT_UNREADABLE, CommandError, error_line, read_scene
-from .progress import progress_bar
+from arena_studio.commands.arg_types import number
+from arena_studio.commands.common import (
+    EXIT_OK,
+    EXIT_UNREADABLE,
+    CommandError,
+    error_line,
+    read_scene,
+)
+from arena_studio.commands.progress import progress_bar
+from arena_studio.core import limits as lim
+from arena_studio.core.errors import ArenaError
 
 HELP = "record scripted preview episodes of a scene into a tape"
 
@@ -15,8 +23,10 @@ HELP = "record scripted preview episodes of a scene into a tape"
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("scene", help="scene file (.scene.json or .scene.msgpack)")
     parser.add_argument("-o", "--output", required=True, metavar="OUT.tape", help="tape to write")
-    parser.add_argument("--episodes", type=int, default=20, help="episodes to run (default 20)")
-    parser.add_argument("--seed", type=int, default=0, help="random seed (default 0)")
+    parser.add_argument(
+        "--episodes", type=number(lim.EPISODES), default=20, help="episodes to run (default 20)"
+    )
+    parser.add_argument("--seed", type=number(lim.SEED), default=0, help="random seed (default 0)")
     parser.add_argument(
         "--goals",
         choices=("shared", "independent", "greedy"),
@@ -27,7 +37,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     )
     parser.add_argument(
         "--max-time",
-        type=float,
+        type=number(lim.MAX_TIME),
         default=None,
         help="seconds per episode (default: twice the scene's longest par time + 10 s, >= 20 s)",
     )
@@ -38,24 +48,19 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         help="draw each episode's time limit between LO and HI times its goal's par time "
         "(e.g. 0.6,1.5: some episodes run out of time)",
     )
-    parser.add_argument("--dt", type=float, default=0.1, help="time step in seconds")
+    parser.add_argument("--dt", type=number(lim.DT), default=0.1, help="time step in seconds")
     parser.add_argument("--quiet", action="store_true", help="no progress bar")
 
 
 def run(args: argparse.Namespace) -> int:
     try:
-        if args.episodes < 1:
-            raise CommandError("--episodes: expected a whole number >= 1")
-        if not args.dt > 0 or (
-            args.max_time is not None and (not args.max_time > 0 or args.dt > args.max_time)
-        ):
-            raise CommandError("--max-time and --dt must be > 0, with --dt <= --max-time")
+        _check_steps(args.max_time, args.dt)
         par_limit = _par_limit(args.par_limit)
         out = Path(args.output)
         if not out.parent.is_dir():
             raise CommandError(f"{args.output}: folder does not exist")
         scene = read_scene(args.scene)
-        from ..core.rollout import run_rollout
+        from arena_studio.core.sim.rollout import run_rollout
 
         with progress_bar(args.episodes, "rollout", args.quiet) as bar:
             run_rollout(
@@ -79,6 +84,20 @@ def run(args: argparse.Namespace) -> int:
         error_line(f"interrupted; {args.output} was not written")
         return 130
     return EXIT_OK
+
+
+def _check_steps(max_time: float | None, dt: float) -> None:
+    """Refuse an episode longer than the step limit before any work (with the estimate)."""
+    if max_time is None:
+        return
+    if dt > max_time:
+        raise CommandError(f"--dt {dt:g}: expected a time step <= --max-time {max_time:g}")
+    steps = max_time / dt
+    if steps > lim.MAX_ROLLOUT_STEPS:
+        raise CommandError(
+            f"--max-time {max_time:g} at --dt {dt:g} means up to {steps:,.0f} steps an episode, "
+            f"more than {lim.MAX_ROLLOUT_STEPS:,}; raise --dt or lower --max-time"
+        )
 
 
 def _par_limit(text: str | None) -> tuple[float, float] | None:

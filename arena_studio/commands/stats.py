@@ -9,9 +9,11 @@ import math
 import sys
 from typing import Any
 
-from ..core.errors import ArenaError
-from .common import EXIT_OK, EXIT_UNREADABLE, error_line, warning_line
-from .progress import progress_bar
+from arena_studio.commands.arg_types import number
+from arena_studio.commands.common import EXIT_OK, EXIT_UNREADABLE, error_line, warning_line
+from arena_studio.commands.progress import progress_bar
+from arena_studio.core import limits as lim
+from arena_studio.core.errors import ArenaError
 
 HELP = "summarise a tape: success by goal and kind, alignment, diagnoses, per-episode rows"
 
@@ -39,7 +41,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     fmt = parser.add_mutually_exclusive_group()
     fmt.add_argument("--json", action="store_true", help="print JSON {summary, episodes}")
     fmt.add_argument("--csv", action="store_true", help="print one CSV row per episode")
-    parser.add_argument("--episode", type=int, default=None, metavar="N", help="only episode N")
+    parser.add_argument(
+        "--episode", type=number(lim.EPISODE), default=None, metavar="N", help="only episode N"
+    )
     parser.add_argument("--quiet", action="store_true", help="no progress bar")
 
 
@@ -57,9 +61,9 @@ def _clean(value: Any) -> Any:
 
 
 def run(args: argparse.Namespace) -> int:
-    from ..core.metrics import batch_metrics
-    from ..core.metrics_batch import tape_metrics
-    from ..core.tape import open_tape
+    from arena_studio.core.analysis.metrics import summarize_metrics
+    from arena_studio.core.analysis.metrics_batch import tape_metrics
+    from arena_studio.core.tape import open_tape
 
     try:
         tape = open_tape(args.tape)
@@ -85,11 +89,11 @@ def run(args: argparse.Namespace) -> int:
     except KeyboardInterrupt:
         error_line("interrupted")
         return 130
-    summary = batch_metrics(tape.scene, metrics)
+    summary = summarize_metrics(tape.scene, metrics)
     summary["truncated"] = tape.truncated
     rows = [m.to_dict() for m in metrics]
     if args.episode is not None:
-        from ..core.events import episode_events
+        from arena_studio.core.analysis.events import episode_events
 
         ids = [a.id for a in tape.scene.agents]
         lms = [lm.id for lm in tape.scene.landmarks]

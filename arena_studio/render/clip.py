@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import contextlib
 import errno
+import math
 import os
 import queue
 import shutil
@@ -25,11 +26,12 @@ from typing import IO
 from PySide6.QtCore import QSize
 from PySide6.QtGui import QImage, QPainter
 
-from ..core.atomic import make_temp, publish
-from ..core.episode import Episode
-from ..core.scene import Scene
-from .episode_painter import FrameOptions
-from .frame import IMAGE_FORMAT, FrameRenderer, png_bytes
+from arena_studio.core.atomic import make_temp, publish
+from arena_studio.core.limits import FRAME_SIDE, MAX_CLIP_FRAMES, RangeError
+from arena_studio.core.scene import Scene
+from arena_studio.core.tape.episode import Episode
+from arena_studio.render.episode_painter import FrameOptions
+from arena_studio.render.frame import IMAGE_FORMAT, FrameRenderer, png_bytes
 
 SIZE_PRESETS: dict[str, tuple[int, int]] = {
     "720p": (1280, 720),
@@ -141,28 +143,56 @@ def schedule(episodes: Sequence[Episode], spec: ClipSpec) -> list[Shot]:
         raise ClipError("no episode to export")
     if spec.compare and len(episodes) != 2:
         raise ClipError(f"comparing needs exactly two episodes, got {len(episodes)}")
+    total = clip_frames(episodes, spec)
+    if total > MAX_CLIP_FRAMES:
+        raise ClipError(
+            f"the clip would have {total:,} frames, more than {MAX_CLIP_FRAMES:,}; shorten the "
+            "time range, raise the speed or lower the frame rate"
+        )
     shots: list[Shot] = []
+    for group, cards, n, start in _spans(episodes, spec):
+        eps = [episodes[i] for i in group]
+        shots += [Shot(tuple(0 for _ in eps), group[0], card=True)] * cards
+        for k in range(n):
+            t = start + k * spec.speed / spec.fps
+            shots.append(Shot(tuple(e.step_at(t) for e in eps), group[0]))
+    return shots
+
+
+def clip_frames(episodes: Sequence[Episode], spec: ClipSpec) -> int:
+    """Frames :func:`schedule` would make, counted without making them."""
+    return sum(cards + n for _group, cards, n, _start in _spans(episodes, spec))
+
+
+def _spans(
+    episodes: Sequence[Episode], spec: ClipSpec
+) -> list[tuple[tuple[int, ...], int, int, float]]:
+    """Per shown group: (episode indices, title-card frames, frames, start time)."""
     groups: list[tuple[int, ...]] = (
         [(0, 1)] if spec.compare else [(i,) for i in range(len(episodes))]
     )
+    out = []
     for group in groups:
         eps = [episodes[i] for i in group]
         longest = max(e.duration for e in eps)
         end = longest if spec.end is None else min(spec.end, longest)
         start = max(0.0, spec.start)
-        if end <= start:
+        if not end > start:
             raise ClipError(
                 f"time range {start:g}-{end:g} s is empty (episode {eps[0].index} lasts "
                 f"{longest:g} s)"
             )
+        cards = 0
         if spec.frame.title and spec.title_seconds > 0:
-            cards = round(spec.title_seconds * spec.fps)
-            shots += [Shot(tuple(0 for _ in eps), group[0], card=True)] * cards
-        n = max(1, round((end - start) / spec.speed * spec.fps))
-        for k in range(n):
-            t = start + k * spec.speed / spec.fps
-            shots.append(Shot(tuple(e.step_at(t) for e in eps), group[0]))
-    return shots
+            cards = _bounded_round(spec.title_seconds * spec.fps)
+        n = max(1, _bounded_round((end - start) / spec.speed * spec.fps))
+        out.append((group, cards, n, start))
+    return out
+
+
+def _bounded_round(x: float) -> int:
+    """round(x), with anything not finite or huge as one more than the frame limit."""
+    return round(x) if math.isfinite(x) and x <= MAX_CLIP_FRAMES else MAX_CLIP_FRAMES + 1
 
 
 class ClipPainter:
@@ -251,7 +281,7 @@ def export_clip(
     _check_folder(target)
     shots = schedule(episodes, spec)
     if spec.frame.ui_scale is None and spec.compare:
-        from .frame import ui_scale_for
+        from arena_studio.render.frame import ui_scale_for
 
         spec = replace(spec, frame=replace(spec.frame, ui_scale=ui_scale_for(size, spec.frame)))
     if kind == "png":
@@ -444,4 +474,9 @@ def parse_size(text: str) -> tuple[int, int]:
         raise ClipError(
             f"size {text!r}: use {', '.join(SIZE_PRESETS)} or WIDTHxHEIGHT like 1280x720"
         ) from None
+    for side in (w, h):
+        try:
+            FRAME_SIDE.check(side)
+        except RangeError as exc:
+            raise ClipError(f"size {text!r}: {exc}") from None
     return (w, h)

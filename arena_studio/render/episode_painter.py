@@ -20,6 +20,8 @@ from __future__ import annotations
 
 import bisect
 import math
+import time
+from collections.abc import Callable
 
 import numpy as np
 from PySide6.QtCore import QPoint, QPointF, Qt
@@ -32,23 +34,23 @@ from PySide6.QtGui import (
     QTransform,
 )
 
-from ..core.episode import Episode
-from ..core.scene import Scene
-from .agent_painter import paint_agents, prefill_sprites
-from .drawing import cached_pen, font, label
-from .episode_cache import EpisodeCache, episode_cache
-from .fastpath import (
+from arena_studio.core.scene.model import Scene
+from arena_studio.core.tape.episode import Episode
+from arena_studio.render.agent_painter import paint_agents, prefill_sprites
+from arena_studio.render.drawing import cached_pen, font, label
+from arena_studio.render.episode_cache import EpisodeCache, episode_cache
+from arena_studio.render.fastpath import (
     grouped_rows_paths,
     line_pieces,
     polylines_path,
     segments_path,
 )
-from .legend import paint_banner, paint_clock, paint_legend
-from .options import FrameOptions
-from .scene_painter import label_places
-from .theme import Theme
-from .trail_blocks import paint_wide_trails, prefill_blocks
-from .view import ViewTransform
+from arena_studio.render.legend import paint_banner, paint_clock, paint_legend
+from arena_studio.render.options import FrameOptions
+from arena_studio.render.scene_painter import label_places
+from arena_studio.render.theme import Theme
+from arena_studio.render.trail_blocks import paint_wide_trails, prefill_blocks
+from arena_studio.render.view import ViewTransform
 
 #: above this many trail points in a frame, trails are drawn as 1-pixel lines (speed)
 THIN_TRAIL_POINTS = 2400
@@ -376,12 +378,13 @@ def prefill_frame(
     options: FrameOptions | None = None,
     max_new: int = 24,
     bounds: tuple[int, int] | None = None,
+    clock: Callable[[], float] = time.perf_counter,
 ) -> bool:
     """Pre-draw up to ``max_new`` of the images raster frames of ``episode`` blit at this view
     (wide-trail blocks nearest to ``step`` first, see :mod:`.trail_blocks`, then body
-    sprites), in about 2 ms at most, so later frames find them. ``bounds``: the output's
-    (width, height) in pixels, to skip blocks off screen. A viewer calls this while idle;
-    True while more remain to draw."""
+    sprites), in about 2 ms by ``clock`` at most, so later frames find them. ``bounds``: the
+    output's (width, height) in pixels, to skip blocks off screen. A viewer calls this while
+    idle; True while more remain to draw."""
     opts = options or FrameOptions()
     cache = episode_cache(scene, episode)
     if cache.steps < 2:
@@ -392,7 +395,7 @@ def prefill_frame(
     _first, stride, thin = _trail_window(cache, cache.steps - 1, view, opts)
     if opts.trails and not thin:
         width = _wide_trail_width(view, ui)
-        if prefill_blocks(cache, step, stride, view, theme, width, max_new, bounds):
+        if prefill_blocks(cache, step, stride, view, theme, width, max_new, bounds, clock=clock):
             return True
     return prefill_sprites(cache, view, theme, opts, ui, max_new)
 

@@ -20,18 +20,18 @@ from __future__ import annotations
 import math
 import threading
 import time
-from collections.abc import Iterator
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass, field
 
 import numpy as np
 from PySide6.QtCore import QPoint, QRect, Qt
 from PySide6.QtGui import QImage, QPainter, QPainterPath, QPen
 
-from .drawing import cached_pen
-from .episode_cache import EpisodeCache
-from .fastpath import WIDE_PIECE_PX
-from .theme import Theme
-from .view import ViewTransform
+from arena_studio.render.drawing import cached_pen
+from arena_studio.render.episode_cache import EpisodeCache
+from arena_studio.render.fastpath import WIDE_PIECE_PX
+from arena_studio.render.theme import Theme
+from arena_studio.render.view import ViewTransform
 
 #: a block is about this many pixels of typical travel long
 BLOCK_PX = 48.0
@@ -354,11 +354,13 @@ def prefill_blocks(
     max_new: int,
     bounds: tuple[int, int] | None = None,
     seconds: float = 0.002,
+    clock: Callable[[], float] = time.perf_counter,
 ) -> bool:
-    """Draw up to ``max_new`` missing block images of the episode (for at most ``seconds``),
-    nearest to ``step`` first, so scrubbing finds them drawn. A viewer calls this while idle;
-    ``bounds`` (width, height in pixels) limits it to blocks on screen. True while it has more
-    to do; a later call with the same step and bounds carries on where this one stopped."""
+    """Draw up to ``max_new`` missing block images of the episode (for at most ``seconds``
+    by ``clock``), nearest to ``step`` first, so scrubbing finds them drawn. A viewer calls
+    this while idle; ``bounds`` (width, height in pixels) limits it to blocks on screen. True
+    while it has more to do; a later call with the same step and bounds carries on where this
+    one stopped. Tests pass a clock of their own, so the budget never depends on machine load."""
     segments, piece = block_layout(cache, view, stride)
     store, ix, iy, local = _store_at(cache, view, theme, width, stride, segments, True)
     assert store is not None
@@ -374,7 +376,7 @@ def prefill_blocks(
     if bounds is not None:  # the view's pixels, in the block images' (local) frame
         visible = (-ix, -iy, bounds[0] - ix, bounds[1] - iy)
     n_colors = len(theme.identity)
-    deadline = time.perf_counter() + seconds
+    deadline = clock() + seconds
     made = 0
     for a, j in order:
         key = (a, j * size)
@@ -391,7 +393,7 @@ def prefill_blocks(
             continue
         store.add(key, _block_image(pts, box, piece, theme, a % n_colors, width))
         made += 1
-        if made >= max_new or time.perf_counter() > deadline:
+        if made >= max_new or clock() > deadline:
             return True
     store.job = None
     return False

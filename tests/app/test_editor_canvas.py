@@ -8,7 +8,7 @@ from PySide6.QtCore import QPoint, QPointF, Qt
 from PySide6.QtGui import QWheelEvent
 
 from arena_studio.core.resources import DEFAULT_DEMO_SCENE, demo_path
-from arena_studio.core.scene import Agent, Landmark, Room, Scene, Start
+from arena_studio.core.scene.model import Agent, Landmark, Room, Scene, Start
 
 from .conftest import view_point
 

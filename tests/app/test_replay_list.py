@@ -62,7 +62,7 @@ def shown(panel) -> list[int]:
 
 
 def test_goal_kind_counts_targets():
-    # DESIGN.md terms: one target -> individual goal, two or more -> cooperative
+    # glossary terms (README): one target -> individual goal, two or more -> cooperative
     assert goal_kind(np.array([0, 1, 0])) == "individual"
     assert goal_kind(np.array([1, 1, 0])) == "cooperative"
     assert goal_kind(None) == ""

@@ -14,7 +14,7 @@ import pytest
 from PySide6.QtCore import QPoint, QPointF, Qt
 
 from arena_studio.app.replay.replay_window import ReplayWindow
-from arena_studio.core.metrics import episode_metrics
+from arena_studio.core.analysis.metrics import episode_metrics
 from arena_studio.core.tape import open_tape
 
 from .test_replay_support import write_test_tape
@@ -28,8 +28,8 @@ def written_tape(tmp_path) -> Path:
     return write_test_tape(tmp_path / "hall.tape")
 
 
-def open_window(qtbot, path: Path, theme: str = "light") -> ReplayWindow:
-    w = ReplayWindow(theme)
+def open_window(qtbot, path: Path, theme: str = "light", now=None) -> ReplayWindow:
+    w = ReplayWindow(theme, now=now)
     qtbot.addWidget(w)
     w.resize(1280, 800)
     w.show()
@@ -100,8 +100,19 @@ def test_agent_bodies_are_drawn_at_the_tape_poses(qtbot, written_tape):
     w.close()
 
 
+class FakeTime:
+    """Seconds that pass only when the test says so (playback never reads the wall clock)."""
+
+    def __init__(self) -> None:
+        self.now = 0.0
+
+    def __call__(self) -> float:
+        return self.now
+
+
 def test_transport_shortcuts(qtbot, written_tape):
-    w = open_window(qtbot, written_tape)
+    clock = FakeTime()
+    w = open_window(qtbot, written_tape, now=clock)
     c = w.clock
     w.canvas.setFocus()
     qtbot.keyClick(w.canvas, Qt.Key.Key_Right)
@@ -128,7 +139,10 @@ def test_transport_shortcuts(qtbot, written_tape):
     assert c.speed == 2.0
     qtbot.keyClick(w.canvas, Qt.Key.Key_Space)
     assert c.playing
-    qtbot.waitUntil(lambda: c.step > 5, timeout=5000)  # wall-clock playback moves on
+    start = c.step
+    clock.now += 0.35  # 0.35 s at 2x speed with 0.1 s steps: 7 steps on
+    c.tick()  # what the playback timer does at each tick
+    assert c.step == start + 7
     qtbot.keyClick(w.canvas, Qt.Key.Key_Space)
     assert not c.playing
     w.close()
@@ -184,7 +198,7 @@ def test_scene_file_beside_the_tape_is_compared_by_content_hash(qtbot, written_t
     # reference: core.scene.Scene.content_hash (SHA-256 of the canonical JSON)
     from dataclasses import replace
 
-    from arena_studio.core.scene import save_scene
+    from arena_studio.core.scene.model import save_scene
 
     w = open_window(qtbot, written_tape)
     said: list[str] = []

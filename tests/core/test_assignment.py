@@ -1,8 +1,8 @@
 """Assignment checked against scipy and brute force.
 
-Sources: the scipy.optimize.linear_sum_assignment documentation example (REFERENCES.md:
-[[4,1,3],[2,0,5],[3,2,2]] -> columns [1,0,2], total 5); brute force over
-itertools.permutations as the definition of min-max; the pinned REFERENCES.md case
+Sources: the scipy.optimize.linear_sum_assignment documentation example
+([[4,1,3],[2,0,5],[3,2,2]] -> columns [1,0,2], total 5); brute force over
+itertools.permutations as the definition of min-max; the case
 C = [[6,8,5],[4,1,9],[7,3,2]] where min-sum and bottleneck optima differ (Burkard,
 Dell'Amico & Martello [memory], values computed by brute force).
 """
@@ -18,7 +18,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy.optimize import linear_sum_assignment
 
-from arena_studio.core.assignment import bottleneck_assignment, min_sum_assignment
+from arena_studio.core.planning.assignment import bottleneck_assignment, min_sum_assignment
 
 
 def test_min_sum_scipy_doc_example() -> None:
@@ -32,7 +32,8 @@ def test_min_sum_scipy_doc_example() -> None:
 
 
 def test_pinned_case_where_optima_differ() -> None:
-    # REFERENCES.md: min-sum takes the diagonal (sum 9, max 6); bottleneck: 0->2, 1->0, 2->1
+    # Brute force (values computed): min-sum takes the diagonal (sum 9, max 6);
+    # bottleneck: 0->2, 1->0, 2->1
     # (max 5, sum 12) [computed by brute force]
     cost = np.array([[6, 8, 5], [4, 1, 9], [7, 3, 2]], dtype=float)
     ms = min_sum_assignment(cost)

@@ -1,8 +1,8 @@
 """Exports checked with the libraries that read them.
 
 Sources: shapely/GEOS (OGC Simple Features WKT, 06-103r4) reloads the WKT; xml.etree parses
-the SVG (SVG 2 has no DTD: check the root in the SVG namespace and its viewBox, REFERENCES.md
-"Formats"); numpy.load with allow_pickle=False reads the npz and npy; Pillow opens the PNG;
+the SVG (SVG 2 has no DTD: check the root in the SVG namespace and its viewBox; W3C SVG 2
+recommendation); numpy.load with allow_pickle=False reads the npz and npy; Pillow opens the PNG;
 the scene loader reads the json/msgpack exports back.
 """
 
@@ -21,9 +21,9 @@ from PIL import Image
 from arena_studio.core.export import CAUTION, ExportError, export_scene
 from arena_studio.core.export.npz import ARRAYS
 from arena_studio.core.export.wkt import labelled_geometries
-from arena_studio.core.geometry import open_area
-from arena_studio.core.goals import enumerate_goals
-from arena_studio.core.scene import Scene, load_scene
+from arena_studio.core.geometry.regions import open_area
+from arena_studio.core.planning.goal_set import enumerate_goals
+from arena_studio.core.scene.model import Scene, load_scene
 from tests.conftest import SCENES
 
 DEMOS = sorted(SCENES.glob("*.scene.json"))

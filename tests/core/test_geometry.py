@@ -1,5 +1,5 @@
 """Scene geometry against outside references (OGC Simple Features 06-103r4 as implemented by
-GEOS through shapely, and textbook formulas). Values from ../shared/REFERENCES.md unless noted."""
+GEOS through shapely, and textbook formulas). Values computed with shapely unless noted."""
 
 from __future__ import annotations
 
@@ -10,9 +10,9 @@ import pytest
 import shapely
 from shapely.geometry import Point, Polygon, box
 
-from arena_studio.core import geometry as geo
-from arena_studio.core.checks_layout import geos_reason
-from arena_studio.core.scene import Agent, Circle, Obstacle, Room, Scene, Start
+from arena_studio.core.checks.layout import geos_reason
+from arena_studio.core.geometry import regions as geo
+from arena_studio.core.scene.model import Agent, Circle, Obstacle, Room, Scene, Start
 
 L_SHAPE = ((0.0, 0.0), (4.0, 0.0), (4.0, 1.0), (1.0, 1.0), (1.0, 3.0), (0.0, 3.0))
 
@@ -41,7 +41,7 @@ def scene_of(rooms=(), obstacles=(), agents=()) -> Scene:
 
 
 def test_l_shape_area_and_centroid_shoelace_and_geos_agree() -> None:
-    # REFERENCES.md: L-shape area 6, centroid (1.5, 1) [computed]; shoelace formula by hand,
+    # Computed with shapely: L-shape area 6, centroid (1.5, 1) [computed]; shoelace formula by hand,
     # shapely/GEOS as the reference library.
     area, (cx, cy) = shoelace(L_SHAPE)
     assert area == pytest.approx(6.0)
@@ -52,7 +52,8 @@ def test_l_shape_area_and_centroid_shoelace_and_geos_agree() -> None:
 
 
 def test_square_with_hole_area_and_centroid() -> None:
-    # REFERENCES.md: 10x10 square minus a (2..4)^2 obstacle: area 96, centroid (61/12, 61/12).
+    # Computed with shapely: 10x10 square minus a (2..4)^2 obstacle: area 96,
+    # centroid (61/12, 61/12).
     hole = Obstacle("hole", outline=((2.0, 2.0), (4.0, 2.0), (4.0, 4.0), (2.0, 4.0)))
     s = scene_of([Room("sq", ((0.0, 0.0), (10.0, 0.0), (10.0, 10.0), (0.0, 10.0)))], [hole])
     open_area = geo.open_area(s)
@@ -66,7 +67,7 @@ def test_square_with_hole_area_and_centroid() -> None:
 
 
 def test_bowtie_invalid_with_self_intersection_location() -> None:
-    # REFERENCES.md / OGC 06-103r4 polygon rules as implemented by GEOS: the bowtie
+    # OGC 06-103r4 polygon rules as implemented by GEOS: the bowtie
     # POLYGON((0 0,1 1,1 0,0 1,0 0)) is invalid, self-intersection at (0.5, 0.5).
     bowtie = Polygon([(0, 0), (1, 1), (1, 0), (0, 1)])
     assert not bowtie.is_valid
@@ -80,14 +81,14 @@ def test_bowtie_invalid_with_self_intersection_location() -> None:
 
 
 def test_ring_orientation_is_not_a_validity_rule() -> None:
-    # REFERENCES.md: counter-clockwise exterior is a convention, not an OGC validity rule.
+    # OGC 06-103r4: counter-clockwise exterior is a convention, not an OGC validity rule.
     cw = ((0.0, 0.0), (0.0, 1.0), (1.0, 1.0), (1.0, 0.0))
     assert Polygon(cw).is_valid
     assert geo.walkable_area(scene_of([Room("cw", cw)])).area == pytest.approx(1.0)
 
 
 def test_point_projection_onto_wall_line() -> None:
-    # REFERENCES.md: (5, 2) projected onto the boundary of the square 0..4 lands at (4, 2),
+    # Computed with shapely: (5, 2) projected onto the boundary of the square 0..4 lands at (4, 2),
     # distance 1; the ring written from (0,0) counter-clockwise gives project() = 6.0,
     # shapely's box(0, 0, 4, 4) starts at (4, 0) and gives 2.0.
     square = ((0.0, 0.0), (4.0, 0.0), (4.0, 4.0), (0.0, 4.0))

@@ -1,6 +1,6 @@
 """Goal enumeration checked against math.comb and itertools.combinations.
 
-Sources: Python's math.comb and itertools.combinations (REFERENCES.md "Combinatorics":
+Sources: Python's math.comb and itertools.combinations (
 C(L, k) k-hot vectors; math.comb(8, 3) = 56; math.comb(3, 5) = 0); numpy's Generator for
 the sampler (the chi-square bound is common practice, no source).
 """
@@ -13,8 +13,8 @@ import math
 import numpy as np
 import pytest
 
-from arena_studio.core.goals import enumerate_goals
-from arena_studio.core.scene import GoalSpec, Landmark, Room, Scene
+from arena_studio.core.planning.goal_set import enumerate_goals
+from arena_studio.core.scene.model import GoalSpec, Landmark, Room, Scene
 
 
 def _scene(count: int, **goals: object) -> Scene:
@@ -43,7 +43,7 @@ def test_counts_match_math_comb(count: int) -> None:
 
 
 def test_three_hot_of_eight_is_56() -> None:
-    # REFERENCES.md: math.comb(8, 3) = 56
+    # Python docs, math.comb: math.comb(8, 3) = 56 (computed)
     assert len(enumerate_goals(_scene(8, families=(3,)))) == 56
 
 

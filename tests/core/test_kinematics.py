@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 from scipy.integrate import solve_ivp
 
-from arena_studio.core.kinematics import arc_pose, clip_controls, unicycle_step
+from arena_studio.core.sim.kinematics import arc_pose, clip_controls, unicycle_step
 
 
 def _integrate(pose: np.ndarray, v: float, w: float, dt: float, steps: int) -> np.ndarray:
@@ -19,7 +19,7 @@ def _integrate(pose: np.ndarray, v: float, w: float, dt: float, steps: int) -> n
 
 
 def test_quarter_turn_check_values() -> None:
-    # REFERENCES.md (Thrun, Burgard & Fox eq. 5.9 [memory], values [computed]):
+    # (Thrun, Burgard & Fox eq. 5.9 [memory], values [computed]):
     # v = 1, w = pi/2 from the origin facing +x: t = 1 -> (0.636620, 0.636620), t = 4 -> origin
     p1 = _integrate(np.zeros(3), 1.0, math.pi / 2, 0.1, 10)
     assert p1[0] == pytest.approx(0.636620, abs=1e-6)

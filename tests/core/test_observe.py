@@ -1,7 +1,7 @@
 """observe / coverage / goal_reached against outside references.
 
-Sources: IEEE 754 atan2 special values and the (-pi, pi] wrap cases listed in
-shared REFERENCES.md ("Angles and bearings"); body frame x forward, y left (ROS REP 103
+Sources: IEEE 754 atan2 special values and the (-pi, pi] wrap cases (computed with
+Python's math module); body frame x forward, y left (ROS REP 103
 [memory]); Python's math.atan2 (C library) as the reference for every bearing.
 """
 
@@ -14,8 +14,8 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from arena_studio.core.observe import coverage, goal_reached, hold_steps, observe, wrap_angle
-from arena_studio.core.scene import Agent, GoalSpec, Landmark, Room, Scene, Start
+from arena_studio.core.scene.model import Agent, GoalSpec, Landmark, Room, Scene, Start
+from arena_studio.core.sim.observe import coverage, goal_reached, hold_steps, observe, wrap_angle
 
 
 def _scene(landmarks: list[tuple[float, float]], reach: float = 0.5, agents: int = 2) -> Scene:
@@ -30,7 +30,8 @@ def _scene(landmarks: list[tuple[float, float]], reach: float = 0.5, agents: int
 
 
 def test_wrap_both_ends_of_interval() -> None:
-    # REFERENCES.md: ((a + pi) % 2pi) - pi maps pi to -pi; our wrap must keep pi and send -pi
+    # IEEE 754 / Python floats (computed): ((a + pi) % 2pi) - pi maps pi to -pi;
+    # our wrap must keep pi and send -pi
     # to pi, since the interval is (-pi, pi].
     assert wrap_angle(math.pi) == math.pi
     assert wrap_angle(-math.pi) == math.pi
@@ -60,9 +61,10 @@ def test_wrap_range_and_equivalence(a: float) -> None:
         ((-1.0, 1.0), 0.0, math.atan2(1.0, -1.0)),  # 3pi/4
         ((-1.0, -1.0), 0.0, math.atan2(-1.0, -1.0)),  # -3pi/4
         ((1.0, -1.0), 0.0, math.atan2(-1.0, 1.0)),  # -pi/4
-        # REFERENCES.md: heading pi/2, landmark at (1, 0) -> -pi/2 (on the agent's right)
+        # ROS REP 103 body frame (from memory), computed: heading pi/2, landmark at (1, 0)
+        # -> -pi/2 (on the agent's right)
         ((1.0, 0.0), math.pi / 2, -math.pi / 2),
-        # REFERENCES.md: heading pi/2, landmark at (0, -1) -> pi (edge of the interval)
+        # computed with math.atan2: heading pi/2, landmark at (0, -1) -> pi (edge of the interval)
         ((0.0, -1.0), math.pi / 2, math.pi),
         # IEEE 754: atan2(0, -1) = pi; directly behind an agent facing +x: pi, not -pi
         ((-1.0, 0.0), 0.0, math.pi),

@@ -1,7 +1,8 @@
 """Shortest paths: checked against networkx, shapely and hand-derived geometry.
 
-Sources named beside each check: shared REFERENCES.md (square-obstacle case, de Berg et al.
-ch. 15 [memory]), networkx's Dijkstra on an independently built full visibility graph,
+Sources named beside each check: the square-obstacle case (de Berg et al., Computational
+Geometry, ch. 15 [memory]; length computed), networkx's Dijkstra on an independently built
+full visibility graph,
 shapely/GEOS for every "inside free space" test, and a worked example derived below.
 """
 
@@ -17,9 +18,9 @@ from hypothesis import example, given, settings
 from hypothesis import strategies as st
 from shapely.geometry import LineString, Point
 
-from arena_studio.core.geometry import free_space
-from arena_studio.core.paths import PathPlanner
-from arena_studio.core.scene import Agent, Landmark, Obstacle, Room, Scene, Start, load_scene
+from arena_studio.core.geometry.paths import PathPlanner
+from arena_studio.core.geometry.regions import free_space
+from arena_studio.core.scene.model import Agent, Landmark, Obstacle, Room, Scene, Start, load_scene
 from tests.conftest import SCENES
 
 
@@ -32,7 +33,8 @@ def _box(x0: float, y0: float, x1: float, y1: float) -> tuple[tuple[float, float
 
 
 def test_square_obstacle_reference_length() -> None:
-    # REFERENCES.md: point robot (0,0) -> (10,0) around the square [4,6]x[-1,1]:
+    # de Berg et al. ch. 15 [memory], length computed: point robot (0,0) -> (10,0)
+    # around the square [4,6]x[-1,1]:
     # 2 + 2*sqrt(17) = 10.246211 [computed]; two routes tie, so only the length is pinned.
     scene = Scene(
         rooms=(Room("r", _box(-5, -5, 15, 5)),),
@@ -233,7 +235,7 @@ def test_random_pairs_against_networkx(x0: float, y0: float, x1: float, y1: floa
 
 
 def test_landmark_gap_square_obstacle() -> None:
-    # REFERENCES.md square case with reach discs of radius 0.5 at both ends: the legs from the
+    # The same square case with reach discs of radius 0.5 at both ends: the legs from the
     # discs to the corners point at the disc centres, so the gap between the discs is the
     # centre-to-centre length minus both radii: 2 + 2*sqrt(17) - 1 (derived from the pinned
     # value; common practice, no source)

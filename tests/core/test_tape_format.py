@@ -97,7 +97,8 @@ def test_round_trip_random_shapes(tmp_path: Path, episodes: list[dict], chunk: i
 
 
 def test_truncation_at_every_byte_offset(tmp_path: Path) -> None:
-    # Recovery contract (DESIGN.md): every complete chunk is recovered, nothing else raised
+    # Recovery contract (DEVELOPERS.md, tape format): every complete chunk is recovered,
+    # nothing else raised
     path = tmp_path / "full.tape"
     write_small_tape(path, SCENE, episodes=2, steps=5)
     data = path.read_bytes()
@@ -253,7 +254,7 @@ def test_hostile_record_length_refused_before_reading(tmp_path: Path) -> None:
 
 
 def test_msgpack_type_rules() -> None:
-    # msgpack spec (REFERENCES.md byte values [computed]): bin 8 = c4, bin 16 = c5, fixstr = a0+n
+    # msgpack specification (byte values computed): bin 8 = c4, bin 16 = c5, fixstr = a0+n
     assert pack(b"") == b"\xc4\x00"
     assert pack(bytes(256))[:3] == b"\xc5\x01\x00"
     assert pack("ab") == b"\xa2ab"

@@ -15,8 +15,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from PySide6.QtGui import QColor, QImage, QPainter
 
-from arena_studio.core.episode import Episode
-from arena_studio.core.scene import Agent, GoalSpec, Landmark, Room, Scene, Start
+from arena_studio.core.scene.model import Agent, GoalSpec, Landmark, Room, Scene, Start
+from arena_studio.core.tape.episode import Episode
 from arena_studio.render.agent_painter import SPRITE_PHASES, paint_agents
 from arena_studio.render.episode_cache import episode_cache
 from arena_studio.render.episode_painter import FrameOptions, paint_trails, prefill_frame
@@ -241,23 +241,57 @@ def test_zoomed_in_frames_keep_only_small_blocks_on_screen(qapp):
     assert ink.sum() > 500 and (diff > 3).sum() <= 0.05 * ink.sum()
 
 
-def test_prefill_stops_on_its_budget_and_carries_on(qapp):
-    from arena_studio.render.trail_blocks import prefill_blocks
+class StepClock:
+    """A clock only the test moves: ``step`` seconds pass at every reading (0: time stands)."""
 
+    def __init__(self, step: float = 0.0) -> None:
+        self.now, self.step = 0.0, step
+
+    def __call__(self) -> float:
+        now = self.now
+        self.now += self.step
+        return now
+
+
+def _prefill_setup():
     scene, ep = _hall_episode(agents=2, steps=400)
     theme = load_theme("light")
     view = ViewTransform.fit_scene(scene, (0, 0, W, H))
     cache = episode_cache(scene, ep)
     cache.trail_blocks.clear()
-    assert prefill_blocks(cache, 200, 2, view, theme, 1.6, max_new=5) is True
+    return cache, view, theme
+
+
+def test_prefill_stops_at_its_count_and_carries_on(qapp):
+    from arena_studio.render.trail_blocks import prefill_blocks
+
+    cache, view, theme = _prefill_setup()
+    still = StepClock(0.0)  # time stands: only max_new stops a call
+    assert prefill_blocks(cache, 200, 2, view, theme, 1.6, max_new=5, clock=still) is True
     (store,) = cache.trail_blocks.values()
     assert len(store.images) == 5
     calls = 1
-    while prefill_blocks(cache, 200, 2, view, theme, 1.6, max_new=5):
+    while prefill_blocks(cache, 200, 2, view, theme, 1.6, max_new=5, clock=still):
         calls += 1
     total = len(store.images) + len(store.skip)
     # every call but the last drew its 5: it carried on, it never started over
     assert calls == total // 5 and store.job is None
+
+
+def test_prefill_stops_on_its_time_budget(qapp):
+    from arena_studio.render.trail_blocks import prefill_blocks
+
+    cache, view, theme = _prefill_setup()
+    # 1 ms passes at each reading: the deadline is read at 0 ms, 2 ms after it; the checks
+    # after blocks 1, 2, 3 read 1, 2, 3 ms, and 3 ms > 2 ms stops the call after its third
+    clock = StepClock(0.001)
+    assert prefill_blocks(cache, 200, 2, view, theme, 1.6, 100, seconds=0.002, clock=clock)
+    (store,) = cache.trail_blocks.values()
+    assert len(store.images) == 3
+    ticking = StepClock(0.001)
+    while prefill_blocks(cache, 200, 2, view, theme, 1.6, 100, seconds=0.002, clock=ticking):
+        pass
+    assert store.job is None and len(store.images) > 3  # later calls carried on to the end
 
 
 def test_small_team_path_draws_the_same_bodies_as_the_general_one(qapp, monkeypatch):

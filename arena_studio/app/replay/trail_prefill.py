@@ -10,14 +10,17 @@ them ready. A zoom or a new episode starts over.
 
 from __future__ import annotations
 
+import time
+from collections.abc import Callable
+
 from PySide6.QtCore import QObject, QTimer
 from PySide6.QtWidgets import QWidget
 
-from ...core.episode import Episode
-from ...core.scene import Scene
-from ...render.episode_painter import FrameOptions, prefill_frame
-from ...render.theme import Theme
-from ...render.view import ViewTransform
+from arena_studio.core.scene.model import Scene
+from arena_studio.core.tape.episode import Episode
+from arena_studio.render.episode_painter import FrameOptions, prefill_frame
+from arena_studio.render.theme import Theme
+from arena_studio.render.view import ViewTransform
 
 #: blocks drawn per idle tick (~50 us each at 1280x720)
 BLOCKS_PER_TICK = 16
@@ -26,9 +29,11 @@ BLOCKS_PER_TICK = 16
 class TrailPrefill(QObject):
     """Idle-time block drawing for the episode layers of one viewport."""
 
-    def __init__(self, viewport: QWidget) -> None:
+    def __init__(self, viewport: QWidget, clock: Callable[[], float] = time.perf_counter) -> None:
         super().__init__(viewport)
         self._viewport = viewport
+        #: what times each tick's budget (tests set one that only they move)
+        self.clock = clock
         self._timer = QTimer(self)
         self._timer.setSingleShot(True)
         self._timer.setInterval(0)
@@ -67,7 +72,7 @@ class TrailPrefill(QObject):
             size = self._viewport.size()
             bounds = (size.width(), size.height())
             more = prefill_frame(
-                scene, episode, step, view, theme, options, BLOCKS_PER_TICK, bounds
+                scene, episode, step, view, theme, options, BLOCKS_PER_TICK, bounds, self.clock
             )
             if not more:
                 del self._pending[layer_id]

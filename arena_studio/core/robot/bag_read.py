@@ -59,11 +59,14 @@ class BagData:
 
 def find_bags(path: str | Path) -> list[Path]:
     """A bag folder, a ``.mcap``/``.db3`` file, or a folder of such bags (sorted by name)."""
+    from arena_studio.core.safe_open import check_input
+
     p = Path(path)
-    if p.is_file():
-        return [p]
-    if not p.is_dir():
+    if not p.exists():
         raise RobotImportError(f"{p}: no such bag")
+    if not p.is_dir():
+        check_input(p, "bag")  # a pipe or device is refused by name
+        return [p]
     if (p / "metadata.yaml").is_file():
         return [p]
     found = [

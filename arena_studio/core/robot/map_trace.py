@@ -22,7 +22,7 @@ from shapely import affinity
 from shapely.geometry import Polygon
 from shapely.geometry.polygon import orient
 
-from arena_studio.core.fields import MAX_VERTICES
+from arena_studio.core.scene.fields import MAX_VERTICES
 from arena_studio.core.robot.errors import RobotImportError
 from arena_studio.core.robot.map_yaml import FREE, OccupancyMap
 from arena_studio.core.scene import GoalSpec, Obstacle, Room, Scene

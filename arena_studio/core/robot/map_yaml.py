@@ -32,7 +32,6 @@ DEFAULT_OCCUPIED = 0.65
 DEFAULT_FREE = 0.196
 #: a map image larger than this many pixels is refused before it is decoded
 MAX_PIXELS = 200_000_000
-MAX_YAML_BYTES = 1 << 20
 
 
 @dataclass(frozen=True)
@@ -62,14 +61,12 @@ def read_map_yaml(path: str | Path) -> MapInfo:
     """Parse the YAML; errors name the file and the field."""
     import yaml
 
+    from arena_studio.core.safe_open import read_input
+
     src = str(path)
     p = Path(path)
     try:
-        if p.stat().st_size > MAX_YAML_BYTES:
-            raise RobotImportError(f"{src}: too large for a map description")
-        text = p.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise RobotImportError(f"{src}: cannot read: {exc.strerror or exc}") from None
+        text = read_input(p, "map").decode("utf-8")  # a regular file within its bound
     except UnicodeDecodeError as exc:
         raise RobotImportError(f"{src}: not UTF-8 text (byte {exc.start})") from None
     try:
@@ -135,9 +132,11 @@ def read_image(path: Path) -> tuple[np.ndarray, np.ndarray | None]:
     """Grey values (mean of the colour channels) and the alpha channel, if any."""
     from PIL import Image
 
+    from arena_studio.core.safe_open import InputFileError, open_input
+
     src = str(path)
     try:
-        with Image.open(path) as img:
+        with open_input(path, "map image") as f, Image.open(f) as img:
             w, h = img.size
             if w * h > MAX_PIXELS:
                 raise RobotImportError(f"{src}: {w}x{h} pixels, more than a map import takes")
@@ -145,8 +144,10 @@ def read_image(path: Path) -> tuple[np.ndarray, np.ndarray | None]:
             return _channels(img)
     except RobotImportError:
         raise
-    except FileNotFoundError:
-        raise RobotImportError(f"{src}: map image not found") from None
+    except InputFileError as exc:
+        if not path.exists():
+            raise RobotImportError(f"{src}: map image not found") from None
+        raise RobotImportError(str(exc)) from None
     except (OSError, ValueError, Image.DecompressionBombError) as exc:
         raise RobotImportError(f"{src}: not a readable image ({exc})") from None
 

@@ -18,10 +18,11 @@ from typing import Any, cast
 
 import numpy as np
 
-from ..episode import Episode, RoleTimeline
-from ..errors import ArenaError
-from ..scene import Scene
-from .format import (
+from arena_studio.core.errors import ArenaError
+from arena_studio.core.safe_open import InputFileError, open_input
+from arena_studio.core.scene import Scene
+from arena_studio.core.tape.episode import Episode, RoleTimeline
+from arena_studio.core.tape.format import (
     BOOL_DTYPES,
     FLOAT_DTYPES,
     FORMAT_NAME,
@@ -112,10 +113,12 @@ class Tape:
         self._src = str(path)
         self._goal_cache: dict[bytes, np.ndarray] = {}
         try:
-            self.file_size = os.path.getsize(path)
-            with open(path, "rb") as f:
+            with open_input(path, "tape") as f:  # regular files only, size bounded
+                self.file_size = os.fstat(f.fileno()).st_size
                 self._read_header(f)
                 entries = self._read_index(f)
+        except InputFileError:
+            raise
         except OSError as exc:
             raise TapeError(self._src, "", f"cannot read: {exc.strerror or exc}") from None
         self.truncated = entries is None
