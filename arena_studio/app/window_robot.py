@@ -13,9 +13,9 @@ from typing import Any
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QApplication, QDialog, QFileDialog, QInputDialog, QProgressDialog
 
+from arena_studio.app.underlay_view import UnderlayView
 from arena_studio.core.errors import ArenaError
 from arena_studio.core.scene import Scene
-from arena_studio.app.underlay_view import UnderlayView
 
 MAP_FILTER = "Map descriptions (*.yaml *.yml);;All files (*)"
 BAG_FILTER = "ROS 2 bags (metadata.yaml *.mcap *.db3);;All files (*)"
@@ -76,8 +76,8 @@ class RobotCommands:
 
     # -- File > Import Map -----------------------------------------------------------------
     def import_map(self, path: str | Path | None = None) -> bool:
-        from arena_studio.core.robot.map_yaml import read_map
         from arena_studio.app.map_import_dialog import MapImportDialog
+        from arena_studio.core.robot.map_yaml import read_map
 
         chosen = path or self.ask_open_file("Import map", MAP_FILTER)
         if not chosen:
@@ -123,8 +123,8 @@ class RobotCommands:
 
     # -- File > Import Robot Run -----------------------------------------------------------
     def import_run(self, path: str | Path | None = None) -> bool:
-        from arena_studio.core.robot.bag_read import bag_topics, find_bags, list_sources
         from arena_studio.app.run_import_dialog import RunImportDialog
+        from arena_studio.core.robot.bag_read import bag_topics, find_bags, list_sources
 
         chosen = path or self.ask_open_file("Import robot run", BAG_FILTER)
         if not chosen:

@@ -9,9 +9,16 @@ import argparse
 from pathlib import Path
 
 from arena_studio.commands.arg_types import number
+from arena_studio.commands.common import (
+    EXIT_OK,
+    EXIT_PROBLEMS,
+    EXIT_UNREADABLE,
+    CommandError,
+    error_line,
+    warning_line,
+)
 from arena_studio.core import limits as lim
 from arena_studio.core.errors import ArenaError
-from arena_studio.commands.common import EXIT_OK, EXIT_PROBLEMS, EXIT_UNREADABLE, CommandError, error_line, warning_line
 
 CAUTION = (
     "A replay of real runs is an analysis aid; safety of robots near people is assessed on "
@@ -126,11 +133,11 @@ def _run_map(args: argparse.Namespace) -> int:
 
 
 def _run_bag(args: argparse.Namespace) -> int:
+    from arena_studio.commands.common import read_scene
+    from arena_studio.commands.progress import progress_bar
     from arena_studio.core.robot.bag_read import count_messages, find_bags
     from arena_studio.core.robot.bags import BagImportOptions, import_bags, parse_agent_args
     from arena_studio.core.robot.pose_math import parse_transform
-    from arena_studio.commands.common import read_scene
-    from arena_studio.commands.progress import progress_bar
 
     if args.scene is None:
         raise CommandError("--scene: required for bag")

@@ -22,10 +22,10 @@ from shapely import affinity
 from shapely.geometry import Polygon
 from shapely.geometry.polygon import orient
 
-from arena_studio.core.scene.fields import MAX_VERTICES
 from arena_studio.core.robot.errors import RobotImportError
 from arena_studio.core.robot.map_yaml import FREE, OccupancyMap
 from arena_studio.core.scene import GoalSpec, Obstacle, Room, Scene
+from arena_studio.core.scene.fields import MAX_VERTICES
 
 #: default speck size in cells (a 3 x 3 blob)
 DEFAULT_SPECK_CELLS = 9
