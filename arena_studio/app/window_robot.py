@@ -48,11 +48,11 @@ class RobotCommands:
 
     # -- questions (tests replace these) -------------------------------------------------
     def ask_open_file(self, title: str, filter_text: str) -> str | None:
-        path, _ = QFileDialog.getOpenFileName(self, title, str(self._folder()), filter_text)  # type: ignore[arg-type]
+        path, _ = QFileDialog.getOpenFileName(self, title, str(self._folder()), filter_text)
         return path or None
 
     def ask_save_file(self, title: str, suggestion: str, filter_text: str) -> str | None:
-        path, _ = QFileDialog.getSaveFileName(self, title, suggestion, filter_text)  # type: ignore[arg-type]
+        path, _ = QFileDialog.getSaveFileName(self, title, suggestion, filter_text)
         return path or None
 
     def run_dialog(self, dialog: QDialog) -> bool:
@@ -60,7 +60,7 @@ class RobotCommands:
 
     def ask_underlay_distance(self, measured: float) -> float | None:
         value, ok = QInputDialog.getDouble(
-            self,  # type: ignore[arg-type]
+            self,
             "Calibrate underlay",
             f"The two points are {measured:.3f} m apart as drawn.\nTheir true distance (m):",
             measured,
@@ -87,7 +87,7 @@ class RobotCommands:
         except ArenaError as exc:
             self.dialogs.error("Cannot import map", f"{exc}\n\nNothing was changed.")
             return False
-        dialog = MapImportDialog(omap, Path(chosen), self.theme, self)  # type: ignore[arg-type]
+        dialog = MapImportDialog(omap, Path(chosen), self.theme, self)
         self.last_map_dialog = dialog
         if not self.run_dialog(dialog):
             return False
@@ -110,7 +110,7 @@ class RobotCommands:
         from arena_studio.app.underlay_dialog import UnderlayDialog
 
         scene = self.document.scene
-        dialog = UnderlayDialog(scene.underlay, self.document.path, self)  # type: ignore[arg-type]
+        dialog = UnderlayDialog(scene.underlay, self.document.path, self)
         self.last_underlay_dialog = dialog
         if not self.run_dialog(dialog):
             return False
@@ -145,7 +145,7 @@ class RobotCommands:
         except (ArenaError, ImportError) as exc:
             self.dialogs.error("Cannot read the run", f"{exc}\n\nNothing was changed.")
             return False
-        dialog = RunImportDialog(scene, bags, sources, topics, self)  # type: ignore[arg-type]
+        dialog = RunImportDialog(scene, bags, sources, topics, self)
         self.last_run_dialog = dialog
         if not self.run_dialog(dialog):
             return False
@@ -160,7 +160,7 @@ class RobotCommands:
         from arena_studio.core.robot.bag_read import count_messages
         from arena_studio.core.robot.bags import import_bags
 
-        progress = QProgressDialog("Reading the bags…", "Cancel", 0, 0, self)  # type: ignore[call-overload]
+        progress = QProgressDialog("Reading the bags…", "Cancel", 0, 0, self)
         progress.setWindowTitle("Import Robot Run")
         progress.setWindowModality(Qt.WindowModality.WindowModal)
         progress.setMinimumDuration(500)

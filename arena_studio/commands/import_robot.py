@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import argparse
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from arena_studio.commands.arg_types import number
 from arena_studio.commands.common import (
@@ -19,6 +20,9 @@ from arena_studio.commands.common import (
 )
 from arena_studio.core import limits as lim
 from arena_studio.core.errors import ArenaError
+
+if TYPE_CHECKING:
+    from arena_studio.core.robot.bags import BagImportReport
 
 CAUTION = (
     "A replay of real runs is an analysis aid; safety of robots near people is assessed on "
@@ -173,9 +177,9 @@ def _run_bag(args: argparse.Namespace) -> int:
     return EXIT_PROBLEMS if report.skipped_episodes else EXIT_OK
 
 
-def _print_usage(report: object) -> None:
+def _print_usage(report: BagImportReport) -> None:
     """One row per topic: type, messages, used, skipped and why."""
-    topics = sorted(getattr(report, "topics", {}).values(), key=lambda u: u.topic)
+    topics = sorted(report.topics.values(), key=lambda u: u.topic)
     if not topics:
         return
     width = max(len("topic"), *(len(u.topic) for u in topics))
@@ -189,4 +193,4 @@ def _print_usage(report: object) -> None:
         )
 
 
-__all__ = ["CAUTION", "add_arguments", "run", "warning_line"]
+__all__ = ["CAUTION", "add_arguments", "run"]
