@@ -68,6 +68,12 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         help="map frame to scene: pose of the map frame in the scene (metres, radians)",
     )
     group.add_argument(
+        "--transform-from",
+        default=None,
+        metavar="MAP.yaml",
+        help="map frame to scene from the map's YAML and the scene's underlay",
+    )
+    group.add_argument(
         "--stamps",
         choices=("header", "bag"),
         default="header",
@@ -150,10 +156,19 @@ def _run_bag(args: argparse.Namespace) -> int:
     if not Path(args.output).parent.is_dir():
         raise CommandError(f"{args.output}: folder does not exist")
     scene = read_scene(args.scene)
+    transform, scale = parse_transform(args.transform), 1.0
+    if args.transform_from is not None:
+        from arena_studio.core.robot.map_yaml import read_map_yaml
+        from arena_studio.core.robot.underlay import map_frame_in_scene
+
+        if args.transform is not None:
+            raise CommandError("give --transform or --transform-from, not both")
+        transform, scale = map_frame_in_scene(read_map_yaml(args.transform_from), scene.underlay)
     opts = BagImportOptions(
         agents=parse_agent_args(args.agent),
         dt=0.1 if args.dt is None else args.dt,
-        transform=parse_transform(args.transform),
+        transform=transform,
+        scale=scale,
         fixed_frame=args.fixed_frame,
         split=args.split,
         gap=args.gap,

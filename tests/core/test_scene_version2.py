@@ -113,3 +113,29 @@ def test_two_point_calibration_scales_about_the_first_point() -> None:
     assert got.origin == pytest.approx((2.0, 1.0))
     with pytest.raises(ValueError):
         calibrate(u, (3.0, 1.0), (3.0, 1.0), 2.0)
+
+
+def test_map_frame_in_scene_from_the_yaml_and_the_underlay(tmp_path: Path) -> None:
+    import math
+
+    import numpy as np
+
+    from arena_studio.core.robot.map_yaml import MapInfo
+    from arena_studio.core.robot.underlay import map_frame_in_scene, map_underlay
+
+    info = MapInfo(tmp_path / "m.pgm", 0.05, (-3.0, 2.0, 0.4))
+    # a scene made by import map lies in the map frame: identity
+    (x, y, yaw), k = map_frame_in_scene(info, map_underlay(info, tmp_path / "s.scene.json"))
+    assert (x, y, yaw, k) == pytest.approx((0.0, 0.0, 0.0, 1.0))
+
+    def mat(pose, scale=1.0):  # similarity transform as a 3 x 3 matrix (homogeneous form)
+        c, s = math.cos(pose[2]), math.sin(pose[2])
+        return np.array(
+            [[scale * c, -scale * s, pose[0]], [scale * s, scale * c, pose[1]], [0, 0, 1]]
+        )
+
+    # image corner at U in the scene, at Y in the map frame: scene <- map = U · S(k) · Y^-1
+    under = Underlay("m.pgm", (1.0, 4.0), 0.1, -0.3)
+    pose, k = map_frame_in_scene(info, under)
+    want = mat((1.0, 4.0, -0.3)) @ np.diag([2.0, 2.0, 1.0]) @ np.linalg.inv(mat(info.origin))
+    assert np.allclose(mat(pose, k), want) and k == pytest.approx(2.0)

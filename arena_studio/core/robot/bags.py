@@ -56,6 +56,7 @@ class BagImportOptions:
     agents: Mapping[str, str]  # scene agent id -> topic or "tf:FRAME"
     dt: float = 0.1
     transform: tuple[float, float, float] = (0.0, 0.0, 0.0)
+    scale: float = 1.0  # map metres to scene metres (1 unless an underlay was rescaled)
     fixed_frame: str = "map"
     split: str = "gap"
     gap: float = 2.0
@@ -120,6 +121,8 @@ def check_options(scene: Scene, opts: BagImportOptions) -> None:
         raise RobotImportError(f"--agent: no source for scene agent(s) {', '.join(missing)}")
     if not (math.isfinite(opts.dt) and opts.dt > 0):
         raise RobotImportError("--dt: expected a time step > 0")
+    if not (math.isfinite(opts.scale) and opts.scale > 0):
+        raise RobotImportError("transform scale: expected a factor > 0")
     if not (math.isfinite(opts.gap) and opts.gap > 0):
         raise RobotImportError("--gap: expected seconds > 0")
     if opts.split not in SPLITS:
@@ -182,7 +185,8 @@ def agent_streams(
         if not len(t) and not problems:
             problems.append(f"{data.name}: no poses for {agent.id} from {source}")
         good = np.isfinite(p).all(axis=1)
-        streams.append(((t[good] - t0) / 1e9, compose(move, p[good])))
+        scaled = p[good] * np.array([opts.scale, opts.scale, 1.0])
+        streams.append(((t[good] - t0) / 1e9, compose(move, scaled)))
     return streams, problems
 
 
@@ -292,6 +296,7 @@ def import_bags(
         "sources": [Path(p).name for p in paths],
         "agents": dict(opts.agents),
         "transform": list(opts.transform),
+        "scale": opts.scale,
     }
     with TapeWriter(out, scene, dt=opts.dt, metadata=meta, keep_partial=False) as w:
         for ep in report.episodes:

@@ -8,6 +8,7 @@ the user, never a reason to refuse the scene.
 from __future__ import annotations
 
 import dataclasses
+import math
 import os
 from pathlib import Path, PurePosixPath
 
@@ -71,6 +72,28 @@ def calibrate(
     ox, oy = underlay.origin
     origin = (a[0] + k * (ox - a[0]), a[1] + k * (oy - a[1]))
     return dataclasses.replace(underlay, origin=origin, scale=underlay.scale * k)
+
+
+def map_frame_in_scene(
+    info: MapInfo, underlay: Underlay | None
+) -> tuple[tuple[float, float, float], float]:
+    """Where the map frame lies in a scene: pose (x, y, yaw) and scale factor.
+
+    The map's YAML places its image's lower-left corner at ``info.origin`` in the map frame;
+    the scene places the same corner at its underlay's origin and rotation (at (0, 0),
+    unturned, when the scene has no underlay), one pixel ``underlay.scale`` metres against
+    the map's ``resolution``. A scene made by ``import map`` gives the identity.
+    """
+    ox, oy, yaw = info.origin
+    ux, uy, urot, k = 0.0, 0.0, 0.0, 1.0
+    if underlay is not None:
+        (ux, uy), urot = underlay.origin, underlay.rotation
+        k = underlay.scale / info.resolution
+    theta = urot - yaw
+    c, s = math.cos(theta), math.sin(theta)
+    tx = ux - k * (c * ox - s * oy)
+    ty = uy - k * (s * ox + c * oy)
+    return (tx, ty, theta), k
 
 
 def map_underlay(info: MapInfo, scene_path: str | Path, opacity: float = 0.5) -> Underlay:

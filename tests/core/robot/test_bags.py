@@ -91,6 +91,9 @@ def test_transform_moves_poses_into_the_scene(tmp_path: Path) -> None:
     # a quarter turn maps (x, y) to (-y, x), then the shift
     assert np.allclose(moved[..., 0], 10.0 - plain[..., 1])
     assert np.allclose(moved[..., 1], -2.0 + plain[..., 0])
+    scaled = read_runs([bag], scene(), BagImportOptions(agents=agents, scale=2.0))
+    assert np.allclose(scaled.episodes[0].poses[..., :2], 2.0 * plain[..., :2])
+    assert np.allclose(scaled.episodes[0].poses[..., 2], plain[..., 2])
 
 
 def test_episodes_split_by_gap_marker_and_bag(tmp_path: Path) -> None:
@@ -178,6 +181,17 @@ def test_command_reports_topics_and_writes_the_tape(tmp_path: Path, capsys) -> N
     assert len(err) == 1 and "rover-2" in err[0]
     assert main([*args, "--transform", "1,2"]) == 2
     assert "--transform" in capsys.readouterr().err
+    # the map frame from a map YAML: this scene has no underlay, so its (0, 0) is the
+    # image's lower-left corner, which the YAML puts at (1, 2) in the map frame
+    (tmp_path / "m.yaml").write_text("image: m.pgm\nresolution: 0.05\norigin: [1, 2, 0]\n")
+    moved = tmp_path / "moved.tape"
+    assert (
+        main([*args[:6], str(moved), *args[7:], "--transform-from", str(tmp_path / "m.yaml")]) == 0
+    )
+    first = open_tape(moved).episode(0).poses[0]
+    assert np.allclose(first[:, :2], open_tape(out).episode(0).poses[0][:, :2] - [1.0, 2.0])
+    both = [*args, "--transform", "0,0,0", "--transform-from", str(tmp_path / "m.yaml")]
+    assert main(both) == 2 and "not both" in capsys.readouterr().err
     assert main(["import", "bag", str(tmp_path / "none"), *base[3:], *args[len(base) :]]) == 2
     assert "no such bag" in capsys.readouterr().err
 
