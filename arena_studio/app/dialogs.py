@@ -14,7 +14,8 @@ from PySide6.QtWidgets import QFileDialog, QMessageBox, QWidget
 from arena_studio.app.editor.recovery import RecoveryCopy
 
 SCENE_FILTER = (
-    "Scenes (*.scene.json *.scene.msgpack *.json *.msgpack);;Tapes (*.tape);;All files (*)"
+    "Scenes (*.scene.json *.scene.msgpack *.json *.msgpack);;"
+    "Tapes (*.tape *.tape.partial);;All files (*)"
 )
 
 

@@ -18,6 +18,18 @@ SCREENSHOT_SIZE = (1600, 1000)
 DEMO_TAPE = "greenhouse-greedy.tape"  # default demo scene; successes and several failure kinds
 SCENE_SUFFIXES = (".json", ".msgpack", ".mpk")
 TAPE_SUFFIX = ".tape"
+
+
+def is_tape_path(path: str | Path) -> bool:
+    """A tape, or one still being written (``NAME.tape.partial``)."""
+    return Path(path).name.lower().endswith((TAPE_SUFFIX, TAPE_SUFFIX + ".partial"))
+
+
+def _still_written(p: Path) -> bool:
+    """``NAME.tape`` named while only ``NAME.tape.partial`` exists (a trainer is writing)."""
+    return is_tape_path(p) and not p.exists() and p.with_name(p.name + ".partial").exists()
+
+
 HEADLESS_PLATFORMS = ("offscreen", "minimal")
 IMAGE_SUFFIXES = (".png", ".jpg", ".jpeg", ".bmp")
 
@@ -35,17 +47,20 @@ def argument_problem(args: argparse.Namespace) -> str | None:
     path = getattr(args, "path", None)
     episode = getattr(args, "episode", None)
     seconds = getattr(args, "time", None)
-    is_tape = path is not None and Path(path).suffix.lower() == TAPE_SUFFIX
+    is_tape = path is not None and is_tape_path(path)
     if path is not None:
         p = Path(path)
-        try:  # folders, pipes, devices and oversized files are named, never opened
-            check_input(p, "tape" if is_tape else "scene")
+        # folders, pipes, devices and oversized files are named, never opened; a tape whose
+        # writer still works on NAME.tape.partial is checked through that file
+        checked = p.with_name(p.name + ".partial") if _still_written(p) else p
+        try:
+            check_input(checked, "tape" if is_tape else "scene")
         except InputFileError as exc:
             return str(exc)
         if not (is_tape or p.suffix.lower() in SCENE_SUFFIXES):
             expected = ".scene.json, .scene.msgpack or .tape"
             return f"{path}: not a scene or tape file (expected {expected})"
-        if not os.access(p, os.R_OK):
+        if not os.access(p if p.exists() else p.with_name(p.name + ".partial"), os.R_OK):
             return f"{path}: cannot read (permission denied)"
     if (episode is not None or seconds is not None) and not is_tape:
         option = "--episode" if episode is not None else "--time"
@@ -99,7 +114,7 @@ def launch_app(args: argparse.Namespace) -> int:
                 return int(app.exec())  # the dialog said why; the window stays usable
             _close_quietly(window)
             return 2
-        is_tape = Path(path).suffix.lower() == TAPE_SUFFIX
+        is_tape = is_tape_path(path)
         if is_tape and (screenshot or _wants_moment(args)):
             if screenshot:
                 window.resize(*SCREENSHOT_SIZE)

@@ -66,7 +66,7 @@ class FileCommands:
     def open_path(self, path: str | Path) -> bool:
         """Open a scene in the layout editor or a ``.tape`` in the replay mode."""
         p = Path(path)
-        if p.suffix.lower() == ".tape":
+        if p.name.lower().endswith((".tape", ".tape.partial")):  # .partial: still written
             return self.open_tape(p)
         if p.suffix.lower() not in SCENE_SUFFIXES:
             self.dialogs.error("Cannot open file", f"{p.name}: not a scene or tape file.")

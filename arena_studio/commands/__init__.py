@@ -16,9 +16,10 @@ COMMANDS: tuple[str, ...] = (
     "import",
     "stats",
     "render",
+    "export-tape",
 )
 
 
 def load_command(name: str) -> ModuleType:
-    module_name = "import_" if name == "import" else name
+    module_name = "import_" if name == "import" else name.replace("-", "_")
     return importlib.import_module(f"{__name__}.{module_name}")

@@ -1,7 +1,9 @@
-"""``arena-studio check SCENE [--json]``: the scene checker's findings, for people and scripts.
+"""``arena-studio check SCENE|TAPE [--json]``: checker findings, for people and scripts.
 
-Exit 0 when there are no errors (warnings and info allowed), 1 when errors were found, 2 when
-the file cannot be read or is not a valid scene.
+A scene gets the scene checker; a tape (``*.tape``, ``*.tape.partial`` or a file starting
+with the tape magic) gets the recording checks against its scene (``--scene FILE`` also
+compares it with a scene file). Exit 0 when there are no errors (warnings and info
+allowed), 1 when errors were found, 2 when the file cannot be read or is not valid.
 """
 
 from __future__ import annotations
@@ -21,17 +23,31 @@ from arena_studio.commands.common import (
     read_scene,
 )
 
-HELP = "check a scene for problems (exit 0 ok, 1 errors found, 2 unreadable)"
+HELP = "check a scene or a recording for problems (exit 0 ok, 1 errors found, 2 unreadable)"
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("scene", metavar="SCENE", help="a .scene.json or .scene.msgpack file")
+    parser.add_argument(
+        "scene", metavar="SCENE|TAPE", help="a .scene.json / .scene.msgpack file, or a tape"
+    )
     parser.add_argument(
         "--json", action="store_true", help='print {"findings": [...]} as JSON instead of text'
     )
+    parser.add_argument(
+        "--scene",
+        dest="against",
+        metavar="FILE",
+        default=None,
+        help="tapes: the scene file the simulator loaded (hash compared, poses checked in it)",
+    )
+    parser.add_argument("--quiet", action="store_true", help="tapes: no progress bar")
 
 
 def run(args: argparse.Namespace) -> int:
+    from arena_studio.commands.check_tape import is_tape, run_tape
+
+    if is_tape(args.scene):
+        return run_tape(args, format_report)
     scene = read_scene(args.scene)  # a CommandError becomes one line in cli.main
     try:
         from arena_studio.core.checks.checker import check_scene

@@ -10,7 +10,13 @@ import sys
 from typing import Any
 
 from arena_studio.commands.arg_types import number
-from arena_studio.commands.common import EXIT_OK, EXIT_UNREADABLE, error_line, warning_line
+from arena_studio.commands.common import (
+    EXIT_OK,
+    EXIT_UNREADABLE,
+    CommandError,
+    error_line,
+    warning_line,
+)
 from arena_studio.commands.progress import progress_bar
 from arena_studio.core import limits as lim
 from arena_studio.core.errors import ArenaError
@@ -45,6 +51,17 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         "--episode", type=number(lim.EPISODE), default=None, metavar="N", help="only episode N"
     )
     parser.add_argument("--quiet", action="store_true", help="no progress bar")
+    parser.add_argument(
+        "--follow",
+        action="store_true",
+        help="keep reading a tape that is being written: a line per finished episode",
+    )
+    parser.add_argument(
+        "--interval", type=float, default=1.0, metavar="S", help="--follow: seconds between reads"
+    )
+    parser.add_argument(
+        "--parquet", metavar="OUT", default=None, help="also write the per-episode rows as Parquet"
+    )
 
 
 def _clean(value: Any) -> Any:
@@ -65,6 +82,10 @@ def run(args: argparse.Namespace) -> int:
     from arena_studio.core.analysis.metrics_batch import tape_metrics
     from arena_studio.core.tape import open_tape
 
+    if args.follow:
+        from arena_studio.commands.stats_follow import run_follow
+
+        return run_follow(args)
     try:
         tape = open_tape(args.tape)
     except FileNotFoundError:
@@ -75,6 +96,8 @@ def run(args: argparse.Namespace) -> int:
         return EXIT_UNREADABLE
     if tape.truncated:
         warning_line(tape.recovery_message or f"{args.tape}: tape is incomplete")
+    if tape.scene_hash_warning:
+        warning_line(tape.scene_hash_warning)
     if args.episode is not None and not 0 <= args.episode < len(tape):
         error_line(f"--episode {args.episode}: the tape has episodes 0..{len(tape) - 1}")
         return EXIT_UNREADABLE
@@ -91,6 +114,7 @@ def run(args: argparse.Namespace) -> int:
         return 130
     summary = summarize_metrics(tape.scene, metrics)
     summary["truncated"] = tape.truncated
+    summary["scene_hash_ok"] = tape.scene_hash_ok  # None: the tape stores no scene hash
     rows = [m.to_dict() for m in metrics]
     if args.episode is not None:
         from arena_studio.core.analysis.events import episode_events
@@ -109,11 +133,23 @@ def run(args: argparse.Namespace) -> int:
             }
             for e in events
         ]
+    if args.parquet:
+        _write_parquet(args.parquet, rows)
     try:
         _emit(args, tape, summary, rows)
     except BrokenPipeError:  # output piped into head and closed early: not an error
         sys.stderr.close()
     return EXIT_OK
+
+
+def _write_parquet(out: str, rows: list[dict[str, Any]]) -> None:
+    """Per-episode rows (the CSV columns) as a Parquet file, written atomically."""
+    from arena_studio.core.tape.table_files import write_rows_parquet
+
+    try:
+        write_rows_parquet(rows, ROW_FIELDS, out)
+    except (ArenaError, OSError) as exc:
+        raise CommandError(f"{out}: cannot write ({exc})") from None
 
 
 def _emit(args: argparse.Namespace, tape: Any, summary: dict[str, Any], rows: list[Any]) -> None:

@@ -17,7 +17,7 @@ from shapely.geometry import Polygon
 
 from arena_studio.core.geometry.regions import nearest_wall_point, segments_of, walkable_area
 from arena_studio.core.scene.model import Scene, Start
-from arena_studio.editing import edits
+from arena_studio.editing import edits as edits
 from arena_studio.editing.edits import ObjKey, Point
 from arena_studio.editing.hit import hit_edge, hit_object, hit_vertex, objects_in_rect
 from arena_studio.editing.snapping import Snap, grid_point_on_segment, nearest_on_segments

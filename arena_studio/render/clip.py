@@ -28,7 +28,7 @@ from PySide6.QtGui import QImage, QPainter
 
 from arena_studio.core.atomic import make_temp, publish
 from arena_studio.core.limits import FRAME_SIDE, MAX_CLIP_FRAMES, RangeError
-from arena_studio.core.scene import Scene
+from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.episode import Episode
 from arena_studio.render.episode_painter import FrameOptions
 from arena_studio.render.frame import IMAGE_FORMAT, FrameRenderer, png_bytes

@@ -14,6 +14,7 @@ from typing import Any
 import numpy as np
 
 from arena_studio.core.analysis.roles import derive_roles, pursued_mask, tape_roles, team_mask
+from arena_studio.core.episode_scene import episode_scene
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.episode import Episode
 
@@ -124,6 +125,7 @@ def episode_cache(scene: Scene, episode: Episode) -> EpisodeCache:
 
 
 def build_cache(scene: Scene, episode: Episode) -> EpisodeCache:
+    drawn_on, scene = scene, episode_scene(scene, episode)  # where its landmarks stood
     poses = np.asarray(episode.poses, dtype=np.float64)
     if poses.ndim != 3 or poses.shape[2] < 3:
         raise ValueError(
@@ -140,7 +142,7 @@ def build_cache(scene: Scene, episode: Episode) -> EpisodeCache:
     first = np.where(any_cov, covered_agent.argmax(axis=0), -1).astype(np.int64)
     tape_codes, tape_labels = tape_roles(episode)
     return EpisodeCache(
-        scene=scene,
+        scene=drawn_on,
         episode=episode,
         xy=xy,
         heading=np.ascontiguousarray(poses[..., 2]),

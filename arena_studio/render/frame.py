@@ -16,6 +16,7 @@ from PySide6.QtCore import QBuffer, QByteArray, QIODevice, QRectF, QSize
 from PySide6.QtGui import QColor, QImage, QPainter
 
 from arena_studio.core.atomic import write_bytes_atomic
+from arena_studio.core.episode_scene import episode_scene
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.episode import Episode
 from arena_studio.render.episode_painter import (
@@ -199,7 +200,8 @@ class FrameRenderer:
             img.fill(self.theme.qcolor("background"))
             painter = QPainter(img)
             try:
-                paint_static(painter, self.scene, episode, self.layout, self.theme, self.options)
+                scene = episode_scene(self.scene, episode)  # its own landmark positions
+                paint_static(painter, scene, episode, self.layout, self.theme, self.options)
             finally:
                 painter.end()
             self._static, self._static_for = img, episode
@@ -219,7 +221,8 @@ class FrameRenderer:
         painter = QPainter(target)
         try:
             painter.drawImage(0, 0, static)
-            paint_dynamic(painter, self.scene, episode, step, self.layout, self.theme, self.options)
+            scene = episode_scene(self.scene, episode)
+            paint_dynamic(painter, scene, episode, step, self.layout, self.theme, self.options)
         finally:
             painter.end()
         return target
@@ -307,6 +310,7 @@ def svg_bytes(
     opts = options or FrameOptions()
     theme = load_theme(opts.theme)
     layout = frame_layout(scene, size, opts)
+    scene = episode_scene(scene, episode)  # its own landmark positions, if it recorded them
     data = QByteArray()
     buffer = QBuffer(data)
     buffer.open(QIODevice.OpenModeFlag.WriteOnly)

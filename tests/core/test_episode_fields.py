@@ -31,6 +31,8 @@ def _values() -> dict[str, object]:
         "messages": ({"hello": 1},),
         "outcome": {"score": 3},
         "complete": False,
+        "assigned_targets": (goal, np.array([0, 0, 1], dtype=np.uint8)),
+        "landmark_positions": np.array([[1.0, 2.0], [3.0, 4.0], [5.0, 6.0]]),
     }
 
 

@@ -132,3 +132,40 @@ def test_palette_files_keep_every_colour_role_the_painters_use(theme):
     }
     assert need <= set(_doc(theme)["colors"])
     assert len(_doc(theme)["identity"]) >= 8
+
+
+def _hue_deg(rgb: np.ndarray) -> float:
+    # CAM02-UCS hue angle: atan2(b', a') of the J'a'b' coordinates (colorspacious)
+    _, a, b = cspace_convert(rgb, "sRGB1", "CAM02-UCS")
+    return float(np.degrees(np.arctan2(b, a)) % 360.0)
+
+
+def _hue_gap(h1: float, h2: float) -> float:
+    d = abs(h1 - h2) % 360.0
+    return min(d, 360.0 - d)
+
+
+@pytest.mark.parametrize("theme", THEMES)
+@pytest.mark.parametrize("role", ["landmark_free", "landmark_wall"])
+def test_landmark_marks_never_share_a_hue_with_identity_colours(theme, role):
+    """A landmark must never read as an agent: its hue stays 30 degrees (CAM02-UCS hue
+    angle) from every identity colour, and it is as far from each of them (deltaE in
+    CAM02-UCS) as identity colours must be from each other (20, above)."""
+    doc = _doc(theme)
+    mark = _rgb(doc["colors"][role])
+    for i, hexcode in enumerate(doc["identity"]):
+        ident = _rgb(hexcode)
+        gap = _hue_gap(_hue_deg(mark), _hue_deg(ident))
+        assert gap >= 30.0, f"{theme}: {role} within {gap:.0f} deg of identity[{i}]"
+        d = float(deltaE(mark, ident, input_space="sRGB1", uniform_space="CAM02-UCS"))
+        assert d >= 20.0, f"{theme}: {role} only {d:.1f} from identity[{i}] {hexcode}"
+    # WCAG 2.1 SC 1.4.11: a graphical object needs 3:1 against what it is drawn on
+    ratio = contrast_ratio(mark, _rgb(doc["colors"]["room_fill"]))
+    assert ratio >= 3.0, f"{theme}: {role} on room_fill is {ratio:.2f}:1"
+
+
+def test_hue_angle_reference_points():
+    # CAM02-UCS hue of pure sRGB red lies near 30 degrees and of pure blue near 260-270
+    # (colorspacious conversions, [memory] for the rough angles)
+    assert 15 <= _hue_deg(np.array([1.0, 0.0, 0.0])) <= 45
+    assert 240 <= _hue_deg(np.array([0.0, 0.0, 1.0])) <= 290

@@ -99,17 +99,22 @@ class PlotsPanel(QWidget):
             tt, dd = decimate(t, d)
             dist.plot(tt, dd, pen=pen, name=f"nearest agent → {landmark.label} (team goal)")
         if prepared.reward_so_far is not None:
-            rew = self._add_plot("reward", "reward so far", first)
-            for a in range(prepared.reward_so_far.shape[1]):
+            team = ep.rewards is not None and np.ndim(ep.rewards) == 1
+            rew = self._add_plot("reward", "team reward so far" if team else "reward so far", first)
+            for a in range(1 if team else prepared.reward_so_far.shape[1]):
                 tt, rr = decimate(t, prepared.reward_so_far[:, a])
                 rew.plot(
                     tt,
                     rr,
-                    pen=pg.mkPen(self._theme.agent_color(a), width=2),
-                    name=_agent_name(scene, a),
+                    pen=pg.mkPen(
+                        self._theme.qcolor("text") if team else self._theme.agent_color(a), width=2
+                    ),
+                    name="team" if team else _agent_name(scene, a),
                 )
         for name, values in sorted(ep.channels.items()):
             arr = np.asarray(values, dtype=np.float64)
+            if arr.ndim > 2:  # (T, A, K) vectors such as observations: Python use only
+                continue
             plot = self._add_plot(f"channel:{name}", name, first)
             if arr.ndim == 1:
                 tt, vv = decimate(t[: len(arr)], arr)

@@ -23,6 +23,7 @@ EVENT_KINDS: tuple[str, ...] = (
     "collision",
     "role",
     "diagnosis",
+    "mismatch",  # the recording disagrees with the scene (core.tape_checks)
     "other",
 )
 
@@ -151,10 +152,14 @@ def prepare_episode(
     reward = None
     if episode.rewards is not None:
         reward = np.cumsum(np.asarray(episode.rewards, dtype=np.float64), axis=0)
+        if reward.ndim == 1:  # a team reward: every agent's share of the story is the team's
+            reward = np.repeat(reward[:, None], agents, axis=1)
     targets: list[tuple[int, ...]] = []
     team = goal_targets(episode.team_goal)
     for a in range(agents):
-        pursued = episode.pursued_goals[a] if a < len(episode.pursued_goals) else None
+        # an agent's own targets: its recorded share of the team goal, else its pursued goal
+        own = episode.assigned_targets or episode.pursued_goals
+        pursued = own[a] if a < len(own) else None
         targets.append(goal_targets(pursued) if pursued is not None else team)
     distances: dict[tuple[int, int], np.ndarray] = {}
     for a, ts in enumerate(targets):

@@ -14,7 +14,7 @@ from dataclasses import replace
 
 import numpy as np
 from PySide6.QtCore import QPointF, QRectF, Qt, Signal
-from PySide6.QtGui import QMouseEvent, QPainter, QPixmap
+from PySide6.QtGui import QMouseEvent, QPainter, QPen, QPixmap
 from PySide6.QtWidgets import (
     QGraphicsItem,
     QGraphicsScene,
@@ -261,7 +261,22 @@ class ReplayCanvas(SceneCanvas):
             painter.drawPixmap(top_left, self._legend_pixmap(ep, legend.height()))
         if self.caption:
             self._paint_caption(painter, w)
+        self._paint_mismatches(painter)
         painter.restore()
+
+    def _paint_mismatches(self, painter: QPainter) -> None:
+        """Recording-vs-scene findings reached by now: a hollow square where each happened
+        (the timeline's glyph), in the error colour."""
+        findings = [] if self.prepared is None else self.prepared.extra.get("findings", [])
+        shown = [f for f in findings if f.point is not None and (f.step or 0) <= self.step]
+        if not shown:
+            return
+        painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+        painter.setPen(QPen(self.theme.qcolor("error"), 2.0))
+        painter.setBrush(Qt.BrushStyle.NoBrush)
+        for f in shown[:200]:
+            at = self.mapFromScene(QPointF(*f.point))
+            painter.drawRect(QRectF(at.x() - 7, at.y() - 7, 14, 14))
 
     def legend_rect(self) -> QRectF | None:
         """Where the legend goes in the viewport (top right), or None when it is not shown."""

@@ -26,6 +26,7 @@ from arena_studio.app.replay.actions import build_actions
 from arena_studio.app.replay.batch_stats import batch_stats
 from arena_studio.app.replay.batch_view import BatchPanel
 from arena_studio.app.replay.episode_list import EpisodeListPanel
+from arena_studio.app.replay.follow import RecordingLine, TapeFollowing, is_growing, open_growing
 from arena_studio.app.replay.plots import PlotsPanel
 from arena_studio.app.replay.prepared import PreparedEpisode
 from arena_studio.app.replay.replay_canvas import ReplayCanvas
@@ -35,6 +36,7 @@ from arena_studio.app.replay.transport import PlaybackClock
 from arena_studio.app.replay.transport_bar import TransportBar
 from arena_studio.app.replay.verdict import VerdictLine
 from arena_studio.app.replay.view_toolbar import COMPARE_MODES, ViewToolbar
+from arena_studio.core.episode_scene import episode_scene
 from arena_studio.core.scene.model import Scene
 from arena_studio.render.theme import Theme, load_theme
 
@@ -86,6 +88,9 @@ class ReplayWindow(QMainWindow):
         layout = QVBoxLayout(central)
         layout.setContentsMargins(0, 0, 0, 0)
         layout.setSpacing(0)
+        self.recording_line = RecordingLine(self.theme, central)
+        layout.addWidget(self.recording_line)
+        self.following: TapeFollowing | None = None
         self.split = QSplitter(Qt.Orientation.Horizontal, central)
         self.canvas = ReplayCanvas(self.theme, self.split)
         self.canvas_b = ReplayCanvas(self.theme, self.split)
@@ -221,7 +226,8 @@ class ReplayWindow(QMainWindow):
         """Open a tape (errors raise :class:`TapeError` with a clear message)."""
         from arena_studio.core.tape import open_tape
 
-        tape = tape if tape is not None else open_tape(path)
+        if tape is None:
+            tape = open_growing(path) if is_growing(path) else open_tape(path)
         self.close_tape()
         self._first_episode = True
         self.session = ReplaySession(tape, self)
@@ -241,16 +247,47 @@ class ReplayWindow(QMainWindow):
         self.batch.set_occupancy(s.scene, None)
         self.setWindowTitle(f"{Path(path).name} (replay)")
         self.set_actions_enabled(True)
-        msg = getattr(tape, "recovery_message", None)
-        if getattr(tape, "truncated", False) and msg:
-            self.statusMessage.emit(msg)
+        notes = [getattr(tape, "scene_hash_warning", None)]
+        if getattr(tape, "truncated", False):
+            notes.insert(0, getattr(tape, "recovery_message", None))
+        if any(notes):
+            self.statusMessage.emit("  ".join(n for n in notes if n))
         if len(tape) == 0:
             self.verdict.setText("This tape has no episodes.")
+        self._follow(tape)
         s.start_summaries()
         if len(tape):
             self.select_episode(0)
 
+    def _follow(self, tape: Any) -> None:
+        """Poll a tape that is still being written; show the recording strip."""
+        from arena_studio.core.tape.follow import GrowingTape
+
+        if not isinstance(tape, GrowingTape):
+            return
+        self.following = TapeFollowing(tape, parent=self)
+        self.following.episodesAdded.connect(self._on_more_episodes)
+        self.following.stateChanged.connect(lambda: self.recording_line.show_tape(tape))
+        self.recording_line.show_tape(tape)
+        if len(tape) == 0:
+            self.verdict.setText("Recording: waiting for the first episode to finish…")
+
+    def _on_more_episodes(self, indices: list[int]) -> None:
+        if self.session is None:
+            return
+        from arena_studio.app.replay.summary import EpisodeSummary
+
+        self.episode_list.model.update_rows([EpisodeSummary(index=i) for i in indices])
+        self.session.start_summaries(indices=indices)
+        if self.prepared is None and self._pending_index is None:
+            self.select_episode(indices[0])
+
     def close_tape(self) -> None:
+        if self.following is not None:
+            self.following.stop()
+            self.following.deleteLater()
+            self.following = None
+        self.recording_line.show_tape(None)
         if self.session is not None:
             self.session.close()
             self.session.deleteLater()
@@ -292,8 +329,8 @@ class ReplayWindow(QMainWindow):
         step = self._pending_step
         self._pending_index = self._pending_step = None
         self.prepared = prepared
-        scene = self.session.scene
         ep = prepared.episode
+        scene = episode_scene(self.session.scene, ep)  # landmarks where this episode had them
         self.canvas.set_episode(scene, prepared)
         self.clock.set_episode(ep.steps, ep.dt, prepared.event_steps)
         self.timeline.set_events(prepared.events, ep.agent_count)
@@ -400,7 +437,7 @@ class ReplayWindow(QMainWindow):
         side = mode == "side" and scene is not None
         self.canvas_b.setVisible(side)
         if side and other is not None and scene is not None:
-            self.canvas_b.set_episode(scene, other)
+            self.canvas_b.set_episode(episode_scene(scene, other.episode), other)
             self.canvas_b.set_options(self.canvas.options)
             self.canvas_b.set_step(self.clock.step)
             self.canvas_b.caption = f"compared: episode {other.episode.index}"
@@ -446,6 +483,7 @@ class ReplayWindow(QMainWindow):
             self.batch,
             self.episode_list,
             self.verdict,
+            self.recording_line,
         ):
             w.set_theme(self.theme)
         self._update_verdict()
@@ -461,10 +499,8 @@ class ReplayWindow(QMainWindow):
         """True/False when a tape is open: does ``scene`` have the tape's content hash?"""
         if self.session is None:
             return None
-        tape_hash = (
-            getattr(self.session.tape, "scene_hash", None) or self.session.scene.content_hash()
-        )
-        return scene.content_hash() == tape_hash
+        # the embedded scene's own hash: a tape's stored hash may be wrong (foreign writers)
+        return scene.content_hash() == self.session.scene.content_hash()
 
     def warn_if_scene_differs(self, scene: Scene, path: str | Path) -> bool:
         """Say so when a scene opened beside the tape is not the tape's scene. True = differs."""

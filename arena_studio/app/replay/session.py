@@ -18,7 +18,7 @@ from PySide6.QtCore import QObject, Signal
 from arena_studio.app.replay.batch_stats import Occupancy
 from arena_studio.app.replay.events import episode_event_marks
 from arena_studio.app.replay.loader import CORE_LOCK, BackgroundCall, StreamWorker
-from arena_studio.app.replay.prepared import PreparedEpisode, prepare_episode
+from arena_studio.app.replay.prepared import EventMark, PreparedEpisode, prepare_episode
 from arena_studio.app.replay.summary import EpisodeSummary, summarise_episode
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.episode import Episode
@@ -30,6 +30,30 @@ def _metrics_for(scene: Scene, episode: Episode) -> Any:
     return episode_metrics(scene, episode)
 
 
+def _findings_for(scene: Scene, episode: Episode) -> list[Any]:
+    """Where this recording disagrees with its scene (never stops the episode loading)."""
+    from arena_studio.core.tape_checks import check_episode
+
+    try:
+        return check_episode(scene, episode)
+    except Exception:  # a checker problem must not keep the episode from showing
+        return []
+
+
+def mismatch_marks(scene: Scene, findings: list[Any]) -> tuple[EventMark, ...]:
+    """Timeline marks for recording-vs-scene findings."""
+    ids = [a.id for a in scene.agents]
+    return tuple(
+        EventMark(
+            step=int(f.step or 0),
+            kind="mismatch",
+            agent=ids.index(f.agent) if f.agent in ids else None,
+            text=f"{f.code}: {f.message}",
+        )
+        for f in findings
+    )
+
+
 def load_prepared(scene: Scene, episode: Episode) -> PreparedEpisode:
     """Metrics, events, per-step arrays and the frame painter's cache for one episode."""
     with CORE_LOCK:
@@ -37,10 +61,14 @@ def load_prepared(scene: Scene, episode: Episode) -> PreparedEpisode:
 
 
 def _load_prepared(scene: Scene, episode: Episode) -> PreparedEpisode:
+    from arena_studio.core.episode_scene import episode_scene
     from arena_studio.render.episode_cache import episode_cache
 
+    scene = episode_scene(scene, episode)  # the episode's own landmark positions, if any
+
     metrics = _metrics_for(scene, episode)
-    events = episode_event_marks(scene, episode, metrics)
+    findings = _findings_for(scene, episode)
+    events = episode_event_marks(scene, episode, metrics) + mismatch_marks(scene, findings)
     prepared = prepare_episode(scene, episode, metrics=metrics)
     prepared = PreparedEpisode(
         episode=prepared.episode,
@@ -48,8 +76,9 @@ def _load_prepared(scene: Scene, episode: Episode) -> PreparedEpisode:
         reward_so_far=prepared.reward_so_far,
         targets=prepared.targets,
         distances=prepared.distances,
-        events=events,
+        events=tuple(sorted(events, key=lambda m: m.step)),
         metrics=metrics,
+        extra={"findings": findings},
     )
     cache = episode_cache(scene, episode)  # built here, off the UI thread; frames only slice it
     # par-time paths plan routes with shapely; compute them here (under CORE_LOCK) so that
@@ -84,23 +113,28 @@ class ReplaySession(QObject):
         self._compare_call.failed.connect(lambda _t, m: self.failed.emit(m))
         self.occupancy = Occupancy.empty(self.scene)
         self.summaries_done = False
+        self._earlier: list[StreamWorker] = []
 
     def __len__(self) -> int:
         return len(self.tape)
 
     # -- the list ----------------------------------------------------------------------
-    def start_summaries(self, reopen: Callable[[], Any] | None = None) -> None:
+    def start_summaries(
+        self, reopen: Callable[[], Any] | None = None, indices: list[int] | None = None
+    ) -> None:
         """Compute every episode's row (and the occupancy grid) on a worker thread.
 
-        ``reopen`` gives the worker its own tape reader (file handles are not shared).
+        ``reopen`` gives the worker its own tape reader (file handles are not shared);
+        ``indices`` limits the work to those episodes (a growing tape's new ones).
         """
         scene = self.scene
         occupancy = self.occupancy
         opener = reopen or self._reopen
+        wanted = list(range(len(self.tape))) if indices is None else list(indices)
 
         def produce(stop: Callable[[], bool]) -> Iterator[EpisodeSummary]:
             tape = opener()
-            for i in range(len(tape)):
+            for i in wanted:
                 if stop():
                     return
                 episode = tape.episode(i)
@@ -114,7 +148,9 @@ class ReplaySession(QObject):
                     )
                 yield row
 
-        self._worker = StreamWorker(produce, len(self.tape), self)
+        if self._worker is not None:  # earlier work on a growing tape: let it finish
+            self._earlier.append(self._worker)
+        self._worker = StreamWorker(produce, len(wanted), self)
         self._worker.batchReady.connect(self._on_batch)
         self._worker.progress.connect(self.progress)
         self._worker.failed.connect(self.failed)
@@ -123,7 +159,10 @@ class ReplaySession(QObject):
 
     def _reopen(self) -> Any:
         from arena_studio.core.tape import open_tape
+        from arena_studio.core.tape.follow import GrowingTape
 
+        if isinstance(self.tape, GrowingTape):
+            return self.tape  # it reads by offsets it already knows; rescanning costs the file
         return open_tape(self.path)
 
     def _on_batch(self, batch: list[EpisodeSummary]) -> None:
@@ -154,6 +193,9 @@ class ReplaySession(QObject):
         return load_prepared(self.scene, self.tape.episode(index))
 
     def close(self) -> None:
+        for worker in self._earlier:
+            worker.stop()
+        self._earlier.clear()
         if self._worker is not None:
             self._worker.stop()
             self._worker = None

@@ -225,7 +225,7 @@ class TimelineBar(QWidget):
 
     def _mark_color(self, mark: EventMark) -> QColor:
         theme = self._theme
-        if mark.kind == "diagnosis":
+        if mark.kind in ("diagnosis", "mismatch"):
             return theme.qcolor("error")
         if mark.kind == "success":
             return theme.qcolor("target_highlight")
@@ -283,6 +283,10 @@ class TimelineBar(QWidget):
             p.setPen(Qt.PenStyle.NoPen)
             p.setBrush(color)
             p.drawPath(flag)
+        elif mark.kind == "mismatch":  # hollow square: the recording breaks the scene's rules
+            p.setPen(QPen(color, 1.8))
+            p.setBrush(Qt.BrushStyle.NoBrush)
+            p.drawRect(QRectF(x - r + 0.5, y - r + 0.5, 2 * r - 1, 2 * r - 1))
         else:
             p.setPen(Qt.PenStyle.NoPen)
             p.setBrush(color)

@@ -1,11 +1,16 @@
 """The line under the replay canvas that says how the shown episode went.
 
 A success names the goal and the time taken; a failure names what went wrong and when (the
-metrics' diagnosis), with a link to jump there, on a band tinted with the theme's error
+metrics' diagnosis), with a link to jump there, then what the simulator itself reported (the
+tape's ``outcome``), on a band tinted with the theme's error
 colour so a newcomer sees at once that this episode is one to look into.
 """
 
 from __future__ import annotations
+
+import html
+import json
+from typing import Any
 
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QLabel, QWidget
@@ -13,9 +18,28 @@ from PySide6.QtWidgets import QLabel, QWidget
 from arena_studio.app.replay.prepared import PreparedEpisode
 from arena_studio.render.theme import Theme
 
+#: longest outcome text shown (characters); a simulator may report a lot
+OUTCOME_CHARS = 160
+
+
+def outcome_words(outcome: Any) -> str:
+    """The simulator's own outcome (the tape's end record) as escaped rich text, or ""."""
+    if not outcome:
+        return ""
+    parts = [f"{k} {json.dumps(v, default=str)}" for k, v in outcome.items()]
+    text = ", ".join(parts)
+    if len(text) > OUTCOME_CHARS:
+        text = text[: OUTCOME_CHARS - 1] + "\u2026"
+    return f" <i>Simulator reported: {html.escape(text)}.</i>"
+
 
 def describe(p: PreparedEpisode, theme: Theme, lead: str, step: int, link: bool) -> str:
-    """Rich text for one episode; ``link`` adds "go there" until ``step`` reaches it."""
+    """Rich text for one episode; ``link`` adds "go there" until ``step`` reaches it. The
+    simulator's reported outcome, when the tape has one, follows."""
+    return _verdict(p, theme, lead, step, link) + outcome_words(p.episode.outcome)
+
+
+def _verdict(p: PreparedEpisode, theme: Theme, lead: str, step: int, link: bool) -> str:
     m, ep = p.metrics, p.episode
     if m is None:
         return f"{lead} {ep.index}: {ep.steps} steps, {ep.duration:.1f} s."

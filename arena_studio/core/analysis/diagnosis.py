@@ -54,6 +54,19 @@ def _goal_words(scene: Scene, goal: np.ndarray | None) -> str:
     return "+".join(ids) if ids else "no target"
 
 
+def _wanted(scene: Scene, episode: Episode) -> str:
+    """What each agent went for: its pursued goal, or its share when only shares exist."""
+    if episode.pursued_goals or not episode.assigned_targets:
+        return ", ".join(
+            f"{scene.agents[a].id} {_goal_words(scene, g)}"
+            for a, g in enumerate(episode.pursued_goals)
+        )
+    return ", ".join(
+        f"{scene.agents[a].id} share {_goal_words(scene, g)}"
+        for a, g in enumerate(episode.assigned_targets)
+    )
+
+
 def diagnose(
     scene: Scene,
     episode: Episode,
@@ -78,9 +91,7 @@ def diagnose(
         outside = np.ones(len(scene.landmarks), dtype=bool)
         outside[targets] = False
         off = np.flatnonzero(cover[:, :, outside].any(axis=(1, 2)))
-        wanted = ", ".join(
-            f"{ids[a]} {_goal_words(scene, g)}" for a, g in enumerate(episode.pursued_goals)
-        )
+        wanted = _wanted(scene, episode)
         team = episode.team_goal
         lead = f"team goal {_goal_words(scene, team)}; " if team is not None else ""
         return Diagnosis(
@@ -270,9 +281,7 @@ def diagnose_block(
         targets = list(goals[e] or ())
         t_end = int(lengths[e]) - 1
         if aligned[e] is False:
-            wanted = ", ".join(
-                f"{ids[a]} {_goal_words(scene, g)}" for a, g in enumerate(ep.pursued_goals)
-            )
+            wanted = _wanted(scene, ep)
             team = ep.team_goal
             lead = f"team goal {_goal_words(scene, team)}; " if team is not None else ""
             first = off_first[e]

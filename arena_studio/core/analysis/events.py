@@ -18,6 +18,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from arena_studio.core.analysis.metrics import EpisodeMetrics, episode_metrics, onsets, outside_mask
+from arena_studio.core.episode_scene import episode_scene
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.sim.observe import coverage
 from arena_studio.core.tape.episode import Episode
@@ -38,6 +39,7 @@ def episode_events(
     scene: Scene, episode: Episode, metrics: EpisodeMetrics | None = None
 ) -> list[Event]:
     """Every event of ``episode`` in step order (ties in :data:`KINDS` order)."""
+    scene = episode_scene(scene, episode)
     m = metrics if metrics is not None else episode_metrics(scene, episode)
     ids = [a.id for a in scene.agents]
     lms = scene.landmarks

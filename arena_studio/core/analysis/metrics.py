@@ -35,6 +35,7 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from arena_studio.core.episode_scene import episode_scene
 from arena_studio.core.geometry.inside_test import InsideTest
 from arena_studio.core.geometry.regions import free_space, per_thread_cache
 from arena_studio.core.scene.model import Scene
@@ -75,6 +76,7 @@ class EpisodeMetrics:
     diagnosis_step: int | None = None
     complete: bool = True
     collision_pairs: tuple[tuple[int, int, int], ...] = field(default=(), repr=False)
+    outcome: dict[str, Any] | None = None  # what the simulator reported (the tape's end record)
 
     def to_dict(self) -> dict[str, Any]:
         out = asdict(self)
@@ -182,9 +184,12 @@ def goal_key(scene: Scene, targets: Sequence[int]) -> str:
 
 
 def aligned_goals(episode: Episode) -> bool | None:
+    """Did every agent pursue the team goal? Judged on the pursued goals; an episode that
+    recorded only each agent's share (``assigned_targets``) is aligned when every share lies
+    within the team goal and the shares together cover it. None when neither is recorded."""
     goals = episode.pursued_goals
     if not goals:
-        return None
+        return _shares_aligned(episode)
     if any(g is None for g in goals):
         return False
     first = goals[0]
@@ -192,6 +197,22 @@ def aligned_goals(episode: Episode) -> bool | None:
     if any(g is None or not np.array_equal(first, g) for g in goals[1:]):
         return False
     return episode.team_goal is None or bool(np.array_equal(first, episode.team_goal))
+
+
+def _shares_aligned(episode: Episode) -> bool | None:
+    shares = getattr(episode, "assigned_targets", ())
+    if not shares or episode.team_goal is None:
+        return None
+    team = np.asarray(episode.team_goal).astype(bool)
+    union = np.zeros_like(team)
+    for share in shares:
+        if share is None:
+            continue
+        s = np.asarray(share).astype(bool)
+        if (s & ~team).any():
+            return False
+        union |= s
+    return bool(np.array_equal(union, team))
 
 
 def judged_goal(episode: Episode) -> np.ndarray | None:
@@ -257,9 +278,11 @@ def _covered_by(
 
 # -- the metrics -------------------------------------------------------------------------
 def episode_metrics(scene: Scene, episode: Episode) -> EpisodeMetrics:
-    """All per-episode metrics (see the module docstring for each definition)."""
+    """All per-episode metrics (see the module docstring for each definition). An episode
+    that recorded its own landmark positions is judged where its landmarks stood."""
     from arena_studio.core.analysis.diagnosis import diagnose
 
+    scene = episode_scene(scene, episode)
     if episode.agent_count != len(scene.agents):
         raise ValueError(
             f"episode {episode.index}: {episode.agent_count} agents, scene has {len(scene.agents)}"
@@ -326,6 +349,7 @@ def episode_metrics(scene: Scene, episode: Episode) -> EpisodeMetrics:
         still_time=still_time,
         complete=episode.complete,
         collision_pairs=pairs,
+        outcome=episode.outcome,
     )
     if success:
         return base

@@ -35,6 +35,7 @@ from arena_studio.core.analysis.metrics import (
     goal_key,
     par_time_of,
 )
+from arena_studio.core.episode_scene import episode_scene, same_layout
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.sim.observe import (
     coverage_planes_sparse,
@@ -92,13 +93,15 @@ def episodes_metrics(scene: Scene, episodes: Sequence[Episode]) -> list[EpisodeM
     block: list[Episode] = []
     rows = 0
     for ep in episodes:
-        if block and (rows + ep.steps > BLOCK_STEPS or ep.dt != block[0].dt):
-            out.extend(_block_metrics(scene, block))
+        if block and (
+            rows + ep.steps > BLOCK_STEPS or ep.dt != block[0].dt or not same_layout(ep, block[0])
+        ):
+            out.extend(_block_metrics(episode_scene(scene, block[0]), block))
             block, rows = [], 0
         block.append(ep)
         rows += ep.steps
-    if block:
-        out.extend(_block_metrics(scene, block))
+    if block:  # a block shares one landmark layout: judged in the scene of its first episode
+        out.extend(_block_metrics(episode_scene(scene, block[0]), block))
     return out
 
 
@@ -157,7 +160,12 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
     seen: dict[tuple[int, ...], tuple[bool | None, tuple[int, ...] | None]] = {}
     rows_of: dict[tuple[int, ...], list[int]] = {}
     for e, ep in enumerate(episodes):
-        ident = (id(ep.team_goal), *map(id, ep.pursued_goals))
+        ident = (
+            id(ep.team_goal),
+            len(ep.pursued_goals),
+            *map(id, ep.pursued_goals),
+            *map(id, ep.assigned_targets),
+        )
         known = seen.get(ident)
         if known is None:
             known = seen[ident] = _judged(ep, cache)
@@ -307,7 +315,7 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
         )
     )
     # EpisodeMetrics is a frozen dataclass without __post_init__: its generated __init__ sets
-    # each of the 22 fields through object.__setattr__ (~2.5 us); filling the new instance's
+    # each of the 23 fields through object.__setattr__ (~2.5 us); filling the new instance's
     # dict gives the same object in ~1 us (tests/core/test_metrics_batch_paths.py)
     new_object = object.__new__
     # goal key, kind and par time once per distinct goal of the block
@@ -364,6 +372,7 @@ def _block_metrics(scene: Scene, episodes: list[Episode]) -> list[EpisodeMetrics
                     None if diag is None else diag.step,  # diagnosis_step
                     ep.complete,  # complete
                     pairs,  # collision_pairs
+                    ep.outcome,  # outcome
                 ),
                 strict=True,
             )

@@ -18,10 +18,12 @@ the landmark's reach radius, the README's definition, via ``observe.coverage``):
 ``MOVING``   (moving) none of the above: moving but aiming at no landmark.
 
 The *aim* of a moving agent: over the last :data:`WINDOW_S` seconds it moved along a
-displacement ``v``; every landmark whose direction from the agent lies within
-:data:`AIM_CONE_DEG` of ``v`` is a candidate, landmarks of the agent's own pursued goal (when
-the tape records one) first; the aim is the nearest candidate. Within a window of the start
-the displacement is measured from step 0.
+displacement ``v``; every landmark whose next waypoint on the agent's shortest path to it
+(:mod:`arena_studio.core.waypoints`: a doorway corner while the landmark is out of sight, the
+landmark's reach once in sight) lies within :data:`AIM_CONE_DEG` of ``v`` is a candidate,
+the agent's own targets (its share when the tape records shares, else its pursued goal)
+first; the aim is the candidate with the shortest path. Within a window of the start the
+displacement is measured from step 0.
 
 Tape labels (free strings a simulator wrote) map to codes by :func:`tape_roles`.
 """
@@ -32,9 +34,11 @@ import math
 
 import numpy as np
 
+from arena_studio.core.episode_scene import episode_scene
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.sim.observe import coverage
 from arena_studio.core.tape.episode import Episode
+from arena_studio.core.waypoints import next_waypoints
 
 MOVING, HEADING, HOLDING, IDLE, OFF_GOAL = 0, 1, 2, 3, 4
 ROLE_NAMES: tuple[str, ...] = (
@@ -76,10 +80,13 @@ def team_mask(scene: Scene, episode: Episode) -> np.ndarray:
 
 
 def pursued_mask(scene: Scene, episode: Episode) -> np.ndarray:
-    """(A, L) bool: each agent's pursued targets (all False when the tape has none)."""
+    """(A, L) bool: each agent's own targets: its share of the team goal when the tape
+    records shares (``assigned_targets``), else its pursued goal's targets (all False when
+    the tape has neither)."""
     a, n = episode.agent_count, len(scene.landmarks)
     out = np.zeros((a, n), dtype=bool)
-    for i, goal in enumerate(episode.pursued_goals[:a]):
+    own = episode.assigned_targets or episode.pursued_goals
+    for i, goal in enumerate(own[:a]):
         if goal is not None:
             g = np.asarray(goal).astype(bool).reshape(-1)
             if g.shape[0] != n:
@@ -93,6 +100,7 @@ def pursued_mask(scene: Scene, episode: Episode) -> np.ndarray:
 
 def derive_roles(scene: Scene, episode: Episode) -> np.ndarray:
     """(T, A) uint8 role codes for every step (see the module docstring for definitions)."""
+    scene = episode_scene(scene, episode)
     poses = np.asarray(episode.poses, dtype=np.float64)
     steps, agents = poses.shape[0], poses.shape[1]
     out = np.full((steps, agents), MOVING, dtype=np.uint8)
@@ -127,12 +135,14 @@ def derive_roles(scene: Scene, episode: Episode) -> np.ndarray:
         holding = (covered & team).any(-1)
         covers_other = (covered & ~team).any(-1) & ~holding
 
-        to_lm = lm[None, None, :, :] - p[:, :, None, :]  # (t, A, L, 2)
-        dist = np.linalg.norm(to_lm, axis=-1)
+        moving = ~still[t0:t1]
+        way, dist = _aims(scene, p, moving, lm, lag)  # next waypoints, path lengths (t, A, L)
+        to_lm = way - p[:, :, None, :]  # (t, A, L, 2): toward each landmark along its path
         d = disp[t0:t1]
         dn = np.linalg.norm(d, axis=-1)
+        leg = np.linalg.norm(to_lm, axis=-1)
         with np.errstate(invalid="ignore", divide="ignore"):
-            cos = (to_lm * d[:, :, None, :]).sum(-1) / (dist * dn[:, :, None])
+            cos = (to_lm * d[:, :, None, :]).sum(-1) / (leg * dn[:, :, None])
         in_cone = np.nan_to_num(cos, nan=-1.0) >= cos_cone
         # pursued targets first: when one is in the cone, other landmarks cannot be the aim
         pursued_in_cone = (in_cone & pursued[None]).any(-1, keepdims=True)
@@ -140,7 +150,6 @@ def derive_roles(scene: Scene, episode: Episode) -> np.ndarray:
         rank = np.where(in_cone, rank, np.inf)
         aim = rank.argmin(-1)  # (t, A)
         has_aim = np.isfinite(rank.min(-1))
-        moving = ~still[t0:t1]
 
         block = out[t0:t1]
         aim_team = team[aim]
@@ -149,6 +158,45 @@ def derive_roles(scene: Scene, episode: Episode) -> np.ndarray:
         block[covers_other] = OFF_GOAL
         block[holding] = HOLDING
     return out
+
+
+def _aims(
+    scene: Scene, p: np.ndarray, moving: np.ndarray, lm: np.ndarray, every: int
+) -> tuple[np.ndarray, np.ndarray]:
+    """(t, A, L, 2) next waypoint toward each landmark and (t, A, L) path length, from the
+    positions ``p`` (t, A, 2). Only moving agents are planned for (the rest keep the
+    straight line, which no rule reads). Planning costs ~1000x the cone test, so it runs at
+    every ``every``-th moving step, and at every step between two planned ones whose
+    waypoints differ; between two planned steps with the same waypoint every step aims at
+    it (its path length adjusted by the straight part)."""
+    way = np.broadcast_to(lm[None, None], (*p.shape[:2], *lm.shape)).copy()
+    dist = np.linalg.norm(way - p[:, :, None, :], axis=-1)
+    for a in range(min(p.shape[1], len(scene.agents))):
+        rows = np.flatnonzero(moving[:, a])
+        if rows.size == 0:
+            continue
+        sampled = np.zeros(rows.size, dtype=bool)
+        sampled[:: max(1, every)] = True
+        sampled[-1] = True
+        for k in range(lm.shape[0]):
+            w = np.full((rows.size, 2), np.nan)
+            length = np.full(rows.size, np.nan)
+            known = sampled.copy()
+            idx = np.flatnonzero(sampled)
+            w[idx], length[idx] = next_waypoints(scene, a, k, p[rows[idx], a])
+            # between planned steps whose waypoints differ: plan every step
+            change = np.flatnonzero(np.any(w[idx[1:]] != w[idx[:-1]], axis=1))
+            fill = np.concatenate(
+                [np.arange(idx[c] + 1, idx[c + 1]) for c in change] or [np.zeros(0, int)]
+            )
+            if fill.size:
+                w[fill], length[fill] = next_waypoints(scene, a, k, p[rows[fill], a])
+                known[fill] = True
+            src = np.flatnonzero(known)[np.cumsum(known) - 1]  # latest planned step
+            rest = length[src] - np.hypot(*(w[src] - p[rows[src], a]).T)
+            way[rows, a, k] = w[src]
+            dist[rows, a, k] = np.hypot(*(w[src] - p[rows, a]).T) + rest
+    return way, dist
 
 
 def tape_roles(episode: Episode) -> tuple[np.ndarray, tuple[str, ...]]:

@@ -21,12 +21,7 @@ from shapely.geometry.base import BaseGeometry
 
 from arena_studio.core.export.label_place import Box, LabelPlacement, place_labels, start_marks
 from arena_studio.core.export.meta import provenance, write_export_bytes
-from arena_studio.core.geometry.regions import (
-    bounds,
-    obstacle_geometry,
-    open_area,
-    walkable_area,
-)
+from arena_studio.core.geometry.regions import bounds, obstacle_geometry, open_area, walkable_area
 from arena_studio.core.resources import resource_path
 from arena_studio.core.scene.model import Scene
 

@@ -6,7 +6,7 @@ geometry is derived on demand in :mod:`arena_studio.core.geometry.regions`.
 
 Public API::
 
-    from arena_studio.core.scene.model import Scene, load_scene, save_scene
+from arena_studio.core.scene.model import Scene, load_scene, save_scene, scene_hash
 """
 
 from __future__ import annotations
@@ -257,15 +257,9 @@ class Scene:
         return parse_scene(data)
 
     def content_hash(self) -> str:
-        """SHA-256 of the canonical JSON form: equal layouts share a hash on every machine.
-
-        Taken of the version-1 form without the underlay (:data:`HASH_VERSION`).
-        """
-        doc = self.to_dict()
-        doc.pop("underlay", None)
-        doc["version"] = HASH_VERSION
-        text = json.dumps(doc, sort_keys=True, separators=(",", ":"))
-        return hashlib.sha256(text.encode("utf-8")).hexdigest()
+        """SHA-256 of :func:`canonical_scene_json`: equal scenes share a hash on every
+        machine, however the numbers in their files were written (see :func:`scene_hash`)."""
+        return hashlib.sha256(canonical_scene_json(self).encode("ascii")).hexdigest()
 
     # -- lookups -----------------------------------------------------------------------
     def landmark_index(self, landmark_id: str) -> int:
@@ -292,6 +286,27 @@ class Scene:
 
     def with_changes(self, **changes: Any) -> Scene:
         return replace(self, **changes)
+
+
+def canonical_scene_json(scene: Scene | Mapping[str, Any]) -> str:
+    """The text a scene hash is taken over (DEVELOPERS.md, "Scene hash").
+
+    A document (a mapping as read from ``*.scene.json``) is parsed first, so ``16`` and
+    ``16.0`` give one text: :meth:`Scene.to_dict` writes every measurement as a float and
+    fills the defaults; the underlay is left out and ``version`` is :data:`HASH_VERSION`;
+    then JSON with sorted keys, no spaces and ``\\u`` escapes for anything beyond ASCII.
+    """
+    value = scene if isinstance(scene, Scene) else Scene.from_dict(scene)
+    doc = value.to_dict()
+    doc.pop("underlay", None)  # a drawing aid, not the layout
+    doc["version"] = HASH_VERSION  # the same text under every later format version
+    return json.dumps(doc, sort_keys=True, separators=(",", ":"), ensure_ascii=True)
+
+
+def scene_hash(scene: Scene | Mapping[str, Any]) -> str:
+    """The scene hash a tape header's ``scene_hash`` holds: SHA-256 (hex) of
+    :func:`canonical_scene_json`. Takes a :class:`Scene` or a scene document as written."""
+    return hashlib.sha256(canonical_scene_json(scene).encode("ascii")).hexdigest()
 
 
 def load_scene(path: str | Path) -> Scene:
@@ -323,6 +338,8 @@ __all__ = [
     "SceneFormatError",
     "Start",
     "Underlay",
+    "canonical_scene_json",
     "load_scene",
     "save_scene",
+    "scene_hash",
 ]

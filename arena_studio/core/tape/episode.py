@@ -24,13 +24,17 @@ class Episode:
     team_goal: np.ndarray | None = None  # (L,) uint8 multi-hot, or None
     pursued_goals: tuple[np.ndarray | None, ...] = ()  # per agent: (L,) uint8 or None
     roles: tuple[RoleTimeline, ...] = ()  # per agent; empty tuple when the tape has none
-    rewards: np.ndarray | None = None  # (T, A) float
-    actions: np.ndarray | None = None  # (T, A, K) float
+    rewards: np.ndarray | None = None  # (T, A) float per agent, or (T,) one team reward
+    actions: np.ndarray | None = None  # (T, A, K) float64, or int64 for whole numbers
     done: np.ndarray | None = None  # (T, A) bool
-    channels: dict[str, np.ndarray] = field(default_factory=dict)  # name -> (T,) or (T, A)
+    channels: dict[str, np.ndarray] = field(default_factory=dict)  # (T,), (T, A) or (T, A, K)
     messages: tuple[Any, ...] = ()  # pre-episode messages: free small values
     outcome: dict[str, Any] | None = None  # simulator-reported outcome, free small values
     complete: bool = True  # False when recovered from a cut tape before the episode ended
+    # per agent: (L,) uint8, its own share of the team goal's targets, or None; () when absent
+    assigned_targets: tuple[np.ndarray | None, ...] = ()
+    # (L, 2) float64 where this episode's landmarks stood, or None: the scene's positions
+    landmark_positions: np.ndarray | None = None
 
     @classmethod
     def _of_fields(
@@ -48,6 +52,8 @@ class Episode:
         messages: tuple[Any, ...],
         outcome: dict[str, Any] | None,
         complete: bool,
+        assigned_targets: tuple[np.ndarray | None, ...] = (),
+        landmark_positions: np.ndarray | None = None,
     ) -> Episode:
         """``Episode(...)`` with every field given in order, for the tape reader (thousands a
         second): the generated frozen ``__init__`` sets each field through
@@ -69,6 +75,8 @@ class Episode:
             messages=messages,
             outcome=outcome,
             complete=complete,
+            assigned_targets=assigned_targets,
+            landmark_positions=landmark_positions,
         )
         return ep
 

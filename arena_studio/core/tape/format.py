@@ -53,8 +53,9 @@ MAX_RECORD = 1 << 30
 #: Dtypes a tape may carry, by field family. Byte order is always little-endian.
 FLOAT_DTYPES = ("<f8", "<f4")
 NUMBER_DTYPES = ("<f8", "<f4", "<i8", "<i4", "<i2", "|i1", "<u8", "<u4", "<u2", "|u1", "|b1")
-INDEX_DTYPES = ("<i8",)
-GOAL_DTYPES = ("|u1",)
+REWARD_DTYPES = ("<f8", "<f4", "<i8", "<i4", "<i2", "|i1")
+INDEX_DTYPES = ("<i8", "<i4", "<u8", "<u4")
+GOAL_DTYPES = ("|u1", "|b1")
 BOOL_DTYPES = ("|b1", "|u1")
 _DTYPE_OBJECTS = {name: np.dtype(name) for name in NUMBER_DTYPES}
 _ARRAY_KEYS = frozenset(("dtype", "shape", "data"))

@@ -34,7 +34,7 @@ import numpy as np
 
 from arena_studio.core.errors import ArenaError
 from arena_studio.core.safe_open import open_input
-from arena_studio.core.scene import Scene
+from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape import TapeWriter
 
 REQUIRED = ("episode", "step", "agent", "x", "y", "heading")

@@ -20,7 +20,7 @@ import numpy as np
 
 from arena_studio.core.errors import ArenaError
 from arena_studio.core.safe_open import InputFileError, open_input
-from arena_studio.core.scene import Scene
+from arena_studio.core.scene.model import Scene, scene_hash
 from arena_studio.core.tape.episode import Episode, RoleTimeline
 from arena_studio.core.tape.format import (
     BOOL_DTYPES,
@@ -42,6 +42,7 @@ from arena_studio.core.tape.format import (
     MAX_RECORD,
     NUMBER_DTYPES,
     PARALLEL_CRC_BYTES,
+    REWARD_DTYPES,
     TRAILER,
     TRAILER_MAGIC,
     TRAILER_SIZE,
@@ -80,6 +81,20 @@ class EpisodeSpan:
     start: int
     entries: list[_Entry]
     data: memoryview
+
+
+def _rank(value: Any) -> int:
+    """Dimensions an encoded array claims (0 when it is not an array map)."""
+    if type(value) is dict and type(value.get("shape")) is list:
+        return len(value["shape"])
+    return 0
+
+
+def _widened(arr: np.ndarray) -> np.ndarray:
+    """float64 for real numbers, int64 for whole numbers (bool flags become 0/1)."""
+    if arr.dtype.kind == "f":
+        return arr.astype(np.float64, copy=False)
+    return arr.astype(np.int64, copy=False)
 
 
 def open_tape(path: str | Path) -> Tape:
@@ -142,6 +157,13 @@ class Tape:
     def episode_steps(self, i: int) -> int:
         """Steps of episode ``i`` without decoding it."""
         return self._entries[self._check_index(i)].steps
+
+    def to_table(self, episodes: list[int] | None = None) -> Any:
+        """Every step of every agent as an Apache Arrow table in long form (needs pyarrow);
+        columns in :mod:`arena_studio.core.tape.tables`."""
+        from arena_studio.core.tape.tables import to_table
+
+        return to_table(self, episodes)
 
     @property
     def total_steps(self) -> int:
@@ -272,37 +294,59 @@ class Tape:
                 self._src, "header.agent_ids", "must equal the embedded scene's agent ids in order"
             )
         self.agent_ids = tuple(ids)
-        stored_hash = header.get("scene_hash")
-        self.scene_hash = stored_hash if isinstance(stored_hash, str) else None
-        #: False when the embedded scene no longer hashes to the stored value
-        self.scene_hash_ok = self.scene_hash == self.scene.content_hash()
+        self._check_scene_hash(header)
         meta = header.get("metadata", {})
         if not isinstance(meta, dict):
             raise TapeError(self._src, "header.metadata", "expected a map")
         self.metadata: dict[str, Any] = meta
 
+    def _check_scene_hash(self, header: dict[str, Any]) -> None:
+        """Compare the stored scene hash with the embedded scene's own (a warning, not an
+        error: the scene itself is what the tape holds and what is used)."""
+        stored = header.get("scene_hash")
+        actual = scene_hash(self.scene)
+        self.scene_hash: str | None = stored if isinstance(stored, str) else None
+        #: True when the stored hash matches the embedded scene, None when none is stored
+        self.scene_hash_ok: bool | None = None if stored is None else stored == actual
+        #: one line for users when the stored hash is wrong, else None
+        self.scene_hash_warning: str | None = None
+        if self.scene_hash_ok is False:
+            shown = repr(stored) if not isinstance(stored, str) else stored[:16] + "..."
+            self.scene_hash_warning = (
+                f"{self._src}: header.scene_hash {shown} does not match the embedded scene "
+                f"(its hash is {actual[:16]}...; see arena_studio.core.scene.model.scene_hash)"
+            )
+
     # -- index -----------------------------------------------------------------------------
     def _read_index(self, f: Any) -> list[_Entry] | None:
         """Entries from the trailer's index, or None when the tape must be scanned."""
+        #: why a finished-looking tape's index was not used (the scan's message says it)
+        self._index_problem: str | None = None
         size = self.file_size
         if size < self.header_end + TRAILER_SIZE:
             return None
         f.seek(size - TRAILER_SIZE)
         at, magic = TRAILER.unpack(f.read(TRAILER_SIZE))
-        if magic != TRAILER_MAGIC or not self.header_end <= at < size - TRAILER_SIZE:
+        if magic != TRAILER_MAGIC:
+            return None
+        if not self.header_end <= at < size - TRAILER_SIZE:
+            self._index_problem = f"the trailer points at byte {at}, outside the records"
             return None
         f.seek(at)
         buf = memoryview(f.read(size - TRAILER_SIZE - at))
         try:
             kind, payload, end = read_frame(buf, 0)
-        except (EOFError, ValueError):
+        except (EOFError, ValueError) as exc:
+            self._index_problem = f"the trailer points at byte {at}, not at a sound record ({exc})"
             return None
         if kind != KIND_INDEX or end != len(buf):
+            self._index_problem = f"the trailer points at byte {at}, not at the index record"
             return None
         try:
             index = self._unpack(payload, "index")
             return self._index_entries(index, at)
-        except TapeError:
+        except TapeError as exc:
+            self._index_problem = f"the index at byte {at} is unusable ({exc.where}: {exc.problem})"
             return None
 
     def _index_entries(self, index: Any, limit: int) -> list[_Entry]:
@@ -310,8 +354,10 @@ class Tape:
         if not isinstance(index, dict) or not isinstance(index.get("episodes"), int):
             raise TapeError(self._src, where, "malformed index")
         n = index["episodes"]
-        cols = {
-            k: decode_array(index.get(k), f"index.{k}", self._src, dtypes=INDEX_DTYPES, shape=(n,))
+        cols = {  # any whole-number width is read; offsets past 2^63 cannot occur
+            k: decode_array(
+                index.get(k), f"index.{k}", self._src, dtypes=INDEX_DTYPES, shape=(n,)
+            ).astype(np.int64)
             for k in ("begin", "end", "steps")
         }
         begin, end, steps = cols["begin"], cols["end"], cols["steps"]
@@ -377,7 +423,7 @@ class Tape:
                     entries.append(_Entry(open_begin, end, open_steps, True))
                 open_begin, open_steps = None, 0
             elif kind == KIND_INDEX:
-                problem = f"the index at byte {pos} has no valid trailer"
+                problem = self._index_problem or f"the index at byte {pos} has no valid trailer"
                 last_good = end
                 break
             else:
@@ -478,6 +524,7 @@ class Tape:
             )
         roles_raw = begin.get("roles")
         roles = () if roles_raw is None else self._roles(roles_raw, f"{where}.roles", a)
+        assigned, positions = self._begin_extras(begin, where, a, n_lm, copy)
         messages = begin.get("messages", [])
         if not isinstance(messages, list):
             raise TapeError(self._src, f"{where}.messages", "expected a list")
@@ -511,7 +558,30 @@ class Tape:
             tuple(messages),  # messages
             outcome,  # outcome
             entry.complete and bool(ends),  # complete
+            assigned,  # assigned_targets
+            positions,  # landmark_positions
         )
+
+    def _begin_extras(
+        self, begin: dict[str, Any], where: str, a: int, n_lm: int, copy: bool
+    ) -> tuple[tuple[np.ndarray | None, ...], np.ndarray | None]:
+        """The optional ``assigned_targets`` and ``landmark_positions`` of a begin record."""
+        assigned: tuple[np.ndarray | None, ...] = ()
+        raw = begin.get("assigned_targets")
+        if raw is not None:
+            if not isinstance(raw, list) or len(raw) != a:
+                raise TapeError(self._src, f"{where}.assigned_targets", f"expected {a} entries")
+            assigned = tuple(
+                self._goal(g, n_lm, copy, where, "assigned_targets", k) for k, g in enumerate(raw)
+            )
+        positions = None
+        raw = begin.get("landmark_positions")
+        if raw is not None:
+            place = f"{where}.landmark_positions"
+            positions = self._array(raw, place, FLOAT_DTYPES, (n_lm, 2)).astype(np.float64)
+            if not np.isfinite(positions).all():
+                raise TapeError(self._src, place, "positions must be finite numbers")
+        return assigned, positions
 
     def _chunks(
         self, chunks: list[tuple[int, Any, int]], where: str, a: int, copy: bool = True
@@ -545,11 +615,16 @@ class Tape:
                 dec(rec.get("poses"), f"{cw}.poses", FLOAT_DTYPES, (n, a, 3))
             )
             if "rewards" in rec:
-                parts.setdefault("rewards", []).append(
-                    dec(rec["rewards"], f"{cw}.rewards", FLOAT_DTYPES, (n, a))
-                )
+                # (n,) one team reward per step, (n, A) one per agent; fixed by the first chunk
+                rshape = (n,) if _rank(rec["rewards"]) == 1 else (n, a)
+                rew = dec(rec["rewards"], f"{cw}.rewards", REWARD_DTYPES, rshape)
+                if parts.get("rewards") and parts["rewards"][0].ndim != rew.ndim:
+                    raise TapeError(self._src, f"{cw}.rewards", "shape differs from chunk 0")
+                parts.setdefault("rewards", []).append(rew)
             if "actions" in rec:
-                act = dec(rec["actions"], f"{cw}.actions", FLOAT_DTYPES, (n, a, k_actions))
+                act = dec(rec["actions"], f"{cw}.actions", NUMBER_DTYPES, (n, a, k_actions))
+                if parts.get("actions") and parts["actions"][0].dtype.kind != act.dtype.kind:
+                    raise TapeError(self._src, f"{cw}.actions", "dtype differs from chunk 0")
                 k_actions = act.shape[2]
                 parts.setdefault("actions", []).append(act)
             if "done" in rec:
@@ -563,10 +638,14 @@ class Tape:
                 ):
                     raise TapeError(self._src, f"{cw}.channels", "expected the same named arrays")
                 for name, value in chans.items():
-                    cshape: tuple[int | None, ...] = (n,)
-                    if isinstance(value, dict) and isinstance(value.get("shape"), list):
-                        cshape = (n,) if len(value["shape"]) == 1 else (n, a)
+                    rank = _rank(value)
+                    cshape: tuple[int | None, ...] = (n, a, None)[: rank if 1 <= rank <= 3 else 1]
                     arr = dec(value, f"{cw}.channels.{name}", NUMBER_DTYPES, cshape)
+                    first = channel_parts.get(name)
+                    if first and first[0].shape[1:] != arr.shape[1:]:
+                        raise TapeError(
+                            self._src, f"{cw}.channels.{name}", "shape differs from the first chunk"
+                        )
                     channel_parts.setdefault(name, []).append(arr)
             start += n
         out: dict[str, Any] = {}
@@ -578,16 +657,13 @@ class Tape:
                 if copy
                 else arrs[0]
             )
-            out[name] = joined.astype(np.float64, copy=False) if name != "done" else joined
+            out[name] = _widened(joined) if name != "done" else joined
         self._check_finite(out["poses"], where)
         if channel_parts:
             out["channels"] = {
                 name: np.concatenate(arrs, axis=0) if len(arrs) > 1 else arrs[0].copy()
                 for name, arrs in channel_parts.items()
             }
-            shapes = {arr.shape[1:] for arr in out["channels"].values()}
-            if any(len(s) > 1 for s in shapes):
-                raise TapeError(self._src, f"{where}.channels", "channels must be (T,) or (T, A)")
         return out
 
     def _poses_only_chunk(
@@ -650,8 +726,9 @@ class Tape:
                     return known.copy() if copy else known
         place = f"{where}.{field}" if k is None else f"{where}.{field}[{k}]"
         arr = self._array(value, place, GOAL_DTYPES, (n_lm,))
-        if n_lm and max(value["data"]) > 1:  # |u1 bytes: a goal holds only 0 and 1
+        if n_lm and max(value["data"]) > 1:  # |u1 or |b1 bytes: a goal holds only 0 and 1
             raise TapeError(self._src, place, "a goal holds only 0 and 1")
+        arr = arr.view(np.uint8)  # |b1 goals are stored as the same 0/1 bytes
         if key is not None and len(self._goal_cache) < GOAL_CACHE_SIZE:
             kept = arr.copy()
             kept.flags.writeable = False

@@ -127,8 +127,17 @@ class TapeWriter:
         pursued_goals: Sequence[Sequence[int] | np.ndarray | None] | None = None,
         roles: Sequence[Sequence[tuple[int, str]] | str | None] | None = None,
         messages: Sequence[Any] | None = None,
+        *,
+        assigned_targets: Sequence[Sequence[int] | np.ndarray | None] | None = None,
+        landmark_positions: np.ndarray | Sequence[Sequence[float]] | None = None,
     ) -> int:
-        """Start an episode; returns its index. ``roles[a]`` is a label or (step, label) pairs."""
+        """Start an episode; returns its index. ``roles[a]`` is a label or (step, label) pairs.
+
+        ``pursued_goals[a]`` is the team goal agent ``a`` works toward (the team goal itself
+        when it cooperates); ``assigned_targets[a]`` is its own share of that goal's targets
+        (0/1 over the landmarks). ``landmark_positions`` (L, 2) records where this episode's
+        landmarks stood when the simulator moved them at reset.
+        """
         self._require_open()
         if self._episode is not None:
             raise TapeError(self._src, f"episode {self._episode.index}", "not ended yet")
@@ -147,6 +156,15 @@ class TapeWriter:
             ]
         record["roles"] = self._roles(roles, where)
         record["messages"] = list(messages) if messages is not None else []
+        if assigned_targets is not None:  # optional keys are written only when given
+            shares = list(assigned_targets)
+            if len(shares) != len(self.agent_ids):
+                raise TapeError(self._src, f"{where}.assigned_targets", "expected one per agent")
+            record["assigned_targets"] = [
+                self._goal(g, f"{where}.assigned_targets[{a}]") for a, g in enumerate(shares)
+            ]
+        if landmark_positions is not None:
+            record["landmark_positions"] = self._positions(landmark_positions, where)
         try:
             payload = pack(record)
         except (TypeError, ValueError) as exc:
@@ -159,22 +177,38 @@ class TapeWriter:
     def step(
         self,
         poses: np.ndarray | Sequence[Sequence[float]],
-        reward: np.ndarray | Sequence[float] | None = None,
-        action: np.ndarray | Sequence[Sequence[float]] | None = None,
+        reward: np.ndarray | Sequence[float] | float | None = None,
+        action: np.ndarray | Sequence[Any] | None = None,
         done: np.ndarray | Sequence[bool] | None = None,
         channels: Mapping[str, Any] | None = None,
     ) -> None:
-        """Record one step: ``poses`` (A, 3), optional reward (A,), action (A, K), done (A,)."""
+        """Record one step: ``poses`` (A, 3); optional ``reward`` (A,) per agent or one number
+        for the team, ``action`` (A, K) or (A,) (one discrete action each), ``done`` (A,),
+        ``channels`` name -> a number, (A,) or (A, K).
+
+        Every array is copied before this returns: a simulator may update its own arrays in
+        place for the next step.
+        """
         ep = self._current()
+        where = f"episode {ep.index} step {ep.steps}"
         block_channels = None
         if channels is not None:
-            block_channels = {k: np.asarray(v)[None] for k, v in channels.items()}
+            block_channels = {
+                k: _own_numbers(v, self._src, f"{where}.channels.{k}")[None]
+                for k, v in channels.items()
+            }
+        act = None
+        if action is not None:
+            act = _own_numbers(action, self._src, f"{where}.actions")
+            act = act[:, None] if act.ndim == 1 else act
         self._add(
             ep,
-            np.asarray(poses, dtype=np.float64)[None],
-            None if reward is None else np.asarray(reward, dtype=np.float64)[None],
-            None if action is None else np.asarray(action, dtype=np.float64)[None],
-            None if done is None else np.asarray(done, dtype=bool)[None],
+            _own(poses, np.float64, self._src, f"{where}.poses")[None],
+            None
+            if reward is None
+            else _own(reward, np.float64, self._src, f"{where}.rewards")[None],
+            None if act is None else act[None],
+            None if done is None else _own(done, np.bool_, self._src, f"{where}.done")[None],
             block_channels,
         )
 
@@ -186,15 +220,26 @@ class TapeWriter:
         done: np.ndarray | None = None,
         channels: Mapping[str, np.ndarray] | None = None,
     ) -> None:
-        """Record a block of steps: ``poses`` (T, A, 3) and the matching optional arrays."""
+        """Record a block of steps: ``poses`` (T, A, 3); optional ``rewards`` (T, A) or (T,)
+        for the team, ``actions`` (T, A, K) or (T, A), ``done`` (T, A), ``channels`` name ->
+        (T,), (T, A) or (T, A, K). Every array is copied before this returns."""
         ep = self._current()
+        where = f"episode {ep.index} step {ep.steps}"
+        act = None
+        if actions is not None:
+            act = _own_numbers(actions, self._src, f"{where}.actions")
+            act = act[:, :, None] if act.ndim == 2 else act
         self._add(
             ep,
-            np.asarray(poses, dtype=np.float64),
-            None if rewards is None else np.asarray(rewards, dtype=np.float64),
-            None if actions is None else np.asarray(actions, dtype=np.float64),
-            None if done is None else np.asarray(done, dtype=bool),
-            None if channels is None else {k: np.asarray(v) for k, v in channels.items()},
+            _own(poses, np.float64, self._src, f"{where}.poses"),
+            None if rewards is None else _own(rewards, np.float64, self._src, f"{where}.rewards"),
+            act,
+            None if done is None else _own(done, np.bool_, self._src, f"{where}.done"),
+            None
+            if channels is None
+            else {
+                k: _own_numbers(v, self._src, f"{where}.channels.{k}") for k, v in channels.items()
+            },
         )
 
     def end_episode(self, outcome: Mapping[str, Any] | None = None) -> None:
@@ -284,6 +329,15 @@ class TapeWriter:
             raise TapeError(self._src, "", "call begin_episode() before recording steps")
         return self._episode
 
+    def _positions(self, value: Any, where: str) -> dict[str, Any]:
+        place = f"{where}.landmark_positions"
+        arr = _own(value, np.float64, self._src, place)
+        if arr.shape != (self.landmark_count, 2) or not np.isfinite(arr).all():
+            raise TapeError(
+                self._src, place, f"expected ({self.landmark_count}, 2) finite x, y in metres"
+            )
+        return encode_array(arr, "<f8")
+
     def _goal(self, goal: Any, where: str) -> dict[str, Any] | None:
         if goal is None:
             return None
@@ -336,19 +390,19 @@ class TapeWriter:
         for name, arr in fields.items():
             if arr is None:
                 continue
-            ok = arr.shape[:2] == (n, a) and arr.ndim == (3 if name == "actions" else 2)
+            if name == "rewards":  # (n,) a team reward, (n, A) one per agent
+                ok = arr.shape in ((n,), (n, a))
+            else:
+                ok = arr.shape[:2] == (n, a) and arr.ndim == (3 if name == "actions" else 2)
             if not ok:
                 raise TapeError(self._src, f"{where}.{name}", f"shape {arr.shape} does not fit")
         if channels is not None:
             for name, arr in channels.items():
-                if not isinstance(name, str) or arr.shape[:1] != (n,) or arr.ndim > 2:
-                    raise TapeError(
-                        self._src, f"{where}.channels.{name}", "expected (T,) or (T, A)"
-                    )
-                if arr.ndim == 2 and arr.shape[1] != a:
-                    raise TapeError(self._src, f"{where}.channels.{name}", "expected (T, A)")
-                if arr.dtype.kind not in "fiub":
-                    raise TapeError(self._src, f"{where}.channels.{name}", "expected numbers")
+                place = f"{where}.channels.{name}"
+                if not isinstance(name, str) or arr.shape[:1] != (n,) or arr.ndim > 3:
+                    raise TapeError(self._src, place, "expected (T,), (T, A) or (T, A, K)")
+                if arr.ndim >= 2 and arr.shape[1] != a:
+                    raise TapeError(self._src, place, f"expected (T, {a}) or (T, {a}, K)")
         ep.check_layout(self._src, where, fields, channels)
         ep.blocks.append((poses, rewards, actions, done, channels))
         ep.buffered += n
@@ -383,17 +437,12 @@ class TapeWriter:
                 "steps": part.stop - part.start,
                 "poses": encode_array(fields[0][part], "<f8"),
             }
-            for i, name, dtype in (
-                (1, "rewards", "<f8"),
-                (2, "actions", "<f8"),
-                (3, "done", "|b1"),
-            ):
+            for i, name in ((1, "rewards"), (2, "actions"), (3, "done")):
                 if fields[i] is not None:
-                    record[name] = encode_array(fields[i][part], dtype)
+                    record[name] = encode_array(fields[i][part], _stored_dtype(fields[i]))
             if chans is not None:
                 record["channels"] = {
-                    name: encode_array(arr[part], "<f8" if arr.dtype.kind == "f" else "<i8")
-                    for name, arr in chans.items()
+                    name: encode_array(arr[part], _stored_dtype(arr)) for name, arr in chans.items()
                 }
             self._write(frame(KIND_CHUNK, pack(record)))
             done = part.stop
@@ -421,6 +470,32 @@ class TapeWriter:
             os.fsync(self._file.fileno())
 
 
+def _own(value: Any, dtype: Any, source: str, where: str) -> np.ndarray:
+    """A C-ordered copy of ``value`` as ``dtype``: the caller keeps its own array to reuse."""
+    try:
+        return np.array(value, dtype=dtype, order="C", copy=True)
+    except (TypeError, ValueError) as exc:
+        raise TapeError(source, where, f"expected numbers ({exc})") from None
+
+
+def _own_numbers(value: Any, source: str, where: str) -> np.ndarray:
+    """A C-ordered copy of ``value`` kept as whole numbers when it holds whole numbers
+    (int64; bool counts as 0/1) and as float64 otherwise."""
+    arr = np.asarray(value)
+    if arr.dtype.kind in "iub":
+        return _own(arr, np.int64, source, where)
+    if arr.dtype.kind != "f":
+        raise TapeError(source, where, f"expected numbers, got dtype {arr.dtype}")
+    return _own(arr, np.float64, source, where)
+
+
+def _stored_dtype(arr: np.ndarray) -> str:
+    """The tape dtype of a kept array: ``|b1`` flags, ``<i8`` whole numbers, ``<f8`` else."""
+    if arr.dtype.kind == "b":
+        return "|b1"
+    return "<i8" if arr.dtype.kind in "iu" else "<f8"
+
+
 def _cat(arrays: list[np.ndarray]) -> np.ndarray:
     return arrays[0] if len(arrays) == 1 else np.concatenate(arrays, axis=0)
 
@@ -444,10 +519,14 @@ class _EpisodeBuffer:
         fields: dict[str, np.ndarray | None],
         channels: dict[str, np.ndarray] | None,
     ) -> None:
+        actions = fields["actions"]
         layout = (
             tuple(name for name, arr in fields.items() if arr is not None),
-            None if fields["actions"] is None else fields["actions"].shape[2],
-            None if channels is None else tuple(sorted((k, v.ndim) for k, v in channels.items())),
+            None if actions is None else (*actions.shape[2:], actions.dtype.kind),
+            None if fields["rewards"] is None else fields["rewards"].ndim,
+            None
+            if channels is None
+            else tuple(sorted((k, v.shape[1:], v.dtype.kind) for k, v in channels.items())),
         )
         if self.layout is None:
             self.layout = layout
