@@ -54,6 +54,21 @@ ACTIONS: tuple[ActionSpec, ...] = (
         modes=LAYOUT,
     ),
     ActionSpec("file.save_as", "Save &As…", ("Ctrl+Shift+S",), "File", modes=LAYOUT),
+    ActionSpec(
+        "file.import_map",
+        "Import &Map…",
+        (),
+        "File",
+        tip="Trace a building's occupancy map (map-server YAML) into a new scene",
+    ),
+    ActionSpec(
+        "file.import_run",
+        "Import Robot &Run…",
+        (),
+        "File",
+        tip="Turn recorded ROS 2 bags into a tape on this scene",
+        modes=LAYOUT,
+    ),
     ActionSpec("file.quit", "&Quit", (SK.Quit, "Ctrl+Q"), "File"),
     ActionSpec("edit.undo", "&Undo", (SK.Undo,), "Edit", "file", "undo", "can_undo", modes=LAYOUT),
     ActionSpec(
@@ -85,6 +100,14 @@ ACTIONS: tuple[ActionSpec, ...] = (
     ActionSpec("view.zoom_out", "Zoom &Out", (SK.ZoomOut,), "View", "file", "zoom_out"),
     ActionSpec("view.fit", "&Fit Scene", ("Ctrl+0",), "View", "file", "zoom_fit"),
     ActionSpec("view.dark", "&Dark Theme", (), "View", checkable=True),
+    ActionSpec(
+        "view.underlay",
+        "&Underlay…",
+        (),
+        "View",
+        tip="Reference image under the layout: file, placement, opacity, lock",
+        modes=LAYOUT,
+    ),
     ActionSpec(
         "mode.layout",
         "&Layout Editor",
@@ -211,6 +234,15 @@ ACTIONS: tuple[ActionSpec, ...] = (
         "Tools",
         checkable=True,
         tip="Click landmarks on the canvas to build an explicit goal (Goals panel)",
+        modes=LAYOUT,
+    ),
+    ActionSpec(
+        "tool.calibrate_underlay",
+        "Calibrate Underlay by Two Points",
+        (),
+        "Tools",
+        checkable=True,
+        tip="Click two points of the underlay image and type their true distance",
         modes=LAYOUT,
     ),
 )

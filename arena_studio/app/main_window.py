@@ -49,6 +49,7 @@ from arena_studio.app.editor.recovery import RecoveryStore
 from arena_studio.app.icons import themed_icon
 from arena_studio.app.window_files import FileCommands
 from arena_studio.app.window_modes import ModePages
+from arena_studio.app.window_robot import RobotCommands
 from arena_studio.core.errors import ArenaError
 from arena_studio.core.resources import DEFAULT_DEMO_SCENE, demo_path
 from arena_studio.core.scene.model import Scene
@@ -63,7 +64,7 @@ def default_recovery_dir() -> Path:
     return Path(base or Path.home() / ".arena_studio") / "recovery"
 
 
-class MainWindow(FileCommands, ModePages, QMainWindow):
+class MainWindow(FileCommands, ModePages, RobotCommands, QMainWindow):
     scene_opened = Signal(object)  # Path of a scene file just opened in the layout editor
 
     def __init__(
@@ -111,6 +112,7 @@ class MainWindow(FileCommands, ModePages, QMainWindow):
         self._build_actions()
         self._build_status_bar()
         self._connect()
+        self._init_robot()
 
         self._autosave = QTimer(self)
         self._autosave.setInterval(AUTOSAVE_MS)
@@ -205,6 +207,7 @@ class MainWindow(FileCommands, ModePages, QMainWindow):
             if spec.menu:
                 menu = menus[spec.menu]
                 if spec.menu == previous_menu and spec.id in (
+                    "file.import_map",
                     "file.quit",
                     "edit.delete",
                     "edit.snap",
@@ -252,6 +255,7 @@ class MainWindow(FileCommands, ModePages, QMainWindow):
             "view.dark": lambda: self.apply_theme(
                 "dark" if self.actions_by_id["view.dark"].isChecked() else "light"
             ),
+            **self.robot_handlers(),
         }
         fn = table[spec.id]
         return lambda *_: (fn(), None)[1]
@@ -418,6 +422,7 @@ class MainWindow(FileCommands, ModePages, QMainWindow):
         if isinstance(app, QApplication):
             apply_theme(app, self.theme)
         self.canvas.set_theme(self.theme)
+        self.underlay_view.set_theme(self.theme)
         self.findings_panel.set_theme(self.theme)
         self.actions_by_id["view.dark"].setChecked(name == "dark")
         for spec in ACTIONS:

@@ -137,8 +137,10 @@ class FileCommands:
         return self.save_to(p)
 
     def save_to(self, path: Path) -> bool:
-        try:
-            save_scene(self.document.scene, path)
+        from arena_studio.core.robot.underlay import rebase
+
+        try:  # an underlay image path is kept relative to where the scene file goes
+            save_scene(rebase(self.document.scene, self.document.path, path), path)
         except (OSError, ArenaError) as exc:
             self.dialogs.error("Could not save", f"{path}: {exc}\n\nNothing was overwritten.")
             return False

@@ -1,4 +1,8 @@
-"""``arena-studio import csv|npz IN --scene SCENE -o OUT.tape``: tapes from other files."""
+"""``arena-studio import csv|npz|bag IN --scene SCENE -o OUT.tape``: tapes from other files.
+
+``import map MAP.yaml -o OUT.scene.json`` traces a building map into a scene
+(:mod:`.import_robot`).
+"""
 
 from __future__ import annotations
 
@@ -6,6 +10,7 @@ import argparse
 import os
 from pathlib import Path
 
+from arena_studio.commands import import_robot
 from arena_studio.commands.arg_types import number
 from arena_studio.commands.common import (
     EXIT_OK,
@@ -22,13 +27,13 @@ from arena_studio.core.errors import ArenaError
 from arena_studio.core.outputs import tape_outputs
 from arena_studio.core.safe_open import check_input
 
-HELP = "convert a long-format CSV table or an NPZ array file into a tape"
+HELP = "convert a CSV table, an NPZ array file or ROS 2 bags into a tape, or a map into a scene"
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("kind", choices=("csv", "npz"), help="input kind")
-    parser.add_argument("input", metavar="IN", help="the CSV or NPZ file")
-    parser.add_argument("--scene", required=True, help="the scene the episodes were run in")
+    parser.add_argument("kind", choices=("csv", "npz", "bag", "map"), help="input kind")
+    parser.add_argument("input", metavar="IN", help="the CSV, NPZ, bag or map YAML file")
+    parser.add_argument("--scene", help="the scene the episodes were run in (not for map)")
     parser.add_argument("-o", "--output", required=True, metavar="OUT.tape", help="tape to write")
     parser.add_argument(
         "--dt", type=number(lim.DT), default=None, help="time step in seconds (0.1)"
@@ -46,6 +51,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         action="store_true",
         help="leave out bad rows (CSV) or episodes (NPZ), say which, and import the rest",
     )
+    import_robot.add_arguments(parser)
 
 
 #: skipped rows or episodes named in full in the warning line; the rest are counted
@@ -53,6 +59,11 @@ WARN_NAMED = 3
 
 
 def run(args: argparse.Namespace) -> int:
+    if args.kind in ("map", "bag"):
+        return import_robot.run(args)
+    if args.more or args.scene is None:
+        error_line("extra input files" if args.more else "--scene: required for csv and npz")
+        return EXIT_UNREADABLE
     from arena_studio.core.tape.importers import import_csv, import_npz, parse_columns
 
     skipped: list[str] | None = [] if args.skip_bad else None

@@ -75,6 +75,9 @@ DT = Range("a time step", 1e-4, 60.0, "seconds")
 MAX_TIME = Range("an episode time limit", 0.1, 36_000.0, "seconds")
 RESOLUTION = Range("a cell size", 0.001, 100.0, "metres")
 CLEARANCE = Range("a clearance", 0.0, 100.0, "metres")
+TOLERANCE = Range("an outline tolerance", 0.0, 100.0, "metres")
+MIN_AREA = Range("a speck size", 0.0, 1_000_000.0, "square metres")
+GAP = Range("a pause", 0.001, MAX_SECONDS, "seconds")
 
 #: Longest clip (frames) rendered in one job: about 1 h 50 min at 30 frames per second.
 MAX_CLIP_FRAMES = 200_000
@@ -97,6 +100,9 @@ ALL: dict[str, Range] = {
     "max_time": MAX_TIME,
     "resolution": RESOLUTION,
     "clearance": CLEARANCE,
+    "tolerance": TOLERANCE,
+    "min_area": MIN_AREA,
+    "gap": GAP,
 }
 
 __all__ = ["ALL", "MAX_CLIP_FRAMES", "MAX_ROLLOUT_STEPS", "MAX_SECONDS", "Range", "RangeError"]

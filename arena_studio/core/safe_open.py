@@ -26,6 +26,9 @@ MAX_BYTES: dict[str, int] = {
     "tape": 64 * GIB,
     "csv": 512 * MIB,
     "npz": 2 * GIB,
+    "map": 1 * MIB,
+    "map image": 1 * GIB,
+    "bag": 64 * GIB,
 }
 
 #: What a user reads in messages for each format.
@@ -34,6 +37,9 @@ FORMAT_NAMES = {
     "tape": "a tape",
     "csv": "a CSV file",
     "npz": "an NPZ file",
+    "map": "a map description",
+    "map image": "a map image",
+    "bag": "a ROS 2 bag file",
 }
 
 

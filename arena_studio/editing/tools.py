@@ -456,4 +456,7 @@ def make_tools(host: ToolHost) -> dict[str, Tool]:
     )
 
     tools.append(GoalPickTool(host))
+    from arena_studio.editing.underlay_tools import CalibrateTool  # two clicks on the image
+
+    tools.append(CalibrateTool(host))
     return {t.name: t for t in tools}

@@ -90,7 +90,9 @@ def test_path_swapped_for_a_pipe_after_the_check_is_still_refused(tmp_path, monk
 
 def test_every_format_has_a_stated_bound():
     assert (
-        set(safe_open.MAX_BYTES) == set(safe_open.FORMAT_NAMES) == {"scene", "tape", "csv", "npz"}
+        set(safe_open.MAX_BYTES)
+        == set(safe_open.FORMAT_NAMES)
+        == {"scene", "tape", "csv", "npz", "map", "map image", "bag"}
     )
     readme = (Path(__file__).resolve().parents[2] / "README.md").read_text(encoding="utf-8")
     for kind, limit in safe_open.MAX_BYTES.items():

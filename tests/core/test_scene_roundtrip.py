@@ -14,7 +14,13 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from arena_studio.core.scene.files import dumps_readable, encode_scene
-from arena_studio.core.scene.model import FORMAT_NAME, Scene, load_scene, save_scene
+from arena_studio.core.scene.model import (
+    FORMAT_NAME,
+    FORMAT_VERSION,
+    Scene,
+    load_scene,
+    save_scene,
+)
 
 GREENHOUSE = Path(__file__).resolve().parents[2] / "scenes" / "greenhouse.scene.json"
 
@@ -85,10 +91,19 @@ def scene_docs(draw: st.DrawFn) -> dict:
         weights["vectors"] = [draw(st.floats(0, 10)) for _ in vectors]
     if weights:
         goals["weights"] = weights
-    doc = {"format": FORMAT_NAME, "version": 1, "name": draw(text), "units": "m"}
+    doc = {"format": FORMAT_NAME, "version": FORMAT_VERSION, "name": draw(text), "units": "m"}
     if draw(st.booleans()):
         doc["description"] = draw(text)
     doc.update(rooms=rooms, obstacles=obstacles, landmarks=landmarks, agents=agents, goals=goals)
+    if draw(st.booleans()):  # version 2: a reference image under the layout
+        doc["underlay"] = {
+            "image": draw(text),
+            "origin": draw(point),
+            "scale": draw(positive),
+            "rotation": draw(coord),
+            "opacity": draw(st.floats(0, 1)),
+            "locked": draw(st.booleans()),
+        }
     return doc
 
 

@@ -23,6 +23,8 @@ REPO = Path(__file__).resolve().parents[2]
 SCENE_FILES = [
     *sorted((REPO / "scenes").glob("*.scene.json")),
     REPO / "tests" / "data" / "broken.scene.json",  # broken in meaning, well-formed in shape
+    REPO / "tests" / "data" / "version1.scene.json",  # stored as version 1
+    REPO / "tests" / "data" / "underlay.scene.json",  # version 2 with an underlay
 ]
 
 
@@ -80,6 +82,8 @@ GOOD_EDITS = [
     lambda d: d.pop("description"),
     lambda d: d.update(description=""),
     lambda d: d.update(version=1.0),
+    lambda d: d.update(version=2),
+    lambda d: d.update(version=2, underlay={"image": "m.png", "origin": [0, 0], "scale": 0.1}),
     lambda d: d["agents"][2]["start"].pop("heading"),
     lambda d: d["agents"][2]["start"].update(heading=1.25),
     lambda d: d["goals"].update(weights={"families": [1, 0]}),
@@ -90,7 +94,10 @@ GOOD_EDITS = [
 ]
 BAD_EDITS = [
     lambda d: d.update(format="x"),
-    lambda d: d.update(version=2),
+    lambda d: d.update(version=3),
+    lambda d: d.update(underlay={"image": "m.png", "origin": [0, 0], "scale": 0.1}),  # v1
+    lambda d: d.update(version=2, underlay={"image": "m.png", "origin": [0, 0]}),
+    lambda d: d.update(version=2, underlay={"image": "m.png", "origin": [0], "scale": 1}),
     lambda d: d.update(units="cm"),
     lambda d: d.update(extra=1),
     lambda d: d.pop("goals"),

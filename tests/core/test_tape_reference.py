@@ -28,7 +28,7 @@ REFERENCE = Path(__file__).resolve().parents[1] / "data" / "reference.tape"
 # order of a scene file); its canonical JSON (sorted keys) is what scene_hash is taken over
 SCENE_DOC: dict[str, Any] = {
     "format": "arena-studio.scene",
-    "version": 1,
+    "version": 2,
     "name": "reference",
     "units": "m",
     "rooms": [{"id": "hall", "outline": [[0.0, 0.0], [6.0, 0.0], [6.0, 4.0], [0.0, 4.0]]}],
@@ -89,7 +89,9 @@ def _record(kind: str, payload: dict[str, Any]) -> bytes:
 
 
 def build_from_spec() -> bytes:
-    canonical = json.dumps(SCENE_DOC, sort_keys=True, separators=(",", ":"), ensure_ascii=True)
+    # "Scene hash": the text is taken with version 1 whatever version the file says
+    hashed = {**SCENE_DOC, "version": 1}
+    canonical = json.dumps(hashed, sort_keys=True, separators=(",", ":"), ensure_ascii=True)
     out = bytearray(b"\x89ASTAPE\n")
     out += _record(
         "H",

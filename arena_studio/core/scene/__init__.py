@@ -22,6 +22,7 @@ from arena_studio.core.scene.model import (
     Scene,
     SceneFormatError,
     Start,
+    Underlay,
     load_scene,
     save_scene,
 )
@@ -40,6 +41,7 @@ __all__ = [
     "Scene",
     "SceneFormatError",
     "Start",
+    "Underlay",
     "load_scene",
     "save_scene",
 ]

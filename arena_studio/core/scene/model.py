@@ -21,7 +21,10 @@ from typing import Any, Literal
 from arena_studio.core.errors import SceneFormatError
 
 FORMAT_NAME = "arena-studio.scene"
-FORMAT_VERSION = 1
+FORMAT_VERSION = 2
+#: content hashes are taken of the layout in its version-1 form (no underlay), so a scene
+#: keeps its hash across format versions that only add drawing aids, and old tapes match
+HASH_VERSION = 1
 
 Point = tuple[float, float]
 Pose = tuple[float, float, float]
@@ -182,6 +185,35 @@ class GoalSpec:
 
 
 @dataclass(frozen=True)
+class Underlay:
+    """A reference image (a building map, a floor plan) drawn under the layout.
+
+    ``image`` is a path relative to the scene file's folder (``/`` separators). The image's
+    lower-left corner sits at ``origin`` (metres), each pixel (an SVG's user unit) is
+    ``scale`` metres, and the image is turned ``rotation`` radians counter-clockwise about
+    that corner. ``opacity`` 0..1; ``locked`` keeps it from being moved in the editor.
+    The underlay is a drawing aid: it is not part of the layout's content hash.
+    """
+
+    image: str
+    origin: Point = (0.0, 0.0)
+    scale: float = 0.05
+    rotation: float = 0.0
+    opacity: float = 0.5
+    locked: bool = True
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "image": self.image,
+            "origin": _pts((self.origin,))[0],
+            "scale": float(self.scale),
+            "rotation": float(self.rotation),
+            "opacity": float(self.opacity),
+            "locked": bool(self.locked),
+        }
+
+
+@dataclass(frozen=True)
 class Scene:
     """One layout: rooms, obstacles, landmarks, agents, goal set and success rule."""
 
@@ -192,6 +224,7 @@ class Scene:
     agents: tuple[Agent, ...] = ()
     goals: GoalSpec = field(default_factory=GoalSpec)
     description: str = ""
+    underlay: Underlay | None = None
 
     # -- conversions -------------------------------------------------------------------
     def to_dict(self) -> dict[str, Any]:
@@ -209,6 +242,8 @@ class Scene:
         out["landmarks"] = [lm.to_dict() for lm in self.landmarks]
         out["agents"] = [a.to_dict() for a in self.agents]
         out["goals"] = self.goals.to_dict()
+        if self.underlay is not None:
+            out["underlay"] = self.underlay.to_dict()
         return out
 
     @classmethod
@@ -258,11 +293,14 @@ def canonical_scene_json(scene: Scene | Mapping[str, Any]) -> str:
 
     A document (a mapping as read from ``*.scene.json``) is parsed first, so ``16`` and
     ``16.0`` give one text: :meth:`Scene.to_dict` writes every measurement as a float and
-    fills the defaults; then JSON with sorted keys, no spaces and ``\\u`` escapes for
-    anything beyond ASCII.
+    fills the defaults; the underlay is left out and ``version`` is :data:`HASH_VERSION`;
+    then JSON with sorted keys, no spaces and ``\\u`` escapes for anything beyond ASCII.
     """
     value = scene if isinstance(scene, Scene) else Scene.from_dict(scene)
-    return json.dumps(value.to_dict(), sort_keys=True, separators=(",", ":"), ensure_ascii=True)
+    doc = value.to_dict()
+    doc.pop("underlay", None)  # a drawing aid, not the layout
+    doc["version"] = HASH_VERSION  # the same text under every later format version
+    return json.dumps(doc, sort_keys=True, separators=(",", ":"), ensure_ascii=True)
 
 
 def scene_hash(scene: Scene | Mapping[str, Any]) -> str:
@@ -299,6 +337,7 @@ __all__ = [
     "Scene",
     "SceneFormatError",
     "Start",
+    "Underlay",
     "canonical_scene_json",
     "load_scene",
     "save_scene",

@@ -25,12 +25,13 @@ from arena_studio.core.scene.model import (
     Room,
     Scene,
     Start,
+    Underlay,
 )
 from arena_studio.core.scene.upgrade import upgrade_to_current
 from arena_studio.core.value_limits import HEADING_LIMIT
 
 TOP_REQUIRED = ("format", "version", "name", "units", "rooms", "landmarks", "agents", "goals")
-TOP_OPTIONAL = ("obstacles", "description")
+TOP_OPTIONAL = ("obstacles", "description", "underlay")
 
 
 def parse_scene(data: Mapping[str, Any]) -> Scene:
@@ -69,6 +70,23 @@ def parse_scene(data: Mapping[str, Any]) -> Scene:
             _agent(a, f"agents[{i}]") for i, a in enumerate(f.sequence(doc["agents"], "agents"))
         ),
         goals=_goals(doc["goals"], "goals"),
+        underlay=_underlay(doc["underlay"], "underlay") if "underlay" in doc else None,
+    )
+
+
+def _underlay(value: object, path: str) -> Underlay:
+    obj = f.mapping(value, path)
+    f.check_keys(obj, path, ("image", "origin", "scale"), ("rotation", "opacity", "locked"))
+    locked = obj.get("locked", True)
+    if not isinstance(locked, bool):
+        raise SceneFormatError(f.join(path, "locked"), f"expected true or false, got {locked!r}")
+    return Underlay(
+        image=f.string(obj["image"], f.join(path, "image"), max_length=1000),
+        origin=f.point(obj["origin"], f.join(path, "origin")),
+        scale=f.number(obj["scale"], f.join(path, "scale"), exclusive_minimum=0),
+        rotation=f.number(obj.get("rotation", 0.0), f.join(path, "rotation")),
+        opacity=f.number(obj.get("opacity", 0.5), f.join(path, "opacity"), minimum=0, maximum=1),
+        locked=locked,
     )
 
 

@@ -1,8 +1,10 @@
 """Ordered upgrade steps for older scene documents.
 
-``UPGRADES[n]`` turns a version-``n`` document into version ``n + 1``. Version 1 is the first
-published version, so the table is empty today; the next format change adds ``UPGRADES[1]``
-together with a test that loads a stored version-1 file.
+``UPGRADES[n]`` turns a version-``n`` document into version ``n + 1``; each step has a test
+that loads a stored file of the older version (tests/data/version1.scene.json).
+
+- 1 -> 2: version 2 adds the optional ``underlay`` (a reference image under the layout).
+  A version-1 document cannot hold one, so a version-1 file that has it is refused.
 """
 
 from __future__ import annotations
@@ -10,10 +12,19 @@ from __future__ import annotations
 from collections.abc import Callable, Mapping
 from typing import Any
 
+from arena_studio.core.errors import SceneFormatError
 from arena_studio.core.scene.model import FORMAT_VERSION
 
 Document = dict[str, Any]
-UPGRADES: dict[int, Callable[[Document], Document]] = {}
+
+
+def _v1_to_v2(doc: Document) -> Document:
+    if "underlay" in doc:
+        raise SceneFormatError("underlay", "needs version 2 (this file says version 1)")
+    return doc
+
+
+UPGRADES: dict[int, Callable[[Document], Document]] = {1: _v1_to_v2}
 
 
 def upgrade_to_current(doc: Mapping[str, Any], version: int) -> Mapping[str, Any]:
