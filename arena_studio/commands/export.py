@@ -16,6 +16,7 @@ from ..core.errors import ArenaError
 from ..core.export import CAUTION, DEFAULT_RESOLUTION, FORMATS, export_scene
 from .arg_types import number
 from .common import EXIT_OK, EXIT_UNREADABLE, error_line, read_scene
+from .progress import graph_bar
 
 HELP = "export a scene for a simulator or a document (json, msgpack, npz, wkt, svg, grid)"
 
@@ -55,15 +56,21 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    from ..core.visibility import PlanTooLarge  # lazy: shapely and scipy
+
     scene = read_scene(args.scene)  # a CommandError becomes one line in cli.main
     try:
-        written = export_scene(
-            scene,
-            args.format,
-            args.output,
-            resolution=args.resolution,
-            clearance=args.clearance,
-        )
+        with graph_bar():
+            written = export_scene(
+                scene,
+                args.format,
+                args.output,
+                resolution=args.resolution,
+                clearance=args.clearance,
+            )
+    except PlanTooLarge as exc:
+        error_line(f"{args.scene}: {exc}")
+        return EXIT_UNREADABLE
     except ArenaError as exc:
         error_line(str(exc))
         return EXIT_UNREADABLE

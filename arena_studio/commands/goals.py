@@ -14,6 +14,7 @@ import json
 import sys
 from typing import TYPE_CHECKING, Any
 
+from ..core.errors import ArenaError
 from ..core.export import CAUTION
 from ..core.scene import Scene
 
@@ -21,6 +22,7 @@ if TYPE_CHECKING:  # the planner pulls in scipy; load it only when the command r
     from ..core.goals import GoalTable
     from ..core.partime import GoalPlan
 from .common import EXIT_OK, EXIT_PROBLEMS, EXIT_UNREADABLE, error_line, read_scene
+from .progress import graph_bar, progress_bar
 
 HELP = "list a scene's goals with par times and assignments (exit 0 ok, 1 problems, 2 unreadable)"
 
@@ -30,16 +32,16 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument(
         "--json", action="store_true", help='print {"goals": [...]} as JSON instead of a table'
     )
+    parser.add_argument("--quiet", action="store_true", help="no progress bar")
 
 
 def run(args: argparse.Namespace) -> int:
     scene = read_scene(args.scene)  # a CommandError becomes one line in cli.main
     try:
-        from ..core.goals import enumerate_goals
-        from ..core.partime import plan_all
-
-        table = enumerate_goals(scene)
-        plans = plan_all(scene, table)
+        table, plans = _plan(scene, args.quiet)
+    except ArenaError as exc:  # e.g. a graph over the memory limit, refused with its estimate
+        error_line(f"{args.scene}: {exc}")
+        return EXIT_UNREADABLE
     except Exception as exc:  # a planner bug must still end in one line, not a traceback
         error_line(f"{args.scene}: planning failed ({type(exc).__name__}: {exc}); please report")
         return EXIT_UNREADABLE
@@ -50,6 +52,22 @@ def run(args: argparse.Namespace) -> int:
         sys.stdout.write(format_table(args.scene, scene, table, plans))
     bad = table.has_errors or len(table) == 0 or not all(p.feasible for p in plans)
     return EXIT_PROBLEMS if bad else EXIT_OK
+
+
+def _plan(scene: Scene, quiet: bool) -> tuple[GoalTable, list[GoalPlan]]:
+    """Every goal planned in order, with a bar per goal and per visibility graph."""
+    from ..core.goals import enumerate_goals
+    from ..core.partime import plan_goal
+    from ..core.paths import shared_planner
+
+    table = enumerate_goals(scene)
+    planner = shared_planner(scene)
+    plans = []
+    with progress_bar(len(table), "goals", quiet) as bar, graph_bar(quiet):
+        for i in range(len(table)):
+            plans.append(plan_goal(scene, table.vectors[i], planner=planner))
+            bar.advance(1)
+    return table, plans
 
 
 def _targets(table: GoalTable, i: int) -> list[str]:
