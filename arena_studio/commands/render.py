@@ -113,6 +113,13 @@ def _run(args: argparse.Namespace) -> int:
         size = parse_size(args.size)
     except ClipError as exc:
         raise CommandError(f"--size: {exc}") from None
+    if suffix == ".png":
+        scaled = (round(size[0] * args.scale), round(size[1] * args.scale))
+        if not all(lim.FRAME_SIDE.low <= side <= lim.FRAME_SIDE.high for side in scaled):
+            raise CommandError(
+                f"--scale {args.scale:g}: a {size[0]}x{size[1]} frame becomes "
+                f"{scaled[0]}x{scaled[1]} pixels; expected {lim.FRAME_SIDE.describe()}"
+            )
     if args.end is not None and not args.end > args.start:
         raise CommandError(f"--end {args.end:g}: expected a time after --start {args.start:g}")
     if not out.parent.is_dir():
