@@ -6,7 +6,7 @@ from __future__ import annotations
 import os
 from typing import Any
 
-from hypothesis import settings
+from hypothesis import HealthCheck, settings
 from hypothesis import strategies as st
 
 from arena_studio.core.resources import demo_path
@@ -50,10 +50,28 @@ HOSTILE_TEXT = [
 ]
 
 
+_COMMON: dict[str, Any] = {
+    "deadline": None,  # no wall-clock limits: resource limits guard the heavy cases
+    "suppress_health_check": [
+        HealthCheck.too_slow,
+        HealthCheck.function_scoped_fixture,
+        HealthCheck.data_too_large,
+        HealthCheck.filter_too_much,
+    ],
+}
+# ``make test``: a few examples per test, the same every run (a CI failure reproduces);
+# ``make fuzz`` (ARENA_FUZZ=long): many, new ones each run. Only the fuzz tests use these
+# profiles (through fuzz_settings), so other hypothesis tests keep their own settings.
+settings.register_profile("fuzz-short", max_examples=8, derandomize=True, **_COMMON)
+settings.register_profile("fuzz-long", max_examples=300, **_COMMON)
+
+
 def fuzz_settings() -> settings:
     """The long profile under ``ARENA_FUZZ=long`` (``make fuzz``), else the short one."""
     long = os.environ.get("ARENA_FUZZ", "") == "long"
-    return settings(settings.get_profile("fuzz-long" if long else "fuzz-short"))
+    chosen = settings.get_profile("fuzz-long" if long else "fuzz-short")
+    count = os.environ.get("ARENA_FUZZ_EXAMPLES", "")  # e.g. a quick look at many cases
+    return settings(chosen, max_examples=int(count)) if count.isdigit() else settings(chosen)
 
 
 def number_text() -> st.SearchStrategy[str]:
