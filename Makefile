@@ -6,7 +6,7 @@ VENV := .venv
 BIN := $(VENV)/bin
 STAMP := $(VENV)/.installed
 
-.PHONY: run test lint bench demos clean
+.PHONY: run test lint bench fuzz demos clean
 
 $(BIN)/python:
 	$(PYTHON) -m venv $(VENV)
@@ -29,6 +29,13 @@ lint: $(STAMP)
 
 bench: $(STAMP)
 	QT_QPA_PLATFORM=offscreen $(BIN)/python -m pytest tests/bench -s -q -p no:cacheprovider
+
+# hostile-input fuzz suite, long profile (minutes; `make test` runs the short one);
+# FUZZ_EXAMPLES=N sets the examples per test
+FUZZ_EXAMPLES ?= 300
+fuzz: $(STAMP)
+	ARENA_FUZZ=long ARENA_FUZZ_EXAMPLES=$(FUZZ_EXAMPLES) QT_QPA_PLATFORM=offscreen \
+	  nice $(BIN)/python -m pytest tests/fuzz -q -p no:cacheprovider --hypothesis-show-statistics
 
 # demo tapes from the demo scenes, scripted agents, fixed seeds (reproducible bit for bit)
 DEMO_SCENES := greenhouse parking-level lab-wing

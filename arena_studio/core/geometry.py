@@ -199,7 +199,8 @@ def bounds(scene: Scene, margin: float = 0.0) -> tuple[float, float, float, floa
     geoms = [g for g in geoms if not g.is_empty]
     if not geoms:
         return (-margin, -margin, 1.0 + margin, 1.0 + margin)
-    minx, miny, maxx, maxy = unary_union(geoms).bounds
+    # bounds of the parts, no union: an invalid outline (a bowtie) has bounds but no union
+    minx, miny, maxx, maxy = (float(v) for v in shapely.total_bounds(geoms))
     return (minx - margin, miny - margin, maxx + margin, maxy + margin)
 
 
