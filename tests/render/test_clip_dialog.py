@@ -84,3 +84,24 @@ def test_look_of_the_dialog(qtbot, tape, tmp_path):
     shot = tmp_path / "clip_dialog.png"
     assert dialog.grab().save(str(shot))
     assert dialog.width() < 1100 and dialog.height() < 1000  # fits a laptop screen
+
+
+def test_dialog_boxes_take_the_command_line_ranges(qtbot, tape):
+    """The boxes accept what ``arena-studio render`` accepts (core.limits is the one table)."""
+    from arena_studio.core import limits
+
+    dialog = ClipDialog(None, tape, 0)
+    qtbot.addWidget(dialog)
+    for box, limit in (
+        (dialog.fps, limits.FPS),
+        (dialog.speed, limits.SPEED),
+        (dialog.width_box, limits.FRAME_SIDE),
+        (dialog.height_box, limits.FRAME_SIDE),
+        (dialog.start, limits.TIME),
+        (dialog.end, limits.TIME),
+        (dialog.trail, limits.TRAIL),
+        (dialog.title_seconds, limits.TITLE_SECONDS),
+    ):
+        assert (box.minimum(), box.maximum()) == (limit.low, limit.high)
+        box.setValue(limit.high * 10 + 1)  # Qt clamps typed values into the range
+        assert box.value() == limit.high
