@@ -9,7 +9,7 @@ from ..core import limits as lim
 from ..core.errors import ArenaError
 from .arg_types import number
 from .common import EXIT_OK, EXIT_UNREADABLE, CommandError, error_line, read_scene
-from .progress import progress_bar
+from .progress import graph_bar, progress_bar
 
 HELP = "record scripted preview episodes of a scene into a tape"
 
@@ -56,7 +56,7 @@ def run(args: argparse.Namespace) -> int:
         scene = read_scene(args.scene)
         from ..core.rollout import run_rollout
 
-        with progress_bar(args.episodes, "rollout", args.quiet) as bar:
+        with graph_bar(args.quiet), progress_bar(args.episodes, "rollout", args.quiet) as bar:
             run_rollout(
                 scene,
                 out,
