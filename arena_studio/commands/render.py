@@ -131,11 +131,14 @@ def _run(args: argparse.Namespace) -> int:
     episodes = []
     for i in indices:
         if not 0 <= i < len(tape):
-            raise CommandError(f"{args.tape}: no episode {i} (the tape has {len(tape)})")
+            cut = "; it was cut short" if tape.truncated else ""
+            raise CommandError(f"{args.tape}: no episode {i} (the tape has {len(tape)}{cut})")
         try:
             episodes.append(tape.episode(i))
         except ArenaError as exc:
             raise CommandError(str(exc)) from None
+    if tape.truncated and tape.recovery_message:  # said once the episodes are known good
+        warning_line(tape.recovery_message)
     options = FrameOptions(
         theme=args.theme,
         trails=args.trail > 0,
@@ -190,8 +193,6 @@ def _open(path: str):
         tape = open_tape(Path(path))  # refuses folders, pipes and devices by name
     except ArenaError as exc:
         raise CommandError(str(exc)) from None
-    if tape.truncated and tape.recovery_message:
-        warning_line(tape.recovery_message)
     return tape
 
 

@@ -403,7 +403,13 @@ def import_npz(
 
         def per_episode(name: str, i: int) -> np.ndarray | None:
             if name in names:
-                return load(name)[i]
+                stacked = load(name)
+                if stacked.ndim == 0 or stacked.shape[0] != count:
+                    raise ImportFormatError(
+                        f"{src}: array {name}: expected one entry per episode ({count}), "
+                        f"got shape {stacked.shape}"
+                    )
+                return stacked[i]
             if f"{name}_{i}" in names:
                 return load(f"{name}_{i}")
             return None

@@ -190,3 +190,23 @@ def test_large_scenes_work_or_are_refused_with_an_estimate(tmp_path, case):
         assert_clean(result, str(path))
         if result.code == 2:  # refused: the reason says which limit
             assert any(w in result.lines()[0] for w in ("too many", "corner pairs")), result.err
+
+
+# -- found by the fuzz suite ---------------------------------------------------------------
+def test_rendering_a_cut_tape_without_episodes_is_one_line(tmp_path):
+    whole = _tape(tmp_path).read_bytes()
+    cut = tmp_path / "cut.tape"
+    cut.write_bytes(whole[: len(whole) // 3])  # inside the first episode: none is complete
+    result = run_in_process(["render", str(cut), "-o", str(tmp_path / "x.png")])
+    assert_clean(result, str(cut))
+    assert result.code == 2 and "cut short" in result.lines()[0]
+
+
+def test_an_npz_array_without_an_episode_axis_is_one_line(tmp_path):
+    src = tmp_path / "in.npz"
+    np.savez(src, poses=np.zeros((1, 2, 3, 3)), rewards=np.array(0.0))
+    result = run_in_process(
+        ["import", "npz", str(src), "--scene", SCENE, "-o", str(tmp_path / "o.tape")]
+    )
+    assert_clean(result, str(src))
+    assert result.code == 2 and "array rewards" in result.lines()[0]
