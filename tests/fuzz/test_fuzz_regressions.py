@@ -196,7 +196,10 @@ def test_large_scenes_work_or_are_refused_with_an_estimate(tmp_path, case):
 def test_rendering_a_cut_tape_without_episodes_is_one_line(tmp_path):
     whole = _tape(tmp_path).read_bytes()
     cut = tmp_path / "cut.tape"
-    cut.write_bytes(whole[: len(whole) // 3])  # inside the first episode: none is complete
+    # DEVELOPERS.md "Tape format": magic (8), u32 length, kind, payload, u32 crc; cut 10
+    # bytes after that header record, inside the first episode: no episode is complete
+    header_end = 8 + 4 + 1 + int.from_bytes(whole[8:12], "little") + 4
+    cut.write_bytes(whole[: header_end + 10])
     result = run_in_process(["render", str(cut), "-o", str(tmp_path / "x.png")])
     assert_clean(result, str(cut))
     assert result.code == 2 and "cut short" in result.lines()[0]
