@@ -28,9 +28,13 @@ from tests.fuzz.strategies import SCENE, fuzz_settings, hostile_float, scene_doc
 
 
 def _write_scene(doc: object, folder: Path, as_msgpack: bool) -> Path:
-    if as_msgpack:
+    try:  # msgpack holds integers of at most 64 bits; larger ones go in JSON
+        packed = msgpack.packb(doc, use_bin_type=True) if as_msgpack else None
+    except OverflowError:
+        packed = None
+    if packed is not None:
         path = folder / "fuzz.scene.msgpack"
-        path.write_bytes(msgpack.packb(doc, use_bin_type=True))
+        path.write_bytes(packed)
     else:
         path = folder / "fuzz.scene.json"
         path.write_text(json.dumps(doc))
