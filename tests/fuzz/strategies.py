@@ -226,9 +226,7 @@ def scene_documents(draw: st.DrawFn) -> dict[str, Any]:
         doc: dict[str, Any] = json.load(f)
     for _ in range(draw(st.integers(1, 4))):
         kind = draw(
-            st.sampled_from(
-                ["room", "obstacle", "circle", "landmark", "agent", "region", "goals", "junk"]
-            )
+            st.sampled_from(["room", "obstacle", "circle", "landmark", "agent", "region", "goals"])
         )
         if kind == "room":
             doc["rooms"].append({"id": f"r{len(doc['rooms'])}", "outline": draw(polygon())})
@@ -269,14 +267,14 @@ def scene_documents(draw: st.DrawFn) -> dict[str, Any]:
                 families=draw(st.lists(st.integers(-1, 12), max_size=4, unique=True)),
                 hold_time=draw(hostile_float()),
             )
-        else:
-            key = draw(st.sampled_from(list(doc)))
-            doc[key] = draw(
-                st.one_of(
-                    st.none(),
-                    st.integers(),
-                    st.text(max_size=5),
-                    st.lists(st.integers(), max_size=3),
-                )
+    if draw(st.booleans()):  # last, so the structured changes above still find their lists
+        key = draw(st.sampled_from(list(doc)))
+        doc[key] = draw(
+            st.one_of(
+                st.none(),
+                st.integers(),
+                st.text(max_size=5),
+                st.lists(st.integers(), max_size=3),
             )
+        )
     return doc
