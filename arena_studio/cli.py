@@ -12,11 +12,11 @@ import sys
 from collections.abc import Sequence
 from typing import NoReturn
 
-from . import __version__
-from .commands import COMMANDS, load_command
-from .commands.arg_types import number
-from .commands.common import CommandError, error_line
-from .core import limits
+from arena_studio import __version__
+from arena_studio.commands import COMMANDS, load_command
+from arena_studio.commands.arg_types import number
+from arena_studio.commands.common import CommandError, error_line
+from arena_studio.core import limits
 
 
 class _OneLineParser(argparse.ArgumentParser):
@@ -71,7 +71,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     except SystemExit as exc:  # argparse already printed one line of usage error
         return int(exc.code or 0)
     if args.command == "app":
-        from .app.launch import launch_app
+        from arena_studio.app.launch import launch_app
 
         return launch_app(args)
     try:

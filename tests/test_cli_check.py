@@ -16,7 +16,7 @@ import pytest
 
 from arena_studio.cli import main
 from arena_studio.commands import COMMANDS
-from arena_studio.core.checks import CODES
+from arena_studio.core.checks.checker import CODES
 
 REPO = Path(__file__).resolve().parent.parent
 BROKEN = REPO / "tests" / "data" / "broken.scene.json"

@@ -8,10 +8,10 @@ from __future__ import annotations
 import io
 
 from arena_studio.commands.progress import graph_bar
-from arena_studio.core import visibility
-from arena_studio.core.geometry import free_space
+from arena_studio.core.geometry import visibility as visibility
+from arena_studio.core.geometry.regions import free_space
 from arena_studio.core.resources import demo_path
-from arena_studio.core.scene import load_scene
+from arena_studio.core.scene.model import load_scene
 
 
 class _Terminal(io.StringIO):

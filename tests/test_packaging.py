@@ -54,7 +54,7 @@ def test_wheel_contains_bundled_folders(wheel: Path) -> None:
     assert "arena_studio/_bundled/resources/schema/scene.schema.json" in names
     for scene in sorted((REPO / "scenes").glob("*.scene.json")):
         assert f"arena_studio/_bundled/scenes/{scene.name}" in names
-    assert "arena_studio/core/checks.py" in names
+    assert "arena_studio/core/checks/checker.py" in names
     assert not any(n.startswith("tests/") for n in names)
 
 

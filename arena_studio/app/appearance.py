@@ -12,8 +12,8 @@ from pathlib import Path
 from PySide6.QtGui import QPalette
 from PySide6.QtWidgets import QApplication
 
-from ..core.resources import resource_path
-from ..render.theme import Theme
+from arena_studio.core.resources import resource_path
+from arena_studio.render.theme import Theme
 
 
 @cache

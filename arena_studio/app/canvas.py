@@ -23,14 +23,14 @@ from PySide6.QtGui import (
 )
 from PySide6.QtWidgets import QFrame, QGraphicsScene, QGraphicsView, QWidget
 
-from ..core.geometry import bounds
-from ..core.scene import Scene
-from ..render.drawing import nice_step
-from ..render.episode_painter import blits_exactly
-from ..render.scene_painter import paint_scale_bar
-from ..render.theme import Theme
-from ..render.view import ViewTransform
-from .scene_items import WORLD, SceneLayer
+from arena_studio.app.scene_items import WORLD, SceneLayer
+from arena_studio.core.geometry.regions import bounds
+from arena_studio.core.scene.model import Scene
+from arena_studio.render.drawing import nice_step
+from arena_studio.render.episode_painter import blits_exactly
+from arena_studio.render.scene_painter import paint_scale_bar
+from arena_studio.render.theme import Theme
+from arena_studio.render.view import ViewTransform
 
 MIN_PPM, MAX_PPM = 0.5, 4000.0  # pixels per metre
 EMPTY_VIEW = (0.0, 0.0, 20.0, 12.0)  # metres shown for a new, empty scene

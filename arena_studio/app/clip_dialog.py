@@ -31,10 +31,10 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from ..core import limits
-from ..render.clip import SIZE_PRESETS, ClipCancelled, ClipError, ClipSpec, export_clip
-from ..render.episode_painter import FrameOptions
-from ..render.theme import load_theme
+from arena_studio.core import limits
+from arena_studio.render.clip import SIZE_PRESETS, ClipCancelled, ClipError, ClipSpec, export_clip
+from arena_studio.render.episode_painter import FrameOptions
+from arena_studio.render.theme import load_theme
 
 KINDS = (
     ("MP4 video (H.264)", ".mp4"),
@@ -288,7 +288,7 @@ class ClipDialog(QDialog):
         options = self.frame_options()
         size = self.frame_size()
         if target.suffix.lower() in (".png", ".svg"):
-            from ..render.frame import save_png_still, save_svg_still
+            from arena_studio.render.frame import save_png_still, save_svg_still
 
             if not target.parent.is_dir():
                 raise ClipError(f"{target.parent}: folder does not exist")

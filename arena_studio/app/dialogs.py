@@ -11,7 +11,7 @@ import time
 
 from PySide6.QtWidgets import QFileDialog, QMessageBox, QWidget
 
-from .recovery import RecoveryCopy
+from arena_studio.app.editor.recovery import RecoveryCopy
 
 SCENE_FILTER = (
     "Scenes (*.scene.json *.scene.msgpack *.json *.msgpack);;Tapes (*.tape);;All files (*)"

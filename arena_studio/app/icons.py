@@ -8,7 +8,7 @@ from PySide6.QtCore import QByteArray, QRectF, Qt
 from PySide6.QtGui import QIcon, QPainter, QPixmap
 from PySide6.QtSvg import QSvgRenderer
 
-from ..core.resources import resource_path
+from arena_studio.core.resources import resource_path
 
 
 @cache

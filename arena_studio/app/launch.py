@@ -12,7 +12,7 @@ import os
 import sys
 from pathlib import Path
 
-from ..core.safe_open import InputFileError, check_input
+from arena_studio.core.safe_open import InputFileError, check_input
 
 SCREENSHOT_SIZE = (1600, 1000)
 DEMO_TAPE = "greenhouse-greedy.tape"  # default demo scene; successes and several failure kinds
@@ -81,8 +81,8 @@ def launch_app(args: argparse.Namespace) -> int:
 
     from PySide6.QtWidgets import QApplication
 
-    from .dialogs import QuietDialogs
-    from .main_window import MainWindow
+    from arena_studio.app.dialogs import QuietDialogs
+    from arena_studio.app.main_window import MainWindow
 
     app = QApplication.instance() or QApplication(sys.argv[:1])
     app.setOrganizationName("arena_studio")
@@ -103,7 +103,7 @@ def launch_app(args: argparse.Namespace) -> int:
         if is_tape and (screenshot or _wants_moment(args)):
             if screenshot:
                 window.resize(*SCREENSHOT_SIZE)
-            from .replay import prepare_screenshot, show_moment
+            from arena_studio.app.replay import prepare_screenshot, show_moment
 
             moment = prepare_screenshot if screenshot else show_moment
             problem = moment(window, getattr(args, "episode", None), getattr(args, "time", None))
@@ -127,7 +127,7 @@ def _wants_moment(args: argparse.Namespace) -> bool:
 
 def _close_quietly(window: object) -> None:
     """Stop background work before exiting with an error (nothing was edited)."""
-    from .main_window import MainWindow
+    from arena_studio.app.main_window import MainWindow
 
     assert isinstance(window, MainWindow)
     window.document.undo_stack.setClean()
@@ -136,12 +136,12 @@ def _close_quietly(window: object) -> None:
 
 def _open_demo_tape(window: object) -> None:
     """With no argument the replay page also gets the demo tape (the editor stays in front)."""
-    from ..core.resources import demo_path
+    from arena_studio.core.resources import demo_path
 
     tape = demo_path(DEMO_TAPE)
     if not tape.is_file():
         return
-    from .replay import open_tape
+    from arena_studio.app.replay import open_tape
 
     open_tape(window, tape)
 
@@ -149,7 +149,7 @@ def _open_demo_tape(window: object) -> None:
 def _screenshot(app: object, window: object, out: Path) -> int:
     from PySide6.QtWidgets import QApplication
 
-    from .main_window import MainWindow
+    from arena_studio.app.main_window import MainWindow
 
     assert isinstance(window, MainWindow)
     window.resize(*SCREENSHOT_SIZE)

@@ -32,26 +32,26 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from ..core.errors import ArenaError
-from ..core.resources import DEFAULT_DEMO_SCENE, demo_path
-from ..core.scene import Scene
-from ..render.theme import THEMES, Theme, load_theme
-from . import edits
-from .actions import ACTIONS, MENUS, ActionSpec, key_sequences
-from .appearance import apply_theme
-from .canvas import SceneCanvas
-from .checking import CheckRunner
-from .dialogs import Dialogs
-from .document import SceneDocument
-from .editor import Editor
-from .editor_canvas import EditorCanvas
-from .findings_panel import FindingsPanel
-from .goals_panel import GoalsPanel
-from .icons import themed_icon
-from .properties_panel import PropertiesPanel
-from .recovery import RecoveryStore
-from .window_files import FileCommands
-from .window_modes import ModePages
+from arena_studio.app.actions import ACTIONS, MENUS, ActionSpec, key_sequences
+from arena_studio.app.appearance import apply_theme
+from arena_studio.app.canvas import SceneCanvas
+from arena_studio.app.dialogs import Dialogs
+from arena_studio.app.editor.checking import CheckRunner
+from arena_studio.app.editor.document import SceneDocument
+from arena_studio.app.editor.editor_canvas import EditorCanvas
+from arena_studio.app.editor.editor_view import Editor
+from arena_studio.app.editor.findings_panel import FindingsPanel
+from arena_studio.app.editor.goals_panel import GoalsPanel
+from arena_studio.app.editor.properties_panel import PropertiesPanel
+from arena_studio.app.editor.recovery import RecoveryStore
+from arena_studio.app.icons import themed_icon
+from arena_studio.app.window_files import FileCommands
+from arena_studio.app.window_modes import ModePages
+from arena_studio.core.errors import ArenaError
+from arena_studio.core.resources import DEFAULT_DEMO_SCENE, demo_path
+from arena_studio.core.scene.model import Scene
+from arena_studio.editing import edits as edits
+from arena_studio.render.theme import THEMES, Theme, load_theme
 
 AUTOSAVE_MS = 30_000
 

@@ -15,12 +15,12 @@ from PySide6.QtGui import QBrush, QColor, QFontMetricsF, QPainter, QPainterPath,
 from PySide6.QtWidgets import QGraphicsItem, QStyleOptionGraphicsItem, QWidget
 from shapely.geometry import MultiPolygon, Polygon
 
-from ..core.scene import Scene
-from ..render.scene_painter import SceneOptions, paint_scene
-from ..render.theme import Theme
-from ..render.view import ViewTransform
-from .edits import ObjKey, outline_of
-from .tools import Preview
+from arena_studio.core.scene.model import Scene
+from arena_studio.editing.edits import ObjKey, outline_of
+from arena_studio.editing.tools import Preview
+from arena_studio.render.scene_painter import SceneOptions, paint_scene
+from arena_studio.render.theme import Theme
+from arena_studio.render.view import ViewTransform
 
 Point = tuple[float, float]
 WORLD = QRectF(-5000.0, -5000.0, 10000.0, 10000.0)
@@ -181,7 +181,7 @@ class SceneLayer(QGraphicsItem):
         sel = self.theme.qcolor("selection")
         painter.setBrush(Qt.BrushStyle.NoBrush)
         painter.setPen(pen(sel, 2.5))
-        from .edits import find
+        from arena_studio.editing.edits import find
 
         for key in self.selection:
             obj = find(self.scene_value, key)

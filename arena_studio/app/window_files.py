@@ -10,9 +10,9 @@ from typing import Any
 
 from PySide6.QtWidgets import QMenu
 
-from ..core.errors import ArenaError
-from ..core.resources import demo_path
-from ..core.scene import Scene, load_scene, save_scene
+from arena_studio.core.errors import ArenaError
+from arena_studio.core.resources import demo_path
+from arena_studio.core.scene.model import Scene, load_scene, save_scene
 
 MAX_RECENT = 10
 SCENE_SUFFIXES = (".json", ".msgpack", ".mpk")
@@ -92,7 +92,7 @@ class FileCommands:
 
     def open_tape(self, path: Path) -> bool:
         """Hand a tape to the replay mode (``arena_studio.app.replay.open_tape(window, path)``)."""
-        from .replay import open_tape  # lazy: the replay page loads pyqtgraph
+        from arena_studio.app.replay import open_tape  # lazy: the replay page loads pyqtgraph
 
         ok = bool(open_tape(self, path))
         if ok:

@@ -10,7 +10,7 @@ from typing import Any
 from PySide6.QtCore import QByteArray
 from PySide6.QtWidgets import QSizePolicy, QWidget
 
-from .canvas import SceneCanvas
+from arena_studio.app.canvas import SceneCanvas
 
 
 class ModePages:

@@ -11,7 +11,7 @@ from __future__ import annotations
 import argparse
 from collections.abc import Callable
 
-from ..core.limits import Range, RangeError
+from arena_studio.core.limits import Range, RangeError
 
 
 def number(limits: Range) -> Callable[[str], float | int]:

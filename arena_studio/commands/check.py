@@ -12,8 +12,14 @@ import sys
 from typing import TYPE_CHECKING
 
 if TYPE_CHECKING:  # the checker pulls in shapely and scipy; load it only when it runs
-    from ..core.checks import Finding
-from .common import EXIT_OK, EXIT_PROBLEMS, EXIT_UNREADABLE, error_line, read_scene
+    from arena_studio.core.checks.checker import Finding
+from arena_studio.commands.common import (
+    EXIT_OK,
+    EXIT_PROBLEMS,
+    EXIT_UNREADABLE,
+    error_line,
+    read_scene,
+)
 
 HELP = "check a scene for problems (exit 0 ok, 1 errors found, 2 unreadable)"
 
@@ -28,7 +34,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 def run(args: argparse.Namespace) -> int:
     scene = read_scene(args.scene)  # a CommandError becomes one line in cli.main
     try:
-        from ..core.checks import check_scene
+        from arena_studio.core.checks.checker import check_scene
 
         findings = check_scene(scene)
     except Exception as exc:  # a checker bug must still end in one line, not a traceback
@@ -45,7 +51,7 @@ def run(args: argparse.Namespace) -> int:
 
 def format_report(source: str, findings: list[Finding]) -> str:
     """One line per finding, errors first, then a summary line."""
-    from ..core.checks import SEVERITIES, count_by_severity, fmt_point
+    from arena_studio.core.checks.checker import SEVERITIES, count_by_severity, fmt_point
 
     lines = []
     width = max((len(f.code) for f in findings), default=0)

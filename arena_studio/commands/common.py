@@ -5,8 +5,8 @@ from __future__ import annotations
 import sys
 from pathlib import Path
 
-from ..core.errors import ArenaError
-from ..core.scene import Scene, load_scene
+from arena_studio.core.errors import ArenaError
+from arena_studio.core.scene.model import Scene, load_scene
 
 EXIT_OK = 0
 EXIT_PROBLEMS = 1

@@ -11,12 +11,12 @@ from __future__ import annotations
 
 import argparse
 
-from ..core import limits as lim
-from ..core.errors import ArenaError
-from ..core.export import CAUTION, DEFAULT_RESOLUTION, FORMATS, export_scene
-from .arg_types import number
-from .common import EXIT_OK, EXIT_UNREADABLE, error_line, read_scene
-from .progress import graph_bar
+from arena_studio.commands.arg_types import number
+from arena_studio.commands.common import EXIT_OK, EXIT_UNREADABLE, error_line, read_scene
+from arena_studio.commands.progress import graph_bar
+from arena_studio.core import limits as lim
+from arena_studio.core.errors import ArenaError
+from arena_studio.core.export import CAUTION, DEFAULT_RESOLUTION, FORMATS, export_scene
 
 HELP = "export a scene for a simulator or a document (json, msgpack, npz, wkt, svg, grid)"
 
@@ -56,7 +56,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from ..core.visibility import PlanTooLarge  # lazy: shapely and scipy
+    from arena_studio.core.geometry.visibility import PlanTooLarge  # lazy: shapely and scipy
 
     scene = read_scene(args.scene)  # a CommandError becomes one line in cli.main
     try:

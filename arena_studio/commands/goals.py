@@ -14,15 +14,21 @@ import json
 import sys
 from typing import TYPE_CHECKING, Any
 
-from ..core.errors import ArenaError
-from ..core.export import CAUTION
-from ..core.scene import Scene
+from arena_studio.core.errors import ArenaError
+from arena_studio.core.export import CAUTION
+from arena_studio.core.scene.model import Scene
 
 if TYPE_CHECKING:  # the planner pulls in scipy; load it only when the command runs
-    from ..core.goals import GoalTable
-    from ..core.partime import GoalPlan
-from .common import EXIT_OK, EXIT_PROBLEMS, EXIT_UNREADABLE, error_line, read_scene
-from .progress import graph_bar, progress_bar
+    from arena_studio.core.planning.goal_set import GoalTable
+    from arena_studio.core.planning.partime import GoalPlan
+from arena_studio.commands.common import (
+    EXIT_OK,
+    EXIT_PROBLEMS,
+    EXIT_UNREADABLE,
+    error_line,
+    read_scene,
+)
+from arena_studio.commands.progress import graph_bar, progress_bar
 
 HELP = "list a scene's goals with par times and assignments (exit 0 ok, 1 problems, 2 unreadable)"
 
@@ -56,9 +62,9 @@ def run(args: argparse.Namespace) -> int:
 
 def _plan(scene: Scene, quiet: bool) -> tuple[GoalTable, list[GoalPlan]]:
     """Every goal planned in order, with a bar per goal and per visibility graph."""
-    from ..core.goals import enumerate_goals
-    from ..core.partime import plan_goal
-    from ..core.paths import shared_planner
+    from arena_studio.core.geometry.paths import shared_planner
+    from arena_studio.core.planning.goal_set import enumerate_goals
+    from arena_studio.core.planning.partime import plan_goal
 
     table = enumerate_goals(scene)
     planner = shared_planner(scene)

@@ -6,12 +6,18 @@ import argparse
 import os
 from pathlib import Path
 
-from ..core import limits as lim
-from ..core.errors import ArenaError
-from ..core.safe_open import check_input
-from .arg_types import number
-from .common import EXIT_OK, EXIT_UNREADABLE, CommandError, error_line, read_scene
-from .progress import progress_bar
+from arena_studio.commands.arg_types import number
+from arena_studio.commands.common import (
+    EXIT_OK,
+    EXIT_UNREADABLE,
+    CommandError,
+    error_line,
+    read_scene,
+)
+from arena_studio.commands.progress import progress_bar
+from arena_studio.core import limits as lim
+from arena_studio.core.errors import ArenaError
+from arena_studio.core.safe_open import check_input
 
 HELP = "convert a long-format CSV table or an NPZ array file into a tape"
 
@@ -34,7 +40,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from ..core.importers import import_csv, import_npz, parse_columns
+    from arena_studio.core.tape.importers import import_csv, import_npz, parse_columns
 
     try:
         src = Path(args.input)

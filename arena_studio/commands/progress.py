@@ -75,7 +75,7 @@ def progress_bar(
 @contextlib.contextmanager
 def graph_bar(quiet: bool = False, stream: TextIO | None = None) -> Iterator[None]:
     """A bar for each visibility graph built inside (corner pairs tested), on a terminal."""
-    from ..core.visibility import graph_progress  # lazy: shapely and scipy
+    from arena_studio.core.geometry.visibility import graph_progress  # lazy: shapely and scipy
 
     out = sys.stderr if stream is None else stream
     enabled = not quiet and bool(getattr(out, "isatty", lambda: False)())

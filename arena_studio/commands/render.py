@@ -5,10 +5,16 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from ..core import limits as lim
-from ..core.errors import ArenaError
-from .arg_types import number
-from .common import EXIT_OK, EXIT_UNREADABLE, CommandError, error_line, warning_line
+from arena_studio.commands.arg_types import number
+from arena_studio.commands.common import (
+    EXIT_OK,
+    EXIT_UNREADABLE,
+    CommandError,
+    error_line,
+    warning_line,
+)
+from arena_studio.core import limits as lim
+from arena_studio.core.errors import ArenaError
 
 HELP = "render episodes of a tape to a clip (.mp4, .gif, PNG folder) or a still (.png, .svg)"
 
@@ -104,8 +110,8 @@ def run(args: argparse.Namespace) -> int:
 
 
 def _run(args: argparse.Namespace) -> int:
-    from ..render.clip import ClipError, ClipSpec, export_clip, parse_size
-    from ..render.episode_painter import FrameOptions
+    from arena_studio.render.clip import ClipError, ClipSpec, export_clip, parse_size
+    from arena_studio.render.episode_painter import FrameOptions
 
     out = Path(args.output)
     suffix = out.suffix.lower()
@@ -154,7 +160,7 @@ def _run(args: argparse.Namespace) -> int:
         title=args.title,
         caption=args.caption,
     )
-    from ..render.offscreen import ensure_gui_app
+    from arena_studio.render.offscreen import ensure_gui_app
 
     ensure_gui_app()
     if suffix in (".png", ".svg"):
@@ -169,10 +175,10 @@ def _run(args: argparse.Namespace) -> int:
         frame=options,
         title_seconds=args.title_seconds if args.title else 0.0,
     )
-    from .progress import progress_bar
+    from arena_studio.commands.progress import progress_bar
 
     try:
-        from ..render.clip import schedule
+        from arena_studio.render.clip import schedule
 
         total = len(schedule(episodes, spec))
         with progress_bar(total, "render", args.quiet) as bar:
@@ -187,7 +193,7 @@ def _run(args: argparse.Namespace) -> int:
 
 
 def _open(path: str):
-    from ..core.tape import open_tape
+    from arena_studio.core.tape import open_tape
 
     try:
         tape = open_tape(Path(path))  # refuses folders, pipes and devices by name
@@ -197,7 +203,7 @@ def _open(path: str):
 
 
 def _still(args, out, scene, episode, options, size) -> int:
-    from ..render.frame import save_png_still, save_svg_still
+    from arena_studio.render.frame import save_png_still, save_svg_still
 
     step = episode.step_at(args.time)
     try:

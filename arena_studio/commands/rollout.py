@@ -5,11 +5,17 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from ..core import limits as lim
-from ..core.errors import ArenaError
-from .arg_types import number
-from .common import EXIT_OK, EXIT_UNREADABLE, CommandError, error_line, read_scene
-from .progress import graph_bar, progress_bar
+from arena_studio.commands.arg_types import number
+from arena_studio.commands.common import (
+    EXIT_OK,
+    EXIT_UNREADABLE,
+    CommandError,
+    error_line,
+    read_scene,
+)
+from arena_studio.commands.progress import graph_bar, progress_bar
+from arena_studio.core import limits as lim
+from arena_studio.core.errors import ArenaError
 
 HELP = "record scripted preview episodes of a scene into a tape"
 
@@ -54,7 +60,7 @@ def run(args: argparse.Namespace) -> int:
         if not out.parent.is_dir():
             raise CommandError(f"{args.output}: folder does not exist")
         scene = read_scene(args.scene)
-        from ..core.rollout import run_rollout
+        from arena_studio.core.sim.rollout import run_rollout
 
         with graph_bar(args.quiet), progress_bar(args.episodes, "rollout", args.quiet) as bar:
             run_rollout(

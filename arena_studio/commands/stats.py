@@ -9,11 +9,11 @@ import math
 import sys
 from typing import Any
 
-from ..core import limits as lim
-from ..core.errors import ArenaError
-from .arg_types import number
-from .common import EXIT_OK, EXIT_UNREADABLE, error_line, warning_line
-from .progress import progress_bar
+from arena_studio.commands.arg_types import number
+from arena_studio.commands.common import EXIT_OK, EXIT_UNREADABLE, error_line, warning_line
+from arena_studio.commands.progress import progress_bar
+from arena_studio.core import limits as lim
+from arena_studio.core.errors import ArenaError
 
 HELP = "summarise a tape: success by goal and kind, alignment, diagnoses, per-episode rows"
 
@@ -61,9 +61,9 @@ def _clean(value: Any) -> Any:
 
 
 def run(args: argparse.Namespace) -> int:
-    from ..core.metrics import batch_metrics
-    from ..core.metrics_batch import tape_metrics
-    from ..core.tape import open_tape
+    from arena_studio.core.analysis.metrics import summarize_metrics
+    from arena_studio.core.analysis.metrics_batch import tape_metrics
+    from arena_studio.core.tape import open_tape
 
     try:
         tape = open_tape(args.tape)
@@ -89,11 +89,11 @@ def run(args: argparse.Namespace) -> int:
     except KeyboardInterrupt:
         error_line("interrupted")
         return 130
-    summary = batch_metrics(tape.scene, metrics)
+    summary = summarize_metrics(tape.scene, metrics)
     summary["truncated"] = tape.truncated
     rows = [m.to_dict() for m in metrics]
     if args.episode is not None:
-        from ..core.events import episode_events
+        from arena_studio.core.analysis.events import episode_events
 
         ids = [a.id for a in tape.scene.agents]
         lms = [lm.id for lm in tape.scene.landmarks]

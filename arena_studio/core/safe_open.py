@@ -15,7 +15,7 @@ import os
 import stat
 from typing import BinaryIO
 
-from .errors import ArenaError
+from arena_studio.core.errors import ArenaError
 
 MIB = 1 << 20
 GIB = 1 << 30

@@ -17,13 +17,19 @@ import numpy as np
 from PySide6.QtCore import QPoint, QPointF, Qt
 from PySide6.QtGui import QColor, QImage, QPainter, QPen, QStaticText, QTransform
 
-from .drawing import cached_pen, font
-from .episode_cache import EpisodeCache
-from .fastpath import segments_path
-from .options import FrameOptions
-from .role_style import STYLE_HOLLOW, agent_styles, ink_for, paint_role_mark, show_numbers
-from .theme import Theme
-from .view import ViewTransform
+from arena_studio.render.drawing import cached_pen, font
+from arena_studio.render.episode_cache import EpisodeCache
+from arena_studio.render.fastpath import segments_path
+from arena_studio.render.options import FrameOptions
+from arena_studio.render.role_style import (
+    STYLE_HOLLOW,
+    agent_styles,
+    ink_for,
+    paint_role_mark,
+    show_numbers,
+)
+from arena_studio.render.theme import Theme
+from arena_studio.render.view import ViewTransform
 
 #: sub-pixel positions per pixel a body sprite comes in, in x and in y
 SPRITE_PHASES = 4

@@ -26,12 +26,12 @@ from typing import IO
 from PySide6.QtCore import QSize
 from PySide6.QtGui import QImage, QPainter
 
-from ..core.atomic import make_temp, publish
-from ..core.episode import Episode
-from ..core.limits import FRAME_SIDE, MAX_CLIP_FRAMES, RangeError
-from ..core.scene import Scene
-from .episode_painter import FrameOptions
-from .frame import IMAGE_FORMAT, FrameRenderer, png_bytes
+from arena_studio.core.atomic import make_temp, publish
+from arena_studio.core.limits import FRAME_SIDE, MAX_CLIP_FRAMES, RangeError
+from arena_studio.core.scene.model import Scene
+from arena_studio.core.tape.episode import Episode
+from arena_studio.render.episode_painter import FrameOptions
+from arena_studio.render.frame import IMAGE_FORMAT, FrameRenderer, png_bytes
 
 SIZE_PRESETS: dict[str, tuple[int, int]] = {
     "720p": (1280, 720),
@@ -281,7 +281,7 @@ def export_clip(
     _check_folder(target)
     shots = schedule(episodes, spec)
     if spec.frame.ui_scale is None and spec.compare:
-        from .frame import ui_scale_for
+        from arena_studio.render.frame import ui_scale_for
 
         spec = replace(spec, frame=replace(spec.frame, ui_scale=ui_scale_for(size, spec.frame)))
     if kind == "png":

@@ -14,7 +14,7 @@ from PySide6.QtGui import QColor, QFont, QFontMetricsF, QPainter, QPainterPath, 
 from shapely.geometry import MultiPolygon, Polygon
 from shapely.geometry.base import BaseGeometry
 
-from .view import ViewTransform
+from arena_studio.render.view import ViewTransform
 
 #: one family everywhere; DejaVu Sans ships with most Linux systems and Qt falls back cleanly
 FONT_FAMILY = "DejaVu Sans"

@@ -13,9 +13,9 @@ from typing import Any
 
 import numpy as np
 
-from ..core.episode import Episode
-from ..core.roles import derive_roles, pursued_mask, tape_roles, team_mask
-from ..core.scene import Scene
+from arena_studio.core.analysis.roles import derive_roles, pursued_mask, tape_roles, team_mask
+from arena_studio.core.scene.model import Scene
+from arena_studio.core.tape.episode import Episode
 
 _CACHES: weakref.WeakKeyDictionary[Episode, EpisodeCache] = weakref.WeakKeyDictionary()
 
@@ -158,7 +158,7 @@ def build_cache(scene: Scene, episode: Episode) -> EpisodeCache:
 
 
 def _coverage(scene: Scene, xy: np.ndarray) -> np.ndarray:
-    from ..core.roles import _coverage as coverage
+    from arena_studio.core.analysis.roles import _coverage as coverage
 
     steps, agents = xy.shape[:2]
     n = len(scene.landmarks)
@@ -201,7 +201,7 @@ def _collisions(scene: Scene, episode: Episode, xy: np.ndarray, radius: np.ndarr
     # walls and obstacles: core.metrics' own test (centre outside its free space), so the
     # marks agree with the replay's events and the metrics' counts
     if len(scene.rooms):
-        from ..core.metrics import onsets, outside_mask
+        from arena_studio.core.analysis.metrics import onsets, outside_mask
 
         ts, ag = np.nonzero(onsets(outside_mask(scene, episode)))
         events.append(np.column_stack([ts, xy[ts, ag], np.ones(len(ts))]))
@@ -234,7 +234,7 @@ def _tree_collisions(xy: np.ndarray, radius: np.ndarray, tol: float) -> np.ndarr
 def _par_paths(scene: Scene, episode: Episode) -> list[np.ndarray] | None:
     if episode.team_goal is None:
         return None
-    from ..core.partime import plan_goal  # lazy: the planner pulls in scipy
+    from arena_studio.core.planning.partime import plan_goal  # lazy: the planner pulls in scipy
 
     try:
         plan: Any = plan_goal(scene, tuple(int(v) for v in np.asarray(episode.team_goal)))

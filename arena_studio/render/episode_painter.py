@@ -32,23 +32,23 @@ from PySide6.QtGui import (
     QTransform,
 )
 
-from ..core.episode import Episode
-from ..core.scene import Scene
-from .agent_painter import paint_agents, prefill_sprites
-from .drawing import cached_pen, font, label
-from .episode_cache import EpisodeCache, episode_cache
-from .fastpath import (
+from arena_studio.core.scene.model import Scene
+from arena_studio.core.tape.episode import Episode
+from arena_studio.render.agent_painter import paint_agents, prefill_sprites
+from arena_studio.render.drawing import cached_pen, font, label
+from arena_studio.render.episode_cache import EpisodeCache, episode_cache
+from arena_studio.render.fastpath import (
     grouped_rows_paths,
     line_pieces,
     polylines_path,
     segments_path,
 )
-from .legend import paint_banner, paint_clock, paint_legend
-from .options import FrameOptions
-from .scene_painter import label_places
-from .theme import Theme
-from .trail_blocks import paint_wide_trails, prefill_blocks
-from .view import ViewTransform
+from arena_studio.render.legend import paint_banner, paint_clock, paint_legend
+from arena_studio.render.options import FrameOptions
+from arena_studio.render.scene_painter import label_places
+from arena_studio.render.theme import Theme
+from arena_studio.render.trail_blocks import paint_wide_trails, prefill_blocks
+from arena_studio.render.view import ViewTransform
 
 #: above this many trail points in a frame, trails are drawn as 1-pixel lines (speed)
 THIN_TRAIL_POINTS = 2400

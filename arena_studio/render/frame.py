@@ -15,19 +15,19 @@ from pathlib import Path
 from PySide6.QtCore import QBuffer, QByteArray, QIODevice, QRectF, QSize
 from PySide6.QtGui import QColor, QImage, QPainter
 
-from ..core.atomic import write_bytes_atomic
-from ..core.episode import Episode
-from ..core.scene import Scene
-from .episode_painter import (
+from arena_studio.core.atomic import write_bytes_atomic
+from arena_studio.core.scene.model import Scene
+from arena_studio.core.tape.episode import Episode
+from arena_studio.render.episode_painter import (
     FrameOptions,
     paint_banner,
     paint_clock,
     paint_episode_frame,
     paint_legend,
 )
-from .scene_painter import SceneOptions, paint_scene
-from .theme import Theme, load_theme
-from .view import ViewTransform
+from arena_studio.render.scene_painter import SceneOptions, paint_scene
+from arena_studio.render.theme import Theme, load_theme
+from arena_studio.render.view import ViewTransform
 
 IMAGE_FORMAT = QImage.Format.Format_RGB32  # memory order B, G, R, 0xFF on little-endian
 
@@ -228,7 +228,7 @@ class FrameRenderer:
         self, episode: Episode, title: str, subtitle: str, into: QImage | None = None
     ) -> QImage:
         """A title card: the first frame dimmed, with a large title and one line below."""
-        from .episode_painter import paint_banner as banner
+        from arena_studio.render.episode_painter import paint_banner as banner
 
         target = self.render(episode, 0, into)
         w, h = self.layout.size

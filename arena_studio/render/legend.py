@@ -5,13 +5,19 @@ from __future__ import annotations
 from PySide6.QtCore import QPointF, QRectF, Qt
 from PySide6.QtGui import QFont, QFontMetricsF, QPainter, QPainterPath, QPen
 
-from ..core.episode import Episode
-from ..core.scene import Scene
-from .drawing import font, label
-from .episode_cache import EpisodeCache, episode_cache
-from .options import FrameOptions
-from .role_style import STYLE_HOLLOW, paint_role_mark, role_legend, role_source, show_numbers
-from .theme import Theme
+from arena_studio.core.scene.model import Scene
+from arena_studio.core.tape.episode import Episode
+from arena_studio.render.drawing import font, label
+from arena_studio.render.episode_cache import EpisodeCache, episode_cache
+from arena_studio.render.options import FrameOptions
+from arena_studio.render.role_style import (
+    STYLE_HOLLOW,
+    paint_role_mark,
+    role_legend,
+    role_source,
+    show_numbers,
+)
+from arena_studio.render.theme import Theme
 
 
 def paint_clock(

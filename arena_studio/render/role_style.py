@@ -11,10 +11,10 @@ import numpy as np
 from PySide6.QtCore import QPointF, QRectF, Qt
 from PySide6.QtGui import QColor, QPainter, QPen, QPolygonF
 
-from ..core.roles import HEADING, HOLDING, IDLE, MOVING, OFF_GOAL, ROLE_NAMES
-from .episode_cache import EpisodeCache
-from .options import FrameOptions
-from .theme import Theme
+from arena_studio.core.analysis.roles import HEADING, HOLDING, IDLE, MOVING, OFF_GOAL, ROLE_NAMES
+from arena_studio.render.episode_cache import EpisodeCache
+from arena_studio.render.options import FrameOptions
+from arena_studio.render.theme import Theme
 
 #: role styles: how each derived role code is drawn
 STYLE_PLAIN, STYLE_RING, STYLE_DOUBLE, STYLE_HOLLOW, STYLE_BADGE, STYLE_SQUARE, STYLE_DASH = range(

@@ -22,12 +22,17 @@ from PySide6.QtGui import QBrush, QFontMetricsF, QPainter, QPainterPath, QPen, Q
 from shapely.geometry import Polygon
 from shapely.ops import unary_union
 
-from ..core.export.label_place import LabelPlacement, place_labels, start_marks
-from ..core.geometry import bounds, inward_normals, obstacle_geometry, walkable_area
-from ..core.scene import Landmark, Scene
-from .drawing import font, geometry_path, label, nice_step
-from .theme import Theme
-from .view import ViewTransform
+from arena_studio.core.export.label_place import LabelPlacement, place_labels, start_marks
+from arena_studio.core.geometry.regions import (
+    bounds,
+    inward_normals,
+    obstacle_geometry,
+    walkable_area,
+)
+from arena_studio.core.scene.model import Landmark, Scene
+from arena_studio.render.drawing import font, geometry_path, label, nice_step
+from arena_studio.render.theme import Theme
+from arena_studio.render.view import ViewTransform
 
 
 @dataclass(frozen=True)

@@ -12,7 +12,7 @@ from functools import cache
 
 from PySide6.QtGui import QColor
 
-from ..core.resources import resource_path
+from arena_studio.core.resources import resource_path
 
 THEMES: tuple[str, ...] = ("light", "dark")
 

@@ -27,11 +27,11 @@ import numpy as np
 from PySide6.QtCore import QPoint, QRect, Qt
 from PySide6.QtGui import QImage, QPainter, QPainterPath, QPen
 
-from .drawing import cached_pen
-from .episode_cache import EpisodeCache
-from .fastpath import WIDE_PIECE_PX
-from .theme import Theme
-from .view import ViewTransform
+from arena_studio.render.drawing import cached_pen
+from arena_studio.render.episode_cache import EpisodeCache
+from arena_studio.render.fastpath import WIDE_PIECE_PX
+from arena_studio.render.theme import Theme
+from arena_studio.render.view import ViewTransform
 
 #: a block is about this many pixels of typical travel long
 BLOCK_PX = 48.0

@@ -13,8 +13,8 @@ import numpy as np
 from PySide6.QtCore import QPointF, QRectF
 from PySide6.QtGui import QTransform
 
-from ..core.geometry import bounds
-from ..core.scene import Scene
+from arena_studio.core.geometry.regions import bounds
+from arena_studio.core.scene.model import Scene
 
 
 @dataclass(frozen=True)

@@ -8,7 +8,7 @@ from PySide6.QtCore import QPoint, QPointF, Qt
 from PySide6.QtGui import QWheelEvent
 
 from arena_studio.core.resources import DEFAULT_DEMO_SCENE, demo_path
-from arena_studio.core.scene import Agent, Landmark, Room, Scene, Start
+from arena_studio.core.scene.model import Agent, Landmark, Room, Scene, Start
 
 from .conftest import view_point
 
@@ -90,7 +90,7 @@ def test_goals_panel_shows_par_time_per_goal(main_window):
 
 
 def test_goal_table_lists_at_most_its_limit_and_says_so(main_window):
-    from arena_studio.app.goals_panel import MAX_TABLE_GOALS
+    from arena_studio.app.editor.goals_panel import MAX_TABLE_GOALS
     from tests.fuzz import big_scenes
 
     count = MAX_TABLE_GOALS + 100

@@ -7,9 +7,9 @@ import math
 from PySide6.QtCore import Qt
 from shapely.geometry import Point, Polygon
 
-from arena_studio.app.tools import ToolEvent
-from arena_studio.core.geometry import wall_lines
-from arena_studio.core.scene import Scene
+from arena_studio.core.geometry.regions import wall_lines
+from arena_studio.core.scene.model import Scene
+from arena_studio.editing.tools import ToolEvent
 
 from .conftest import view_point
 
@@ -76,7 +76,7 @@ def test_landmark_snaps_onto_wall_line(qtbot, main_window):
     win.editor.apply(
         win.document.scene.with_changes(
             rooms=(
-                __import__("arena_studio.core.scene", fromlist=["Room"]).Room(
+                __import__("arena_studio.core.scene.model", fromlist=["Room"]).Room(
                     "hall", ((0, 0), (6, 0), (6, 4), (0, 4))
                 ),
             )

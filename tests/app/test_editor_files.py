@@ -5,9 +5,9 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
-from arena_studio.app.tools import ToolEvent
 from arena_studio.core.resources import DEFAULT_DEMO_SCENE, demo_path
-from arena_studio.core.scene import load_scene
+from arena_studio.core.scene.model import load_scene
+from arena_studio.editing.tools import ToolEvent
 
 
 def test_autosave_then_restore_after_crash(make_window, tmp_path):

@@ -5,8 +5,8 @@ from __future__ import annotations
 from PySide6.QtCore import Qt
 from shapely.geometry import Point, Polygon
 
-from arena_studio.app.tools import ToolEvent
-from arena_studio.core.scene import Agent, Landmark, Room, Scene, Start
+from arena_studio.core.scene.model import Agent, Landmark, Room, Scene, Start
+from arena_studio.editing.tools import ToolEvent
 
 from .conftest import view_point
 

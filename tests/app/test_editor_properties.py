@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import math
 
-from arena_studio.core.scene import Agent, Landmark, Room, Scene, Start
+from arena_studio.core.scene.model import Agent, Landmark, Room, Scene, Start
 
 SCENE = Scene(
     name="props",
@@ -56,7 +56,7 @@ def test_wall_landmark_stays_on_wall_and_heading_in_degrees(main_window):
 
 
 def test_picked_vertex_has_coordinate_fields(main_window):
-    from arena_studio.app.tools import ToolEvent
+    from arena_studio.editing.tools import ToolEvent
 
     win = main_window
     win.document.reset(SCENE, None)
@@ -74,7 +74,7 @@ def test_picked_vertex_has_coordinate_fields(main_window):
 
 def test_centre_and_start_coordinate_fields_edit_one_axis(main_window):
     # Each x / y field changes its own axis and leaves the other alone (common practice).
-    from arena_studio.core.scene import Circle, Obstacle
+    from arena_studio.core.scene.model import Circle, Obstacle
 
     scene = Scene(
         name="axes",

@@ -9,8 +9,8 @@ from PySide6.QtCore import Qt
 from PySide6.QtGui import QTransform
 from shapely.geometry import Polygon
 
-from arena_studio.core.geometry import walkable_area
-from arena_studio.core.scene import Scene, load_scene
+from arena_studio.core.geometry.regions import walkable_area
+from arena_studio.core.scene.model import Scene, load_scene
 
 from .conftest import view_point
 

@@ -6,8 +6,9 @@ import math
 
 from shapely.geometry import Point, Polygon
 
-from arena_studio.app.snapping import SnapSettings, snap_point
-from arena_studio.app.tools import (
+from arena_studio.core.scene.model import Room, Scene
+from arena_studio.editing.snapping import SnapSettings, snap_point
+from arena_studio.editing.tools import (
     CircleTool,
     LandmarkTool,
     PolygonTool,
@@ -16,7 +17,6 @@ from arena_studio.app.tools import (
     StartPoseTool,
     ToolEvent,
 )
-from arena_studio.core.scene import Room, Scene
 
 
 class FakeHost:

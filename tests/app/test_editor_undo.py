@@ -6,8 +6,8 @@ from __future__ import annotations
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from arena_studio.app.tools import ToolEvent
-from arena_studio.core.scene import Landmark, Room, Scene
+from arena_studio.core.scene.model import Landmark, Room, Scene
+from arena_studio.editing.tools import ToolEvent
 
 coord = st.floats(min_value=-5, max_value=15, allow_nan=False).map(lambda v: round(v, 2))
 size = st.floats(min_value=0.5, max_value=6).map(lambda v: round(v, 2))
@@ -66,12 +66,12 @@ def _apply(win, op) -> None:
         key = keys[op[1] % len(keys)] if kind != "nudge" else keys[0]
         ed.set_selection([key])
         if kind == "move":
-            from arena_studio.app import edits
+            from arena_studio.editing import edits as edits
 
             ed.apply(edits.move_objects(ed.scene, [key], op[2] / 4, op[3] / 4), "Move")
         elif kind == "vertex":
-            pts = __import__("arena_studio.app.edits", fromlist=["x"]).outline_of(
-                __import__("arena_studio.app.edits", fromlist=["x"]).find(ed.scene, key)
+            pts = __import__("arena_studio.editing.edits", fromlist=["x"]).outline_of(
+                __import__("arena_studio.editing.edits", fromlist=["x"]).find(ed.scene, key)
             )
             if pts:
                 sel = tools["tool.select"]
@@ -95,7 +95,7 @@ def _apply(win, op) -> None:
         ed.set_selection([("landmarks", ed.scene.landmarks[i % n].id) for i in op[1]])
         win.goals_panel.add_from_selection()
     elif kind in ("insert", "dropvertex"):
-        from arena_studio.app import edits
+        from arena_studio.editing import edits as edits
 
         outlined = [k for k in keys if edits.outline_of(edits.find(ed.scene, k))]
         if outlined:

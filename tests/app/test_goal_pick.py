@@ -12,7 +12,7 @@ from __future__ import annotations
 from PySide6.QtCore import Qt
 from PySide6.QtTest import QTest
 
-from arena_studio.core.goals import enumerate_goals
+from arena_studio.core.planning.goal_set import enumerate_goals
 from arena_studio.core.resources import DEFAULT_DEMO_SCENE, demo_path
 
 from .conftest import view_point

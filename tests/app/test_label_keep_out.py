@@ -13,8 +13,8 @@ import shapely
 
 from arena_studio.app.replay.prepared import prepare_episode
 from arena_studio.app.replay.replay_canvas import ReplayCanvas
-from arena_studio.core.episode import Episode
-from arena_studio.core.scene import load_scene
+from arena_studio.core.scene.model import load_scene
+from arena_studio.core.tape.episode import Episode
 from arena_studio.render.scene_painter import label_places
 from arena_studio.render.theme import load_theme
 from arena_studio.render.view import ViewTransform

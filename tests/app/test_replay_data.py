@@ -1,6 +1,6 @@
 """Data behind the viewer's panels, checked against the core modules computed independently.
 
-References: ``core.metrics.batch_metrics`` (success by goal, alignment rate),
+References: ``core.metrics.summarize_metrics`` (success by goal, alignment rate),
 ``core.events.episode_events`` (the event list), and numpy.histogram2d for the occupancy grid.
 """
 
@@ -15,8 +15,8 @@ from arena_studio.app.replay.batch_stats import Occupancy, batch_stats
 from arena_studio.app.replay.events import episode_event_marks
 from arena_studio.app.replay.prepared import normalise_kind, prepare_episode
 from arena_studio.app.replay.summary import summarise_episode
-from arena_studio.core.events import episode_events
-from arena_studio.core.metrics import batch_metrics, episode_metrics
+from arena_studio.core.analysis.events import episode_events
+from arena_studio.core.analysis.metrics import episode_metrics, summarize_metrics
 from arena_studio.core.tape import open_tape
 
 from .test_replay_support import small_scene, straight_episode
@@ -32,7 +32,7 @@ DEMOS = (
 def test_batch_view_numbers_match_core_batch_metrics(path):
     tape = open_tape(path)
     rows = [summarise_episode(tape.scene, e) for e in tape]
-    ref = batch_metrics(tape.scene, [episode_metrics(tape.scene, e) for e in tape])
+    ref = summarize_metrics(tape.scene, [episode_metrics(tape.scene, e) for e in tape])
     stats = batch_stats(rows)
     assert stats.episodes == ref["episodes"]
     assert stats.successes == ref["successes"]

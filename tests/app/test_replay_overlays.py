@@ -17,7 +17,7 @@ from PySide6.QtGui import QImage, QPainter
 
 from arena_studio.app.canvas import SceneCanvas
 from arena_studio.app.replay.clock_overlay import ClockOverlay
-from arena_studio.core.episode import Episode
+from arena_studio.core.tape.episode import Episode
 from arena_studio.render.legend import paint_clock
 from arena_studio.render.scene_painter import paint_scale_bar
 from arena_studio.render.theme import load_theme

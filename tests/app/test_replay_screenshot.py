@@ -131,7 +131,7 @@ def test_opening_a_different_scene_beside_a_tape_warns(qtbot, tmp_path):
     from dataclasses import replace
 
     from arena_studio.app.main_window import MainWindow
-    from arena_studio.core.scene import save_scene
+    from arena_studio.core.scene.model import save_scene
     from arena_studio.core.tape import open_tape
 
     tape = write_test_tape(tmp_path / "hall.tape")

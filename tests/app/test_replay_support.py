@@ -8,8 +8,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from arena_studio.core.episode import Episode
-from arena_studio.core.scene import Agent, GoalSpec, Landmark, Room, Scene, Start
+from arena_studio.core.scene.model import Agent, GoalSpec, Landmark, Room, Scene, Start
+from arena_studio.core.tape.episode import Episode
 
 DT = 0.1
 

@@ -14,7 +14,7 @@ import pytest
 from PySide6.QtCore import QPoint, QPointF, Qt
 
 from arena_studio.app.replay.replay_window import ReplayWindow
-from arena_studio.core.metrics import episode_metrics
+from arena_studio.core.analysis.metrics import episode_metrics
 from arena_studio.core.tape import open_tape
 
 from .test_replay_support import write_test_tape
@@ -184,7 +184,7 @@ def test_scene_file_beside_the_tape_is_compared_by_content_hash(qtbot, written_t
     # reference: core.scene.Scene.content_hash (SHA-256 of the canonical JSON)
     from dataclasses import replace
 
-    from arena_studio.core.scene import save_scene
+    from arena_studio.core.scene.model import save_scene
 
     w = open_window(qtbot, written_tape)
     said: list[str] = []

@@ -10,9 +10,10 @@ import statistics
 import time
 from pathlib import Path
 
-from arena_studio.core import checks_reach, geometry
-from arena_studio.core.checks import check_scene
-from arena_studio.core.scene import load_scene
+from arena_studio.core.checks import reach as checks_reach
+from arena_studio.core.checks.checker import check_scene
+from arena_studio.core.geometry import regions as geometry
+from arena_studio.core.scene.model import load_scene
 
 SCENES = sorted((Path(__file__).resolve().parents[2] / "scenes").glob("*.scene.json"))
 BROKEN = Path(__file__).resolve().parents[1] / "data" / "broken.scene.json"

@@ -29,8 +29,8 @@ import pytest
 REPO = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(REPO))
 
-from arena_studio.core.episode import Episode  # noqa: E402
 from arena_studio.core.tape import TapeWriter  # noqa: E402
+from arena_studio.core.tape.episode import Episode  # noqa: E402
 from tests.render.demo_episode import demo_episode, greenhouse  # noqa: E402
 
 PY = sys.executable

@@ -21,8 +21,8 @@ import pytest
 from PySide6.QtCore import QPointF
 from PySide6.QtGui import QImage, QPainter, QPen, QPolygonF
 
-from arena_studio.core.episode import Episode
-from arena_studio.core.scene import Agent, Landmark, Room, Scene, Start
+from arena_studio.core.scene.model import Agent, Landmark, Room, Scene, Start
+from arena_studio.core.tape.episode import Episode
 from arena_studio.render.episode_painter import (
     MAX_TRAIL_POINTS,
     THIN_TRAIL_POINTS,

@@ -12,10 +12,19 @@ import dataclasses
 import math
 import time
 
-from arena_studio.core.goals import enumerate_goals
-from arena_studio.core.partime import plan_all, plan_goal
-from arena_studio.core.paths import PathPlanner
-from arena_studio.core.scene import Agent, Circle, GoalSpec, Landmark, Obstacle, Room, Scene, Start
+from arena_studio.core.geometry.paths import PathPlanner
+from arena_studio.core.planning.goal_set import enumerate_goals
+from arena_studio.core.planning.partime import plan_all, plan_goal
+from arena_studio.core.scene.model import (
+    Agent,
+    Circle,
+    GoalSpec,
+    Landmark,
+    Obstacle,
+    Room,
+    Scene,
+    Start,
+)
 
 
 def bench_scene() -> Scene:

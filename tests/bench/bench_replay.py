@@ -31,8 +31,8 @@ from PySide6.QtCore import QPointF, QRectF, Qt
 from PySide6.QtGui import QColor, QImage, QPainter, QPen, QPolygonF
 from PySide6.QtWidgets import QApplication
 
-from arena_studio.core.episode import Episode
-from arena_studio.core.scene import Agent, GoalSpec, Landmark, Room, Scene, Start
+from arena_studio.core.scene.model import Agent, GoalSpec, Landmark, Room, Scene, Start
+from arena_studio.core.tape.episode import Episode
 
 W, H = 1280, 720
 TRAIL_STEPS = 200

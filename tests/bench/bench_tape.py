@@ -12,9 +12,9 @@ from pathlib import Path
 
 import numpy as np
 
-from arena_studio.core.metrics import batch_metrics, episode_metrics
-from arena_studio.core.metrics_batch import tape_metrics
-from arena_studio.core.scene import Scene
+from arena_studio.core.analysis.metrics import episode_metrics, summarize_metrics
+from arena_studio.core.analysis.metrics_batch import tape_metrics
+from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape import TapeWriter, open_tape
 
 EPISODES, STEPS, AGENTS = 2000, 500, 4
@@ -108,10 +108,10 @@ def test_bench_tape(tmp_path: Path) -> None:
     )
     t = time.perf_counter()
     metrics = [episode_metrics(scene, ep) for ep in tape]
-    batch_metrics(scene, metrics)
+    summarize_metrics(scene, metrics)
     one_by_one = time.perf_counter() - t
     print(f"[tape] stats episode by episode {one_by_one:.2f} s ({one_by_one / floor:.1f}x floor)")
-    stats = _best(lambda: batch_metrics(scene, tape_metrics(tape)), repeat=3)
+    stats = _best(lambda: summarize_metrics(scene, tape_metrics(tape)), repeat=3)
     print(
         f"[tape] full stats (batched, as `arena-studio stats`) {stats:.3f} s "
         f"({stats / floor:.1f}x floor; target within 5x; {one_by_one / stats:.0f}x faster)"

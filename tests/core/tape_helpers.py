@@ -6,7 +6,7 @@ from pathlib import Path
 
 import numpy as np
 
-from arena_studio.core.scene import Scene
+from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape import TapeWriter
 
 

@@ -18,7 +18,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy.optimize import linear_sum_assignment
 
-from arena_studio.core.assignment import bottleneck_assignment, min_sum_assignment
+from arena_studio.core.planning.assignment import bottleneck_assignment, min_sum_assignment
 
 
 def test_min_sum_scipy_doc_example() -> None:

@@ -17,10 +17,10 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from arena_studio.core.checks import CODES, SEVERITIES, Finding, check_scene
-from arena_studio.core.checks_goals import _max_matching
-from arena_studio.core.checks_reach import reach_table
-from arena_studio.core.scene import (
+from arena_studio.core.checks.checker import CODES, SEVERITIES, Finding, check_scene
+from arena_studio.core.checks.goals import _max_matching
+from arena_studio.core.checks.reach import reach_table
+from arena_studio.core.scene.model import (
     Agent,
     Circle,
     GoalSpec,
@@ -400,7 +400,7 @@ def test_landmark_inside_obstacle_edge(mount: str, y: float, inside: bool) -> No
 
 def test_goal_indices_agree_with_goal_enumeration() -> None:
     # The contract: goal_index is the position in core.goals.enumerate_goals' order.
-    goals = pytest.importorskip("arena_studio.core.goals")
+    goals = pytest.importorskip("arena_studio.core.planning.goal_set")
     scene = load_scene(BROKEN)
     table = goals.enumerate_goals(scene)
     indexed = [f for f in check_scene(scene) if f.goal_index is not None]

@@ -11,7 +11,7 @@ import dataclasses
 import numpy as np
 import pytest
 
-from arena_studio.core.episode import Episode
+from arena_studio.core.tape.episode import Episode
 
 
 def _values() -> dict[str, object]:

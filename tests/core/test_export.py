@@ -21,9 +21,9 @@ from PIL import Image
 from arena_studio.core.export import CAUTION, ExportError, export_scene
 from arena_studio.core.export.npz import ARRAYS
 from arena_studio.core.export.wkt import labelled_geometries
-from arena_studio.core.geometry import open_area
-from arena_studio.core.goals import enumerate_goals
-from arena_studio.core.scene import Scene, load_scene
+from arena_studio.core.geometry.regions import open_area
+from arena_studio.core.planning.goal_set import enumerate_goals
+from arena_studio.core.scene.model import Scene, load_scene
 from tests.conftest import SCENES
 
 DEMOS = sorted(SCENES.glob("*.scene.json"))

@@ -10,9 +10,9 @@ import pytest
 import shapely
 from shapely.geometry import Point, Polygon, box
 
-from arena_studio.core import geometry as geo
-from arena_studio.core.checks_layout import geos_reason
-from arena_studio.core.scene import Agent, Circle, Obstacle, Room, Scene, Start
+from arena_studio.core.checks.layout import geos_reason
+from arena_studio.core.geometry import regions as geo
+from arena_studio.core.scene.model import Agent, Circle, Obstacle, Room, Scene, Start
 
 L_SHAPE = ((0.0, 0.0), (4.0, 0.0), (4.0, 1.0), (1.0, 1.0), (1.0, 3.0), (0.0, 3.0))
 

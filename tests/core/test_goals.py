@@ -13,8 +13,8 @@ import math
 import numpy as np
 import pytest
 
-from arena_studio.core.goals import enumerate_goals
-from arena_studio.core.scene import GoalSpec, Landmark, Room, Scene
+from arena_studio.core.planning.goal_set import enumerate_goals
+from arena_studio.core.scene.model import GoalSpec, Landmark, Room, Scene
 
 
 def _scene(count: int, **goals: object) -> Scene:

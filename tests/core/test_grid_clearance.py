@@ -18,7 +18,7 @@ from scipy import ndimage
 
 from arena_studio.core.export import ExportError, export_scene
 from arena_studio.core.export.grid import occupancy
-from arena_studio.core.scene import GoalSpec, Room, Scene, load_scene
+from arena_studio.core.scene.model import GoalSpec, Room, Scene, load_scene
 from tests.conftest import SCENES
 
 

@@ -8,8 +8,13 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from arena_studio.core.importers import ImportFormatError, import_csv, import_npz, parse_columns
 from arena_studio.core.tape import open_tape
+from arena_studio.core.tape.importers import (
+    ImportFormatError,
+    import_csv,
+    import_npz,
+    parse_columns,
+)
 
 from .tape_helpers import box_scene
 
@@ -116,7 +121,7 @@ import tracemalloc  # noqa: E402
 import zipfile  # noqa: E402
 import zlib  # noqa: E402
 
-from arena_studio.core import importers  # noqa: E402
+from arena_studio.core.tape import importers as importers  # noqa: E402
 
 
 def _claim_size(path: Path, member: str, size: int) -> None:

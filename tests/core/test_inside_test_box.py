@@ -13,7 +13,7 @@ import shapely
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from arena_studio.core.inside_test import MIN_POINTS, InsideTest
+from arena_studio.core.geometry.inside_test import MIN_POINTS, InsideTest
 
 
 def _edge_points(x0: float, y0: float, x1: float, y1: float, rng: np.random.Generator):

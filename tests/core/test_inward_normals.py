@@ -9,8 +9,8 @@ from __future__ import annotations
 
 import pytest
 
-from arena_studio.core.geometry import inward_normals
-from arena_studio.core.scene import Agent, Landmark, Obstacle, Room, Scene, Start
+from arena_studio.core.geometry.regions import inward_normals
+from arena_studio.core.scene.model import Agent, Landmark, Obstacle, Room, Scene, Start
 
 
 def _scene() -> Scene:

@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 from scipy.integrate import solve_ivp
 
-from arena_studio.core.kinematics import arc_pose, clip_controls, unicycle_step
+from arena_studio.core.sim.kinematics import arc_pose, clip_controls, unicycle_step
 
 
 def _integrate(pose: np.ndarray, v: float, w: float, dt: float, steps: int) -> np.ndarray:

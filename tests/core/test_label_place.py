@@ -27,9 +27,9 @@ from arena_studio.core.export.label_place import (
     start_marks,
 )
 from arena_studio.core.export.svg import svg_bytes
-from arena_studio.core.geometry import inward_normals, open_area, walkable_area
+from arena_studio.core.geometry.regions import inward_normals, open_area, walkable_area
 from arena_studio.core.resources import demo_path
-from arena_studio.core.scene import (
+from arena_studio.core.scene.model import (
     Agent,
     Landmark,
     Obstacle,

@@ -13,7 +13,7 @@ def test_core_imports_no_qt() -> None:
     names = [
         m.name for m in pkgutil.walk_packages(arena_studio.core.__path__, "arena_studio.core.")
     ]
-    assert "arena_studio.core.scene" in names
+    assert "arena_studio.core.scene.model" in names
     code = (
         "import importlib, sys\n"
         f"for name in {names!r}:\n"

@@ -5,9 +5,9 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from arena_studio.core.episode import Episode
-from arena_studio.core.events import episode_events
-from arena_studio.core.metrics import batch_metrics, episode_metrics
+from arena_studio.core.analysis.events import episode_events
+from arena_studio.core.analysis.metrics import episode_metrics, summarize_metrics
+from arena_studio.core.tape.episode import Episode
 
 from .tape_helpers import box_scene
 
@@ -107,7 +107,7 @@ def test_batch_specialisation_and_rates() -> None:
         for t in (same, same, same, swapped)
     ]
     fail = episode_metrics(scene, _episode(same, [0, 0, 1], pursued=[[0, 0, 1], [1, 0, 0]]))
-    summary = batch_metrics(scene, [*ms, fail])
+    summary = summarize_metrics(scene, [*ms, fail])
     # derivation: target A covered by r0 in 3 of 4 successes, B by r1 in 3 of 4 -> (0.75+0.75)/2
     assert summary["specialisation"]["A+B"] == pytest.approx(0.75)
     assert summary["success_rate"] == pytest.approx(4 / 5)
@@ -149,8 +149,8 @@ from pathlib import Path  # noqa: E402
 from hypothesis import given, settings  # noqa: E402
 from hypothesis import strategies as st  # noqa: E402
 
-from arena_studio.core.metrics import EpisodeMetrics  # noqa: E402
-from arena_studio.core.metrics_batch import episodes_metrics, tape_metrics  # noqa: E402
+from arena_studio.core.analysis.metrics import EpisodeMetrics  # noqa: E402
+from arena_studio.core.analysis.metrics_batch import episodes_metrics, tape_metrics  # noqa: E402
 from arena_studio.core.tape import open_tape  # noqa: E402
 
 DEMO_TAPES = sorted((Path(__file__).resolve().parents[2] / "scenes").glob("*.tape"))
@@ -221,7 +221,7 @@ def test_batched_metrics_match_per_episode_on_random_episodes(
 def test_batched_metrics_cover_every_diagnosis() -> None:
     # the hand-built episodes above, run as one batch next to each other, plus random ones
     # until every diagnosis code has been compared at least once
-    from arena_studio.core.diagnosis import CODES
+    from arena_studio.core.analysis.diagnosis import CODES
 
     seen: set[str | None] = set()
     rng = np.random.default_rng(5)
@@ -273,7 +273,7 @@ def test_batched_metrics_match_per_episode_on_equal_lengths(rule: str) -> None:
 def test_batched_metrics_match_per_episode_with_mixed_radii_and_many_points() -> None:
     # agents of different radii get different free spaces (tested in groups by radius), and
     # enough steps that the grid, covered box and sub-cells of the inside test are used
-    from arena_studio.core.scene import Scene
+    from arena_studio.core.scene.model import Scene
 
     data = box_scene("all_at_once", agents=3).to_dict()
     for agent, radius in zip(data["agents"], (0.25, 0.4, 0.25), strict=True):

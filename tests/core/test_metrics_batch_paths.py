@@ -10,9 +10,9 @@ import numpy as np
 import pytest
 import shapely
 
-from arena_studio.core.episode import Episode
-from arena_studio.core.metrics import EpisodeMetrics, episode_metrics
-from arena_studio.core.metrics_batch import _running_totals, episodes_metrics
+from arena_studio.core.analysis.metrics import EpisodeMetrics, episode_metrics
+from arena_studio.core.analysis.metrics_batch import _running_totals, episodes_metrics
+from arena_studio.core.tape.episode import Episode
 
 from .tape_helpers import box_scene
 
@@ -153,7 +153,7 @@ def test_time_ran_out_names_agents_nearing_the_empty_target_only() -> None:
 def test_batched_metrics_are_whole_frozen_dataclass_instances() -> None:
     # reference: the standard library's dataclasses (fields, asdict, FrozenInstanceError) and
     # the generated __init__: an object built by filling its dict must be indistinguishable
-    from arena_studio.core.metrics_batch import _METRIC_FIELDS
+    from arena_studio.core.analysis.metrics_batch import _METRIC_FIELDS
 
     assert tuple(f.name for f in FIELDS) == _METRIC_FIELDS
     scene = box_scene()

@@ -14,8 +14,8 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from arena_studio.core.observe import coverage, goal_reached, hold_steps, observe, wrap_angle
-from arena_studio.core.scene import Agent, GoalSpec, Landmark, Room, Scene, Start
+from arena_studio.core.scene.model import Agent, GoalSpec, Landmark, Room, Scene, Start
+from arena_studio.core.sim.observe import coverage, goal_reached, hold_steps, observe, wrap_angle
 
 
 def _scene(landmarks: list[tuple[float, float]], reach: float = 0.5, agents: int = 2) -> Scene:

@@ -14,14 +14,14 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from arena_studio.core.observe import (
+from arena_studio.core.scene.model import RULES
+from arena_studio.core.sim.observe import (
     coverage,
     coverage_fast,
     goal_reached,
     goal_reached_batch,
     segment_starts,
 )
-from arena_studio.core.scene import RULES
 
 from .tape_helpers import box_scene
 
@@ -109,8 +109,8 @@ def test_goal_reached_batch_refuses_bad_input() -> None:
 # References as above: coverage() itself (bit for bit, including rim points a few ulps either
 # side, far-away points, non-finite ones) and math.hypot off the rim; goal_reached() applied
 # episode by episode.
-from arena_studio.core.inside_test import InsideTest, _largest_rectangle  # noqa: E402
-from arena_studio.core.observe import (  # noqa: E402
+from arena_studio.core.geometry.inside_test import InsideTest, _largest_rectangle  # noqa: E402
+from arena_studio.core.sim.observe import (  # noqa: E402
     coverage_planes_sparse,
     goal_reached_planes,
 )

@@ -17,9 +17,9 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from arena_studio.core.partime import EXACT_LIMIT, plan_all, plan_goal
-from arena_studio.core.paths import PathPlanner
-from arena_studio.core.scene import (
+from arena_studio.core.geometry.paths import PathPlanner
+from arena_studio.core.planning.partime import EXACT_LIMIT, plan_all, plan_goal
+from arena_studio.core.scene.model import (
     Agent,
     GoalSpec,
     Landmark,
@@ -186,7 +186,7 @@ def test_overlapping_discs_one_agent_covers_both() -> None:
     assert plan.feasible and plan.par_time == pytest.approx(5.2, abs=2e-3)
     assert plan.assignment == {"solo": ["p", "q"]} and plan.note
     # the single source of truth agrees: standing at the path's end reaches the goal
-    from arena_studio.core.observe import goal_reached
+    from arena_studio.core.sim.observe import goal_reached
 
     end = plan.paths["solo"][-1]
     assert goal_reached(scene, [1, 1], np.array([end]))

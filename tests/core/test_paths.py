@@ -17,9 +17,9 @@ from hypothesis import example, given, settings
 from hypothesis import strategies as st
 from shapely.geometry import LineString, Point
 
-from arena_studio.core.geometry import free_space
-from arena_studio.core.paths import PathPlanner
-from arena_studio.core.scene import Agent, Landmark, Obstacle, Room, Scene, Start, load_scene
+from arena_studio.core.geometry.paths import PathPlanner
+from arena_studio.core.geometry.regions import free_space
+from arena_studio.core.scene.model import Agent, Landmark, Obstacle, Room, Scene, Start, load_scene
 from tests.conftest import SCENES
 
 

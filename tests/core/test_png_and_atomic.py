@@ -14,7 +14,7 @@ from hypothesis.extra.numpy import arrays
 from PIL import Image
 
 from arena_studio.core.atomic import write_bytes_atomic
-from arena_studio.core.png import encode_png
+from arena_studio.core.export.png import encode_png
 
 shapes = st.tuples(st.integers(1, 17), st.integers(1, 17))
 

@@ -7,12 +7,12 @@ from pathlib import Path
 import numpy as np
 import shapely
 
-from arena_studio.core.episode import Episode
-from arena_studio.core.geometry import free_space
-from arena_studio.core.metrics import episode_metrics
-from arena_studio.core.rollout import Rollout, run_rollout
-from arena_studio.core.scene import load_scene
+from arena_studio.core.analysis.metrics import episode_metrics
+from arena_studio.core.geometry.regions import free_space
+from arena_studio.core.scene.model import load_scene
+from arena_studio.core.sim.rollout import Rollout, run_rollout
 from arena_studio.core.tape import open_tape
+from arena_studio.core.tape.episode import Episode
 
 SCENES = Path(__file__).resolve().parents[2] / "scenes"
 
@@ -75,9 +75,9 @@ import math  # noqa: E402
 
 import pytest  # noqa: E402
 
-from arena_studio.core.controller import FollowerLimits, LegFollower, PathFollower  # noqa: E402
-from arena_studio.core.partime import plan_goal  # noqa: E402
-from arena_studio.core.rollout import PATIENCE  # noqa: E402
+from arena_studio.core.planning.partime import plan_goal  # noqa: E402
+from arena_studio.core.sim.controller import FollowerLimits, LegFollower, PathFollower  # noqa: E402
+from arena_studio.core.sim.rollout import PATIENCE  # noqa: E402
 
 
 def test_greedy_mode_aligned_nearest_first_and_reproducible(tmp_path: Path) -> None:

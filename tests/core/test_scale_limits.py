@@ -14,11 +14,11 @@ import numpy as np
 import pytest
 import shapely
 
-from arena_studio.core import scene_parse
 from arena_studio.core.errors import SceneFormatError
 from arena_studio.core.export.label_place import _fixed_cost
 from arena_studio.core.resources import resource_path
-from arena_studio.core.scene import Scene
+from arena_studio.core.scene import parse as scene_parse
+from arena_studio.core.scene.model import Scene
 from tests.fuzz import big_scenes as big
 
 

@@ -16,7 +16,7 @@ import msgpack
 import pytest
 
 from arena_studio.core.errors import SceneFormatError
-from arena_studio.core.scene import Scene, load_scene
+from arena_studio.core.scene.model import Scene, load_scene
 
 GREENHOUSE = Path(__file__).resolve().parents[2] / "scenes" / "greenhouse.scene.json"
 

@@ -11,7 +11,7 @@ from pathlib import Path
 import pytest
 
 from arena_studio.core import atomic
-from arena_studio.core.scene import Landmark, load_scene, save_scene
+from arena_studio.core.scene.model import Landmark, load_scene, save_scene
 
 GREENHOUSE = Path(__file__).resolve().parents[2] / "scenes" / "greenhouse.scene.json"
 

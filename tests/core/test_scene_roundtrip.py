@@ -13,8 +13,8 @@ import msgpack
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from arena_studio.core.scene import FORMAT_NAME, Scene, load_scene, save_scene
-from arena_studio.core.scene_files import dumps_readable, encode_scene
+from arena_studio.core.scene.files import dumps_readable, encode_scene
+from arena_studio.core.scene.model import FORMAT_NAME, Scene, load_scene, save_scene
 
 GREENHOUSE = Path(__file__).resolve().parents[2] / "scenes" / "greenhouse.scene.json"
 

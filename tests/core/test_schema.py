@@ -15,7 +15,7 @@ from hypothesis import strategies as st
 
 from arena_studio.core.errors import SceneFormatError
 from arena_studio.core.resources import resource_path
-from arena_studio.core.scene import Scene
+from arena_studio.core.scene.model import Scene
 
 from .test_scene_roundtrip import scene_docs
 

@@ -18,9 +18,9 @@ import shapely
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from arena_studio.core.geometry import free_space
-from arena_studio.core.inside_test import InsideTest
-from arena_studio.core.scene import load_scene
+from arena_studio.core.geometry.inside_test import InsideTest
+from arena_studio.core.geometry.regions import free_space
+from arena_studio.core.scene.model import load_scene
 from arena_studio.core.tape import TapeError, TapeWriter, open_tape
 from arena_studio.core.tape.format import PARALLEL_CRC_BYTES
 

@@ -8,8 +8,8 @@ from pathlib import Path
 import pytest
 
 from arena_studio.commands.progress import progress_bar
-from arena_studio.core.rollout import run_rollout
-from arena_studio.core.scene import load_scene
+from arena_studio.core.scene.model import load_scene
+from arena_studio.core.sim.rollout import run_rollout
 
 SCENES = Path(__file__).resolve().parents[2] / "scenes"
 

@@ -12,11 +12,9 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from arena_studio.core import visibility
-from arena_studio.core.geometry import free_space
-from arena_studio.core.resources import demo_path
-from arena_studio.core.scene import Scene, load_scene
-from arena_studio.core.visibility import (
+from arena_studio.core.geometry import visibility as visibility
+from arena_studio.core.geometry.regions import free_space
+from arena_studio.core.geometry.visibility import (
     PlanTooLarge,
     build_visibility_graph,
     check_graph_size,
@@ -24,6 +22,8 @@ from arena_studio.core.visibility import (
     graph_progress,
     max_graph_corners,
 )
+from arena_studio.core.resources import demo_path
+from arena_studio.core.scene.model import Scene, load_scene
 from tests.fuzz import big_scenes as big
 
 

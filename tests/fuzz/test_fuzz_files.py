@@ -21,7 +21,7 @@ import numpy as np
 from hypothesis import given
 from hypothesis import strategies as st
 
-from arena_studio.core.scene import Scene
+from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape import TapeWriter
 from tests.fuzz.harness import assert_clean, run_in_process
 from tests.fuzz.strategies import SCENE, fuzz_settings, hostile_float, scene_documents

@@ -18,7 +18,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from arena_studio.core.scene import Scene
+from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape import TapeWriter
 from tests.fuzz import big_scenes as big
 from tests.fuzz.harness import assert_clean, run_in_process, run_subprocess

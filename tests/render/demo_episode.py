@@ -11,10 +11,10 @@ from pathlib import Path
 
 import numpy as np
 
-from arena_studio.core.episode import Episode
 from arena_studio.core.resources import demo_path
-from arena_studio.core.scene import Scene, load_scene
+from arena_studio.core.scene.model import Scene, load_scene
 from arena_studio.core.tape import TapeWriter
+from arena_studio.core.tape.episode import Episode
 
 
 def greenhouse() -> Scene:

@@ -11,8 +11,8 @@ import pytest
 import shapely
 from PySide6.QtGui import QFontMetricsF
 
-from arena_studio.core.episode import Episode
-from arena_studio.core.scene import load_scene
+from arena_studio.core.scene.model import load_scene
+from arena_studio.core.tape.episode import Episode
 from arena_studio.render.drawing import font
 from arena_studio.render.episode_cache import episode_cache
 from arena_studio.render.episode_painter import _WIDEST_ARRIVAL, _arrival_above, _arrival_offset

@@ -9,8 +9,8 @@ from __future__ import annotations
 import numpy as np
 from shapely.geometry import Point
 
-from arena_studio.core.episode import Episode
-from arena_studio.core.geometry import open_area
+from arena_studio.core.geometry.regions import open_area
+from arena_studio.core.tape.episode import Episode
 from arena_studio.render.episode_cache import build_cache
 
 from .demo_episode import greenhouse
@@ -64,7 +64,7 @@ def test_agent_contact_onsets_and_first_coverage():
 def test_contact_marks_agree_with_the_replay_events():
     # Not an outside source: the frame's contact marks and core.events' scrub-bar events must
     # name the same steps (one definition of a contact in the whole tool).
-    from arena_studio.core.events import episode_events
+    from arena_studio.core.analysis.events import episode_events
 
     from .demo_episode import demo_episode
 

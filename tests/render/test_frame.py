@@ -17,7 +17,7 @@ import numpy as np
 import pytest
 from PIL import Image
 
-from arena_studio.core.episode import Episode
+from arena_studio.core.tape.episode import Episode
 from arena_studio.render.episode_painter import FrameOptions
 from arena_studio.render.frame import (
     FrameRenderer,

@@ -18,9 +18,9 @@ from PySide6.QtCore import QRectF
 from PySide6.QtGui import QImage, QPainter
 from shapely.geometry import Polygon, box
 
-from arena_studio.core.geometry import open_area, walkable_area
+from arena_studio.core.geometry.regions import open_area, walkable_area
 from arena_studio.core.resources import demo_path
-from arena_studio.core.scene import Agent, Landmark, Room, Scene, Start, load_scene
+from arena_studio.core.scene.model import Agent, Landmark, Room, Scene, Start, load_scene
 from arena_studio.render import scene_painter
 from arena_studio.render.frame import png_bytes
 from arena_studio.render.scene_painter import SceneOptions, label_places, paint_scene

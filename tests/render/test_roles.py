@@ -12,8 +12,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from shapely.geometry import Point
 
-from arena_studio.core.episode import Episode
-from arena_studio.core.roles import (
+from arena_studio.core.analysis.roles import (
     HEADING,
     HOLDING,
     IDLE,
@@ -22,7 +21,8 @@ from arena_studio.core.roles import (
     derive_roles,
     tape_roles,
 )
-from arena_studio.core.scene import Agent, Landmark, Room, Scene, Start
+from arena_studio.core.scene.model import Agent, Landmark, Room, Scene, Start
+from arena_studio.core.tape.episode import Episode
 
 
 def _scene(n_agents: int) -> Scene:

@@ -15,8 +15,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from PySide6.QtGui import QColor, QImage, QPainter
 
-from arena_studio.core.episode import Episode
-from arena_studio.core.scene import Agent, GoalSpec, Landmark, Room, Scene, Start
+from arena_studio.core.scene.model import Agent, GoalSpec, Landmark, Room, Scene, Start
+from arena_studio.core.tape.episode import Episode
 from arena_studio.render.agent_painter import SPRITE_PHASES, paint_agents
 from arena_studio.render.episode_cache import episode_cache
 from arena_studio.render.episode_painter import FrameOptions, paint_trails, prefill_frame

@@ -14,20 +14,20 @@ from typing import Any
 
 def open_tape(window: Any, path: str | Path) -> bool:
     """Open ``path`` in the replay page of ``window`` (created on first use)."""
-    from .integration import open_tape_in_window
+    from arena_studio.app.replay.integration import open_tape_in_window
 
     return open_tape_in_window(window, Path(path))
 
 
 def prepare_screenshot(window: Any, episode: int | None, seconds: float | None) -> str | None:
     """Show episode ``episode`` at ``seconds``; returns an error line, or None when ready."""
-    from .integration import prepare_screenshot as prepare
+    from arena_studio.app.replay.integration import prepare_screenshot as prepare
 
     return prepare(window, episode, seconds)
 
 
 def show_moment(window: Any, episode: int | None, seconds: float | None) -> str | None:
     """Go to episode ``episode`` at ``seconds`` in the open tape; an error line, or None."""
-    from .integration import show_moment as show
+    from arena_studio.app.replay.integration import show_moment as show
 
     return show(window, episode, seconds)

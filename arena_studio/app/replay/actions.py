@@ -12,7 +12,7 @@ from dataclasses import dataclass
 from PySide6.QtCore import QObject, Qt
 from PySide6.QtGui import QAction, QKeySequence
 
-from .transport import PlaybackClock
+from arena_studio.app.replay.transport import PlaybackClock
 
 
 @dataclass(frozen=True)

@@ -11,9 +11,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ...core.geometry import bounds
-from ...core.scene import Scene
-from .summary import EpisodeSummary
+from arena_studio.app.replay.summary import EpisodeSummary
+from arena_studio.core.geometry.regions import bounds
+from arena_studio.core.scene.model import Scene
 
 
 @dataclass(frozen=True)

@@ -15,11 +15,11 @@ from PySide6.QtCore import QRectF, QSize, Qt, Signal
 from PySide6.QtGui import QColor, QImage, QMouseEvent, QPainter, QPen
 from PySide6.QtWidgets import QHBoxLayout, QSizePolicy, QWidget
 
-from ...core.scene import Scene
-from ...render.scene_painter import SceneOptions, paint_scene
-from ...render.theme import Theme, load_theme
-from ...render.view import ViewTransform
-from .batch_stats import BatchStats, GoalStat, Occupancy
+from arena_studio.app.replay.batch_stats import BatchStats, GoalStat, Occupancy
+from arena_studio.core.scene.model import Scene
+from arena_studio.render.scene_painter import SceneOptions, paint_scene
+from arena_studio.render.theme import Theme, load_theme
+from arena_studio.render.view import ViewTransform
 
 
 def ramp(theme: Theme, rate: float) -> QColor:

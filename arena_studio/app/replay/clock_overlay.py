@@ -12,9 +12,9 @@ from __future__ import annotations
 from PySide6.QtCore import QPointF, QRectF, Qt
 from PySide6.QtGui import QColor, QFont, QFontMetricsF, QPainter
 
-from ...core.episode import Episode
-from ...render.drawing import font
-from ...render.theme import Theme
+from arena_studio.core.tape.episode import Episode
+from arena_studio.render.drawing import font
+from arena_studio.render.theme import Theme
 
 LABEL_PAD = 2.0  # render.drawing.label's default padding around the text
 CORNER = 3.0  # render.drawing.label's backdrop corner radius

@@ -34,7 +34,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from .summary import EpisodeSummary
+from arena_studio.app.replay.summary import EpisodeSummary
 
 COLUMNS: tuple[tuple[str, str], ...] = (
     ("index", "#"),

@@ -8,10 +8,10 @@ from __future__ import annotations
 
 from typing import Any
 
-from ...core.episode import Episode
-from ...core.events import episode_events
-from ...core.scene import Scene
-from .prepared import EventMark, event_marks
+from arena_studio.app.replay.prepared import EventMark, event_marks
+from arena_studio.core.analysis.events import episode_events
+from arena_studio.core.scene.model import Scene
+from arena_studio.core.tape.episode import Episode
 
 MAX_EVENTS = 5000  # beyond this the timeline would be a solid bar; keep the first ones
 

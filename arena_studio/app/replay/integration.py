@@ -12,8 +12,8 @@ from typing import Any
 
 from PySide6.QtWidgets import QApplication, QMenu
 
-from ...core.errors import ArenaError
-from .replay_window import ReplayWindow
+from arena_studio.app.replay.replay_window import ReplayWindow
+from arena_studio.core.errors import ArenaError
 
 PAGE_ATTR = "replay_page"
 MODE = "replay"
@@ -77,7 +77,7 @@ def _clip_action(window: Any, page: ReplayWindow):
     """'Export Clip…': the clip and still dialog at the current episode and time."""
     from PySide6.QtGui import QAction
 
-    from ..clip_dialog import open_clip_dialog
+    from arena_studio.app.clip_dialog import open_clip_dialog
 
     action = QAction("Export Clip…", page)
 

@@ -13,10 +13,10 @@ from PySide6.QtCore import Qt, QTimer
 from PySide6.QtGui import QShowEvent
 from PySide6.QtWidgets import QLabel, QVBoxLayout, QWidget
 
-from ...core.scene import Scene
-from ...render.theme import Theme, load_theme
-from .prepared import PreparedEpisode
-from .transport import PlaybackClock
+from arena_studio.app.replay.prepared import PreparedEpisode
+from arena_studio.app.replay.transport import PlaybackClock
+from arena_studio.core.scene.model import Scene
+from arena_studio.render.theme import Theme, load_theme
 
 MAX_PLOT_POINTS = 4000  # long episodes are decimated for drawing (the data stay intact)
 

@@ -12,8 +12,8 @@ from typing import Any
 
 import numpy as np
 
-from ...core.episode import Episode
-from ...core.scene import Scene
+from arena_studio.core.scene.model import Scene
+from arena_studio.core.tape.episode import Episode
 
 #: event kinds the timeline knows how to draw; anything else is drawn as "other"
 EVENT_KINDS: tuple[str, ...] = (

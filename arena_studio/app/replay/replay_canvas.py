@@ -24,18 +24,18 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from ...core.episode import Episode
-from ...core.roles import ROLE_NAMES
-from ...core.scene import Scene
-from ...render.episode_cache import episode_cache
-from ...render.episode_painter import FrameOptions, paint_episode_frame, paint_legend
-from ...render.theme import Theme
-from ...render.view import ViewTransform
-from ..canvas import SceneCanvas
-from ..scene_items import WORLD
-from .clock_overlay import ClockOverlay
-from .prepared import PreparedEpisode
-from .trail_prefill import TrailPrefill
+from arena_studio.app.canvas import SceneCanvas
+from arena_studio.app.replay.clock_overlay import ClockOverlay
+from arena_studio.app.replay.prepared import PreparedEpisode
+from arena_studio.app.replay.trail_prefill import TrailPrefill
+from arena_studio.app.scene_items import WORLD
+from arena_studio.core.analysis.roles import ROLE_NAMES
+from arena_studio.core.scene.model import Scene
+from arena_studio.core.tape.episode import Episode
+from arena_studio.render.episode_cache import episode_cache
+from arena_studio.render.episode_painter import FrameOptions, paint_episode_frame, paint_legend
+from arena_studio.render.theme import Theme
+from arena_studio.render.view import ViewTransform
 
 LEGEND_W = 200.0
 HOVER_SLACK_PX = 6.0
@@ -213,8 +213,8 @@ class ReplayCanvas(SceneCanvas):
         """Fit the scene into the part of the view the legend leaves free."""
         from PySide6.QtGui import QTransform
 
-        from ...core.geometry import bounds
-        from ..canvas import MAX_PPM, MIN_PPM
+        from arena_studio.app.canvas import MAX_PPM, MIN_PPM
+        from arena_studio.core.geometry.regions import bounds
 
         room = self.legend_room()
         minx, miny, maxx, maxy = bounds(self.scene_value)
@@ -303,7 +303,7 @@ class ReplayCanvas(SceneCanvas):
     def _paint_caption(self, painter: QPainter, width: int) -> None:
         """Which episode this view shows (compare mode): top centre, or under the clock
         when the view is too narrow for both."""
-        from ...render.drawing import font, label
+        from arena_studio.render.drawing import font, label
 
         wide = width >= 760
         anchor = QPointF(width / 2, 18) if wide else QPointF(10, 84)

@@ -22,21 +22,21 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from ...core.scene import Scene
-from ...render.theme import Theme, load_theme
-from .actions import build_actions
-from .batch_stats import batch_stats
-from .batch_view import BatchPanel
-from .episode_list import EpisodeListPanel
-from .plots import PlotsPanel
-from .prepared import PreparedEpisode
-from .replay_canvas import ReplayCanvas
-from .session import ReplaySession
-from .timeline import TimelineBar
-from .transport import PlaybackClock
-from .transport_bar import TransportBar
-from .verdict import VerdictLine
-from .view_toolbar import COMPARE_MODES, ViewToolbar
+from arena_studio.app.replay.actions import build_actions
+from arena_studio.app.replay.batch_stats import batch_stats
+from arena_studio.app.replay.batch_view import BatchPanel
+from arena_studio.app.replay.episode_list import EpisodeListPanel
+from arena_studio.app.replay.plots import PlotsPanel
+from arena_studio.app.replay.prepared import PreparedEpisode
+from arena_studio.app.replay.replay_canvas import ReplayCanvas
+from arena_studio.app.replay.session import ReplaySession
+from arena_studio.app.replay.timeline import TimelineBar
+from arena_studio.app.replay.transport import PlaybackClock
+from arena_studio.app.replay.transport_bar import TransportBar
+from arena_studio.app.replay.verdict import VerdictLine
+from arena_studio.app.replay.view_toolbar import COMPARE_MODES, ViewToolbar
+from arena_studio.core.scene.model import Scene
+from arena_studio.render.theme import Theme, load_theme
 
 
 class ReplayWindow(QMainWindow):
@@ -212,7 +212,7 @@ class ReplayWindow(QMainWindow):
     # -- opening -----------------------------------------------------------------------
     def open_tape(self, path: str | Path, tape: Any = None) -> None:
         """Open a tape (errors raise :class:`TapeError` with a clear message)."""
-        from ...core.tape import open_tape
+        from arena_studio.core.tape import open_tape
 
         tape = tape if tape is not None else open_tape(path)
         self.close_tape()
@@ -477,7 +477,7 @@ class ReplayWindow(QMainWindow):
         return True
 
     def check_scene_file_dialog(self) -> None:
-        from ...core.scene import load_scene
+        from arena_studio.core.scene.model import load_scene
 
         path, _ = QFileDialog.getOpenFileName(
             self, "Scene file to check", "", "Scenes (*.scene.json *.scene.msgpack)"

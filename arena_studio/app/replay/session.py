@@ -15,17 +15,17 @@ from typing import Any
 
 from PySide6.QtCore import QObject, Signal
 
-from ...core.episode import Episode
-from ...core.scene import Scene
-from .batch_stats import Occupancy
-from .events import episode_event_marks
-from .loader import CORE_LOCK, BackgroundCall, StreamWorker
-from .prepared import PreparedEpisode, prepare_episode
-from .summary import EpisodeSummary, summarise_episode
+from arena_studio.app.replay.batch_stats import Occupancy
+from arena_studio.app.replay.events import episode_event_marks
+from arena_studio.app.replay.loader import CORE_LOCK, BackgroundCall, StreamWorker
+from arena_studio.app.replay.prepared import PreparedEpisode, prepare_episode
+from arena_studio.app.replay.summary import EpisodeSummary, summarise_episode
+from arena_studio.core.scene.model import Scene
+from arena_studio.core.tape.episode import Episode
 
 
 def _metrics_for(scene: Scene, episode: Episode) -> Any:
-    from ...core.metrics import episode_metrics
+    from arena_studio.core.analysis.metrics import episode_metrics
 
     return episode_metrics(scene, episode)
 
@@ -37,7 +37,7 @@ def load_prepared(scene: Scene, episode: Episode) -> PreparedEpisode:
 
 
 def _load_prepared(scene: Scene, episode: Episode) -> PreparedEpisode:
-    from ...render.episode_cache import episode_cache
+    from arena_studio.render.episode_cache import episode_cache
 
     metrics = _metrics_for(scene, episode)
     events = episode_event_marks(scene, episode, metrics)
@@ -122,7 +122,7 @@ class ReplaySession(QObject):
         self._worker.start()
 
     def _reopen(self) -> Any:
-        from ...core.tape import open_tape
+        from arena_studio.core.tape import open_tape
 
         return open_tape(self.path)
 

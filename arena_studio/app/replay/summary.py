@@ -1,6 +1,6 @@
 """One row of the episode list: the few numbers a researcher sorts and filters by.
 
-Rows are filled from :func:`arena_studio.core.metrics.episode_metrics` (the same numbers as
+Rows are filled from :func:`arena_studio.core.analysis.metrics.episode_metrics` (the same numbers as
 ``arena-studio stats``). Whatever metrics do not say stays ``None`` and shows as a dash.
 """
 
@@ -11,9 +11,9 @@ from typing import Any
 
 import numpy as np
 
-from ...core.episode import Episode
-from ...core.scene import Scene
-from .prepared import goal_label, goal_targets
+from arena_studio.app.replay.prepared import goal_label, goal_targets
+from arena_studio.core.scene.model import Scene
+from arena_studio.core.tape.episode import Episode
 
 
 @dataclass(frozen=True)
@@ -88,6 +88,6 @@ def summary_from_metrics(scene: Scene, episode: Episode, metrics: Any) -> Episod
 
 def summarise_episode(scene: Scene, episode: Episode) -> EpisodeSummary:
     """Metrics row for one episode, computed with core.metrics."""
-    from ...core.metrics import episode_metrics
+    from arena_studio.core.analysis.metrics import episode_metrics
 
     return summary_from_metrics(scene, episode, episode_metrics(scene, episode))

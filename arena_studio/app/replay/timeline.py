@@ -22,9 +22,9 @@ from PySide6.QtGui import (
 )
 from PySide6.QtWidgets import QSizePolicy, QToolTip, QWidget
 
-from ...render.theme import Theme, load_theme
-from .prepared import EventMark
-from .transport import PlaybackClock
+from arena_studio.app.replay.prepared import EventMark
+from arena_studio.app.replay.transport import PlaybackClock
+from arena_studio.render.theme import Theme, load_theme
 
 MARGIN_X = 14.0
 TEAM_KINDS = ("success", "diagnosis", "collision", "other")

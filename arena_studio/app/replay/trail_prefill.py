@@ -13,11 +13,11 @@ from __future__ import annotations
 from PySide6.QtCore import QObject, QTimer
 from PySide6.QtWidgets import QWidget
 
-from ...core.episode import Episode
-from ...core.scene import Scene
-from ...render.episode_painter import FrameOptions, prefill_frame
-from ...render.theme import Theme
-from ...render.view import ViewTransform
+from arena_studio.core.scene.model import Scene
+from arena_studio.core.tape.episode import Episode
+from arena_studio.render.episode_painter import FrameOptions, prefill_frame
+from arena_studio.render.theme import Theme
+from arena_studio.render.view import ViewTransform
 
 #: blocks drawn per idle tick (~50 us each at 1280x720)
 BLOCKS_PER_TICK = 16

@@ -11,8 +11,8 @@ from PySide6.QtCore import QPointF, QRectF, QSize, Qt
 from PySide6.QtGui import QAction, QIcon, QPainter, QPainterPath, QPixmap
 from PySide6.QtWidgets import QComboBox, QHBoxLayout, QLabel, QMenu, QToolButton, QWidget
 
-from ...render.theme import Theme, load_theme
-from .transport import SPEEDS, PlaybackClock
+from arena_studio.app.replay.transport import SPEEDS, PlaybackClock
+from arena_studio.render.theme import Theme, load_theme
 
 ICON_PX = 18
 

@@ -10,8 +10,8 @@ from __future__ import annotations
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QLabel, QWidget
 
-from ...render.theme import Theme
-from .prepared import PreparedEpisode
+from arena_studio.app.replay.prepared import PreparedEpisode
+from arena_studio.render.theme import Theme
 
 
 def describe(p: PreparedEpisode, theme: Theme, lead: str, step: int, link: bool) -> str:

@@ -5,7 +5,7 @@ from __future__ import annotations
 from PySide6.QtCore import Signal
 from PySide6.QtWidgets import QCheckBox, QComboBox, QDoubleSpinBox, QLabel, QToolBar, QWidget
 
-from ...render.episode_painter import FrameOptions
+from arena_studio.render.episode_painter import FrameOptions
 
 COMPARE_MODES = (("Off", "off"), ("Ghost overlay", "ghost"), ("Side by side", "side"))
 

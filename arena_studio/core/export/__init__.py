@@ -15,8 +15,8 @@ from __future__ import annotations
 from collections.abc import Callable
 from pathlib import Path
 
-from ..errors import ArenaError
-from ..scene import Scene
+from arena_studio.core.errors import ArenaError
+from arena_studio.core.scene.model import Scene
 
 CAUTION = (
     "Simulation aid only: scenes, reachability and par times are not a safety assessment. "
@@ -34,23 +34,23 @@ class ExportError(ArenaError):
 
 def _writer(fmt: str) -> Callable[..., list[Path]]:
     if fmt in ("json", "msgpack"):
-        from .scene_file import write_scene_export
+        from arena_studio.core.export.scene_file import write_scene_export
 
         return write_scene_export
     if fmt == "npz":
-        from .npz import write_npz
+        from arena_studio.core.export.npz import write_npz
 
         return write_npz
     if fmt == "wkt":
-        from .wkt import write_wkt
+        from arena_studio.core.export.wkt import write_wkt
 
         return write_wkt
     if fmt == "svg":
-        from .svg import write_svg
+        from arena_studio.core.export.svg import write_svg
 
         return write_svg
     if fmt == "grid":
-        from .grid import write_grid
+        from arena_studio.core.export.grid import write_grid
 
         return write_grid
     raise ExportError(f"unknown export format {fmt!r} (expected one of {', '.join(FORMATS)})")

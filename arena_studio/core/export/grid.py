@@ -18,11 +18,11 @@ from pathlib import Path
 import numpy as np
 import shapely
 
-from ..geometry import bounds, free_space, open_area
-from ..png import encode_png
-from ..scene import Scene
-from . import ExportError
-from .meta import provenance, write_export_bytes, write_json_atomic
+from arena_studio.core.export import ExportError
+from arena_studio.core.export.meta import provenance, write_export_bytes, write_json_atomic
+from arena_studio.core.export.png import encode_png
+from arena_studio.core.geometry.regions import bounds, free_space, open_area
+from arena_studio.core.scene.model import Scene
 
 #: Largest grid written (cells); a finer resolution is refused with a reason.
 MAX_CELLS = 40_000_000
@@ -69,7 +69,7 @@ def _paths(out: Path) -> tuple[Path, Path, Path]:
 
 
 def write_grid(scene: Scene, out: Path, resolution: float, clearance: float = 0.0) -> list[Path]:
-    from .svg import palette
+    from arena_studio.core.export.svg import palette
 
     grid, origin = occupancy(scene, resolution, clearance)
     npy_path, png_path, json_path = _paths(out)

@@ -32,8 +32,14 @@ from shapely.geometry import Point
 from shapely.geometry.base import BaseGeometry
 from shapely.ops import unary_union
 
-from ..geometry import inward_normals, open_area, per_thread_cache, polygon, walkable_area
-from ..scene import Landmark, Scene
+from arena_studio.core.geometry.regions import (
+    inward_normals,
+    open_area,
+    per_thread_cache,
+    polygon,
+    walkable_area,
+)
+from arena_studio.core.scene.model import Landmark, Scene
 
 Box = tuple[float, float, float, float]
 Align = Literal["left", "center", "right"]

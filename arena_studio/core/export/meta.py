@@ -6,10 +6,10 @@ import json
 from pathlib import Path
 from typing import Any
 
-from ... import __version__
-from ..atomic import write_bytes_atomic
-from ..scene import Scene
-from . import CAUTION
+from arena_studio import __version__
+from arena_studio.core.atomic import write_bytes_atomic
+from arena_studio.core.export import CAUTION
+from arena_studio.core.scene.model import Scene
 
 
 def provenance(scene: Scene, fmt: str) -> dict[str, Any]:

@@ -12,11 +12,11 @@ from pathlib import Path
 
 import numpy as np
 
-from ..geometry import wall_segments
-from ..goals import enumerate_goals
-from ..partime import plan_all
-from ..scene import Scene
-from .meta import provenance, write_export_bytes
+from arena_studio.core.export.meta import provenance, write_export_bytes
+from arena_studio.core.geometry.regions import wall_segments
+from arena_studio.core.planning.goal_set import enumerate_goals
+from arena_studio.core.planning.partime import plan_all
+from arena_studio.core.scene.model import Scene
 
 #: name -> meaning; every array the export writes.
 ARRAYS: dict[str, str] = {

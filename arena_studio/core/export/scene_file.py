@@ -9,9 +9,14 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from ..scene import Scene
-from ..scene_files import encode_scene
-from .meta import provenance, sidecar_path, write_export_bytes, write_json_atomic
+from arena_studio.core.export.meta import (
+    provenance,
+    sidecar_path,
+    write_export_bytes,
+    write_json_atomic,
+)
+from arena_studio.core.scene.files import encode_scene
+from arena_studio.core.scene.model import Scene
 
 
 def write_scene_export(scene: Scene, path: Path, fmt: str) -> list[Path]:

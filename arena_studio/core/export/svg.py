@@ -19,11 +19,11 @@ from pathlib import Path
 from shapely.geometry import Polygon
 from shapely.geometry.base import BaseGeometry
 
-from ..geometry import bounds, obstacle_geometry, open_area, walkable_area
-from ..resources import resource_path
-from ..scene import Scene
-from .label_place import Box, LabelPlacement, place_labels, start_marks
-from .meta import provenance, write_export_bytes
+from arena_studio.core.export.label_place import Box, LabelPlacement, place_labels, start_marks
+from arena_studio.core.export.meta import provenance, write_export_bytes
+from arena_studio.core.geometry.regions import bounds, obstacle_geometry, open_area, walkable_area
+from arena_studio.core.resources import resource_path
+from arena_studio.core.scene.model import Scene
 
 SVG_NS = "http://www.w3.org/2000/svg"
 MAX_SIDE_MM = 250.0

@@ -14,9 +14,15 @@ from pathlib import Path
 import shapely
 from shapely.geometry.base import BaseGeometry
 
-from ..geometry import free_space, obstacle_geometry, open_area, polygon, walkable_area
-from ..scene import Scene
-from .meta import provenance, write_export_bytes
+from arena_studio.core.export.meta import provenance, write_export_bytes
+from arena_studio.core.geometry.regions import (
+    free_space,
+    obstacle_geometry,
+    open_area,
+    polygon,
+    walkable_area,
+)
+from arena_studio.core.scene.model import Scene
 
 
 def labelled_geometries(scene: Scene) -> list[tuple[str, BaseGeometry]]:

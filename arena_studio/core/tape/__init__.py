@@ -9,9 +9,9 @@ The layout is described in :mod:`arena_studio.core.tape.format` and in DEVELOPER
 
 from __future__ import annotations
 
-from .format import FORMAT_NAME, FORMAT_VERSION, TapeError
-from .reader import Tape, open_tape
-from .writer import TapeWriter, partial_path
+from arena_studio.core.tape.format import FORMAT_NAME, FORMAT_VERSION, TapeError
+from arena_studio.core.tape.reader import Tape, open_tape
+from arena_studio.core.tape.writer import TapeWriter, partial_path
 
 __all__ = [
     "FORMAT_NAME",

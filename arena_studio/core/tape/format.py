@@ -29,7 +29,7 @@ from typing import Any
 import msgpack
 import numpy as np
 
-from ..errors import ArenaError
+from arena_studio.core.errors import ArenaError
 
 FORMAT_NAME = "arena-studio.tape"
 FORMAT_VERSION = 1

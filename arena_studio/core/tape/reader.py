@@ -18,11 +18,11 @@ from typing import Any, cast
 
 import numpy as np
 
-from ..episode import Episode, RoleTimeline
-from ..errors import ArenaError
-from ..safe_open import InputFileError, open_input
-from ..scene import Scene
-from .format import (
+from arena_studio.core.errors import ArenaError
+from arena_studio.core.safe_open import InputFileError, open_input
+from arena_studio.core.scene.model import Scene
+from arena_studio.core.tape.episode import Episode, RoleTimeline
+from arena_studio.core.tape.format import (
     BOOL_DTYPES,
     FLOAT_DTYPES,
     FORMAT_NAME,

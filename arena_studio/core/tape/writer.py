@@ -31,8 +31,8 @@ from typing import Any, BinaryIO
 
 import numpy as np
 
-from ..scene import Scene
-from .format import (
+from arena_studio.core.scene.model import Scene
+from arena_studio.core.tape.format import (
     FORMAT_NAME,
     FORMAT_VERSION,
     KIND_BEGIN,

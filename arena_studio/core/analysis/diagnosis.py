@@ -1,0 +1,380 @@
+"""Why a failed episode failed: the first matching pattern, and the step where it shows.
+
+Checked in this order (the first that matches wins, so a root cause beats its symptoms):
+
+``misaligned``       agents pursued different goals (or not the team goal). Shows at the first
+                     step an agent covers a landmark outside the judged goal, else step 0.
+``duplicate-target`` at the end two or more agents cover one target while another target is
+                     empty. Shows where that situation began (and lasted to the end).
+``not-together``     (rules ``all_at_end`` / ``all_at_once``) every target was covered at
+                     some step, never all at once for the hold time. Shows at the step the
+                     last target was first reached.
+``time-ran-out``     some agent was still moving at the last step, closer to an empty target
+                     than a second earlier. Shows at the last step.
+``stuck``            an agent stood still for the last :data:`STUCK_SECONDS` away from every
+                     target while a target was empty. Shows where it stopped.
+``uncovered``        none of the above: targets left empty at the end. Shows at the last step.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import TYPE_CHECKING
+
+import numpy as np
+
+from arena_studio.core.scene.model import Scene
+from arena_studio.core.tape.episode import Episode
+
+if TYPE_CHECKING:
+    from arena_studio.core.analysis.metrics import EpisodeMetrics
+
+STUCK_SECONDS = 2.0
+CODES = ("misaligned", "duplicate-target", "not-together", "time-ran-out", "stuck", "uncovered")
+
+
+@dataclass(frozen=True)
+class Diagnosis:
+    code: str
+    text: str
+    step: int
+
+
+def _final_run_start(mask: np.ndarray) -> int:
+    """Start of the run of True values that lasts to the end (mask[-1] must be True)."""
+    falses = np.flatnonzero(~mask)
+    return int(falses[-1] + 1) if falses.size else 0
+
+
+def _goal_words(scene: Scene, goal: np.ndarray | None) -> str:
+    if goal is None:
+        return "nothing recorded"
+    ids = [scene.landmarks[i].id for i in np.flatnonzero(goal)]
+    return "+".join(ids) if ids else "no target"
+
+
+def diagnose(
+    scene: Scene,
+    episode: Episode,
+    metrics: EpisodeMetrics,
+    cover: np.ndarray,
+    still: np.ndarray,
+) -> Diagnosis | None:
+    """Diagnosis of a failed episode with a judged goal, or None (success or no goal).
+
+    ``cover`` is (T, A, L) from ``observe.coverage``; ``still`` (T, A) from
+    ``metrics.still_mask``.
+    """
+    if metrics.success or metrics.goal is None:
+        return None
+    ids = [a.id for a in scene.agents]
+    lm_ids = [lm.id for lm in scene.landmarks]
+    targets = list(metrics.goal)
+    steps = episode.steps
+    last = steps - 1
+
+    if metrics.aligned is False:
+        outside = np.ones(len(scene.landmarks), dtype=bool)
+        outside[targets] = False
+        off = np.flatnonzero(cover[:, :, outside].any(axis=(1, 2)))
+        wanted = ", ".join(
+            f"{ids[a]} {_goal_words(scene, g)}" for a, g in enumerate(episode.pursued_goals)
+        )
+        team = episode.team_goal
+        lead = f"team goal {_goal_words(scene, team)}; " if team is not None else ""
+        return Diagnosis(
+            "misaligned",
+            f"agents pursued different goals ({lead}{wanted})",
+            int(off[0]) if off.size else 0,
+        )
+
+    tc = cover[:, :, targets]  # (T, A, K)
+    count = tc.sum(axis=1)  # (T, K)
+    if len(targets) >= 2:
+        dup = (count >= 2).any(axis=1) & (count == 0).any(axis=1)
+        if dup[-1]:
+            k_dup = int(np.argmax(count[-1]))
+            k_empty = int(np.flatnonzero(count[-1] == 0)[0])
+            who = " and ".join(ids[a] for a in np.flatnonzero(tc[-1, :, k_dup]))
+            return Diagnosis(
+                "duplicate-target",
+                f"{who} went to {lm_ids[targets[k_dup]]} while "
+                f"{lm_ids[targets[k_empty]]} stayed empty",
+                _final_run_start(dup),
+            )
+        ever = count > 0  # (T, K)
+        if scene.goals.rule != "all_visited" and ever.any(axis=0).all():
+            first = ever.argmax(axis=0)
+            return Diagnosis(
+                "not-together",
+                "every target was reached, but never all at the same time"
+                + (f" for {scene.goals.hold_time:g} s" if scene.goals.hold_time > 0 else ""),
+                int(first.max()),
+            )
+
+    empty = [targets[k] for k in np.flatnonzero(count[-1] == 0)]
+    if not empty:
+        empty = list(targets)
+    lm_pos = np.array([scene.landmarks[i].position for i in empty], dtype=np.float64)
+    xy = episode.poses[:, :, :2]
+    back = max(0, last - round(1.0 / episode.dt))
+    d_now = np.linalg.norm(xy[last][:, None, :] - lm_pos[None], axis=-1).min(axis=1)
+    d_then = np.linalg.norm(xy[back][:, None, :] - lm_pos[None], axis=-1).min(axis=1)
+    approaching = ~still[-1] & (d_now < d_then - 1e-6)
+    if approaching.any():
+        names = ", ".join(ids[a] for a in np.flatnonzero(approaching))
+        return Diagnosis(
+            "time-ran-out",
+            f"time ran out while {names} still moved towards " + "+".join(lm_ids[i] for i in empty),
+            last,
+        )
+
+    need = round(STUCK_SECONDS / episode.dt)
+    for a in range(episode.agent_count):
+        if still[-1, a] and not cover[-1, a, targets].any():
+            start = _final_run_start(still[:, a])
+            if last - start >= need:
+                x, y = episode.poses[start, a, :2]
+                return Diagnosis(
+                    "stuck",
+                    f"{ids[a]} stopped at ({x:.2f}, {y:.2f}) away from every target while "
+                    + "+".join(lm_ids[i] for i in empty)
+                    + " stayed empty",
+                    start,
+                )
+    return Diagnosis(
+        "uncovered", "targets left empty at the end: " + "+".join(lm_ids[i] for i in empty), last
+    )
+
+
+def diagnose_block(
+    scene: Scene,
+    episodes: Sequence[Episode],
+    success: Sequence[bool],
+    goals: Sequence[tuple[int, ...] | None],
+    aligned: Sequence[bool | None],
+    cover: np.ndarray,
+    still: np.ndarray,
+    rows: tuple[np.ndarray, np.ndarray, np.ndarray],
+    count: np.ndarray,
+    xs: np.ndarray,
+    ys: np.ndarray,
+) -> list[Diagnosis | None]:
+    """:func:`diagnose` for episodes laid end to end, one answer per episode, identical to
+    calling it episode by episode: every per-step test runs once over all rows and is reduced
+    per episode (``starts`` are the first rows), leaving only the wording to a Python loop.
+
+    ``success``, ``goals`` (judged target indices) and ``aligned`` are the episodes'
+    metrics; ``cover`` (N, A, L) and ``still`` (N, A) their arrays concatenated, ``xs`` and
+    ``ys`` (A, N) the agents' positions laid out the same way (as float64). ``rows`` is
+    (starts, lengths, floor) of the episodes as :func:`observe.segment_starts` gives them;
+    ``count`` (L, N) the number of agents covering each landmark, needed for every landmark
+    an episode without success targets (for all of them when one such is misaligned). All
+    episodes share one ``dt``.
+    """
+    starts, lengths, floor = rows
+    n_ep = len(episodes)
+    out: list[Diagnosis | None] = [None] * n_ep
+    todo = [e for e in range(n_ep) if not success[e] and goals[e] is not None]
+    if not todo:
+        return out
+    n_rows, n_agents, n_lm = cover.shape
+    ends = starts + lengths
+    last = ends - 1
+    idx = np.arange(n_rows)
+    tmask = np.zeros((n_ep, n_lm), dtype=bool)
+    by_goal: dict[tuple[int, ...], list[int]] = {}
+    for e in todo:
+        by_goal.setdefault(goals[e] or (), []).append(e)
+    for goal, members in by_goal.items():  # one assignment per distinct goal
+        tmask[np.ix_(members, goal)] = True
+    # every result below is reduced per episode and read only for the episodes in todo, so
+    # when those share one goal its mask can stand for every row
+    uniform = bool((tmask[todo] == tmask[todo[0]]).all())
+    misaligned = any(aligned[e] is False for e in todo)
+    used: np.ndarray = np.asarray(tmask.any(axis=0))
+
+    def rows_of(k: int) -> np.ndarray | None:
+        """Rows whose episode targets landmark k; None: all of them (uniform goals)."""
+        return None if uniform else np.repeat(tmask[:, k], lengths)
+
+    covered: np.ndarray = np.asarray(count > 0)  # (L, N)
+    if misaligned:  # first step a landmark outside the goal is hit
+        off = np.zeros(n_rows, dtype=bool)
+        for k in range(n_lm):
+            rk = rows_of(k)
+            if rk is None:
+                if not tmask[todo[0], k]:
+                    off |= covered[k]
+            else:
+                off |= covered[k] & ~rk
+        off_first = (np.minimum.reduceat(np.where(off, idx, n_rows), starts) - starts).tolist()
+    many = np.zeros(n_rows, dtype=bool)  # some target covered twice or more
+    hole = np.zeros(n_rows, dtype=bool)  # some target empty
+    first_cov = np.full((n_ep, n_lm), n_rows, dtype=np.int64)
+    for k in np.flatnonzero(used).tolist():
+        rk = rows_of(k)
+        if rk is None:
+            many |= count[k] >= 2
+            hole |= ~covered[k]
+        else:
+            many |= (count[k] >= 2) & rk
+            hole |= ~covered[k] & rk
+        first_cov[:, k] = np.minimum.reduceat(np.where(covered[k], idx, n_rows), starts)
+    dup = many & hole
+    dup_last = dup[last].tolist()
+    dup_start = (np.maximum.reduceat(np.where(dup, floor, idx), starts) + 1 - starts).tolist()
+    all_reached: list[bool] = np.asarray(
+        (~tmask | (first_cov < ends[:, None])).all(axis=1)
+    ).tolist()
+    last_reached = (np.where(tmask, first_cov, -1).max(axis=1) - starts).tolist()
+    end_count = count[:, last].T.tolist()  # (E, L)
+    run_starts: list[list[int]] = []
+
+    def still_start(e: int, a: int) -> int:
+        """First step of agent a's still run that lasts to episode e's end (computed once)."""
+        if not run_starts:
+            run_starts.extend(
+                (
+                    np.maximum.reduceat(np.where(still, floor[:, None], idx[:, None]), starts, 0)
+                    + 1
+                    - starts[:, None]
+                ).tolist()
+            )
+        return run_starts[e][a]
+
+    still_last = still[last].tolist()
+    cover_rows: list[list[list[bool]]] = []
+
+    def cover_last(e: int) -> list[list[bool]]:
+        """(A, L) coverage at episode e's last step (computed once, when first asked)."""
+        if not cover_rows:
+            cover_rows.extend(cover[last].tolist())
+        return cover_rows[e]
+
+    dt = episodes[0].dt
+    lm_all = np.array([lm.position for lm in scene.landmarks], dtype=np.float64)
+    ids = [a.id for a in scene.agents]
+    lm_ids = [lm.id for lm in scene.landmarks]
+    need = round(STUCK_SECONDS / dt)
+    back_steps = round(1.0 / dt)
+    simultaneous = scene.goals.rule != "all_visited"
+    hold_words = f" for {scene.goals.hold_time:g} s" if scene.goals.hold_time > 0 else ""
+    back = np.maximum(last - back_steps, starts)
+    approaching_of = _approaching(
+        todo, tmask, count[:, last].T, lm_all, (xs, ys), last[todo], back[todo]
+    )
+    for e in todo:
+        ep = episodes[e]
+        targets = list(goals[e] or ())
+        t_end = int(lengths[e]) - 1
+        if aligned[e] is False:
+            wanted = ", ".join(
+                f"{ids[a]} {_goal_words(scene, g)}" for a, g in enumerate(ep.pursued_goals)
+            )
+            team = ep.team_goal
+            lead = f"team goal {_goal_words(scene, team)}; " if team is not None else ""
+            first = off_first[e]
+            out[e] = Diagnosis(
+                "misaligned",
+                f"agents pursued different goals ({lead}{wanted})",
+                first if first <= t_end else 0,
+            )
+            continue
+        counts = [end_count[e][lm] for lm in targets]
+        if len(targets) >= 2:
+            if dup_last[e]:
+                k_dup = counts.index(max(counts))
+                k_empty = counts.index(0)
+                lm_dup = targets[k_dup]
+                who = " and ".join(ids[a] for a in range(n_agents) if cover_last(e)[a][lm_dup])
+                out[e] = Diagnosis(
+                    "duplicate-target",
+                    f"{who} went to {lm_ids[lm_dup]} while {lm_ids[targets[k_empty]]} stayed empty",
+                    dup_start[e],
+                )
+                continue
+            if simultaneous and all_reached[e]:
+                out[e] = Diagnosis(
+                    "not-together",
+                    "every target was reached, but never all at the same time" + hold_words,
+                    last_reached[e],
+                )
+                continue
+        empty = [lm for lm, c in zip(targets, counts, strict=True) if c == 0] or list(targets)
+        empty_words = "+".join(lm_ids[i] for i in empty)
+        closer = approaching_of[e]
+        approaching = [a for a in range(n_agents) if closer[a] and not still_last[e][a]]
+        if approaching:
+            names = ", ".join(ids[a] for a in approaching)
+            out[e] = Diagnosis(
+                "time-ran-out",
+                f"time ran out while {names} still moved towards {empty_words}",
+                t_end,
+            )
+            continue
+        for a in range(n_agents):
+            if still_last[e][a] and not any(cover_last(e)[a][lm] for lm in targets):
+                start = still_start(e, a)
+                if t_end - start >= need:
+                    x, y = ep.poses[start, a, :2]
+                    out[e] = Diagnosis(
+                        "stuck",
+                        f"{ids[a]} stopped at ({x:.2f}, {y:.2f}) away from every target while "
+                        f"{empty_words} stayed empty",
+                        start,
+                    )
+                    break
+        else:
+            out[e] = Diagnosis("uncovered", f"targets left empty at the end: {empty_words}", t_end)
+    return out
+
+
+def _approaching(
+    todo: list[int],
+    tmask: np.ndarray,
+    end_count: np.ndarray,
+    lm_all: np.ndarray,
+    xy: tuple[np.ndarray, np.ndarray],
+    now_rows: np.ndarray,
+    back_rows: np.ndarray,
+) -> dict[int, list[bool]]:
+    """Per episode of ``todo``, per agent: is it nearer its nearest empty target at the last
+    step (row ``now_rows``) than one second earlier (``back_rows``), by more than 1e-6 m? As
+    :func:`diagnose` computes it, with the same subtractions, squares and square roots, for
+    every episode at once; the minimum over the empty targets is a running ``np.minimum``
+    with the other targets left at infinity, which leaves it unchanged (NaN propagates as
+    in ``min``). Empty targets: those no agent covers at the end, or all of them when every
+    one is covered."""
+    xs, ys = xy
+    targets = tmask[todo]  # (E, L)
+    empty = targets & (end_count[todo] == 0)
+    none_empty = ~empty.any(axis=1)
+    empty[none_empty] = targets[none_empty]
+
+    def nearest(rows: np.ndarray) -> np.ndarray:
+        """(E, A) distance to the nearest empty target: sqrt(dx * dx + dy * dy), what
+        np.linalg.norm sums over a pair of coordinates, one landmark at a time."""
+        x, y = xs[:, rows].T, ys[:, rows].T  # (E, A)
+        best = np.full(x.shape, np.inf)
+        for k in np.flatnonzero(empty.any(axis=0)).tolist():
+            dx = x - lm_all[k, 0]
+            dy = y - lm_all[k, 1]
+            dist = np.sqrt(dx * dx + dy * dy)
+            np.minimum(best, np.where(empty[:, k, None], dist, np.inf), out=best)
+        return best
+
+    closer = (nearest(now_rows) < nearest(back_rows) - 1e-6).tolist()
+    return dict(zip(todo, closer, strict=True))
+
+
+def _any_row(mask: np.ndarray) -> np.ndarray:
+    """``mask.any(axis=1)`` for an (N, L) mask with few columns, by element-wise ORs."""
+    out = mask[:, 0].copy() if mask.shape[1] else np.zeros(mask.shape[0], dtype=bool)
+    for k in range(1, mask.shape[1]):
+        out |= mask[:, k]
+    return out
+
+
+__all__ = ["CODES", "Diagnosis", "diagnose", "diagnose_block"]

@@ -1,0 +1,408 @@
+"""Preview rollout: scripted (not learned) agents that record realistic tapes of a scene.
+
+Each episode draws a team goal from the scene's goal set (seeded). ``shared`` mode gives that
+goal to every agent and splits its targets by the par-time assignment
+(:func:`.planning.partime.plan_goal`); ``independent`` mode lets every agent draw its
+own goal and act on its own plan of it, so cooperative goals often fail. ``greedy`` mode gives
+every agent the team goal (they are aligned) but no split: each drives to the target nearest
+to it, waits there for a patience of its own (drawn between :data:`PATIENCE` seconds), then
+moves on to the nearest target it has not visited, and stays at the last one. Nobody knows
+what the others do, so two agents often crowd one target while another stays empty, or reach
+their targets at different times. Every agent drives
+the shortest collision-free route (:class:`arena_studio.core.geometry.paths.PathPlanner`) to each of
+its targets with :class:`~arena_studio.core.sim.controller.PathFollower` on unicycle kinematics
+(:mod:`arena_studio.core.sim.kinematics`); a step that would carry an agent out of its free space
+becomes a turn in place. Agents do not avoid each other (the metrics count their collisions).
+
+An episode ends when every agent has settled (arrived, idle or stuck) for the hold time plus
+one second, or at its time limit: ``max_time`` when given, else the scene's
+:func:`default_time_limit` (twice the longest par time of any goal plus 10 s, at least 20 s,
+so even a detour through every target fits). With ``par_limit=(lo, hi)`` each episode's limit
+is instead drawn between ``lo`` and ``hi`` times its team goal's par time (capped by the
+limit above); below 1x the team cannot make it, so such tapes show agents still on their way
+when time runs out. Episode ``i`` uses ``numpy.random.default_rng([seed, i])``, so runs are
+reproducible bit for bit and any episode can be regenerated alone.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any, Literal
+
+import numpy as np
+import shapely
+import shapely.ops
+from shapely.geometry import LineString, Point, Polygon
+
+from arena_studio.core.geometry.paths import PathPlanner
+from arena_studio.core.geometry.regions import free_space
+from arena_studio.core.planning.goal_set import enumerate_goals
+from arena_studio.core.planning.partime import plan_goal
+from arena_studio.core.scene.model import Scene
+from arena_studio.core.sim.controller import FollowerLimits, LegFollower, PathFollower
+from arena_studio.core.sim.kinematics import unicycle_step
+from arena_studio.core.tape import TapeWriter
+
+Mode = Literal["shared", "independent", "greedy"]
+MODES: tuple[str, ...] = ("shared", "independent", "greedy")
+#: greedy mode: seconds an agent waits at a target before it moves on (drawn per agent)
+PATIENCE = (1.0, 6.0)
+#: default time limit = TIME_LIMIT_FACTOR x the longest par time + TIME_LIMIT_SLACK, >= MIN
+TIME_LIMIT_FACTOR = 2.0
+TIME_LIMIT_SLACK = 10.0
+MIN_TIME_LIMIT = 20.0
+#: an agent that moved less than this (m) over STUCK_WINDOW seconds while en route is stuck
+STUCK_DISTANCE = 0.05
+STUCK_WINDOW = 3.0
+#: how deep (fraction of the reach radius) an agent drives into a target's reach disc
+REACH_DEPTH = 0.5
+
+
+@dataclass
+class EpisodeRun:
+    """One simulated episode, ready for :meth:`TapeWriter.begin_episode` and ``steps``."""
+
+    poses: np.ndarray  # (T, A, 3)
+    done: np.ndarray  # (T, A) bool
+    team_goal: np.ndarray
+    pursued_goals: list[np.ndarray]
+    roles: list[list[tuple[int, str]]]
+    messages: list[dict[str, Any]]
+    outcome: dict[str, Any] = field(default_factory=dict)
+
+
+class Rollout:
+    """Runs episodes of one scene; planner, goal table and plans are cached across episodes."""
+
+    def __init__(self, scene: Scene, dt: float = 0.1, max_time: float | None = None) -> None:
+        if not scene.agents:
+            raise ValueError("the scene has no agents")
+        self.scene = scene
+        self.dt = float(dt)
+        self.table = enumerate_goals(scene)
+        if len(self.table) == 0:
+            raise ValueError("the scene has no goals to draw")
+        self.planner = PathPlanner(scene)
+        self._assignments: dict[int, dict[int, list[int]]] = {}
+        self._par: dict[int, float | None] = {}
+        self.max_time = float(max_time) if max_time is not None else self.default_time_limit()
+        self._free = []
+        self._guards = []
+        self._guard_free = []
+        for agent in scene.agents:
+            geom = free_space(scene, agent.radius)
+            guard = free_space(scene, max(agent.radius - 0.002, 0.0))
+            shapely.prepare(guard)
+            self._free.append(geom)
+            self._guards.append(guard)
+            self._guard_free.append(guard.buffer(1e-6))
+
+    # -- planning ----------------------------------------------------------------------------
+    def assignment(self, goal_index: int) -> dict[int, list[int]]:
+        """Agent index -> landmark indices, from the par-time plan of goal ``goal_index``."""
+        if goal_index not in self._assignments:
+            self._assignments[goal_index] = self._plan_assignment(goal_index)
+        return self._assignments[goal_index]
+
+    def par_time(self, goal_index: int) -> float | None:
+        """Par time (s) of goal ``goal_index`` (the slower end for start regions), or None."""
+        self.assignment(goal_index)
+        return self._par.get(goal_index)
+
+    def default_time_limit(self) -> float:
+        """TIME_LIMIT_FACTOR x the longest par time over the goal set + TIME_LIMIT_SLACK (s),
+        at least MIN_TIME_LIMIT, rounded up to a whole second."""
+        pars = [self.par_time(g) for g in range(len(self.table))]
+        longest = max((p for p in pars if p is not None), default=0.0)
+        return float(max(MIN_TIME_LIMIT, math.ceil(TIME_LIMIT_FACTOR * longest + TIME_LIMIT_SLACK)))
+
+    def _plan_assignment(self, goal_index: int) -> dict[int, list[int]]:
+        scene = self.scene
+        vector = self.table.vectors[goal_index]
+        plan = plan_goal(scene, vector, planner=self.planner)
+        if plan.feasible and plan.par_time is not None:
+            self._par[goal_index] = max(plan.par_time, plan.par_time_worst or 0.0)
+        if not plan.feasible:
+            return {}
+        return {
+            scene.agent_index(aid): [scene.landmark_index(lid) for lid in lids]
+            for aid, lids in plan.assignment.items()
+        }
+
+    def _route(self, agent: int, landmarks: list[int], start: np.ndarray) -> np.ndarray | None:
+        """Route through the agent's landmarks in order, ending inside the last reach disc."""
+        pts = [start[None, :]]
+        here = (float(start[0]), float(start[1]))
+        for lm in landmarks:
+            route = self.planner.path_to_landmark(agent, lm, start_xy=here)
+            if route is None:
+                return None
+            deeper = self._deeper(agent, lm, route.points[-1])
+            pts.append(route.points[1:])
+            pts.append(deeper[None, :])
+            here = (float(deeper[0]), float(deeper[1]))
+        return np.vstack(pts)
+
+    def _deeper(self, agent: int, lm: int, end: np.ndarray) -> np.ndarray:
+        """A point deeper in the landmark's reach disc, on a straight leg in free space.
+
+        Planner routes end on the rim of the reach disc, where rounding can put the centre a
+        hair outside it. The agent drives on towards the landmark until REACH_DEPTH of the
+        radius, or to the free point nearest the landmark (a wall landmark's centre is out of
+        free space), whichever is reachable in a straight line.
+        """
+        landmark = self.scene.landmarks[lm]
+        centre = np.asarray(landmark.position, dtype=np.float64)
+        target = self.planner.target(self.scene.agents[agent].radius, lm)
+        if target.is_empty:
+            return np.asarray(end, dtype=np.float64)
+        nearest = shapely.ops.nearest_points(target, Point(centre))[0]
+        deepest = np.array([nearest.x, nearest.y])
+        span = deepest - end
+        length = float(np.hypot(*span))
+        if length < 1e-9:
+            return np.asarray(end, dtype=np.float64)
+        # stop where the leg first comes within REACH_DEPTH * radius of the landmark, if it does
+        want = REACH_DEPTH * landmark.reach_radius
+        u = span / length
+        rel = end - centre
+        b, c = float(rel @ u), float(rel @ rel) - want * want
+        disc = b * b - c
+        stop = length
+        if disc >= 0:
+            s_in = -b - math.sqrt(disc)
+            if 0 <= s_in < length:
+                stop = s_in
+        for frac in (1.0, 0.5, 0.25, 0.1, 0.05):
+            goal = end + u * stop * frac
+            if self._guard_free[agent].covers(LineString([end, goal])):
+                return goal
+        return np.asarray(end, dtype=np.float64)
+
+    # -- starts ------------------------------------------------------------------------------
+    def start_poses(self, rng: np.random.Generator) -> np.ndarray:
+        out = np.zeros((len(self.scene.agents), 3))
+        for a, agent in enumerate(self.scene.agents):
+            start = agent.start
+            if start.pose is not None:
+                out[a] = start.pose
+                continue
+            assert start.region is not None
+            region = Polygon(start.region).intersection(self._free[a])
+            if region.is_empty:
+                region = Polygon(start.region)
+            minx, miny, maxx, maxy = region.bounds
+            for _ in range(1000):
+                x, y = rng.uniform(minx, maxx), rng.uniform(miny, maxy)
+                if region.covers(Point(x, y)):
+                    break
+            heading = start.heading if start.heading is not None else rng.uniform(-math.pi, math.pi)
+            out[a] = (x, y, heading)
+        return out
+
+    # -- one episode ---------------------------------------------------------------------------
+    def episode(
+        self,
+        seed: int,
+        index: int,
+        mode: Mode,
+        par_limit: tuple[float, float] | None = None,
+    ) -> EpisodeRun:
+        if mode not in MODES:
+            raise ValueError(f"unknown goal mode {mode!r} (expected {', '.join(MODES)})")
+        rng = np.random.default_rng([seed, index])
+        scene = self.scene
+        n_agents = len(scene.agents)
+        team = int(self.table.sample(rng, 1)[0])
+        start = self.start_poses(rng)
+        if mode == "independent":
+            pursued = [int(g) for g in self.table.sample(rng, n_agents)]
+        else:
+            pursued = [team] * n_agents
+        followers: list[PathFollower | LegFollower | None] = []
+        roles: list[list[tuple[int, str]]] = []
+        if mode == "greedy":
+            patience = rng.uniform(*PATIENCE, size=n_agents)
+            plans = [self._greedy_order(a, team, start[a, :2]) for a in range(n_agents)]
+            for a in range(n_agents):
+                follower = self._legs(a, plans[a], start[a, :2], patience[a])
+                followers.append(follower)
+                roles.append([(0, follower.label if follower else "waits")])
+        else:
+            plans = [self.assignment(g).get(a, []) for a, g in enumerate(pursued)]
+            for a, agent in enumerate(scene.agents):
+                route = self._route(a, plans[a], start[a, :2]) if plans[a] else None
+                if route is None:
+                    followers.append(None)
+                    roles.append([(0, "waits")])
+                    continue
+                limits = FollowerLimits(agent.max_speed, agent.max_turn_rate)
+                followers.append(PathFollower(route, limits))
+                roles.append([(0, f"heads to {scene.landmarks[plans[a][-1]].id}")])
+        limit = self.max_time
+        if par_limit is not None:
+            factor = float(rng.uniform(*par_limit))
+            par = self.par_time(team)
+            if par is not None:
+                limit = min(limit, max(self.dt, factor * par))
+        return self._simulate(start, followers, roles, team, pursued, plans, limit)
+
+    def _greedy_order(self, agent: int, goal_index: int, start: np.ndarray) -> list[int]:
+        """The team goal's targets in the order one agent visits them alone: nearest first."""
+        left = list(self.table.targets(goal_index))
+        here = (float(start[0]), float(start[1]))
+        order: list[int] = []
+        while left:
+            best: tuple[float, int, np.ndarray] | None = None
+            for lm in left:
+                route = self.planner.path_to_landmark(agent, lm, start_xy=here)
+                if route is not None and (best is None or route.length < best[0]):
+                    best = (route.length, lm, route.points[-1])
+            if best is None:
+                break
+            order.append(best[1])
+            left.remove(best[1])
+            end = self._deeper(agent, best[1], best[2])
+            here = (float(end[0]), float(end[1]))
+        return order
+
+    def _legs(
+        self, agent: int, order: list[int], start: np.ndarray, patience: float
+    ) -> LegFollower | None:
+        spec = self.scene.agents[agent]
+        limits = FollowerLimits(spec.max_speed, spec.max_turn_rate)
+        legs: list[tuple[PathFollower, str, int]] = []
+        here = np.asarray(start, dtype=np.float64)
+        wait = round(patience / self.dt)
+        for lm in order:
+            route = self._route(agent, [lm], here)
+            if route is None:
+                break
+            legs.append((PathFollower(route, limits), self.scene.landmarks[lm].id, wait))
+            here = route[-1]
+        return LegFollower(legs) if legs else None
+
+    def _simulate(
+        self,
+        start: np.ndarray,
+        followers: list[PathFollower | LegFollower | None],
+        roles: list[list[tuple[int, str]]],
+        team: int,
+        pursued: list[int],
+        plans: list[list[int]],
+        limit: float,
+    ) -> EpisodeRun:
+        scene, dt = self.scene, self.dt
+        n_agents = len(scene.agents)
+        max_steps = max(1, round(limit / dt))
+        settle_steps = math.ceil((scene.goals.hold_time + 1.0) / dt)
+        window = round(STUCK_WINDOW / dt)
+        poses = np.empty((max_steps + 1, n_agents, 3))
+        done = np.zeros((max_steps + 1, n_agents), dtype=bool)
+        poses[0] = start
+        stuck = [False] * n_agents
+        settled_for = 0
+        t = 0
+        v = np.zeros(n_agents)
+        w = np.zeros(n_agents)
+        while t < max_steps:
+            current = poses[t]
+            for a, f in enumerate(followers):
+                if f is None or stuck[a]:
+                    v[a] = w[a] = 0.0
+                    continue
+                v[a], w[a] = f.command(current[a], dt)
+            nxt = unicycle_step(current, v, w, dt)
+            for a, f in enumerate(followers):
+                if f is not None and v[a] > 0:
+                    inside = shapely.intersects_xy(self._guards[a], nxt[a, 0], nxt[a, 1])
+                    if not inside:
+                        v[a], w[a] = f.turn_towards_carrot(current[a], dt)
+                        nxt[a] = unicycle_step(current[a], v[a], w[a], dt)
+            t += 1
+            poses[t] = nxt
+            for a, f in enumerate(followers):
+                if f is None:
+                    continue
+                if isinstance(f, LegFollower):
+                    if f.label != roles[a][-1][1]:
+                        roles[a].append((t, f.label))
+                elif f.finished and not done[t - 1, a]:
+                    roles[a].append((t, f"holds {scene.landmarks[plans[a][-1]].id}"))
+                done[t, a] = f.finished
+                waiting = isinstance(f, LegFollower) and f.waiting
+                if not f.finished and not waiting and not stuck[a] and t >= window:
+                    moved = np.hypot(*(poses[t, a, :2] - poses[t - window, a, :2]))
+                    turned = abs(poses[t, a, 2] - poses[t - window, a, 2])
+                    if moved < STUCK_DISTANCE and turned < 0.1:
+                        stuck[a] = True
+                        roles[a].append((t, "stuck"))
+            settled = all(f is None or f.finished or stuck[a] for a, f in enumerate(followers))
+            settled_for = settled_for + 1 if settled else 0
+            if settled_for >= settle_steps:
+                break
+        reason = "settled" if settled_for >= settle_steps else "time limit"
+        ids = [lm.id for lm in scene.landmarks]
+        goal_words = ["+".join(ids[i] for i in self.table.targets(g)) for g in pursued]
+        messages = [
+            {"from": scene.agents[a].id, "to": "all", "goal": goal_words[a]}
+            for a in range(n_agents)
+        ]
+        return EpisodeRun(
+            poses=poses[: t + 1].copy(),
+            done=done[: t + 1].copy(),
+            team_goal=self.table.vectors[team].copy(),
+            pursued_goals=[self.table.vectors[g].copy() for g in pursued],
+            roles=roles,
+            messages=messages,
+            outcome={"ended": reason, "time": round(t * dt, 6), "time_limit": round(limit, 6)},
+        )
+
+
+def run_rollout(
+    scene: Scene,
+    out: str | Path,
+    *,
+    episodes: int,
+    seed: int,
+    mode: Mode,
+    max_time: float | None = None,
+    dt: float = 0.1,
+    advance: Callable[[int], None] | None = None,
+    keep_partial: bool = False,
+    par_limit: tuple[float, float] | None = None,
+) -> int:
+    """Simulate ``episodes`` episodes into the tape ``out``; returns the episodes written.
+
+    ``max_time`` None takes the scene's default time limit (see the module docstring).
+    """
+    sim = Rollout(scene, dt=dt, max_time=max_time)
+    meta: dict[str, Any] = {
+        "generator": "arena-studio rollout",
+        "mode": mode,
+        "seed": int(seed),
+        "max_time": sim.max_time,
+        "note": "scripted preview agents, not a learned policy",
+    }
+    if par_limit is not None:
+        meta["par_limit"] = [float(par_limit[0]), float(par_limit[1])]
+    with TapeWriter(out, scene, dt=dt, metadata=meta, keep_partial=keep_partial) as writer:
+        for i in range(episodes):
+            run = sim.episode(seed, i, mode, par_limit=par_limit)
+            writer.begin_episode(
+                team_goal=run.team_goal,
+                pursued_goals=run.pursued_goals,
+                roles=run.roles,
+                messages=run.messages,
+            )
+            writer.steps(run.poses, done=run.done)
+            writer.end_episode(run.outcome)
+            if advance is not None:
+                advance(1)
+    return episodes
+
+
+__all__ = ["MODES", "PATIENCE", "EpisodeRun", "Rollout", "run_rollout"]

@@ -1,0 +1,450 @@
+"""Import recorded episodes from other tools' files into a tape.
+
+CSV, long format (one row per episode, step and agent)::
+
+    episode,step,agent,x,y,heading[,reward][,goal][,role]
+
+``episode`` is any label (episodes keep the order of their first row); ``step`` counts from 0
+without gaps; ``agent`` is a scene agent id (or its 0-based index); x, y in metres, heading in
+radians. Optional ``reward`` (number), ``goal`` (the agent's pursued goal: landmark ids joined
+by ``+``, the same on every row of that agent in that episode) and ``role`` (a label; a change
+between steps becomes a role change). ``columns={"x": "pos_x"}`` maps our names to the file's.
+
+NPZ (``numpy.savez``; loaded with ``allow_pickle=False``, so object arrays are refused):
+either ``poses`` (E, T, A, 3) for equal-length episodes, or ``poses_0``, ``poses_1``, ...
+(T_i, A, 3) per episode. Optional, matching: ``rewards`` (E, T, A) / ``rewards_<i>``,
+``done`` (E, T, A) / ``done_<i>``, ``actions`` (E, T, A, K) / ``actions_<i>``,
+``team_goal`` (E, L) 0/1, ``pursued_goals`` (E, A, L) 0/1, and ``dt`` (a scalar, seconds).
+
+Errors name the file and the line and column (CSV) or the array (NPZ).
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import math
+import re
+import zipfile
+from collections.abc import Callable, Mapping
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from arena_studio.core.errors import ArenaError
+from arena_studio.core.safe_open import open_input
+from arena_studio.core.scene.model import Scene
+from arena_studio.core.tape import TapeWriter
+
+REQUIRED = ("episode", "step", "agent", "x", "y", "heading")
+OPTIONAL = ("reward", "goal", "role")
+#: NPZ members together larger than this (uncompressed bytes) are refused before loading
+MAX_NPZ_MEMBER = 2 << 30
+#: a compressed member may expand at most this many times: deflate (RFC 1951), which numpy
+#: uses, cannot exceed about 1032:1, so a genuine member never trips this
+MAX_NPZ_RATIO = 1100
+#: ... once it claims more than this many bytes (small members may compress better)
+NPZ_RATIO_FROM = 1 << 20
+
+
+class ImportFormatError(ArenaError, ValueError):
+    """Bad input to an importer; the message names the file and the line/column or array."""
+
+
+def parse_columns(text: str | None) -> dict[str, str]:
+    """``"x=pos_x,y=pos_y"`` -> {"x": "pos_x", "y": "pos_y"}; unknown names are refused."""
+    if not text:
+        return {}
+    out: dict[str, str] = {}
+    for part in text.split(","):
+        ours, sep, theirs = part.partition("=")
+        ours, theirs = ours.strip(), theirs.strip()
+        if not sep or not ours or not theirs:
+            raise ImportFormatError(f"--columns: expected NAME=COLUMN pairs, got {part!r}")
+        if ours not in REQUIRED + OPTIONAL:
+            names = ", ".join(REQUIRED + OPTIONAL)
+            raise ImportFormatError(f"--columns: unknown name {ours!r} (known: {names})")
+        out[ours] = theirs
+    return out
+
+
+class _EpisodeRows:
+    def __init__(self, label: str, agents: int, with_reward: bool) -> None:
+        self.label = label
+        self.agents = agents
+        self.poses: dict[tuple[int, int], tuple[float, float, float]] = {}
+        self.rewards: dict[tuple[int, int], float] = {}
+        self.goals: list[tuple[str, int] | None] = [None] * agents  # (text, line)
+        self.roles: dict[tuple[int, int], str] = {}
+        self.with_reward = with_reward
+
+
+def import_csv(
+    path: str | Path,
+    scene: Scene,
+    out: str | Path,
+    *,
+    dt: float = 0.1,
+    columns: Mapping[str, str] | None = None,
+    advance: Callable[[int], None] | None = None,
+    keep_partial: bool = False,
+) -> int:
+    """Convert a long-format CSV file into the tape ``out``; returns the episode count."""
+    src = str(path)
+    mapping = {name: name for name in REQUIRED + OPTIONAL}
+    mapping.update(columns or {})
+    agent_ids = [a.id for a in scene.agents]
+    lm_ids = {lm.id: i for i, lm in enumerate(scene.landmarks)}
+    episodes: dict[str, _EpisodeRows] = {}
+    raw = open_input(path, "csv")  # regular files only, size bounded
+    with io.TextIOWrapper(raw, newline="", encoding="utf-8-sig") as handle:
+        reader = csv.reader(handle)
+        try:
+            header = next(reader)
+        except StopIteration:
+            raise ImportFormatError(f"{src}: the file is empty") from None
+        except (csv.Error, UnicodeDecodeError) as exc:
+            raise ImportFormatError(f"{src}: line 1: {exc}") from None
+        where = {name: i for i, name in enumerate(header)}
+        missing = [mapping[n] for n in REQUIRED if mapping[n] not in where]
+        if missing:
+            raise ImportFormatError(
+                f"{src}: line 1: missing column(s) {', '.join(missing)} (have {', '.join(header)};"
+                " map other names with --columns)"
+            )
+        col = {n: where[mapping[n]] for n in REQUIRED + OPTIONAL if mapping[n] in where}
+        has_reward = "reward" in col
+        line = 1
+        try:
+            for row in reader:
+                line = reader.line_num
+                if not row or all(not c.strip() for c in row):
+                    continue
+                _read_row(src, line, row, col, mapping, agent_ids, episodes, has_reward)
+                if advance is not None and line % 10_000 == 0:
+                    advance(10_000)
+        except (csv.Error, UnicodeDecodeError) as exc:
+            raise ImportFormatError(f"{src}: line {line + 1}: {exc}") from None
+    if not episodes:
+        raise ImportFormatError(f"{src}: no data rows")
+    meta = {"generator": "arena-studio import csv", "source": Path(src).name}
+    with TapeWriter(out, scene, dt=dt, metadata=meta, keep_partial=keep_partial) as writer:
+        for ep in episodes.values():
+            arrays = _episode_arrays(src, ep, mapping)
+            pursued = [
+                None if g is None else _goal_vector(src, g[1], mapping["goal"], g[0], lm_ids)
+                for g in ep.goals
+            ]
+            writer.begin_episode(
+                pursued_goals=pursued if any(g is not None for g in pursued) else None,
+                roles=arrays["roles"],
+                messages=[{"episode": ep.label}],
+            )
+            writer.steps(arrays["poses"], rewards=arrays["rewards"])
+            writer.end_episode()
+    return len(episodes)
+
+
+def _cell(src: str, line: int, row: list[str], col: dict[str, int], name: str, column: str) -> str:
+    i = col[name]
+    if i >= len(row):
+        raise ImportFormatError(f"{src}: line {line}, column '{column}': missing value")
+    return row[i].strip()
+
+
+def _number(src: str, line: int, column: str, text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise ImportFormatError(
+            f"{src}: line {line}, column '{column}': expected a number, got {text!r}"
+        ) from None
+    if not math.isfinite(value):
+        raise ImportFormatError(f"{src}: line {line}, column '{column}': expected a finite number")
+    return value
+
+
+def _read_row(
+    src: str,
+    line: int,
+    row: list[str],
+    col: dict[str, int],
+    mapping: dict[str, str],
+    agent_ids: list[str],
+    episodes: dict[str, _EpisodeRows],
+    has_reward: bool,
+) -> None:
+    def cell(name: str) -> str:
+        return _cell(src, line, row, col, name, mapping[name])
+
+    label = cell("episode")
+    step_text = cell("step")
+    if not re.fullmatch(r"\d{1,9}", step_text):
+        raise ImportFormatError(
+            f"{src}: line {line}, column '{mapping['step']}': expected a step number >= 0, "
+            f"got {step_text!r}"
+        )
+    step = int(step_text)
+    agent_text = cell("agent")
+    if agent_text in agent_ids:
+        agent = agent_ids.index(agent_text)
+    elif re.fullmatch(r"\d+", agent_text) and int(agent_text) < len(agent_ids):
+        agent = int(agent_text)
+    else:
+        raise ImportFormatError(
+            f"{src}: line {line}, column '{mapping['agent']}': unknown agent {agent_text!r} "
+            f"(scene agents: {', '.join(agent_ids)})"
+        )
+    ep = episodes.get(label)
+    if ep is None:
+        ep = episodes[label] = _EpisodeRows(label, len(agent_ids), has_reward)
+    key = (step, agent)
+    if key in ep.poses:
+        raise ImportFormatError(
+            f"{src}: line {line}: episode {label!r} step {step} agent {agent_ids[agent]} "
+            "appears twice"
+        )
+    ep.poses[key] = (
+        _number(src, line, mapping["x"], cell("x")),
+        _number(src, line, mapping["y"], cell("y")),
+        _number(src, line, mapping["heading"], cell("heading")),
+    )
+    if has_reward:
+        ep.rewards[key] = _number(src, line, mapping["reward"], cell("reward"))
+    if "goal" in col:
+        goal = cell("goal")
+        if goal:
+            known = ep.goals[agent]
+            if known is None:
+                ep.goals[agent] = (goal, line)
+            elif known[0] != goal:
+                raise ImportFormatError(
+                    f"{src}: line {line}, column '{mapping['goal']}': agent "
+                    f"{agent_ids[agent]} pursued {known[0]!r} earlier in episode {label!r} "
+                    f"(line {known[1]}), now {goal!r}"
+                )
+    if "role" in col:
+        role = cell("role")
+        if role:
+            ep.roles[key] = role
+
+
+def _goal_vector(src: str, line: int, column: str, text: str, lm_ids: dict[str, int]) -> np.ndarray:
+    vector = np.zeros(len(lm_ids), dtype=np.uint8)
+    for part in text.split("+"):
+        name = part.strip()
+        if name not in lm_ids:
+            raise ImportFormatError(
+                f"{src}: line {line}, column '{column}': unknown landmark {name!r} "
+                f"(scene landmarks: {', '.join(lm_ids)})"
+            )
+        vector[lm_ids[name]] = 1
+    return vector
+
+
+def _episode_arrays(src: str, ep: _EpisodeRows, mapping: dict[str, str]) -> dict[str, Any]:
+    steps = 1 + max(s for s, _ in ep.poses)
+    a = ep.agents
+    if len(ep.poses) != steps * a:
+        for s in range(steps):
+            for k in range(a):
+                if (s, k) not in ep.poses:
+                    raise ImportFormatError(
+                        f"{src}: episode {ep.label!r}: no row for step {s} of agent index {k} "
+                        f"(every agent needs a row at every step 0..{steps - 1})"
+                    )
+    keys = [(s, k) for s in range(steps) for k in range(a)]
+    poses = np.array([ep.poses[key] for key in keys], dtype=np.float64).reshape(steps, a, 3)
+    rewards = None
+    if ep.with_reward:
+        rewards = np.array([ep.rewards[key] for key in keys], dtype=np.float64).reshape(steps, a)
+    roles: list[list[tuple[int, str]]] | None = None
+    if ep.roles:
+        roles = []
+        for k in range(a):
+            timeline: list[tuple[int, str]] = []
+            for s in range(steps):
+                label = ep.roles.get((s, k))
+                if label is not None and (not timeline or timeline[-1][1] != label):
+                    timeline.append((s, label))
+            roles.append(timeline)
+    return {"poses": poses, "rewards": rewards, "roles": roles}
+
+
+# -- NPZ ------------------------------------------------------------------------------------
+def _check_npz_member(src: str, zf: zipfile.ZipFile, info: zipfile.ZipInfo) -> None:
+    """Refuse a member before numpy allocates anything for it.
+
+    numpy sizes its array from the ``.npy`` header and the archive member's claimed size, so
+    both are checked first: the claimed size against :data:`MAX_NPZ_MEMBER` and, for a
+    compressed member, against :data:`MAX_NPZ_RATIO` times its compressed bytes (a small
+    member claiming a huge size is a zip bomb); and the header's shape x item size against
+    the bytes the member says it holds.
+    """
+    name = info.filename[:-4] if info.filename.endswith(".npy") else info.filename
+    where = f"{src}: array {name}"
+    compressed = info.compress_type != zipfile.ZIP_STORED
+    if (
+        compressed
+        and info.file_size > NPZ_RATIO_FROM
+        and info.file_size > MAX_NPZ_RATIO * max(info.compress_size, 1)
+    ):
+        raise ImportFormatError(
+            f"{where}: claims {info.file_size} bytes from {info.compress_size} compressed "
+            f"bytes (more than {MAX_NPZ_RATIO}:1), refused as a possible zip bomb"
+        )
+    if info.file_size > MAX_NPZ_MEMBER:
+        raise ImportFormatError(
+            f"{where}: {info.file_size} bytes uncompressed, more than an import takes "
+            f"({MAX_NPZ_MEMBER} bytes)"
+        )
+    if not info.filename.endswith(".npy"):
+        return
+    try:
+        with zf.open(info) as f:
+            version = np.lib.format.read_magic(f)
+            read_header = (
+                np.lib.format.read_array_header_1_0
+                if version == (1, 0)
+                else np.lib.format.read_array_header_2_0
+            )
+            shape, _, dtype = read_header(f)
+            header_bytes = f.tell()
+    except (ValueError, OSError, EOFError, zipfile.BadZipFile) as exc:
+        raise ImportFormatError(f"{where}: not a readable .npy array ({exc})") from None
+    if dtype.hasobject:
+        raise ImportFormatError(f"{where}: object arrays are not imported (they need pickle)")
+    claimed = math.prod(shape) * dtype.itemsize
+    if claimed != info.file_size - header_bytes:
+        raise ImportFormatError(
+            f"{where}: its header claims shape {tuple(shape)} of {dtype.str} "
+            f"({claimed} bytes), the archive member holds {info.file_size - header_bytes}"
+        )
+
+
+def _check_npz_total(src: str, members: list[zipfile.ZipInfo]) -> None:
+    """Refuse an archive whose arrays together exceed what one import may hold in memory."""
+    total = sum(info.file_size for info in members)
+    if total > MAX_NPZ_MEMBER:
+        raise ImportFormatError(
+            f"{src}: its arrays hold {total:,} bytes uncompressed, more than an import takes "
+            f"({MAX_NPZ_MEMBER:,} bytes)"
+        )
+
+
+def _npz_dt(src: str, arr: np.ndarray) -> float:
+    """The ``dt`` array as one time step in seconds, named when it is not one."""
+    if arr.size != 1:
+        raise ImportFormatError(f"{src}: array dt: expected one number, got shape {arr.shape}")
+    value = float(arr.reshape(-1)[0])
+    if not (math.isfinite(value) and value > 0):
+        raise ImportFormatError(f"{src}: array dt: expected a time step > 0 s, got {value!r}")
+    return value
+
+
+def import_npz(
+    path: str | Path,
+    scene: Scene,
+    out: str | Path,
+    *,
+    dt: float | None = None,
+    advance: Callable[[int], None] | None = None,
+    keep_partial: bool = False,
+) -> int:
+    """Convert an ``.npz`` file (array names in the module docstring) into a tape."""
+    src = str(path)
+    raw = open_input(path, "npz")  # regular files only, size bounded
+    try:
+        with zipfile.ZipFile(raw) as zf:
+            members = zf.infolist()
+            for info in members:
+                _check_npz_member(src, zf, info)
+            _check_npz_total(src, members)
+        raw.seek(0)
+        data = np.load(raw, allow_pickle=False)
+    except ImportFormatError:
+        raw.close()
+        raise
+    except (OSError, zipfile.BadZipFile, ValueError) as exc:
+        raw.close()
+        raise ImportFormatError(f"{src}: not a readable .npz file ({exc})") from None
+    with raw, data:
+        names = set(data.files)
+        a, n_lm = len(scene.agents), len(scene.landmarks)
+
+        def load(name: str) -> np.ndarray:
+            try:
+                arr = np.asarray(data[name])
+            except ValueError as exc:  # object arrays need pickle, which is refused
+                raise ImportFormatError(f"{src}: array {name}: {exc}") from None
+            if arr.dtype.kind not in "biuf":  # text, complex, dates: not poses or flags
+                raise ImportFormatError(
+                    f"{src}: array {name}: expected real numbers, got dtype {arr.dtype.str}"
+                )
+            return arr
+
+        if "poses" in names:
+            stacked = load("poses")
+            if stacked.ndim != 4 or stacked.shape[2:] != (a, 3):
+                raise ImportFormatError(
+                    f"{src}: array poses: expected (E, T, {a}, 3), got {stacked.shape}"
+                )
+            count = stacked.shape[0]
+        else:
+            count = 0
+            while f"poses_{count}" in names:
+                count += 1
+            if count == 0:
+                raise ImportFormatError(f"{src}: no array 'poses' (or poses_0, poses_1, ...)")
+        step = dt
+        if step is None:
+            step = _npz_dt(src, load("dt")) if "dt" in names else 0.1
+
+        def per_episode(name: str, i: int) -> np.ndarray | None:
+            if name in names:
+                stacked = load(name)
+                if stacked.ndim == 0 or stacked.shape[0] != count:
+                    raise ImportFormatError(
+                        f"{src}: array {name}: expected one entry per episode ({count}), "
+                        f"got shape {stacked.shape}"
+                    )
+                return stacked[i]
+            if f"{name}_{i}" in names:
+                return load(f"{name}_{i}")
+            return None
+
+        team = load("team_goal") if "team_goal" in names else None
+        pursued = load("pursued_goals") if "pursued_goals" in names else None
+        if team is not None and team.shape != (count, n_lm):
+            raise ImportFormatError(f"{src}: array team_goal: expected ({count}, {n_lm})")
+        if pursued is not None and pursued.shape != (count, a, n_lm):
+            raise ImportFormatError(f"{src}: array pursued_goals: expected ({count}, {a}, {n_lm})")
+        meta = {"generator": "arena-studio import npz", "source": Path(src).name}
+        with TapeWriter(out, scene, dt=step, metadata=meta, keep_partial=keep_partial) as w:
+            for i in range(count):
+                poses = per_episode("poses", i)
+                assert poses is not None
+                name = f"poses_{i}" if "poses" not in names else "poses"
+                if poses.ndim != 3 or poses.shape[1:] != (a, 3) or poses.shape[0] < 1:
+                    raise ImportFormatError(f"{src}: array {name}: expected (T, {a}, 3)")
+                try:
+                    w.begin_episode(
+                        team_goal=None if team is None else team[i],
+                        pursued_goals=None if pursued is None else list(pursued[i]),
+                    )
+                    w.steps(
+                        poses,
+                        rewards=per_episode("rewards", i),
+                        actions=per_episode("actions", i),
+                        done=per_episode("done", i),
+                    )
+                    w.end_episode()
+                except ArenaError as exc:
+                    raise ImportFormatError(f"{src}: episode {i}: {exc}") from None
+                if advance is not None:
+                    advance(1)
+    return count
+
+
+__all__ = ["ImportFormatError", "import_csv", "import_npz", "parse_columns"]
