@@ -18,7 +18,7 @@ UV_COMPILE = $(BIN)/uv pip compile pyproject.toml --all-extras --generate-hashes
 # name==version lines with names normalised (lower case, - for . and _) and sorted
 NAME_VERSION = awk -F== '{n = tolower($$1); gsub(/[._]/, "-", n); print n "==" $$2}' | sort
 
-.PHONY: run test lint bench demos clean lock lock-upgrade test-latest
+.PHONY: run test lint bench fuzz demos clean lock lock-upgrade test-latest
 
 $(BIN)/python:
 	$(PYTHON) -m venv $(VENV)
@@ -43,6 +43,13 @@ lint: $(STAMP)
 
 bench: $(STAMP)
 	QT_QPA_PLATFORM=offscreen $(BIN)/python -m pytest tests/bench -s -q -p no:cacheprovider
+
+# hostile-input fuzz suite, long profile (minutes; `make test` runs the short one);
+# FUZZ_EXAMPLES=N sets the examples per test
+FUZZ_EXAMPLES ?= 300
+fuzz: $(STAMP)
+	ARENA_FUZZ=long ARENA_FUZZ_EXAMPLES=$(FUZZ_EXAMPLES) QT_QPA_PLATFORM=offscreen \
+	  nice $(BIN)/python -m pytest tests/fuzz -q -p no:cacheprovider --hypothesis-show-statistics
 
 # demo tapes from the demo scenes, scripted agents, fixed seeds: byte-identical when run again
 # on the same versions and machine; across versions and CPUs the same in meaning (poses within

@@ -20,7 +20,7 @@ from arena_studio.commands.common import (
     warning_line,
 )
 from arena_studio.commands.output_plan import add_force_argument, plan_outputs
-from arena_studio.commands.progress import progress_bar
+from arena_studio.commands.progress import graph_bar, progress_bar
 from arena_studio.core import limits as lim
 from arena_studio.core.errors import ArenaError
 from arena_studio.core.export import CAUTION, DEFAULT_RESOLUTION, FORMATS, export_scene
@@ -66,6 +66,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    from arena_studio.core.geometry.visibility import PlanTooLarge  # lazy: shapely and scipy
+
     scene = read_scene(args.scene)  # a CommandError becomes one line in cli.main
     # every file (sidecars too) is checked before any is written
     plan_outputs(export_outputs(args.format, args.output), [args.scene], args.force)
@@ -78,7 +80,8 @@ def run(args: argparse.Namespace) -> int:
             total = len(enumerate_goals(scene))
         elif args.format == "grid":  # percent of the cells tested
             total = 100
-        with progress_bar(total, "export", getattr(args, "quiet", False) or not total) as bar:
+        quiet = getattr(args, "quiet", False)
+        with progress_bar(total, "export", quiet or not total) as bar, graph_bar(quiet):
             written = export_scene(
                 scene,
                 args.format,
@@ -91,6 +94,9 @@ def run(args: argparse.Namespace) -> int:
     except KeyboardInterrupt:
         error_line(f"interrupted; {args.output} was not written")
         return 130
+    except PlanTooLarge as exc:
+        error_line(f"{args.scene}: {exc}")
+        return EXIT_UNREADABLE
     except ArenaError as exc:
         error_line(str(exc))
         return EXIT_UNREADABLE

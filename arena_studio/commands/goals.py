@@ -14,6 +14,7 @@ import json
 import sys
 from typing import TYPE_CHECKING, Any
 
+from arena_studio.core.errors import ArenaError
 from arena_studio.core.export import CAUTION
 from arena_studio.core.scene.model import Scene
 
@@ -27,7 +28,7 @@ from arena_studio.commands.common import (
     error_line,
     read_scene,
 )
-from arena_studio.commands.progress import progress_bar
+from arena_studio.commands.progress import graph_bar, progress_bar
 
 HELP = "list a scene's goals with par times and assignments (exit 0 ok, 1 problems, 2 unreadable)"
 
@@ -43,15 +44,13 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 def run(args: argparse.Namespace) -> int:
     scene = read_scene(args.scene)  # a CommandError becomes one line in cli.main
     try:
-        from arena_studio.core.planning.goal_set import enumerate_goals
-        from arena_studio.core.planning.partime import plan_all
-
-        table = enumerate_goals(scene)
-        with progress_bar(len(table), "goals", getattr(args, "quiet", False)) as bar:
-            plans = plan_all(scene, table, advance=bar.advance)
+        table, plans = _plan(scene, args.quiet)
     except KeyboardInterrupt:
         error_line("interrupted")
         return 130
+    except ArenaError as exc:  # e.g. a graph over the memory limit, refused with its estimate
+        error_line(f"{args.scene}: {exc}")
+        return EXIT_UNREADABLE
     except Exception as exc:  # a planner bug must still end in one line, not a traceback
         error_line(f"{args.scene}: planning failed ({type(exc).__name__}: {exc}); please report")
         return EXIT_UNREADABLE
@@ -62,6 +61,17 @@ def run(args: argparse.Namespace) -> int:
         sys.stdout.write(format_table(args.scene, scene, table, plans))
     bad = table.has_errors or len(table) == 0 or not all(p.feasible for p in plans)
     return EXIT_PROBLEMS if bad else EXIT_OK
+
+
+def _plan(scene: Scene, quiet: bool) -> tuple[GoalTable, list[GoalPlan]]:
+    """Every goal planned in order, with a bar per goal and per visibility graph."""
+    from arena_studio.core.planning.goal_set import enumerate_goals
+    from arena_studio.core.planning.partime import plan_all
+
+    table = enumerate_goals(scene)
+    with progress_bar(len(table), "goals", quiet) as bar, graph_bar(quiet):
+        plans = plan_all(scene, table, advance=bar.advance)
+    return table, plans
 
 
 def _targets(table: GoalTable, i: int) -> list[str]:

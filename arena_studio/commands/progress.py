@@ -72,4 +72,28 @@ def progress_bar(
         bar.finish()
 
 
-__all__ = ["ProgressBar", "progress_bar"]
+@contextlib.contextmanager
+def graph_bar(quiet: bool = False, stream: TextIO | None = None) -> Iterator[None]:
+    """A bar for each visibility graph built inside (corner pairs tested), on a terminal."""
+    from arena_studio.core.geometry.visibility import graph_progress  # lazy: shapely and scipy
+
+    out = sys.stderr if stream is None else stream
+    enabled = not quiet and bool(getattr(out, "isatty", lambda: False)())
+    current: list[ProgressBar] = []
+
+    def report(done: int, total: int) -> None:
+        if not current or current[0].done > done:
+            if current:
+                current.pop().finish()
+            current.append(ProgressBar(total, "visibility graph", enabled, out))
+        current[0].advance(done - current[0].done)
+
+    try:
+        with graph_progress(report):
+            yield
+    finally:
+        if current:
+            current[0].finish()
+
+
+__all__ = ["ProgressBar", "graph_bar", "progress_bar"]

@@ -122,6 +122,13 @@ def _run(args: argparse.Namespace) -> int:
         size = parse_size(args.size)
     except ClipError as exc:
         raise CommandError(f"--size: {exc}") from None
+    if suffix == ".png":
+        scaled = (round(size[0] * args.scale), round(size[1] * args.scale))
+        if not all(lim.FRAME_SIDE.low <= side <= lim.FRAME_SIDE.high for side in scaled):
+            raise CommandError(
+                f"--scale {args.scale:g}: a {size[0]}x{size[1]} frame becomes "
+                f"{scaled[0]}x{scaled[1]} pixels; expected {lim.FRAME_SIDE.describe()}"
+            )
     if args.end is not None and not args.end > args.start:
         raise CommandError(f"--end {args.end:g}: expected a time after --start {args.start:g}")
     if not out.parent.is_dir():
@@ -136,7 +143,8 @@ def _run(args: argparse.Namespace) -> int:
     episodes = []
     for i in indices:
         if not 0 <= i < len(tape):
-            raise CommandError(f"{args.tape}: no episode {i} (the tape has {len(tape)})")
+            cut = "; it was cut short" if tape.truncated else ""
+            raise CommandError(f"{args.tape}: no episode {i} (the tape has {len(tape)}{cut})")
         try:
             episodes.append(tape.episode(i))
         except EpisodeDamaged as exc:
@@ -148,6 +156,8 @@ def _run(args: argparse.Namespace) -> int:
             ) from None
         except ArenaError as exc:
             raise CommandError(str(exc)) from None
+    if tape.truncated and tape.recovery_message:  # said once the episodes are known good
+        warning_line(tape.recovery_message)
     options = FrameOptions(
         theme=args.theme,
         trails=args.trail > 0,
@@ -207,8 +217,6 @@ def _open(path: str):
         tape = open_tape(Path(path))  # refuses folders, pipes and devices by name
     except ArenaError as exc:
         raise CommandError(str(exc)) from None
-    if tape.truncated and tape.recovery_message:
-        warning_line(tape.recovery_message)
     return tape
 
 

@@ -14,7 +14,7 @@ from arena_studio.commands.common import (
     read_scene,
 )
 from arena_studio.commands.output_plan import add_force_argument, keep_earlier_partial, plan_outputs
-from arena_studio.commands.progress import progress_bar
+from arena_studio.commands.progress import graph_bar, progress_bar
 from arena_studio.core import limits as lim
 from arena_studio.core.errors import ArenaError
 from arena_studio.core.outputs import tape_outputs
@@ -67,7 +67,7 @@ def run(args: argparse.Namespace) -> int:
         keep_earlier_partial(out)
         from arena_studio.core.sim.rollout import run_rollout
 
-        with progress_bar(args.episodes, "rollout", args.quiet) as bar:
+        with graph_bar(args.quiet), progress_bar(args.episodes, "rollout", args.quiet) as bar:
             run_rollout(
                 scene,
                 out,

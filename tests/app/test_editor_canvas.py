@@ -87,3 +87,16 @@ def test_goals_panel_shows_par_time_per_goal(main_window):
     text = table.item(0, 2).text()
     assert text.endswith(" s"), text
     assert float(text[:-2]) >= (4.0 - 0.5) / 0.8 - 0.05
+
+
+def test_goal_table_lists_at_most_its_limit_and_says_so(main_window):
+    from arena_studio.app.editor.goals_panel import MAX_TABLE_GOALS
+    from tests.fuzz import big_scenes
+
+    count = MAX_TABLE_GOALS + 100
+    win = main_window
+    win.document.reset(Scene.from_dict(big_scenes.many_landmarks(count)), None)
+    win.goals_panel._fill_table()
+    assert win.goals_panel.table.rowCount() == MAX_TABLE_GOALS
+    assert f"{count} goals" in win.goals_panel.summary.text()
+    assert f"first {MAX_TABLE_GOALS} are listed" in win.goals_panel.summary.text()

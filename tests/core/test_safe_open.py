@@ -17,7 +17,7 @@ import pytest
 from arena_studio.core import safe_open
 from arena_studio.core.errors import ArenaError
 from arena_studio.core.safe_open import InputFileError, check_input, open_input, read_input
-from arena_studio.core.scene import load_scene
+from arena_studio.core.scene.model import load_scene
 from arena_studio.core.tape import open_tape
 
 

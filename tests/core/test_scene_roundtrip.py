@@ -14,13 +14,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from arena_studio.core.scene.files import dumps_readable, encode_scene
-from arena_studio.core.scene.model import (
-    FORMAT_NAME,
-    FORMAT_VERSION,
-    Scene,
-    load_scene,
-    save_scene,
-)
+from arena_studio.core.scene.model import FORMAT_NAME, FORMAT_VERSION, Scene, load_scene, save_scene
 
 GREENHOUSE = Path(__file__).resolve().parents[2] / "scenes" / "greenhouse.scene.json"
 

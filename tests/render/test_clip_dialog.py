@@ -108,3 +108,22 @@ def test_dialog_never_writes_over_its_tape_and_asks_about_strangers(qtbot, tape,
     asked.clear()
     dialog.confirm_replace = lambda target: asked.append(target) or False
     assert dialog.export() and asked == []  # an earlier still of ours: no question
+def test_dialog_boxes_take_the_command_line_ranges(qtbot, tape):
+    """The boxes accept what ``arena-studio render`` accepts (core.limits is the one table)."""
+    from arena_studio.core import limits
+
+    dialog = ClipDialog(None, tape, 0)
+    qtbot.addWidget(dialog)
+    for box, limit in (
+        (dialog.fps, limits.FPS),
+        (dialog.speed, limits.SPEED),
+        (dialog.width_box, limits.FRAME_SIDE),
+        (dialog.height_box, limits.FRAME_SIDE),
+        (dialog.start, limits.TIME),
+        (dialog.end, limits.TIME),
+        (dialog.trail, limits.TRAIL),
+        (dialog.title_seconds, limits.TITLE_SECONDS),
+    ):
+        assert (box.minimum(), box.maximum()) == (limit.low, limit.high)
+        box.setValue(limit.high * 10 + 1)  # Qt clamps typed values into the range
+        assert box.value() == limit.high

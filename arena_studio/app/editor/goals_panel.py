@@ -50,6 +50,10 @@ def _heading(text: str) -> QLabel:
     return label
 
 
+#: Rows the goal table lists; a larger goal set is summarised (the command lists all).
+MAX_TABLE_GOALS = 500
+
+
 class GoalsPanel(QWidget):
     highlight = Signal(tuple)  # landmark indices of the goal row under focus
 
@@ -217,9 +221,14 @@ class GoalsPanel(QWidget):
         if plans is not None and len(plans) != len(rows):
             plans = None
         waiting = not fresh
-        self.table.setRowCount(len(rows))
+        shown = min(len(rows), MAX_TABLE_GOALS)
+        header = self.table.horizontalHeader()
+        for c in (1, 2, 3):  # sized once after filling, not once per item (quadratic)
+            header.setSectionResizeMode(c, QHeaderView.ResizeMode.Interactive)
+        self.table.setUpdatesEnabled(False)
+        self.table.setRowCount(shown)
         names = [lm.label or lm.id for lm in scene.landmarks]
-        for i, row in enumerate(rows):
+        for i, row in enumerate(rows[:shown]):
             targets = " + ".join(names[t] for t in row.targets if t < len(names))
             plan = plans[i] if plans else None
             par = "…" if waiting else "—"
@@ -243,11 +252,16 @@ class GoalsPanel(QWidget):
                         Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter
                     )
                 self.table.setItem(i, c, item)
+        self.table.setUpdatesEnabled(True)
+        for c in (1, 2, 3):
+            header.setSectionResizeMode(c, QHeaderView.ResizeMode.ResizeToContents)
         ind = sum(1 for r in rows if r.kind == "individual")
-        n_bad = sum(1 for i in range(len(rows)) if self.table.item(i, 3).text() != "ok")
+        n_bad = sum(1 for i in range(shown) if self.table.item(i, 3).text() != "ok")
         text = f"{len(rows)} goals: {ind} individual, {len(rows) - ind} cooperative."
         if n_bad:
             text += f" {n_bad} cannot be reached."
+        if shown < len(rows):
+            text += f" The first {shown} are listed; 'arena-studio goals' lists all."
         if waiting:
             text += " Working out par times…"
         self.summary.setText(text)

@@ -3,16 +3,21 @@
 One thread per load; a newer load makes older ones' results stale (dropped by token). The
 figures are computed in this process, one tape after another (no process pool under a Qt
 app), and cached, so reopening a folder or reloading after a new tape is quick.
+
+The loading thread never touches a Qt object: it puts its news on a plain queue, and a timer
+on the UI thread turns them into signals (Qt objects used from a Python thread that Qt did
+not start have crashed the process during garbage collection).
 """
 
 from __future__ import annotations
 
+import queue
 import threading
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from PySide6.QtCore import QObject, Signal
+from PySide6.QtCore import QObject, QTimer, Signal
 
 from arena_studio.core.errors import ArenaError
 
@@ -37,7 +42,22 @@ class SweepLoader(QObject):
         super().__init__(parent)
         self._token = 0
         self._threads: list[threading.Thread] = []
+        self._news: queue.SimpleQueue[tuple[Any, ...]] = queue.SimpleQueue()
+        self._timer = QTimer(self)
+        self._timer.setInterval(50)
+        self._timer.timeout.connect(self.deliver)
         self.use_cache = True
+
+    def deliver(self) -> None:
+        """Emit what the loading threads reported (on the UI thread)."""
+        while True:
+            try:
+                kind, *news = self._news.get_nowait()
+            except queue.Empty:
+                break
+            getattr(self, kind).emit(*news)
+        if not any(t.is_alive() for t in self._threads) and self._news.empty():
+            self._timer.stop()
 
     def load(self, path: Path) -> int:
         """Start loading ``path``; returns the token its signals carry."""
@@ -46,6 +66,7 @@ class SweepLoader(QObject):
         thread = threading.Thread(target=self._run, args=(token, path), daemon=True)
         self._threads = [t for t in self._threads if t.is_alive()] + [thread]
         thread.start()
+        self._timer.start()
         return token
 
     @property
@@ -55,6 +76,7 @@ class SweepLoader(QObject):
     def wait(self, timeout: float = 60.0) -> None:
         for t in list(self._threads):
             t.join(timeout)
+        self.deliver()
 
     def _run(self, token: int, path: Path) -> None:
         from arena_studio.core.runs import Execution, FigureCache, load_runs, scan_sweep
@@ -67,15 +89,15 @@ class SweepLoader(QObject):
             def advance(n: int) -> None:
                 done[0] += n
                 if token == self._token:
-                    self.progress.emit(token, done[0], total)
+                    self._news.put(("progress", token, done[0], total))
 
             cache = FigureCache(sweep.root) if self.use_cache else None
             runs, problems = load_runs(sweep, Execution(processes=1), cache, advance)
         except (ArenaError, OSError) as exc:
-            self.failed.emit(token, str(exc))
+            self._news.put(("failed", token, str(exc)))
             return
         except Exception as exc:  # shown in the page, never a traceback
-            self.failed.emit(token, f"{type(exc).__name__}: {exc}")
+            self._news.put(("failed", token, f"{type(exc).__name__}: {exc}"))
             return
         folders = sorted({p for p in Path(sweep.root).rglob("*") if p.is_dir()} | {sweep.root})
         data = SweepData(
@@ -85,4 +107,4 @@ class SweepLoader(QObject):
             recording=[t.path for t in sweep.recording],
             folders=folders,
         )
-        self.loaded.emit(token, data)
+        self._news.put(("loaded", token, data))

@@ -135,6 +135,23 @@ def _overlap(a: np.ndarray, b: np.ndarray) -> np.ndarray:
     return np.clip(dx, 0.0, None) * np.clip(dy, 0.0, None)
 
 
+def _fixed_cost(flat: np.ndarray, fixed: np.ndarray, per: int) -> np.ndarray:
+    """Summed overlap of each candidate box (N, 4) with the fixed boxes (F, 4), skipping
+    candidate k's own mark (fixed row k // per). Only pairs that touch are measured (an
+    R-tree query), so thousands of landmarks cost no (N, F) table."""
+    if len(flat) == 0 or len(fixed) == 0:
+        return np.zeros(len(flat))
+    tree = shapely.STRtree(shapely.box(*fixed.T))
+    cand, hit = tree.query(shapely.box(*flat.T), predicate="intersects")
+    keep = hit != cand // per
+    cand, hit = cand[keep], hit[keep]
+    a, b = flat[cand], fixed[hit]
+    dx = np.minimum(a[:, 2], b[:, 2]) - np.maximum(a[:, 0], b[:, 0])
+    dy = np.minimum(a[:, 3], b[:, 3]) - np.maximum(a[:, 1], b[:, 1])
+    area = np.clip(dx, 0.0, None) * np.clip(dy, 0.0, None)
+    return np.bincount(cand, weights=area, minlength=len(flat))
+
+
 def _outside_frame(boxes: np.ndarray, frame: Box | None) -> np.ndarray:
     """Area of each box (N, 4) that lies outside the frame."""
     if frame is None:
@@ -301,10 +318,7 @@ def place_labels(
     marks = np.array([(x - r, y - r, x + r, y + r) for x, y in (lm.position for lm in landmarks)])
     fixed = np.concatenate([marks, np.asarray(avoid, dtype=np.float64).reshape(-1, 4)])
     # overlap of each candidate with every mark and avoided box (own mark excluded)
-    hits = _overlap(boxes, fixed)  # (L, C, F)
-    for i in range(len(landmarks)):
-        hits[i, :, i] = 0.0
-    fixed_cost = hits.sum(axis=2)
+    fixed_cost = _fixed_cost(flat, fixed, per).reshape(-1, per)
     statically_clear = (inside | outside) & (fixed_cost <= 1e-12)
     order = sorted(range(len(landmarks)), key=lambda i: (int(statically_clear[i].sum()), i))
 

@@ -27,7 +27,7 @@ import numpy as np
 from arena_studio.core.scene.model import Scene
 
 #: Largest goal table we build; a family that would exceed it is refused with a reason.
-MAX_GOALS = 200_000
+MAX_GOALS = 10_000
 
 GoalKind = Literal["individual", "cooperative"]
 

@@ -7,7 +7,7 @@ editor must be able to hold a scene that is still wrong while it is being drawn.
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Iterator, Mapping
 from typing import Any
 
 from arena_studio.core.errors import SceneFormatError
@@ -30,6 +30,16 @@ from arena_studio.core.scene.model import (
 from arena_studio.core.scene.upgrade import upgrade_to_current
 from arena_studio.core.value_limits import HEADING_LIMIT
 
+#: Documented maxima (README "Limits"), each measured on a 2-core machine with every command
+#: finishing within seconds (tests/bench/bench_scale.py): larger lists are refused at load.
+MAX_ROOMS = 1_000
+MAX_OBSTACLES = 5_000
+MAX_LANDMARKS = 3_000
+MAX_AGENTS = 1_000
+MAX_GOAL_VECTORS = 10_000
+#: Vertices of all outlines (rooms, obstacles, start regions) together.
+MAX_TOTAL_VERTICES = 200_000
+
 TOP_REQUIRED = ("format", "version", "name", "units", "rooms", "landmarks", "agents", "goals")
 TOP_OPTIONAL = ("obstacles", "description", "underlay")
 
@@ -50,24 +60,31 @@ def parse_scene(data: Mapping[str, Any]) -> Scene:
     f.check_keys(doc, "", TOP_REQUIRED, TOP_OPTIONAL)
     if doc["units"] != "m":
         raise SceneFormatError("units", f"expected 'm' (metres), got {doc['units']!r}")
+    _check_total_vertices(doc)
     return Scene(
         name=f.line(doc["name"], "name"),
         description=f.string(
             doc.get("description", ""), "description", nonempty=False, max_length=10_000
         ),
         rooms=tuple(
-            _room(r, f"rooms[{i}]") for i, r in enumerate(f.sequence(doc["rooms"], "rooms"))
+            _room(r, f"rooms[{i}]")
+            for i, r in enumerate(f.sequence(doc["rooms"], "rooms", max_items=MAX_ROOMS))
         ),
         obstacles=tuple(
             _obstacle(o, f"obstacles[{i}]")
-            for i, o in enumerate(f.sequence(doc.get("obstacles", []), "obstacles"))
+            for i, o in enumerate(
+                f.sequence(doc.get("obstacles", []), "obstacles", max_items=MAX_OBSTACLES)
+            )
         ),
         landmarks=tuple(
             _landmark(m, f"landmarks[{i}]")
-            for i, m in enumerate(f.sequence(doc["landmarks"], "landmarks"))
+            for i, m in enumerate(
+                f.sequence(doc["landmarks"], "landmarks", max_items=MAX_LANDMARKS)
+            )
         ),
         agents=tuple(
-            _agent(a, f"agents[{i}]") for i, a in enumerate(f.sequence(doc["agents"], "agents"))
+            _agent(a, f"agents[{i}]")
+            for i, a in enumerate(f.sequence(doc["agents"], "agents", max_items=MAX_AGENTS))
         ),
         goals=_goals(doc["goals"], "goals"),
         underlay=_underlay(doc["underlay"], "underlay") if "underlay" in doc else None,
@@ -88,6 +105,30 @@ def _underlay(value: object, path: str) -> Underlay:
         opacity=f.number(obj.get("opacity", 0.5), f.join(path, "opacity"), minimum=0, maximum=1),
         locked=locked,
     )
+
+
+def _outlines(doc: Mapping[str, Any]) -> Iterator[object]:
+    """Every outline-like list of a raw document (malformed parts are skipped here; the
+    field readers name them)."""
+    for key in ("rooms", "obstacles"):
+        items = doc.get(key)
+        for obj in items if isinstance(items, list | tuple) else ():
+            if isinstance(obj, Mapping):
+                yield obj.get("outline")
+    agents = doc.get("agents")
+    for obj in agents if isinstance(agents, list | tuple) else ():
+        start = obj.get("start") if isinstance(obj, Mapping) else None
+        if isinstance(start, Mapping):
+            yield start.get("region")
+
+
+def _check_total_vertices(doc: Mapping[str, Any]) -> None:
+    """Refuse a scene whose outlines together exceed MAX_TOTAL_VERTICES, before parsing them."""
+    total = sum(len(o) for o in _outlines(doc) if isinstance(o, list | tuple))
+    if total > MAX_TOTAL_VERTICES:
+        raise SceneFormatError(
+            "", f"too many outline vertices in all ({total:,} > {MAX_TOTAL_VERTICES:,})"
+        )
 
 
 def _id(obj: Mapping[str, Any], path: str) -> str:
@@ -166,13 +207,17 @@ def _goals(value: object, path: str) -> GoalSpec:
     f.check_keys(obj, path, ("rule",), ("hold_time", "families", "vectors", "weights"))
     families = tuple(
         _whole(k, f"{path}.families[{i}]", minimum=1)
-        for i, k in enumerate(f.sequence(obj.get("families", []), f.join(path, "families")))
+        for i, k in enumerate(
+            f.sequence(obj.get("families", []), f.join(path, "families"), max_items=MAX_LANDMARKS)
+        )
     )
     if len(set(families)) != len(families):
         raise SceneFormatError(f.join(path, "families"), "each k may be listed only once")
     vectors = tuple(
         _vector(v, f"{path}.vectors[{i}]")
-        for i, v in enumerate(f.sequence(obj.get("vectors", []), f.join(path, "vectors")))
+        for i, v in enumerate(
+            f.sequence(obj.get("vectors", []), f.join(path, "vectors"), max_items=MAX_GOAL_VECTORS)
+        )
     )
     family_weights = vector_weights = None
     if "weights" in obj:
@@ -194,7 +239,7 @@ def _goals(value: object, path: str) -> GoalSpec:
 
 
 def _vector(value: object, path: str) -> tuple[int, ...]:
-    items = f.sequence(value, path, max_items=10_000)
+    items = f.sequence(value, path, max_items=MAX_LANDMARKS)
     out = []
     for i, bit in enumerate(items):
         if isinstance(bit, bool) or not isinstance(bit, int | float) or bit not in (0, 1):

@@ -319,6 +319,16 @@ def _check_npz_total(src: str, members: list[zipfile.ZipInfo]) -> None:
         )
 
 
+def _npz_dt(src: str, arr: np.ndarray) -> float:
+    """The ``dt`` array as one time step in seconds, named when it is not one."""
+    if arr.size != 1:
+        raise ImportFormatError(f"{src}: array dt: expected one number, got shape {arr.shape}")
+    value = float(arr.reshape(-1)[0])
+    if not (math.isfinite(value) and value > 0):
+        raise ImportFormatError(f"{src}: array dt: expected a time step > 0 s, got {value!r}")
+    return value
+
+
 def import_npz(
     path: str | Path,
     scene: Scene,
@@ -354,9 +364,14 @@ def import_npz(
 
         def load(name: str) -> np.ndarray:
             try:
-                return np.asarray(data[name])
+                arr = np.asarray(data[name])
             except ValueError as exc:  # object arrays need pickle, which is refused
                 raise ImportFormatError(f"{src}: array {name}: {exc}") from None
+            if arr.dtype.kind not in "biuf":  # text, complex, dates: not poses or flags
+                raise ImportFormatError(
+                    f"{src}: array {name}: expected real numbers, got dtype {arr.dtype.str}"
+                )
+            return arr
 
         if "poses" in names:
             stacked = load("poses")
@@ -373,15 +388,18 @@ def import_npz(
                 raise ImportFormatError(f"{src}: no array 'poses' (or poses_0, poses_1, ...)")
         step = dt
         if step is None:
-            try:
-                step = float(load("dt")) if "dt" in names else 0.1
-            except (TypeError, ValueError):
-                raise ImportFormatError(f"{src}: array dt: expected one number") from None
+            step = _npz_dt(src, load("dt")) if "dt" in names else 0.1
         check_dt(src, step)
 
         def per_episode(name: str, i: int) -> np.ndarray | None:
             if name in names:
-                return load(name)[i]
+                stacked = load(name)
+                if stacked.ndim == 0 or stacked.shape[0] != count:
+                    raise ImportFormatError(
+                        f"{src}: array {name}: expected one entry per episode ({count}), "
+                        f"got shape {stacked.shape}"
+                    )
+                return stacked[i]
             if f"{name}_{i}" in names:
                 return load(f"{name}_{i}")
             return None
