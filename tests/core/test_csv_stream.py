@@ -19,7 +19,7 @@ from arena_studio.core.tape import csv_blocks
 from arena_studio.core.tape.importers import ImportFormatError, import_csv
 
 from .legacy_csv_import import legacy_import_csv
-from .tape_helpers import box_scene
+from .tape_helpers import box_scene, write_long_csv
 
 SCENE = box_scene(agents=3)
 HEADER = ["episode", "step", "agent", "x", "y", "heading", "reward", "goal", "role"]
@@ -99,16 +99,21 @@ def test_episode_cut_by_block_boundaries_is_whole(tmp_path: Path, monkeypatch) -
     rows = _rows(episodes=2, steps=40)
     src = _write(tmp_path / "in.csv", rows)
     seen: list[int] = []
+    fast: list[int] = []
     parse = csv_blocks.BlockParser.parse
 
     def counting(self, block: bytes, start: int):  # type: ignore[no-untyped-def]
         rows_, after = parse(self, block, start)
         seen.append(len(rows_))
+        fast.append(self.fast_blocks)
         return rows_, after
 
     monkeypatch.setattr(csv_blocks.BlockParser, "parse", counting)
     assert import_csv(src, SCENE, tmp_path / "o.tape", block_bytes=256) == 2
     assert len(seen) > 10 and sum(seen) == len(rows)  # many blocks, every row once
+    if csv_blocks.load_pyarrow() is not None:
+        # run-0's plain blocks take pyarrow's way, the quoted "run, 1" ones the row-by-row way
+        assert len(seen) // 3 < fast[-1] < len(seen)
     tape = open_tape(tmp_path / "o.tape")
     assert tape.episode(0).steps == 40 and tape.episode(1).steps == 41
     # the rows read back as written (Python's csv module as the reference reader)
@@ -193,29 +198,6 @@ def test_import_without_pyarrow_reads_the_same(tmp_path: Path, monkeypatch) -> N
 
 
 # -- memory: a file imported under an address-space limit ----------------------------------
-def write_long_csv(path: Path, target_bytes: int, agents: int = 3, steps: int = 400) -> int:
-    """A long-format file of about ``target_bytes`` (episodes of ``steps`` x ``agents``)."""
-    rng = np.random.default_rng(1)
-    body = [
-        f",{s},r{a},{x:.4f},{y:.4f},{h:.5f},{r:g}\n"
-        for s in range(steps)
-        for a, x, y, h, r in zip(
-            range(agents), *rng.uniform(0, 10, (2, agents)), rng.uniform(-3, 3, agents),
-            rng.choice([0.0, 1.0], agents), strict=True,
-        )
-    ]  # fmt: skip
-    written = episodes = 0
-    with open(path, "w") as f:
-        f.write("episode,step,agent,x,y,heading,reward\n")
-        while written < target_bytes:
-            label = f"episode-{episodes:07d}"
-            text = "".join(label + line for line in body)
-            f.write(text)
-            written += len(text)
-            episodes += 1
-    return episodes
-
-
 _LIMITED = textwrap.dedent(
     """
     import resource, sys

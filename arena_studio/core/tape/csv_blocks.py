@@ -120,7 +120,7 @@ class BlockParser:
             rows = self._fast(block, start_line)
             if rows is not None:
                 self.fast_blocks += 1
-                return rows, start_line + block.count(b"\n")
+                return rows, start_line + len(rows)  # one row on every line
         self.slow_blocks += 1
         return self._slow(block, start_line)
 
@@ -239,7 +239,7 @@ def _plain(block: bytes) -> bool:
         and b"\n\n" not in block
         and b"\n\r\n" not in block
         and not block.startswith((b"\n", b"\r\n"))
-        and block.count(b"\r") == block.count(b"\r\n")
+        and (b"\r" not in block or block.count(b"\r") == block.count(b"\r\n"))
     )
 
 
