@@ -174,7 +174,11 @@ def import_npz(
         names = set(data.files)
         a, n_lm = len(scene.agents), len(scene.landmarks)
 
+        held: dict[str, np.ndarray] = {}  # arrays of all episodes, loaded once
+
         def load(name: str) -> np.ndarray:
+            if name in held:
+                return held[name]
             try:
                 arr = np.asarray(data[name])
             except ValueError as exc:  # object arrays need pickle, which is refused
@@ -183,6 +187,8 @@ def import_npz(
                 raise ImportFormatError(
                     f"{src}: array {name}: expected real numbers, got dtype {arr.dtype.str}"
                 )
+            if "_" not in name or not name.rsplit("_", 1)[1].isdigit():
+                held[name] = arr
             return arr
 
         if "poses" in names:
