@@ -13,7 +13,6 @@ for a quick look.
 from __future__ import annotations
 
 import os
-import resource
 import subprocess
 import sys
 import time

@@ -28,6 +28,7 @@ from arena_studio.core.value_limits import DT_MAX, DT_MIN
 REQUIRED = ("episode", "step", "agent", "x", "y", "heading")
 OPTIONAL = ("reward", "goal", "role")
 
+
 class _EpisodeRows:
     def __init__(self, label: str, agents: int, with_reward: bool) -> None:
         self.label = label
@@ -212,5 +213,3 @@ def _episode_arrays(src: str, ep: _EpisodeRows, mapping: dict[str, str]) -> dict
                     timeline.append((s, label))
             roles.append(timeline)
     return {"poses": poses, "rewards": rewards, "roles": roles}
-
-

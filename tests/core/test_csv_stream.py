@@ -14,8 +14,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from arena_studio.core.tape import open_tape
-from arena_studio.core.tape import csv_blocks
+from arena_studio.core.tape import csv_blocks, open_tape
 from arena_studio.core.tape.importers import ImportFormatError, import_csv
 
 from .legacy_csv_import import legacy_import_csv
@@ -117,7 +116,8 @@ def test_episode_cut_by_block_boundaries_is_whole(tmp_path: Path, monkeypatch) -
     tape = open_tape(tmp_path / "o.tape")
     assert tape.episode(0).steps == 40 and tape.episode(1).steps == 41
     # the rows read back as written (Python's csv module as the reference reader)
-    assert tape.episode(1).poses[17, 2].tolist() == [float(v) for v in rows[40 * 3 + 17 * 3 + 2][3:6]]
+    written = rows[40 * 3 + 17 * 3 + 2][3:6]
+    assert tape.episode(1).poses[17, 2].tolist() == [float(v) for v in written]
 
 
 def test_quoted_values_with_line_breaks_keep_line_numbers(tmp_path: Path) -> None:
@@ -144,9 +144,11 @@ def test_skip_bad_names_the_same_lines(tmp_path: Path, block_bytes: int) -> None
     new: list[str] = []
     legacy_import_csv(src, SCENE, tmp_path / "old.tape", skipped=old)
     assert import_csv(src, SCENE, tmp_path / "new.tape", skipped=new, block_bytes=block_bytes)
+
     # bad rows in file order, then (whole-file) or as they end (streamed) the episodes left out
     def split(texts: list[str]) -> tuple[list[str], list[str]]:
-        return [t for t in texts if t.startswith("line")], [t for t in texts if not t.startswith("line")]
+        rows_ = [t for t in texts if t.startswith("line")]
+        return rows_, [t for t in texts if not t.startswith("line")]
 
     assert split(new) == split(old) and len(new) == len(old)
     assert new[0] == "line 6, column 'x': expected a number, got 'abc'"

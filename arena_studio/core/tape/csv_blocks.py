@@ -152,6 +152,7 @@ class BlockParser:
 
     # -- pyarrow and numpy: no object per row ----------------------------------------------
     def _fast(self, block: bytes, start_line: int) -> Rows | None:
+        assert self.pa is not None
         pa, pacsv, pc = self.pa
         col = self.layout.col
         names = [f"c{i}" for i in range(self.ncols)]
@@ -219,6 +220,7 @@ class BlockParser:
 
     def _codes(self, values: Any, with_empty: bool) -> tuple[np.ndarray, list[str]]:
         """Dictionary codes of trimmed text; with ``with_empty`` code 0 is always ""."""
+        assert self.pa is not None
         pc = self.pa[2]
         trimmed = pc.utf8_trim_whitespace(values).combine_chunks()
         encoded = pc.dictionary_encode(trimmed)

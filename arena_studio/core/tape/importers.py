@@ -4,7 +4,8 @@ CSV, long format (one row per episode, step and agent)::
 
     episode,step,agent,x,y,heading[,reward][,goal][,role]
 
-``episode`` is any label (episodes keep the order of their first row); ``step`` counts from 0
+``episode`` is any label (episodes keep the order of their first row; the rows of one episode
+are together, see :mod:`.csv_import`, which reads the file in blocks); ``step`` counts from 0
 without gaps; ``agent`` is a scene agent id (or its 0-based index); x, y in metres, heading in
 radians. Optional ``reward`` (number), ``goal`` (the agent's pursued goal: landmark ids joined
 by ``+``, the same on every row of that agent in that episode) and ``role`` (a label; a change
