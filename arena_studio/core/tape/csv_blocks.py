@@ -6,7 +6,8 @@ inside a quoted value (RFC 4180 doubles quotes inside values, so an even count o
 before a line end marks a row boundary). Every block starts at a known line number.
 
 A block is parsed the fast way (pyarrow's CSV reader, then vectorised checks) when it has
-no quotes, blank lines or lone CR line ends, so that row ``i`` sits on line ``start + i``.
+no blank lines, lone CR line ends or line ends inside quotes, so that row ``i`` sits on line
+``start + i``.
 Any other block, and any block in which a check fails, is parsed again row by row with
 Python's ``csv`` module and :func:`~arena_studio.core.import_rows.parse_row`, which names
 the line and column of a bad row (or leaves it out with ``--skip-bad``) exactly as a
@@ -86,9 +87,13 @@ def _row_boundary(buf: bytes) -> int:
     if b'"' not in buf:
         return end + 1
     arr = np.frombuffer(buf, dtype=np.uint8)
-    quotes = np.cumsum(arr == ord('"'), dtype=np.int64)
-    ends = np.flatnonzero((arr == ord("\n")) & (quotes % 2 == 0))
+    ends = np.flatnonzero((arr == ord("\n")) & (_inside_quotes(arr) == 0))
     return int(ends[-1]) + 1 if ends.size else 0
+
+
+def _inside_quotes(arr: np.ndarray) -> np.ndarray:
+    """1 where an odd number of quotes came before (one byte per byte of the block)."""
+    return np.bitwise_xor.accumulate((arr == ord('"')).view(np.uint8))
 
 
 class BlockParser:
@@ -117,7 +122,7 @@ class BlockParser:
     def parse(self, block: bytes, start_line: int) -> tuple[Rows, int]:
         """The rows of ``block`` (first line ``start_line``) and the line after it."""
         if self.pa is not None and _plain(block):
-            rows = self._fast(block, start_line)
+            rows = self._fast(block, start_line, quoted=b'"' in block)
             if rows is not None:
                 self.fast_blocks += 1
                 return rows, start_line + len(rows)  # one row on every line
@@ -151,7 +156,7 @@ class BlockParser:
         return acc.rows(self.layout.col.get("reward") is not None), start_line + reader.line_num
 
     # -- pyarrow and numpy: no object per row ----------------------------------------------
-    def _fast(self, block: bytes, start_line: int) -> Rows | None:
+    def _fast(self, block: bytes, start_line: int, quoted: bool) -> Rows | None:
         assert self.pa is not None
         pa, pacsv, pc = self.pa
         col = self.layout.col
@@ -165,7 +170,11 @@ class BlockParser:
             table = pacsv.read_csv(
                 pa.py_buffer(block),
                 read_options=pacsv.ReadOptions(column_names=names, use_threads=True),
-                parse_options=pacsv.ParseOptions(quote_char=False, ignore_empty_lines=False),
+                parse_options=pacsv.ParseOptions(
+                    quote_char='"' if quoted else False,
+                    newlines_in_values=False,
+                    ignore_empty_lines=False,
+                ),
                 convert_options=pacsv.ConvertOptions(
                     column_types=types,
                     include_columns=list(dict.fromkeys(wanted.values())),
@@ -235,14 +244,19 @@ class BlockParser:
 
 
 def _plain(block: bytes) -> bool:
-    """True when row i of the block is on its line i (no quotes, blank lines or lone CR)."""
-    return (
-        b'"' not in block
-        and b"\n\n" not in block
-        and b"\n\r\n" not in block
-        and not block.startswith((b"\n", b"\r\n"))
-        and (b"\r" not in block or block.count(b"\r") == block.count(b"\r\n"))
-    )
+    """True when row i of the block is on its line i: no blank lines, no lone CR and no
+    line end inside quotes (quoted values on one line are fine)."""
+    if (
+        b"\n\n" in block
+        or b"\n\r\n" in block
+        or block.startswith((b"\n", b"\r\n"))
+        or (b"\r" in block and block.count(b"\r") != block.count(b"\r\n"))
+    ):
+        return False
+    if b'"' not in block:
+        return True
+    arr = np.frombuffer(block, dtype=np.uint8)
+    return not _inside_quotes(arr)[arr == ord("\n")].any()
 
 
 def _within(values: np.ndarray, limit: float) -> bool:
