@@ -55,6 +55,14 @@ ACTIONS: tuple[ActionSpec, ...] = (
     ),
     ActionSpec("file.save_as", "Save &As…", ("Ctrl+Shift+S",), "File", modes=LAYOUT),
     ActionSpec(
+        "file.export",
+        "&Export for Simulator…",
+        ("Ctrl+E",),
+        "File",
+        tip="Write the scene as json, msgpack, npz, wkt, svg or an occupancy grid",
+        modes=LAYOUT,
+    ),
+    ActionSpec(
         "file.import_map",
         "Import &Map…",
         (),

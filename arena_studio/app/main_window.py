@@ -243,6 +243,7 @@ class MainWindow(FileCommands, ModePages, RobotCommands, QMainWindow):
             "file.open_folder": self.open_folder_dialog,
             "file.save": self.save,
             "file.save_as": self.save_as,
+            "file.export": self.export_dialog,
             "file.quit": self.close,
             "edit.undo": self.document.undo_stack.undo,
             "edit.redo": self.document.undo_stack.redo,

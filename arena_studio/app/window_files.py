@@ -33,6 +33,7 @@ class FileCommands:
     editor: Any
     canvas: Any
     dialogs: Any
+    theme: Any
     settings: Any
     recovery: Any
     recent_menu: QMenu
@@ -150,6 +151,19 @@ class FileCommands:
         self.add_recent(path.resolve())
         self.show_message(f"Saved {path.name}")
         return True
+
+    def export_dialog(self) -> None:
+        """File > Export for Simulator…: the command's exports for the scene shown."""
+        self.make_export_dialog().exec()
+
+    def make_export_dialog(self) -> Any:
+        """The dialog for the current scene; outputs go next to a saved scene, else home
+        (never into the bundled demo folder)."""
+        from arena_studio.app.editor.export_dialog import ExportDialog
+
+        path = self.document.path
+        folder = path.parent if path and not is_bundled_demo(path) else Path.home()
+        return ExportDialog(self, self.document.scene, path, folder, self.theme.hex("error")[:7])
 
     # -- recent files ------------------------------------------------------------------
     def recent_files(self) -> list[str]:
