@@ -82,6 +82,11 @@ class Editor(QObject):
             return
         self.tool.cancel()
         self.tool = self.tools[name]
+        if name == "tool.goal_pick" and not self.goal_picks:  # selected landmarks: first picks
+            picks = tuple(oid for group, oid in self._selection if group == "landmarks")
+            if picks:
+                self.goal_picks = picks
+                self.goal_picks_changed.emit()
         self.tool_changed.emit(name)
         self.status_message.emit(self.tool.hint)
         self.preview_changed.emit()
