@@ -15,6 +15,7 @@ from arena_studio.core.resources import demo_path
 from arena_studio.core.scene.model import Scene, load_scene, save_scene
 
 MAX_RECENT = 10
+DEFAULT_SCENE_NAME = "Untitled scene"
 SCENE_SUFFIXES = (".json", ".msgpack", ".mpk")
 
 
@@ -24,6 +25,15 @@ def is_bundled_demo(path: Path) -> bool:
         return path.resolve().parent == demo_path().resolve()
     except OSError:
         return False
+
+
+def scene_stem(path: Path) -> str:
+    """``my.scene.json`` -> ``my``: the file name without the scene endings."""
+    stem = path.name
+    for ending in (".json", ".msgpack", ".mpk", ".scene"):
+        if stem.lower().endswith(ending):
+            stem = stem[: -len(ending)]
+    return stem or path.name
 
 
 class FileCommands:
@@ -53,7 +63,7 @@ class FileCommands:
         if not self.maybe_keep_changes():
             return
         self.recovery.discard()
-        self.document.reset(Scene(name="Untitled scene"), None)
+        self.document.reset(Scene(name=DEFAULT_SCENE_NAME), None)
         self.editor.set_selection(())
         self.set_mode("layout")
         self.canvas.fit_scene()
@@ -135,6 +145,12 @@ class FileCommands:
         p = Path(path)
         if not p.name.lower().endswith((".json", ".msgpack", ".mpk")):
             p = p.with_name(p.name + ".scene.json")
+        if self.document.scene.name.strip() in ("", DEFAULT_SCENE_NAME):
+            # the file name names the scene: my.scene.json -> "my" (one undoable edit)
+            from dataclasses import replace
+
+            named = replace(self.document.scene, name=scene_stem(p))
+            self.document.apply(named, "Name the scene after its file")
         return self.save_to(p)
 
     def save_to(self, path: Path) -> bool:

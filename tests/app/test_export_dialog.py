@@ -48,8 +48,13 @@ def test_npz_matches_the_command(main_window, tmp_path):
     assert dialog.export(), dialog.status.text()
     theirs = tmp_path / "command.npz"
     args = argparse.Namespace(
-        scene=str(tmp_path / "hall.scene.json"), format="npz", output=str(theirs),
-        resolution=0.05, clearance=0.0, force=False, quiet=True,
+        scene=str(tmp_path / "hall.scene.json"),
+        format="npz",
+        output=str(theirs),
+        resolution=0.05,
+        clearance=0.0,
+        force=False,
+        quiet=True,
     )
     assert export_command.run(args) == 0
     with np.load(ours, allow_pickle=False) as a, np.load(theirs, allow_pickle=False) as b:

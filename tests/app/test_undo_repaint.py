@@ -29,9 +29,12 @@ def _start_pixels(win, x: float, y: float) -> int:
     for px in range(centre.x() - 12, centre.x() + 13):
         for py in range(centre.y() - 12, centre.y() + 13):
             c = QColor(image.pixel(px, py))
-            if abs(c.red() - want.red()) + abs(c.green() - want.green()) + abs(
-                c.blue() - want.blue()
-            ) < 40:
+            if (
+                abs(c.red() - want.red())
+                + abs(c.green() - want.green())
+                + abs(c.blue() - want.blue())
+                < 40
+            ):
                 count += 1
     return count
 

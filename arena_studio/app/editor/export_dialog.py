@@ -32,6 +32,7 @@ from arena_studio.core.errors import ArenaError
 from arena_studio.core.export import CAUTION, DEFAULT_RESOLUTION, FORMATS, export_scene
 from arena_studio.core.outputs import OutputClash, export_outputs, prepare_outputs
 from arena_studio.core.scene.model import Scene
+from arena_studio.core.wording import count
 
 #: What each format is for, and the name ending its output gets by default.
 FORMAT_INFO: dict[str, tuple[str, str]] = {
@@ -183,7 +184,7 @@ class ExportDialog(QDialog):
         except (OutputClash, ArenaError, OSError) as exc:
             self._say(f"Not exported: {exc}", error=True)
             return False
-        note = f" ({len(failures)} part(s) drawn as notes)" if failures else ""
+        note = f" ({count(len(failures), 'part')} drawn as notes)" if failures else ""
         self._say("Wrote " + ", ".join(p.name for p in self.written) + note, error=False)
         return True
 
@@ -193,8 +194,7 @@ class ExportDialog(QDialog):
         answer = QMessageBox.question(
             self,
             "Replace file?",
-            f"“{Path(name).name}” already exists and was not exported by arena-studio. "
-            "Replace it?",
+            f"“{Path(name).name}” already exists and was not exported by arena-studio. Replace it?",
             QMessageBox.StandardButton.Yes | QMessageBox.StandardButton.No,
             QMessageBox.StandardButton.No,
         )

@@ -130,7 +130,9 @@ def open_scene_copy(window: Any, scene: Any) -> None:
 
 
 def _on_document_path(window: Any) -> None:
-    """A scene file was opened in the editor while a tape is open: warn when they differ."""
+    """A scene file was opened in the editor while a tape is open: a differing scene is said
+    in the status bar (no modal box: opening one's own scene beside a tape is normal); the
+    same scene needs no word."""
     page = getattr(window, PAGE_ATTR, None)
     path = getattr(window.document, "path", None)
     if isinstance(page, ReplayWindow) and page.session is not None and path is not None:
@@ -139,7 +141,11 @@ def _on_document_path(window: Any) -> None:
         if key in page.scene_checks_done:  # saving the same file again: said it already
             return
         page.scene_checks_done.add(key)
-        page.warn_if_scene_differs(scene, Path(path))
+        if page.scene_matches_tape(scene) is False:
+            window.show_message(
+                f"Opened {Path(path).name}; it differs from the scene stored in "
+                f"{Path(page.session.path).name}, which the replay keeps showing."
+            )
 
 
 def _show_moment(page: ReplayWindow, episode: int | None, seconds: float | None) -> str | None:
