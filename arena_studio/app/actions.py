@@ -109,6 +109,13 @@ ACTIONS: tuple[ActionSpec, ...] = (
     ActionSpec("view.fit", "&Fit Scene", ("Ctrl+0",), "View", "file", "zoom_fit"),
     ActionSpec("view.dark", "&Dark Theme", (), "View", checkable=True),
     ActionSpec(
+        "view.reset_layout",
+        "&Reset Layout",
+        (),
+        "View",
+        tip="Show every tool bar and panel again, in their first places and sizes",
+    ),
+    ActionSpec(
         "view.underlay",
         "&Underlay…",
         (),

@@ -253,6 +253,7 @@ class MainWindow(FileCommands, ModePages, RobotCommands, QMainWindow):
             "view.zoom_in": lambda: self.visible_canvas().zoom_in(),
             "view.zoom_out": lambda: self.visible_canvas().zoom_out(),
             "view.fit": self.fit_visible,
+            "view.reset_layout": self.reset_layout,
             "view.dark": lambda: self.apply_theme(
                 "dark" if self.actions_by_id["view.dark"].isChecked() else "light"
             ),
@@ -442,12 +443,39 @@ class MainWindow(FileCommands, ModePages, RobotCommands, QMainWindow):
         state = self.settings.value("window/state")
         if isinstance(state, QByteArray | bytes):
             self._docks_sized = self.restoreState(QByteArray(state))  # the user's sizes
+        # Places and sizes come back; hidden bars and panels never do: a run that ended
+        # with them hidden (a crash, a test) must not leave the next window without them.
+        self._show_all_panels()
         snap = self.settings.value("prefs/snap", True)
         on = snap not in (False, "false", "0", 0)
         self.actions_by_id["edit.snap"].setChecked(on)
         from dataclasses import replace
 
         self.editor.snap_settings = replace(self.editor.snap_settings, enabled=on)
+
+    def _show_all_panels(self) -> None:
+        for key, bar in self.toolbars.items():
+            bar.setVisible(key != "tools" or self.mode == "layout")
+        for dock in self.docks.values():
+            dock.setVisible(self.mode == "layout")
+
+    def reset_layout(self) -> None:
+        """View > Reset Layout: every bar and panel shown, docked where a first start puts
+        them (Properties and Goals tabbed on the right, Findings below), first sizes."""
+        right, bottom = (
+            Qt.DockWidgetArea.RightDockWidgetArea,
+            Qt.DockWidgetArea.BottomDockWidgetArea,
+        )
+        for key, area in (("properties", right), ("goals", right), ("findings", bottom)):
+            dock = self.docks[key]
+            dock.setFloating(False)
+            self.addDockWidget(area, dock)
+        self.tabifyDockWidget(self.docks["properties"], self.docks["goals"])
+        self._layout_state = None
+        self._show_all_panels()
+        self.docks["properties"].raise_()
+        self._size_docks()
+        self.show_message("Layout reset: every tool bar and panel is shown.")
 
     def save_settings(self) -> None:
         self.settings.setValue("window/geometry", self.saveGeometry())

@@ -124,7 +124,24 @@ class FileCommands:
         ok = bool(open_tape(self, path))
         if ok:
             self.add_recent(path.resolve())
+            self._editor_shows_tape_scene()
         return ok
+
+    def _editor_shows_tape_scene(self) -> None:
+        """An editor that holds nothing yet (the untouched empty scene of a start with a
+        tape) gets the tape's own scene, so the Layout Editor never shows an empty scene
+        with errors beside a replay. Its file is the tape: saving asks for a new name."""
+        doc = self.document
+        untouched = doc.path is None and not doc.dirty and not doc.undo_stack.count()
+        if not untouched or doc.scene != Scene(name=DEFAULT_SCENE_NAME):
+            return
+        page = getattr(self, "replay_page", None)
+        session = getattr(page, "session", None)
+        scene = getattr(session, "scene", None)
+        if isinstance(scene, Scene):
+            doc.reset(scene, None)
+            self.editor.set_selection(())
+            self.canvas.fit_scene()
 
     def save(self) -> bool:
         path = self.document.path

@@ -75,3 +75,23 @@ def test_opening_the_tapes_own_scene_says_nothing_about_it(main_window, tmp_path
     assert said == []
     assert "recorded in" not in win.message_label.text()
     assert win.message_label.text() == "Opened hall.scene.json"
+
+
+def test_layout_editor_beside_a_first_tape_shows_the_tapes_scene(main_window, tmp_path):
+    win = main_window
+    tape = write_test_tape(tmp_path / "hall.tape", episodes=2)
+    assert win.open_path(tape)
+    win.set_mode("layout")
+    assert win.document.scene == small_scene()
+    assert not win.document.dirty and win.document.path is None
+    # the tape's scene, not an empty one the checker finds errors in
+    assert [f for f in check_scene(win.document.scene) if f.severity == "error"] == []
+    assert [f for f in check_scene(Scene(name="Untitled scene")) if f.severity == "error"]
+
+
+def test_a_scene_being_edited_is_kept_when_a_tape_opens(main_window, tmp_path):
+    win = main_window
+    win.editor.apply(Scene(name="mine"), "Rename")
+    tape = write_test_tape(tmp_path / "hall.tape", episodes=2)
+    assert win.open_path(tape)
+    assert win.document.scene == Scene(name="mine")
