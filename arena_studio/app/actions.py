@@ -183,6 +183,17 @@ ACTIONS: tuple[ActionSpec, ...] = (
         modes=LAYOUT,
     ),
     ActionSpec(
+        "tool.doorway",
+        "Doorway",
+        ("0",),
+        "Tools",
+        "tools",
+        "doorway",
+        checkable=True,
+        tip="Click in the wall between two rooms for a doorway; drag along the wall to size it",
+        modes=LAYOUT,
+    ),
+    ActionSpec(
         "tool.obstacle_polygon",
         "Obstacle Outline",
         ("4",),
