@@ -65,7 +65,7 @@ def default_recovery_dir() -> Path:
 
 
 class MainWindow(FileCommands, ModePages, RobotCommands, QMainWindow):
-    scene_opened = Signal(object)  # Path of a scene file just opened in the layout editor
+    sceneOpened = Signal(object)  # Path of a scene file just opened in the layout editor
 
     def __init__(
         self,
@@ -289,15 +289,15 @@ class MainWindow(FileCommands, ModePages, RobotCommands, QMainWindow):
     def _connect(self) -> None:
         doc = self.document
         doc.changed.connect(self._on_document_changed)
-        doc.path_changed.connect(self._update_title)
+        doc.pathChanged.connect(self._update_title)
         doc.undo_stack.cleanChanged.connect(self._update_title)
         doc.undo_stack.indexChanged.connect(self._update_actions)
-        self.editor.selection_changed.connect(self._update_actions)
-        self.editor.status_message.connect(self.show_message)
-        self.editor.tool_changed.connect(lambda name: self.actions_by_id[name].setChecked(True))
+        self.editor.selectionChanged.connect(self._update_actions)
+        self.editor.statusMessage.connect(self.show_message)
+        self.editor.toolChanged.connect(lambda name: self.actions_by_id[name].setChecked(True))
         self._connect_canvas(self.canvas)
         self.checks.results.connect(self._on_check_results)
-        self.checks.plans_ready.connect(self._on_plans)
+        self.checks.plansReady.connect(self._on_plans)
         self.findings_panel.activated.connect(self.focus_finding)
         self.goals_panel.highlight.connect(self._highlight_goal)
 
@@ -315,11 +315,11 @@ class MainWindow(FileCommands, ModePages, RobotCommands, QMainWindow):
 
     def _connect_canvas(self, canvas: SceneCanvas) -> None:
         """Status bar readouts for a canvas (the editor's, or a mode page's)."""
-        canvas.cursor_moved.connect(
+        canvas.cursorMoved.connect(
             lambda x, y: self.coords_label.setText(f"x {x:8.2f} m   y {y:8.2f} m")
         )
-        canvas.cursor_left.connect(lambda: self.coords_label.setText("x —  y —"))
-        canvas.zoom_changed.connect(lambda ppm, c=canvas: self._show_zoom(c, ppm))
+        canvas.cursorLeft.connect(lambda: self.coords_label.setText("x —  y —"))
+        canvas.zoomChanged.connect(lambda ppm, c=canvas: self._show_zoom(c, ppm))
 
     def _update_actions(self, *_args: object) -> None:
         for spec in ACTIONS:

@@ -47,7 +47,7 @@ class FileCommands:
     settings: Any
     recovery: Any
     recent_menu: QMenu
-    scene_opened: Any
+    sceneOpened: Any
     _autosaved_scene: Scene | None
 
     def maybe_keep_changes(self) -> bool:
@@ -100,7 +100,7 @@ class FileCommands:
         self.canvas.fit_scene()
         self.add_recent(p.resolve())
         self.show_message(f"Opened {p.name}")
-        self.scene_opened.emit(p.resolve())
+        self.sceneOpened.emit(p.resolve())
         return True
 
     def open_folder_dialog(self) -> None:

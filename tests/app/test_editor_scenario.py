@@ -105,6 +105,8 @@ def test_two_room_layout_round_trip(qtbot, make_window, tmp_path):
     win.dialogs.save_answer = str(target)
     win.actions_by_id["file.save"].trigger()  # unnamed: asks for a file name
     assert not win.document.dirty and "•" not in win.windowTitle()
+    assert win.document.scene.name == "two-rooms"  # the file name named the scene
+    edited = win.document.scene
     assert win.close()
 
     again = make_window()

@@ -170,10 +170,10 @@ class GoalsPanel(QWidget):
         self._rows: list[Any] = []
 
         editor.document.changed.connect(self.refresh)
-        editor.selection_changed.connect(self._update_buttons)
-        editor.goal_picks_changed.connect(self._update_buttons)
-        editor.tool_changed.connect(self._tool_changed)
-        editor.goal_added.connect(self.show_goal)
+        editor.selectionChanged.connect(self._update_buttons)
+        editor.goalPicksChanged.connect(self._update_buttons)
+        editor.toolChanged.connect(self._tool_changed)
+        editor.goalAdded.connect(self.show_goal)
         self.refresh()
 
     # -- model -> widgets --------------------------------------------------------------

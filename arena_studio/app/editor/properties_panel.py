@@ -36,9 +36,9 @@ class PropertiesPanel(QScrollArea):
         self._key: ObjKey | None = None
         self._shape: tuple[Any, ...] = ()
         self._updaters: list[Callable[[Scene], None]] = []
-        editor.selection_changed.connect(self.rebuild)
+        editor.selectionChanged.connect(self.rebuild)
         editor.document.changed.connect(self.refresh)
-        editor.preview_changed.connect(self.refresh)  # a vertex was picked or dropped
+        editor.previewChanged.connect(self.refresh)  # a vertex was picked or dropped
         self.rebuild()
 
     # -- building ----------------------------------------------------------------------

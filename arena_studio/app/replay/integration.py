@@ -47,7 +47,7 @@ def replay_page(window: Any) -> ReplayWindow:
         modes.currentChanged.connect(lambda _i: _sync_enabled(window, page))
     # Opening a scene file beside the tape is checked against it; saving edits is not (an
     # edited scene differs from the tape's on purpose).
-    opened = getattr(window, "scene_opened", None)
+    opened = getattr(window, "sceneOpened", None)
     if opened is not None:
         opened.connect(lambda _path: _on_document_path(window))
     theme_action = getattr(window, "actions_by_id", {}).get("view.dark")
