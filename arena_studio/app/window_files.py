@@ -214,8 +214,8 @@ class FileCommands:
     def recent_files(self) -> list[str]:
         value = self.window.settings.value("recent/files", [])
         if isinstance(value, str):
-            value = [value]
-        return [str(v) for v in (value or [])]
+            return [value]
+        return [str(v) for v in value] if isinstance(value, list | tuple) else []
 
     def add_recent(self, path: Path) -> None:
         files = [str(path), *[f for f in self.recent_files() if f != str(path)]][:MAX_RECENT]

@@ -92,7 +92,5 @@ class ModePages:
         if editing:
             self.window.update_title()
         else:
-            self.window.setWindowTitle(
-                f"{self.window.modes.currentWidget().windowTitle()} — arena_studio"
-            )
+            self.window.setWindowTitle(f"{self._pages[name].windowTitle()} — arena_studio")
         self.visible_canvas().setFocus()

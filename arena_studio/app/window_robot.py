@@ -189,8 +189,10 @@ class RobotCommands:
             QApplication.restoreOverrideCursor()
             progress.close()
         skipped = [u for u in report.topics.values() if u.skipped]
-        lines = [f"{count(len(report.episodes), 'episode')} from {count(report.bags, 'bag')} "
-            f"into {out.name}."]
+        lines = [
+            f"{count(len(report.episodes), 'episode')} from {count(report.bags, 'bag')} "
+            f"into {out.name}."
+        ]
         lines += [f"{u.topic}: {u.skipped} of {u.messages} skipped ({u.note})" for u in skipped]
         lines += list(dict.fromkeys(report.warnings))[:8]
         self.last_run_report = report
