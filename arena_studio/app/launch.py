@@ -126,7 +126,12 @@ def launch_app(args: argparse.Namespace) -> int:
     app.setOrganizationName("arena_studio")
     app.setApplicationName("arena-studio")
     quiet = None if interactive else QuietDialogs()
-    window = MainWindow(theme=getattr(args, "theme", None), dialogs=quiet)  # type: ignore[arg-type]
+    scratch = None if interactive else _scratch_settings()  # the user's settings untouched
+    window = MainWindow(
+        settings=scratch.settings if scratch else None,
+        theme=getattr(args, "theme", None),
+        dialogs=quiet,  # type: ignore[arg-type]
+    )
     if interactive:
         window.show()  # dialogs about the file below sit on a visible window
         window.offer_recovery()
@@ -160,6 +165,24 @@ def launch_app(args: argparse.Namespace) -> int:
         return _screenshot(app, window, Path(screenshot))
     window.show()
     return int(app.exec())
+
+
+class _ScratchSettings:
+    """Settings in a temporary folder for runs nobody watches (``--screenshot``, offscreen):
+    such a run neither reads nor writes the user's window layout, theme or recent files."""
+
+    def __init__(self) -> None:
+        import tempfile
+
+        from PySide6.QtCore import QSettings
+
+        self.folder = tempfile.TemporaryDirectory(prefix="arena-studio-settings-")
+        path = str(Path(self.folder.name) / "settings.ini")
+        self.settings = QSettings(path, QSettings.Format.IniFormat)
+
+
+def _scratch_settings() -> _ScratchSettings:
+    return _ScratchSettings()
 
 
 def _wants_moment(args: argparse.Namespace) -> bool:
