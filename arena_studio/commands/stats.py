@@ -9,6 +9,7 @@ import math
 import sys
 from typing import Any
 
+from arena_studio.commands import stats_messages
 from arena_studio.commands.arg_types import number
 from arena_studio.commands.common import (
     EXIT_OK,
@@ -67,6 +68,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument(
         "--parquet", metavar="OUT", default=None, help="also write the per-episode rows as Parquet"
     )
+    stats_messages.add_arguments(parser)
     parser.add_argument(
         "--strict",
         action="store_true",
@@ -111,6 +113,10 @@ def run(args: argparse.Namespace) -> int:
     if args.episode is not None and not 0 <= args.episode < len(tape):
         error_line(f"--episode {args.episode}: the tape has episodes 0..{len(tape) - 1}")
         return EXIT_UNREADABLE
+    problem = stats_messages.check_permutations(args.permutations)
+    if problem:
+        error_line(problem)
+        return EXIT_UNREADABLE
     indices = range(len(tape)) if args.episode is None else [args.episode]
     damaged: list[Any] = []
     try:
@@ -130,6 +136,14 @@ def run(args: argparse.Namespace) -> int:
     summary["damaged"] = len(damaged)
     summary["damaged_episodes"] = [d.to_dict() for d in damaged]
     summary["scene_hash_ok"] = tape.scene_hash_ok  # None: the tape stores no scene hash
+    try:
+        summary["messages"] = stats_messages.message_figures(tape, metrics, args.permutations)
+    except ArenaError as exc:
+        error_line(str(exc))
+        return EXIT_UNREADABLE
+    except KeyboardInterrupt:
+        error_line("interrupted")
+        return 130
     rows = _rows(metrics, damaged)
     if damaged:
         warning_line(_damage_warning(args.tape, damaged))
@@ -235,6 +249,8 @@ def _print_text(tape: Any, summary: dict[str, Any], rows: list[dict[str, Any]]) 
         out.write(f"  failures: {words}\n")
     if summary["damaged"]:
         out.write(f"  damaged: {summary['damaged']} episode(s), not counted above\n")
+    if summary.get("messages"):
+        stats_messages.print_messages(summary["messages"], out)
     out.write("\n  #  goal                           ok   time    par  aligned  diagnosis\n")
     for r in rows:
         if r["damage"]:

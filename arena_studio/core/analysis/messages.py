@@ -33,77 +33,34 @@ from arena_studio.core.analysis.information import (
     estimate,
 )
 from arena_studio.core.tape.episode import Episode
+from arena_studio.core.tape.message_format import (  # noqa: F401 (re-exported)
+    MAX_LIST,
+    MAX_TEXT,
+    Message,
+    parse_message,
+    value_text,
+)
 
-MAX_TEXT = 64  # characters of a text value
-MAX_LIST = 64  # integers of a list value
 #: a figure counts as shown when its permutation p-value is below this
 SIGNIFICANCE = 0.05
 
 
-@dataclass(frozen=True)
-class Message:
-    sender: str
-    receiver: str | None  # None: everyone
-    step: int | None  # None: before the episode
-    value: Hashable  # int, str or tuple of ints
-
-    def to_dict(self) -> dict[str, Any]:
-        value = list(self.value) if isinstance(self.value, tuple) else self.value
-        return {"from": self.sender, "to": self.receiver, "step": self.step, "value": value}
-
-
-def parse_message(raw: Any, agent_ids: Sequence[str], where: str) -> Message | None:
-    """A structured message, None for a free note (no ``value``); ValueError naming ``where``
-    and the field for a structured entry that breaks the rules."""
-    if not isinstance(raw, Mapping) or "value" not in raw:
-        return None
-    unknown = set(raw) - {"from", "to", "step", "value"}
-    if unknown:
-        raise ValueError(f"{where}: unknown message field {sorted(unknown)[0]!r}")
-    sender = raw.get("from")
-    if sender not in agent_ids:
-        raise ValueError(f"{where}.from: {sender!r} is not an agent id of the scene")
-    receiver = raw.get("to")
-    if receiver is not None and receiver not in agent_ids:
-        raise ValueError(f"{where}.to: {receiver!r} is not an agent id of the scene (nil: all)")
-    step = raw.get("step")
-    if step is not None and (isinstance(step, bool) or not isinstance(step, int) or step < 0):
-        raise ValueError(f"{where}.step: expected an integer >= 0 or nil, got {step!r}")
-    return Message(str(sender), receiver, step, _value(raw["value"], f"{where}.value"))
-
-
-def _value(value: Any, where: str) -> Hashable:
-    if isinstance(value, bool):
-        raise ValueError(f"{where}: expected an int, a short string or a list of ints")
-    if isinstance(value, int):
-        return value
-    if isinstance(value, str):
-        if len(value) > MAX_TEXT:
-            raise ValueError(f"{where}: text of {len(value)} characters (at most {MAX_TEXT})")
-        return value
-    if isinstance(value, list | tuple):
-        if len(value) > MAX_LIST or not all(
-            isinstance(v, int) and not isinstance(v, bool) for v in value
-        ):
-            raise ValueError(f"{where}: expected at most {MAX_LIST} integers")
-        return tuple(value)
-    raise ValueError(f"{where}: expected an int, a short string or a list of ints")
-
-
-def episode_messages(episode: Episode, agent_ids: Sequence[str]) -> list[Message]:
-    """The structured messages of an episode (free notes skipped)."""
+def episode_messages(
+    episode: Episode, agent_ids: Sequence[str], strict: bool = True
+) -> list[Message]:
+    """The structured messages of an episode (free notes skipped). ``strict=False`` skips a
+    broken entry (a tape from another writer) instead of raising, so the damage stays in it."""
     out = []
     for i, raw in enumerate(episode.messages):
-        msg = parse_message(raw, agent_ids, f"episode {episode.index} messages[{i}]")
+        try:
+            msg = parse_message(raw, agent_ids, f"episode {episode.index} messages[{i}]")
+        except ValueError:
+            if strict:
+                raise
+            continue
         if msg is not None:
             out.append(msg)
     return out
-
-
-def value_text(value: Hashable) -> str:
-    if isinstance(value, tuple):
-        return "[" + ",".join(str(v) for v in value) + "]"
-    return str(value)
 
 
 # -- per-tape report ---------------------------------------------------------------------
@@ -189,7 +146,7 @@ def message_report(
     adoption. Episodes whose speaker (or listener) has no pursued goal are left out of that
     speaker's (pair's) figures.
     """
-    parsed = [episode_messages(ep, agent_ids) for ep in episodes]
+    parsed = [episode_messages(ep, agent_ids, strict=False) for ep in episodes]
     goals = [
         [goal_label(g, landmark_ids) for g in ep.pursued_goals] + [None] * len(agent_ids)
         for ep in episodes
@@ -308,7 +265,7 @@ def explain_choice(
     """Sentences for a misaligned episode: what each speaker announced and whether each
     listener followed it ("rover-2 announced 3; rover-1 chose A although 3 usually means B")."""
     names = dict(name_of or {})
-    msgs = episode_messages(episode, agent_ids)
+    msgs = episode_messages(episode, agent_ids, strict=False)
     out = []
     for fig in report.speakers:
         said = announcement(msgs, fig.speaker, None)
