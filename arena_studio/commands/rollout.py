@@ -64,14 +64,14 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     )
     parser.add_argument(
         "--word-error",
-        type=float,
+        type=number(lim.SHARE),
         default=0.0,
         metavar="RATE",
         help="with --announce: share of announcements with a wrong word (default 0)",
     )
     parser.add_argument(
         "--adopt",
-        type=float,
+        type=number(lim.SHARE),
         default=1.0,
         metavar="P",
         help="with --announce: probability that each other agent takes the announced goal "
@@ -161,7 +161,4 @@ def _talk(args: argparse.Namespace, scene: Scene) -> MessageOptions | None:
         raise CommandError(f"--announce {args.announce!r}: not an agent of {args.scene}")
     if args.goals == "greedy":
         raise CommandError("--announce needs --goals shared or independent")
-    for name, value in (("--word-error", args.word_error), ("--adopt", args.adopt)):
-        if not 0 <= value <= 1:
-            raise CommandError(f"{name} {value:g}: expected a probability in [0, 1]")
     return MessageOptions(ids.index(args.announce), args.word_error, args.adopt)

@@ -113,10 +113,6 @@ def run(args: argparse.Namespace) -> int:
     if args.episode is not None and not 0 <= args.episode < len(tape):
         error_line(f"--episode {args.episode}: the tape has episodes 0..{len(tape) - 1}")
         return EXIT_UNREADABLE
-    problem = stats_messages.check_permutations(args.permutations)
-    if problem:
-        error_line(problem)
-        return EXIT_UNREADABLE
     indices = range(len(tape)) if args.episode is None else [args.episode]
     damaged: list[Any] = []
     try:

@@ -10,14 +10,16 @@ import argparse
 from collections.abc import Sequence
 from typing import Any, TextIO
 
+from arena_studio.commands.arg_types import number
+from arena_studio.core import limits as lim
+
 DEFAULT_PERMUTATIONS = 1000
-MAX_PERMUTATIONS = 100_000
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument(
         "--permutations",
-        type=int,
+        type=number(lim.PERMUTATIONS),
         default=DEFAULT_PERMUTATIONS,
         metavar="N",
         help="message figures: shuffles for the p-values and resamples for the intervals "
@@ -49,12 +51,6 @@ def message_figures(tape: Any, metrics: Sequence[Any], permutations: int) -> dic
     doc = report.to_dict()
     doc["permutations"] = permutations
     return doc
-
-
-def check_permutations(value: int) -> str | None:
-    if not 0 <= value <= MAX_PERMUTATIONS:
-        return f"--permutations {value}: expected 0..{MAX_PERMUTATIONS}"
-    return None
 
 
 def _mi(est: dict[str, Any]) -> str:
