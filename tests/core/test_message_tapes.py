@@ -181,3 +181,57 @@ def test_per_tape_figures_show_listening_on_the_followed_tape_only() -> None:
     assert followed["signalling:scout"] > 2 and ignored["signalling:scout"] > 2
     assert "adoption:scout->patrol-1" in followed
     assert "signalling" not in tape_figures(str(SCENES / "parking-level-shared.tape")).figures
+
+
+# -- importers -----------------------------------------------------------------------------
+def _episodes_csv(path) -> None:
+    rows = ["episode,step,agent,x,y,heading"]
+    for label in ("a", "b"):
+        for step in range(2):
+            rows += [f"{label},{step},r0,1,1,0", f"{label},{step},r1,2,1,0"]
+    path.write_text("\n".join(rows) + "\n", encoding="utf-8")
+
+
+def test_csv_import_takes_a_messages_file(tmp_path) -> None:
+    from arena_studio.core.tape.importers import import_csv
+
+    episodes, said, out = tmp_path / "e.csv", tmp_path / "m.csv", tmp_path / "o.tape"
+    _episodes_csv(episodes)
+    said.write_text(
+        "episode,from,to,step,value\nb,r0,,,7\nb,r1,r0,1,1;2\na,r1,,,go left\n", encoding="utf-8"
+    )
+    assert import_csv(episodes, box_scene(), out, messages=said) == 2
+    tape = open_tape(out)
+    assert tape.episode(0).messages[1:] == (
+        {"from": "r1", "to": None, "step": None, "value": "go left"},
+    )
+    assert tape.episode(1).messages[1:] == (
+        {"from": "r0", "to": None, "step": None, "value": 7},
+        {"from": "r1", "to": "r0", "step": 1, "value": [1, 2]},
+    )
+
+
+def test_a_bad_messages_row_names_file_line_and_field(tmp_path) -> None:
+    from arena_studio.core.import_rows import ImportFormatError
+    from arena_studio.core.tape.importers import import_csv
+
+    episodes, said = tmp_path / "e.csv", tmp_path / "m.csv"
+    _episodes_csv(episodes)
+    said.write_text("episode,from,to,step,value\na,r0,,,1\na,r7,,,1\n", encoding="utf-8")
+    with pytest.raises(ImportFormatError, match=r"m\.csv: line 3: message\.from: 'r7'"):
+        import_csv(episodes, box_scene(), tmp_path / "o.tape", messages=said)
+
+
+def test_npz_import_takes_a_messages_array(tmp_path) -> None:
+    from arena_studio.core.tape.importers import import_npz
+
+    src = tmp_path / "e.npz"
+    np.savez(src, poses=np.zeros((2, 3, 2, 3)), messages=np.array([[4, -1], [-1, 5]]))
+    assert import_npz(src, box_scene(), tmp_path / "o.tape") == 2
+    tape = open_tape(tmp_path / "o.tape")
+    assert list(tape.episode(0).messages) == [
+        {"from": "r0", "to": None, "step": None, "value": 4}
+    ]
+    assert list(tape.episode(1).messages) == [
+        {"from": "r1", "to": None, "step": None, "value": 5}
+    ]

@@ -14,7 +14,11 @@ NPZ (``numpy.savez``; loaded with ``allow_pickle=False``, so object arrays are r
 either ``poses`` (E, T, A, 3) for equal-length episodes, or ``poses_0``, ``poses_1``, ...
 (T_i, A, 3) per episode. Optional, matching: ``rewards`` (E, T, A) / ``rewards_<i>``,
 ``done`` (E, T, A) / ``done_<i>``, ``actions`` (E, T, A, K) / ``actions_<i>``,
-``team_goal`` (E, L) 0/1, ``pursued_goals`` (E, A, L) 0/1, and ``dt`` (a scalar, seconds).
+``team_goal`` (E, L) 0/1, ``pursued_goals`` (E, A, L) 0/1, ``messages`` (E, A) integers
+(what each agent said before the episode, -1 nothing) and ``dt`` (a scalar, seconds).
+
+Both take an optional messages CSV file (``messages=``; columns and rules in
+:mod:`.import_messages`), keyed by episode label (CSV) or index (NPZ).
 
 Errors name the file and the line and column (CSV) or the array (NPZ).
 """
@@ -42,6 +46,7 @@ from arena_studio.core.import_rows import (
 from arena_studio.core.safe_open import open_input
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape import TapeWriter
+from arena_studio.core.tape.import_messages import messages_of_array, read_messages_csv
 from arena_studio.core.value_limits import DT_MAX, DT_MIN
 
 REQUIRED = ("episode", "step", "agent", "x", "y", "heading")
@@ -93,6 +98,7 @@ def import_csv(
     advance: Callable[[int], None] | None = None,
     keep_partial: bool = False,
     skipped: list[str] | None = None,
+    messages: str | Path | None = None,
 ) -> int:
     """Convert a long-format CSV file into the tape ``out``; returns the episode count.
 
@@ -160,13 +166,14 @@ def import_csv(
         ready.append((ep, arrays, pursued))
     if not ready:
         raise ImportFormatError(f"{src}: no data rows" + (" left" if skipped else ""))
+    said = read_messages_csv(messages, agent_ids) if messages is not None else {}
     meta = {"generator": "arena-studio import csv", "source": Path(src).name}
     with TapeWriter(out, scene, dt=dt, metadata=meta, keep_partial=keep_partial) as writer:
         for ep, arrays, pursued in ready:
             writer.begin_episode(
                 pursued_goals=pursued if any(g is not None for g in pursued) else None,
                 roles=arrays["roles"],
-                messages=[{"episode": ep.label}],
+                messages=[{"episode": ep.label}, *said.get(ep.label, [])],
             )
             writer.steps(arrays["poses"], rewards=arrays["rewards"])
             writer.end_episode()
@@ -338,6 +345,7 @@ def import_npz(
     advance: Callable[[int], None] | None = None,
     keep_partial: bool = False,
     skipped: list[str] | None = None,
+    messages: str | Path | None = None,
 ) -> int:
     """Convert an ``.npz`` file (array names in the module docstring) into a tape; with a
     ``skipped`` list an episode whose poses are not finite or out of range is described
@@ -410,6 +418,17 @@ def import_npz(
             raise ImportFormatError(f"{src}: array team_goal: expected ({count}, {n_lm})")
         if pursued is not None and pursued.shape != (count, a, n_lm):
             raise ImportFormatError(f"{src}: array pursued_goals: expected ({count}, {a}, {n_lm})")
+        ids = [ag.id for ag in scene.agents]
+        said = [[] for _ in range(count)] if "messages" not in names else messages_of_array(
+            src, load("messages"), count, ids
+        )
+        if messages is not None:
+            for label, entries in read_messages_csv(messages, ids).items():
+                if not (label.isdigit() and int(label) < count):
+                    raise ImportFormatError(
+                        f"{messages}: episode {label!r}: expected an episode index 0..{count - 1}"
+                    )
+                said[int(label)].extend(entries)
         meta = {"generator": "arena-studio import npz", "source": Path(src).name}
         left_out = 0
         with TapeWriter(out, scene, dt=step, metadata=meta, keep_partial=keep_partial) as w:
@@ -431,6 +450,7 @@ def import_npz(
                     w.begin_episode(
                         team_goal=None if team is None else team[i],
                         pursued_goals=None if pursued is None else list(pursued[i]),
+                        messages=said[i],
                     )
                     w.steps(
                         poses,
