@@ -235,3 +235,22 @@ def test_npz_import_takes_a_messages_array(tmp_path) -> None:
     assert list(tape.episode(1).messages) == [
         {"from": "r1", "to": None, "step": None, "value": 5}
     ]
+
+
+def test_readme_documents_the_structure_and_its_error_line_is_the_writers(tmp_path) -> None:
+    from tests.conftest import REPO
+
+    readme = (REPO / "README.md").read_text(encoding="utf-8")
+    section = readme[readme.index("### Messages") : readme.index("`rollout` goal modes")]
+    for key in ('"from"', '"to"', '"step"', '"value"'):
+        assert key in section
+    scene = box_scene()
+    with TapeWriter(tmp_path / "run.tape", scene, dt=0.5, keep_partial=False) as w:
+        for _ in range(4):
+            w.begin_episode(team_goal=[1, 0, 0])
+            w.steps(np.zeros((1, 2, 3)))
+            w.end_episode()
+        with pytest.raises(TapeError) as err:
+            w.begin_episode(messages=[{"from": "rover-9", "to": None, "step": None, "value": 1}])
+    shown = str(err.value).replace(str(tmp_path / "run.tape"), "run.tape")
+    assert f"(`{shown}`)" in section.replace("\n", " ")
