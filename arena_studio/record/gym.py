@@ -36,8 +36,8 @@ from arena_studio.record.sources import (
     channel_value,
     goal_vector,
     match_agents,
-    per_agent,
     message_list,
+    per_agent,
     pursued_vectors,
     resolve,
 )
@@ -63,8 +63,9 @@ def agent_names(env: Any, scene: Scene, agent_ids: Mapping[str, str] | None) -> 
 class RecordEnv(gymnasium.Wrapper):
     """A Gymnasium environment that also writes its episodes to tapes.
 
-    ``poses``, ``team_goal``, ``pursued_goals``, ``messages`` and ``channels`` are callables on the wrapped
-    environment or keys of the ``info`` dict, as for :class:`RecordParallelEnv`.
+    ``poses``, ``team_goal``, ``pursued_goals``, ``messages`` and ``channels`` are callables
+    on the wrapped environment or keys of the ``info`` dict, as for
+    :class:`RecordParallelEnv`.
     """
 
     def __init__(

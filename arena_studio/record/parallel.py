@@ -31,8 +31,8 @@ from arena_studio.record.sources import (
     channel_value,
     goal_vector,
     match_agents,
-    per_agent,
     message_list,
+    per_agent,
     pursued_vectors,
     resolve,
 )

@@ -20,7 +20,9 @@ MAX_EVENTS = 5000  # beyond this the timeline would be a solid bar; keep the fir
 def episode_event_marks(
     scene: Scene, episode: Episode, metrics: Any = None
 ) -> tuple[EventMark, ...]:
-    marks = message_marks(scene, episode) + event_marks(scene, episode_events(scene, episode, metrics))
+    marks = message_marks(scene, episode) + event_marks(
+        scene, episode_events(scene, episode, metrics)
+    )
     return marks[:MAX_EVENTS]
 
 

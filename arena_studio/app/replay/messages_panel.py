@@ -50,7 +50,9 @@ def value_order(values: tuple[str, ...]) -> list[int]:
     return sorted(range(len(values)), key=key)
 
 
-def goal_order(goals: tuple[str, ...], values: tuple[str, ...], meaning: dict[str, str]) -> list[int]:
+def goal_order(
+    goals: tuple[str, ...], values: tuple[str, ...], meaning: dict[str, str]
+) -> list[int]:
     """Row order: each goal at the place of the first value that means it, so a word that
     names its goal shows as a diagonal; goals no value means come last."""
     place = {}
@@ -72,8 +74,12 @@ class HeatMap(QWidget):
         self.setSizePolicy(QSizePolicy.Policy.Preferred, QSizePolicy.Policy.Fixed)
 
     def set_table(
-        self, goals: tuple[str, ...], values: tuple[str, ...], counts: Any,
-        meaning: dict[str, str], axis: str,
+        self,
+        goals: tuple[str, ...],
+        values: tuple[str, ...],
+        counts: Any,
+        meaning: dict[str, str],
+        axis: str,
     ) -> None:
         """``counts[value][goal]`` as the report stores it; drawn goals x values."""
         cols = value_order(values)
@@ -112,17 +118,25 @@ class HeatMap(QWidget):
         fm = p.fontMetrics()
         cw = self.cell_width(fm)
         p.setPen(t.qcolor("text_muted"))
-        p.drawText(QRectF(4, 0, self.width() - 8, CELL), Qt.AlignmentFlag.AlignLeft,
-                   fm.elidedText(self.axis, Qt.TextElideMode.ElideRight, self.width() - 8))
+        p.drawText(
+            QRectF(4, 0, self.width() - 8, CELL),
+            Qt.AlignmentFlag.AlignLeft,
+            fm.elidedText(self.axis, Qt.TextElideMode.ElideRight, self.width() - 8),
+        )
         for j, v in enumerate(self.cols):
-            p.drawText(QRectF(HEAD_W + j * cw, CELL, cw, CELL), Qt.AlignmentFlag.AlignCenter,
-                       fm.elidedText(v, Qt.TextElideMode.ElideRight, int(cw)))
+            p.drawText(
+                QRectF(HEAD_W + j * cw, CELL, cw, CELL),
+                Qt.AlignmentFlag.AlignCenter,
+                fm.elidedText(v, Qt.TextElideMode.ElideRight, int(cw)),
+            )
         for i, goal in enumerate(self.rows):
             y = CELL * (i + 2)
             p.setPen(t.qcolor("text"))
-            p.drawText(QRectF(2, y, HEAD_W - 6, CELL),
-                       Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter,
-                       fm.elidedText(goal, Qt.TextElideMode.ElideMiddle, int(HEAD_W - 8)))
+            p.drawText(
+                QRectF(2, y, HEAD_W - 6, CELL),
+                Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter,
+                fm.elidedText(goal, Qt.TextElideMode.ElideMiddle, int(HEAD_W - 8)),
+            )
             for j, n in enumerate(self.counts[i]):
                 rect = QRectF(HEAD_W + j * cw + 0.5, y + 0.5, cw - 1, CELL - 1)
                 fill = ramp(t, n / top) if top and n else t.qcolor("room_fill").darker(104)
@@ -199,11 +213,25 @@ class MessagesPanel(QWidget):
         )
         at = self.layout_.count() - 1  # before the stretch
         for s in report.speakers:
-            at = self._card(at, self._speaker_text(s), s.goals, s.values, s.counts, s.meaning,
-                            f"columns: what {s.speaker} said; rows: {s.speaker}'s own goal")
+            at = self._card(
+                at,
+                self._speaker_text(s),
+                s.goals,
+                s.values,
+                s.counts,
+                s.meaning,
+                f"columns: what {s.speaker} said; rows: {s.speaker}'s own goal",
+            )
             for pair in (p for p in report.pairs if p.speaker == s.speaker):
-                at = self._card(at, self._pair_text(pair), pair.goals, pair.values, pair.counts,
-                                s.meaning, f"columns: what {pair.listener} heard; rows: the goal it chose")
+                at = self._card(
+                    at,
+                    self._pair_text(pair),
+                    pair.goals,
+                    pair.values,
+                    pair.counts,
+                    s.meaning,
+                    f"columns: what {pair.listener} heard; rows: the goal it chose",
+                )
 
     def _card(self, at: int, text: str, goals, values, counts, meaning, axis: str) -> int:
         label = self._label()
@@ -219,8 +247,10 @@ class MessagesPanel(QWidget):
         e = s.signalling
         share = "" if e.normalised is None else f", {e.normalised:.0%} of its goal's uncertainty"
         clear = "carries" if e.p_value < 0.05 else "does not clearly carry"
-        ci = "" if s.context_independence is None else (
-            f" Context independence {s.context_independence:.2f}."
+        ci = (
+            ""
+            if s.context_independence is None
+            else (f" Context independence {s.context_independence:.2f}.")
         )
         return (
             f"<p><b>{html.escape(s.speaker)}'s announcement {clear} its goal</b>: "
@@ -229,9 +259,7 @@ class MessagesPanel(QWidget):
 
     def _pair_text(self, p: PairFigures) -> str:
         err = self.theme.hex("error")[:7]
-        flag = (
-            f" <b style='color:{err}'>{html.escape(p.flag.capitalize())}.</b>" if p.flag else ""
-        )
+        flag = f" <b style='color:{err}'>{html.escape(p.flag.capitalize())}.</b>" if p.flag else ""
         adopted = "-" if p.adoption is None else f"{p.adoption:.0%}"
         rates = ""
         if p.success_adopted is not None or p.success_not_adopted is not None:
@@ -262,7 +290,11 @@ class MessagesPanel(QWidget):
             to = "everyone" if m.receiver is None else m.receiver
             when = "before the episode" if m.step is None else f"at step {m.step}"
             usual = None if self.report is None else self.report.meaning_of(m.sender, m.value)
-            means = f" \u2014 across the tape it usually means <b>{html.escape(usual)}</b>" if usual else ""
+            means = (
+                f" \u2014 across the tape it usually means <b>{html.escape(usual)}</b>"
+                if usual
+                else ""
+            )
             line = (
                 f"<b>{html.escape(m.sender)}</b> to {html.escape(to)}, {when}: "
                 f"<b>{html.escape(value_text(m.value))}</b>{means}."
@@ -272,7 +304,9 @@ class MessagesPanel(QWidget):
             rows.append(f"<li>{line}</li>")
         return head + "<ul style='margin-left:-20px'>" + "".join(rows) + "</ul>"
 
-    def _choices(self, episode: Any, ids: list[str], lms: list[str], m: Any, usual: str | None) -> str:
+    def _choices(
+        self, episode: Any, ids: list[str], lms: list[str], m: Any, usual: str | None
+    ) -> str:
         parts = []
         for a, agent in enumerate(ids):
             goal = episode.pursued_goals[a] if a < len(episode.pursued_goals) else None

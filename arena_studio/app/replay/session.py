@@ -9,8 +9,8 @@ worker thread; the newest selection wins.
 from __future__ import annotations
 
 import contextlib
-from dataclasses import dataclass
 from collections.abc import Callable, Iterator
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 

@@ -4,7 +4,8 @@ Two lanes: the upper lane holds team-level events (success, diagnosis, collision
 lane holds per-agent events in the agent's identity colour (target reached: filled wedge up;
 target left: open wedge down; role change: short bar). The diagnosis is a flag across both
 lanes so the moment the team lost its chance stands out. A message is a small speech bubble
-in the speaker's colour in the upper lane (at the start when said before the episode). Press or drag anywhere to seek.
+in the speaker's colour in the upper lane (at the start when said before the episode).
+Press or drag anywhere to seek.
 """
 
 from __future__ import annotations

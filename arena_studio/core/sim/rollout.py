@@ -27,15 +27,17 @@ runs``): ``skill`` in (0, 1] scales every agent's top speed and turn rate to
 ``MIN_PACE + (1 - MIN_PACE) * skill`` of its own (1 = full speed), so with ``par_limit`` less
 skilled teams run out of time more often; ``shared_share`` in [0, 1] makes each episode
 ``shared`` with that probability and ``independent`` otherwise (a separate random stream,
-``default_rng([seed, i, 1])``, so the episodes' own draws are unchanged). Message options (:class:`MessageOptions`) add an announcement before each episode: one agent
+``default_rng([seed, i, 1])``, so the episodes' own draws are unchanged).
+
+Message options (:class:`MessageOptions`) add an announcement before each episode: one agent
 (the speaker) pursues the team goal and tells everyone a code word for it from a fixed code
 book (goal ``g`` -> :func:`code_word`), with probability ``error`` a wrong word instead; every
 other agent adopts the goal the word stands for with probability ``adopt`` and otherwise keeps
 the goal it drew itself (as in ``independent`` mode). Those draws use their own stream,
-``default_rng([seed, i, 2])``. Episode ``i``
-uses ``numpy.random.default_rng([seed, i])``, so any
-episode can be regenerated alone. What "the same again" means: with the same inputs, package
-versions and machine, a run writes a byte-identical tape. Across numpy/scipy/shapely versions
+``default_rng([seed, i, 2])``.
+
+Episode ``i`` uses ``numpy.random.default_rng([seed, i])``, so any episode can be
+regenerated alone. What "the same again" means: with the same inputs, package versions and machine, a run writes a byte-identical tape. Across numpy/scipy/shapely versions
 and CPUs (whose SIMD paths round differently) the floating-point results may differ in the
 last bits, so a regenerated run is the same in meaning only: the same episodes, goals,
 outcomes, diagnoses and step counts, every pose within :data:`REGENERATED_POSE_TOLERANCE`.

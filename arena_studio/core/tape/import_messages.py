@@ -29,7 +29,9 @@ from arena_studio.core.tape.message_format import FIELDS, parse_message
 COLUMNS = ("episode", *FIELDS)
 
 
-def read_messages_csv(path: str | Path, agent_ids: Sequence[str]) -> dict[str, list[dict[str, Any]]]:
+def read_messages_csv(
+    path: str | Path, agent_ids: Sequence[str]
+) -> dict[str, list[dict[str, Any]]]:
     """Episode label -> its messages in file order."""
     src = str(path)
     out: dict[str, list[dict[str, Any]]] = {}
@@ -52,7 +54,9 @@ def read_messages_csv(path: str | Path, agent_ids: Sequence[str]) -> dict[str, l
                     continue
                 line = reader.line_num
                 if len(row) < len(header):
-                    raise ImportFormatError(f"{src}: line {line}: {len(row)} cells, expected {len(header)}")
+                    raise ImportFormatError(
+                        f"{src}: line {line}: {len(row)} cells, expected {len(header)}"
+                    )
                 cell = {c: row[i].strip() for c, i in col.items()}
                 entry = {
                     "from": cell["from"],
@@ -73,7 +77,10 @@ def _step(src: str, line: int, text: str) -> int | None:
     try:
         return int(text)
     except ValueError:
-        raise ImportFormatError(f"{src}: line {line}: column step: expected a whole number or nothing, got {text[:40]!r}") from None
+        raise ImportFormatError(
+            f"{src}: line {line}: column step: expected a whole number or nothing, "
+            f"got {text[:40]!r}"
+        ) from None
 
 
 def _value(text: str) -> Any:

@@ -32,7 +32,6 @@ from typing import Any, BinaryIO
 import numpy as np
 
 from arena_studio.core.scene.model import Scene
-from arena_studio.core.tape.message_format import parse_message
 from arena_studio.core.tape.format import (
     FORMAT_NAME,
     FORMAT_VERSION,
@@ -49,6 +48,7 @@ from arena_studio.core.tape.format import (
     frame,
     pack,
 )
+from arena_studio.core.tape.message_format import parse_message
 
 DEFAULT_CHUNK_STEPS = 1024
 
