@@ -37,8 +37,8 @@ the goal it drew itself (as in ``independent`` mode). Those draws use their own 
 ``default_rng([seed, i, 2])``.
 
 Episode ``i`` uses ``numpy.random.default_rng([seed, i])``, so any episode can be
-regenerated alone. What "the same again" means: with the same inputs, package versions and machine, a run writes a byte-identical tape. Across numpy/scipy/shapely versions
-and CPUs (whose SIMD paths round differently) the floating-point results may differ in the
+regenerated alone. What "the same again" means: with the same inputs, package versions and
+machine, a run writes a byte-identical tape. Across numpy/scipy/shapely versions and CPUs (whose SIMD paths round differently) the floating-point results may differ in the
 last bits, so a regenerated run is the same in meaning only: the same episodes, goals,
 outcomes, diagnoses and step counts, every pose within :data:`REGENERATED_POSE_TOLERANCE`.
 """
