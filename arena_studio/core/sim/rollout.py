@@ -38,9 +38,10 @@ the goal it drew itself (as in ``independent`` mode). Those draws use their own 
 
 Episode ``i`` uses ``numpy.random.default_rng([seed, i])``, so any episode can be
 regenerated alone. What "the same again" means: with the same inputs, package versions and
-machine, a run writes a byte-identical tape. Across numpy/scipy/shapely versions and CPUs (whose SIMD paths round differently) the floating-point results may differ in the
-last bits, so a regenerated run is the same in meaning only: the same episodes, goals,
-outcomes, diagnoses and step counts, every pose within :data:`REGENERATED_POSE_TOLERANCE`.
+machine, a run writes a byte-identical tape. Across numpy/scipy/shapely versions and CPUs
+(whose SIMD paths round differently) the floating-point results may differ in the last bits,
+so a regenerated run is the same in meaning only: the same episodes, goals, outcomes,
+diagnoses and step counts, every pose within :data:`REGENERATED_POSE_TOLERANCE`.
 """
 
 from __future__ import annotations
