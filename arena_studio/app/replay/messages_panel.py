@@ -92,11 +92,16 @@ class HeatMap(QWidget):
         self.updateGeometry()
         self.update()
 
-    def cell_width(self, fm: Any) -> float:
+    def head_width(self, fm: Any) -> float:
+        """Room for the goal names: their longest, at most HEAD_W and 40% of the width."""
+        text = max((fm.horizontalAdvance(g) for g in self.rows), default=0) + 10
+        return float(max(min(text, HEAD_W, 0.4 * self.width()), 40.0))
+
+    def cell_width(self, fm: Any, head: float) -> float:
         """Wide enough for the longest value (up to 4 cells), narrower only when space is short."""
         text = max((fm.horizontalAdvance(v) for v in self.cols), default=0) + 6
         want = min(max(CELL, text), 4 * CELL)
-        room = (self.width() - HEAD_W - 6) / max(len(self.cols), 1)
+        room = (self.width() - head - 6) / max(len(self.cols), 1)
         return max(min(want, room), 9.0)
 
     def sizeHint(self) -> QSize:
@@ -116,29 +121,30 @@ class HeatMap(QWidget):
         font.setPointSizeF(max(font.pointSizeF() * 0.85, 7.0))
         p.setFont(font)
         fm = p.fontMetrics()
-        cw = self.cell_width(fm)
+        head = self.head_width(fm)
+        cw = self.cell_width(fm, head)
         p.setPen(t.qcolor("text_muted"))
         p.drawText(
             QRectF(4, 0, self.width() - 8, CELL),
             Qt.AlignmentFlag.AlignLeft,
             fm.elidedText(self.axis, Qt.TextElideMode.ElideRight, self.width() - 8),
         )
-        for j, v in enumerate(self.cols):
+        for j, v in enumerate(self.cols):  # a value a little wider than its cell still shows
             p.drawText(
-                QRectF(HEAD_W + j * cw, CELL, cw, CELL),
+                QRectF(head + j * cw - 3, CELL, cw + 6, CELL),
                 Qt.AlignmentFlag.AlignCenter,
-                fm.elidedText(v, Qt.TextElideMode.ElideRight, int(cw)),
+                fm.elidedText(v, Qt.TextElideMode.ElideRight, int(cw + 6)),
             )
         for i, goal in enumerate(self.rows):
             y = CELL * (i + 2)
             p.setPen(t.qcolor("text"))
             p.drawText(
-                QRectF(2, y, HEAD_W - 6, CELL),
+                QRectF(2, y, head - 6, CELL),
                 Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter,
-                fm.elidedText(goal, Qt.TextElideMode.ElideMiddle, int(HEAD_W - 8)),
+                fm.elidedText(goal, Qt.TextElideMode.ElideMiddle, int(head - 8)),
             )
             for j, n in enumerate(self.counts[i]):
-                rect = QRectF(HEAD_W + j * cw + 0.5, y + 0.5, cw - 1, CELL - 1)
+                rect = QRectF(head + j * cw + 0.5, y + 0.5, cw - 1, CELL - 1)
                 fill = ramp(t, n / top) if top and n else t.qcolor("room_fill").darker(104)
                 p.fillRect(rect, fill)
                 if n:
@@ -207,9 +213,9 @@ class MessagesPanel(QWidget):
             self.tape_label.setText("")
             return
         self.tape_label.setText(
-            "<h3>Across the tape</h3><p>In each map a diagonal means: the word names the "
-            "speaker's goal (first map), or the listener took the goal the word names "
-            "(the others). Scattered counts: no such link.</p>"
+            "<h3>Across the tape</h3>" + self.glance(report) + "<p>In each map below a "
+            "diagonal means: the word names the speaker's goal (first map), or the listener "
+            "took the goal the word names (the others). Scattered counts: no such link.</p>"
         )
         at = self.layout_.count() - 1  # before the stretch
         for s in report.speakers:
@@ -232,6 +238,26 @@ class MessagesPanel(QWidget):
                     s.meaning,
                     f"columns: what {pair.listener} heard; rows: the goal it chose",
                 )
+
+    def glance(self, report: MessageReport) -> str:
+        """One line per speaker and pair: the verdict in words, before any figure."""
+        err = self.theme.hex("error")[:7]
+        lines = []
+        for sp in report.speakers:
+            clear = sp.signalling.p_value < 0.05
+            lines.append(
+                f"{html.escape(sp.speaker)}'s word "
+                + ("<b>names its goal</b>" if clear else "does not clearly name its goal")
+            )
+        for p in report.pairs:
+            took = "-" if p.adoption is None else f"{p.adoption:.0%}"
+            verdict = (
+                f"<b style='color:{err}'>{html.escape(p.flag)}</b>"
+                if p.flag
+                else ("follows it" if p.listening.p_value < 0.05 else "shows no link")
+            )
+            lines.append(f"{html.escape(p.listener)} {verdict} (took the announced goal {took})")
+        return "<p>" + "<br>".join(lines) + "</p>"
 
     def _card(self, at: int, text: str, goals, values, counts, meaning, axis: str) -> int:
         label = self._label()
