@@ -133,7 +133,12 @@ def run(args: argparse.Namespace) -> int:
     summary["damaged_episodes"] = [d.to_dict() for d in damaged]
     summary["scene_hash_ok"] = tape.scene_hash_ok  # None: the tape stores no scene hash
     try:
-        summary["messages"] = stats_messages.message_figures(tape, metrics, args.permutations)
+        # figures across episodes: one episode (--episode) says nothing about them
+        summary["messages"] = (
+            stats_messages.message_figures(tape, metrics, args.permutations)
+            if args.episode is None
+            else None
+        )
     except ArenaError as exc:
         error_line(str(exc))
         return EXIT_UNREADABLE
