@@ -42,6 +42,7 @@ def message_figures(tape: Any, metrics: Sequence[Any], permutations: int) -> dic
         [a.id for a in tape.scene.agents],
         [lm.id for lm in tape.scene.landmarks],
         successes=[bool(m.success) for m in metrics],
+        aligned=[bool(m.aligned) for m in metrics],
         permutations=permutations,
         resamples=permutations,
         seed=0,
@@ -80,6 +81,7 @@ def print_messages(doc: dict[str, Any], out: TextIO) -> None:
         flag = f"  -> {p['flag']}" if p["flag"] else ""
         out.write(
             f"    {p['speaker']} -> {p['listener']}: choice follows {_mi(p['listening'])}; "
-            f"adopted {_pct(p['adoption'])}, success when adopted "
-            f"{_pct(p['success_adopted'])}, otherwise {_pct(p['success_not_adopted'])}{flag}\n"
+            f"adopted {_pct(p['adoption'])}; when adopted: aligned {_pct(p['aligned_adopted'])}"
+            f", success {_pct(p['success_adopted'])}; otherwise: aligned "
+            f"{_pct(p['aligned_not_adopted'])}, success {_pct(p['success_not_adopted'])}{flag}\n"
         )

@@ -254,3 +254,25 @@ def test_readme_documents_the_structure_and_its_error_line_is_the_writers(tmp_pa
             w.begin_episode(messages=[{"from": "rover-9", "to": None, "step": None, "value": 1}])
     shown = str(err.value).replace(str(tmp_path / "run.tape"), "run.tape")
     assert f"(`{shown}`)" in section.replace("\n", " ")
+
+
+def test_alignment_and_success_split_by_adoption_match_a_count_by_hand() -> None:
+    from arena_studio.core.analysis.metrics import episode_metrics
+
+    tape = open_tape(SCENES / "parking-level-followed.tape")
+    eps = list(tape)
+    ids = [a.id for a in tape.scene.agents]
+    lms = [lm.id for lm in tape.scene.landmarks]
+    ms = [episode_metrics(tape.scene, ep) for ep in eps]
+    report = message_report(eps, ids, lms, successes=[m.success for m in ms],
+                            aligned=[m.aligned is True for m in ms], permutations=0,
+                            resamples=0)  # fmt: skip
+    pair = next(p for p in report.pairs if p.listener == "patrol-2")
+    meaning = report.speakers[0].meaning
+    # by hand: an episode "adopted" when patrol-2's goal is what the scout's word usually means
+    took = [meaning[str(ep.messages[0]["value"])] == "+".join(
+        lms[i] for i in np.flatnonzero(ep.pursued_goals[1])) for ep in eps]  # fmt: skip
+    kept = [m for m, t in zip(ms, took, strict=True) if t]
+    assert pair.adoption == pytest.approx(sum(took) / len(eps))
+    assert pair.aligned_adopted == pytest.approx(np.mean([m.aligned is True for m in kept]))
+    assert pair.success_adopted == pytest.approx(np.mean([m.success for m in kept]))

@@ -290,8 +290,9 @@ class MessagesPanel(QWidget):
         rates = ""
         if p.success_adopted is not None or p.success_not_adopted is not None:
             rates = (
-                f" Success when it did: {_pct(p.success_adopted)}, "
-                f"when it did not: {_pct(p.success_not_adopted)}."
+                f" When it did: aligned {_pct(p.aligned_adopted)}, success "
+                f"{_pct(p.success_adopted)}; when it did not: aligned "
+                f"{_pct(p.aligned_not_adopted)}, success {_pct(p.success_not_adopted)}."
             )
         return (
             f"<p><b>{html.escape(p.listener)} listening to {html.escape(p.speaker)}</b>:"

@@ -37,6 +37,7 @@ class MessageInput:
     messages: tuple[Any, ...]
     pursued_goals: Any
     success: bool
+    aligned: bool
 
 
 def _metrics_for(scene: Scene, episode: Episode) -> Any:
@@ -174,7 +175,8 @@ class ReplaySession(QObject):
                     )
                 if episode.messages:
                     self.message_inputs[i] = MessageInput(
-                        i, episode.messages, episode.pursued_goals, bool(row.success)
+                        i, episode.messages, episode.pursued_goals, bool(row.success),
+                        row.aligned is True,
                     )
                 yield row
 
@@ -219,6 +221,7 @@ class ReplaySession(QObject):
                 [a.id for a in scene.agents],
                 [lm.id for lm in scene.landmarks],
                 successes=[m.success for m in inputs],
+                aligned=[m.aligned for m in inputs],
                 permutations=REPORT_PERMUTATIONS,
                 resamples=REPORT_PERMUTATIONS,
             )

@@ -89,6 +89,8 @@ class PairFigures:
     success_adopted: float | None
     success_not_adopted: float | None
     flag: str | None  # plain words: "informative but ignored", "followed but uninformative"
+    aligned_adopted: float | None = None  # share of aligned episodes when it adopted
+    aligned_not_adopted: float | None = None
 
 
 @dataclass(frozen=True)
@@ -139,10 +141,13 @@ def message_report(
     permutations: int = 1000,
     resamples: int = 1000,
     seed: int = 0,
+    aligned: Sequence[bool] | None = None,
 ) -> MessageReport:
     """Signalling per speaker and listening per speaker-listener pair over a tape's episodes.
 
-    ``successes[i]`` (optional) is whether episode ``i`` succeeded, for success conditioned on
+    ``aligned[i]`` (optional) is whether episode ``i``'s agents pursued one goal, for
+    alignment conditioned on adoption. ``successes[i]`` (optional) is whether episode ``i``
+    succeeded, for success conditioned on
     adoption. Episodes whose speaker (or listener) has no pursued goal are left out of that
     speaker's (pair's) figures.
     """
@@ -169,8 +174,8 @@ def message_report(
             if listener == speaker:
                 continue
             pair = _pair_figures(
-                fig, listener, parsed, goals, list(agent_ids).index(listener), successes,
-                permutations, resamples, seed + 1000 * (s_idx + 1),
+                fig, listener, parsed, goals, list(agent_ids).index(listener),
+                (successes, aligned), permutations, resamples, seed + 1000 * (s_idx + 1),
             )
             if pair is not None:
                 pair_figs.append(pair)
@@ -204,12 +209,13 @@ def _pair_figures(
     parsed: list[list[Message]],
     goals: list[list[str | None]],
     l_idx: int,
-    successes: Sequence[bool] | None,
+    outcomes: tuple[Sequence[bool] | None, Sequence[bool] | None],
     permutations: int,
     resamples: int,
     seed: int,
 ) -> PairFigures | None:
-    values, chosen, adopted, success = [], [], [], []
+    successes, aligned = outcomes
+    values, chosen, adopted, success, align = [], [], [], [], []
     for e, msgs in enumerate(parsed):
         m = announcement(msgs, speaker.speaker, listener)
         goal = goals[e][l_idx]
@@ -221,6 +227,8 @@ def _pair_figures(
         adopted.append(speaker.meaning.get(text) == goal)
         if successes is not None:
             success.append(bool(successes[e]))
+        if aligned is not None:
+            align.append(bool(aligned[e]))
     if not values:
         return None
     table, value_labels, goal_labels = contingency(values, chosen)
@@ -237,6 +245,8 @@ def _pair_figures(
         success_adopted=_rate(success, adopted, True),
         success_not_adopted=_rate(success, adopted, False),
         flag=_flag(speaker.signalling, listening),
+        aligned_adopted=_rate(align, adopted, True),
+        aligned_not_adopted=_rate(align, adopted, False),
     )
 
 
