@@ -276,3 +276,11 @@ def test_alignment_and_success_split_by_adoption_match_a_count_by_hand() -> None
     assert pair.adoption == pytest.approx(sum(took) / len(eps))
     assert pair.aligned_adopted == pytest.approx(np.mean([m.aligned is True for m in kept]))
     assert pair.success_adopted == pytest.approx(np.mean([m.success for m in kept]))
+
+
+def test_runs_lists_the_message_figures_for_plotting() -> None:
+    from arena_studio.core.runs.analysis import Run, metric_names
+
+    fig = tape_figures(str(SCENES / "parking-level-ignored.tape"))
+    names = metric_names([Run(None, fig)])  # type: ignore[arg-type]
+    assert {"signalling", "listening", "adoption", "signalling:scout"} <= set(names)

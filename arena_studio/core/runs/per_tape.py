@@ -49,6 +49,8 @@ BASE_FIGURES = (
     "damaged",
     "episodes",
 )
+#: tape-wide message figures (only on tapes with structured messages)
+MESSAGE_FIGURES = ("signalling", "listening", "adoption")
 
 
 @dataclass
@@ -197,4 +199,11 @@ def group_figures(paths: list[str]) -> list[dict[str, Any]]:
     return [tape_figures(p).to_dict() for p in paths]
 
 
-__all__ = ["BASE_FIGURES", "TapeFigures", "figures_of_summary", "group_figures", "tape_figures"]
+__all__ = [
+    "BASE_FIGURES",
+    "MESSAGE_FIGURES",
+    "TapeFigures",
+    "figures_of_summary",
+    "group_figures",
+    "tape_figures",
+]
