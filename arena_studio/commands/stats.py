@@ -134,11 +134,12 @@ def run(args: argparse.Namespace) -> int:
     summary["scene_hash_ok"] = tape.scene_hash_ok  # None: the tape stores no scene hash
     try:
         # figures across episodes: one episode (--episode) says nothing about them
-        summary["messages"] = (
-            stats_messages.message_figures(tape, metrics, args.permutations)
-            if args.episode is None
-            else None
-        )
+        summary["messages"] = None
+        if args.episode is None and args.permutations > 0:
+            with progress_bar(len(metrics), "messages", args.quiet) as bar:
+                summary["messages"] = stats_messages.message_figures(
+                    tape, metrics, args.permutations, advance=bar.advance
+                )
     except ArenaError as exc:
         error_line(str(exc))
         return EXIT_UNREADABLE

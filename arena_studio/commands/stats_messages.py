@@ -7,7 +7,7 @@ permutations (``--permutations``, default 1,000) and as many bootstrap resamples
 from __future__ import annotations
 
 import argparse
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from typing import Any, TextIO
 
 from arena_studio.commands.arg_types import number
@@ -27,14 +27,23 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     )
 
 
-def message_figures(tape: Any, metrics: Sequence[Any], permutations: int) -> dict[str, Any] | None:
+def message_figures(
+    tape: Any,
+    metrics: Sequence[Any],
+    permutations: int,
+    advance: Callable[[int], None] | None = None,
+) -> dict[str, Any] | None:
     """The report as plain data over the measured episodes, None when no episode has
-    structured messages (or ``permutations`` is 0)."""
+    structured messages (or ``permutations`` is 0). ``advance(1)`` after each episode read."""
     from arena_studio.core.analysis.messages import message_report
 
     if permutations <= 0:
         return None
-    episodes = [tape.episode(m.index) for m in metrics]
+    episodes = []
+    for m in metrics:
+        episodes.append(tape.episode(m.index))
+        if advance is not None:
+            advance(1)
     if not any("value" in raw for ep in episodes for raw in ep.messages if isinstance(raw, dict)):
         return None
     report = message_report(
