@@ -64,6 +64,14 @@ demos: $(STAMP)
 	  $(BIN)/arena-studio rollout scenes/$$s.scene.json -o scenes/$$s-greedy.tape \
 	    --episodes 20 --seed 13 --goals greedy --par-limit 0.8,2.0 --quiet || exit 1; \
 	done
+	# announcements before each episode: one tape where the others mostly follow the scout,
+	# one where the scout is just as clear and the others ignore it
+	$(BIN)/arena-studio rollout scenes/parking-level.scene.json \
+	  -o scenes/parking-level-followed.tape --episodes 40 --seed 21 --goals independent \
+	  --announce scout --word-error 0.1 --adopt 0.9 --quiet
+	$(BIN)/arena-studio rollout scenes/parking-level.scene.json \
+	  -o scenes/parking-level-ignored.tape --episodes 40 --seed 22 --goals independent \
+	  --announce scout --word-error 0.05 --adopt 0.1 --quiet
 	# a small sweep (conditions x seeds x checkpoints) for `arena-studio runs`
 	rm -rf scenes/sweep-demo
 	$(BIN)/python -m arena_studio.core.runs.demo scenes/sweep-demo scenes/parking-level.scene.json

@@ -35,6 +35,8 @@ OPTIONS = [
     (["rollout", SCENE, "-o", "x.tape"], "--seed", limits.SEED),
     (["rollout", SCENE, "-o", "x.tape"], "--max-time", limits.MAX_TIME),
     (["rollout", SCENE, "-o", "x.tape"], "--dt", limits.DT),
+    (["rollout", SCENE, "-o", "x.tape"], "--word-error", limits.SHARE),
+    (["rollout", SCENE, "-o", "x.tape"], "--adopt", limits.SHARE),
     (["export", SCENE, "-f", "grid", "-o", "x"], "--resolution", limits.RESOLUTION),
     (["export", SCENE, "-f", "grid", "-o", "x"], "--clearance", limits.CLEARANCE),
     (["import", "csv", "in.csv", "--scene", SCENE, "-o", "x.tape"], "--dt", limits.DT),
@@ -43,6 +45,7 @@ OPTIONS = [
     (["import", "bag", "run", "--scene", SCENE, "-o", "x.tape"], "--gap", limits.GAP),
     (["import", "bag", "run", "--scene", SCENE, "-o", "x.tape"], "--dt", limits.DT),
     (["stats", TAPE], "--episode", limits.EPISODE),
+    (["stats", TAPE], "--permutations", limits.PERMUTATIONS),
     (["app", TAPE], "--time", limits.TIME),
     (["app", TAPE], "--episode", limits.EPISODE),
 ]

@@ -44,6 +44,12 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         metavar="MAP",
         help="CSV column names, e.g. 'x=pos_x,y=pos_y' (ours=theirs)",
     )
+    parser.add_argument(
+        "--messages",
+        default=None,
+        metavar="FILE",
+        help="csv/npz: a CSV of what agents said (episode,from,to,step,value; see README)",
+    )
     parser.add_argument("--quiet", action="store_true", help="no progress bar")
     add_force_argument(parser)
     parser.add_argument(
@@ -60,6 +66,9 @@ WARN_NAMED = 3
 
 def run(args: argparse.Namespace) -> int:
     if args.kind in ("map", "bag"):
+        if args.messages:
+            error_line("--messages applies to csv and npz input only")
+            return EXIT_UNREADABLE
         return import_robot.run(args)
     if args.more or args.scene is None:
         error_line("extra input files" if args.more else "--scene: required for csv and npz")
@@ -73,7 +82,8 @@ def run(args: argparse.Namespace) -> int:
         if not Path(args.output).parent.is_dir():
             raise CommandError(f"{args.output}: folder does not exist")
         scene = read_scene(args.scene)
-        plan_outputs(tape_outputs(args.output), [args.input, args.scene], args.force)
+        inputs = [args.input, args.scene] + ([args.messages] if args.messages else [])
+        plan_outputs(tape_outputs(args.output), inputs, args.force)
         keep_earlier_partial(Path(args.output))
         if args.kind == "csv":
             columns = parse_columns(args.columns)
@@ -87,13 +97,20 @@ def run(args: argparse.Namespace) -> int:
                     columns=columns,
                     advance=bar.advance,
                     skipped=skipped,
+                    messages=args.messages,
                 )
         else:
             if args.columns:
                 raise CommandError("--columns applies to CSV input only")
             with progress_bar(1, "import", args.quiet) as bar:
                 count = import_npz(
-                    src, scene, args.output, dt=args.dt, advance=bar.advance, skipped=skipped
+                    src,
+                    scene,
+                    args.output,
+                    dt=args.dt,
+                    advance=bar.advance,
+                    skipped=skipped,
+                    messages=args.messages,
                 )
     except CommandError as exc:
         error_line(str(exc))

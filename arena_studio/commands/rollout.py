@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import argparse
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from arena_studio.commands.arg_types import number
 from arena_studio.commands.common import (
@@ -18,6 +19,10 @@ from arena_studio.commands.progress import graph_bar, progress_bar
 from arena_studio.core import limits as lim
 from arena_studio.core.errors import ArenaError
 from arena_studio.core.outputs import tape_outputs
+
+if TYPE_CHECKING:
+    from arena_studio.core.scene.model import Scene
+    from arena_studio.core.sim.rollout import MessageOptions
 
 HELP = "record scripted preview episodes of a scene into a tape"
 
@@ -50,6 +55,28 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         help="draw each episode's time limit between LO and HI times its goal's par time "
         "(e.g. 0.6,1.5: some episodes run out of time)",
     )
+    parser.add_argument(
+        "--announce",
+        default=None,
+        metavar="AGENT",
+        help="AGENT pursues the team goal and announces it before each episode as a code "
+        "word (goal table index + 10); the others may adopt it (see --word-error, --adopt)",
+    )
+    parser.add_argument(
+        "--word-error",
+        type=number(lim.SHARE),
+        default=0.0,
+        metavar="RATE",
+        help="with --announce: share of announcements with a wrong word (default 0)",
+    )
+    parser.add_argument(
+        "--adopt",
+        type=number(lim.SHARE),
+        default=1.0,
+        metavar="P",
+        help="with --announce: probability that each other agent takes the announced goal "
+        "instead of its own draw (default 1)",
+    )
     parser.add_argument("--dt", type=number(lim.DT), default=0.1, help="time step in seconds")
     parser.add_argument("--quiet", action="store_true", help="no progress bar")
     add_force_argument(parser)
@@ -63,6 +90,7 @@ def run(args: argparse.Namespace) -> int:
         if not out.parent.is_dir():
             raise CommandError(f"{args.output}: folder does not exist")
         scene = read_scene(args.scene)
+        talk = _talk(args, scene)
         plan_outputs(tape_outputs(out), [args.scene], args.force)
         keep_earlier_partial(out)
         from arena_studio.core.sim.rollout import run_rollout
@@ -78,6 +106,7 @@ def run(args: argparse.Namespace) -> int:
                 dt=args.dt,
                 advance=bar.advance,
                 par_limit=par_limit,
+                talk=talk,
             )
     except CommandError as exc:
         error_line(str(exc))
@@ -119,3 +148,17 @@ def _par_limit(text: str | None) -> tuple[float, float] | None:
     if not (0 < lo <= hi and hi < 1e6):
         raise CommandError(f"--par-limit {text!r}: expected 0 < LO <= HI")
     return lo, hi
+
+
+def _talk(args: argparse.Namespace, scene: Scene) -> MessageOptions | None:
+    """The announcement options, or None without ``--announce``."""
+    from arena_studio.core.sim.rollout import MessageOptions
+
+    if args.announce is None:
+        return None
+    ids = [a.id for a in scene.agents]
+    if args.announce not in ids:
+        raise CommandError(f"--announce {args.announce!r}: not an agent of {args.scene}")
+    if args.goals == "greedy":
+        raise CommandError("--announce needs --goals shared or independent")
+    return MessageOptions(ids.index(args.announce), args.word_error, args.adopt)

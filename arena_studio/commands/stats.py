@@ -9,6 +9,7 @@ import math
 import sys
 from typing import Any
 
+from arena_studio.commands import stats_messages
 from arena_studio.commands.arg_types import number
 from arena_studio.commands.common import (
     EXIT_OK,
@@ -67,6 +68,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument(
         "--parquet", metavar="OUT", default=None, help="also write the per-episode rows as Parquet"
     )
+    stats_messages.add_arguments(parser)
     parser.add_argument(
         "--strict",
         action="store_true",
@@ -130,6 +132,20 @@ def run(args: argparse.Namespace) -> int:
     summary["damaged"] = len(damaged)
     summary["damaged_episodes"] = [d.to_dict() for d in damaged]
     summary["scene_hash_ok"] = tape.scene_hash_ok  # None: the tape stores no scene hash
+    try:
+        # figures across episodes: one episode (--episode) says nothing about them
+        summary["messages"] = None
+        if args.episode is None and args.permutations > 0:
+            with progress_bar(len(metrics), "messages", args.quiet) as bar:
+                summary["messages"] = stats_messages.message_figures(
+                    tape, metrics, args.permutations, advance=bar.advance
+                )
+    except ArenaError as exc:
+        error_line(str(exc))
+        return EXIT_UNREADABLE
+    except KeyboardInterrupt:
+        error_line("interrupted")
+        return 130
     rows = _rows(metrics, damaged)
     if damaged:
         warning_line(_damage_warning(args.tape, damaged))
@@ -235,6 +251,8 @@ def _print_text(tape: Any, summary: dict[str, Any], rows: list[dict[str, Any]]) 
         out.write(f"  failures: {words}\n")
     if summary["damaged"]:
         out.write(f"  damaged: {summary['damaged']} episode(s), not counted above\n")
+    if summary.get("messages"):
+        stats_messages.print_messages(summary["messages"], out)
     out.write("\n  #  goal                           ok   time    par  aligned  diagnosis\n")
     for r in rows:
         if r["damage"]:

@@ -78,6 +78,8 @@ CLEARANCE = Range("a clearance", 0.0, 100.0, "metres")
 TOLERANCE = Range("an outline tolerance", 0.0, 100.0, "metres")
 MIN_AREA = Range("a speck size", 0.0, 1_000_000.0, "square metres")
 GAP = Range("a pause", 0.001, MAX_SECONDS, "seconds")
+SHARE = Range("a probability", 0.0, 1.0, "")
+PERMUTATIONS = Range("a shuffle count", 0, 100_000, "shuffles", integer=True)
 
 #: Longest clip (frames) rendered in one job: about 1 h 50 min at 30 frames per second.
 MAX_CLIP_FRAMES = 200_000
@@ -103,6 +105,8 @@ ALL: dict[str, Range] = {
     "tolerance": TOLERANCE,
     "min_area": MIN_AREA,
     "gap": GAP,
+    "share": SHARE,
+    "permutations": PERMUTATIONS,
 }
 
 __all__ = ["ALL", "MAX_CLIP_FRAMES", "MAX_ROLLOUT_STEPS", "MAX_SECONDS", "Range", "RangeError"]

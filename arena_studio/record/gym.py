@@ -36,6 +36,7 @@ from arena_studio.record.sources import (
     channel_value,
     goal_vector,
     match_agents,
+    message_list,
     per_agent,
     pursued_vectors,
     resolve,
@@ -62,8 +63,9 @@ def agent_names(env: Any, scene: Scene, agent_ids: Mapping[str, str] | None) -> 
 class RecordEnv(gymnasium.Wrapper):
     """A Gymnasium environment that also writes its episodes to tapes.
 
-    ``poses``, ``team_goal``, ``pursued_goals`` and ``channels`` are callables on the wrapped
-    environment or keys of the ``info`` dict, as for :class:`RecordParallelEnv`.
+    ``poses``, ``team_goal``, ``pursued_goals``, ``messages`` and ``channels`` are callables
+    on the wrapped environment or keys of the ``info`` dict, as for
+    :class:`RecordParallelEnv`.
     """
 
     def __init__(
@@ -77,6 +79,7 @@ class RecordEnv(gymnasium.Wrapper):
         agent_ids: Mapping[str, str] | None = None,
         team_goal: Source | None = None,
         pursued_goals: Source | None = None,
+        messages: Source | None = None,
         channels: Mapping[str, Source] | None = None,
         every: int = 1,
         trigger: Callable[[int], bool] | None = None,
@@ -89,7 +92,12 @@ class RecordEnv(gymnasium.Wrapper):
         self.scene = scene_of(scene)
         self._names = agent_names(env, self.scene, agent_ids)
         self._single = len(self._names) == 1
-        self._sources = {"poses": poses, "team_goal": team_goal, "pursued": pursued_goals}
+        self._sources = {
+            "poses": poses,
+            "team_goal": team_goal,
+            "pursued": pursued_goals,
+            "messages": messages,
+        }
         self._channels = dict(channels or {})
         if not self._single:
             self._channels.setdefault("team_reward", _TEAM_REWARD)
@@ -132,7 +140,13 @@ class RecordEnv(gymnasium.Wrapper):
         if self._single and raw is not None and not isinstance(raw, Mapping):
             raw = [raw]
         pursued = pursued_vectors(raw, self.scene, names, f"{what}: pursued_goals")
-        if self.recorder.begin(goal, pursued):
+        said = message_list(
+            resolve(self._sources["messages"], self.env, info, names, False),
+            self.scene,
+            names,
+            f"{what}: messages",
+        )
+        if self.recorder.begin(goal, pursued, said):
             self._done[:] = False
             self._return = self._reward = 0.0
             self._last = self._poses(info, f"{what} step 0: poses")

@@ -31,6 +31,7 @@ from arena_studio.record.sources import (
     channel_value,
     goal_vector,
     match_agents,
+    message_list,
     per_agent,
     pursued_vectors,
     resolve,
@@ -55,7 +56,9 @@ class RecordParallelEnv(ParallelEnv):  # type: ignore[misc]
     ``poses`` is ``fn(env) -> (A, 3)`` (scene agent order) or ``{agent: (x, y, heading)}``,
     or the key of each agent's ``infos`` entry holding its pose. ``team_goal`` and
     ``pursued_goals`` (read after each reset) and ``channels`` (read every step) take a
-    callable on the environment or an ``infos`` key the same way. Environment agent names
+    callable on the environment or an ``infos`` key the same way; so does ``messages`` (read
+    after each reset: a list of ``{"from", "to", "step", "value"}``, per-agent lists joined in
+    agent order, environment names turned into scene ids). Environment agent names
     must equal the scene's agent ids unless ``agent_ids`` maps them.
     """
 
@@ -70,6 +73,7 @@ class RecordParallelEnv(ParallelEnv):  # type: ignore[misc]
         agent_ids: Mapping[str, str] | None = None,
         team_goal: Source | None = None,
         pursued_goals: Source | None = None,
+        messages: Source | None = None,
         channels: Mapping[str, Source] | None = None,
         every: int = 1,
         trigger: Callable[[int], bool] | None = None,
@@ -83,7 +87,12 @@ class RecordParallelEnv(ParallelEnv):  # type: ignore[misc]
         self._names = match_agents(
             self.scene, list(env.possible_agents), agent_ids, "RecordParallelEnv"
         )
-        self._sources = {"poses": poses, "team_goal": team_goal, "pursued": pursued_goals}
+        self._sources = {
+            "poses": poses,
+            "team_goal": team_goal,
+            "pursued": pursued_goals,
+            "messages": messages,
+        }
         self._channels = dict(channels or {})
         self.recorder = RecordingSession(
             path,
@@ -152,7 +161,13 @@ class RecordParallelEnv(ParallelEnv):  # type: ignore[misc]
             names,
             f"{what}: pursued_goals",
         )
-        if self.recorder.begin(goal, pursued):
+        said = message_list(
+            resolve(self._sources["messages"], self.env, infos, names, True),
+            self.scene,
+            names,
+            f"{what}: messages",
+        )
+        if self.recorder.begin(goal, pursued, said):
             self._done[:] = False
             self._returns[:] = 0.0
             self._last = self._poses(infos, f"{what} step 0: poses", first=True)

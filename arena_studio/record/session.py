@@ -104,6 +104,7 @@ class RecordingSession:
         self,
         team_goal: np.ndarray | None,
         pursued: list[np.ndarray | None] | None,
+        messages: list[Any] | None = None,
     ) -> bool:
         """A new environment episode; returns whether it is recorded."""
         if self._recording:
@@ -113,7 +114,7 @@ class RecordingSession:
         if not self.wants(episode):
             return False
         writer = self._open_writer()
-        writer.begin_episode(team_goal=team_goal, pursued_goals=pursued)
+        writer.begin_episode(team_goal=team_goal, pursued_goals=pursued, messages=messages)
         self._env_episode = episode
         self._recording = True
         self._steps = 0

@@ -197,3 +197,34 @@ __all__ = [
     "pursued_vectors",
     "resolve",
 ]
+
+
+def message_list(value: Any, scene: Scene, names: Sequence[str], what: str) -> list[Any]:
+    """An episode's messages (the tape's structure, :mod:`core.tape.message_format`) from a
+    list, or from a mapping by agent name (per-agent infos: the lists joined in agent order).
+    Environment agent names in ``from``/``to`` become scene agent ids."""
+    from arena_studio.core.tape.message_format import parse_message
+
+    if value is None:
+        return []
+    if isinstance(value, Mapping) and not ({"from", "value"} & set(value)):
+        value = [m for n in names for m in (value.get(n) or [])]
+    elif isinstance(value, Mapping):
+        value = [value]
+    if not isinstance(value, list | tuple):
+        raise RecordError(f"{what}: expected a list of messages, got {type(value).__name__}")
+    ids = [a.id for a in scene.agents]
+    rename = {str(n): ids[k] for k, n in enumerate(names)}
+    out = []
+    for i, raw in enumerate(value):
+        entry = dict(raw) if isinstance(raw, Mapping) else raw
+        if isinstance(entry, dict):
+            for key in ("from", "to"):
+                if entry.get(key) is not None and str(entry[key]) in rename:
+                    entry[key] = rename[str(entry[key])]
+        try:
+            parse_message(entry, ids, f"{what}[{i}]")
+        except ValueError as exc:
+            raise RecordError(str(exc)) from None
+        out.append(entry)
+    return out

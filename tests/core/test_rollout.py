@@ -183,7 +183,12 @@ def demo_recipes() -> list[tuple[str, str, list[str]]]:
         r"rollout scenes/\$\$s\.scene\.json -o scenes/\$\$s-([\w-]+)\.tape\s+(.*?)\s+--quiet",
         text,
     )
-    return [(s, f"{s}-{suffix}.tape", flags.split()) for s in scenes for suffix, flags in runs]
+    out = [(s, f"{s}-{suffix}.tape", flags.split()) for s in scenes for suffix, flags in runs]
+    single = re.findall(
+        r"rollout scenes/([\w-]+)\.scene\.json\s+-o scenes/([\w-]+\.tape)\s+(.*?)\s+--quiet",
+        text,
+    )
+    return out + [(s, name, flags.split()) for s, name, flags in single]
 
 
 def differences_in_meaning(scene, old, new) -> list[str]:
@@ -222,7 +227,7 @@ def differences_in_meaning(scene, old, new) -> list[str]:
 
 def test_recipes_cover_every_committed_demo_tape() -> None:
     names = {name for _s, name, _f in demo_recipes()}
-    assert names == {p.name for p in SCENES.glob("*.tape")} and len(names) == 9
+    assert names == {p.name for p in SCENES.glob("*.tape")} and len(names) == 11
 
 
 @pytest.mark.parametrize("scene_name, tape_name, flags", demo_recipes())

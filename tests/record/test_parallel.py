@@ -152,3 +152,41 @@ def test_bad_pose_shape_names_episode_and_step(tmp_path):
     with pytest.raises(RecordError, match=r"episode 0 step 0: poses: expected shape \(2, 3\)"):
         env.reset(seed=0)
     env.close()
+
+
+def test_messages_from_a_callable_reach_the_tape_with_scene_ids(tmp_path):
+    # environment names "e0".."e2" mapped onto the scene's r0..r2 (as agent_ids allows)
+    class Renamed(Herd):
+        def __init__(self):
+            super().__init__(agents=3)
+            self.possible_agents = ["e0", "e1", "e2"]
+
+    said = [{"from": "e2", "to": "e0", "step": None, "value": 4}]
+    env = RecordParallelEnv(
+        Renamed(),
+        tmp_path / "m.tape",
+        box_scene(agents=3),
+        poses=lambda e: e.poses,
+        agent_ids={"e0": "r0", "e1": "r1", "e2": "r2"},
+        messages=lambda e: said,
+    )
+    _run(env, episodes=2)
+    env.close()
+    tape = open_tape(tmp_path / "m.tape")
+    # the tape's message structure (README, tape format): scene ids, nil "step" = before
+    assert [list(tape.episode(i).messages) for i in range(2)] == [
+        [{"from": "r2", "to": "r0", "step": None, "value": 4}]
+    ] * 2
+
+
+def test_a_broken_message_from_the_environment_is_named(tmp_path):
+    env = RecordParallelEnv(
+        Herd(agents=2),
+        tmp_path / "x.tape",
+        box_scene(),
+        poses=lambda e: e.poses,
+        messages=lambda e: [{"from": "r0", "to": None, "step": None, "value": 2.5}],
+    )
+    with pytest.raises(RecordError, match=r"episode 0: messages\[0\]\.value"):
+        env.reset(seed=0)
+    env.close()

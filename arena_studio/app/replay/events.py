@@ -10,6 +10,7 @@ from typing import Any
 
 from arena_studio.app.replay.prepared import EventMark, event_marks
 from arena_studio.core.analysis.events import episode_events
+from arena_studio.core.analysis.messages import episode_messages, value_text
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.episode import Episode
 
@@ -19,4 +20,26 @@ MAX_EVENTS = 5000  # beyond this the timeline would be a solid bar; keep the fir
 def episode_event_marks(
     scene: Scene, episode: Episode, metrics: Any = None
 ) -> tuple[EventMark, ...]:
-    return event_marks(scene, episode_events(scene, episode, metrics))[:MAX_EVENTS]
+    marks = message_marks(scene, episode) + event_marks(
+        scene, episode_events(scene, episode, metrics)
+    )
+    return marks[:MAX_EVENTS]
+
+
+def message_marks(scene: Scene, episode: Episode) -> tuple[EventMark, ...]:
+    """One mark per structured message: before the episode at step 0, else at its step."""
+    ids = [a.id for a in scene.agents]
+    last = max(episode.steps - 1, 0)
+    out = []
+    for m in episode_messages(episode, ids, strict=False):
+        to = "everyone" if m.receiver is None else m.receiver
+        when = "before the episode" if m.step is None else f"at step {m.step}"
+        out.append(
+            EventMark(
+                step=0 if m.step is None else min(m.step, last),
+                kind="message",
+                agent=ids.index(m.sender),
+                text=f"{m.sender} to {to}: {value_text(m.value)} ({when})",
+            )
+        )
+    return tuple(out)

@@ -24,6 +24,7 @@ EVENT_KINDS: tuple[str, ...] = (
     "role",
     "diagnosis",
     "mismatch",  # the recording disagrees with the scene (core.tape_checks)
+    "message",  # an agent said something (before the episode: at step 0)
     "other",
 )
 

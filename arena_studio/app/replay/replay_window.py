@@ -27,6 +27,7 @@ from arena_studio.app.replay.batch_stats import batch_stats
 from arena_studio.app.replay.batch_view import BatchPanel
 from arena_studio.app.replay.episode_list import EpisodeListPanel
 from arena_studio.app.replay.follow import RecordingLine, TapeFollowing, is_growing, open_growing
+from arena_studio.app.replay.messages_panel import MessagesPanel
 from arena_studio.app.replay.plots import PlotsPanel
 from arena_studio.app.replay.prepared import PreparedEpisode
 from arena_studio.app.replay.replay_canvas import ReplayCanvas
@@ -128,6 +129,11 @@ class ReplayWindow(QMainWindow):
             "Tape overview", self.batch, Qt.DockWidgetArea.BottomDockWidgetArea
         )
         self.tabifyDockWidget(self.dock_plots, self.dock_batch)
+        self.messages = MessagesPanel(self.theme, self)
+        self.dock_messages = self._dock(
+            "Messages", self.messages, Qt.DockWidgetArea.RightDockWidgetArea
+        )
+        self.dock_messages.setVisible(False)  # shown when the tape has structured messages
         self.dock_plots.raise_()
         self.setCorner(Qt.Corner.BottomLeftCorner, Qt.DockWidgetArea.LeftDockWidgetArea)
         self._docks_sized = False
@@ -244,6 +250,7 @@ class ReplayWindow(QMainWindow):
         s.episodeReady.connect(self._on_episode_ready)
         s.compareReady.connect(self._on_compare_ready)
         s.failed.connect(self._on_failed)
+        s.messagesReady.connect(self._on_messages)
         self.canvas.show_scene(s.scene)
         self.canvas_b.show_scene(s.scene)
         self.canvas.fit_scene()
@@ -299,6 +306,9 @@ class ReplayWindow(QMainWindow):
         self.session = None
         self.prepared = None
         self.compare = None
+        self.verdict.explain = None
+        self.messages.set_report(None, None)
+        self.dock_messages.setVisible(False)
 
     @property
     def scene_value(self) -> Scene | None:
@@ -345,6 +355,7 @@ class ReplayWindow(QMainWindow):
         self.clock.set_episode(ep.steps, ep.dt, prepared.event_steps)
         self.timeline.set_events(prepared.events, ep.agent_count)
         self.plots.set_episode(scene, prepared)
+        self.messages.set_episode(self.session.scene, ep)
         if self._first_episode:
             self._first_episode = False
             self.fit_views()
@@ -429,6 +440,25 @@ class ReplayWindow(QMainWindow):
             return
         self.episode_list.set_progress(len(self.session), len(self.session))
         self.batch.set_stats(self.session.scene, batch_stats(self.episode_list.model.summaries()))
+
+    def _on_messages(self, report: Any) -> None:
+        """The tape's message figures arrived: fill the panel, explain misaligned failures."""
+        if self.session is None:
+            return
+        scene = self.session.scene
+        self.messages.set_report(scene, report)
+        self.dock_messages.setVisible(report is not None)
+        if report is None:
+            self.verdict.explain = None
+        else:
+            from arena_studio.core.analysis.messages import explain_choice
+
+            ids = [a.id for a in scene.agents]
+            lms = [lm.id for lm in scene.landmarks]
+            self.verdict.explain = lambda ep: explain_choice(report, ep, ids, lms)
+        if self.prepared is not None:
+            self.messages.set_episode(scene, self.prepared.episode)
+        self._update_verdict()
 
     def _on_goal_clicked(self, goal: tuple[int, ...], label: str) -> None:
         self.episode_list.set_goal_filter(goal, label)
@@ -518,6 +548,7 @@ class ReplayWindow(QMainWindow):
             self.episode_list,
             self.verdict,
             self.recording_line,
+            self.messages,
         ):
             w.set_theme(self.theme)
         self._update_verdict()

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import contextlib
 from collections.abc import Callable, Iterator
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -23,6 +24,20 @@ from arena_studio.app.replay.summary import EpisodeSummary, damaged_summary, sum
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.damage import Damage, EpisodeDamaged
 from arena_studio.core.tape.episode import Episode
+
+#: shuffles and resamples behind the message figures (as ``arena-studio stats``)
+REPORT_PERMUTATIONS = 1000
+
+
+@dataclass(frozen=True)
+class MessageInput:
+    """The parts of an episode the message figures read (the poses stay behind)."""
+
+    index: int
+    messages: tuple[Any, ...]
+    pursued_goals: Any
+    success: bool
+    aligned: bool
 
 
 def _metrics_for(scene: Scene, episode: Episode) -> Any:
@@ -98,6 +113,7 @@ class ReplaySession(QObject):
     occupancyReady = Signal(object)  # Occupancy
     episodeReady = Signal(object)  # PreparedEpisode (the selected one), or its Damage
     compareReady = Signal(object)  # PreparedEpisode or None
+    messagesReady = Signal(object)  # MessageReport, or None when no episode has messages
     failed = Signal(str)
 
     def __init__(self, tape: Any, parent: QObject | None = None) -> None:
@@ -114,6 +130,12 @@ class ReplaySession(QObject):
         self._compare_call.failed.connect(lambda _t, m: self.failed.emit(m))
         self.occupancy = Occupancy.empty(self.scene)
         self.summaries_done = False
+        #: per episode index: what the message figures need (messages, goals, success)
+        self.message_inputs: dict[int, MessageInput] = {}
+        self.message_report: Any = None
+        self._message_call = BackgroundCall(self)
+        self._message_call.done.connect(self._on_report)
+        self._message_call.failed.connect(lambda _t, m: self.messagesReady.emit(None))
         self._earlier: list[StreamWorker] = []
 
     def __len__(self) -> int:
@@ -151,6 +173,11 @@ class ReplaySession(QObject):
                     row = EpisodeSummary(
                         index=i, diagnosis=f"cannot compute metrics: {exc}", loaded=True
                     )
+                if episode.messages:
+                    self.message_inputs[i] = MessageInput(
+                        i, episode.messages, episode.pursued_goals, bool(row.success),
+                        row.aligned is True,
+                    )
                 yield row
 
         if self._worker is not None:  # earlier work on a growing tape: let it finish
@@ -177,6 +204,34 @@ class ReplaySession(QObject):
         self.summaries_done = True
         self.occupancyReady.emit(self.occupancy)
         self.summariesDone.emit()
+        self._start_report()
+
+    def _start_report(self) -> None:
+        """Message figures over every episode read so far, off the UI thread."""
+        inputs = [self.message_inputs[i] for i in sorted(self.message_inputs)]
+        scene = self.scene
+
+        def compute() -> Any:
+            from arena_studio.core.analysis.messages import message_report
+
+            if not any(isinstance(r, dict) and "value" in r for m in inputs for r in m.messages):
+                return None
+            report = message_report(
+                inputs,  # type: ignore[arg-type]  (the fields the report reads)
+                [a.id for a in scene.agents],
+                [lm.id for lm in scene.landmarks],
+                successes=[m.success for m in inputs],
+                aligned=[m.aligned for m in inputs],
+                permutations=REPORT_PERMUTATIONS,
+                resamples=REPORT_PERMUTATIONS,
+            )
+            return report if report.speakers else None
+
+        self._message_call.submit(compute)
+
+    def _on_report(self, _token: int, report: Any) -> None:
+        self.message_report = report
+        self.messagesReady.emit(report)
 
     def wait_summaries(self, timeout_ms: int = 60000) -> bool:
         return self._worker is None or self._worker.wait(timeout_ms)
@@ -215,4 +270,5 @@ class ReplaySession(QObject):
             self._worker.stop()
             self._worker = None
         self._episode_call.shutdown(5.0)
+        self._message_call.shutdown(5.0)
         self._compare_call.shutdown(5.0)

@@ -3,7 +3,9 @@
 Two lanes: the upper lane holds team-level events (success, diagnosis, collisions), the lower
 lane holds per-agent events in the agent's identity colour (target reached: filled wedge up;
 target left: open wedge down; role change: short bar). The diagnosis is a flag across both
-lanes so the moment the team lost its chance stands out. Press or drag anywhere to seek.
+lanes so the moment the team lost its chance stands out. A message is a small speech bubble
+in the speaker's colour in the upper lane (at the start when said before the episode).
+Press or drag anywhere to seek.
 """
 
 from __future__ import annotations
@@ -28,7 +30,7 @@ from arena_studio.render.paint_guard import guarded_paint_event
 from arena_studio.render.theme import Theme, load_theme
 
 MARGIN_X = 14.0
-TEAM_KINDS = ("success", "diagnosis", "collision", "other")
+TEAM_KINDS = ("success", "diagnosis", "collision", "message", "other")
 HIT_RADIUS_PX = 6.0
 CURSOR_HALF_PX = 8  # half the strip repainted around the cursor when the step changes
 
@@ -233,7 +235,7 @@ class TimelineBar(QWidget):
             return theme.qcolor("target_highlight")
         if mark.kind == "collision":
             return theme.qcolor("warning")
-        if mark.agent is not None and mark.kind in ("reached", "left", "role"):
+        if mark.agent is not None and mark.kind in ("reached", "left", "role", "message"):
             return theme.agent_color(mark.agent)
         return theme.qcolor("text_muted")
 
@@ -285,6 +287,16 @@ class TimelineBar(QWidget):
             p.setPen(Qt.PenStyle.NoPen)
             p.setBrush(color)
             p.drawPath(flag)
+        elif mark.kind == "message":  # a speech bubble with its tail down-left
+            bubble = QPainterPath()
+            bubble.addRoundedRect(QRectF(x - r, y - r, 2 * r + 2, 2 * r - 2), 2.5, 2.5)
+            tail = QPainterPath(QPointF(x - r + 2, y + r - 3))
+            tail.lineTo(x - r, y + r + 1)
+            tail.lineTo(x - r + 5, y + r - 3)
+            tail.closeSubpath()
+            p.setPen(edge)
+            p.setBrush(color)
+            p.drawPath(bubble.united(tail))
         elif mark.kind == "mismatch":  # hollow square: the recording breaks the scene's rules
             p.setPen(QPen(color, 1.8))
             p.setBrush(Qt.BrushStyle.NoBrush)

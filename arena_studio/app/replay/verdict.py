@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import html
 import json
+from collections.abc import Callable
 from typing import Any
 
 from PySide6.QtCore import Qt
@@ -33,10 +34,23 @@ def outcome_words(outcome: Any) -> str:
     return f" <i>Simulator reported: {html.escape(text)}.</i>"
 
 
-def describe(p: PreparedEpisode, theme: Theme, lead: str, step: int, link: bool) -> str:
+def describe(
+    p: PreparedEpisode,
+    theme: Theme,
+    lead: str,
+    step: int,
+    link: bool,
+    explain: Callable[[Any], list[str]] | None = None,
+) -> str:
     """Rich text for one episode; ``link`` adds "go there" until ``step`` reaches it. The
-    simulator's reported outcome, when the tape has one, follows."""
-    return _verdict(p, theme, lead, step, link) + outcome_words(p.episode.outcome)
+    simulator's reported outcome, when the tape has one, follows. A misaligned failure gets
+    ``explain(episode)``'s sentences (what was announced and who followed it)."""
+    text = _verdict(p, theme, lead, step, link)
+    if explain is not None and getattr(p.metrics, "diagnosis_code", None) == "misaligned":
+        said = explain(p.episode)
+        if said:
+            text += "<br>Messages: " + html.escape("; ".join(said)) + "."
+    return text + outcome_words(p.episode.outcome)
 
 
 def _verdict(p: PreparedEpisode, theme: Theme, lead: str, step: int, link: bool) -> str:
@@ -73,6 +87,8 @@ class VerdictLine(QLabel):
         super().__init__(parent)
         self.theme = theme
         self._state = "none"
+        #: sentences about messages for a misaligned failure (set when a tape has them)
+        self.explain: Callable[[Any], list[str]] | None = None
         self.setWordWrap(True)
         self.setTextFormat(Qt.TextFormat.RichText)
         self.setContentsMargins(10, 4, 10, 4)
@@ -89,7 +105,7 @@ class VerdictLine(QLabel):
             self.setText("")
             state = "none"
         else:
-            text = describe(shown, self.theme, "Episode", step, link=True)
+            text = describe(shown, self.theme, "Episode", step, link=True, explain=self.explain)
             if compared is not None:
                 text += "<br>" + describe(compared, self.theme, "Compared: episode", step, False)
             self.setText(text)

@@ -113,6 +113,9 @@ class Estimate:
     low: float  # 95% percentile bootstrap interval of the corrected bits
     high: float
     samples: int
+    #: mean corrected bits over the shuffles: what unrelated messages of the same spread give
+    #: on this many episodes (small samples make it well above 0)
+    chance: float = 0.0
 
 
 def estimate(
@@ -139,8 +142,8 @@ def estimate(
         t = np.bincount(xc * ky + yc, minlength=kx * ky).reshape(kx, ky)
         return mutual_information_bits(t, corrected=True)
 
-    hits = sum(mi_of(rng.permutation(x_codes), y_codes) >= observed - 1e-12
-               for _ in range(permutations))
+    shuffled = np.array([mi_of(rng.permutation(x_codes), y_codes) for _ in range(permutations)])
+    hits = int((shuffled >= observed - 1e-12).sum())
     p_value = (1 + hits) / (1 + permutations)
     boots = np.empty(resamples)
     for r in range(resamples):
@@ -155,4 +158,5 @@ def estimate(
         low=float(low),
         high=float(high),
         samples=n,
+        chance=float(shuffled.mean()) if permutations else 0.0,
     )

@@ -33,77 +33,34 @@ from arena_studio.core.analysis.information import (
     estimate,
 )
 from arena_studio.core.tape.episode import Episode
+from arena_studio.core.tape.message_format import (  # noqa: F401 (re-exported)
+    MAX_LIST,
+    MAX_TEXT,
+    Message,
+    parse_message,
+    value_text,
+)
 
-MAX_TEXT = 64  # characters of a text value
-MAX_LIST = 64  # integers of a list value
 #: a figure counts as shown when its permutation p-value is below this
 SIGNIFICANCE = 0.05
 
 
-@dataclass(frozen=True)
-class Message:
-    sender: str
-    receiver: str | None  # None: everyone
-    step: int | None  # None: before the episode
-    value: Hashable  # int, str or tuple of ints
-
-    def to_dict(self) -> dict[str, Any]:
-        value = list(self.value) if isinstance(self.value, tuple) else self.value
-        return {"from": self.sender, "to": self.receiver, "step": self.step, "value": value}
-
-
-def parse_message(raw: Any, agent_ids: Sequence[str], where: str) -> Message | None:
-    """A structured message, None for a free note (no ``value``); ValueError naming ``where``
-    and the field for a structured entry that breaks the rules."""
-    if not isinstance(raw, Mapping) or "value" not in raw:
-        return None
-    unknown = set(raw) - {"from", "to", "step", "value"}
-    if unknown:
-        raise ValueError(f"{where}: unknown message field {sorted(unknown)[0]!r}")
-    sender = raw.get("from")
-    if sender not in agent_ids:
-        raise ValueError(f"{where}.from: {sender!r} is not an agent id of the scene")
-    receiver = raw.get("to")
-    if receiver is not None and receiver not in agent_ids:
-        raise ValueError(f"{where}.to: {receiver!r} is not an agent id of the scene (nil: all)")
-    step = raw.get("step")
-    if step is not None and (isinstance(step, bool) or not isinstance(step, int) or step < 0):
-        raise ValueError(f"{where}.step: expected an integer >= 0 or nil, got {step!r}")
-    return Message(str(sender), receiver, step, _value(raw["value"], f"{where}.value"))
-
-
-def _value(value: Any, where: str) -> Hashable:
-    if isinstance(value, bool):
-        raise ValueError(f"{where}: expected an int, a short string or a list of ints")
-    if isinstance(value, int):
-        return value
-    if isinstance(value, str):
-        if len(value) > MAX_TEXT:
-            raise ValueError(f"{where}: text of {len(value)} characters (at most {MAX_TEXT})")
-        return value
-    if isinstance(value, list | tuple):
-        if len(value) > MAX_LIST or not all(
-            isinstance(v, int) and not isinstance(v, bool) for v in value
-        ):
-            raise ValueError(f"{where}: expected at most {MAX_LIST} integers")
-        return tuple(value)
-    raise ValueError(f"{where}: expected an int, a short string or a list of ints")
-
-
-def episode_messages(episode: Episode, agent_ids: Sequence[str]) -> list[Message]:
-    """The structured messages of an episode (free notes skipped)."""
+def episode_messages(
+    episode: Episode, agent_ids: Sequence[str], strict: bool = True
+) -> list[Message]:
+    """The structured messages of an episode (free notes skipped). ``strict=False`` skips a
+    broken entry (a tape from another writer) instead of raising, so the damage stays in it."""
     out = []
     for i, raw in enumerate(episode.messages):
-        msg = parse_message(raw, agent_ids, f"episode {episode.index} messages[{i}]")
+        try:
+            msg = parse_message(raw, agent_ids, f"episode {episode.index} messages[{i}]")
+        except ValueError:
+            if strict:
+                raise
+            continue
         if msg is not None:
             out.append(msg)
     return out
-
-
-def value_text(value: Hashable) -> str:
-    if isinstance(value, tuple):
-        return "[" + ",".join(str(v) for v in value) + "]"
-    return str(value)
 
 
 # -- per-tape report ---------------------------------------------------------------------
@@ -132,6 +89,8 @@ class PairFigures:
     success_adopted: float | None
     success_not_adopted: float | None
     flag: str | None  # plain words: "informative but ignored", "followed but uninformative"
+    aligned_adopted: float | None = None  # share of aligned episodes when it adopted
+    aligned_not_adopted: float | None = None
 
 
 @dataclass(frozen=True)
@@ -182,14 +141,17 @@ def message_report(
     permutations: int = 1000,
     resamples: int = 1000,
     seed: int = 0,
+    aligned: Sequence[bool] | None = None,
 ) -> MessageReport:
     """Signalling per speaker and listening per speaker-listener pair over a tape's episodes.
 
-    ``successes[i]`` (optional) is whether episode ``i`` succeeded, for success conditioned on
+    ``aligned[i]`` (optional) is whether episode ``i``'s agents pursued one goal, for
+    alignment conditioned on adoption. ``successes[i]`` (optional) is whether episode ``i``
+    succeeded, for success conditioned on
     adoption. Episodes whose speaker (or listener) has no pursued goal are left out of that
     speaker's (pair's) figures.
     """
-    parsed = [episode_messages(ep, agent_ids) for ep in episodes]
+    parsed = [episode_messages(ep, agent_ids, strict=False) for ep in episodes]
     goals = [
         [goal_label(g, landmark_ids) for g in ep.pursued_goals] + [None] * len(agent_ids)
         for ep in episodes
@@ -212,8 +174,8 @@ def message_report(
             if listener == speaker:
                 continue
             pair = _pair_figures(
-                fig, listener, parsed, goals, list(agent_ids).index(listener), successes,
-                permutations, resamples, seed + 1000 * (s_idx + 1),
+                fig, listener, parsed, goals, list(agent_ids).index(listener),
+                (successes, aligned), permutations, resamples, seed + 1000 * (s_idx + 1),
             )
             if pair is not None:
                 pair_figs.append(pair)
@@ -247,12 +209,13 @@ def _pair_figures(
     parsed: list[list[Message]],
     goals: list[list[str | None]],
     l_idx: int,
-    successes: Sequence[bool] | None,
+    outcomes: tuple[Sequence[bool] | None, Sequence[bool] | None],
     permutations: int,
     resamples: int,
     seed: int,
 ) -> PairFigures | None:
-    values, chosen, adopted, success = [], [], [], []
+    successes, aligned = outcomes
+    values, chosen, adopted, success, align = [], [], [], [], []
     for e, msgs in enumerate(parsed):
         m = announcement(msgs, speaker.speaker, listener)
         goal = goals[e][l_idx]
@@ -264,6 +227,8 @@ def _pair_figures(
         adopted.append(speaker.meaning.get(text) == goal)
         if successes is not None:
             success.append(bool(successes[e]))
+        if aligned is not None:
+            align.append(bool(aligned[e]))
     if not values:
         return None
     table, value_labels, goal_labels = contingency(values, chosen)
@@ -280,6 +245,8 @@ def _pair_figures(
         success_adopted=_rate(success, adopted, True),
         success_not_adopted=_rate(success, adopted, False),
         flag=_flag(speaker.signalling, listening),
+        aligned_adopted=_rate(align, adopted, True),
+        aligned_not_adopted=_rate(align, adopted, False),
     )
 
 
@@ -308,7 +275,7 @@ def explain_choice(
     """Sentences for a misaligned episode: what each speaker announced and whether each
     listener followed it ("rover-2 announced 3; rover-1 chose A although 3 usually means B")."""
     names = dict(name_of or {})
-    msgs = episode_messages(episode, agent_ids)
+    msgs = episode_messages(episode, agent_ids, strict=False)
     out = []
     for fig in report.speakers:
         said = announcement(msgs, fig.speaker, None)

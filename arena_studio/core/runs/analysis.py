@@ -123,11 +123,12 @@ def load_runs(
 
 
 def metric_names(runs: Sequence[Run]) -> list[str]:
-    """Every figure name some run has, base figures first, then goals and diagnoses."""
-    from arena_studio.core.runs.per_tape import BASE_FIGURES
+    """Every figure name some run has: base figures, message figures, then the named ones."""
+    from arena_studio.core.runs.per_tape import BASE_FIGURES, MESSAGE_FIGURES
 
     names = {k for r in runs for k in r.figures.figures}
-    return [n for n in BASE_FIGURES if n in names] + sorted(n for n in names if ":" in n)
+    firsts = [n for n in BASE_FIGURES + MESSAGE_FIGURES if n in names]
+    return firsts + sorted(n for n in names if ":" in n)
 
 
 def _strata(runs: Sequence[Run], metric: str, by: str) -> dict[str, np.ndarray]:

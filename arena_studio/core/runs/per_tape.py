@@ -18,6 +18,11 @@ Figure names (every one can be the ``--metric`` of ``arena-studio runs``):
 - ``episodes``: episode count
 - ``goal:<key>``: success of the episodes whose judged goal is ``<key>``
 - ``diagnosis:<code>``: share of episodes with that failure diagnosis
+- with structured messages before the episodes (:mod:`.analysis.messages`, Miller-Madow
+  corrected bits, no permutation test here): ``signalling`` / ``listening`` / ``adoption``,
+  the means over speakers / speaker-listener pairs, and per speaker
+  ``signalling:<speaker>`` and per pair ``listening:<speaker>-><listener>``,
+  ``adoption:<speaker>-><listener>``
 """
 
 from __future__ import annotations
@@ -44,6 +49,8 @@ BASE_FIGURES = (
     "damaged",
     "episodes",
 )
+#: tape-wide message figures (only on tapes with structured messages)
+MESSAGE_FIGURES = ("signalling", "listening", "adoption")
 
 
 @dataclass
@@ -102,8 +109,41 @@ def tape_figures(path: str) -> TapeFigures:
     if damaged:
         total = len(metrics) + damaged
         out.figures["damaged"] = (summary["incomplete_episodes"] + damaged) / total
+    out.figures.update(message_figures(tape, metrics))
     out.failed_cooperative = [m.index for m in metrics if m.kind == "cooperative" and not m.success]
     return out
+
+
+def message_figures(tape: Any, metrics: list[Any]) -> dict[str, float | None]:
+    """Signalling, listening and adoption figures; empty without structured messages."""
+    from arena_studio.core.analysis.messages import message_report
+
+    try:
+        episodes = [tape.episode(m.index) for m in metrics]
+    except (ArenaError, ValueError):
+        return {}
+    if not any(isinstance(r, dict) and "value" in r for ep in episodes for r in ep.messages):
+        return {}
+    report = message_report(
+        episodes,
+        [a.id for a in tape.scene.agents],
+        [lm.id for lm in tape.scene.landmarks],
+        permutations=0,
+        resamples=0,
+    )
+    figs: dict[str, float | None] = {}
+    for s in report.speakers:
+        figs[f"signalling:{s.speaker}"] = s.signalling.bits
+    for p in report.pairs:
+        figs[f"listening:{p.speaker}->{p.listener}"] = p.listening.bits
+        figs[f"adoption:{p.speaker}->{p.listener}"] = p.adoption
+    for name, values in (
+        ("signalling", [s.signalling.bits for s in report.speakers]),
+        ("listening", [p.listening.bits for p in report.pairs]),
+        ("adoption", [p.adoption for p in report.pairs if p.adoption is not None]),
+    ):
+        figs[name] = float(np.mean(values)) if values else None
+    return figs
 
 
 def _named(path: str, exc: Exception) -> str:
@@ -159,4 +199,11 @@ def group_figures(paths: list[str]) -> list[dict[str, Any]]:
     return [tape_figures(p).to_dict() for p in paths]
 
 
-__all__ = ["BASE_FIGURES", "TapeFigures", "figures_of_summary", "group_figures", "tape_figures"]
+__all__ = [
+    "BASE_FIGURES",
+    "MESSAGE_FIGURES",
+    "TapeFigures",
+    "figures_of_summary",
+    "group_figures",
+    "tape_figures",
+]

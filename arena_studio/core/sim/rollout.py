@@ -27,13 +27,21 @@ runs``): ``skill`` in (0, 1] scales every agent's top speed and turn rate to
 ``MIN_PACE + (1 - MIN_PACE) * skill`` of its own (1 = full speed), so with ``par_limit`` less
 skilled teams run out of time more often; ``shared_share`` in [0, 1] makes each episode
 ``shared`` with that probability and ``independent`` otherwise (a separate random stream,
-``default_rng([seed, i, 1])``, so the episodes' own draws are unchanged). Episode ``i``
-uses ``numpy.random.default_rng([seed, i])``, so any
-episode can be regenerated alone. What "the same again" means: with the same inputs, package
-versions and machine, a run writes a byte-identical tape. Across numpy/scipy/shapely versions
-and CPUs (whose SIMD paths round differently) the floating-point results may differ in the
-last bits, so a regenerated run is the same in meaning only: the same episodes, goals,
-outcomes, diagnoses and step counts, every pose within :data:`REGENERATED_POSE_TOLERANCE`.
+``default_rng([seed, i, 1])``, so the episodes' own draws are unchanged).
+
+Message options (:class:`MessageOptions`) add an announcement before each episode: one agent
+(the speaker) pursues the team goal and tells everyone a code word for it from a fixed code
+book (goal ``g`` -> :func:`code_word`), with probability ``error`` a wrong word instead; every
+other agent adopts the goal the word stands for with probability ``adopt`` and otherwise keeps
+the goal it drew itself (as in ``independent`` mode). Those draws use their own stream,
+``default_rng([seed, i, 2])``.
+
+Episode ``i`` uses ``numpy.random.default_rng([seed, i])``, so any episode can be
+regenerated alone. What "the same again" means: with the same inputs, package versions and
+machine, a run writes a byte-identical tape. Across numpy/scipy/shapely versions and CPUs
+(whose SIMD paths round differently) the floating-point results may differ in the last bits,
+so a regenerated run is the same in meaning only: the same episodes, goals, outcomes,
+diagnoses and step counts, every pose within :data:`REGENERATED_POSE_TOLERANCE`.
 """
 
 from __future__ import annotations
@@ -77,6 +85,32 @@ REACH_DEPTH = 0.5
 REGENERATED_POSE_TOLERANCE = 1e-6
 #: slowest pace (share of full speed and turn rate) a skill near 0 gives
 MIN_PACE = 0.2
+
+
+@dataclass(frozen=True)
+class MessageOptions:
+    """Who announces (agent index), how often the word is wrong, how often others adopt it."""
+
+    speaker: int = 0
+    error: float = 0.0
+    adopt: float = 1.0
+
+    def __post_init__(self) -> None:
+        if not 0 <= self.error <= 1:
+            raise ValueError(f"message error rate must be in [0, 1], got {self.error}")
+        if not 0 <= self.adopt <= 1:
+            raise ValueError(f"adoption probability must be in [0, 1], got {self.adopt}")
+        if self.speaker < 0:
+            raise ValueError(f"speaker must be an agent index >= 0, got {self.speaker}")
+
+
+#: code words start here, so a word is never mistaken for a goal's index in the goal table
+CODE_OFFSET = 10
+
+
+def code_word(goal_index: int) -> int:
+    """The fixed code book: goal ``g`` of the goal table is announced as ``g + CODE_OFFSET``."""
+    return goal_index + CODE_OFFSET
 
 
 @dataclass
@@ -230,6 +264,7 @@ class Rollout:
         mode: Mode,
         par_limit: tuple[float, float] | None = None,
         skill: float = 1.0,
+        talk: MessageOptions | None = None,
     ) -> EpisodeRun:
         if mode not in MODES:
             raise ValueError(f"unknown goal mode {mode!r} (expected {', '.join(MODES)})")
@@ -245,6 +280,11 @@ class Rollout:
             pursued = [int(g) for g in self.table.sample(rng, n_agents)]
         else:
             pursued = [team] * n_agents
+        said: list[dict[str, Any]] = []
+        if talk is not None and mode == "greedy":
+            raise ValueError("announcements need goal mode shared or independent, not greedy")
+        if talk is not None:
+            pursued, said = self._announce(talk, seed, index, team, pursued)
         followers: list[PathFollower | LegFollower | None] = []
         roles: list[list[tuple[int, str]]] = []
         if mode == "greedy":
@@ -273,7 +313,33 @@ class Rollout:
             par = self.par_time(team)
             if par is not None:
                 limit = min(limit, max(self.dt, factor * par))
-        return self._simulate(start, followers, roles, team, pursued, plans, limit)
+        run = self._simulate(start, followers, roles, team, pursued, plans, limit)
+        if said:
+            run.messages = said
+        return run
+
+    def _announce(
+        self, talk: MessageOptions, seed: int, index: int, team: int, pursued: list[int]
+    ) -> tuple[list[int], list[dict[str, Any]]]:
+        """The speaker's announcement and the goals the others take after hearing it."""
+        n_agents = len(self.scene.agents)
+        if talk.speaker >= n_agents:
+            raise ValueError(f"speaker {talk.speaker} but the scene has {n_agents} agents")
+        rng = np.random.default_rng([seed, index, 2])
+        n_goals = len(self.table)
+        said_goal = team
+        if rng.random() < talk.error and n_goals > 1:
+            said_goal = int((team + rng.integers(1, n_goals)) % n_goals)
+        own = [int(g) for g in self.table.sample(rng, n_agents)]
+        adopts = rng.random(n_agents) < talk.adopt
+        goals = list(pursued)
+        for a in range(n_agents):
+            if a == talk.speaker:
+                goals[a] = team
+            else:
+                goals[a] = said_goal if adopts[a] else own[a]
+        speaker = self.scene.agents[talk.speaker].id
+        return goals, [{"from": speaker, "to": None, "step": None, "value": code_word(said_goal)}]
 
     def _greedy_order(self, agent: int, goal_index: int, start: np.ndarray) -> list[int]:
         """The team goal's targets in the order one agent visits them alone: nearest first."""
@@ -402,13 +468,15 @@ def run_rollout(
     skill: float = 1.0,
     shared_share: float | None = None,
     metadata: Mapping[str, Any] | None = None,
+    talk: MessageOptions | None = None,
 ) -> int:
     """Simulate ``episodes`` episodes into the tape ``out``; returns the episodes written.
 
     ``max_time`` None takes the scene's default time limit (see the module docstring).
     ``skill`` and ``shared_share`` are the sweep knobs of the module docstring (with
     ``shared_share`` given, ``mode`` is only recorded as the tape's default); ``metadata``
-    is added to the tape header's (e.g. ``condition``, ``seed``, ``step``).
+    is added to the tape header's (e.g. ``condition``, ``seed``, ``step``); ``talk`` adds
+    the announcement of :class:`MessageOptions`.
     """
     if shared_share is not None and not 0 <= shared_share <= 1:
         raise ValueError(f"shared_share must be in [0, 1], got {shared_share}")
@@ -426,6 +494,13 @@ def run_rollout(
         meta["skill"] = float(skill)
     if shared_share is not None:
         meta["shared_share"] = float(shared_share)
+    if talk is not None:
+        meta["messages"] = {
+            "speaker": scene.agents[min(talk.speaker, len(scene.agents) - 1)].id,
+            "error": float(talk.error),
+            "adopt": float(talk.adopt),
+            "code_book": f"goal table index + {CODE_OFFSET}",
+        }
     meta.update(metadata or {})
     with TapeWriter(out, scene, dt=dt, metadata=meta, keep_partial=keep_partial) as writer:
         for i in range(episodes):
@@ -433,7 +508,7 @@ def run_rollout(
             if shared_share is not None:
                 draw = float(np.random.default_rng([seed, i, 1]).random())
                 mode_i = "shared" if draw < shared_share else "independent"
-            run = sim.episode(seed, i, mode_i, par_limit=par_limit, skill=skill)
+            run = sim.episode(seed, i, mode_i, par_limit=par_limit, skill=skill, talk=talk)
             writer.begin_episode(
                 team_goal=run.team_goal,
                 pursued_goals=run.pursued_goals,
@@ -447,4 +522,14 @@ def run_rollout(
     return episodes
 
 
-__all__ = ["MIN_PACE", "MODES", "PATIENCE", "EpisodeRun", "Rollout", "run_rollout"]
+__all__ = [
+    "CODE_OFFSET",
+    "MIN_PACE",
+    "MODES",
+    "PATIENCE",
+    "EpisodeRun",
+    "MessageOptions",
+    "Rollout",
+    "code_word",
+    "run_rollout",
+]

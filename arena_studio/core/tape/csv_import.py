@@ -86,8 +86,10 @@ class _Assembler:
         writer: TapeWriter,
         lm_ids: dict[str, int],
         skipped: list[str] | None,
+        said: dict[str, list[dict[str, Any]]] | None = None,
     ) -> None:
         self.src = src
+        self.said = said or {}  # episode label -> its messages (optional messages file)
         self.layout = layout
         self.writer = writer
         self.lm_ids = lm_ids
@@ -165,7 +167,7 @@ class _Assembler:
         self.writer.begin_episode(
             pursued_goals=pursued if any(g is not None for g in pursued) else None,
             roles=arrays["roles"],
-            messages=[{"episode": ep.label}],
+            messages=[{"episode": ep.label}, *self.said.get(ep.label, [])],
         )
         self.writer.steps(arrays["poses"], rewards=arrays["rewards"])
         self.writer.end_episode()
@@ -349,14 +351,17 @@ def import_csv(
     keep_partial: bool = False,
     skipped: list[str] | None = None,
     block_bytes: int = BLOCK_BYTES,
+    messages: str | Path | None = None,
 ) -> int:
     """Convert a long-format CSV file into the tape ``out``; returns the episode count.
 
     A bad row raises :class:`ImportFormatError` naming its line and column. With a
     ``skipped`` list the bad rows (and episodes left with missing steps) are described there
     and left out, and the rest is imported (``--skip-bad``). ``advance`` is called with the
-    bytes read so far in each block (for a progress bar).
+    bytes read so far in each block (for a progress bar). ``messages`` names an optional
+    messages CSV file (:mod:`.import_messages`), keyed by episode label.
     """
+    from arena_studio.core.tape.import_messages import read_messages_csv
     from arena_studio.core.tape.importers import check_dt
 
     src = str(path)
@@ -365,6 +370,7 @@ def import_csv(
     mapping.update(columns or {})
     lm_ids = {lm.id: i for i, lm in enumerate(scene.landmarks)}
     meta = {"generator": "arena-studio import csv", "source": Path(src).name}
+    said = read_messages_csv(messages, [a.id for a in scene.agents]) if messages else {}
     with open_input(path, "csv") as raw:  # regular files only, size bounded
         blocks = read_blocks(raw, src, block_bytes)
         first = next(blocks, None)
@@ -374,7 +380,7 @@ def import_csv(
         layout = _layout(src, header, mapping, tuple(a.id for a in scene.agents))
         parser = BlockParser(layout, len(header), skipped, load_pyarrow())
         with TapeWriter(out, scene, dt=dt, metadata=meta, keep_partial=keep_partial) as writer:
-            assembler = _Assembler(src, layout, writer, lm_ids, skipped)
+            assembler = _Assembler(src, layout, writer, lm_ids, skipped, said)
             line = 2
             for block, used in _with_first(rest, first[1], blocks):
                 rows, line = parser.parse(block, line)

@@ -15,7 +15,11 @@ NPZ (``numpy.savez``; loaded with ``allow_pickle=False``, so object arrays are r
 either ``poses`` (E, T, A, 3) for equal-length episodes, or ``poses_0``, ``poses_1``, ...
 (T_i, A, 3) per episode. Optional, matching: ``rewards`` (E, T, A) / ``rewards_<i>``,
 ``done`` (E, T, A) / ``done_<i>``, ``actions`` (E, T, A, K) / ``actions_<i>``,
-``team_goal`` (E, L) 0/1, ``pursued_goals`` (E, A, L) 0/1, and ``dt`` (a scalar, seconds).
+``team_goal`` (E, L) 0/1, ``pursued_goals`` (E, A, L) 0/1, ``messages`` (E, A) integers
+(what each agent said before the episode, -1 nothing) and ``dt`` (a scalar, seconds).
+
+Both take an optional messages CSV file (``messages=``; columns and rules in
+:mod:`.import_messages`), keyed by episode label (CSV) or index (NPZ).
 
 Errors name the file and the line and column (CSV) or the array (NPZ).
 """
@@ -35,6 +39,7 @@ from arena_studio.core.safe_open import open_input
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape import TapeWriter
 from arena_studio.core.tape.csv_import import OPTIONAL, REQUIRED, import_csv
+from arena_studio.core.tape.import_messages import messages_of_array, read_messages_csv
 from arena_studio.core.value_limits import DT_MAX, DT_MIN
 
 #: NPZ members together larger than this (uncompressed bytes) are refused before loading
@@ -61,6 +66,17 @@ def parse_columns(text: str | None) -> dict[str, str]:
             raise ImportFormatError(f"--columns: unknown name {ours!r} (known: {names})")
         out[ours] = theirs
     return out
+
+
+class _EpisodeRows:
+    def __init__(self, label: str, agents: int, with_reward: bool) -> None:
+        self.label = label
+        self.agents = agents
+        self.poses: dict[tuple[int, int], tuple[float, float, float]] = {}
+        self.rewards: dict[tuple[int, int], float] = {}
+        self.goals: list[tuple[str, int] | None] = [None] * agents  # (text, line)
+        self.roles: dict[tuple[int, int], str] = {}
+        self.with_reward = with_reward
 
 
 def check_dt(src: str, dt: float) -> None:
@@ -151,6 +167,7 @@ def import_npz(
     advance: Callable[[int], None] | None = None,
     keep_partial: bool = False,
     skipped: list[str] | None = None,
+    messages: str | Path | None = None,
 ) -> int:
     """Convert an ``.npz`` file (array names in the module docstring) into a tape; with a
     ``skipped`` list an episode whose poses are not finite or out of range is described
@@ -229,6 +246,17 @@ def import_npz(
             raise ImportFormatError(f"{src}: array team_goal: expected ({count}, {n_lm})")
         if pursued is not None and pursued.shape != (count, a, n_lm):
             raise ImportFormatError(f"{src}: array pursued_goals: expected ({count}, {a}, {n_lm})")
+        ids = [ag.id for ag in scene.agents]
+        said = [[] for _ in range(count)] if "messages" not in names else messages_of_array(
+            src, load("messages"), count, ids
+        )
+        if messages is not None:
+            for label, entries in read_messages_csv(messages, ids).items():
+                if not (label.isdigit() and int(label) < count):
+                    raise ImportFormatError(
+                        f"{messages}: episode {label!r}: expected an episode index 0..{count - 1}"
+                    )
+                said[int(label)].extend(entries)
         meta = {"generator": "arena-studio import npz", "source": Path(src).name}
         left_out = 0
         with TapeWriter(out, scene, dt=step, metadata=meta, keep_partial=keep_partial) as w:
@@ -250,6 +278,7 @@ def import_npz(
                     w.begin_episode(
                         team_goal=None if team is None else team[i],
                         pursued_goals=None if pursued is None else list(pursued[i]),
+                        messages=said[i],
                     )
                     w.steps(
                         poses,

@@ -48,6 +48,7 @@ from arena_studio.core.tape.format import (
     frame,
     pack,
 )
+from arena_studio.core.tape.message_format import parse_message
 
 DEFAULT_CHUNK_STEPS = 1024
 
@@ -200,7 +201,7 @@ class TapeWriter:
                 self._goal(g, f"{where}.pursued_goals[{a}]") for a, g in enumerate(goals)
             ]
         record["roles"] = self._roles(roles, where)
-        record["messages"] = list(messages) if messages is not None else []
+        record["messages"] = self._messages(messages, where)
         if assigned_targets is not None:  # optional keys are written only when given
             shares = list(assigned_targets)
             if len(shares) != len(self.agent_ids):
@@ -218,6 +219,16 @@ class TapeWriter:
         self._write(frame(KIND_BEGIN, payload))
         self._episode = _EpisodeBuffer(index, begin, len(self.agent_ids))
         return index
+
+    def _messages(self, messages: Sequence[Any] | None, where: str) -> list[Any]:
+        """Structured entries checked (see :mod:`.message_format`); free notes kept as given."""
+        out = list(messages) if messages is not None else []
+        for i, raw in enumerate(out):
+            try:
+                parse_message(raw, self.agent_ids, f"messages[{i}]")
+            except ValueError as exc:
+                raise TapeError(self._src, where, str(exc)) from None
+        return out
 
     def step(
         self,
