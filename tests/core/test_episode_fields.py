@@ -57,3 +57,31 @@ def test_still_frozen() -> None:
         made.dt = 1.0  # type: ignore[misc]
     with pytest.raises(dataclasses.FrozenInstanceError):
         del made.poses  # type: ignore[misc]
+
+
+def test_a_missing_or_extra_value_is_refused() -> None:
+    # a field added to Episode but not passed by the reader must fail, not leave it unset
+    values = list(_values().values())
+    with pytest.raises(ValueError):
+        Episode._of_fields(*values[:-1])
+    with pytest.raises(ValueError):
+        Episode._of_fields(*values, None)
+
+
+def test_refuses_classes_it_cannot_fill() -> None:
+    from arena_studio.core._frozen import fast_maker
+
+    @dataclasses.dataclass(frozen=True, slots=True)
+    class Slotted:
+        a: int
+
+    @dataclasses.dataclass(frozen=True)
+    class Checked:
+        a: int
+
+        def __post_init__(self) -> None:
+            pass
+
+    for cls in (Slotted, Checked, int):
+        with pytest.raises(TypeError):
+            fast_maker(cls)
