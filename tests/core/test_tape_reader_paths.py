@@ -82,7 +82,7 @@ def test_one_chunk_problems_get_the_general_messages(tmp_path: Path) -> None:
         with pytest.raises(
             TapeError, match=r"quick.tape: w chunk at byte 7: bad start or step count$"
         ):
-            tape._chunks([(ord("C"), {**good, **change}, 7)], "w", 2)
+            tape._decoder._chunks([(ord("C"), {**good, **change}, 7)], "w", 2)
 
 
 def test_one_chunk_with_optional_fields_keeps_them(tmp_path: Path) -> None:

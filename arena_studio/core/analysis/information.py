@@ -139,14 +139,15 @@ def estimate(
         t = np.bincount(xc * ky + yc, minlength=kx * ky).reshape(kx, ky)
         return mutual_information_bits(t, corrected=True)
 
-    hits = sum(mi_of(rng.permutation(x_codes), y_codes) >= observed - 1e-12
-               for _ in range(permutations))
+    hits = sum(
+        mi_of(rng.permutation(x_codes), y_codes) >= observed - 1e-12 for _ in range(permutations)
+    )
     p_value = (1 + hits) / (1 + permutations)
     boots = np.empty(resamples)
     for r in range(resamples):
         pick = rng.integers(0, n, n)
         boots[r] = mi_of(x_codes[pick], y_codes[pick])
-    low, high = (np.percentile(boots, [2.5, 97.5]) if resamples else (observed, observed))
+    low, high = np.percentile(boots, [2.5, 97.5]) if resamples else (observed, observed)
     return Estimate(
         bits=observed,
         plug_in_bits=plug_in,

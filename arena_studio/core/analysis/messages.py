@@ -167,8 +167,10 @@ def announcement(messages: Sequence[Message], speaker: str, listener: str | None
     """The speaker's first message before the episode that ``listener`` received (to it or to
     everyone); with ``listener`` None, the first one to anyone."""
     for m in messages:
-        if m.sender == speaker and m.step is None and (
-            listener is None or m.receiver is None or m.receiver == listener
+        if (
+            m.sender == speaker
+            and m.step is None
+            and (listener is None or m.receiver is None or m.receiver == listener)
         ):
             return m
     return None
@@ -194,8 +196,9 @@ def message_report(
         [goal_label(g, landmark_ids) for g in ep.pursued_goals] + [None] * len(agent_ids)
         for ep in episodes
     ]
-    speakers = sorted({m.sender for msgs in parsed for m in msgs if m.step is None},
-                      key=list(agent_ids).index)
+    speakers = sorted(
+        {m.sender for msgs in parsed for m in msgs if m.step is None}, key=list(agent_ids).index
+    )
     speaker_figs, pair_figs = [], []
     for s_idx, speaker in enumerate(speakers):
         a = list(agent_ids).index(speaker)
@@ -212,8 +215,15 @@ def message_report(
             if listener == speaker:
                 continue
             pair = _pair_figures(
-                fig, listener, parsed, goals, list(agent_ids).index(listener), successes,
-                permutations, resamples, seed + 1000 * (s_idx + 1),
+                fig,
+                listener,
+                parsed,
+                goals,
+                list(agent_ids).index(listener),
+                successes,
+                permutations,
+                resamples,
+                seed + 1000 * (s_idx + 1),
             )
             if pair is not None:
                 pair_figs.append(pair)
