@@ -14,9 +14,9 @@ from typing import Any
 import numpy as np
 
 from arena_studio.core.analysis.roles import derive_roles, pursued_mask, tape_roles, team_mask
-from arena_studio.core.episode_scene import episode_scene
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.episode import Episode
+from arena_studio.core.tape.episode_scene import episode_scene
 
 _CACHES: weakref.WeakKeyDictionary[Episode, EpisodeCache] = weakref.WeakKeyDictionary()
 

@@ -16,9 +16,9 @@ from PySide6.QtCore import QBuffer, QByteArray, QIODevice, QRectF, QSize
 from PySide6.QtGui import QColor, QImage, QPainter
 
 from arena_studio.core.atomic import write_bytes_atomic
-from arena_studio.core.episode_scene import episode_scene
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.episode import Episode
+from arena_studio.core.tape.episode_scene import episode_scene
 from arena_studio.render.episode_painter import (
     FrameOptions,
     paint_banner,

@@ -19,8 +19,8 @@ from arena_studio.cli import main
 from arena_studio.core.analysis.metrics import aligned_goals, episode_metrics, summarize_metrics
 from arena_studio.core.analysis.metrics_batch import tape_metrics
 from arena_studio.core.analysis.roles import HEADING, derive_roles
-from arena_studio.core.episode_scene import episode_scene
 from arena_studio.core.tape import TapeWriter, open_tape
+from arena_studio.core.tape.episode_scene import episode_scene
 
 from .tape_helpers import box_scene
 

@@ -36,7 +36,6 @@ from arena_studio.core.analysis.metrics import (
     goal_key,
     par_time_of,
 )
-from arena_studio.core.episode_scene import episode_scene, same_layout
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.sim.observe import (
     coverage_planes_sparse,
@@ -45,6 +44,7 @@ from arena_studio.core.sim.observe import (
 )
 from arena_studio.core.tape.damage import Damage, EpisodeDamaged
 from arena_studio.core.tape.episode import Episode
+from arena_studio.core.tape.episode_scene import episode_scene, same_layout
 from arena_studio.core.value_limits import pose_problem
 
 #: episodes are processed in groups of about this many steps (arrays stay cache-sized)

@@ -7,11 +7,11 @@ naming the file, the episode and the field, or :class:`EpisodeDamaged` for damag
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
 
+from arena_studio.core.tape._index import Entry
 from arena_studio.core.tape.damage import Damage, EpisodeDamaged
 from arena_studio.core.tape.episode import Episode, RoleTimeline
 from arena_studio.core.tape.format import (
@@ -36,7 +36,7 @@ from arena_studio.core.tape.format import (
 )
 from arena_studio.core.value_limits import COORDINATE_LIMIT, HEADING_LIMIT
 
-__all__ = ["GOAL_CACHE_SIZE", "ZERO_COPY_BYTES", "Entry", "EpisodeDecoder", "chunk_number"]
+__all__ = ["GOAL_CACHE_SIZE", "ZERO_COPY_BYTES", "EpisodeDecoder", "chunk_number"]
 
 #: chunk payloads at least this large are decoded without copying their array bytes
 ZERO_COPY_BYTES = 1 << 16
@@ -46,16 +46,6 @@ GOAL_CACHE_SIZE = 4096
 _OPTIONAL_FIELDS = frozenset(("rewards", "actions", "done", "channels"))
 #: one bound for every pose value: x and y in metres, heading in radians
 _POSE_LIMIT = max(COORDINATE_LIMIT, HEADING_LIMIT)
-
-
-@dataclass(frozen=True)
-class Entry:
-    """Where one episode lies in the file, from the index or the recovery scan."""
-
-    begin: int  # offset of the episode's begin record
-    end: int  # offset just after its last readable record
-    steps: int
-    complete: bool
 
 
 def _rank(value: Any) -> int:

@@ -8,11 +8,11 @@ record, saying in one message what was recovered and where the file was cut.
 
 from __future__ import annotations
 
+from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
 
-from arena_studio.core.tape._decode import Entry
 from arena_studio.core.tape._header import unpack_checked
 from arena_studio.core.tape.damage import Damage
 from arena_studio.core.tape.format import (
@@ -33,10 +33,20 @@ from arena_studio.core.tape.format import (
     read_frame,
 )
 
-__all__ = ["MIN_STEP_BYTES", "frame_at", "read_index", "scan_records"]
+__all__ = ["MIN_STEP_BYTES", "Entry", "frame_at", "read_index", "scan_records"]
 
 #: smallest number of bytes one recorded step of one agent occupies (a float32 pose)
 MIN_STEP_BYTES = 12
+
+
+@dataclass(frozen=True)
+class Entry:
+    """Where one episode lies in the file, from the index or the recovery scan."""
+
+    begin: int  # offset of the episode's begin record
+    end: int  # offset just after its last readable record
+    steps: int
+    complete: bool
 
 
 def frame_at(f: Any, pos: int, size: int) -> tuple[int, memoryview, int]:

@@ -24,8 +24,7 @@ import os
 from pathlib import Path
 from typing import Any
 
-from arena_studio.core.tape._decode import Entry
-from arena_studio.core.tape._index import frame_at
+from arena_studio.core.tape._index import Entry, frame_at
 from arena_studio.core.tape.format import (
     KIND_BEGIN,
     KIND_CHUNK,

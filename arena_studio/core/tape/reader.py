@@ -23,9 +23,9 @@ from typing import Any, cast
 import numpy as np
 
 from arena_studio.core.safe_open import InputFileError, open_input
-from arena_studio.core.tape._decode import Entry, EpisodeDecoder, chunk_number
+from arena_studio.core.tape._decode import EpisodeDecoder, chunk_number
 from arena_studio.core.tape._header import read_header
-from arena_studio.core.tape._index import read_index, scan_records
+from arena_studio.core.tape._index import Entry, read_index, scan_records
 from arena_studio.core.tape.damage import Damage, EpisodeDamaged
 from arena_studio.core.tape.episode import Episode
 from arena_studio.core.tape.format import (

@@ -4,7 +4,7 @@ Simulators that move landmarks at every reset record where they stood in the epi
 record (``landmark_positions``, DEVELOPERS.md "Tape format"). Metrics, diagnoses, roles and
 the replay judge an episode against :func:`episode_scene`, never the tape's scene alone::
 
-    from arena_studio.core.episode_scene import episode_scene
+    from arena_studio.core.tape.episode_scene import episode_scene
     scene_e = episode_scene(tape.scene, episode)   # tape.scene itself when nothing moved
 
 Equal positions give the same Scene object (remembered per thread), so per-scene caches
