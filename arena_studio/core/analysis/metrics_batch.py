@@ -7,7 +7,7 @@ end into one (sum T, A, 3) array; coverage, success (:func:`observe.goal_reached
 speeds, overlaps and free-space tests run once over it, and per-episode results come out of
 segment reductions (``reduceat`` over episode start rows, running maxima that restart at each
 start). Path lengths are running sums over each episode's slice, as in the per-episode path,
-so the two agree exactly (tests/core/test_metrics.py checks every field; the diagnoses come
+so the two agree exactly (tests/core/analysis/test_metrics.py checks every field; the diagnoses come
 from :func:`diagnosis.diagnose_block`, the batched twin of ``diagnose``).
 
 ``tape_metrics(tape)`` reads a tape in blocks of whole episodes (one file read per block;
@@ -50,7 +50,7 @@ from arena_studio.core.value_limits import pose_problem
 #: episodes are processed in groups of about this many steps (arrays stay cache-sized)
 BLOCK_STEPS = 32768
 #: EpisodeMetrics(...) with every field given in order, built without the frozen __init__'s
-#: per-field setattr (~2.5 us an object; tests/core/test_metrics_batch_paths.py compares)
+#: per-field setattr (~2.5 us an object; tests/core/analysis/test_metrics_batch_paths.py compares)
 _new_metrics = fast_maker(EpisodeMetrics)
 
 

@@ -17,8 +17,8 @@ most of the planning time. Here the search runs the other way, once per agent:
 
 The minimum is the same one the field gives (the field's node distances are the same
 shortest paths seen from the target side), so par times agree with goal-by-goal planning to
-rounding (tests/core/test_start_search.py compares them). The end-point candidates of a last
-leg are the field's (:func:`visibility_fields.best_straight_leg`).
+rounding (tests/core/geometry/test_start_search.py compares them). The end-point candidates
+of a last leg are the field's (:func:`visibility_fields.best_straight_leg`).
 """
 
 from __future__ import annotations

@@ -40,7 +40,7 @@ class Episode:
     landmark_positions: np.ndarray | None = None
 
     #: ``Episode(...)`` with every field given in order, for the tape reader (thousands a
-    #: second); tests/core/test_episode_fields.py checks it against the generated __init__
+    #: second); tests/core/tape/test_episode_fields.py checks it against the generated __init__
     _of_fields: ClassVar[Callable[..., Episode]]
 
     @property
