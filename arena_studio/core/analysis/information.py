@@ -157,3 +157,15 @@ def estimate(
         high=float(high),
         samples=n,
     )
+
+
+__all__ = [
+    "LN2",
+    "Estimate",
+    "context_independence",
+    "contingency",
+    "entropy_bits",
+    "estimate",
+    "miller_madow_term",
+    "mutual_information_bits",
+]

@@ -367,3 +367,22 @@ def value_counts(report: MessageReport) -> Counter[str]:
         for value, row in zip(s.values, s.counts, strict=True):
             c[value] += sum(row)
     return c
+
+
+__all__ = [
+    "MAX_LIST",
+    "MAX_TEXT",
+    "SIGNIFICANCE",
+    "Message",
+    "MessageReport",
+    "PairFigures",
+    "SpeakerFigures",
+    "announcement",
+    "episode_messages",
+    "explain_choice",
+    "goal_label",
+    "message_report",
+    "parse_message",
+    "value_counts",
+    "value_text",
+]

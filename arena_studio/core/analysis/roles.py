@@ -218,3 +218,16 @@ def tape_roles(episode: Episode) -> tuple[np.ndarray, tuple[str, ...]]:
             s0 = min(max(int(step), 0), steps)
             codes[s0 : min(max(int(end), s0), steps), a] = index[label]
     return codes, tuple(labels)
+
+
+__all__ = [
+    "AIM_CONE_DEG",
+    "IDLE_SPEED_FRACTION",
+    "IDLE_SPEED_MIN",
+    "ROLE_NAMES",
+    "WINDOW_S",
+    "derive_roles",
+    "pursued_mask",
+    "tape_roles",
+    "team_mask",
+]

@@ -40,8 +40,7 @@ import shapely
 from shapely.geometry import Point, Polygon
 from shapely.geometry.base import BaseGeometry
 
-from arena_studio.core.geometry.regions import free_space, per_thread_cache, quad_segments
-from arena_studio.core.geometry.start_search import (
+from arena_studio.core.geometry._start_search import (
     LastLegs,
     StartSearch,
     build_start_search,
@@ -49,6 +48,7 @@ from arena_studio.core.geometry.start_search import (
     route_points,
     target_costs,
 )
+from arena_studio.core.geometry.regions import free_space, per_thread_cache, quad_segments
 from arena_studio.core.geometry.visibility import (
     VisibilityGraph,
     build_visibility_graph,

@@ -72,3 +72,6 @@ class Episode:
 
 
 Episode._of_fields = fast_maker(Episode)
+
+
+__all__ = ["Episode", "RoleTimeline"]
