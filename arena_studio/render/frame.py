@@ -281,7 +281,7 @@ def png_bytes(image: QImage, dpi: float | None = None, software: str | None = No
     data = QByteArray()
     buffer = QBuffer(data)
     buffer.open(QIODevice.OpenModeFlag.WriteOnly)
-    if not image.save(buffer, "PNG"):
+    if not image.save(buffer, "PNG"):  # type: ignore[call-overload]  # stubs want bytes
         raise OSError("could not encode the frame as PNG")
     buffer.close()
     return bytes(data.data())
