@@ -53,7 +53,7 @@ fuzz: $(STAMP)
 
 # demo tapes from the demo scenes, scripted agents, fixed seeds: byte-identical when run again
 # on the same versions and machine; across versions and CPUs the same in meaning (poses within
-# 1e-6 m; tests/core/test_rollout.py)
+# 1e-6 m; tests/core/sim/test_rollout.py)
 DEMO_SCENES := greenhouse parking-level lab-wing
 demos: $(STAMP)
 	for s in $(DEMO_SCENES); do \

@@ -9,9 +9,10 @@ replay viewer add their behaviour and items on top (``canvas.scene()`` is the QG
 from __future__ import annotations
 
 import math
+from typing import Any
 
 import numpy as np
-from PySide6.QtCore import QPoint, QPointF, QRectF, Qt, Signal
+from PySide6.QtCore import QPoint, QPointF, QRect, QRectF, Qt, Signal
 from PySide6.QtGui import (
     QImage,
     QKeyEvent,
@@ -67,7 +68,7 @@ class SceneCanvas(QGraphicsView):
         self._pan_from: QPoint | None = None
         self._space = False
         self._fitted_once = False
-        self._scale_bar_cache: tuple[tuple, tuple[QPoint, QImage]] | None = None
+        self._scale_bar_cache: tuple[tuple[Any, ...], tuple[QPoint, QImage]] | None = None
 
     # -- content -----------------------------------------------------------------------
     @property
@@ -142,10 +143,10 @@ class SceneCanvas(QGraphicsView):
         return (p.x(), p.y())
 
     # -- drawing -----------------------------------------------------------------------
-    def drawBackground(self, painter: QPainter, rect: QRectF) -> None:
+    def drawBackground(self, painter: QPainter, rect: QRectF | QRect) -> None:
         painter.fillRect(rect, self.theme.qcolor("background"))
 
-    def drawForeground(self, painter: QPainter, rect: QRectF) -> None:
+    def drawForeground(self, painter: QPainter, rect: QRectF | QRect) -> None:
         """Scale bar in viewport pixels, drawn by the shared scene painter's function.
 
         It changes only with the zoom, the view size and the theme, yet sits above the items,

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import sys
 import time
+from typing import TextIO, cast
 
 from PySide6.QtWidgets import QFileDialog, QMessageBox, QWidget
 
@@ -91,7 +92,8 @@ class QuietDialogs:
     def _say(self, text: str) -> None:
         line = one_line(text)
         self.errors.append(line)
-        print(f"arena-studio: {line}", file=self.stream or sys.stderr)
+        stream = cast("TextIO", self.stream or sys.stderr)
+        print(f"arena-studio: {line}", file=stream)
 
     def error(self, title: str, text: str) -> None:
         self._say(text)

@@ -84,8 +84,8 @@ class MapPreview(QWidget):
                     ring = QPolygonF([QPointF(x0 + k * u, y0 + k * v) for u, v in px])
                     painter.drawPolygon(ring)
                     painter.setBrush(self.theme.qcolor(role))
-                    for pt in ring:
-                        painter.drawEllipse(pt, 2.0, 2.0)
+                    for k in range(ring.size()):
+                        painter.drawEllipse(ring.at(k), 2.0, 2.0)
                     painter.setBrush(Qt.BrushStyle.NoBrush)
         painter.end()
 

@@ -69,7 +69,7 @@ def draw_label(
     dx: float = 9,
     dy: float = -7,
     backdrop: QColor | None = None,
-):
+) -> None:
     """Upright text offset ``(dx, dy)`` pixels (baseline) from a world point.
 
     A translucent ``backdrop`` keeps the text readable where it crosses a wall or another

@@ -68,8 +68,8 @@ class UnderlayDialog(QDialog):
         lay.setContentsMargins(0, 0, 0, 0)
         lay.addWidget(self.image, 1)
         lay.addWidget(browse)
-        self.x = _spin(-1e6, 1e6, 3, u.origin[0], " m")
-        self.y = _spin(-1e6, 1e6, 3, u.origin[1], " m")
+        self.x_box = _spin(-1e6, 1e6, 3, u.origin[0], " m")
+        self.y_box = _spin(-1e6, 1e6, 3, u.origin[1], " m")
         self.scale = _spin(1e-6, 1e3, 6, u.scale, " m/px")
         self.rotation = _spin(-360.0, 360.0, 4, math.degrees(u.rotation), " °")
         self.opacity = QSlider(Qt.Orientation.Horizontal)
@@ -87,8 +87,8 @@ class UnderlayDialog(QDialog):
         self.locked.setChecked(u.locked)
         form = QFormLayout()
         form.addRow("Image", row)
-        form.addRow("Lower-left corner x", self.x)
-        form.addRow("Lower-left corner y", self.y)
+        form.addRow("Lower-left corner x", self.x_box)
+        form.addRow("Lower-left corner y", self.y_box)
         form.addRow("Scale", self.scale)
         form.addRow("Rotation", self.rotation)
         form.addRow("Opacity", orow)
@@ -137,8 +137,8 @@ class UnderlayDialog(QDialog):
             self.note.setText(f"⚠ {exc}")
             return
         self.image.setText(str(info.image))
-        self.x.setValue(info.origin[0])
-        self.y.setValue(info.origin[1])
+        self.x_box.setValue(info.origin[0])
+        self.y_box.setValue(info.origin[1])
         self.scale.setValue(info.resolution)
         self.rotation.setValue(math.degrees(info.origin[2]))
         self.note.setText(f"Placed as {Path(path).name} says.")
@@ -159,7 +159,7 @@ class UnderlayDialog(QDialog):
         u = self.original
         return Underlay(
             image=image,
-            origin=(_kept(self.x, u.origin[0]), _kept(self.y, u.origin[1])),
+            origin=(_kept(self.x_box, u.origin[0]), _kept(self.y_box, u.origin[1])),
             scale=_kept(self.scale, u.scale),
             rotation=u.rotation
             if self.rotation.value() == round(math.degrees(u.rotation), self.rotation.decimals())

@@ -72,7 +72,7 @@ class UnderlayItem(QGraphicsItem):
         box = self.image.viewBoxF()
         return (box.width(), box.height())
 
-    def show(self, underlay: Underlay | None, image: QImage | Any | None) -> None:
+    def set_underlay(self, underlay: Underlay | None, image: QImage | Any | None) -> None:
         self.prepareGeometryChange()
         self.underlay, self.image = underlay, image
         if underlay is not None and image is not None:
@@ -121,7 +121,7 @@ class UnderlayView(QObject):
     def refresh(self) -> None:
         under = self.document.scene.underlay
         image = self._image_for(self.path()) if under is not None else None
-        self.item.show(under, self._themed(image))
+        self.item.set_underlay(under, self._themed(image))
         self.canvas.layer.theme = see_through(self.theme) if image is not None else self.theme
         self.canvas.layer.update()
         self.canvas.viewport().update()

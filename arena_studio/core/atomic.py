@@ -196,3 +196,19 @@ def _publish_set(pairs: list[tuple[Path, Path]]) -> None:
     publish(meta_tmp, meta_target)
     for folder in {t.parent for _, t in pairs}:
         _fsync_folder(folder)
+
+
+__all__ = [
+    "TEMP_SUFFIXES",
+    "atomic_writer",
+    "clean_stale_temps",
+    "make_temp",
+    "make_temp_dir",
+    "process_alive",
+    "publish",
+    "publish_mode",
+    "temp_owner",
+    "temp_prefix",
+    "write_bytes_atomic",
+    "write_set_atomic",
+]

@@ -24,3 +24,6 @@ class SceneFormatError(ArenaError, ValueError):
     def with_source(self, source: str) -> SceneFormatError:
         """Return the same error, now also naming the file it came from."""
         return SceneFormatError(self.where, self.problem, source)
+
+
+__all__ = ["ArenaError", "SceneFormatError"]

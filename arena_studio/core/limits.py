@@ -5,6 +5,10 @@ values and say the same thing when a value is out of range. Each bound keeps the
 value implies within what the tool handles (frames, steps, pixels, cells); README.md
 ("Limits") lists them. Qt-free: :mod:`arena_studio.commands.arg_types` turns a
 :class:`Range` into an argparse type and the app sets its spin boxes from it.
+
+Two limit modules, split by where the number comes from: this one for numbers a person types
+(refused with a message saying the range); :mod:`arena_studio.core.value_limits` for numbers
+read from files (refused naming the file's field, and importable by the scene model).
 """
 
 from __future__ import annotations

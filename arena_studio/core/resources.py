@@ -31,3 +31,6 @@ def demo_path(*parts: str) -> Path:
 
 
 DEFAULT_DEMO_SCENE = "greenhouse.scene.json"
+
+
+__all__ = ["DEFAULT_DEMO_SCENE", "demo_path", "resource_path"]

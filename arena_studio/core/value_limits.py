@@ -4,6 +4,9 @@ One place so that a scene, a tape and an imported table agree on what they accep
 outside these ranges are refused when the file is read, naming the field, before any
 geometry or drawing code sees them: shapely, numpy and the painters lose all precision (or
 overflow) long before float64 runs out, and a 1 km arena already needs only 1e3.
+
+Numbers a person types (command options, dialog boxes) have their own table,
+:mod:`arena_studio.core.limits`; this module holds only what files may contain.
 """
 
 from __future__ import annotations

@@ -12,6 +12,7 @@ from __future__ import annotations
 import math
 import statistics
 from functools import lru_cache
+from typing import Any
 
 import numpy as np
 from PySide6.QtCore import QPoint, QPointF, Qt
@@ -209,7 +210,7 @@ def _sprite_size(r: float, ui: float) -> int:
     return 2 * math.ceil(extent) + 1  # +1: room for the sub-pixel shift
 
 
-_SPRITES: dict[tuple, QImage] = {}
+_SPRITES: dict[tuple[Any, ...], QImage] = {}
 
 
 def body_sprite(

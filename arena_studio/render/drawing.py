@@ -7,6 +7,7 @@ Kept apart so the scene painter and the episode painter draw text and outlines t
 from __future__ import annotations
 
 from collections.abc import Callable
+from typing import Any
 
 import numpy as np
 from PySide6.QtCore import QPointF, QRectF, Qt
@@ -28,10 +29,10 @@ def font(pixel_size: float, bold: bool = False) -> QFont:
     return f
 
 
-_PENS: dict[tuple, QPen] = {}
+_PENS: dict[tuple[Any, ...], QPen] = {}
 
 
-def cached_pen(key: tuple, make: Callable[[], QPen]) -> QPen:
+def cached_pen(key: tuple[Any, ...], make: Callable[[], QPen]) -> QPen:
     """The pen ``make()`` builds, built once per ``key`` (start keys with the caller's name).
 
     A frame sets dozens of pens, and a QPen with a parsed theme colour costs a few

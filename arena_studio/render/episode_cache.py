@@ -14,9 +14,9 @@ from typing import Any
 import numpy as np
 
 from arena_studio.core.analysis.roles import derive_roles, pursued_mask, tape_roles, team_mask
-from arena_studio.core.episode_scene import episode_scene
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.episode import Episode
+from arena_studio.core.tape.episode_scene import episode_scene
 
 _CACHES: weakref.WeakKeyDictionary[Episode, EpisodeCache] = weakref.WeakKeyDictionary()
 
@@ -46,9 +46,9 @@ class EpisodeCache:
         default_factory=dict, repr=False
     )
     #: pre-drawn trail blocks per view, owned by render.trail_blocks
-    trail_blocks: dict[tuple, Any] = field(default_factory=dict, repr=False)
+    trail_blocks: dict[tuple[Any, ...], Any] = field(default_factory=dict, repr=False)
     #: other per-episode values painters work out once (keys name their owner)
-    memo: dict[tuple, Any] = field(default_factory=dict, repr=False)
+    memo: dict[tuple[Any, ...], Any] = field(default_factory=dict, repr=False)
 
     @property
     def steps(self) -> int:
@@ -154,7 +154,7 @@ def build_cache(scene: Scene, episode: Episode) -> EpisodeCache:
         has_team_goal=episode.team_goal is not None,
         pursued=pursued_mask(scene, episode),
         covered_first=first,
-        covered=covered_agent.any(axis=1),
+        covered=np.asarray(covered_agent.any(axis=1)),
         collisions=_collisions(scene, episode, xy, radius),
     )
 

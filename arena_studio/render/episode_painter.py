@@ -22,6 +22,7 @@ import bisect
 import math
 import time
 from collections.abc import Callable
+from typing import Any
 
 import numpy as np
 from PySide6.QtCore import QPoint, QPointF, Qt
@@ -195,7 +196,7 @@ def paint_targets(
         painter.drawImage(sprite[0], sprite[1])
 
 
-_TARGET_SPRITES: dict[tuple, tuple[QPoint, QImage]] = {}
+_TARGET_SPRITES: dict[tuple[Any, ...], tuple[QPoint, QImage]] = {}
 #: the widest "n at t s" text a target shows, for keeping it off the landmark's label
 _WIDEST_ARRIVAL = "99 at 999.9 s"
 

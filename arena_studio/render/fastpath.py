@@ -43,7 +43,7 @@ def polylines_path(xy: np.ndarray, starts: np.ndarray) -> QPainterPath:
     starts = np.asarray(starts, dtype=bool).reshape(-1).copy()
     if len(xy) == 0:
         return QPainterPath()
-    finite = np.isfinite(xy).all(axis=1)
+    finite = np.asarray(np.isfinite(xy).all(axis=1))
     if not finite.all():
         broken = np.zeros(len(xy), dtype=bool)
         broken[1:] = ~finite[:-1]
@@ -137,7 +137,7 @@ def grouped_rows_paths(
             path = fallback.get((w, k))
             if path is None:
                 path = QPainterPath()
-                stream >> path
+                stream >> path  # type: ignore[operator]  # the stubs miss QDataStream >> QPainterPath
             row.append(path)
         out.append(row)
     del stream

@@ -16,9 +16,9 @@ from PySide6.QtCore import QBuffer, QByteArray, QIODevice, QRectF, QSize
 from PySide6.QtGui import QColor, QImage, QPainter
 
 from arena_studio.core.atomic import write_bytes_atomic
-from arena_studio.core.episode_scene import episode_scene
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.episode import Episode
+from arena_studio.core.tape.episode_scene import episode_scene
 from arena_studio.render.episode_painter import (
     FrameOptions,
     paint_banner,
@@ -281,7 +281,7 @@ def png_bytes(image: QImage, dpi: float | None = None, software: str | None = No
     data = QByteArray()
     buffer = QBuffer(data)
     buffer.open(QIODevice.OpenModeFlag.WriteOnly)
-    if not image.save(buffer, "PNG"):
+    if not image.save(buffer, "PNG"):  # type: ignore[call-overload]  # stubs want bytes
         raise OSError("could not encode the frame as PNG")
     buffer.close()
     return bytes(data.data())

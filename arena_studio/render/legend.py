@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from typing import cast
+
 from PySide6.QtCore import QPointF, QRectF, Qt
 from PySide6.QtGui import QFont, QFontMetricsF, QPainter, QPainterPath, QPen
 
@@ -116,7 +118,7 @@ def paint_legend(
                 c = QPointF(x + r + 2 * ui, y)
                 if kind == "agent":
                     painter.setPen(QPen(theme.qcolor("background"), 1.0))
-                    painter.setBrush(theme.agent_color(int(arg)))
+                    painter.setBrush(theme.agent_color(int(cast(int, arg))))
                     painter.drawEllipse(c, r, r)
                 elif kind == "role":
                     hollow = arg == STYLE_HOLLOW
@@ -127,7 +129,7 @@ def paint_legend(
                     )
                     painter.setBrush(theme.qcolor("text_muted", alpha=0.35 if hollow else 1.0))
                     painter.drawEllipse(c, r, r)
-                    paint_role_mark(painter, c, r, int(arg), text, theme, ui)
+                    paint_role_mark(painter, c, r, int(cast(int, arg)), text, theme, ui)
                 elif kind == "mark":
                     _paint_key(painter, str(arg), c, r, theme, ui)
                 color = muted if kind == "more" else text

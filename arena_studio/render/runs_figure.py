@@ -9,7 +9,7 @@ them apart.
 from __future__ import annotations
 
 from pathlib import Path
-from typing import Any
+from typing import Any, cast
 
 #: colours of our own, dark to light (distinct in greyscale), with line styles and markers
 COLOURS = ("#1d2b4a", "#b4521f", "#6fa99a", "#7a4f8f", "#c9a227", "#4a4a4a")
@@ -52,7 +52,7 @@ def save_runs_figure(path: str | Path, rows: list[Any], final: Any, settings: An
     stat = settings.statistic
     groups = list(dict.fromkeys(r.group for r in rows))
     level = f"{100 * settings.confidence:g}%"
-    with plt.rc_context(_rc()):
+    with plt.rc_context(cast(Any, _rc())):
         fig, (left, right) = plt.subplots(
             1,
             2,

@@ -22,6 +22,7 @@ import threading
 import time
 from collections.abc import Callable, Iterator
 from dataclasses import dataclass, field
+from typing import Any
 
 import numpy as np
 from PySide6.QtCore import QPoint, QRect, Qt
@@ -93,7 +94,7 @@ class _Store:
     skip: set[tuple[int, int]] = field(default_factory=set)  # blocks with nothing to keep
     seen: set[tuple[int, int]] = field(default_factory=set)  # shown once, not kept yet
     pixels: int = 0
-    job: tuple[tuple, Iterator[tuple[int, int]]] | None = None  # an unfinished prefill
+    job: tuple[tuple[Any, ...], Iterator[tuple[int, int]]] | None = None  # an unfinished prefill
 
     def add(self, key: tuple[int, int], entry: tuple[int, int, QImage] | None) -> None:
         if entry is None:
@@ -103,7 +104,7 @@ class _Store:
         self.pixels += entry[2].width() * entry[2].height()
 
 
-def _store(cache: EpisodeCache, key: tuple) -> _Store:
+def _store(cache: EpisodeCache, key: tuple[Any, ...]) -> _Store:
     stores = cache.trail_blocks
     store = stores.get(key)
     if store is None:
@@ -162,7 +163,9 @@ def paint_wide_trails(
     for start, end, whole, _alpha in spans:
         if not whole:
             live[start] = _pixels(cache.xy[span_samples(start, end, stride)], view)
-    missing: dict[int, tuple[list, list]] = {}  # span start -> pixels and boxes, per agent
+    missing: dict[
+        int, tuple[list[Any], list[Any]]
+    ] = {}  # span start -> pixels and boxes, per agent
     budget = NEW_BLOCKS_PER_FRAME
     base = painter.opacity()  # e.g. a ghosted episode's layer opacity
     device = painter.device()
@@ -240,7 +243,9 @@ class _Scratch:
         self.image = QImage(128, 128, QImage.Format.Format_ARGB32_Premultiplied)
         self._painter: QPainter | None = None
 
-    def stroke(self, pts: list, box: tuple[int, int, int, int], pen: QPen, piece: int) -> QRect:
+    def stroke(
+        self, pts: list[Any], box: tuple[int, int, int, int], pen: QPen, piece: int
+    ) -> QRect:
         """Stroke the polyline ``pts`` (pixels) at full strength into the image's corner, for
         ``box`` (from :func:`_span_box`): the returned rect of the image belongs at whole
         pixel ``box[:2]``."""
@@ -274,7 +279,7 @@ class _Scratch:
             self._painter = None
 
 
-def _span_box(pts: list, width: float) -> tuple[int, int, int, int] | None:
+def _span_box(pts: list[Any], width: float) -> tuple[int, int, int, int] | None:
     """Whole-pixel box ``(x0, y0, w, h)`` around a polyline and its pen, or None when it has
     fewer than two finite points."""
     finite = [p for p in pts if math.isfinite(p[0]) and math.isfinite(p[1])]
@@ -288,7 +293,7 @@ def _span_box(pts: list, width: float) -> tuple[int, int, int, int] | None:
 
 def _span_geometry(
     cache: EpisodeCache, start: int, end: int, stride: int, view: ViewTransform, width: float
-) -> tuple[list, list]:
+) -> tuple[list[Any], list[Any]]:
     """Every agent's pixels of one span (one numpy pass) and their :func:`_span_box` (plain
     floats: a dozen points an agent, where numpy's per-call cost would dominate)."""
     per_agent = _pixels(cache.xy[span_samples(start, end, stride)], view)
@@ -369,7 +374,9 @@ def prefill_blocks(
     here = min(max(step // size, 0), max(last - 1, 0))
     job_key = (here, bounds, theme.name)
     if store.job is None or store.job[0] != job_key:
-        order = ((a, j) for j in _nearest_first(here, last) for a in range(cache.agents))
+        order: Iterator[tuple[int, int]] = (
+            (a, j) for j in _nearest_first(here, last) for a in range(cache.agents)
+        )
         store.job = (job_key, order)
     order = store.job[1]
     visible = None
@@ -404,7 +411,7 @@ def _overlaps(box: tuple[int, int, int, int], rect: tuple[int, int, int, int]) -
     return x0 < rect[2] and x0 + w > rect[0] and y0 < rect[3] and y0 + h > rect[1]
 
 
-def _nearest_first(here: int, count: int):
+def _nearest_first(here: int, count: int) -> Iterator[int]:
     """Block numbers ``0 .. count - 1`` by distance from ``here``, the one behind before the
     one ahead at each distance (a trail lies behind its step)."""
     if 0 <= here < count:
@@ -415,17 +422,17 @@ def _nearest_first(here: int, count: int):
                 yield j
 
 
-def _pixels(world: np.ndarray, view: ViewTransform) -> list:
+def _pixels(world: np.ndarray, view: ViewTransform) -> list[Any]:
     """(S, [A,] 2) metres -> nested lists of pixels, agent-major when there are agents."""
     px = world * np.array([view.scale, -view.scale]) + np.array([view.offset_x, view.offset_y])
     return (px.swapaxes(0, 1) if px.ndim == 3 else px).tolist()
 
 
-def _pieces(pts: list, piece: int) -> list[QPainterPath]:
+def _pieces(pts: list[Any], piece: int) -> list[QPainterPath]:
     """A polyline (list of pixel pairs) as paths of ``piece`` points sharing their ends: Qt
     strokes short wide pieces several times cheaper per point than one long path (see
     :data:`~.fastpath.WIDE_PIECE_PX`). A non-finite point breaks the line."""
-    runs: list[list] = [[]]
+    runs: list[list[Any]] = [[]]
     for xy in pts:
         if math.isfinite(xy[0]) and math.isfinite(xy[1]):
             runs[-1].append(xy)
@@ -443,7 +450,12 @@ def _pieces(pts: list, piece: int) -> list[QPainterPath]:
 
 
 def _block_image(
-    pts: list, box: tuple[int, int, int, int], piece: int, theme: Theme, color: int, width: float
+    pts: list[Any],
+    box: tuple[int, int, int, int],
+    piece: int,
+    theme: Theme,
+    color: int,
+    width: float,
 ) -> tuple[int, int, QImage]:
     """One block (pixel polyline ``pts`` in ``box``) stroked at full strength into a
     transparent image on the pixel grid, exactly as :func:`paint_wide_trails` strokes it."""

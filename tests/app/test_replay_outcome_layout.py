@@ -15,7 +15,7 @@ from arena_studio.app.replay.replay_window import ReplayWindow
 from arena_studio.core.tape.format import TRAILER, TRAILER_MAGIC, frame, pack, unpack
 
 REFERENCE = Path(__file__).resolve().parents[1] / "data" / "reference.tape"
-E1_LANDMARKS = [(2.0, 3.5), (4.0, 3.5)]  # as in tests/core/test_tape_reference.py
+E1_LANDMARKS = [(2.0, 3.5), (4.0, 3.5)]  # as in tests/core/tape/test_tape_reference.py
 SCENE_LANDMARKS = [(1.0, 3.0), (5.0, 3.0)]
 
 

@@ -24,7 +24,7 @@ def _clear() -> None:
         geometry.walkable_area,
         geometry.obstacle_area,
         geometry.open_area,
-        geometry.regions,
+        geometry.free_space,
         geometry.wall_lines,
         checks_reach.reach_table,
     ):

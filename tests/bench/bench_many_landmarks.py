@@ -6,7 +6,7 @@ seconds for all 3,000 goals the current way, the seconds the field-per-landmark 
 the first ``OLD_LANDMARKS`` of them (the whole table takes minutes that way; set
 ``BENCH_FULL=1`` to time all of it), the per-goal times and their ratio, all measured in this
 run (CPU seconds of this process). Both ways give the same par times
-(tests/core/test_start_search.py).
+(tests/core/geometry/test_start_search.py).
 """
 
 from __future__ import annotations
@@ -18,7 +18,7 @@ import time
 from arena_studio.core.geometry.paths import PathPlanner
 from arena_studio.core.planning.goal_set import enumerate_goals
 from arena_studio.core.planning.partime import plan_all
-from tests.core.test_start_search import many_landmarks_scene
+from tests.core.geometry.test_start_search import many_landmarks_scene
 
 LANDMARKS = 3000
 OLD_LANDMARKS = 300

@@ -19,9 +19,9 @@ from shapely.geometry import LineString, Point, box
 from shapely.ops import unary_union
 
 from arena_studio.core.analysis.roles import AIM_CONE_DEG, HEADING, OFF_GOAL, derive_roles
+from arena_studio.core.geometry.waypoints import next_waypoints
 from arena_studio.core.scene.model import Agent, Landmark, Room, Scene, Start
 from arena_studio.core.tape.episode import Episode
-from arena_studio.core.waypoints import next_waypoints
 
 RADIUS = 0.25
 ROOMS = {

@@ -38,9 +38,9 @@ from arena_studio.app.replay.transport import PlaybackClock
 from arena_studio.app.replay.transport_bar import TransportBar
 from arena_studio.app.replay.verdict import VerdictLine
 from arena_studio.app.replay.view_toolbar import COMPARE_MODES, ViewToolbar
-from arena_studio.core.episode_scene import episode_scene
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.damage import Damage
+from arena_studio.core.tape.episode_scene import episode_scene
 from arena_studio.render.theme import Theme, load_theme
 
 

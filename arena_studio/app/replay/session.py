@@ -77,7 +77,7 @@ def load_prepared(scene: Scene, episode: Episode) -> PreparedEpisode:
 
 
 def _load_prepared(scene: Scene, episode: Episode) -> PreparedEpisode:
-    from arena_studio.core.episode_scene import episode_scene
+    from arena_studio.core.tape.episode_scene import episode_scene
     from arena_studio.render.episode_cache import episode_cache
 
     scene = episode_scene(scene, episode)  # the episode's own landmark positions, if any

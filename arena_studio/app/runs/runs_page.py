@@ -14,7 +14,7 @@ from __future__ import annotations
 import math
 from dataclasses import replace
 from pathlib import Path
-from typing import Any
+from typing import Any, cast
 
 import numpy as np
 import pyqtgraph as pg
@@ -85,11 +85,11 @@ class RunsPage(QWidget):
         self.loader.loaded.connect(self._on_loaded)
         self.loader.failed.connect(self._on_failed)
         self.watcher = QFileSystemWatcher(self)
-        self.watcher.directoryChanged.connect(lambda _p: self._reload_timer.start())
         self._reload_timer = QTimer(self)
         self._reload_timer.setSingleShot(True)
         self._reload_timer.setInterval(RELOAD_MS)
         self._reload_timer.timeout.connect(self.reload)
+        self.watcher.directoryChanged.connect(lambda _p: self._reload_timer.start())
         self._build()
         self.set_theme(self.theme)
 
@@ -382,8 +382,9 @@ class RunsPage(QWidget):
     def _heat_rgba(self, values: np.ndarray) -> np.ndarray:
         """(steps, goals, 4) image: a lightness ramp from the background to the text colour
         (readable in greyscale); cells without runs are transparent."""
-        lo = np.array(self.theme.qcolor("room_fill").getRgb()[:3], dtype=float)
-        hi = np.array(self.theme.qcolor("info").getRgb()[:3], dtype=float)
+        # getRgb() is a 4-tuple of ints (the stubs say object)
+        lo = np.array(cast(Any, self.theme.qcolor("room_fill").getRgb())[:3], dtype=float)
+        hi = np.array(cast(Any, self.theme.qcolor("info").getRgb())[:3], dtype=float)
         v = values.T[..., None]
         # 0 success is a visible tint, unlike a cell with no episodes of that goal
         rgb = lo + (hi - lo) * (HEAT_FLOOR + (1 - HEAT_FLOOR) * np.nan_to_num(v, nan=0.0))

@@ -159,41 +159,142 @@ def diagnose(
     )
 
 
+@dataclass(frozen=True, slots=True)
+class BlockArrays:
+    """The arrays of episodes laid end to end that :func:`diagnose_block` reads.
+
+    ``cover`` (N, A, L) and ``still`` (N, A) are the episodes' arrays concatenated, ``xs``
+    and ``ys`` (A, N) the agents' positions laid out the same way (as float64). ``rows`` is
+    (starts, lengths, floor) of the episodes as :func:`observe.segment_starts` gives them;
+    ``count`` (L, N) the number of agents covering each landmark, needed for every landmark
+    an episode without success targets (for all of them when one such is misaligned)."""
+
+    cover: np.ndarray
+    still: np.ndarray
+    rows: tuple[np.ndarray, np.ndarray, np.ndarray]
+    count: np.ndarray
+    xs: np.ndarray
+    ys: np.ndarray
+
+
+@dataclass(frozen=True, slots=True)
+class _Targets:
+    """The judged targets of the failed episodes (``todo``) of a block."""
+
+    todo: list[int]
+    tmask: np.ndarray  # (E, L) bool; rows outside todo are False
+    uniform: bool  # every episode of todo has the same targets
+    misaligned: bool  # some episode of todo is misaligned
+
+    def rows_of(self, k: int, lengths: np.ndarray) -> np.ndarray | None:
+        """Rows whose episode targets landmark k; None: all of them (uniform goals)."""
+        return None if self.uniform else np.repeat(self.tmask[:, k], lengths)
+
+
+@dataclass(frozen=True, slots=True)
+class _TargetRuns:
+    """Per episode, from the per-row target tests."""
+
+    dup_last: list[bool]  # a target doubly covered while another is empty, at the end
+    dup_start: list[int]  # the step that situation began (and lasted to the end)
+    all_reached: list[bool]  # every target covered at some step
+    last_reached: list[int]  # the step the last target was first reached
+
+
+class _EndState:
+    """Per episode, the state at its last step; the dearer answers are computed when first
+    asked (most failed episodes never need them)."""
+
+    def __init__(self, arrays: BlockArrays, last: np.ndarray) -> None:
+        self._arrays = arrays
+        self._last = last
+        self.count = arrays.count[:, last].T.tolist()  # (E, L)
+        self.still = arrays.still[last].tolist()  # (E, A)
+        self._run_starts: list[list[int]] = []
+        self._cover_rows: list[list[list[bool]]] = []
+
+    def still_start(self, e: int, a: int) -> int:
+        """First step of agent a's still run that lasts to episode e's end."""
+        if not self._run_starts:
+            starts, _, floor = self._arrays.rows
+            idx = np.arange(floor.shape[0])
+            self._run_starts.extend(
+                (
+                    np.maximum.reduceat(
+                        np.where(self._arrays.still, floor[:, None], idx[:, None]), starts, 0
+                    )
+                    + 1
+                    - starts[:, None]
+                ).tolist()
+            )
+        return self._run_starts[e][a]
+
+    def cover(self, e: int) -> list[list[bool]]:
+        """(A, L) coverage at episode e's last step."""
+        if not self._cover_rows:
+            self._cover_rows.extend(self._arrays.cover[self._last].tolist())
+        return self._cover_rows[e]
+
+
 def diagnose_block(
     scene: Scene,
     episodes: Sequence[Episode],
     success: Sequence[bool],
     goals: Sequence[tuple[int, ...] | None],
     aligned: Sequence[bool | None],
-    cover: np.ndarray,
-    still: np.ndarray,
-    rows: tuple[np.ndarray, np.ndarray, np.ndarray],
-    count: np.ndarray,
-    xs: np.ndarray,
-    ys: np.ndarray,
+    arrays: BlockArrays,
 ) -> list[Diagnosis | None]:
     """:func:`diagnose` for episodes laid end to end, one answer per episode, identical to
     calling it episode by episode: every per-step test runs once over all rows and is reduced
-    per episode (``starts`` are the first rows), leaving only the wording to a Python loop.
+    per episode, leaving only the wording to a Python loop.
 
     ``success``, ``goals`` (judged target indices) and ``aligned`` are the episodes'
-    metrics; ``cover`` (N, A, L) and ``still`` (N, A) their arrays concatenated, ``xs`` and
-    ``ys`` (A, N) the agents' positions laid out the same way (as float64). ``rows`` is
-    (starts, lengths, floor) of the episodes as :func:`observe.segment_starts` gives them;
-    ``count`` (L, N) the number of agents covering each landmark, needed for every landmark
-    an episode without success targets (for all of them when one such is misaligned). All
-    episodes share one ``dt``.
+    metrics, ``arrays`` their concatenated arrays. All episodes share one ``dt``.
     """
-    starts, lengths, floor = rows
-    n_ep = len(episodes)
-    out: list[Diagnosis | None] = [None] * n_ep
+    out: list[Diagnosis | None] = [None] * len(episodes)
+    targets = _block_targets(success, goals, aligned, arrays.cover.shape[2])
+    if targets is None:
+        return out
+    starts, lengths, _ = arrays.rows
+    last = starts + lengths - 1
+    off_first = _off_goal_first(targets, arrays) if targets.misaligned else []
+    runs = _target_runs(targets, arrays)
+    end = _EndState(arrays, last)
+    back = np.maximum(last - round(1.0 / episodes[0].dt), starts)
+    lm_all = np.array([lm.position for lm in scene.landmarks], dtype=np.float64)
+    todo = targets.todo
+    approaching = _approaching(
+        todo,
+        targets.tmask,
+        arrays.count[:, last].T,
+        lm_all,
+        (arrays.xs, arrays.ys),
+        last[todo],
+        back[todo],
+    )
+    words = _Wording(scene, episodes[0].dt)
+    for e in todo:
+        t_end = int(lengths[e]) - 1
+        if aligned[e] is False:
+            out[e] = words.misaligned(episodes[e], off_first[e], t_end)
+        else:
+            out[e] = words.first_match(
+                episodes[e], list(goals[e] or ()), t_end, runs, end, approaching[e], e
+            )
+    return out
+
+
+def _block_targets(
+    success: Sequence[bool],
+    goals: Sequence[tuple[int, ...] | None],
+    aligned: Sequence[bool | None],
+    n_lm: int,
+) -> _Targets | None:
+    """The failed episodes with a goal and their target masks; None when there are none."""
+    n_ep = len(success)
     todo = [e for e in range(n_ep) if not success[e] and goals[e] is not None]
     if not todo:
-        return out
-    n_rows, n_agents, n_lm = cover.shape
-    ends = starts + lengths
-    last = ends - 1
-    idx = np.arange(n_rows)
+        return None
     tmask = np.zeros((n_ep, n_lm), dtype=bool)
     by_goal: dict[tuple[int, ...], list[int]] = {}
     for e in todo:
@@ -204,28 +305,41 @@ def diagnose_block(
     # when those share one goal its mask can stand for every row
     uniform = bool((tmask[todo] == tmask[todo[0]]).all())
     misaligned = any(aligned[e] is False for e in todo)
-    used: np.ndarray = np.asarray(tmask.any(axis=0))
+    return _Targets(todo, tmask, uniform, misaligned)
 
-    def rows_of(k: int) -> np.ndarray | None:
-        """Rows whose episode targets landmark k; None: all of them (uniform goals)."""
-        return None if uniform else np.repeat(tmask[:, k], lengths)
 
-    covered: np.ndarray = np.asarray(count > 0)  # (L, N)
-    if misaligned:  # first step a landmark outside the goal is hit
-        off = np.zeros(n_rows, dtype=bool)
-        for k in range(n_lm):
-            rk = rows_of(k)
-            if rk is None:
-                if not tmask[todo[0], k]:
-                    off |= covered[k]
-            else:
-                off |= covered[k] & ~rk
-        off_first = (np.minimum.reduceat(np.where(off, idx, n_rows), starts) - starts).tolist()
+def _off_goal_first(targets: _Targets, arrays: BlockArrays) -> list[int]:
+    """Per episode, the first step a landmark outside the goal is covered (past the end:
+    never)."""
+    starts, lengths, _ = arrays.rows
+    count = arrays.count
+    n_lm, n_rows = count.shape
+    covered = np.asarray(count > 0)
+    off = np.zeros(n_rows, dtype=bool)
+    for k in range(n_lm):
+        rk = targets.rows_of(k, lengths)
+        if rk is None:
+            if not targets.tmask[targets.todo[0], k]:
+                off |= covered[k]
+        else:
+            off |= covered[k] & ~rk
+    idx = np.arange(n_rows)
+    return (np.minimum.reduceat(np.where(off, idx, n_rows), starts) - starts).tolist()
+
+
+def _target_runs(targets: _Targets, arrays: BlockArrays) -> _TargetRuns:
+    """Duplicate coverage and first visits of the targets, reduced per episode."""
+    starts, lengths, floor = arrays.rows
+    count, tmask = arrays.count, targets.tmask
+    n_lm, n_rows = count.shape
+    ends = starts + lengths
+    idx = np.arange(n_rows)
+    covered = np.asarray(count > 0)
     many = np.zeros(n_rows, dtype=bool)  # some target covered twice or more
     hole = np.zeros(n_rows, dtype=bool)  # some target empty
-    first_cov = np.full((n_ep, n_lm), n_rows, dtype=np.int64)
-    for k in np.flatnonzero(used).tolist():
-        rk = rows_of(k)
+    first_cov = np.full((len(starts), n_lm), n_rows, dtype=np.int64)
+    for k in np.flatnonzero(tmask.any(axis=0)).tolist():
+        rk = targets.rows_of(k, lengths)
         if rk is None:
             many |= count[k] >= 2
             hole |= ~covered[k]
@@ -234,110 +348,88 @@ def diagnose_block(
             hole |= ~covered[k] & rk
         first_cov[:, k] = np.minimum.reduceat(np.where(covered[k], idx, n_rows), starts)
     dup = many & hole
-    dup_last = dup[last].tolist()
-    dup_start = (np.maximum.reduceat(np.where(dup, floor, idx), starts) + 1 - starts).tolist()
-    all_reached: list[bool] = np.asarray(
-        (~tmask | (first_cov < ends[:, None])).all(axis=1)
-    ).tolist()
-    last_reached = (np.where(tmask, first_cov, -1).max(axis=1) - starts).tolist()
-    end_count = count[:, last].T.tolist()  # (E, L)
-    run_starts: list[list[int]] = []
-
-    def still_start(e: int, a: int) -> int:
-        """First step of agent a's still run that lasts to episode e's end (computed once)."""
-        if not run_starts:
-            run_starts.extend(
-                (
-                    np.maximum.reduceat(np.where(still, floor[:, None], idx[:, None]), starts, 0)
-                    + 1
-                    - starts[:, None]
-                ).tolist()
-            )
-        return run_starts[e][a]
-
-    still_last = still[last].tolist()
-    cover_rows: list[list[list[bool]]] = []
-
-    def cover_last(e: int) -> list[list[bool]]:
-        """(A, L) coverage at episode e's last step (computed once, when first asked)."""
-        if not cover_rows:
-            cover_rows.extend(cover[last].tolist())
-        return cover_rows[e]
-
-    dt = episodes[0].dt
-    lm_all = np.array([lm.position for lm in scene.landmarks], dtype=np.float64)
-    ids = [a.id for a in scene.agents]
-    lm_ids = [lm.id for lm in scene.landmarks]
-    need = round(STUCK_SECONDS / dt)
-    back_steps = round(1.0 / dt)
-    simultaneous = scene.goals.rule != "all_visited"
-    hold_words = f" for {scene.goals.hold_time:g} s" if scene.goals.hold_time > 0 else ""
-    back = np.maximum(last - back_steps, starts)
-    approaching_of = _approaching(
-        todo, tmask, count[:, last].T, lm_all, (xs, ys), last[todo], back[todo]
+    return _TargetRuns(
+        dup[ends - 1].tolist(),
+        (np.maximum.reduceat(np.where(dup, floor, idx), starts) + 1 - starts).tolist(),
+        np.asarray((~tmask | (first_cov < ends[:, None])).all(axis=1)).tolist(),
+        (np.where(tmask, first_cov, -1).max(axis=1) - starts).tolist(),
     )
-    for e in todo:
-        ep = episodes[e]
-        targets = list(goals[e] or ())
-        t_end = int(lengths[e]) - 1
-        if aligned[e] is False:
-            wanted = _wanted(scene, ep)
-            team = ep.team_goal
-            lead = f"team goal {_goal_words(scene, team)}; " if team is not None else ""
-            first = off_first[e]
-            out[e] = Diagnosis(
-                "misaligned",
-                f"agents pursued different goals ({lead}{wanted})",
-                first if first <= t_end else 0,
-            )
-            continue
-        counts = [end_count[e][lm] for lm in targets]
+
+
+class _Wording:
+    """The diagnoses' sentences, checked in the module docstring's order."""
+
+    def __init__(self, scene: Scene, dt: float) -> None:
+        self.scene = scene
+        self.ids = [a.id for a in scene.agents]
+        self.lm_ids = [lm.id for lm in scene.landmarks]
+        self.need = round(STUCK_SECONDS / dt)
+        self.simultaneous = scene.goals.rule != "all_visited"
+        hold = scene.goals.hold_time
+        self.hold_words = f" for {hold:g} s" if hold > 0 else ""
+
+    def misaligned(self, ep: Episode, first: int, t_end: int) -> Diagnosis:
+        wanted = _wanted(self.scene, ep)
+        team = ep.team_goal
+        lead = f"team goal {_goal_words(self.scene, team)}; " if team is not None else ""
+        return Diagnosis(
+            "misaligned",
+            f"agents pursued different goals ({lead}{wanted})",
+            first if first <= t_end else 0,
+        )
+
+    def first_match(
+        self,
+        ep: Episode,
+        targets: list[int],
+        t_end: int,
+        runs: _TargetRuns,
+        end: _EndState,
+        closer: list[bool],
+        e: int,
+    ) -> Diagnosis:
+        ids, lm_ids = self.ids, self.lm_ids
+        n_agents = len(ids)
+        counts = [end.count[e][lm] for lm in targets]
         if len(targets) >= 2:
-            if dup_last[e]:
-                k_dup = counts.index(max(counts))
+            if runs.dup_last[e]:
+                lm_dup = targets[counts.index(max(counts))]
                 k_empty = counts.index(0)
-                lm_dup = targets[k_dup]
-                who = " and ".join(ids[a] for a in range(n_agents) if cover_last(e)[a][lm_dup])
-                out[e] = Diagnosis(
+                who = " and ".join(ids[a] for a in range(n_agents) if end.cover(e)[a][lm_dup])
+                return Diagnosis(
                     "duplicate-target",
                     f"{who} went to {lm_ids[lm_dup]} while {lm_ids[targets[k_empty]]} stayed empty",
-                    dup_start[e],
+                    runs.dup_start[e],
                 )
-                continue
-            if simultaneous and all_reached[e]:
-                out[e] = Diagnosis(
+            if self.simultaneous and runs.all_reached[e]:
+                return Diagnosis(
                     "not-together",
-                    "every target was reached, but never all at the same time" + hold_words,
-                    last_reached[e],
+                    "every target was reached, but never all at the same time" + self.hold_words,
+                    runs.last_reached[e],
                 )
-                continue
         empty = [lm for lm, c in zip(targets, counts, strict=True) if c == 0] or list(targets)
         empty_words = "+".join(lm_ids[i] for i in empty)
-        closer = approaching_of[e]
-        approaching = [a for a in range(n_agents) if closer[a] and not still_last[e][a]]
+        still_last = end.still[e]
+        approaching = [a for a in range(n_agents) if closer[a] and not still_last[a]]
         if approaching:
             names = ", ".join(ids[a] for a in approaching)
-            out[e] = Diagnosis(
+            return Diagnosis(
                 "time-ran-out",
                 f"time ran out while {names} still moved towards {empty_words}",
                 t_end,
             )
-            continue
         for a in range(n_agents):
-            if still_last[e][a] and not any(cover_last(e)[a][lm] for lm in targets):
-                start = still_start(e, a)
-                if t_end - start >= need:
+            if still_last[a] and not any(end.cover(e)[a][lm] for lm in targets):
+                start = end.still_start(e, a)
+                if t_end - start >= self.need:
                     x, y = ep.poses[start, a, :2]
-                    out[e] = Diagnosis(
+                    return Diagnosis(
                         "stuck",
                         f"{ids[a]} stopped at ({x:.2f}, {y:.2f}) away from every target while "
                         f"{empty_words} stayed empty",
                         start,
                     )
-                    break
-        else:
-            out[e] = Diagnosis("uncovered", f"targets left empty at the end: {empty_words}", t_end)
-    return out
+        return Diagnosis("uncovered", f"targets left empty at the end: {empty_words}", t_end)
 
 
 def _approaching(
@@ -386,4 +478,4 @@ def _any_row(mask: np.ndarray) -> np.ndarray:
     return out
 
 
-__all__ = ["CODES", "Diagnosis", "diagnose", "diagnose_block"]
+__all__ = ["CODES", "BlockArrays", "Diagnosis", "diagnose", "diagnose_block"]

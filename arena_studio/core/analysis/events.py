@@ -18,10 +18,10 @@ from dataclasses import dataclass
 import numpy as np
 
 from arena_studio.core.analysis.metrics import EpisodeMetrics, episode_metrics, onsets, outside_mask
-from arena_studio.core.episode_scene import episode_scene
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.sim.observe import coverage
 from arena_studio.core.tape.episode import Episode
+from arena_studio.core.tape.episode_scene import episode_scene
 
 KINDS = ("reached", "left", "success", "collision", "wall-collision", "role", "diagnosis")
 

@@ -149,7 +149,7 @@ def estimate(
     for r in range(resamples):
         pick = rng.integers(0, n, n)
         boots[r] = mi_of(x_codes[pick], y_codes[pick])
-    low, high = (np.percentile(boots, [2.5, 97.5]) if resamples else (observed, observed))
+    low, high = np.percentile(boots, [2.5, 97.5]) if resamples else (observed, observed)
     return Estimate(
         bits=observed,
         plug_in_bits=plug_in,
@@ -160,3 +160,15 @@ def estimate(
         samples=n,
         chance=float(shuffled.mean()) if permutations else 0.0,
     )
+
+
+__all__ = [
+    "LN2",
+    "Estimate",
+    "context_independence",
+    "contingency",
+    "entropy_bits",
+    "estimate",
+    "miller_madow_term",
+    "mutual_information_bits",
+]

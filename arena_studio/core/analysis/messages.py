@@ -33,7 +33,7 @@ from arena_studio.core.analysis.information import (
     estimate,
 )
 from arena_studio.core.tape.episode import Episode
-from arena_studio.core.tape.message_format import (  # noqa: F401 (re-exported)
+from arena_studio.core.tape.message_format import (
     MAX_LIST,
     MAX_TEXT,
     Message,
@@ -126,8 +126,10 @@ def announcement(messages: Sequence[Message], speaker: str, listener: str | None
     """The speaker's first message before the episode that ``listener`` received (to it or to
     everyone); with ``listener`` None, the first one to anyone."""
     for m in messages:
-        if m.sender == speaker and m.step is None and (
-            listener is None or m.receiver is None or m.receiver == listener
+        if (
+            m.sender == speaker
+            and m.step is None
+            and (listener is None or m.receiver is None or m.receiver == listener)
         ):
             return m
     return None
@@ -156,8 +158,9 @@ def message_report(
         [goal_label(g, landmark_ids) for g in ep.pursued_goals] + [None] * len(agent_ids)
         for ep in episodes
     ]
-    speakers = sorted({m.sender for msgs in parsed for m in msgs if m.step is None},
-                      key=list(agent_ids).index)
+    speakers = sorted(
+        {m.sender for msgs in parsed for m in msgs if m.step is None}, key=list(agent_ids).index
+    )
     speaker_figs, pair_figs = [], []
     for s_idx, speaker in enumerate(speakers):
         a = list(agent_ids).index(speaker)
@@ -324,3 +327,22 @@ def value_counts(report: MessageReport) -> Counter[str]:
         for value, row in zip(s.values, s.counts, strict=True):
             c[value] += sum(row)
     return c
+
+
+__all__ = [
+    "MAX_LIST",
+    "MAX_TEXT",
+    "SIGNIFICANCE",
+    "Message",
+    "MessageReport",
+    "PairFigures",
+    "SpeakerFigures",
+    "announcement",
+    "episode_messages",
+    "explain_choice",
+    "goal_label",
+    "message_report",
+    "parse_message",
+    "value_counts",
+    "value_text",
+]

@@ -35,12 +35,12 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
-from arena_studio.core.episode_scene import episode_scene
 from arena_studio.core.geometry.inside_test import InsideTest
 from arena_studio.core.geometry.regions import free_space, per_thread_cache
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.sim.observe import coverage, goal_reached
 from arena_studio.core.tape.episode import Episode
+from arena_studio.core.tape.episode_scene import episode_scene
 
 if TYPE_CHECKING:
     from arena_studio.core.analysis.events import Event

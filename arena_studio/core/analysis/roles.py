@@ -19,8 +19,8 @@ the landmark's reach radius, the README's definition, via ``observe.coverage``):
 
 The *aim* of a moving agent: over the last :data:`WINDOW_S` seconds it moved along a
 displacement ``v``; every landmark whose next waypoint on the agent's shortest path to it
-(:mod:`arena_studio.core.waypoints`: a doorway corner while the landmark is out of sight, the
-landmark's reach once in sight) lies within :data:`AIM_CONE_DEG` of ``v`` is a candidate,
+(:mod:`~arena_studio.core.geometry.waypoints`: a doorway corner while the landmark is out of
+sight, the landmark's reach once in sight) lies within :data:`AIM_CONE_DEG` of ``v`` is a candidate,
 the agent's own targets (its share when the tape records shares, else its pursued goal)
 first; the aim is the candidate with the shortest path. Within a window of the start the
 displacement is measured from step 0.
@@ -34,11 +34,11 @@ import math
 
 import numpy as np
 
-from arena_studio.core.episode_scene import episode_scene
+from arena_studio.core.geometry.waypoints import next_waypoints
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.sim.observe import coverage
 from arena_studio.core.tape.episode import Episode
-from arena_studio.core.waypoints import next_waypoints
+from arena_studio.core.tape.episode_scene import episode_scene
 
 MOVING, HEADING, HOLDING, IDLE, OFF_GOAL = 0, 1, 2, 3, 4
 ROLE_NAMES: tuple[str, ...] = (
@@ -218,3 +218,16 @@ def tape_roles(episode: Episode) -> tuple[np.ndarray, tuple[str, ...]]:
             s0 = min(max(int(step), 0), steps)
             codes[s0 : min(max(int(end), s0), steps), a] = index[label]
     return codes, tuple(labels)
+
+
+__all__ = [
+    "AIM_CONE_DEG",
+    "IDLE_SPEED_FRACTION",
+    "IDLE_SPEED_MIN",
+    "ROLE_NAMES",
+    "WINDOW_S",
+    "derive_roles",
+    "pursued_mask",
+    "tape_roles",
+    "team_mask",
+]

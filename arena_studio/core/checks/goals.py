@@ -216,3 +216,6 @@ def _some_discs_overlap(scene: Scene, targets: Sequence[int]) -> bool:
 
 def _target_names(scene: Scene, targets: Sequence[int]) -> str:
     return ", ".join(f"'{scene.landmarks[i].id}'" for i in targets)
+
+
+__all__ = ["MAX_FAMILY_GOALS_CHECKED", "MAX_FINDINGS_PER_FAMILY", "SIMULTANEOUS", "check_goals"]

@@ -271,3 +271,14 @@ def _names(ids: list[str]) -> str:
 
 def _plural(kind: str, ids: list[str]) -> str:
     return f"{kind}{'s' if len(ids) != 1 else ''} {_names(ids)}"
+
+
+__all__ = [
+    "EPS",
+    "WALL_TOLERANCE",
+    "check_ids",
+    "check_landmarks",
+    "check_obstacles",
+    "check_rooms",
+    "geos_reason",
+]

@@ -261,3 +261,6 @@ def _wall_reach(scene: Scene, li: int) -> list[Finding]:
             )
         ]
     return []
+
+
+__all__ = ["TIGHT_MARGIN", "check_agents", "check_reach", "reach_table", "start_parts"]

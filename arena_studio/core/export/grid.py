@@ -188,3 +188,14 @@ def read_grid(sidecar: str | Path) -> tuple[np.ndarray, dict[str, Any]]:
 def _rgb(hex_color: str) -> tuple[int, int, int]:
     h = hex_color.lstrip("#")
     return int(h[0:2], 16), int(h[2:4], 16), int(h[4:6], 16)
+
+
+__all__ = [
+    "BLOCK_CELLS",
+    "MAX_CELLS",
+    "cells_in_words",
+    "grid_paths",
+    "occupancy",
+    "read_grid",
+    "write_grid",
+]

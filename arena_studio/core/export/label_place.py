@@ -355,3 +355,15 @@ def place_labels(
         chosen[i] = LabelPlacement(cand.box, cand.anchor, cand.align, pick, clear)
         placed = np.vstack([placed, boxes[i, pick]])
     return tuple(chosen[i] for i in range(len(landmarks)))
+
+
+__all__ = [
+    "Align",
+    "Box",
+    "Candidate",
+    "LabelPlacement",
+    "VAlign",
+    "candidates",
+    "place_labels",
+    "start_marks",
+]

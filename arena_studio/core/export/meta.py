@@ -40,3 +40,6 @@ def write_json_atomic(path: Path, doc: dict[str, Any]) -> None:
 def sidecar_path(path: Path) -> Path:
     """``out.scene.json`` -> ``out.scene.json.about.json``."""
     return path.with_name(path.name + ".about.json")
+
+
+__all__ = ["json_bytes", "provenance", "sidecar_path", "write_export_bytes", "write_json_atomic"]

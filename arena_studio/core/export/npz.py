@@ -97,3 +97,6 @@ def write_npz(scene: Scene, path: Path, advance: Callable[[int], None] | None = 
     np.savez_compressed(buffer, **scene_arrays(scene, advance))  # type: ignore[arg-type]
     write_export_bytes(path, buffer.getvalue())
     return [path]
+
+
+__all__ = ["ARRAYS", "scene_arrays", "write_npz"]

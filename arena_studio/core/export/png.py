@@ -43,3 +43,6 @@ def encode_png(pixels: np.ndarray, text: dict[str, str] | None = None) -> bytes:
     out.append(_chunk(b"IDAT", zlib.compress(raw.tobytes(), 6)))
     out.append(_chunk(b"IEND", b""))
     return b"".join(out)
+
+
+__all__ = ["encode_png"]

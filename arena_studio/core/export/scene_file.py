@@ -26,3 +26,6 @@ def write_scene_export(scene: Scene, path: Path, fmt: str) -> list[Path]:
     about = {**provenance(scene, fmt), "file": path.name}
     about["file_sha256"] = hashlib.sha256(data).hexdigest()
     return write_set_atomic([(path, data), (sidecar_path(path), json_bytes(about))])
+
+
+__all__ = ["write_scene_export"]

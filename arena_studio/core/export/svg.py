@@ -417,3 +417,21 @@ def svg_bytes(scene: Scene, theme: str = "light", failures: list[str] | None = N
 def write_svg(scene: Scene, path: Path, failures: list[str] | None = None) -> list[Path]:
     write_export_bytes(path, svg_bytes(scene, failures=failures))
     return [path]
+
+
+__all__ = [
+    "LABEL_FONT_MM",
+    "LABEL_PAD_MM",
+    "MARGIN_MM",
+    "MARK_MM",
+    "MAX_SIDE_MM",
+    "NICE_STEPS",
+    "START_FONT_MM",
+    "SVG_NS",
+    "nice_length",
+    "palette",
+    "svg_bytes",
+    "svg_tree",
+    "text_box_mm",
+    "write_svg",
+]

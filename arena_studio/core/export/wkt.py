@@ -70,3 +70,6 @@ def read_wkt_lines(text: str) -> list[tuple[str, BaseGeometry]]:
 def write_wkt(scene: Scene, path: Path) -> list[Path]:
     write_export_bytes(path, wkt_text(scene).encode("utf-8"))
     return [path]
+
+
+__all__ = ["labelled_geometries", "read_wkt_lines", "wkt_text", "write_wkt"]

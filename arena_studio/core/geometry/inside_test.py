@@ -9,12 +9,12 @@ finite, is asked of GEOS itself. A point off the grid is clamped into an edge ce
 reaches past the geometry's bounds and so is never covered: the point is either in a
 disjoint cell (and, being beyond the bounds, outside) or asked of GEOS. The answers are
 therefore the same as ``shapely.intersects_xy(geometry, x, y)`` point for point
-(tests/core/test_tape_bulk.py checks them against GEOS near every boundary).
+(tests/core/tape/test_tape_bulk.py checks them against GEOS near every boundary).
 
 A geometry that *is* an axis-aligned rectangle (GEOS finds it topologically equal to the box of
 its bounds; an empty room, a room's free space shrunk by an agent's radius) needs no grid: its
 points are exactly those of the closed box, so four comparisons answer every point, and a
-number that is not finite fails them as it fails GEOS (tests/core/test_inside_test_box.py).
+number that is not finite fails them as it fails GEOS (tests/core/geometry/test_inside_test_box.py).
 """
 
 from __future__ import annotations

@@ -40,6 +40,14 @@ import shapely
 from shapely.geometry import Point, Polygon
 from shapely.geometry.base import BaseGeometry
 
+from arena_studio.core.geometry._start_search import (
+    LastLegs,
+    StartSearch,
+    build_start_search,
+    new_last_legs,
+    route_points,
+    target_costs,
+)
 from arena_studio.core.geometry.regions import free_space, per_thread_cache, quad_segments
 from arena_studio.core.geometry.visibility import (
     VisibilityGraph,
@@ -54,14 +62,6 @@ from arena_studio.core.geometry.visibility_fields import (
     target_corners,
 )
 from arena_studio.core.scene.model import Scene
-from arena_studio.core.start_search import (
-    LastLegs,
-    StartSearch,
-    build_start_search,
-    new_last_legs,
-    route_points,
-    target_costs,
-)
 
 #: Spacing (m) of start-region samples along the region's edges (at most 64 per edge ring).
 REGION_EDGE_SPACING = 0.1

@@ -256,3 +256,25 @@ def inward_normals(scene: Scene) -> tuple[tuple[float, float], ...]:
         n = float(np.hypot(*v)) or 1.0
         out.append((float(v[0] / n), float(v[1] / n)))
     return tuple(out)
+
+
+__all__ = [
+    "ARC_TOLERANCE",
+    "F",
+    "bounds",
+    "free_parts",
+    "free_space",
+    "inward_normals",
+    "nearest_wall_point",
+    "obstacle_area",
+    "obstacle_geometry",
+    "open_area",
+    "per_thread_cache",
+    "polygon",
+    "quad_segments",
+    "region_area",
+    "segments_of",
+    "walkable_area",
+    "wall_lines",
+    "wall_segments",
+]

@@ -7,3 +7,6 @@ from arena_studio.core.errors import ArenaError
 
 class RobotImportError(ArenaError, ValueError):
     """Bad map or bag input; the message names the file and the field or topic."""
+
+
+__all__ = ["RobotImportError"]

@@ -92,3 +92,16 @@ def main(argv: Sequence[str] | None = None) -> int:
 
 if __name__ == "__main__":  # pragma: no cover
     sys.exit(main())
+
+
+__all__ = [
+    "CONDITIONS",
+    "DT",
+    "EPISODES",
+    "PAR_LIMIT",
+    "SEEDS",
+    "STEPS",
+    "knobs",
+    "main",
+    "write_demo_sweep",
+]

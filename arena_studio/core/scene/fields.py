@@ -219,3 +219,30 @@ def outline(value: object, path: str) -> tuple[tuple[float, float], ...]:
     if len(pts) < 3:
         raise SceneFormatError(path, f"an outline needs at least 3 points, got {len(pts)}")
     return tuple(pts)
+
+
+__all__ = [
+    "MAX_ITEMS",
+    "MAX_VERTICES",
+    "SAFE_LINE_PATTERN",
+    "UNSAFE_CHARACTERS",
+    "bounded",
+    "cap_text",
+    "check_keys",
+    "choice",
+    "coordinate",
+    "integer",
+    "join",
+    "line",
+    "line_problem",
+    "mapping",
+    "number",
+    "outline",
+    "point",
+    "pose",
+    "radius",
+    "sequence",
+    "shorten",
+    "string",
+    "type_name",
+]

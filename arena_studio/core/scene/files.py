@@ -124,3 +124,14 @@ def read_scene_file(path: Path) -> Scene:
 
 def write_scene_file(scene: Scene, path: Path) -> None:
     write_bytes_atomic(path, encode_scene(scene, scene_kind(path)))
+
+
+__all__ = [
+    "MAX_SCENE_BYTES",
+    "decode_scene_bytes",
+    "dumps_readable",
+    "encode_scene",
+    "read_scene_file",
+    "scene_kind",
+    "write_scene_file",
+]

@@ -262,3 +262,16 @@ def _weights(value: object, path: str, expected: int) -> tuple[float, ...]:
             path, f"expected {expected} weights (one per entry), got {len(items)}"
         )
     return tuple(f.number(w, f"{path}[{i}]", minimum=0) for i, w in enumerate(items))
+
+
+__all__ = [
+    "MAX_AGENTS",
+    "MAX_GOAL_VECTORS",
+    "MAX_LANDMARKS",
+    "MAX_OBSTACLES",
+    "MAX_ROOMS",
+    "MAX_TOTAL_VERTICES",
+    "TOP_OPTIONAL",
+    "TOP_REQUIRED",
+    "parse_scene",
+]

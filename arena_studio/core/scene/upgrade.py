@@ -34,3 +34,6 @@ def upgrade_to_current(doc: Mapping[str, Any], version: int) -> Mapping[str, Any
         current = UPGRADES[step](dict(current))
         current = {**current, "version": step + 1}
     return current
+
+
+__all__ = ["UPGRADES", "Document", "upgrade_to_current"]

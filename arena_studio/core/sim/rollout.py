@@ -81,7 +81,7 @@ STUCK_WINDOW = 3.0
 REACH_DEPTH = 0.5
 #: a run regenerated on other library versions or another CPU keeps every position within
 #: this many metres (and heading within this many radians) of the recorded one; same versions
-#: on the same machine give the very same bytes (tests/core/test_rollout.py checks both)
+#: on the same machine give the very same bytes (tests/core/sim/test_rollout.py checks both)
 REGENERATED_POSE_TOLERANCE = 1e-6
 #: slowest pace (share of full speed and turn rate) a skill near 0 gives
 MIN_PACE = 0.2

@@ -7,10 +7,13 @@ Arrays are columnar over time: ``poses[t, a] = (x, y, heading)`` of agent ``a`` 
 from __future__ import annotations
 
 import bisect
+from collections.abc import Callable
 from dataclasses import dataclass, field
-from typing import Any
+from typing import Any, ClassVar
 
 import numpy as np
+
+from arena_studio.core._frozen import fast_maker
 
 #: role changes of one agent: sorted ``(step, label)`` pairs; the label holds from that step on
 RoleTimeline = tuple[tuple[int, str], ...]
@@ -36,49 +39,9 @@ class Episode:
     # (L, 2) float64 where this episode's landmarks stood, or None: the scene's positions
     landmark_positions: np.ndarray | None = None
 
-    @classmethod
-    def _of_fields(
-        cls,
-        index: int,
-        dt: float,
-        poses: np.ndarray,
-        team_goal: np.ndarray | None,
-        pursued_goals: tuple[np.ndarray | None, ...],
-        roles: tuple[RoleTimeline, ...],
-        rewards: np.ndarray | None,
-        actions: np.ndarray | None,
-        done: np.ndarray | None,
-        channels: dict[str, np.ndarray],
-        messages: tuple[Any, ...],
-        outcome: dict[str, Any] | None,
-        complete: bool,
-        assigned_targets: tuple[np.ndarray | None, ...] = (),
-        landmark_positions: np.ndarray | None = None,
-    ) -> Episode:
-        """``Episode(...)`` with every field given in order, for the tape reader (thousands a
-        second): the generated frozen ``__init__`` sets each field through
-        ``object.__setattr__``, about 2 us an episode; filling the instance dict directly
-        gives the same object (no __post_init__ to run; tests/core/test_episode_fields.py
-        checks the two field for field)."""
-        ep = object.__new__(cls)
-        ep.__dict__.update(
-            index=index,
-            dt=dt,
-            poses=poses,
-            team_goal=team_goal,
-            pursued_goals=pursued_goals,
-            roles=roles,
-            rewards=rewards,
-            actions=actions,
-            done=done,
-            channels=channels,
-            messages=messages,
-            outcome=outcome,
-            complete=complete,
-            assigned_targets=assigned_targets,
-            landmark_positions=landmark_positions,
-        )
-        return ep
+    #: ``Episode(...)`` with every field given in order, for the tape reader (thousands a
+    #: second); tests/core/tape/test_episode_fields.py checks it against the generated __init__
+    _of_fields: ClassVar[Callable[..., Episode]]
 
     @property
     def steps(self) -> int:
@@ -106,3 +69,9 @@ class Episode:
         if self.steps == 0:
             return 0
         return int(min(max(round(time / self.dt), 0), self.steps - 1))
+
+
+Episode._of_fields = fast_maker(Episode)
+
+
+__all__ = ["Episode", "RoleTimeline"]

@@ -24,6 +24,7 @@ import os
 from pathlib import Path
 from typing import Any
 
+from arena_studio.core.tape._index import Entry, frame_at
 from arena_studio.core.tape.format import (
     KIND_BEGIN,
     KIND_CHUNK,
@@ -32,7 +33,7 @@ from arena_studio.core.tape.format import (
     TapeError,
     unpack,
 )
-from arena_studio.core.tape.reader import Tape, _Entry, _frame_at
+from arena_studio.core.tape.reader import Tape
 from arena_studio.core.tape.writer import partial_path
 
 PARTIAL_SUFFIX = ".partial"
@@ -65,8 +66,7 @@ class GrowingTape(Tape):
         self.path = Path(path)
         self._src = str(self.path)
         self.damage = {}  # episode -> Damage, as Tape keeps it
-        self._goal_cache: dict[bytes, Any] = {}
-        self._entries: list[_Entry] = []
+        self._entries: list[Entry] = []
         self.final = final_path(self.path)
         try:
             self.file_size = os.path.getsize(self.path)
@@ -121,7 +121,7 @@ class GrowingTape(Tape):
         with open(self.path, "rb") as f:
             while self._pos < size:
                 try:
-                    kind, payload, end = _frame_at(f, self._pos, size)
+                    kind, payload, end = frame_at(f, self._pos, size)
                 except EOFError:
                     return  # half written: the rest comes with the next poll
                 except ValueError as exc:
@@ -151,7 +151,7 @@ class GrowingTape(Tape):
             self.open_steps += steps
         elif kind == KIND_END and self._open_begin is not None:
             if self.open_steps:
-                self._entries.append(_Entry(self._open_begin, end, self.open_steps, True))
+                self._entries.append(Entry(self._open_begin, end, self.open_steps, True))
             self._open_begin, self.open_steps = None, 0
         elif kind == KIND_INDEX:
             self.finished = True

@@ -1,5 +1,9 @@
 """Reading tapes lazily: ``open_tape`` reads the header and index, ``episode(i)`` one episode.
 
+The header is read by ``_header.py``, the index and the recovery scan are in ``_index.py``,
+the decoding of one episode's records in ``_decode.py``; this module keeps the lazy file
+access, the spans of several episodes and the damage found so far.
+
 A cut or damaged tape (no trailer, half a record at the end, a bad checksum) is scanned record
 by record instead: every complete chunk is recovered, ``truncated`` is True and
 ``recovery_message`` says what was recovered and where the file was cut. Anything else that
@@ -9,7 +13,6 @@ is wrong (not a tape, a newer version, a field with the wrong dtype or shape) ra
 
 from __future__ import annotations
 
-import math
 import os
 import re
 from collections.abc import Iterator
@@ -19,65 +22,21 @@ from typing import Any, cast
 
 import numpy as np
 
-from arena_studio.core.errors import ArenaError
 from arena_studio.core.safe_open import InputFileError, open_input
-from arena_studio.core.scene.model import Scene, scene_hash
+from arena_studio.core.tape._decode import EpisodeDecoder, chunk_number
+from arena_studio.core.tape._header import read_header
+from arena_studio.core.tape._index import Entry, read_index, scan_records
 from arena_studio.core.tape.damage import Damage, EpisodeDamaged
-from arena_studio.core.tape.episode import Episode, RoleTimeline
+from arena_studio.core.tape.episode import Episode
 from arena_studio.core.tape.format import (
-    BOOL_DTYPES,
-    FLOAT_DTYPES,
-    FORMAT_NAME,
-    FORMAT_VERSION,
-    FRAME_CRC,
-    FRAME_HEAD,
-    FRAME_OVERHEAD,
-    GOAL_DTYPES,
-    INDEX_DTYPES,
-    KIND_BEGIN,
-    KIND_CHUNK,
-    KIND_END,
-    KIND_HEADER,
-    KIND_INDEX,
-    KINDS,
-    MAGIC,
-    MAX_RECORD,
-    NUMBER_DTYPES,
     PARALLEL_CRC_BYTES,
-    REWARD_DTYPES,
-    TRAILER,
-    TRAILER_MAGIC,
-    TRAILER_SIZE,
     TapeError,
-    decode_array,
     finish_crc_checks,
     first_bad_in_ranges,
-    read_frame,
     start_crc_checks,
-    unpack,
-    unpack_views,
 )
-from arena_studio.core.value_limits import COORDINATE_LIMIT, DT_MAX, DT_MIN, HEADING_LIMIT
 
-#: chunk payloads at least this large are decoded without copying their array bytes
-ZERO_COPY_BYTES = 1 << 16
-#: checked goal vectors a Tape remembers (they repeat across episodes)
-GOAL_CACHE_SIZE = 4096
-#: smallest number of bytes one recorded step of one agent occupies (a float32 pose)
-MIN_STEP_BYTES = 12
-#: per-step fields a chunk may carry besides the poses
-_OPTIONAL_FIELDS = frozenset(("rewards", "actions", "done", "channels"))
-#: one bound for every pose value: x and y in metres, heading in radians
-_POSE_LIMIT = max(COORDINATE_LIMIT, HEADING_LIMIT)
 _BYTE_AT = re.compile(r"byte (\d+)")
-
-
-@dataclass(frozen=True)
-class _Entry:
-    begin: int  # offset of the episode's begin record
-    end: int  # offset just after its last readable record
-    steps: int
-    complete: bool
 
 
 @dataclass(frozen=True)
@@ -85,45 +44,13 @@ class EpisodeSpan:
     """Raw bytes of consecutive episodes, from :meth:`Tape.read_span`."""
 
     start: int
-    entries: list[_Entry]
+    entries: list[Entry]
     data: memoryview
-
-
-def _rank(value: Any) -> int:
-    """Dimensions an encoded array claims (0 when it is not an array map)."""
-    if type(value) is dict and type(value.get("shape")) is list:
-        return len(value["shape"])
-    return 0
-
-
-def _widened(arr: np.ndarray) -> np.ndarray:
-    """float64 for real numbers, int64 for whole numbers (bool flags become 0/1)."""
-    if arr.dtype.kind == "f":
-        return arr.astype(np.float64, copy=False)
-    return arr.astype(np.int64, copy=False)
 
 
 def open_tape(path: str | Path) -> Tape:
     """Open a tape lazily (header and index only); see :class:`Tape`."""
     return Tape(Path(path))
-
-
-def _frame_at(f: Any, pos: int, size: int) -> tuple[int, memoryview, int]:
-    """Read and check the one record at ``pos`` (memory bounded by that record's size)."""
-    f.seek(pos)
-    head = f.read(FRAME_HEAD.size)
-    if len(head) < FRAME_HEAD.size:
-        raise EOFError("record header cut")
-    length, kind = FRAME_HEAD.unpack(head)
-    if kind not in KINDS:
-        raise ValueError(f"unknown record kind {kind:#04x}")
-    if length > MAX_RECORD:
-        raise ValueError(f"record claims {length} bytes (limit {MAX_RECORD})")
-    if pos + FRAME_OVERHEAD + length > size:
-        raise EOFError("record cut")
-    buf = memoryview(head + f.read(length + FRAME_OVERHEAD - FRAME_HEAD.size))
-    kind, payload, end = read_frame(buf, 0)
-    return kind, payload, pos + end
 
 
 class Tape:
@@ -241,7 +168,7 @@ class Tape:
 
     # -- damage ----------------------------------------------------------------------------
     def _decode_checked(
-        self, i: int, entry: _Entry, buf: memoryview, verify: bool, copy: bool
+        self, i: int, entry: Entry, buf: memoryview, verify: bool, copy: bool
     ) -> Episode:
         """:meth:`_decode_episode`, with anything wrong inside the episode turned into a
         :class:`Damage` record (remembered) and raised as :class:`EpisodeDamaged`."""
@@ -257,7 +184,7 @@ class Tape:
             reason = f"{field}: {exc.problem}" if field else exc.problem
             found = _BYTE_AT.search(rest)
             byte = int(found.group(1)) if found else None
-            chunk = _chunk_number(buf, entry.begin, byte)
+            chunk = chunk_number(buf, entry.begin, byte)
             damage = Damage(i, reason, chunk=chunk, byte=byte)
             found_here = EpisodeDamaged(self._src, damage, exc.where, exc.problem)
             raise self._remember(found_here) from None
@@ -267,7 +194,7 @@ class Tape:
         damage = Damage(
             i,
             "record checksum mismatch (damaged bytes)",
-            chunk=_chunk_number(buf, begin, byte),
+            chunk=chunk_number(buf, begin, byte),
             byte=byte,
         )
         raise self._remember(EpisodeDamaged(self._src, damage))
@@ -296,241 +223,39 @@ class Tape:
             raise TapeError(self._src, where, "file shrank while reading")
         return memoryview(cast(Any, span)).cast("B")
 
-    # -- header --------------------------------------------------------------------------
+    # -- header, index, recovery scan (see _header.py and _index.py) ------------------------
     def _read_header(self, f: Any) -> None:
-        magic = f.read(len(MAGIC))
-        if magic != MAGIC:
-            raise TapeError(self._src, "", "not an arena-studio tape (wrong first bytes)")
-        head = f.read(FRAME_HEAD.size)
-        if len(head) < FRAME_HEAD.size:
-            raise TapeError(self._src, "header", "file ends inside the header")
-        length, kind = FRAME_HEAD.unpack(head)
-        if kind != KIND_HEADER:
-            raise TapeError(self._src, "header", "first record is not a header")
-        if length > min(MAX_RECORD, self.file_size):
-            raise TapeError(
-                self._src, "header", f"header claims {length} bytes, file has {self.file_size}"
-            )
-        rest = f.read(length + FRAME_OVERHEAD - FRAME_HEAD.size)
-        buf = memoryview(head + rest)
-        try:
-            _, payload, end = read_frame(buf, 0)
-        except EOFError:
-            raise TapeError(self._src, "header", "file ends inside the header") from None
-        except ValueError as exc:
-            raise TapeError(self._src, "header", str(exc)) from None
-        self.header_end = len(MAGIC) + end
-        header = self._unpack(payload, "header")
-        if not isinstance(header, dict):
-            raise TapeError(self._src, "header", "expected a map")
-        if header.get("format") != FORMAT_NAME:
-            raise TapeError(self._src, "header.format", f"expected {FORMAT_NAME!r}")
-        version = header.get("version")
-        if isinstance(version, bool) or not isinstance(version, int) or version < 1:
-            raise TapeError(self._src, "header.version", "expected a whole number >= 1")
-        if version > FORMAT_VERSION:
-            raise TapeError(
-                self._src,
-                "header.version",
-                f"tape version {version} is newer than this arena_studio reads "
-                f"({FORMAT_VERSION}); update arena_studio",
-            )
-        self.version = version
-        dt = header.get("dt")
-        if isinstance(dt, bool) or not isinstance(dt, int | float) or not math.isfinite(dt):
-            raise TapeError(self._src, "header.dt", "expected a finite number")
-        if not DT_MIN <= dt <= DT_MAX:
-            raise TapeError(
-                self._src,
-                "header.dt",
-                f"expected a time step from {DT_MIN:g} s to {DT_MAX:g} s, got {dt:g}",
-            )
-        self.dt = float(dt)
-        scene_dict = header.get("scene")
-        if not isinstance(scene_dict, dict):
-            raise TapeError(self._src, "header.scene", "expected the embedded scene as a map")
-        try:
-            self.scene = Scene.from_dict(scene_dict)
-        except ArenaError as exc:
-            raise TapeError(self._src, "header.scene", str(exc)) from None
-        ids = header.get("agent_ids")
-        if not isinstance(ids, list) or not all(isinstance(s, str) for s in ids):
-            raise TapeError(self._src, "header.agent_ids", "expected a list of strings")
-        if tuple(ids) != tuple(a.id for a in self.scene.agents):
-            raise TapeError(
-                self._src, "header.agent_ids", "must equal the embedded scene's agent ids in order"
-            )
-        self.agent_ids = tuple(ids)
-        self._check_scene_hash(header)
-        meta = header.get("metadata", {})
-        if not isinstance(meta, dict):
-            raise TapeError(self._src, "header.metadata", "expected a map")
-        self.metadata: dict[str, Any] = meta
-
-    def _check_scene_hash(self, header: dict[str, Any]) -> None:
-        """Compare the stored scene hash with the embedded scene's own (a warning, not an
-        error: the scene itself is what the tape holds and what is used)."""
-        stored = header.get("scene_hash")
-        actual = scene_hash(self.scene)
-        self.scene_hash: str | None = stored if isinstance(stored, str) else None
+        header = read_header(f, self._src, self.file_size)
+        self.header_end = header.header_end
+        self.version = header.version
+        self.dt = header.dt
+        self.scene = header.scene
+        self.agent_ids = header.agent_ids
+        self.metadata: dict[str, Any] = header.metadata
+        self.scene_hash: str | None = header.scene_hash
         #: True when the stored hash matches the embedded scene, None when none is stored
-        self.scene_hash_ok: bool | None = None if stored is None else stored == actual
+        self.scene_hash_ok: bool | None = header.scene_hash_ok
         #: one line for users when the stored hash is wrong, else None
-        self.scene_hash_warning: str | None = None
-        if self.scene_hash_ok is False:
-            shown = repr(stored) if not isinstance(stored, str) else stored[:16] + "..."
-            self.scene_hash_warning = (
-                f"{self._src}: header.scene_hash {shown} does not match the embedded scene "
-                f"(its hash is {actual[:16]}...; see arena_studio.core.scene.model.scene_hash)"
-            )
+        self.scene_hash_warning: str | None = header.scene_hash_warning
+        self._decoder = EpisodeDecoder(
+            self._src, self.dt, len(self.agent_ids), len(self.scene.landmarks)
+        )
 
-    # -- index -----------------------------------------------------------------------------
-    def _read_index(self, f: Any) -> list[_Entry] | None:
+    def _read_index(self, f: Any) -> list[Entry] | None:
         """Entries from the trailer's index, or None when the tape must be scanned."""
+        entries, problem = read_index(
+            f, self._src, self.file_size, self.header_end, len(self.agent_ids)
+        )
         #: why a finished-looking tape's index was not used (the scan's message says it)
-        self._index_problem: str | None = None
-        size = self.file_size
-        if size < self.header_end + TRAILER_SIZE:
-            return None
-        f.seek(size - TRAILER_SIZE)
-        at, magic = TRAILER.unpack(f.read(TRAILER_SIZE))
-        if magic != TRAILER_MAGIC:
-            return None
-        if not self.header_end <= at < size - TRAILER_SIZE:
-            self._index_problem = f"the trailer points at byte {at}, outside the records"
-            return None
-        f.seek(at)
-        buf = memoryview(f.read(size - TRAILER_SIZE - at))
-        try:
-            kind, payload, end = read_frame(buf, 0)
-        except (EOFError, ValueError) as exc:
-            self._index_problem = f"the trailer points at byte {at}, not at a sound record ({exc})"
-            return None
-        if kind != KIND_INDEX or end != len(buf):
-            self._index_problem = f"the trailer points at byte {at}, not at the index record"
-            return None
-        try:
-            index = self._unpack(payload, "index")
-            return self._index_entries(index, at)
-        except TapeError as exc:
-            self._index_problem = f"the index at byte {at} is unusable ({exc.where}: {exc.problem})"
-            return None
+        self._index_problem = problem
+        return entries
 
-    def _step_bytes(self) -> int:
-        """Fewest bytes one step of every agent takes in a chunk (a Python int, > 0)."""
-        return max(1, len(self.agent_ids)) * MIN_STEP_BYTES
-
-    def _index_entries(self, index: Any, limit: int) -> list[_Entry]:
-        where = "index"
-        if not isinstance(index, dict) or not isinstance(index.get("episodes"), int):
-            raise TapeError(self._src, where, "malformed index")
-        n = index["episodes"]
-        cols = {  # any whole-number width is read; offsets past 2^63 cannot occur
-            k: decode_array(
-                index.get(k), f"index.{k}", self._src, dtypes=INDEX_DTYPES, shape=(n,)
-            ).astype(np.int64)
-            for k in ("begin", "end", "steps")
-        }
-        begin, end, steps = cols["begin"], cols["end"], cols["steps"]
-        if n:
-            ok = (
-                begin[0] >= self.header_end
-                and end[-1] <= limit
-                and bool((begin < end).all())
-                and bool((begin[1:] >= end[:-1]).all())
-                and bool((steps >= 1).all())
-                # a step of every agent needs at least MIN_STEP_BYTES: bounds the claim by
-                # size. Divided, not multiplied: 2**62 steps times the bytes of a step would
-                # wrap around in int64 and pass
-                and bool((steps <= (end - begin) // self._step_bytes()).all())
-            )
-            if not ok:
-                raise TapeError(self._src, where, "offsets or step counts out of bounds")
-        return [
-            _Entry(int(b), int(e), int(s), True)
-            for b, e, s in zip(begin.tolist(), end.tolist(), steps.tolist(), strict=True)
-        ]
-
-    # -- recovery scan -----------------------------------------------------------------------
-    def _scan(self) -> tuple[list[_Entry], str]:
+    def _scan(self) -> tuple[list[Entry], str]:
         """Walk the records after the header; stop at the first cut or damaged one."""
         with open(self.path, "rb") as f:
-            return self._scan_file(f)
-
-    def _scan_file(self, f: Any) -> tuple[list[_Entry], str]:
-        size = self.file_size
-        pos = self.header_end
-        entries: list[_Entry] = []
-        open_begin: int | None = None
-        open_steps = 0
-        last_good = pos
-        problem = "the file ends without an index (the writer did not finish)"
-        while pos < size:
-            try:
-                kind, payload, end = _frame_at(f, pos, size)
-                record = self._unpack(payload, f"record at byte {pos}")
-                if not isinstance(record, dict):
-                    raise ValueError("record is not a map")
-            except EOFError:
-                problem = f"the file was cut inside a record at byte {pos}"
-                break
-            except (ValueError, TapeError) as exc:
-                skip = _skippable(f, pos, size) if open_begin is not None else None
-                if skip is None:
-                    problem = f"damaged record at byte {pos} ({exc})"
-                    break
-                # a damaged record inside an episode: that episode is marked, the scan goes on
-                # with the next record (the frame length still fits the file)
-                reason = getattr(exc, "problem", None) or str(exc)
-                self.damage.setdefault(len(entries), Damage(len(entries), reason, byte=pos))
-                pos = last_good = skip
-                continue
-            hurt = len(entries) in self.damage
-            if kind == KIND_BEGIN:
-                if open_begin is not None and (open_steps or hurt):
-                    entries.append(_Entry(open_begin, last_good, max(open_steps, 1), False))
-                if record.get("episode") != len(entries):
-                    problem = f"episode numbering breaks at byte {pos}"
-                    open_begin = None
-                    break
-                open_begin, open_steps = pos, 0
-            elif kind == KIND_CHUNK and open_begin is not None:
-                steps, start = record.get("steps"), record.get("start")
-                if hurt and isinstance(start, int) and start >= open_steps:
-                    open_steps = start  # the steps of a damaged chunk before this one
-                if start != open_steps or not isinstance(steps, int) or steps < 1:
-                    problem = f"chunk out of sequence at byte {pos}"
-                    break
-                open_steps += steps
-            elif kind == KIND_END and open_begin is not None:
-                total = record.get("steps")
-                if hurt and type(total) is int and total > open_steps:
-                    open_steps = total  # counting the steps of a damaged chunk
-                if open_steps or hurt:
-                    entries.append(_Entry(open_begin, end, max(open_steps, 1), True))
-                open_begin, open_steps = None, 0
-            elif kind == KIND_INDEX:
-                problem = self._index_problem or f"the index at byte {pos} has no valid trailer"
-                last_good = end
-                break
-            else:
-                problem = f"record out of place at byte {pos}"
-                break
-            pos = end
-            last_good = end
-        if open_begin is not None and (open_steps or len(entries) in self.damage):
-            entries.append(_Entry(open_begin, last_good, max(open_steps, 1), False))
-        complete = [e for e in entries if e.complete]
-        partial = [e for e in entries if not e.complete]
-        text = (
-            f"{self._src}: tape is incomplete: {problem}; size {size} bytes. Recovered "
-            f"{len(complete)} complete episode(s) ({sum(e.steps for e in complete)} steps)"
-        )
-        if partial:
-            text += f" and {partial[0].steps} step(s) of unfinished episode {len(complete)}"
-        if self.damage:
-            text += f"; {len(self.damage)} damaged episode(s) are marked and skipped"
-        return entries, text + "."
+            return scan_records(
+                f, self._src, self.file_size, self.header_end, self._index_problem, self.damage
+            )
 
     # -- decoding ---------------------------------------------------------------------------
     def _check_index(self, i: int) -> int:
@@ -538,367 +263,26 @@ class Tape:
             raise IndexError(f"{self._src}: no episode {i} (the tape has {len(self)})")
         return int(i)
 
-    def _unpack(self, payload: memoryview, where: str) -> Any:
-        try:
-            return unpack(payload)
-        except Exception as exc:  # msgpack raises several unrelated types for bad bytes
-            raise TapeError(self._src, where, f"not valid msgpack ({exc})") from None
-
     def _decode_episode(
-        self, i: int, entry: _Entry, buf: memoryview, verify: bool, copy: bool = True
+        self, i: int, entry: Entry, buf: memoryview, verify: bool, copy: bool = True
     ) -> Episode:
         if not verify or len(buf) < PARALLEL_CRC_BYTES:
-            return self._decode_records(i, entry, buf, verify, copy)
+            return self._decoder.decode_records(i, entry, buf, verify, copy)
         # large spans: checksums run on worker threads (zlib releases the GIL) while the
         # records are decoded here; all are checked before anything is returned, and damage
         # is reported as such even when it also broke the decoding
         checks = start_crc_checks(buf)
         try:
-            episode = self._decode_records(i, entry, buf, False, copy)
+            episode = self._decoder.decode_records(i, entry, buf, False, copy)
         except TapeError:
             self._raise_if_damaged(i, entry, buf, finish_crc_checks(checks))
             raise
         self._raise_if_damaged(i, entry, buf, finish_crc_checks(checks))
         return episode
 
-    def _raise_if_damaged(self, i: int, entry: _Entry, buf: memoryview, bad: int | None) -> None:
+    def _raise_if_damaged(self, i: int, entry: Entry, buf: memoryview, bad: int | None) -> None:
         if bad is not None:
             self._damaged(i, buf, entry.begin, entry.begin + bad)
-
-    def _decode_records(
-        self, i: int, entry: _Entry, buf: memoryview, verify: bool, copy: bool
-    ) -> Episode:
-        where = f"episode {i}"
-        records: list[tuple[int, Any, int]] = []
-        pos = 0
-        size = len(buf)
-        head = FRAME_HEAD.unpack_from
-        while pos < size:
-            # a sound frame whose checksum was already checked is cut out here; read_frame
-            # takes every other case (checksums to verify, or something to name)
-            length, kind = head(buf, pos) if pos + FRAME_HEAD.size <= size else (0, -1)
-            end = pos + FRAME_OVERHEAD + length
-            if verify or kind not in KINDS or length > MAX_RECORD or end > size:
-                try:
-                    kind, payload, end = read_frame(buf, pos, verify)
-                except (EOFError, ValueError) as exc:
-                    byte = entry.begin + pos
-                    chunk = _chunk_number(buf, entry.begin, byte)
-                    raise EpisodeDamaged(
-                        self._src, Damage(i, str(exc), chunk=chunk, byte=byte)
-                    ) from None
-            else:
-                payload = buf[pos + FRAME_HEAD.size : end - FRAME_CRC.size]
-            try:
-                big = kind == KIND_CHUNK and len(payload) >= ZERO_COPY_BYTES
-                record = unpack_views(payload) if big else unpack(payload)
-            except Exception as exc:  # msgpack raises several unrelated types for bad bytes
-                byte = entry.begin + pos
-                reason = f"not valid msgpack ({exc})"
-                chunk = _chunk_number(buf, entry.begin, byte)
-                damage = Damage(i, reason, chunk=chunk, byte=byte)
-                raise EpisodeDamaged(self._src, damage, where, reason) from None
-            records.append((kind, record, entry.begin + pos))
-            pos = end
-        if not records or records[0][0] != KIND_BEGIN or not isinstance(records[0][1], dict):
-            raise TapeError(self._src, where, "does not start with an episode record")
-        begin = records[0][1]
-        a, n_lm = len(self.agent_ids), len(self.scene.landmarks)
-        team_goal = self._goal(begin.get("team_goal"), n_lm, copy, where, "team_goal")
-        pursued_raw = begin.get("pursued_goals")
-        pursued: tuple[np.ndarray | None, ...] = ()
-        if pursued_raw is not None:
-            if not isinstance(pursued_raw, list) or len(pursued_raw) != a:
-                raise TapeError(self._src, f"{where}.pursued_goals", f"expected {a} entries")
-            goal = self._goal
-            pursued = tuple(
-                [goal(g, n_lm, copy, where, "pursued_goals", k) for k, g in enumerate(pursued_raw)]
-            )
-        roles_raw = begin.get("roles")
-        roles = () if roles_raw is None else self._roles(roles_raw, f"{where}.roles", a)
-        assigned, positions = self._begin_extras(begin, where, a, n_lm, copy)
-        messages = begin.get("messages", [])
-        if not isinstance(messages, list):
-            raise TapeError(self._src, f"{where}.messages", "expected a list")
-        chunks = [r for r in records[1:] if r[0] == KIND_CHUNK]
-        ends = [r for r in records[1:] if r[0] == KIND_END]
-        if len(chunks) + len(ends) != len(records) - 1 or len(ends) > 1:
-            raise TapeError(self._src, where, "unexpected record inside the episode")
-        arrays = self._chunks(chunks, where, a, copy)
-        steps = arrays["poses"].shape[0]
-        if steps != entry.steps:
-            raise TapeError(self._src, where, f"holds {steps} steps, the index says {entry.steps}")
-        outcome = None
-        if ends:
-            end_rec = ends[0][1]
-            if not isinstance(end_rec, dict) or end_rec.get("steps") != steps:
-                raise TapeError(self._src, f"{where}.end", "step count does not match the chunks")
-            outcome = end_rec.get("outcome")
-            if outcome is not None and not isinstance(outcome, dict):
-                raise TapeError(self._src, f"{where}.outcome", "expected a map or nil")
-        return Episode._of_fields(  # Episode(...) in field order, built faster
-            i,  # index
-            self.dt,  # dt
-            arrays["poses"],  # poses
-            team_goal,  # team_goal
-            pursued,  # pursued_goals
-            roles,  # roles
-            arrays.get("rewards"),  # rewards
-            arrays.get("actions"),  # actions
-            arrays.get("done"),  # done
-            arrays.get("channels", {}),  # channels
-            tuple(messages),  # messages
-            outcome,  # outcome
-            entry.complete and bool(ends),  # complete
-            assigned,  # assigned_targets
-            positions,  # landmark_positions
-        )
-
-    def _begin_extras(
-        self, begin: dict[str, Any], where: str, a: int, n_lm: int, copy: bool
-    ) -> tuple[tuple[np.ndarray | None, ...], np.ndarray | None]:
-        """The optional ``assigned_targets`` and ``landmark_positions`` of a begin record."""
-        assigned: tuple[np.ndarray | None, ...] = ()
-        raw = begin.get("assigned_targets")
-        if raw is not None:
-            if not isinstance(raw, list) or len(raw) != a:
-                raise TapeError(self._src, f"{where}.assigned_targets", f"expected {a} entries")
-            assigned = tuple(
-                self._goal(g, n_lm, copy, where, "assigned_targets", k) for k, g in enumerate(raw)
-            )
-        positions = None
-        raw = begin.get("landmark_positions")
-        if raw is not None:
-            place = f"{where}.landmark_positions"
-            positions = self._array(raw, place, FLOAT_DTYPES, (n_lm, 2)).astype(np.float64)
-            if not np.isfinite(positions).all():
-                raise TapeError(self._src, place, "positions must be finite numbers")
-        return assigned, positions
-
-    def _chunks(
-        self, chunks: list[tuple[int, Any, int]], where: str, a: int, copy: bool = True
-    ) -> dict[str, Any]:
-        if not chunks:
-            raise TapeError(self._src, where, "has no steps")
-        if len(chunks) == 1:
-            quick = self._poses_only_chunk(chunks[0], where, a, copy)
-            if quick is not None:
-                return quick
-        parts: dict[str, list[np.ndarray]] = {}
-        channel_parts: dict[str, list[np.ndarray]] = {}
-        optional = ("rewards", "actions", "done", "channels")
-        layout: tuple[str, ...] | None = None
-        start = 0
-        k_actions: int | None = None
-        for _, rec, offset in chunks:
-            cw = f"{where} chunk at byte {offset}"
-            if not isinstance(rec, dict):
-                raise TapeError(self._src, cw, "expected a map")
-            n = rec.get("steps")
-            if isinstance(n, bool) or not isinstance(n, int) or n < 1 or rec.get("start") != start:
-                raise TapeError(self._src, cw, "bad start or step count")
-            present = tuple(k for k in optional if k in rec)
-            if layout is None:
-                layout = present
-            elif present != layout:
-                raise TapeError(self._src, cw, "optional fields differ from the first chunk")
-            dec = self._array
-            parts.setdefault("poses", []).append(
-                dec(rec.get("poses"), f"{cw}.poses", FLOAT_DTYPES, (n, a, 3))
-            )
-            if "rewards" in rec:
-                # (n,) one team reward per step, (n, A) one per agent; fixed by the first chunk
-                rshape = (n,) if _rank(rec["rewards"]) == 1 else (n, a)
-                rew = dec(rec["rewards"], f"{cw}.rewards", REWARD_DTYPES, rshape)
-                if parts.get("rewards") and parts["rewards"][0].ndim != rew.ndim:
-                    raise TapeError(self._src, f"{cw}.rewards", "shape differs from chunk 0")
-                parts.setdefault("rewards", []).append(rew)
-            if "actions" in rec:
-                act = dec(rec["actions"], f"{cw}.actions", NUMBER_DTYPES, (n, a, k_actions))
-                if parts.get("actions") and parts["actions"][0].dtype.kind != act.dtype.kind:
-                    raise TapeError(self._src, f"{cw}.actions", "dtype differs from chunk 0")
-                k_actions = act.shape[2]
-                parts.setdefault("actions", []).append(act)
-            if "done" in rec:
-                parts.setdefault("done", []).append(
-                    dec(rec["done"], f"{cw}.done", BOOL_DTYPES, (n, a)).view(np.uint8) != 0
-                )
-            if "channels" in rec:
-                chans = rec["channels"]
-                if not isinstance(chans, dict) or (
-                    channel_parts and set(chans) != set(channel_parts)
-                ):
-                    raise TapeError(self._src, f"{cw}.channels", "expected the same named arrays")
-                for name, value in chans.items():
-                    rank = _rank(value)
-                    cshape: tuple[int | None, ...] = (n, a, None)[: rank if 1 <= rank <= 3 else 1]
-                    arr = dec(value, f"{cw}.channels.{name}", NUMBER_DTYPES, cshape)
-                    first = channel_parts.get(name)
-                    if first and first[0].shape[1:] != arr.shape[1:]:
-                        raise TapeError(
-                            self._src, f"{cw}.channels.{name}", "shape differs from the first chunk"
-                        )
-                    channel_parts.setdefault(name, []).append(arr)
-            start += n
-        out: dict[str, Any] = {}
-        for name, arrs in parts.items():
-            joined = (
-                np.concatenate(arrs, axis=0)
-                if len(arrs) > 1
-                else arrs[0].copy()
-                if copy
-                else arrs[0]
-            )
-            out[name] = _widened(joined) if name != "done" else joined
-        self._check_finite(out["poses"], where)
-        if channel_parts:
-            out["channels"] = {
-                name: np.concatenate(arrs, axis=0) if len(arrs) > 1 else arrs[0].copy()
-                for name, arrs in channel_parts.items()
-            }
-        return out
-
-    def _poses_only_chunk(
-        self, chunk: tuple[int, Any, int], where: str, a: int, copy: bool
-    ) -> dict[str, Any] | None:
-        """:meth:`_chunks` of an episode held in one chunk of poses alone (what the writer
-        usually makes): the same checks and messages, without the bookkeeping for several
-        chunks and optional fields. None when the chunk is anything else."""
-        _, rec, offset = chunk
-        if type(rec) is not dict or not _OPTIONAL_FIELDS.isdisjoint(rec):
-            return None
-        n = rec.get("steps")
-        if type(n) is not int or n < 1 or rec.get("start") != 0:
-            return None  # the general path names the problem
-        poses = self._array(
-            rec.get("poses"), f"{where} chunk at byte {offset}.poses", FLOAT_DTYPES, (n, a, 3)
-        )
-        if copy:
-            poses = poses.copy()
-        poses = poses.astype(np.float64, copy=False)
-        self._check_finite(poses, where)
-        return {"poses": poses}
-
-    def _check_finite(self, poses: np.ndarray, where: str) -> None:
-        """Refuse a pose that is not a finite number or lies outside the documented range,
-        naming its step and agent (the writer refuses them; a foreign tape may not). Two
-        reductions and no temporary array in the usual case: NaN makes min/max NaN, and a
-        comparison with NaN is False."""
-        if poses.size == 0 or (poses.min() >= -_POSE_LIMIT and poses.max() <= _POSE_LIMIT):
-            return
-        episode = int(where.split()[-1]) if where.startswith("episode ") else -1
-        bad = ~np.isfinite(poses)
-        if bad.any():
-            t, agent = (int(v) for v in np.argwhere(bad.any(axis=2))[0])
-            reason = "pose is not a finite number"
-        else:
-            far = np.abs(poses) > _POSE_LIMIT
-            t, agent, k = (int(v) for v in np.argwhere(far)[0])
-            name = ("x", "y", "heading")[k]
-            unit = "rad" if k == 2 else "m"
-            reason = (
-                f"pose {name} = {float(poses[t, agent, k]):g} is outside "
-                f"±{_POSE_LIMIT:g} {unit}"
-            )
-        raise EpisodeDamaged(self._src, Damage(episode, reason, step=t, agent=agent))
-
-    def _array(
-        self, value: Any, where: str, dtypes: tuple[str, ...], shape: tuple[int | None, ...]
-    ) -> np.ndarray:
-        return decode_array(value, where, self._src, dtypes=dtypes, shape=shape)
-
-    def _goal(
-        self, value: Any, n_lm: int, copy: bool, where: str, field: str, k: int | None = None
-    ) -> np.ndarray | None:
-        """A checked goal vector; ``where.field[k]`` names it in errors. With ``copy`` False
-        the remembered read-only array itself (callers that only look at it)."""
-        if value is None:
-            return None
-        # the same few goal vectors recur in every episode: remember the checked ones
-        key = None
-        if type(value) is dict and len(value) == 3:
-            data, shape = value.get("data"), value.get("shape")
-            # exact types, as decode_array checks them: 3.0 == 3 must not pass for a length
-            if (
-                type(data) is bytes
-                and value.get("dtype") == "|u1"
-                and type(shape) is list
-                and len(shape) == 1
-                and type(shape[0]) is int
-                and shape[0] == n_lm
-            ):
-                key = data
-                known = self._goal_cache.get(key)
-                if known is not None:
-                    return known.copy() if copy else known
-        place = f"{where}.{field}" if k is None else f"{where}.{field}[{k}]"
-        arr = self._array(value, place, GOAL_DTYPES, (n_lm,))
-        if n_lm and max(value["data"]) > 1:  # |u1 or |b1 bytes: a goal holds only 0 and 1
-            raise TapeError(self._src, place, "a goal holds only 0 and 1")
-        arr = arr.view(np.uint8)  # |b1 goals are stored as the same 0/1 bytes
-        if key is not None and len(self._goal_cache) < GOAL_CACHE_SIZE:
-            kept = arr.copy()
-            kept.flags.writeable = False
-            self._goal_cache[key] = kept
-        return arr.copy()
-
-    def _roles(self, value: Any, where: str, a: int) -> tuple[RoleTimeline, ...]:
-        if value is None:
-            return ()
-        if not isinstance(value, list) or len(value) != a:
-            raise TapeError(self._src, where, f"expected {a} role timelines")
-        out: list[RoleTimeline] = []
-        for k, timeline in enumerate(value):
-            ok = isinstance(timeline, list) and all(
-                isinstance(p, list)
-                and len(p) == 2
-                and isinstance(p[0], int)
-                and not isinstance(p[0], bool)
-                and p[0] >= 0
-                and isinstance(p[1], str)
-                for p in timeline
-            )
-            if not ok or [p[0] for p in timeline] != sorted(p[0] for p in timeline):
-                raise TapeError(self._src, f"{where}[{k}]", "expected sorted [step, label] pairs")
-            out.append(tuple((int(s), str(label)) for s, label in timeline))
-        return tuple(out)
-
-
-def _skippable(f: Any, pos: int, size: int) -> int | None:
-    """End of the record at ``pos`` when its head is sound (a known kind, a length that fits
-    the file) although its contents are not, so a scan can step over it; else None."""
-    f.seek(pos)
-    head = f.read(FRAME_HEAD.size)
-    if len(head) < FRAME_HEAD.size:
-        return None
-    length, kind = FRAME_HEAD.unpack(head)
-    end = pos + FRAME_OVERHEAD + length
-    if kind not in (KIND_CHUNK, KIND_END) or length > MAX_RECORD or end > size:
-        return None
-    if end < size:  # the next record must start with a sound head too
-        f.seek(end)
-        nxt = f.read(FRAME_HEAD.size)
-        if len(nxt) < FRAME_HEAD.size or FRAME_HEAD.unpack(nxt)[1] not in KINDS:
-            return None
-    return end
-
-
-def _chunk_number(buf: memoryview, begin: int, byte: int | None) -> int | None:
-    """Which chunk of the episode (from 0) the record at file offset ``byte`` is: the chunk
-    records before it are counted from their frame heads (no checksums, no decoding)."""
-    if byte is None:
-        return None
-    target = byte - begin
-    pos, chunks = 0, 0
-    size = len(buf)
-    while pos + FRAME_HEAD.size <= size and pos < target:
-        length, kind = FRAME_HEAD.unpack_from(buf, pos)
-        if kind == KIND_CHUNK:
-            chunks += 1
-        pos += FRAME_OVERHEAD + length
-    if pos != target or pos + FRAME_HEAD.size > size:
-        return None
-    return chunks if FRAME_HEAD.unpack_from(buf, pos)[1] == KIND_CHUNK else None
 
 
 __all__ = ["Damage", "EpisodeDamaged", "Tape", "TapeError", "open_tape"]

@@ -593,3 +593,6 @@ class _EpisodeBuffer:
                 "every step of an episode must carry the same optional fields "
                 f"(first steps had {self.layout}, this one {layout})",
             )
+
+
+__all__ = ["DEFAULT_CHUNK_STEPS", "TapeWriter", "partial_path", "set_aside_partial"]

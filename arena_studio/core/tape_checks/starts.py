@@ -55,3 +55,6 @@ def check_start(scene: Scene, ep: Episode) -> list[TapeFinding]:
                 )
             )
     return found
+
+
+__all__ = ["HEADING_TOLERANCE", "START_TOLERANCE", "check_start"]
