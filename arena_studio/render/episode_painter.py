@@ -8,9 +8,12 @@ Visual language (our own design):
   badge at the upper right = off the team goal. Tape labels reuse these styles in order;
 - beyond 6 agents every body also carries its number (1-based scene order), a non-colour cue;
 - team-goal targets: a thick ring at the reach radius (solid while covered, dashed while not),
-  a pip per agent that has covered it so far and "n at t s" for the first to reach it;
-- pursued goals: a thin line from each agent to each of its pursued targets, solid when the
-  target is on the team goal, dashed when it is not, so misalignment shows at a glance;
+  a pip per agent that has covered it so far and "rover-2 8.2 s" for the first to reach it;
+- pursued goals: a line from each agent to the target it is heading to, solid when the
+  target is on the team goal, dashed when it is not, so misalignment shows at a glance; its
+  other pursued targets get a faint dotted line;
+- name tags: each body's id in a small box beside it, clear of labels and other tags;
+  stacked bodies share one tag and a count badge (:mod:`.name_tags`);
 - trails fade with age: a small team's wide trails block by block (:mod:`.trail_blocks`),
   a crowd's 1 px trails in bands (one path per colour group per band, :mod:`.fastpath`);
 - collisions: an x where a contact began, larger for the last second.
@@ -45,6 +48,7 @@ from arena_studio.render.fastpath import (
     polylines_path,
     segments_path,
 )
+from arena_studio.render.name_tags import paint_name_tags, tag_names, wants_tags
 from arena_studio.render.legend import paint_banner, paint_clock, paint_legend
 from arena_studio.render.options import FrameOptions
 from arena_studio.render.paint_guard import guarded, saved
@@ -124,6 +128,47 @@ def _paint_episode_frame(
                 paint_collisions(painter, cache, step, view, theme, ui, opts, raster)
         with guarded(painter, "the agents", theme=theme):
             paint_agents(painter, cache, step, view, theme, opts, ui, raster)
+        if wants_tags(cache, opts):
+            with guarded(painter, "the name tags", theme=theme):
+                dev = painter.device()
+                size = (float(dev.width()), float(dev.height()))
+                blocked = text_boxes(cache, view, ui, opts, size)
+                paint_name_tags(painter, cache, step, view, theme, opts, ui, blocked)
+
+
+def text_boxes(
+    cache: EpisodeCache,
+    view: ViewTransform,
+    ui: float,
+    opts: FrameOptions,
+    size: tuple[float, float],
+) -> list[tuple[float, float, float, float]]:
+    """Pixel boxes name tags keep clear of: landmark labels and targets' arrival texts
+    (worked out once per view)."""
+    key = ("episode_painter.text_boxes", view, ui, opts.landmark_labels, opts.team_goal, size)
+    got = cache.memo.get(key)
+    if got is not None:
+        return got
+    boxes: list[tuple[float, float, float, float]] = []
+    if opts.landmark_labels:
+        for place in label_places(cache.scene, view, ui, None, False):
+            x0, y0, x1, y1 = place.box
+            tl, br = view.to_px(x0, y1), view.to_px(x1, y0)
+            boxes.append((tl.x(), tl.y(), br.x(), br.y()))
+    if opts.team_goal and cache.has_team_goal:
+        metrics = QFontMetricsF(font(11 * ui, bold=True))
+        half_w = metrics.horizontalAdvance(_WIDEST_ARRIVAL) / 2 + 2.0
+        half_h = metrics.height() / 2 + 2.0
+        above = _arrival_above(cache, view, ui, size)
+        for l_idx in cache.team_indices():
+            lm = cache.scene.landmarks[l_idx]
+            c = view.to_px(*lm.position)
+            r = max(view.length_px(lm.reach_radius), 6 * ui)
+            off = _arrival_offset(r, ui, above[l_idx])
+            cy = c.y() - off if above[l_idx] else c.y() + off
+            boxes.append((c.x() - half_w, cy - half_h, c.x() + half_w, cy + half_h))
+    cache.memo[key] = boxes
+    return boxes
 
 
 def blits_exactly(painter: QPainter) -> bool:
@@ -173,6 +218,7 @@ def paint_targets(
     covered_now = cache.covered[step].tolist()
     device = painter.device()
     above = _arrival_above(cache, view, ui, (float(device.width()), float(device.height())))
+    names = tag_names(cache)
     for l_idx in cache.team_indices():
         lm = scene.landmarks[l_idx]
         c = view.to_px(*lm.position)
@@ -180,7 +226,7 @@ def paint_targets(
         covered = covered_now[l_idx]
         agents, firsts = cache.arrivals(l_idx)
         order = agents[: min(bisect.bisect_right(firsts, step), 12)]
-        text = f"{order[0] + 1} at {firsts[0] * cache.episode.dt:.1f} s" if order else ""
+        text = f"{names[order[0]]} {firsts[0] * cache.episode.dt:.1f} s" if order else ""
         up = above[l_idx]
         if not raster:
             _draw_target(painter, c, r, covered, order, text, theme, ui, up)
@@ -197,7 +243,7 @@ def paint_targets(
 
 _TARGET_SPRITES: dict[tuple, tuple[QPoint, QImage]] = {}
 #: the widest "n at t s" text a target shows, for keeping it off the landmark's label
-_WIDEST_ARRIVAL = "99 at 999.9 s"
+_WIDEST_ARRIVAL = "rover-99 999.9 s"
 
 
 def _arrival_above(
@@ -425,10 +471,30 @@ def prefill_frame(
     return prefill_sprites(cache, view, theme, opts, ui, max_new)
 
 
+#: how far ahead (seconds) an agent's position tells which target it is heading to
+HEADING_LOOKAHEAD_S = 3.0
+
+
+def heading_targets(cache: EpisodeCache, step: int) -> np.ndarray:
+    """(A,) the pursued landmark each agent is heading to at ``step`` (-1: none): of its
+    pursued targets, the one nearest where it will be a few seconds later (its next arrival
+    when it covers one in that time), so a two-target goal gives each agent one line."""
+    lm, reach = cache.landmark_arrays()
+    if len(lm) == 0:
+        return np.full(cache.agents, -1, dtype=np.int64)
+    ahead = round(HEADING_LOOKAHEAD_S / max(float(cache.episode.dt), 1e-6))
+    later = cache.xy[min(step + max(ahead, 1), cache.steps - 1)]
+    d = np.linalg.norm(lm[None] - later[:, None], axis=-1) - reach[None]
+    d = np.where(cache.pursued & np.isfinite(d), d, np.inf)
+    best = np.argmin(d, axis=1)
+    return np.where(np.isfinite(d.min(axis=1)), best, -1)
+
+
 def paint_pursued(
     painter: QPainter, cache: EpisodeCache, step: int, view: ViewTransform, theme: Theme, ui: float
 ) -> None:
-    """Lines to pursued targets: faint and solid on the team goal, strong and dashed off it.
+    """Each agent's line to the target it is heading to (solid on the team goal, dashed off
+    it); its other pursued targets get a faint dotted line.
 
     A target the agent already covers gets no line (the agent is there), so a settled team
     shows few lines and a misaligned agent's dashed line stands out.
@@ -441,14 +507,20 @@ def paint_pursued(
     agents, marks = np.nonzero(cache.pursued & ~here)
     if len(agents) == 0:
         return
+    heads = heading_targets(cache, step).tolist()
     pos = view.map_array(xy).tolist()
     lm_px = view.map_array(lm).tolist()
     team = cache.team.tolist()
     # a handful of lines: one drawLine(s) each is cheaper than building a path per agent
     for a, m in zip(agents.tolist(), marks.tolist(), strict=True):
         (x0, y0), (x1, y1) = pos[a], lm_px[m]
-        if team[m]:
-            # thin solid line, cut where Qt strokes it slowly (see fastpath.line_pieces)
+        if not all(math.isfinite(v) for v in (x0, y0)):
+            continue
+        if heads[a] != m:
+            painter.setPen(_faint_pen(theme, a, ui))
+            painter.drawLine(QPointF(x0, y0), QPointF(x1, y1))
+        elif team[m]:
+            # solid line, cut where Qt strokes it slowly (see fastpath.line_pieces)
             pen = _pursued_pen(theme, a, True, ui)
             painter.setPen(pen)
             painter.drawLines(line_pieces(x0, y0, x1, y1, pen.widthF()))
@@ -457,12 +529,21 @@ def paint_pursued(
             painter.drawLine(QPointF(x0, y0), QPointF(x1, y1))  # dashes cut it up already
 
 
+def _faint_pen(theme: Theme, agent: int, ui: float) -> QPen:
+    def make() -> QPen:
+        pen = QPen(theme.agent_color(agent, alpha=0.22), 1.0 * ui)
+        pen.setStyle(Qt.PenStyle.DotLine)
+        return pen
+
+    return cached_pen(("pursued-faint", theme.name, agent, ui), make)
+
+
 def _pursued_pen(theme: Theme, agent: int, on_team: bool, ui: float) -> QPen:
     """Faint thin solid for a target on the team goal, strong dashed for one off it."""
 
     def make() -> QPen:
         if on_team:
-            pen = QPen(theme.agent_color(agent, alpha=0.45), 1.0 * ui)
+            pen = QPen(theme.agent_color(agent, alpha=0.8), 1.6 * ui)
             pen.setCapStyle(Qt.PenCapStyle.FlatCap)
         else:
             pen = QPen(theme.agent_color(agent, alpha=0.95), 2.0 * ui)

@@ -20,6 +20,7 @@ class FrameOptions:
     par_paths: bool = False
     collisions: bool = True
     numbers: str = "auto"  # "auto" (beyond 6 agents), "always", "never"
+    name_tags: bool = True  # a name beside each moving body (teams of up to 12)
     legend: bool = True
     clock: bool = True
     title: str | None = None
