@@ -25,6 +25,8 @@ class FrameOptions:
     clock: bool = True
     title: str | None = None
     caption: str | None = None
+    #: a "who went where" line under the scene (core.analysis.who_went_where)
+    statement: bool = True
     grid: bool = False
     scale_bar: bool = True
     landmark_labels: bool = True

@@ -176,4 +176,16 @@ def prepare_episode(
         distances=distances,
         events=event_marks(scene, events),
         metrics=metrics,
+        extra={"who_went_where": _who_went_where(scene, episode)},
     )
+
+
+def _who_went_where(scene: Scene, episode: Episode) -> str:
+    """The episode's who-went-where statement, "" when the episode cannot say (a damaged
+    goal or pose array is reported elsewhere; the replay still opens)."""
+    from arena_studio.core.analysis.who_went_where import who_went_where
+
+    try:
+        return who_went_where(scene, episode).text()
+    except (ValueError, IndexError):
+        return ""

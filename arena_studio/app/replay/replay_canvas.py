@@ -123,6 +123,10 @@ class ReplayCanvas(SceneCanvas):
         # (the static scene layer is painted into the cached background: one opaque blit)
         self.setCacheMode(QGraphicsView.CacheModeFlag.CacheBackground)
         self.layer.setVisible(False)
+        # identity rides on the moving bodies (name tags): start names would sit beside
+        # another agent's body, so the starts stay as faint marks without names
+        self.layer.show_agent_ids = False
+        self.layer.options = replace(self.layer.options, faint_starts=True)
         # the cached background covers every viewport pixel, so Qt need not fill the widget
         # first (a whole-view fill, ~0.15 ms a frame at 1280x720); every paint() and overlay
         # here saves and restores the painter itself, so the view need not do it per item

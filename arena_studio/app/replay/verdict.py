@@ -36,7 +36,13 @@ def outcome_words(outcome: Any) -> str:
 def describe(p: PreparedEpisode, theme: Theme, lead: str, step: int, link: bool) -> str:
     """Rich text for one episode; ``link`` adds "go there" until ``step`` reaches it. The
     simulator's reported outcome, when the tape has one, follows."""
-    return _verdict(p, theme, lead, step, link) + outcome_words(p.episode.outcome)
+    return _verdict(p, theme, lead, step, link) + where_words(p) + outcome_words(p.episode.outcome)
+
+
+def where_words(p: PreparedEpisode) -> str:
+    """Who went where (core.analysis.who_went_where), as escaped rich text, or ""."""
+    text = p.extra.get("who_went_where", "")
+    return f"<br>Who went where: {html.escape(text)}." if text else ""
 
 
 def _verdict(p: PreparedEpisode, theme: Theme, lead: str, step: int, link: bool) -> str:
