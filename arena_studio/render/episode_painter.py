@@ -48,8 +48,8 @@ from arena_studio.render.fastpath import (
     polylines_path,
     segments_path,
 )
-from arena_studio.render.name_tags import paint_name_tags, tag_names, wants_tags
 from arena_studio.render.legend import paint_banner, paint_clock, paint_legend
+from arena_studio.render.name_tags import paint_name_tags, tag_names, wants_tags
 from arena_studio.render.options import FrameOptions
 from arena_studio.render.paint_guard import guarded, saved
 from arena_studio.render.scene_painter import label_places

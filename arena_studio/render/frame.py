@@ -216,7 +216,8 @@ def paint_statement(
     with saved(painter):
         painter.fillRect(rect, theme.qcolor("room_fill"))
         painter.setPen(theme.qcolor("text"))
-        flags = Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter | Qt.TextFlag.TextWordWrap
+        flags = Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter
+        flags |= Qt.TextFlag.TextWordWrap
         for px in (12.5, 11.5, 10.5, 9.5):  # the largest size that fits the lines
             painter.setFont(font(px * ui))
             need = painter.boundingRect(box, int(flags), text)

@@ -1,7 +1,7 @@
 """Who went where: each agent's target, arrival or stopping distance, and the empty targets.
 
-Reference: shapely (GEOS) for the geometry: "covers" is a centre within the reach radius of the
-landmark (``Point.distance <= reach``, boundary included) and the distance short of a target is the distance from
+Reference: shapely (GEOS) for the geometry: "covers" is a centre within the reach radius
+of the landmark (``Point.distance <= reach``, boundary included) and the distance short of a target is the distance from
 the centre to that disc (``Point.distance``); arrival time = first covering step x dt (common
 practice). The episodes are hand-made straight-line routes on the greenhouse demo scene.
 """
@@ -39,11 +39,11 @@ def test_one_agent_arrives_one_stops_short_and_the_empty_target_is_named(scene):
     tank_xy = np.array(scene.landmarks[tank].position)
     bench_xy = np.array(scene.landmarks[bench].position)
     steps = 101
-    a0 = _line(tank_xy + (-3.0, 0.0), tank_xy, 61)
+    a0 = _line(tank_xy + np.array((-3.0, 0.0)), tank_xy, 61)
     a0 = np.vstack([a0, np.repeat(a0[-1:], steps - len(a0), axis=0)])
-    stop = bench_xy + (-2.5, 0.0)
-    a1 = _line(bench_xy + (-6.0, 0.0), stop, steps)
-    a2 = _line(tank_xy + (-4.0, 0.4), tank_xy + (-3.0, 0.4), steps)
+    stop = bench_xy + np.array((-2.5, 0.0))
+    a1 = _line(bench_xy + np.array((-6.0, 0.0)), stop, steps)
+    a2 = _line(tank_xy + np.array((-4.0, 0.4)), tank_xy + np.array((-3.0, 0.4)), steps)
     poses = np.zeros((steps, len(scene.agents), 3))
     for k, route in enumerate((a0, a1, a2)):
         poses[:, k, :2] = route
@@ -71,7 +71,9 @@ def test_an_agent_that_left_its_target_says_where_it_stopped(scene):
     tank_xy = np.array(scene.landmarks[tank].position)
     bench_xy = np.array(scene.landmarks[bench].position)
     steps = 60
-    route = np.vstack([_line(tank_xy, tank_xy, 10), _line(tank_xy, bench_xy + (-1.5, 0), 50)])
+    route = np.vstack(
+        [_line(tank_xy, tank_xy, 10), _line(tank_xy, bench_xy + np.array((-1.5, 0)), 50)]
+    )
     poses = np.zeros((steps, len(scene.agents), 3))
     poses[:, :, :2] = route[:, None, :] + np.array([0.0, 0.0])
     goal = np.zeros(len(scene.landmarks), np.uint8)

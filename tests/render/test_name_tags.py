@@ -85,6 +85,6 @@ def test_stacks_group_only_bodies_on_one_another():
 
 def test_a_tag_avoids_a_blocked_label_box():
     blocked = (100.0 + 8, 100.0 - 30, 100.0 + 80, 100.0 - 2)  # where the first spot would go
-    (box, spot), = place_tags([(100.0, 100.0)], [8.0], [(50.0, 14.0)], [blocked])
+    ((box, spot),) = place_tags([(100.0, 100.0)], [8.0], [(50.0, 14.0)], [blocked])
     assert spot != 0
     assert not shapely.box(*box).intersects(shapely.box(*blocked).buffer(-0.01))

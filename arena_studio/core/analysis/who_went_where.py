@@ -60,8 +60,10 @@ def _row_words(r: AgentWhere) -> str:
     short = r.short_m if r.short_m is not None else float("nan")
     near = r.stopped_near or r.target
     if r.arrived_s is not None:
-        then = f"ended {short:.1f} m from it" if near == r.target else (
-            f"stopped {short:.1f} m short of {near}"
+        then = (
+            f"ended {short:.1f} m from it"
+            if near == r.target
+            else (f"stopped {short:.1f} m short of {near}")
         )
         return f"{r.agent} reached {r.target} at {r.arrived_s:.1f} s, left, {then}"
     return f"{r.agent} stopped {short:.1f} m short of {near}"
