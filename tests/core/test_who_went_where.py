@@ -1,9 +1,9 @@
 """Who went where: each agent's target, arrival or stopping distance, and the empty targets.
 
 Reference: shapely (GEOS) for the geometry: "covers" is a centre within the reach radius
-of the landmark (``Point.distance <= reach``, boundary included) and the distance short of a target is the distance from
-the centre to that disc (``Point.distance``); arrival time = first covering step x dt (common
-practice). The episodes are hand-made straight-line routes on the greenhouse demo scene.
+of the landmark (``Point.distance <= reach``, boundary included) and the distance short
+of a target is the distance from the centre to that disc (``Point.distance``); arrival
+time = first covering step x dt (common practice). The episodes are hand-made straight-line routes on the greenhouse demo scene.
 """
 
 from __future__ import annotations
