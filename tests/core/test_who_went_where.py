@@ -3,7 +3,8 @@
 Reference: shapely (GEOS) for the geometry: "covers" is a centre within the reach radius
 of the landmark (``Point.distance <= reach``, boundary included) and the distance short
 of a target is the distance from the centre to that disc (``Point.distance``); arrival
-time = first covering step x dt (common practice). The episodes are hand-made straight-line routes on the greenhouse demo scene.
+time = first covering step x dt (common practice). The episodes are hand-made
+straight-line routes on the greenhouse demo scene.
 """
 
 from __future__ import annotations
