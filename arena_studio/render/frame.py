@@ -208,7 +208,14 @@ def paint_statement(
     from arena_studio.core.analysis.who_went_where import who_went_where
     from arena_studio.render.drawing import font
 
-    text = who_went_where(scene, episode).text()
+    from arena_studio.core.analysis.metrics import episode_metrics
+
+    try:
+        m = episode_metrics(scene, episode)
+        upto = m.success_step if m.success else None
+    except (ValueError, IndexError):  # the statement alone can still be said
+        upto = None
+    text = who_went_where(scene, episode, upto).text()
     if not text:
         return
     text = f"Who went where: {text}."

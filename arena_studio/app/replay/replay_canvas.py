@@ -113,6 +113,9 @@ class ReplayCanvas(SceneCanvas):
         self.caption: str | None = None  # e.g. "episode 12 (aligned success)" in compare mode
         self.show_legend = True
         self.show_clock = True
+        #: in compare mode: the shared timeline's length in steps, so both panes read the
+        #: same "t / total" as the transport (None: this episode's own length)
+        self.shared_steps: int | None = None
         self._hover_agent: int | None = None
         self._hover_pos = None
         self._legend_cache: tuple[tuple, QPixmap] | None = None
@@ -221,15 +224,32 @@ class ReplayCanvas(SceneCanvas):
 
         room = self.legend_room()
         minx, miny, maxx, maxy = bounds(self.scene_value)
-        w, h = max(maxx - minx, 1.0), max(maxy - miny, 1.0)
         vw = max(self.viewport().width() - room - 2 * margin_px, 40.0)
         vh = max(self.viewport().height() - 2 * margin_px - 30.0, 40.0)  # 30: clock line
-        s = min(max(min(vw / w, vh / h), MIN_PPM), MAX_PPM)
+        s = 1.0
+        for _ in range(3):  # landmark labels are sized in pixels: refit with them in view
+            w, h = max(maxx - minx, 1.0), max(maxy - miny, 1.0)
+            s = min(max(min(vw / w, vh / h), MIN_PPM), MAX_PPM)
+            minx, miny, maxx, maxy = self._with_labels(bounds(self.scene_value), s)
         self.setTransform(QTransform.fromScale(s, -s))
         cx = (minx + maxx) / 2 + room / 2 / s
         cy = (miny + maxy) / 2 + 15.0 / s
         self.centerOn(QPointF(cx, cy))
         self.zoom_changed.emit(s)
+
+    def _with_labels(
+        self, box: tuple[float, float, float, float], scale: float
+    ) -> tuple[float, float, float, float]:
+        """``box`` grown to hold the landmark labels as drawn at ``scale`` px/m."""
+        from arena_studio.render.scene_painter import label_places
+
+        assert self.scene_value is not None
+        minx, miny, maxx, maxy = box
+        view = ViewTransform(scale, 0.0, 0.0)
+        for place in label_places(self.scene_value, view, 1.0, None, False):
+            x0, y0, x1, y1 = place.box
+            minx, miny, maxx, maxy = min(minx, x0), min(miny, y0), max(maxx, x1), max(maxy, y1)
+        return minx, miny, maxx, maxy
 
     def resizeEvent(self, event) -> None:
         super().resizeEvent(event)
@@ -257,7 +277,10 @@ class ReplayCanvas(SceneCanvas):
             w = self.viewport().width()
             ui = 1.0
             if self.show_clock:
-                self._clock.paint(painter, QRectF(0, 0, 320, 60), ep, self.step, self.theme, ui)
+                self._clock.paint(
+                    painter, QRectF(0, 0, 320, 60), ep, self.step, self.theme, ui,
+                    self.shared_steps,
+                )  # fmt: skip
             legend = self.legend_rect()
             if legend is not None:
                 top_left = legend.topLeft().toPoint()

@@ -54,6 +54,7 @@ class TimelineBar(QWidget):
         self._theme = theme or load_theme("light")
         self._events: tuple[EventMark, ...] = ()
         self._agent_count = 0
+        self._compared: tuple[EventMark, ...] = ()
         self._static: tuple[tuple, QPixmap] | None = None
         self._cursor_painted_x: float | None = None  # where the last paint put the cursor
         self.setMinimumHeight(58)
@@ -77,6 +78,16 @@ class TimelineBar(QWidget):
         self._events = tuple(events)
         self._agent_count = agent_count
         self.update()
+
+    def set_compared_events(self, events: tuple[EventMark, ...]) -> None:
+        """The compared episode's events, drawn faint among the shown one's on the shared
+        timeline (both episodes' moments on one ruler)."""
+        self._compared = tuple(events)
+        self.update()
+
+    @property
+    def compared_events(self) -> tuple[EventMark, ...]:
+        return self._compared
 
     @property
     def events(self) -> tuple[EventMark, ...]:
@@ -161,6 +172,7 @@ class TimelineBar(QWidget):
             self.height(),
             dpr,
             id(self._events),  # the tuple is held, so its id cannot be reused
+            id(self._compared),
             self._theme.name,
             self._clock.steps,
             self._clock.dt,
@@ -192,6 +204,10 @@ class TimelineBar(QWidget):
         p.drawLine(QPointF(track.left(), mid), QPointF(track.right(), mid))
         self._paint_loop(p, track)
         self._paint_ruler(p, track)
+        p.setOpacity(0.45)  # the compared episode's marks, faint under the shown one's
+        for mark in self._compared:
+            self._paint_mark(p, mark, track)
+        p.setOpacity(1.0)
         for mark in self._events:
             self._paint_mark(p, mark, track)
 
