@@ -205,10 +205,9 @@ def paint_statement(
     """Who went where (core.analysis.who_went_where), wrapped into the strip's lines."""
     from PySide6.QtCore import Qt
 
+    from arena_studio.core.analysis.metrics import episode_metrics
     from arena_studio.core.analysis.who_went_where import who_went_where
     from arena_studio.render.drawing import font
-
-    from arena_studio.core.analysis.metrics import episode_metrics
 
     try:
         m = episode_metrics(scene, episode)
