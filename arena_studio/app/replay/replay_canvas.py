@@ -13,7 +13,7 @@ import math
 from dataclasses import replace
 
 import numpy as np
-from PySide6.QtCore import QPointF, QRectF, Qt, Signal
+from PySide6.QtCore import QPoint, QPointF, QRectF, Qt, Signal
 from PySide6.QtGui import QMouseEvent, QPainter, QPen, QPixmap
 from PySide6.QtWidgets import (
     QGraphicsItem,
@@ -40,6 +40,8 @@ from arena_studio.render.view import ViewTransform
 
 LEGEND_W = 200.0
 HOVER_SLACK_PX = 6.0
+#: room the hover card takes (pixels), for keeping it inside the canvas
+CARD_W, CARD_H = 300, 120
 
 
 def view_from_painter(painter: QPainter) -> ViewTransform:
@@ -162,7 +164,7 @@ class ReplayCanvas(SceneCanvas):
         self.layer_ghost.set_step(step)
         self.viewport().update()
         if self._hover_agent is not None:
-            self._show_tooltip(self._hover_agent, None)
+            self._recheck_hover()
 
     def set_options(self, options: FrameOptions) -> None:
         self.layer_episode.options = options
@@ -392,16 +394,43 @@ class ReplayCanvas(SceneCanvas):
         self._hover_agent = None
         super().leaveEvent(event)
 
-    def _show_tooltip(self, agent: int, global_pos) -> None:
-        """Show (or refresh, while playing) the hover card; ``None`` reuses the last spot."""
-        if global_pos is None:
-            global_pos = self._hover_pos
-        if global_pos is None:
+    def _recheck_hover(self) -> None:
+        """After a time change the card stays only while the pointer is still on the same
+        agent: a card that followed an agent away from the pointer covered other things."""
+        if self._hover_pos is None:
             return
-        self._hover_pos = global_pos
+        local = QPointF(self.viewport().mapFromGlobal(self._hover_pos))
+        agent = self.agent_at(local)
+        if agent != self._hover_agent:
+            self._hover_agent = agent
+            self.agentHovered.emit(agent)
+        if agent is None:
+            QToolTip.hideText()
+        else:
+            self._show_tooltip(agent, None)
+
+    def card_anchor(self, agent: int) -> QPoint | None:
+        """Viewport point for the hover card: beside the agent's body, up and right, kept
+        inside the canvas (never down over the explanation line under it)."""
+        xy = self.agent_positions()
+        if xy is None or agent >= len(xy) or not np.isfinite(xy[agent]).all():
+            return None
+        at = self.mapFromScene(QPointF(float(xy[agent, 0]), float(xy[agent, 1])))
+        vp = self.viewport().rect()
+        x = min(max(at.x() + 18, 4), max(vp.width() - CARD_W, 4))
+        y = min(max(at.y() - CARD_H // 2, 4), max(vp.height() - CARD_H, 4))
+        return QPoint(int(x), int(y))
+
+    def _show_tooltip(self, agent: int, global_pos) -> None:
+        """Show (or refresh, while playing) the hover card at once, beside the body."""
+        if global_pos is not None:
+            self._hover_pos = global_pos
+        if self._hover_pos is None:
+            return
         text = self.agent_tooltip(agent)
-        if text is not None:
-            QToolTip.showText(global_pos, text, self.viewport())
+        anchor = self.card_anchor(agent)
+        if text is not None and anchor is not None:
+            QToolTip.showText(self.viewport().mapToGlobal(anchor), text, self.viewport())
 
     def agent_tooltip(self, agent: int) -> str | None:
         """Pose, speed, role and reward so far of ``agent`` at the current step."""
