@@ -27,13 +27,14 @@ import time
 from collections.abc import Callable
 
 import numpy as np
-from PySide6.QtCore import QPoint, QPointF, Qt
+from PySide6.QtCore import QPoint, QPointF, QRectF, Qt
 from PySide6.QtGui import (
     QFontMetricsF,
     QImage,
     QPaintEngine,
     QPainter,
     QPen,
+    QPolygonF,
     QTransform,
 )
 
@@ -128,12 +129,54 @@ def _paint_episode_frame(
                 paint_collisions(painter, cache, step, view, theme, ui, opts, raster)
         with guarded(painter, "the agents", theme=theme):
             paint_agents(painter, cache, step, view, theme, opts, ui, raster)
+        if opts.focus is not None and 0 <= opts.focus < cache.agents:
+            with guarded(painter, "the focused agent", theme=theme):
+                paint_focus(painter, cache, step, view, theme, opts, ui)
         if wants_tags(cache, opts):
             with guarded(painter, "the name tags", theme=theme):
                 dev = painter.device()
                 size = (float(dev.width()), float(dev.height()))
                 blocked = text_boxes(cache, view, ui, opts, size)
                 paint_name_tags(painter, cache, step, view, theme, opts, ui, blocked)
+
+
+def paint_focus(
+    painter: QPainter,
+    cache: EpisodeCache,
+    step: int,
+    view: ViewTransform,
+    theme: Theme,
+    opts: FrameOptions,
+    ui: float,
+) -> None:
+    """One agent strong, the rest dimmed: a veil in the background colour over the frame so
+    far, then that agent's trail, its line to the target it heads to, and its body again."""
+    a = int(opts.focus or 0)
+    dev = painter.device()
+    veil = theme.qcolor("background", alpha=0.6)
+    painter.fillRect(QRectF(0, 0, float(dev.width()), float(dev.height())), veil)
+    first = max(0, step - round(max(opts.trail_seconds, 1.0) / max(cache.episode.dt, 1e-6)))
+    pts = view.map_array(cache.xy[first : step + 1, a])
+    pts = pts[np.isfinite(pts).all(axis=1)]
+    if len(pts) >= 2:
+        painter.setPen(QPen(theme.agent_color(a), 3.0 * ui))
+        painter.setBrush(Qt.BrushStyle.NoBrush)
+        painter.drawPolyline(QPolygonF([QPointF(float(x), float(y)) for x, y in pts]))
+    head = int(heading_targets(cache, step)[a])
+    here = view.map_array(cache.xy[step, a : a + 1])[0]
+    if head >= 0 and np.isfinite(here).all():
+        lm, _reach = cache.landmark_arrays()
+        to = view.to_px(float(lm[head, 0]), float(lm[head, 1]))
+        painter.setPen(QPen(theme.agent_color(a), 2.2 * ui))
+        painter.drawLine(QPointF(float(here[0]), float(here[1])), to)
+    if np.isfinite(here).all():
+        r = max(float(cache.radius[a] * view.scale), 2.5 * ui)
+        painter.setPen(QPen(theme.qcolor("text"), 2.0 * ui))
+        painter.setBrush(theme.agent_color(a))
+        painter.drawEllipse(QPointF(float(here[0]), float(here[1])), r, r)
+        painter.setBrush(Qt.BrushStyle.NoBrush)
+        painter.setPen(QPen(theme.qcolor("selection"), 2.0 * ui))
+        painter.drawEllipse(QPointF(float(here[0]), float(here[1])), r + 5 * ui, r + 5 * ui)
 
 
 def text_boxes(

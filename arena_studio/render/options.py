@@ -21,6 +21,7 @@ class FrameOptions:
     collisions: bool = True
     numbers: str = "auto"  # "auto" (beyond 6 agents), "always", "never"
     name_tags: bool = True  # a name beside each moving body (teams of up to 12)
+    focus: int | None = None  # one agent drawn strong over a dimmed rest (big teams)
     legend: bool = True
     clock: bool = True
     title: str | None = None

@@ -102,6 +102,7 @@ class ReplayCanvas(SceneCanvas):
     """Read-only canvas for one episode (plus an optional ghost) at the clock's step."""
 
     agentHovered = Signal(object)  # agent index or None
+    agentClicked = Signal(object)  # agent index, or None for a click beside every agent
 
     def __init__(self, theme: Theme, parent: QWidget | None = None) -> None:
         super().__init__(theme, parent)
@@ -266,6 +267,8 @@ class ReplayCanvas(SceneCanvas):
     def mousePressEvent(self, event: QMouseEvent) -> None:
         if self._starts_pan(event):
             self.auto_fit = False
+        elif event.button() == Qt.MouseButton.LeftButton and self.prepared is not None:
+            self.agentClicked.emit(self.agent_at(event.position()))
         super().mousePressEvent(event)
 
     # -- overlays in screen pixels -----------------------------------------------------

@@ -100,6 +100,8 @@ class ReplayWindow(QMainWindow):
         self.canvas = ReplayCanvas(self.theme, self.split)
         self.canvas_b = ReplayCanvas(self.theme, self.split)
         self.canvas_b.setVisible(False)
+        for c in (self.canvas, self.canvas_b):
+            c.agentClicked.connect(self.focus_agent)
         self.split.addWidget(self.canvas)
         self.split.addWidget(self.canvas_b)
         layout.addWidget(self.split, 1)
@@ -535,6 +537,17 @@ class ReplayWindow(QMainWindow):
         self.canvas.viewport().update()
 
     # -- options, theme ----------------------------------------------------------------
+    def focus_agent(self, agent: int | None) -> None:
+        """Draw ``agent`` strong over a dimmed rest (None: everyone alike); clicking the
+        focused agent again, or beside every agent, clears it."""
+        if agent is not None and agent == self.canvas.options.focus:
+            agent = None
+        opts = replace(self.canvas.options, focus=agent)
+        self.canvas.set_options(opts)
+        self.canvas_b.set_options(opts)
+        self.canvas.viewport().update()
+        self.canvas_b.viewport().update()
+
     def _apply_options(self) -> None:
         bar = self.view_toolbar
         opts = replace(
