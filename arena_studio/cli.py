@@ -16,6 +16,7 @@ from arena_studio import __version__
 from arena_studio.commands import COMMANDS, load_command
 from arena_studio.commands.arg_types import number
 from arena_studio.commands.common import CommandError, error_line
+from arena_studio.commands.output_plan import add_force_argument
 from arena_studio.core import limits
 
 
@@ -57,6 +58,7 @@ def add_app_arguments(parser: argparse.ArgumentParser) -> None:
         "--time", type=number(limits.TIME), default=None, help="replay time in seconds"
     )
     parser.add_argument("--theme", choices=("light", "dark"), default=None)
+    add_force_argument(parser)  # --screenshot onto a file that is not an earlier one
 
 
 def main(argv: Sequence[str] | None = None) -> int:

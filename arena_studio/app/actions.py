@@ -55,6 +55,14 @@ ACTIONS: tuple[ActionSpec, ...] = (
     ),
     ActionSpec("file.save_as", "Save &As…", ("Ctrl+Shift+S",), "File", modes=LAYOUT),
     ActionSpec(
+        "file.export",
+        "&Export for Simulator…",
+        ("Ctrl+E",),
+        "File",
+        tip="Write the scene as json, msgpack, npz, wkt, svg or an occupancy grid",
+        modes=LAYOUT,
+    ),
+    ActionSpec(
         "file.import_map",
         "Import &Map…",
         (),
@@ -100,6 +108,13 @@ ACTIONS: tuple[ActionSpec, ...] = (
     ActionSpec("view.zoom_out", "Zoom &Out", (SK.ZoomOut,), "View", "file", "zoom_out"),
     ActionSpec("view.fit", "&Fit Scene", ("Ctrl+0",), "View", "file", "zoom_fit"),
     ActionSpec("view.dark", "&Dark Theme", (), "View", checkable=True),
+    ActionSpec(
+        "view.reset_layout",
+        "&Reset Layout",
+        (),
+        "View",
+        tip="Show every tool bar and panel again, in their first places and sizes",
+    ),
     ActionSpec(
         "view.underlay",
         "&Underlay…",
@@ -165,6 +180,17 @@ ACTIONS: tuple[ActionSpec, ...] = (
         "tools",
         "room_rect",
         checkable=True,
+        modes=LAYOUT,
+    ),
+    ActionSpec(
+        "tool.doorway",
+        "Doorway",
+        ("0",),
+        "Tools",
+        "tools",
+        "doorway",
+        checkable=True,
+        tip="Click in the wall between two rooms for a doorway; drag along the wall to size it",
         modes=LAYOUT,
     ),
     ActionSpec(

@@ -39,11 +39,11 @@ GRID_MIN_PX = 12.0  # smallest on-screen spacing of minor grid lines
 
 
 class SceneCanvas(QGraphicsView):
-    """Metric, y-up view. ``cursor_moved`` reports the pointer in metres."""
+    """Metric, y-up view. ``cursorMoved`` reports the pointer in metres."""
 
-    cursor_moved = Signal(float, float)
-    cursor_left = Signal()
-    zoom_changed = Signal(float)
+    cursorMoved = Signal(float, float)
+    cursorLeft = Signal()
+    zoomChanged = Signal(float)
 
     def __init__(self, theme: Theme, parent: QWidget | None = None) -> None:
         super().__init__(parent)
@@ -112,7 +112,7 @@ class SceneCanvas(QGraphicsView):
         s = min(max(min(vw / w, vh / h), MIN_PPM), MAX_PPM)
         self.setTransform(QTransform.fromScale(s, -s))
         self.centerOn(QPointF((minx + maxx) / 2, (miny + maxy) / 2))
-        self.zoom_changed.emit(s)
+        self.zoomChanged.emit(s)
 
     def zoom_by(self, factor: float, anchor: QPoint | None = None) -> None:
         """Zoom keeping the world point under ``anchor`` (viewport pixels; default centre)."""
@@ -126,7 +126,7 @@ class SceneCanvas(QGraphicsView):
         h, v = self.horizontalScrollBar(), self.verticalScrollBar()
         h.setValue(h.value() + drift.x())
         v.setValue(v.value() + drift.y())
-        self.zoom_changed.emit(self.pixels_per_metre())
+        self.zoomChanged.emit(self.pixels_per_metre())
 
     def zoom_in(self) -> None:
         self.zoom_by(1.25)
@@ -220,7 +220,7 @@ class SceneCanvas(QGraphicsView):
             event.accept()
             return
         x, y = self.world_at(pos)
-        self.cursor_moved.emit(x, y)
+        self.cursorMoved.emit(x, y)
         self.canvas_move(event)
 
     def mouseReleaseEvent(self, event: QMouseEvent) -> None:
@@ -260,7 +260,7 @@ class SceneCanvas(QGraphicsView):
         super().keyReleaseEvent(event)
 
     def leaveEvent(self, event: object) -> None:
-        self.cursor_left.emit()
+        self.cursorLeft.emit()
 
     def resizeEvent(self, event: QResizeEvent) -> None:
         super().resizeEvent(event)

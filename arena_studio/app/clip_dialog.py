@@ -45,6 +45,52 @@ KINDS = (
     ("SVG still (this moment)", ".svg"),
 )
 EPISODE_MODES = ("This episode", "Episodes in sequence", "Compare side by side")
+HINT = "Choose where to save, then Export."
+
+
+def default_folder(tape_path: Path | None) -> Path:
+    """Beside the tape, unless the tape is a bundled demo (or its folder cannot be written):
+    then the user's Videos, Pictures or home folder, never inside the package."""
+    import os
+
+    from PySide6.QtCore import QStandardPaths
+
+    from arena_studio.core.resources import demo_path
+
+    if tape_path is not None:
+        folder = tape_path.parent
+        try:
+            bundled = folder.resolve() == demo_path().resolve()
+        except OSError:
+            bundled = True
+        if not bundled and os.access(folder, os.W_OK):
+            return folder
+    for kind in (
+        QStandardPaths.StandardLocation.MoviesLocation,
+        QStandardPaths.StandardLocation.PicturesLocation,
+    ):
+        place = QStandardPaths.writableLocation(kind)
+        if place and Path(place).is_dir() and os.access(place, os.W_OK):
+            return Path(place)
+    return Path.home()
+
+
+def outcome_statement(metrics: Any, index: int, dt: float) -> str:
+    """One plain line on how the episode went, from the metrics' own words (the replay's
+    outcome line says the same): success and time, or the diagnosis and when it happened."""
+    if metrics is None:
+        return ""
+    goal = getattr(metrics, "goal_key", None) or "-"
+    if getattr(metrics, "success", False):
+        t = getattr(metrics, "time_to_success", None)
+        took = "" if t is None else f" in {t:.1f} s"
+        return f"Episode {index} succeeded at goal {goal}{took}."
+    diag = getattr(metrics, "diagnosis", None)
+    if not diag:
+        return f"Episode {index} failed goal {goal}."
+    step = getattr(metrics, "diagnosis_step", None)
+    when = "" if step is None else f" at {step * dt:.1f} s"
+    return f"Episode {index} failed goal {goal}: {diag}{when}."
 
 
 class ClipDialog(QDialog):
@@ -61,12 +107,15 @@ class ClipDialog(QDialog):
         self.last_result: Any = None
         count = max(len(tape), 1)
         duration = self._duration(episode_index)
+        failed_at = self._diagnosis_time(episode_index)
+        if failed_at is not None:  # a failed episode: the still shows the moment it failed
+            time = failed_at
 
         self.kind = QComboBox()
         for label, _ext in KINDS:
             self.kind.addItem(label)
         tape_path = getattr(tape, "path", None)
-        folder = Path(tape_path).parent if tape_path else Path.cwd()
+        folder = default_folder(Path(tape_path) if tape_path else None)
         stem = Path(tape_path).stem if tape_path else "episode"
         self.path = QLineEdit(str(folder / f"{stem}-episode-{episode_index}.mp4"))
         choose = QPushButton("Choose…")
@@ -137,6 +186,12 @@ class ClipDialog(QDialog):
         self.title_seconds = _seconds(2.0, limits.TITLE_SECONDS)
         self.caption = QLineEdit()
         self.caption.setPlaceholderText("optional caption line")
+        self.statement = QCheckBox("Say how the episode went (what failed, and when)")
+        self.statement.setChecked(True)
+        self.statement.setToolTip(
+            "The outcome line of the replay, drawn at the bottom of the still or clip; "
+            "a caption typed above comes first"
+        )
 
         out_box = QGroupBox("Output")
         out_form = QFormLayout(out_box)
@@ -166,12 +221,14 @@ class ClipDialog(QDialog):
         look_form.addRow("Title", self.title)
         look_form.addRow("Title card", self.title_seconds)
         look_form.addRow("Caption", self.caption)
+        look_form.addRow("", self.statement)
 
         self.progress = QProgressBar()
         self.progress.setRange(0, 1)
         self.progress.setValue(0)
-        self.status = QLabel("Choose where to save, then Export.")
+        self.status = QLabel("")
         self.status.setWordWrap(True)
+        self.path.textChanged.connect(self._hint)
         self.status.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
         self.export_button = QPushButton("Export")
         self.export_button.setDefault(True)
@@ -190,8 +247,41 @@ class ClipDialog(QDialog):
         layout.addWidget(self.status)
         layout.addLayout(buttons)
         self._kind_changed(0)
+        self._hint()
 
     # -- helpers -------------------------------------------------------------------------
+    def _hint(self, *_args: object) -> None:
+        """The "where to save" hint only while no path is set (other messages stay)."""
+        empty = not self.path.text().strip()
+        if empty:
+            self._say(HINT, error=False)
+        elif self.status.text() == HINT:
+            self._say("", error=False)
+
+    def _metrics(self, index: int) -> Any:
+        """The episode's metrics (success, diagnosis), or None when they cannot be had."""
+        try:
+            from arena_studio.core.analysis.metrics import episode_metrics
+
+            return episode_metrics(self.tape.scene, self.tape.episode(index))
+        except Exception:  # a damaged episode: the dialog still opens, without a statement
+            return None
+
+    def _diagnosis_time(self, index: int) -> float | None:
+        m = self._metrics(index)
+        step = getattr(m, "diagnosis_step", None)
+        if m is None or getattr(m, "success", True) or step is None:
+            return None
+        return float(step) * float(self.tape.dt)
+
+    def caption_text(self, index: int) -> str | None:
+        """The caption line drawn: the typed caption, then the outcome statement."""
+        parts = [self.caption.text().strip()]
+        if self.statement.isChecked():
+            parts.append(outcome_statement(self._metrics(index), index, float(self.tape.dt)))
+        text = "  ·  ".join(p for p in parts if p)
+        return text or None
+
     def _duration(self, index: int) -> float:
         try:
             steps = self.tape.episode_steps(index)
@@ -244,7 +334,7 @@ class ClipDialog(QDialog):
             trail_seconds=self.trail.value() or 4.0,
             roles=self.roles.currentText(),
             title=self.title.text().strip() or None,
-            caption=self.caption.text().strip() or None,
+            caption=self.caption_text(self.episode.value()),
             **c,
         )
 

@@ -12,6 +12,7 @@ import os
 import sys
 from pathlib import Path
 
+from arena_studio.core.atomic import write_bytes_atomic
 from arena_studio.core.safe_open import InputFileError, check_input
 
 SCREENSHOT_SIZE = (1600, 1000)
@@ -56,7 +57,7 @@ def argument_problem(args: argparse.Namespace) -> str | None:
                 return "--episode and --time need a tape (.tape), not a folder"
             if next(p.rglob(f"*{TAPE_SUFFIX}*"), None) is None:
                 return f"{path}: is a folder with no tapes (.tape) in it"
-            return None if not screenshot else _screenshot_problem(screenshot)
+            return None if not screenshot else _screenshot_problem(args)
         # folders, pipes, devices and oversized files are named, never opened; a tape whose
         # writer still works on NAME.tape.partial is checked through that file
         checked = p.with_name(p.name + ".partial") if _still_written(p) else p
@@ -76,15 +77,27 @@ def argument_problem(args: argparse.Namespace) -> str | None:
         return f"--episode {episode}: episodes are numbered from 0"
     if seconds is not None and not (seconds >= 0):  # also refuses nan
         return f"--time {seconds:g}: expected seconds >= 0"
-    return _screenshot_problem(screenshot) if screenshot else None
+    return _screenshot_problem(args) if screenshot else None
 
 
-def _screenshot_problem(screenshot: str) -> str | None:
+def _screenshot_problem(args: argparse.Namespace) -> str | None:
+    """A bad picture name, or a file there that is not an earlier screenshot of ours (it is
+    replaced only with ``--force``) or that is the file being opened (never replaced)."""
+    from arena_studio.core.outputs import OutputClash, prepare_outputs, screenshot_outputs
+
+    screenshot = args.screenshot
     out = Path(screenshot)
     if not out.resolve().parent.is_dir():
         return f"{screenshot}: folder does not exist"
     if out.suffix.lower() not in IMAGE_SUFFIXES:
         return f"{screenshot}: expected a .png (or .jpg, .bmp) file name"
+    path = getattr(args, "path", None)
+    try:
+        prepare_outputs(
+            screenshot_outputs(out), [] if path is None else [path], getattr(args, "force", False)
+        )
+    except OutputClash as exc:
+        return str(exc)
     return None
 
 
@@ -113,7 +126,12 @@ def launch_app(args: argparse.Namespace) -> int:
     app.setOrganizationName("arena_studio")
     app.setApplicationName("arena-studio")
     quiet = None if interactive else QuietDialogs()
-    window = MainWindow(theme=getattr(args, "theme", None), dialogs=quiet)  # type: ignore[arg-type]
+    scratch = None if interactive else _scratch_settings()  # the user's settings untouched
+    window = MainWindow(
+        settings=scratch.settings if scratch else None,
+        theme=getattr(args, "theme", None),
+        dialogs=quiet,  # type: ignore[arg-type]
+    )
     if interactive:
         window.show()  # dialogs about the file below sit on a visible window
         window.offer_recovery()
@@ -147,6 +165,24 @@ def launch_app(args: argparse.Namespace) -> int:
         return _screenshot(app, window, Path(screenshot))
     window.show()
     return int(app.exec())
+
+
+class _ScratchSettings:
+    """Settings in a temporary folder for runs nobody watches (``--screenshot``, offscreen):
+    such a run neither reads nor writes the user's window layout, theme or recent files."""
+
+    def __init__(self) -> None:
+        import tempfile
+
+        from PySide6.QtCore import QSettings
+
+        self.folder = tempfile.TemporaryDirectory(prefix="arena-studio-settings-")
+        path = str(Path(self.folder.name) / "settings.ini")
+        self.settings = QSettings(path, QSettings.Format.IniFormat)
+
+
+def _scratch_settings() -> _ScratchSettings:
+    return _ScratchSettings()
 
 
 def _wants_moment(args: argparse.Namespace) -> bool:
@@ -187,11 +223,32 @@ def _screenshot(app: object, window: object, out: Path) -> int:
         window.canvas.fit_scene()
         window.run_checks_now()
     QApplication.processEvents()
-    image = window.grab()
-    ok = image.save(str(out))
+    data = _picture_bytes(window.grab().toImage(), out.suffix.lower().lstrip("."))
     window.document.undo_stack.setClean()
     window.close()
-    if not ok:
-        print(f"arena-studio: could not write {out}", file=sys.stderr)
+    try:
+        if data is None:
+            raise OSError("the picture could not be encoded")
+        write_bytes_atomic(out, data)  # a file already there is replaced whole or not at all
+    except OSError as exc:
+        print(f"arena-studio: {out}: could not write ({exc.strerror or exc})", file=sys.stderr)
         return 2
     return 0
+
+
+def _picture_bytes(image: object, fmt: str) -> bytes | None:
+    """The window's picture encoded as ``fmt``, marked as our screenshot (PNG text, JPEG
+    comment) so that a later ``--screenshot`` may replace it without ``--force``."""
+    from PySide6.QtCore import QBuffer, QIODevice
+    from PySide6.QtGui import QImage
+
+    from arena_studio.core.outputs import SCREENSHOT_MARK
+
+    assert isinstance(image, QImage)
+    image.setText("Software", SCREENSHOT_MARK.decode())
+    buffer = QBuffer()
+    buffer.open(QIODevice.OpenModeFlag.WriteOnly)
+    ok = image.save(buffer, "JPG" if fmt == "jpeg" else fmt.upper())
+    data = bytes(buffer.data().data())
+    buffer.close()
+    return data if ok else None

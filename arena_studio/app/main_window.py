@@ -11,6 +11,7 @@ import contextlib
 import sys
 from collections.abc import Callable
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from PySide6.QtCore import QByteArray, QSettings, QStandardPaths, Qt, QTimer, Signal
 from PySide6.QtGui import (
@@ -56,6 +57,9 @@ from arena_studio.core.scene.model import Scene
 from arena_studio.editing import edits as edits
 from arena_studio.render.theme import THEMES, Theme, load_theme
 
+if TYPE_CHECKING:
+    from arena_studio.app.editor.export_dialog import ExportDialog
+
 AUTOSAVE_MS = 30_000
 
 
@@ -64,8 +68,12 @@ def default_recovery_dir() -> Path:
     return Path(base or Path.home() / ".arena_studio") / "recovery"
 
 
-class MainWindow(FileCommands, ModePages, RobotCommands, QMainWindow):
-    scene_opened = Signal(object)  # Path of a scene file just opened in the layout editor
+class MainWindow(RobotCommands, QMainWindow):
+    """The window: owns the document, editor, canvas, panels and actions; file commands
+    live in ``self.files`` (:class:`FileCommands`), the pages in ``self.pages``
+    (:class:`ModePages`)."""
+
+    sceneOpened = Signal(object)  # Path of a scene file just opened in the layout editor
 
     def __init__(
         self,
@@ -89,10 +97,9 @@ class MainWindow(FileCommands, ModePages, RobotCommands, QMainWindow):
         self.canvas = EditorCanvas(self.theme, self.editor)
         self.modes = QStackedWidget()
         self.modes.addWidget(self.canvas)
-        self._mode_pages: dict[str, QWidget] = {"layout": self.canvas}
         self.mode = "layout"
-        self.mode_shown = "layout"
-        self._layout_state: QByteArray | None = None
+        self.pages = ModePages(self)
+        self.files = FileCommands(self)
         self.setCentralWidget(self.modes)
         self.setAcceptDrops(True)
 
@@ -106,8 +113,8 @@ class MainWindow(FileCommands, ModePages, RobotCommands, QMainWindow):
             "can_redo": self.document.undo_stack.canRedo,
             "has_selection": lambda: bool(self.editor.selection() or self.editor.active_vertex),
             "is_dirty_or_unnamed": lambda: self.document.dirty or self.document.path is None,
-            "has_replay": lambda: "replay" in self._mode_pages,
-            "has_runs": lambda: "runs" in self._mode_pages,
+            "has_replay": lambda: self.pages.has("replay"),
+            "has_runs": lambda: self.pages.has("runs"),
         }
         self._build_actions()
         self._build_status_bar()
@@ -118,7 +125,7 @@ class MainWindow(FileCommands, ModePages, RobotCommands, QMainWindow):
         self._autosave.setInterval(AUTOSAVE_MS)
         self._autosave.timeout.connect(self.autosave_now)
         self._autosave.start()
-        self._autosaved_scene: Scene | None = None
+        self.autosaved_scene: Scene | None = None
 
         from arena_studio.app.window_size import place_on_screen
 
@@ -236,15 +243,16 @@ class MainWindow(FileCommands, ModePages, RobotCommands, QMainWindow):
         view.addSeparator()
         for dock in self.docks.values():
             view.addAction(dock.toggleViewAction())
-        self._rebuild_recent_menu()
+        self.files.rebuild_recent_menu()
 
     def _handler(self, spec: ActionSpec) -> Callable[[], None]:
         table: dict[str, Callable[[], object]] = {
-            "file.new": self.new_scene,
-            "file.open": self.open_dialog,
-            "file.open_folder": self.open_folder_dialog,
-            "file.save": self.save,
-            "file.save_as": self.save_as,
+            "file.new": self.files.new_scene,
+            "file.open": self.files.open_dialog,
+            "file.open_folder": self.files.open_folder_dialog,
+            "file.save": self.files.save,
+            "file.save_as": self.files.save_as,
+            "file.export": self.files.export_dialog,
             "file.quit": self.close,
             "edit.undo": self.document.undo_stack.undo,
             "edit.redo": self.document.undo_stack.redo,
@@ -253,7 +261,8 @@ class MainWindow(FileCommands, ModePages, RobotCommands, QMainWindow):
             "edit.snap": self._toggle_snap,
             "view.zoom_in": lambda: self.visible_canvas().zoom_in(),
             "view.zoom_out": lambda: self.visible_canvas().zoom_out(),
-            "view.fit": self.fit_visible,
+            "view.fit": self.pages.fit_visible,
+            "view.reset_layout": self.reset_layout,
             "view.dark": lambda: self.apply_theme(
                 "dark" if self.actions_by_id["view.dark"].isChecked() else "light"
             ),
@@ -289,39 +298,39 @@ class MainWindow(FileCommands, ModePages, RobotCommands, QMainWindow):
     def _connect(self) -> None:
         doc = self.document
         doc.changed.connect(self._on_document_changed)
-        doc.path_changed.connect(self._update_title)
-        doc.undo_stack.cleanChanged.connect(self._update_title)
-        doc.undo_stack.indexChanged.connect(self._update_actions)
-        self.editor.selection_changed.connect(self._update_actions)
-        self.editor.status_message.connect(self.show_message)
-        self.editor.tool_changed.connect(lambda name: self.actions_by_id[name].setChecked(True))
-        self._connect_canvas(self.canvas)
+        doc.pathChanged.connect(self.update_title)
+        doc.undo_stack.cleanChanged.connect(self.update_title)
+        doc.undo_stack.indexChanged.connect(self.update_actions)
+        self.editor.selectionChanged.connect(self.update_actions)
+        self.editor.statusMessage.connect(self.show_message)
+        self.editor.toolChanged.connect(lambda name: self.actions_by_id[name].setChecked(True))
+        self.connect_canvas(self.canvas)
         self.checks.results.connect(self._on_check_results)
-        self.checks.plans_ready.connect(self._on_plans)
+        self.checks.plansReady.connect(self._on_plans)
         self.findings_panel.activated.connect(self.focus_finding)
         self.goals_panel.highlight.connect(self._highlight_goal)
 
     # -- document ----------------------------------------------------------------------
     def _on_document_changed(self) -> None:
         self.checks.schedule(self.document.scene)
-        self._update_title()
-        self._update_actions()
+        self.update_title()
+        self.update_actions()
 
-    def _update_title(self, *_args: object) -> None:
+    def update_title(self, *_args: object) -> None:
         mark = " •" if self.document.dirty else ""
         if self.mode == "layout":  # another page shows its own title
             self.setWindowTitle(f"{self.document.display_name}{mark} — arena_studio")
-        self._update_actions()
+        self.update_actions()
 
-    def _connect_canvas(self, canvas: SceneCanvas) -> None:
+    def connect_canvas(self, canvas: SceneCanvas) -> None:
         """Status bar readouts for a canvas (the editor's, or a mode page's)."""
-        canvas.cursor_moved.connect(
+        canvas.cursorMoved.connect(
             lambda x, y: self.coords_label.setText(f"x {x:8.2f} m   y {y:8.2f} m")
         )
-        canvas.cursor_left.connect(lambda: self.coords_label.setText("x —  y —"))
-        canvas.zoom_changed.connect(lambda ppm, c=canvas: self._show_zoom(c, ppm))
+        canvas.cursorLeft.connect(lambda: self.coords_label.setText("x —  y —"))
+        canvas.zoomChanged.connect(lambda ppm, c=canvas: self.pages.show_zoom(c, ppm))
 
-    def _update_actions(self, *_args: object) -> None:
+    def update_actions(self, *_args: object) -> None:
         for spec in ACTIONS:
             works_here = not spec.modes or self.mode in spec.modes
             condition = self._conditions[spec.enabled]() if spec.enabled else True
@@ -384,14 +393,14 @@ class MainWindow(FileCommands, ModePages, RobotCommands, QMainWindow):
     def autosave_now(self) -> bool:
         """Write a recovery copy when there are unsaved changes not yet copied."""
         scene = self.document.scene
-        if not self.document.dirty or scene == self._autosaved_scene:
+        if not self.document.dirty or scene == self.autosaved_scene:
             return False
         try:
             self.recovery.save(scene, self.document.path)
         except (OSError, ArenaError) as exc:
             self.show_message(f"Recovery copy could not be written: {exc}")
             return False
-        self._autosaved_scene = scene
+        self.autosaved_scene = scene
         return True
 
     def offer_recovery(self) -> bool:
@@ -443,6 +452,9 @@ class MainWindow(FileCommands, ModePages, RobotCommands, QMainWindow):
         state = self.settings.value("window/state")
         if isinstance(state, QByteArray | bytes):
             self._docks_sized = self.restoreState(QByteArray(state))  # the user's sizes
+        # Places and sizes come back; hidden bars and panels never do: a run that ended
+        # with them hidden (a crash, a test) must not leave the next window without them.
+        self._show_all_panels()
         snap = self.settings.value("prefs/snap", True)
         on = snap not in (False, "false", "0", 0)
         self.actions_by_id["edit.snap"].setChecked(on)
@@ -450,10 +462,34 @@ class MainWindow(FileCommands, ModePages, RobotCommands, QMainWindow):
 
         self.editor.snap_settings = replace(self.editor.snap_settings, enabled=on)
 
+    def _show_all_panels(self) -> None:
+        for key, bar in self.toolbars.items():
+            bar.setVisible(key != "tools" or self.mode == "layout")
+        for dock in self.docks.values():
+            dock.setVisible(self.mode == "layout")
+
+    def reset_layout(self) -> None:
+        """View > Reset Layout: every bar and panel shown, docked where a first start puts
+        them (Properties and Goals tabbed on the right, Findings below), first sizes."""
+        right, bottom = (
+            Qt.DockWidgetArea.RightDockWidgetArea,
+            Qt.DockWidgetArea.BottomDockWidgetArea,
+        )
+        for key, area in (("properties", right), ("goals", right), ("findings", bottom)):
+            dock = self.docks[key]
+            dock.setFloating(False)
+            self.addDockWidget(area, dock)
+        self.tabifyDockWidget(self.docks["properties"], self.docks["goals"])
+        self.pages.layout_state = None
+        self._show_all_panels()
+        self.docks["properties"].raise_()
+        self._size_docks()
+        self.show_message("Layout reset: every tool bar and panel is shown.")
+
     def save_settings(self) -> None:
         self.settings.setValue("window/geometry", self.saveGeometry())
         # In another mode the editor's docks are hidden: keep the layout they had.
-        state = self._layout_state if self._layout_state is not None else self.saveState()
+        state = self.pages.layout_state if self.pages.layout_state is not None else self.saveState()
         self.settings.setValue("window/state", state)
         self.settings.sync()
 
@@ -478,7 +514,7 @@ class MainWindow(FileCommands, ModePages, RobotCommands, QMainWindow):
         self.recovery.discard()
         self._autosave.stop()
         self.checks.shutdown()
-        for name, page in self._mode_pages.items():
+        for name, page in self.pages.pages().items():
             if name != "layout":
                 page.close()  # other modes stop their background work (e.g. tape loading)
         event.accept()
@@ -496,3 +532,43 @@ class MainWindow(FileCommands, ModePages, RobotCommands, QMainWindow):
 
     def open_demo(self) -> bool:
         return self.open_path(demo_path(DEFAULT_DEMO_SCENE))
+
+    # -- the window's interface to modes and file commands (used by the pages) ---------
+    def open_path(self, path: str | Path) -> bool:
+        return self.files.open_path(path)
+
+    def open_tape(self, path: Path) -> bool:
+        return self.files.open_tape(path)
+
+    def maybe_keep_changes(self) -> bool:
+        return self.files.maybe_keep_changes()
+
+    def new_scene(self) -> None:
+        self.files.new_scene()
+
+    def save(self) -> bool:
+        return self.files.save()
+
+    def save_as(self) -> bool:
+        return self.files.save_as()
+
+    def save_to(self, path: Path) -> bool:
+        return self.files.save_to(path)
+
+    def recent_files(self) -> list[str]:
+        return self.files.recent_files()
+
+    def make_export_dialog(self) -> ExportDialog:
+        return self.files.make_export_dialog()
+
+    def set_mode(self, name: str) -> None:
+        self.pages.set_mode(name)
+
+    def add_mode(self, name: str, widget: QWidget) -> None:
+        self.pages.add_mode(name, widget)
+
+    def visible_canvas(self) -> SceneCanvas:
+        return self.pages.visible_canvas()
+
+    def fit_visible(self) -> None:
+        self.pages.fit_visible()

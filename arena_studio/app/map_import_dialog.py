@@ -29,6 +29,7 @@ from arena_studio.core.robot.map_trace import DEFAULT_SPECK_CELLS, TracedMap, ma
 from arena_studio.core.robot.map_yaml import OccupancyMap
 from arena_studio.core.robot.underlay import map_underlay
 from arena_studio.core.scene import Scene
+from arena_studio.core.wording import count
 from arena_studio.render.theme import Theme
 
 CAUTION = (
@@ -184,8 +185,8 @@ class MapImportDialog(QDialog):
         self.traced = trace_map(self.omap, self.tolerance_m(), self.min_area_m2())
         t = self.traced
         self.counts.setText(
-            f"{len(t.rooms)} room(s), {len(t.obstacles)} obstacle(s)\n"
-            f"{t.vertex_count} vertices, {t.dropped} speck(s) dropped"
+            f"{count(len(t.rooms), 'room')}, {count(len(t.obstacles), 'obstacle')}\n"
+            f"{count(t.vertex_count, 'vertex', 'vertices')}, {count(t.dropped, 'speck')} dropped"
         )
         self.import_button.setEnabled(bool(t.rooms))
         self.preview.traced = t

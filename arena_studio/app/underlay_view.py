@@ -111,7 +111,7 @@ class UnderlayView(QObject):
         self._warned: str | None = None
         self.theme: Theme = canvas.theme
         document.changed.connect(self.refresh)
-        document.path_changed.connect(self.refresh)
+        document.pathChanged.connect(self.refresh)
         self.refresh()
 
     def path(self) -> Path | None:

@@ -16,6 +16,7 @@ from PySide6.QtWidgets import QApplication, QDialog, QFileDialog, QInputDialog, 
 from arena_studio.app.underlay_view import UnderlayView
 from arena_studio.core.errors import ArenaError
 from arena_studio.core.scene import Scene
+from arena_studio.core.wording import count
 
 MAP_FILTER = "Map descriptions (*.yaml *.yml);;All files (*)"
 BAG_FILTER = "ROS 2 bags (metadata.yaml *.mcap *.db3);;All files (*)"
@@ -188,7 +189,10 @@ class RobotCommands:
             QApplication.restoreOverrideCursor()
             progress.close()
         skipped = [u for u in report.topics.values() if u.skipped]
-        lines = [f"{len(report.episodes)} episode(s) from {report.bags} bag(s) into {out.name}."]
+        lines = [
+            f"{count(len(report.episodes), 'episode')} from {count(report.bags, 'bag')} "
+            f"into {out.name}."
+        ]
         lines += [f"{u.topic}: {u.skipped} of {u.messages} skipped ({u.note})" for u in skipped]
         lines += list(dict.fromkeys(report.warnings))[:8]
         self.last_run_report = report

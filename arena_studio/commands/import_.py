@@ -77,7 +77,7 @@ def run(args: argparse.Namespace) -> int:
         keep_earlier_partial(Path(args.output))
         if args.kind == "csv":
             columns = parse_columns(args.columns)
-            total = max(1, os.path.getsize(src) // 40)  # rough rows, for the bar only
+            total = max(1, os.path.getsize(src))  # bytes; the importer reports bytes read
             with progress_bar(total, "import", args.quiet) as bar:
                 count = import_csv(
                     src,

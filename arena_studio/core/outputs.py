@@ -31,6 +31,8 @@ SNIFF_BYTES = 64 * 1024
 TAPE_MAGIC = b"\x89ASTAPE\n"
 #: Marker our renderer writes into PNG stills, SVG stills, MP4 and GIF clips.
 RENDER_MARK = b"arena-studio render"
+#: Marker the app writes into ``--screenshot`` pictures (a PNG text chunk, a JPEG comment).
+SCREENSHOT_MARK = b"arena-studio screenshot"
 GRID_KINDS = ("grid-npy", "grid-png", "grid-json")
 
 
@@ -138,6 +140,7 @@ _DESCRIPTIONS = {
     "clip-mp4": "rendered clip",
     "clip-gif": "rendered clip",
     "frames": "frames folder",
+    "screenshot": "screenshot",
 }
 
 
@@ -222,6 +225,7 @@ _RECOGNISERS: dict[str, Callable[[Output], bool]] = {
     "clip-mp4": lambda o: RENDER_MARK in _head(o.path) or RENDER_MARK in _tail(o.path),
     "clip-gif": lambda o: RENDER_MARK in _tail(o.path, 4096),
     "frames": _frames,
+    "screenshot": lambda o: SCREENSHOT_MARK in _head(o.path, 4096),
 }
 
 
@@ -248,6 +252,11 @@ def render_outputs(out: str | Path) -> list[Output]:
     path = Path(out)
     kinds = {".png": "still-png", ".svg": "still-svg", ".mp4": "clip-mp4", ".gif": "clip-gif"}
     return [Output(path, kinds.get(path.suffix.lower(), "frames"))]
+
+
+def screenshot_outputs(out: str | Path) -> list[Output]:
+    """What ``arena-studio PATH --screenshot OUT`` writes."""
+    return [Output(Path(out), "screenshot")]
 
 
 def tape_outputs(out: str | Path) -> list[Output]:
@@ -277,5 +286,6 @@ __all__ = [
     "prepare_outputs",
     "render_outputs",
     "same_file",
+    "screenshot_outputs",
     "tape_outputs",
 ]

@@ -24,7 +24,7 @@ GIB = 1 << 30
 MAX_BYTES: dict[str, int] = {
     "scene": 16 * MIB,
     "tape": 64 * GIB,
-    "csv": 512 * MIB,
+    "csv": 64 * GIB,  # read in blocks, episode by episode
     "npz": 2 * GIB,
     "map": 1 * MIB,
     "map image": 1 * GIB,

@@ -459,4 +459,7 @@ def make_tools(host: ToolHost) -> dict[str, Tool]:
     from arena_studio.editing.underlay_tools import CalibrateTool  # two clicks on the image
 
     tools.append(CalibrateTool(host))
+    from arena_studio.editing.doorway import DoorwayTool  # its own module: wall geometry
+
+    tools.append(DoorwayTool(host))
     return {t.name: t for t in tools}

@@ -5,6 +5,8 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
+from PySide6.QtCore import Qt
+
 from arena_studio.core.resources import DEFAULT_DEMO_SCENE, demo_path
 from arena_studio.core.scene.model import load_scene
 from arena_studio.editing.tools import ToolEvent
@@ -92,12 +94,16 @@ def test_settings_persist_recent_files_theme_and_layout(make_window, tmp_path):
     first.open_path(demo_path(DEFAULT_DEMO_SCENE))
     assert first.save_to(scene_file)
     first.actions_by_id["view.dark"].trigger()
-    first.docks["findings"].hide()
+    first.addDockWidget(Qt.DockWidgetArea.LeftDockWidgetArea, first.docks["findings"])
+    first.docks["goals"].hide()
     first.close()
     second = make_window()
     assert second.recent_files()[0] == str(scene_file.resolve())
     assert second.theme.name == "dark"
-    assert not second.docks["findings"].isVisible()
+    # places come back; a panel hidden last time is shown again (never lost)
+    left = Qt.DockWidgetArea.LeftDockWidgetArea
+    assert second.dockWidgetArea(second.docks["findings"]) == left
+    assert second.docks["goals"].toggleViewAction().isChecked()
     assert second.recent_menu.actions()[0].text() == "keep.scene.json"
 
 

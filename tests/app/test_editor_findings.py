@@ -65,7 +65,7 @@ def test_findings_arrive_before_par_times_and_stale_plans_are_not_shown(qtbot, m
     runner = win.checks
     seen: list[str] = []
     runner.results.connect(lambda *_: seen.append("findings"))
-    runner.plans_ready.connect(lambda *_: seen.append("plans"))
+    runner.plansReady.connect(lambda *_: seen.append("plans"))
     win.document.reset(_scene(), None)
     qtbot.waitUntil(lambda: "plans" in seen and not runner.busy, timeout=10000)
     assert seen.index("findings") < seen.index("plans")

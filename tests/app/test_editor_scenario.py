@@ -73,7 +73,9 @@ def test_two_room_layout_round_trip(qtbot, make_window, tmp_path):
     _click(qtbot, win, 1.5, 1.0)
     _click(qtbot, win, 10.0, 3.5, Qt.KeyboardModifier.ShiftModifier)
     _click(qtbot, win, 13 - 2 / ppm, 1, Qt.KeyboardModifier.ShiftModifier)
-    goals.add_from_selection()
+    assert not goals.add_button.isEnabled()  # Add goal works on picks, not a selection
+    goals.pick_button.click()  # the selected landmarks become the picks
+    goals.add_button.click()
     g = win.document.scene.goals
     assert g.families == (1, 2)
     assert g.vectors == ((0, 0, 1, 0, 1, 1),)
@@ -103,6 +105,8 @@ def test_two_room_layout_round_trip(qtbot, make_window, tmp_path):
     win.dialogs.save_answer = str(target)
     win.actions_by_id["file.save"].trigger()  # unnamed: asks for a file name
     assert not win.document.dirty and "•" not in win.windowTitle()
+    assert win.document.scene.name == "two-rooms"  # the file name named the scene
+    edited = win.document.scene
     assert win.close()
 
     again = make_window()

@@ -93,7 +93,9 @@ def _apply(win, op) -> None:
     elif kind == "goal" and ed.scene.landmarks:
         n = len(ed.scene.landmarks)
         ed.set_selection([("landmarks", ed.scene.landmarks[i % n].id) for i in op[1]])
+        ed.set_tool("tool.goal_pick")  # the selected landmarks become the picks
         win.goals_panel.add_from_selection()
+        ed.set_tool("tool.select")
     elif kind in ("insert", "dropvertex"):
         from arena_studio.editing import edits as edits
 

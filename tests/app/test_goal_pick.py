@@ -79,14 +79,21 @@ def test_leaving_pick_mode_drops_the_picks_and_escape_clears_them(qtbot, main_wi
     assert win.canvas.layer.picked == ()
 
 
-def test_shift_selected_landmarks_still_add_and_the_list_removes(qtbot, main_window):
+def test_add_goal_waits_for_pick_mode_and_selected_landmarks_become_picks(qtbot, main_window):
     win = main_window
     assert win.open_path(demo_path(DEFAULT_DEMO_SCENE))
     panel = win.goals_panel
+    assert not panel.add_button.isEnabled()
     ids = ("valve-west", "sensor-north", "potting-bench")
     win.editor.set_selection([("landmarks", i) for i in ids])
+    assert not panel.add_button.isEnabled()  # selecting is not picking
+    panel.add_from_selection()
+    assert win.document.scene.goals.vectors == ()
+    panel.pick_button.click()  # the selected landmarks are the first picks
+    assert win.editor.goal_picks == ids
     assert panel.add_button.isEnabled()
     panel.add_button.click()
+    assert not panel.add_button.isEnabled()  # the picks cleared for the next goal
     scene = win.document.scene
     vec = tuple(1 if lm.id in ids else 0 for lm in scene.landmarks)
     assert scene.goals.vectors == (vec,)
@@ -97,6 +104,9 @@ def test_shift_selected_landmarks_still_add_and_the_list_removes(qtbot, main_win
     panel.table.selectRow(rows.index(vec))
     assert panel.remove_button.isEnabled()
     panel.remove_button.click()
+    win.actions_by_id["tool.select"].trigger()
+    _click_landmark(qtbot, win, "seed-tray")
+    assert not panel.add_button.isEnabled()
     assert win.document.scene.goals.vectors == ()
 
 

@@ -127,7 +127,7 @@ def test_a_file_that_is_not_a_tape_gets_one_clear_message(qtbot, tmp_path):
     assert window.modes.currentWidget() is window.canvas  # still in the editor
 
 
-def test_opening_a_different_scene_beside_a_tape_warns(qtbot, tmp_path):
+def test_opening_a_different_scene_beside_a_tape_says_so_without_a_box(qtbot, tmp_path):
     from dataclasses import replace
 
     from arena_studio.app.main_window import MainWindow
@@ -149,7 +149,9 @@ def test_opening_a_different_scene_beside_a_tape_warns(qtbot, tmp_path):
     assert window.open_path(tmp_path / "same.scene.json")
     assert said == []  # same content hash (core.scene.Scene.content_hash, SHA-256)
     assert window.open_path(tmp_path / "other.scene.json")
-    assert len(said) == 1 and "other.scene.json is not the scene" in said[0]
+    assert said == []  # no modal box: the status bar says it
+    assert "other.scene.json" in window.message_label.text()
+    assert "differs from the scene stored in hall.tape" in window.message_label.text()
     window.replay_page.close_tape()
 
 

@@ -36,7 +36,7 @@ def test_import_map_previews_and_adopts_the_scene(make_window, tmp_path: Path, q
     _accepting(win)
     assert win.import_map(path)
     dialog = win.last_map_dialog
-    assert "1 room(s), 2 obstacle(s)" in dialog.counts.text()
+    assert "1 room, 2 obstacles" in dialog.counts.text()
     before = dialog.traced.vertex_count
     dialog.tolerance.setValue(0)  # no simplification: more vertices
     dialog.retrace()

@@ -50,6 +50,24 @@ def test_page_shows_curves_final_and_heat_map(main_window, sweep_copy: Path, qtb
     assert m.values.shape == (len(m.goals), 6) and np.isfinite(m.values).any()
 
 
+def test_bands_are_drawn_quickly_then_refined_to_the_cli_count(
+    main_window, sweep_copy: Path, qtbot
+) -> None:
+    from arena_studio.app.runs.runs_page import FIRST_REPS
+    from arena_studio.core.runs.stats import DEFAULT_REPS
+
+    main_window.open_path(sweep_copy)
+    page = main_window.runs_page
+    page.loader.wait()
+    qtbot.waitUntil(lambda: page.rows != [], timeout=60000)
+    assert page.shown_reps == FIRST_REPS  # the quick pass is on screen first
+    runs, _ = load_runs(scan_sweep(sweep_copy))
+    qtbot.waitUntil(lambda: page.shown_reps == DEFAULT_REPS, timeout=60000)  # after the pause
+    # refined bands equal the command line's (same seed, its 10,000 replicates)
+    cli = curve_rows(runs, "success", settings=Settings(reps=DEFAULT_REPS))
+    assert [(r.ci_low, r.ci_high) for r in page.rows] == [(r.ci_low, r.ci_high) for r in cli]
+
+
 def test_click_point_lists_tapes_and_opens_replay(main_window, sweep_copy: Path, qtbot) -> None:
     main_window.open_path(sweep_copy)
     page = main_window.runs_page

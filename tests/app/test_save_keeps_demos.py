@@ -47,5 +47,8 @@ def test_saving_an_edited_scene_beside_a_tape_does_not_warn(main_window, tmp_pat
     win.dialogs.save_answer = str(tmp_path / "edited.scene.json")
     assert win.save()
     assert said == []
-    assert win.open_path(tmp_path / "edited.scene.json")  # opening it beside the tape warns
-    assert len(said) == 1 and "edited.scene.json" in said[0]
+    # opening it beside the tape says so in the status bar, with no modal box
+    assert win.open_path(tmp_path / "edited.scene.json")
+    assert said == []
+    assert "edited.scene.json" in win.message_label.text()
+    assert "differs" in win.message_label.text()

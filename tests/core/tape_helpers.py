@@ -109,3 +109,26 @@ def replace_marked_value(path: Path, value: float, fix_crc: bool = True) -> int:
             pos = end
     path.write_bytes(bytes(data))
     return at
+
+
+def write_long_csv(path: Path, target_bytes: int, agents: int = 3, steps: int = 400) -> int:
+    """A long-format file of about ``target_bytes`` (episodes of ``steps`` x ``agents``)."""
+    rng = np.random.default_rng(1)
+    body = [
+        f",{s},r{a},{x:.4f},{y:.4f},{h:.5f},{r:g}\n"
+        for s in range(steps)
+        for a, x, y, h, r in zip(
+            range(agents), *rng.uniform(0, 10, (2, agents)), rng.uniform(-3, 3, agents),
+            rng.choice([0.0, 1.0], agents), strict=True,
+        )
+    ]  # fmt: skip
+    written = episodes = 0
+    with open(path, "w") as f:
+        f.write("episode,step,agent,x,y,heading,reward\n")
+        while written < target_bytes:
+            label = f"episode-{episodes:07d}"
+            text = "".join(label + line for line in body)
+            f.write(text)
+            written += len(text)
+            episodes += 1
+    return episodes

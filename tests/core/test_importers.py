@@ -207,3 +207,80 @@ def test_npz_highly_compressible_but_genuine_member_imports(tmp_path: Path) -> N
         assert info.file_size > importers.NPZ_RATIO_FROM
         assert info.file_size / info.compress_size > 500
     assert import_npz(path, SCENE, tmp_path / "zeros.tape") == 2
+
+
+def _expanding_npz(path: Path, chunks: int) -> int:
+    """A genuine ``.npz`` whose deflated ``poses.npy`` is about 1 KiB per MiB it expands to:
+    ``chunks`` MiB of zeros after the header. Built from one compressed MiB repeated (a full
+    flush resets deflate's state, RFC 1951 / zlib's Z_FULL_FLUSH, so every MiB compresses to
+    the same bytes), written as a plain ZIP (PKWARE APPNOTE.TXT 4.3.7, 4.3.12, 4.3.16 [memory]).
+    Returns the member's uncompressed size."""
+    mib = bytes(1 << 20)
+    steps = chunks * (1 << 20) // 48  # (1, T, 2, 3) float64 poses: 48 bytes a step
+    assert steps * 48 == chunks << 20
+    head = io.BytesIO()
+    np.lib.format.write_array_header_1_0(
+        head, {"descr": "<f8", "fortran_order": False, "shape": (1, steps, 2, 3)}
+    )
+    header = head.getvalue()
+    c = zlib.compressobj(9, zlib.DEFLATED, -15)
+    parts = [c.compress(header) + c.flush(zlib.Z_FULL_FLUSH)]
+    one = c.compress(mib) + c.flush(zlib.Z_FULL_FLUSH)
+    assert c.compress(mib) + c.flush(zlib.Z_FULL_FLUSH) == one  # the same bytes every MiB
+    data = parts[0] + one * chunks + c.flush()
+    crc = zlib.crc32(header)
+    for _ in range(chunks):
+        crc = zlib.crc32(mib, crc)
+    size = len(header) + (chunks << 20)
+    name = b"poses.npy"
+    local = struct.pack("<4s5H3I2H", b"PK\x03\x04", 20, 0, 8, 0, 0x21, crc, len(data), size,
+                        len(name), 0)  # fmt: skip
+    central = struct.pack("<4s6H3I5H2I", b"PK\x01\x02", 20, 20, 0, 8, 0, 0x21, crc, len(data),
+                          size, len(name), 0, 0, 0, 0, 0, 0)  # fmt: skip
+    at = len(local) + len(name) + len(data)
+    end = struct.pack("<4s4H2IH", b"PK\x05\x06", 0, 0, 1, 1, len(central) + len(name), at, 0)
+    path.write_bytes(local + name + data + central + name + end)
+    return size
+
+
+def test_npz_three_mb_member_expanding_to_gigabytes_refused_before_loading(
+    tmp_path: Path,
+) -> None:
+    path = tmp_path / "expands.npz"
+    size = _expanding_npz(path, 3000)  # 3,000 MiB of poses in about 3 MB
+    assert 2_900_000 < path.stat().st_size < 3_300_000
+    with zipfile.ZipFile(path) as zf:  # a genuine archive: zipfile reads and inflates it
+        info = zf.getinfo("poses.npy")
+        assert info.file_size == size and info.file_size / info.compress_size < 1100
+        with zf.open(info) as f:
+            assert np.lib.format.read_magic(f) == (1, 0)
+            assert np.lib.format.read_array_header_1_0(f)[0] == (1, 65_536_000, 2, 3)
+            assert f.read(1 << 20) == bytes(1 << 20)
+
+    def run() -> None:
+        with pytest.raises(ImportFormatError) as info:
+            import_npz(path, SCENE, tmp_path / "expands.tape")
+        assert str(info.value) == (
+            f"{path}: array poses: {size} bytes uncompressed, more than an import takes "
+            f"({importers.MAX_NPZ_MEMBER} bytes)"
+        )
+
+    assert _peak_mb(run) < 50  # refused from the archive's directory, nothing inflated
+    assert not (tmp_path / "expands.tape").exists()
+
+
+def test_npz_stacked_arrays_are_loaded_once(tmp_path: Path, monkeypatch) -> None:
+    path = tmp_path / "many.npz"
+    poses = np.random.default_rng(2).uniform(0, 9, size=(30, 5, 2, 3))
+    np.savez(path, poses=poses, rewards=np.ones((30, 5, 2)))
+    loads: list[str] = []
+    real = np.lib.npyio.NpzFile.__getitem__
+
+    def counting(self, key):  # type: ignore[no-untyped-def]
+        loads.append(key)
+        return real(self, key)
+
+    monkeypatch.setattr(np.lib.npyio.NpzFile, "__getitem__", counting)
+    assert import_npz(path, SCENE, tmp_path / "many.tape") == 30
+    assert sorted(loads) == ["poses", "rewards"]  # not once per episode
+    assert np.array_equal(open_tape(tmp_path / "many.tape").episode(29).poses, poses[29])

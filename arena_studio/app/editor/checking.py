@@ -57,10 +57,10 @@ def par_plans(scene: Scene, stale: Callable[[], bool] = lambda: False) -> list[A
 
 class CheckRunner(QObject):
     """``schedule(scene)`` after each edit. ``results`` fires with the newest scene's findings
-    as soon as the checker is done; ``plans_ready`` follows with par-time plans per goal."""
+    as soon as the checker is done; ``plansReady`` follows with par-time plans per goal."""
 
     results = Signal(object, object, object)  # scene, findings, error
-    plans_ready = Signal(object, object)  # scene, plans (list or None)
+    plansReady = Signal(object, object)  # scene, plans (list or None)
     _checked = Signal(object, object, object)
     _planned = Signal(object, object)
 
@@ -92,7 +92,7 @@ class CheckRunner(QObject):
         self._pending = None
         self._timer.stop()
         self.results.emit(scene, *check(scene))
-        self.plans_ready.emit(scene, par_plans(scene))
+        self.plansReady.emit(scene, par_plans(scene))
 
     def _start(self) -> None:
         # a result queued before shutdown may still arrive and ask for the next run
@@ -117,7 +117,7 @@ class CheckRunner(QObject):
     def _on_planned(self, scene: Scene, plans: Any) -> None:
         self._running = None
         if scene == self.latest:
-            self.plans_ready.emit(scene, plans)
+            self.plansReady.emit(scene, plans)
         if self._pending is not None:
             self._start()
 

@@ -44,7 +44,7 @@ class SceneDocument(QObject):
     """Holds the scene; emits ``changed`` after every edit, undo or redo."""
 
     changed = Signal()
-    path_changed = Signal()
+    pathChanged = Signal()
 
     def __init__(self, scene: Scene | None = None, path: Path | None = None) -> None:
         super().__init__()
@@ -74,7 +74,7 @@ class SceneDocument(QObject):
         self.undo_stack.setClean()
         self._restored_dirty = dirty  # a restored recovery copy holds unsaved work
         self._scene = scene
-        self.path_changed.emit()
+        self.pathChanged.emit()
         self.changed.emit()
 
     @property
@@ -85,7 +85,7 @@ class SceneDocument(QObject):
         self.path = path
         self._restored_dirty = False
         self.undo_stack.setClean()
-        self.path_changed.emit()
+        self.pathChanged.emit()
 
     @property
     def display_name(self) -> str:

@@ -33,10 +33,10 @@ class EditorCanvas(SceneCanvas):
         super().__init__(theme)
         self.editor = editor
         editor.document.changed.connect(self.refresh)
-        editor.selection_changed.connect(self.refresh)
-        editor.preview_changed.connect(self.refresh)
-        editor.goal_picks_changed.connect(self.refresh)
-        self.zoom_changed.connect(lambda _s: self._sync_scale())
+        editor.selectionChanged.connect(self.refresh)
+        editor.previewChanged.connect(self.refresh)
+        editor.goalPicksChanged.connect(self.refresh)
+        self.zoomChanged.connect(lambda _s: self._sync_scale())
         self.auto_fit = True  # refit on resize until the user zooms, pans or jumps somewhere
         self._sync_scale()
         self.refresh()

@@ -18,12 +18,12 @@ from arena_studio.editing.tools import Tool, make_tools
 
 
 class Editor(QObject):
-    selection_changed = Signal()
-    tool_changed = Signal(str)
-    preview_changed = Signal()
-    status_message = Signal(str)
-    goal_picks_changed = Signal()  # landmarks picked for a new explicit goal
-    goal_added = Signal(tuple)  # the goal vector just added (the Goals panel shows it)
+    selectionChanged = Signal()
+    toolChanged = Signal(str)
+    previewChanged = Signal()
+    statusMessage = Signal(str)
+    goalPicksChanged = Signal()  # landmarks picked for a new explicit goal
+    goalAdded = Signal(tuple)  # the goal vector just added (the Goals panel shows it)
 
     def __init__(self, document: SceneDocument) -> None:
         super().__init__()
@@ -55,7 +55,7 @@ class Editor(QObject):
             self._selection = keys
             if self.active_vertex is not None and self.active_vertex[0] not in keys:
                 self.active_vertex = None
-            self.selection_changed.emit()
+            self.selectionChanged.emit()
 
     def snap(self, xy: Point, bypass: bool, exclude: ObjKey | None = None) -> Snap:
         settings = self.snap_settings
@@ -70,11 +70,11 @@ class Editor(QObject):
         self._grid_step = step
 
     def message(self, text: str) -> None:
-        self.status_message.emit(text)
+        self.statusMessage.emit(text)
 
     def set_active_vertex(self, vertex: tuple[ObjKey, int] | None) -> None:
         self.active_vertex = vertex
-        self.preview_changed.emit()
+        self.previewChanged.emit()
 
     # -- commands ----------------------------------------------------------------------
     def set_tool(self, name: str) -> None:
@@ -82,9 +82,14 @@ class Editor(QObject):
             return
         self.tool.cancel()
         self.tool = self.tools[name]
-        self.tool_changed.emit(name)
-        self.status_message.emit(self.tool.hint)
-        self.preview_changed.emit()
+        if name == "tool.goal_pick" and not self.goal_picks:  # selected landmarks: first picks
+            picks = tuple(oid for group, oid in self._selection if group == "landmarks")
+            if picks:
+                self.goal_picks = picks
+                self.goalPicksChanged.emit()
+        self.toolChanged.emit(name)
+        self.statusMessage.emit(self.tool.hint)
+        self.previewChanged.emit()
 
     def select_all(self) -> None:
         self.set_selection(edits.keys_of(self.scene))
@@ -124,13 +129,13 @@ class Editor(QObject):
             )
         else:
             self.message("No landmarks picked")
-        self.goal_picks_changed.emit()
+        self.goalPicksChanged.emit()
 
     def clear_goal_picks(self) -> bool:
         if not self.goal_picks:
             return False
         self.goal_picks = ()
-        self.goal_picks_changed.emit()
+        self.goalPicksChanged.emit()
         return True
 
     def commit_goal_picks(self) -> bool:
@@ -160,14 +165,14 @@ class Editor(QObject):
             self.message(f"Added; the {k}-hot family lists this goal too, so their weights add up.")
         else:
             self.message(f"Added a goal with {k} target{'s' if k > 1 else ''}.")
-        self.goal_added.emit(vec)
+        self.goalAdded.emit(vec)
         return True
 
     def _prune(self) -> None:
         ids = {lm.id for lm in self.scene.landmarks}
         if any(i not in ids for i in self.goal_picks):
             self.goal_picks = tuple(i for i in self.goal_picks if i in ids)
-            self.goal_picks_changed.emit()
+            self.goalPicksChanged.emit()
         present = set(edits.keys_of(self.scene))
         kept = tuple(k for k in self._selection if k in present)
         if self.active_vertex is not None:
@@ -177,4 +182,4 @@ class Editor(QObject):
                 self.active_vertex = None
         if kept != self._selection:
             self._selection = kept
-            self.selection_changed.emit()
+            self.selectionChanged.emit()

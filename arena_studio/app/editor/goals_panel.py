@@ -122,7 +122,8 @@ class GoalsPanel(QWidget):
         self.add_button = QPushButton("Add goal")
         self.add_button.setObjectName("goal_add")
         self.add_button.setToolTip(
-            "Add the picked landmarks (or the landmarks selected with Shift-click) as one goal"
+            "Add the landmarks picked on the canvas as one goal (Pick on canvas first; "
+            "landmarks already selected become the first picks)"
         )
         self.add_button.clicked.connect(self.add_from_selection)
         self.remove_button = QPushButton("Remove")
@@ -169,10 +170,10 @@ class GoalsPanel(QWidget):
         self._rows: list[Any] = []
 
         editor.document.changed.connect(self.refresh)
-        editor.selection_changed.connect(self._update_buttons)
-        editor.goal_picks_changed.connect(self._update_buttons)
-        editor.tool_changed.connect(self._tool_changed)
-        editor.goal_added.connect(self.show_goal)
+        editor.selectionChanged.connect(self._update_buttons)
+        editor.goalPicksChanged.connect(self._update_buttons)
+        editor.toolChanged.connect(self._tool_changed)
+        editor.goalAdded.connect(self.show_goal)
         self.refresh()
 
     # -- model -> widgets --------------------------------------------------------------
@@ -267,15 +268,14 @@ class GoalsPanel(QWidget):
         self.summary.setText(text)
 
     def _update_buttons(self) -> None:
-        picked = self._pending_ids()
-        self.add_button.setEnabled(bool(picked))
+        picked = self.editor.goal_picks
+        picking = self.editor.tool.name == "tool.goal_pick"
+        self.add_button.setEnabled(picking and bool(picked))  # only in pick mode, with picks
         names = {lm.id: lm.label or lm.id for lm in self.editor.scene.landmarks}
-        if self.editor.goal_picks:
+        if picked:
             text = "New goal: " + " + ".join(names.get(i, i) for i in picked)
-        elif self.pick_button.isChecked():
+        elif picking:
             text = "New goal: click landmarks on the canvas."
-        elif picked:
-            text = "Selected: " + " + ".join(names.get(i, i) for i in picked)
         else:
             text = ""
         self.picked_label.setText(text)
@@ -321,17 +321,11 @@ class GoalsPanel(QWidget):
             f"Weight of {k}-hot goals",
         )
 
-    def _pending_ids(self) -> tuple[str, ...]:
-        """The landmarks "Add goal" would use: the canvas picks, else the selected ones."""
-        if self.editor.goal_picks:
-            return self.editor.goal_picks
-        return tuple(oid for g, oid in self.editor.selection() if g == "landmarks")
-
     def add_from_selection(self) -> None:
-        if self.editor.goal_picks:
+        """Add goal: the landmarks picked on the canvas (selected ones become the first
+        picks when Pick on canvas is switched on)."""
+        if self.editor.tool.name == "tool.goal_pick":
             self.editor.commit_goal_picks()
-        else:
-            self.editor.add_goal(set(self._pending_ids()))
 
     def _pick_toggled(self, on: bool) -> None:
         want = "tool.goal_pick" if on else "tool.select"

@@ -18,6 +18,7 @@ from arena_studio.app.editor.editor_view import Editor
 from arena_studio.app.editor.fields import Field, NumberField, TextField
 from arena_studio.core.scene.fields import line_problem
 from arena_studio.core.scene.model import Agent, Landmark, Obstacle, Room, Scene
+from arena_studio.core.wording import count
 from arena_studio.editing import edits as edits
 from arena_studio.editing.edits import ObjKey
 
@@ -35,9 +36,9 @@ class PropertiesPanel(QScrollArea):
         self._key: ObjKey | None = None
         self._shape: tuple[Any, ...] = ()
         self._updaters: list[Callable[[Scene], None]] = []
-        editor.selection_changed.connect(self.rebuild)
+        editor.selectionChanged.connect(self.rebuild)
         editor.document.changed.connect(self.refresh)
-        editor.preview_changed.connect(self.refresh)  # a vertex was picked or dropped
+        editor.previewChanged.connect(self.refresh)  # a vertex was picked or dropped
         self.rebuild()
 
     # -- building ----------------------------------------------------------------------
@@ -158,8 +159,8 @@ class PropertiesPanel(QScrollArea):
             form,
             "Contents",
             lambda s: (
-                f"{len(s.rooms)} rooms, {len(s.obstacles)} obstacles, "
-                f"{len(s.landmarks)} landmarks, {len(s.agents)} agents"
+                f"{count(len(s.rooms), 'room')}, {count(len(s.obstacles), 'obstacle')}, "
+                f"{count(len(s.landmarks), 'landmark')}, {count(len(s.agents), 'agent')}"
             ),
         )
         note = QLabel(

@@ -47,7 +47,7 @@ def replay_page(window: Any) -> ReplayWindow:
         modes.currentChanged.connect(lambda _i: _sync_enabled(window, page))
     # Opening a scene file beside the tape is checked against it; saving edits is not (an
     # edited scene differs from the tape's on purpose).
-    opened = getattr(window, "scene_opened", None)
+    opened = getattr(window, "sceneOpened", None)
     if opened is not None:
         opened.connect(lambda _path: _on_document_path(window))
     theme_action = getattr(window, "actions_by_id", {}).get("view.dark")
@@ -130,7 +130,9 @@ def open_scene_copy(window: Any, scene: Any) -> None:
 
 
 def _on_document_path(window: Any) -> None:
-    """A scene file was opened in the editor while a tape is open: warn when they differ."""
+    """A scene file was opened in the editor while a tape is open: a differing scene is said
+    in the status bar (no modal box: opening one's own scene beside a tape is normal); the
+    same scene needs no word."""
     page = getattr(window, PAGE_ATTR, None)
     path = getattr(window.document, "path", None)
     if isinstance(page, ReplayWindow) and page.session is not None and path is not None:
@@ -139,7 +141,11 @@ def _on_document_path(window: Any) -> None:
         if key in page.scene_checks_done:  # saving the same file again: said it already
             return
         page.scene_checks_done.add(key)
-        page.warn_if_scene_differs(scene, Path(path))
+        if page.scene_matches_tape(scene) is False:
+            window.show_message(
+                f"Opened {Path(path).name}; it differs from the scene stored in "
+                f"{Path(page.session.path).name}, which the replay keeps showing."
+            )
 
 
 def _show_moment(page: ReplayWindow, episode: int | None, seconds: float | None) -> str | None:

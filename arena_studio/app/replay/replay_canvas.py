@@ -238,7 +238,7 @@ class ReplayCanvas(SceneCanvas):
         cx = (minx + maxx) / 2 + room / 2 / s
         cy = (miny + maxy) / 2 + 15.0 / s
         self.centerOn(QPointF(cx, cy))
-        self.zoom_changed.emit(s)
+        self.zoomChanged.emit(s)
 
     def _with_labels(
         self, box: tuple[float, float, float, float], scale: float

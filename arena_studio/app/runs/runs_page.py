@@ -12,6 +12,7 @@ are finished.
 from __future__ import annotations
 
 import math
+from dataclasses import replace
 from pathlib import Path
 from typing import Any
 
@@ -38,8 +39,11 @@ from arena_studio.core.runs import Settings, curve_rows, final_comparison, metri
 from arena_studio.core.runs.analysis import Run, goal_matrix
 from arena_studio.render.theme import Theme, load_theme
 
-#: replicates in the app (the CLI uses 10,000; the app stays responsive on every change)
-APP_REPS = 2000
+#: bootstrap replicates drawn at once after every change (the app stays responsive) ...
+FIRST_REPS = 500
+#: ... then refined to the CLI's count when the user pauses (same seed, so the same bands)
+APP_REPS = 10_000
+REFINE_MS = 400
 PEN_STYLES = (
     Qt.PenStyle.SolidLine,
     Qt.PenStyle.DashLine,
@@ -66,6 +70,11 @@ class RunsPage(QWidget):
         self.setWindowTitle("Runs")
         self.theme = load_theme(theme) if isinstance(theme, str) else theme
         self.settings = Settings(reps=APP_REPS)
+        self.shown_reps = 0  # replicates behind the bands on screen
+        self._refine = QTimer(self)
+        self._refine.setSingleShot(True)
+        self._refine.setInterval(REFINE_MS)
+        self._refine.timeout.connect(lambda: self._refresh(self.settings.reps))
         self.root: Path | None = None
         self.data: SweepData | None = None
         self.rows: list[Any] = []
@@ -175,7 +184,14 @@ class RunsPage(QWidget):
             QCoreApplication.processEvents()
             self.loader.wait(0.02)
         QCoreApplication.processEvents()
+        self.finish_refining()
         return not self._pending()
+
+    def finish_refining(self) -> None:
+        """Refine the bands now instead of after the pause (screenshots, tests, export)."""
+        if self._refine.isActive():
+            self._refine.stop()
+            self._refresh(self.settings.reps)
 
     def _pending(self) -> bool:
         return self._shown_token != self.loader.latest
@@ -241,12 +257,18 @@ class RunsPage(QWidget):
     def runs(self) -> list[Run]:
         return [] if self.data is None else self.data.runs
 
-    def _refresh(self) -> None:
+    def _refresh(self, reps: int | None = None) -> None:
+        """Draw with a quick bootstrap first, then refine it when the user pauses."""
         metric = self.metric_box.currentText()
         if not self.runs or not metric:
             return
-        self.rows = curve_rows(self.runs, metric, "condition", self.settings)
-        self.final = final_comparison(self.runs, metric, "condition", None, self.settings)
+        reps = min(FIRST_REPS, self.settings.reps) if reps is None else reps
+        settings = replace(self.settings, reps=reps)
+        self.rows = curve_rows(self.runs, metric, "condition", settings)
+        self.final = final_comparison(self.runs, metric, "condition", None, settings)
+        self.shown_reps = reps
+        if reps < self.settings.reps:
+            self._refine.start()
         self._groups = list(dict.fromkeys(r.group for r in self.rows))
         self._draw_curves(metric)
         self._fill_final()
@@ -264,7 +286,12 @@ class RunsPage(QWidget):
     def _draw_curves(self, metric: str) -> None:
         plot = self.curves.getPlotItem()
         plot.clear()
-        plot.setLabel("left", f"{metric} (IQM, {100 * self.settings.confidence:g}% band)")
+        refining = "" if self.shown_reps >= self.settings.reps else ", refining"
+        plot.setLabel(
+            "left",
+            f"{metric} (IQM, {100 * self.settings.confidence:g}% band, "
+            f"{self.shown_reps:,} resamples{refining})",
+        )
         for i, group in enumerate(self._groups):
             mine = [r for r in self.rows if r.group == group]
             xs = np.array([r.step for r in mine], dtype=float)
@@ -412,6 +439,7 @@ class RunsPage(QWidget):
         """The curves and final intervals shown, as SVG/PNG/PDF (matplotlib)."""
         from arena_studio.render.runs_figure import save_runs_figure
 
+        self.finish_refining()
         save_runs_figure(path, self.rows, self.final, self.settings)
 
     def set_theme(self, theme: Theme | str) -> None:

@@ -20,6 +20,7 @@ from shapely.geometry import Point
 from arena_studio.core.checks.checker import Finding, finding
 from arena_studio.core.checks.reach import reach_table
 from arena_studio.core.scene.model import Scene
+from arena_studio.core.wording import count
 
 #: Per-goal assignment checks run over at most this many family goals (C(L, k) grows fast).
 MAX_FAMILY_GOALS_CHECKED = 5000
@@ -46,15 +47,15 @@ def check_goals(scene: Scene) -> list[Finding]:
                 finding(
                     "family-too-large",
                     f"the {k}-hot family (goals.families[{fi}]) yields no goals: the scene "
-                    f"has only {n_lm} landmark(s)",
+                    f"has only {count(n_lm, 'landmark')}",
                 )
             )
         elif simultaneous and n_lm and k > n_agents:
             out.append(
                 finding(
                     "goal-needs-more-agents",
-                    f"every goal of the {k}-hot family needs {k} targets covered at once under "
-                    f"{spec.rule}, but the scene has {n_agents} agent(s)",
+                    f"every goal of the {k}-hot family needs {count(k, 'target')} covered at "
+                    f"once under {spec.rule}, but the scene has {count(n_agents, 'agent')}",
                     goal_index=index,
                 )
             )
@@ -71,7 +72,8 @@ def check_goals(scene: Scene) -> list[Finding]:
             out.append(
                 finding(
                     "goal-vector-length",
-                    f"{where} has {len(vec)} entries but the scene has {n_lm} landmark(s); "
+                    f"{where} has {count(len(vec), 'entry', 'entries')} but the scene has "
+                    f"{count(n_lm, 'landmark')}; "
                     "goal vectors are ordered as the landmarks list",
                 )
             )
@@ -95,9 +97,9 @@ def check_goals(scene: Scene) -> list[Finding]:
             out.append(
                 finding(
                     "goal-needs-more-agents",
-                    f"goal {where} ({_target_names(scene, targets)}) needs {len(targets)} "
-                    f"targets covered at once under {spec.rule}, but the scene has "
-                    f"{n_agents} agent(s)",
+                    f"goal {where} ({_target_names(scene, targets)}) needs "
+                    f"{count(len(targets), 'target')} covered at once under {spec.rule}, "
+                    f"but the scene has {count(n_agents, 'agent')}",
                     goal_index=index,
                 )
             )
