@@ -58,11 +58,13 @@ DEMO_SCENES := greenhouse parking-level lab-wing
 demos: $(STAMP)
 	for s in $(DEMO_SCENES); do \
 	  $(BIN)/arena-studio rollout scenes/$$s.scene.json -o scenes/$$s-shared.tape \
-	    --episodes 12 --seed 11 --goals shared --quiet && \
+	    --episodes 12 --seed 11 --goals shared --par-limit 0.8,1.6 --goal-pool 3 --quiet && \
 	  $(BIN)/arena-studio rollout scenes/$$s.scene.json -o scenes/$$s-independent.tape \
-	    --episodes 12 --seed 12 --goals independent --quiet && \
+	    --episodes 12 --seed 12 --goals independent --every-other shared --goal-pool 3 \
+	    --quiet && \
 	  $(BIN)/arena-studio rollout scenes/$$s.scene.json -o scenes/$$s-greedy.tape \
-	    --episodes 20 --seed 13 --goals greedy --par-limit 0.8,2.0 --quiet || exit 1; \
+	    --episodes 20 --seed 13 --goals greedy --every-other shared --par-limit 0.8,2.0 \
+	    --goal-pool 3 --quiet || exit 1; \
 	done
 	# announcements before each episode: one tape where the others mostly follow the scout,
 	# one where the scout is just as clear and the others ignore it

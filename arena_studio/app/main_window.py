@@ -127,7 +127,9 @@ class MainWindow(RobotCommands, QMainWindow):
         self._autosave.start()
         self.autosaved_scene: Scene | None = None
 
-        self.resize(1400, 900)
+        from arena_studio.app.window_size import place_on_screen
+
+        place_on_screen(self)  # fits the screen's free area; saved geometry wins below
         self._restore_settings()
         self.apply_theme(self.theme.name)
         self._on_document_changed()

@@ -48,7 +48,10 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     what.add_argument("--start", type=number(lim.TIME), default=0.0, help="start time in seconds")
     what.add_argument("--end", type=number(lim.TIME), default=None, help="end time in seconds")
     what.add_argument(
-        "--time", type=number(lim.TIME), default=0.0, help="time of a still (seconds)"
+        "--time",
+        type=number(lim.TIME),
+        default=None,
+        help="time of a still (seconds; default: the diagnosis of a failed episode, else 0)",
     )
     look = parser.add_argument_group("look")
     look.add_argument(
@@ -85,6 +88,11 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         help="title card length before each episode (default 2; 0: none)",
     )
     look.add_argument("--caption", default=None, help="caption line at the bottom")
+    look.add_argument(
+        "--no-statement",
+        action="store_true",
+        help="leave out the who-went-where line under the scene",
+    )
     clip = parser.add_argument_group("clip timing and stills")
     clip.add_argument(
         "--fps", type=number(lim.FPS), default=30.0, help="frames per second (default 30)"
@@ -172,6 +180,7 @@ def _run(args: argparse.Namespace) -> int:
         grid=args.grid,
         title=args.title,
         caption=args.caption,
+        statement=not args.no_statement,
     )
     from arena_studio.render.offscreen import ensure_gui_app
 
@@ -220,10 +229,22 @@ def _open(path: str):
     return tape
 
 
+def still_step(scene, episode) -> int:
+    """A still's default step: where a failed episode's diagnosis says it went wrong (the
+    moment to show), else the first step."""
+    from arena_studio.core.analysis.metrics import episode_metrics
+
+    try:
+        step = episode_metrics(scene, episode).diagnosis_step
+    except (ValueError, IndexError):  # a damaged episode still gets its first frame
+        return 0
+    return 0 if step is None else int(min(max(step, 0), episode.steps - 1))
+
+
 def _still(args, out, scene, episode, options, size) -> int:
     from arena_studio.render.frame import save_png_still, save_svg_still
 
-    step = episode.step_at(args.time)
+    step = episode.step_at(args.time) if args.time is not None else still_step(scene, episode)
     try:
         if out.suffix.lower() == ".png":
             save_png_still(out, scene, episode, step, options, size, args.scale, args.dpi)

@@ -77,6 +77,21 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         help="with --announce: probability that each other agent takes the announced goal "
         "instead of its own draw (default 1)",
     )
+    parser.add_argument(
+        "--goal-pool",
+        type=int,
+        default=None,
+        metavar="N",
+        help="team goals cycle through N cooperative goals drawn once (with --par-limit: "
+        "successes and failures of the same goal)",
+    )
+    parser.add_argument(
+        "--every-other",
+        choices=("shared", "independent", "greedy"),
+        default=None,
+        help="odd-numbered episodes use this goal mode instead (with --goal-pool of an odd "
+        "size every pooled goal is seen in both modes)",
+    )
     parser.add_argument("--dt", type=number(lim.DT), default=0.1, help="time step in seconds")
     parser.add_argument("--quiet", action="store_true", help="no progress bar")
     add_force_argument(parser)
@@ -86,6 +101,8 @@ def run(args: argparse.Namespace) -> int:
     try:
         _check_steps(args.max_time, args.dt)
         par_limit = _par_limit(args.par_limit)
+        if args.goal_pool is not None and not 1 <= args.goal_pool <= 1000:
+            raise CommandError(f"--goal-pool {args.goal_pool}: expected 1 to 1000 goals")
         out = Path(args.output)
         if not out.parent.is_dir():
             raise CommandError(f"{args.output}: folder does not exist")
@@ -107,6 +124,8 @@ def run(args: argparse.Namespace) -> int:
                 advance=bar.advance,
                 par_limit=par_limit,
                 talk=talk,
+                goal_pool=args.goal_pool,
+                every_other=args.every_other,
             )
     except CommandError as exc:
         error_line(str(exc))

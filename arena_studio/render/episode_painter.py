@@ -8,9 +8,12 @@ Visual language (our own design):
   badge at the upper right = off the team goal. Tape labels reuse these styles in order;
 - beyond 6 agents every body also carries its number (1-based scene order), a non-colour cue;
 - team-goal targets: a thick ring at the reach radius (solid while covered, dashed while not),
-  a pip per agent that has covered it so far and "n at t s" for the first to reach it;
-- pursued goals: a thin line from each agent to each of its pursued targets, solid when the
-  target is on the team goal, dashed when it is not, so misalignment shows at a glance;
+  a pip per agent that has covered it so far and "rover-2 8.2 s" for the first to reach it;
+- pursued goals: a line from each agent to the target it is heading to, solid when the
+  target is on the team goal, dashed when it is not, so misalignment shows at a glance; its
+  other pursued targets get a faint dotted line;
+- name tags: each body's id in a small box beside it, clear of labels and other tags;
+  stacked bodies share one tag and a count badge (:mod:`.name_tags`);
 - trails fade with age: a small team's wide trails block by block (:mod:`.trail_blocks`),
   a crowd's 1 px trails in bands (one path per colour group per band, :mod:`.fastpath`);
 - collisions: an x where a contact began, larger for the last second.
@@ -25,13 +28,14 @@ from collections.abc import Callable
 from typing import Any
 
 import numpy as np
-from PySide6.QtCore import QPoint, QPointF, Qt
+from PySide6.QtCore import QPoint, QPointF, QRectF, Qt
 from PySide6.QtGui import (
     QFontMetricsF,
     QImage,
     QPaintEngine,
     QPainter,
     QPen,
+    QPolygonF,
     QTransform,
 )
 
@@ -47,6 +51,7 @@ from arena_studio.render.fastpath import (
     segments_path,
 )
 from arena_studio.render.legend import paint_banner, paint_clock, paint_legend
+from arena_studio.render.name_tags import paint_name_tags, tag_names, wants_tags
 from arena_studio.render.options import FrameOptions
 from arena_studio.render.paint_guard import guarded, saved
 from arena_studio.render.scene_painter import label_places
@@ -125,6 +130,89 @@ def _paint_episode_frame(
                 paint_collisions(painter, cache, step, view, theme, ui, opts, raster)
         with guarded(painter, "the agents", theme=theme):
             paint_agents(painter, cache, step, view, theme, opts, ui, raster)
+        if opts.focus is not None and 0 <= opts.focus < cache.agents:
+            with guarded(painter, "the focused agent", theme=theme):
+                paint_focus(painter, cache, step, view, theme, opts, ui)
+        if wants_tags(cache, opts):
+            with guarded(painter, "the name tags", theme=theme):
+                dev = painter.device()
+                size = (float(dev.width()), float(dev.height()))
+                blocked = text_boxes(cache, view, ui, opts, size)
+                paint_name_tags(painter, cache, step, view, theme, opts, ui, blocked)
+
+
+def paint_focus(
+    painter: QPainter,
+    cache: EpisodeCache,
+    step: int,
+    view: ViewTransform,
+    theme: Theme,
+    opts: FrameOptions,
+    ui: float,
+) -> None:
+    """One agent strong, the rest dimmed: a veil in the background colour over the frame so
+    far, then that agent's trail, its line to the target it heads to, and its body again."""
+    a = int(opts.focus or 0)
+    dev = painter.device()
+    veil = theme.qcolor("background", alpha=0.6)
+    painter.fillRect(QRectF(0, 0, float(dev.width()), float(dev.height())), veil)
+    first = max(0, step - round(max(opts.trail_seconds, 1.0) / max(cache.episode.dt, 1e-6)))
+    pts = view.map_array(cache.xy[first : step + 1, a])
+    pts = pts[np.isfinite(pts).all(axis=1)]
+    if len(pts) >= 2:
+        painter.setPen(QPen(theme.agent_color(a), 3.0 * ui))
+        painter.setBrush(Qt.BrushStyle.NoBrush)
+        painter.drawPolyline(QPolygonF([QPointF(float(x), float(y)) for x, y in pts]))
+    head = int(heading_targets(cache, step)[a])
+    here = view.map_array(cache.xy[step, a : a + 1])[0]
+    if head >= 0 and np.isfinite(here).all():
+        lm, _reach = cache.landmark_arrays()
+        to = view.to_px(float(lm[head, 0]), float(lm[head, 1]))
+        painter.setPen(QPen(theme.agent_color(a), 2.2 * ui))
+        painter.drawLine(QPointF(float(here[0]), float(here[1])), to)
+    if np.isfinite(here).all():
+        r = max(float(cache.radius[a] * view.scale), 2.5 * ui)
+        painter.setPen(QPen(theme.qcolor("text"), 2.0 * ui))
+        painter.setBrush(theme.agent_color(a))
+        painter.drawEllipse(QPointF(float(here[0]), float(here[1])), r, r)
+        painter.setBrush(Qt.BrushStyle.NoBrush)
+        painter.setPen(QPen(theme.qcolor("selection"), 2.0 * ui))
+        painter.drawEllipse(QPointF(float(here[0]), float(here[1])), r + 5 * ui, r + 5 * ui)
+
+
+def text_boxes(
+    cache: EpisodeCache,
+    view: ViewTransform,
+    ui: float,
+    opts: FrameOptions,
+    size: tuple[float, float],
+) -> list[tuple[float, float, float, float]]:
+    """Pixel boxes name tags keep clear of: landmark labels and targets' arrival texts
+    (worked out once per view)."""
+    key = ("episode_painter.text_boxes", view, ui, opts.landmark_labels, opts.team_goal, size)
+    got = cache.memo.get(key)
+    if got is not None:
+        return got
+    boxes: list[tuple[float, float, float, float]] = []
+    if opts.landmark_labels:
+        for place in label_places(cache.scene, view, ui, None, False):
+            x0, y0, x1, y1 = place.box
+            tl, br = view.to_px(x0, y1), view.to_px(x1, y0)
+            boxes.append((tl.x(), tl.y(), br.x(), br.y()))
+    if opts.team_goal and cache.has_team_goal:
+        metrics = QFontMetricsF(font(11 * ui, bold=True))
+        half_w = metrics.horizontalAdvance(_WIDEST_ARRIVAL) / 2 + 2.0
+        half_h = metrics.height() / 2 + 2.0
+        above = _arrival_above(cache, view, ui, size)
+        for l_idx in cache.team_indices():
+            lm = cache.scene.landmarks[l_idx]
+            c = view.to_px(*lm.position)
+            r = max(view.length_px(lm.reach_radius), 6 * ui)
+            off = _arrival_offset(r, ui, above[l_idx])
+            cy = c.y() - off if above[l_idx] else c.y() + off
+            boxes.append((c.x() - half_w, cy - half_h, c.x() + half_w, cy + half_h))
+    cache.memo[key] = boxes
+    return boxes
 
 
 def blits_exactly(painter: QPainter) -> bool:
@@ -174,6 +262,7 @@ def paint_targets(
     covered_now = cache.covered[step].tolist()
     device = painter.device()
     above = _arrival_above(cache, view, ui, (float(device.width()), float(device.height())))
+    names = tag_names(cache)
     for l_idx in cache.team_indices():
         lm = scene.landmarks[l_idx]
         c = view.to_px(*lm.position)
@@ -181,7 +270,7 @@ def paint_targets(
         covered = covered_now[l_idx]
         agents, firsts = cache.arrivals(l_idx)
         order = agents[: min(bisect.bisect_right(firsts, step), 12)]
-        text = f"{order[0] + 1} at {firsts[0] * cache.episode.dt:.1f} s" if order else ""
+        text = f"{names[order[0]]} {firsts[0] * cache.episode.dt:.1f} s" if order else ""
         up = above[l_idx]
         if not raster:
             _draw_target(painter, c, r, covered, order, text, theme, ui, up)
@@ -198,7 +287,7 @@ def paint_targets(
 
 _TARGET_SPRITES: dict[tuple[Any, ...], tuple[QPoint, QImage]] = {}
 #: the widest "n at t s" text a target shows, for keeping it off the landmark's label
-_WIDEST_ARRIVAL = "99 at 999.9 s"
+_WIDEST_ARRIVAL = "rover-99 999.9 s"
 
 
 def _arrival_above(
@@ -426,10 +515,30 @@ def prefill_frame(
     return prefill_sprites(cache, view, theme, opts, ui, max_new)
 
 
+#: how far ahead (seconds) an agent's position tells which target it is heading to
+HEADING_LOOKAHEAD_S = 3.0
+
+
+def heading_targets(cache: EpisodeCache, step: int) -> np.ndarray:
+    """(A,) the pursued landmark each agent is heading to at ``step`` (-1: none): of its
+    pursued targets, the one nearest where it will be a few seconds later (its next arrival
+    when it covers one in that time), so a two-target goal gives each agent one line."""
+    lm, reach = cache.landmark_arrays()
+    if len(lm) == 0:
+        return np.full(cache.agents, -1, dtype=np.int64)
+    ahead = round(HEADING_LOOKAHEAD_S / max(float(cache.episode.dt), 1e-6))
+    later = cache.xy[min(step + max(ahead, 1), cache.steps - 1)]
+    d = np.linalg.norm(lm[None] - later[:, None], axis=-1) - reach[None]
+    d = np.where(cache.pursued & np.isfinite(d), d, np.inf)
+    best = np.argmin(d, axis=1)
+    return np.where(np.isfinite(d.min(axis=1)), best, -1)
+
+
 def paint_pursued(
     painter: QPainter, cache: EpisodeCache, step: int, view: ViewTransform, theme: Theme, ui: float
 ) -> None:
-    """Lines to pursued targets: faint and solid on the team goal, strong and dashed off it.
+    """Each agent's line to the target it is heading to (solid on the team goal, dashed off
+    it); its other pursued targets get a faint dotted line.
 
     A target the agent already covers gets no line (the agent is there), so a settled team
     shows few lines and a misaligned agent's dashed line stands out.
@@ -442,14 +551,20 @@ def paint_pursued(
     agents, marks = np.nonzero(cache.pursued & ~here)
     if len(agents) == 0:
         return
+    heads = heading_targets(cache, step).tolist()
     pos = view.map_array(xy).tolist()
     lm_px = view.map_array(lm).tolist()
     team = cache.team.tolist()
     # a handful of lines: one drawLine(s) each is cheaper than building a path per agent
     for a, m in zip(agents.tolist(), marks.tolist(), strict=True):
         (x0, y0), (x1, y1) = pos[a], lm_px[m]
-        if team[m]:
-            # thin solid line, cut where Qt strokes it slowly (see fastpath.line_pieces)
+        if not all(math.isfinite(v) for v in (x0, y0)):
+            continue
+        if heads[a] != m:
+            painter.setPen(_faint_pen(theme, a, ui))
+            painter.drawLine(QPointF(x0, y0), QPointF(x1, y1))
+        elif team[m]:
+            # solid line, cut where Qt strokes it slowly (see fastpath.line_pieces)
             pen = _pursued_pen(theme, a, True, ui)
             painter.setPen(pen)
             painter.drawLines(line_pieces(x0, y0, x1, y1, pen.widthF()))
@@ -458,12 +573,21 @@ def paint_pursued(
             painter.drawLine(QPointF(x0, y0), QPointF(x1, y1))  # dashes cut it up already
 
 
+def _faint_pen(theme: Theme, agent: int, ui: float) -> QPen:
+    def make() -> QPen:
+        pen = QPen(theme.agent_color(agent, alpha=0.22), 1.0 * ui)
+        pen.setStyle(Qt.PenStyle.DotLine)
+        return pen
+
+    return cached_pen(("pursued-faint", theme.name, agent, ui), make)
+
+
 def _pursued_pen(theme: Theme, agent: int, on_team: bool, ui: float) -> QPen:
     """Faint thin solid for a target on the team goal, strong dashed for one off it."""
 
     def make() -> QPen:
         if on_team:
-            pen = QPen(theme.agent_color(agent, alpha=0.45), 1.0 * ui)
+            pen = QPen(theme.agent_color(agent, alpha=0.8), 1.6 * ui)
             pen.setCapStyle(Qt.PenCapStyle.FlatCap)
         else:
             pen = QPen(theme.agent_color(agent, alpha=0.95), 2.0 * ui)

@@ -48,6 +48,15 @@ class FrameLayout:
     title_rect: QRectF | None
     caption_rect: QRectF | None
     view: ViewTransform
+    statement_rect: QRectF | None = None
+
+
+#: lines of the who-went-where statement a frame has room for
+STATEMENT_LINES = 2
+
+
+def statement_height(ui: float) -> float:
+    return (STATEMENT_LINES * 16.0 + 8.0) * ui
 
 
 def ui_scale_for(size: tuple[int, int], options: FrameOptions) -> float:
@@ -66,10 +75,30 @@ def frame_layout(scene: Scene, size: tuple[int, int], options: FrameOptions) -> 
     ui = ui_scale_for(size, options)
     top = 36.0 * ui if options.title else 0.0
     bottom = 30.0 * ui if options.caption else 0.0
-    body_h = h - top - bottom
+    said = statement_height(ui) if options.statement and h - top - bottom > 200 * ui else 0.0
+    body_h = h - top - bottom - said
     margin = 14.0 * ui
     title_rect = QRectF(0, 0, w, top) if top else None
     caption_rect = QRectF(0, h - bottom, w, bottom) if bottom else None
+    statement = QRectF(0, h - bottom - said, w, said) if said else None
+    return replace(
+        _frame_layout(scene, size, options, ui, top, body_h, margin, title_rect, caption_rect),
+        statement_rect=statement,
+    )
+
+
+def _frame_layout(
+    scene: Scene,
+    size: tuple[int, int],
+    options: FrameOptions,
+    ui: float,
+    top: float,
+    body_h: float,
+    margin: float,
+    title_rect: QRectF | None,
+    caption_rect: QRectF | None,
+) -> FrameLayout:
+    w, _h = size
     if not (options.legend or options.clock):
         rect = QRectF(0, top, w, body_h)
         view = ViewTransform.fit_scene(scene, rect, margin_px=margin)
@@ -160,11 +189,47 @@ def paint_static(
     if layout.title_rect is not None and options.title:
         with guarded(painter, "the title", theme=theme):
             paint_banner(painter, layout.title_rect, options.title, theme, 18 * layout.ui, True)
+    if layout.statement_rect is not None:
+        with guarded(painter, "the statement", theme=theme):
+            paint_statement(painter, layout.statement_rect, scene, episode, theme, layout.ui)
     if layout.caption_rect is not None and options.caption:
         with guarded(painter, "the caption", theme=theme):
             paint_banner(
                 painter, layout.caption_rect, options.caption, theme, 13 * layout.ui, False
             )
+
+
+def paint_statement(
+    painter: QPainter, rect: QRectF, scene: Scene, episode: Episode, theme: Theme, ui: float
+) -> None:
+    """Who went where (core.analysis.who_went_where), wrapped into the strip's lines."""
+    from PySide6.QtCore import Qt
+
+    from arena_studio.core.analysis.metrics import episode_metrics
+    from arena_studio.core.analysis.who_went_where import who_went_where
+    from arena_studio.render.drawing import font
+
+    try:
+        m = episode_metrics(scene, episode)
+        upto = m.success_step if m.success else None
+    except (ValueError, IndexError):  # the statement alone can still be said
+        upto = None
+    text = who_went_where(scene, episode, upto).text()
+    if not text:
+        return
+    text = f"Who went where: {text}."
+    box = rect.adjusted(14 * ui, 4 * ui, -14 * ui, -4 * ui)
+    with saved(painter):
+        painter.fillRect(rect, theme.qcolor("room_fill"))
+        painter.setPen(theme.qcolor("text"))
+        flags = Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter
+        flags |= Qt.TextFlag.TextWordWrap
+        for px in (12.5, 11.5, 10.5, 9.5):  # the largest size that fits the lines
+            painter.setFont(font(px * ui))
+            need = painter.boundingRect(box, int(flags), text)
+            if need.height() <= box.height() + 0.5:
+                break
+        painter.drawText(box, int(flags), text)
 
 
 def paint_dynamic(

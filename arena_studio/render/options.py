@@ -20,10 +20,14 @@ class FrameOptions:
     par_paths: bool = False
     collisions: bool = True
     numbers: str = "auto"  # "auto" (beyond 6 agents), "always", "never"
+    name_tags: bool = True  # a name beside each moving body (teams of up to 12)
+    focus: int | None = None  # one agent drawn strong over a dimmed rest (big teams)
     legend: bool = True
     clock: bool = True
     title: str | None = None
     caption: str | None = None
+    #: a "who went where" line under the scene (core.analysis.who_went_where)
+    statement: bool = True
     grid: bool = False
     scale_bar: bool = True
     landmark_labels: bool = True

@@ -1,8 +1,11 @@
 """The role channel: how a role changes an agent's look, independent of its identity colour.
 
 no ring = moving; thin solid ring = heading to a target; double ring = holding a target;
-hollow body with a dotted ring = idle; triangle badge = off the team goal. Tape labels take
-the styles in :data:`TAPE_STYLES` order (plus a square badge and a dashed ring).
+hollow body with a dotted ring = idle; triangle badge = off the team goal. Rings alone are
+hard to tell apart at body size, so each role also carries a glyph badge outside the body,
+at its lower right: an arrowhead (heading), a filled square (holding), two pause bars
+(idle). Tape labels take the styles in :data:`TAPE_STYLES` order (plus a plus badge and a
+dashed ring).
 """
 
 from __future__ import annotations
@@ -107,6 +110,7 @@ def paint_role_mark(
         pen.setStyle(Qt.PenStyle.DotLine)
         painter.setPen(pen)
         painter.drawEllipse(c, r + gap, r + gap)
+    _paint_glyph_badge(painter, c, r, style, color, theme, ui)
     if style == STYLE_BADGE:
         s = max(5.0 * ui, r * 0.55)
         bx, by = c.x() + r * 0.8, c.y() - r * 0.8
@@ -116,8 +120,43 @@ def paint_role_mark(
         painter.setPen(QPen(color, 1.2 * ui))
         painter.setBrush(theme.qcolor("warning"))
         painter.drawPolygon(tri)
-    elif style == STYLE_SQUARE:
+    elif style == STYLE_SQUARE:  # a plus on an info disc, unlike the holding square
         s = max(4.0 * ui, r * 0.45)
+        bx, by = c.x() + r * 0.8, c.y() - r * 0.8
         painter.setPen(QPen(color, 1.2 * ui))
         painter.setBrush(theme.qcolor("info"))
-        painter.drawRect(QRectF(c.x() + r * 0.8 - s, c.y() - r * 0.8 - s, 2 * s, 2 * s))
+        painter.drawEllipse(QPointF(bx, by), s, s)
+        painter.setPen(QPen(color, 1.6 * ui))
+        painter.drawLine(QPointF(bx - 0.6 * s, by), QPointF(bx + 0.6 * s, by))
+        painter.drawLine(QPointF(bx, by - 0.6 * s), QPointF(bx, by + 0.6 * s))
+
+
+def _paint_glyph_badge(
+    painter: QPainter, c: QPointF, r: float, style: int, color: QColor, theme: Theme, ui: float
+) -> None:
+    """The role's glyph on a small disc at the body's lower right, outside the rings: an
+    arrowhead (heading), a filled square (holding), pause bars (idle)."""
+    if style not in (STYLE_RING, STYLE_DOUBLE, STYLE_HOLLOW):
+        return
+    s = max(4.5 * ui, r * 0.42)
+    d = (r + 2.5 * ui) * 0.78 + s * 0.55
+    bx, by = c.x() + d, c.y() + d
+    painter.setPen(QPen(theme.qcolor("background"), 1.0 * ui))
+    painter.setBrush(color)
+    painter.drawEllipse(QPointF(bx, by), s, s)
+    ink = theme.qcolor("background")
+    painter.setPen(Qt.PenStyle.NoPen)
+    painter.setBrush(ink)
+    g = s * 0.55
+    if style == STYLE_RING:
+        painter.drawPolygon(
+            QPolygonF(
+                [QPointF(bx - g * 0.6, by - g), QPointF(bx + g, by), QPointF(bx - g * 0.6, by + g)]
+            )
+        )
+    elif style == STYLE_DOUBLE:
+        painter.drawRect(QRectF(bx - g * 0.8, by - g * 0.8, 1.6 * g, 1.6 * g))
+    else:
+        w = g * 0.5
+        painter.drawRect(QRectF(bx - g * 0.8, by - g, w, 2 * g))
+        painter.drawRect(QRectF(bx + g * 0.8 - w, by - g, w, 2 * g))

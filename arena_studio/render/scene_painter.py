@@ -45,6 +45,8 @@ class SceneOptions:
     landmark_labels: bool = True
     reach_rings: bool = True
     starts: bool = True
+    #: start markers drawn faint (a replay: the bodies and their tags carry identity)
+    faint_starts: bool = False
     fill_background: bool = True
     ui_scale: float = 1.0
     #: pixel rectangles (x0, y0, x1, y1) no landmark label may cover, e.g. a viewer's legend
@@ -82,7 +84,7 @@ def paint_scene(
             paint_walls(painter, scene, view, theme, opts.ui_scale)
         if opts.starts:
             with guarded(painter, "the starts", theme=theme):
-                paint_starts(painter, scene, view, theme, opts.ui_scale)
+                paint_starts(painter, scene, view, theme, opts.ui_scale, opts.faint_starts)
         with guarded(painter, "the landmarks", theme=theme):
             paint_landmarks(painter, scene, view, theme, opts, (w, h))
         if opts.scale_bar:
@@ -382,9 +384,14 @@ def arrow_path(tip_base: QPointF, heading: float, length: float) -> QPainterPath
 
 
 def paint_starts(
-    painter: QPainter, scene: Scene, view: ViewTransform, theme: Theme, ui_scale: float = 1.0
+    painter: QPainter,
+    scene: Scene,
+    view: ViewTransform,
+    theme: Theme,
+    ui_scale: float = 1.0,
+    faint: bool = False,
 ) -> None:
-    color = theme.qcolor("start")
+    color = theme.qcolor("start", alpha=0.3 if faint else None)
     for agent in scene.agents:
         start = agent.start
         length = max(14.0 * ui_scale, view.length_px(agent.radius * 2.2))

@@ -36,6 +36,28 @@ def ramp(theme: Theme, rate: float) -> QColor:
     )
 
 
+def fit_text(p: QPainter, rect: QRectF, text: str, align: Qt.AlignmentFlag) -> float:
+    """Draw ``text`` in ``rect`` at the largest font size (down to 6 pt) whose lines fit
+    whole, so a cell reads "100%", never a cut ".00%"; returns the size used."""
+    from PySide6.QtGui import QFontMetricsF
+
+    font = p.font()
+    size = font.pointSizeF() if font.pointSizeF() > 0 else 9.0
+    while size > 6.0:
+        metrics = QFontMetricsF(font)
+        lines = text.split("\n")
+        wide = max(metrics.horizontalAdvance(line) for line in lines)
+        if wide <= rect.width() and metrics.height() * len(lines) <= rect.height() + 1:
+            break
+        size -= 0.5
+        font.setPointSizeF(size)
+    old = p.font()
+    p.setFont(font)
+    p.drawText(rect, align, text)
+    p.setFont(old)
+    return size
+
+
 def _luminance(c: QColor) -> float:
     """WCAG 2.1 relative luminance, used to pick black or white cell text."""
 
@@ -107,7 +129,7 @@ class GoalGrid(QWidget):
         small = [g for g in self._stats.goals if len(g.goal) <= 2]
         large = [g for g in self._stats.goals if len(g.goal) > 2]
         fm = p.fontMetrics()
-        head_w = min(max((fm.horizontalAdvance(t) for t in labels), default=40) + 10, 130)
+        head_w = min(max((fm.horizontalAdvance(f"{n}  {t}") for t in labels), default=40) + 10, 150)
         rows_h = self.height() - 24 - 18 - (34 if large else 0)
         cw = max(min((self.width() - head_w - 8) / max(n, 1), 90.0), 22.0)  # cells may be
         ch = max(min((rows_h - 4) / max(n, 1), 60.0), 16.0)  # wider than tall
@@ -120,18 +142,20 @@ class GoalGrid(QWidget):
         )
         y0 += 18.0  # column heads
         p.setPen(theme.qcolor("text_muted"))
-        for j, text in enumerate(labels):
-            p.drawText(
-                QRectF(x0 + j * cw, y0 - 18, cw, 16),
-                Qt.AlignmentFlag.AlignCenter,
-                fm.elidedText(text, Qt.TextElideMode.ElideRight, int(cw - 2)),
-            )
+        # column heads that do not fit become numbers, and the rows carry the same numbers:
+        # a cut "We…" names nothing, "1" beside "1 West valve" does
+        numbered = any(fm.horizontalAdvance(t) > cw - 2 for t in labels)
+        heads = [str(j + 1) for j in range(n)] if numbered else labels
+        for j, text in enumerate(heads):
+            p.drawText(QRectF(x0 + j * cw, y0 - 18, cw, 16), Qt.AlignmentFlag.AlignCenter, text)
         for i, text in enumerate(labels):
             y = y0 + i * ch
-            p.drawText(
+            shown = f"{i + 1}  {text}" if numbered else text
+            fit_text(
+                p,
                 QRectF(2, y, head_w - 6, ch),
+                shown,
                 Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter,
-                fm.elidedText(text, Qt.TextElideMode.ElideRight, int(head_w - 8)),
             )
         for stat in small:
             i = stat.goal[0]
@@ -166,7 +190,7 @@ class GoalGrid(QWidget):
                 if rect.width() < 70
                 else f"{stat.rate:.0%} ({stat.successes}/{stat.episodes})"
             )
-        p.drawText(rect, Qt.AlignmentFlag.AlignCenter, text)
+        fit_text(p, rect.adjusted(1, 0, -1, 0), text, Qt.AlignmentFlag.AlignCenter)
         self._cells.append((rect, stat))
 
 
@@ -296,7 +320,12 @@ class OccupancyView(QWidget):
             self._scene,
             view,
             theme,
-            SceneOptions(scale_bar=False, starts=False, fill_background=False),
+            SceneOptions(
+                scale_bar=False,
+                starts=False,
+                fill_background=False,
+                label_keep_out=((0.0, 0.0, float(self.width()), header),),  # the title line
+            ),
             size=(self.width(), self.height()),
         )
         image = self.heat_image()
@@ -307,10 +336,11 @@ class OccupancyView(QWidget):
             p.setRenderHint(QPainter.RenderHint.SmoothPixmapTransform)
             p.drawImage(QRectF(top_left, bottom_right), image)
         p.setPen(theme.qcolor("text"))
-        p.drawText(
+        fit_text(
+            p,
             QRectF(4, 0, self.width() - 8, header),
-            Qt.AlignmentFlag.AlignVCenter,
             "Time spent here, all episodes (darker = longer)",
+            Qt.AlignmentFlag.AlignVCenter | Qt.AlignmentFlag.AlignLeft,
         )
         p.end()
 

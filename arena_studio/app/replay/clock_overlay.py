@@ -43,14 +43,31 @@ class ClockOverlay:
         self._for = (theme, ui)
 
     def paint(
-        self, painter: QPainter, rect: QRectF, episode: Episode, step: int, theme: Theme, ui: float
+        self,
+        painter: QPainter,
+        rect: QRectF,
+        episode: Episode,
+        step: int,
+        theme: Theme,
+        ui: float,
+        shared_steps: int | None = None,
     ) -> None:
+        """``shared_steps``: a compare's shared timeline, read the same in both panes (the
+        episode's own end then goes into the line below)."""
         self._prepare(theme, ui)
         assert self._big is not None and self._small is not None and self._colors is not None
         text_color, muted, backdrop = self._colors
-        step = int(min(max(step, 0), max(episode.steps - 1, 0)))
-        text = f"{step * episode.dt:6.2f} s / {episode.duration:.2f} s"
-        sub = f"step {step} of {max(episode.steps - 1, 0)}  ·  episode {episode.index}"
+        if shared_steps is not None:
+            total = max(shared_steps - 1, 0)
+            now = int(min(max(step, 0), total))
+            text = f"{now * episode.dt:6.2f} s / {total * episode.dt:.2f} s"
+            last = max(episode.steps - 1, 0)
+            state = f"ended at {last * episode.dt:.2f} s" if now > last else f"step {now}"
+            sub = f"episode {episode.index}  ·  {state}"
+        else:
+            step = int(min(max(step, 0), max(episode.steps - 1, 0)))
+            text = f"{step * episode.dt:6.2f} s / {episode.duration:.2f} s"
+            sub = f"step {step} of {max(episode.steps - 1, 0)}  ·  episode {episode.index}"
         box = _label(
             painter, text, QPointF(rect.x() + 10 * ui, rect.y() + 16 * ui), self._big, text_color,
             backdrop,

@@ -177,4 +177,23 @@ def prepare_episode(
         distances=distances,
         events=event_marks(scene, events),
         metrics=metrics,
+        extra={"who_went_where": _who_went_where(scene, episode, metrics)},
     )
+
+
+def statement_step(metrics: Any) -> int | None:
+    """Where the who-went-where statement is taken: when a success was reached (what the
+    agents did after it is not the story), else the end of the episode."""
+    step = getattr(metrics, "success_step", None)
+    return int(step) if getattr(metrics, "success", False) and step is not None else None
+
+
+def _who_went_where(scene: Scene, episode: Episode, metrics: Any) -> str:
+    """The episode's who-went-where statement, "" when the episode cannot say (a damaged
+    goal or pose array is reported elsewhere; the replay still opens)."""
+    from arena_studio.core.analysis.who_went_where import who_went_where
+
+    try:
+        return who_went_where(scene, episode, statement_step(metrics)).text()
+    except (ValueError, IndexError):
+        return ""

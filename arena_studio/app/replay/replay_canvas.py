@@ -13,7 +13,7 @@ import math
 from dataclasses import replace
 
 import numpy as np
-from PySide6.QtCore import QPointF, QRectF, Qt, Signal
+from PySide6.QtCore import QPoint, QPointF, QRectF, Qt, Signal
 from PySide6.QtGui import QMouseEvent, QPainter, QPen, QPixmap
 from PySide6.QtWidgets import (
     QGraphicsItem,
@@ -40,6 +40,8 @@ from arena_studio.render.view import ViewTransform
 
 LEGEND_W = 200.0
 HOVER_SLACK_PX = 6.0
+#: room the hover card takes (pixels), for keeping it inside the canvas
+CARD_W, CARD_H = 300, 120
 
 
 def view_from_painter(painter: QPainter) -> ViewTransform:
@@ -100,6 +102,7 @@ class ReplayCanvas(SceneCanvas):
     """Read-only canvas for one episode (plus an optional ghost) at the clock's step."""
 
     agentHovered = Signal(object)  # agent index or None
+    agentClicked = Signal(object)  # agent index, or None for a click beside every agent
 
     def __init__(self, theme: Theme, parent: QWidget | None = None) -> None:
         super().__init__(theme, parent)
@@ -113,6 +116,9 @@ class ReplayCanvas(SceneCanvas):
         self.caption: str | None = None  # e.g. "episode 12 (aligned success)" in compare mode
         self.show_legend = True
         self.show_clock = True
+        #: in compare mode: the shared timeline's length in steps, so both panes read the
+        #: same "t / total" as the transport (None: this episode's own length)
+        self.shared_steps: int | None = None
         self._hover_agent: int | None = None
         self._hover_pos = None
         self._legend_cache: tuple[tuple, QPixmap] | None = None
@@ -123,6 +129,10 @@ class ReplayCanvas(SceneCanvas):
         # (the static scene layer is painted into the cached background: one opaque blit)
         self.setCacheMode(QGraphicsView.CacheModeFlag.CacheBackground)
         self.layer.setVisible(False)
+        # identity rides on the moving bodies (name tags): start names would sit beside
+        # another agent's body, so the starts stay as faint marks without names
+        self.layer.show_agent_ids = False
+        self.layer.options = replace(self.layer.options, faint_starts=True)
         # the cached background covers every viewport pixel, so Qt need not fill the widget
         # first (a whole-view fill, ~0.15 ms a frame at 1280x720); every paint() and overlay
         # here saves and restores the painter itself, so the view need not do it per item
@@ -155,7 +165,7 @@ class ReplayCanvas(SceneCanvas):
         self.layer_ghost.set_step(step)
         self.viewport().update()
         if self._hover_agent is not None:
-            self._show_tooltip(self._hover_agent, None)
+            self._recheck_hover()
 
     def set_options(self, options: FrameOptions) -> None:
         self.layer_episode.options = options
@@ -217,15 +227,32 @@ class ReplayCanvas(SceneCanvas):
 
         room = self.legend_room()
         minx, miny, maxx, maxy = bounds(self.scene_value)
-        w, h = max(maxx - minx, 1.0), max(maxy - miny, 1.0)
         vw = max(self.viewport().width() - room - 2 * margin_px, 40.0)
         vh = max(self.viewport().height() - 2 * margin_px - 30.0, 40.0)  # 30: clock line
-        s = min(max(min(vw / w, vh / h), MIN_PPM), MAX_PPM)
+        s = 1.0
+        for _ in range(3):  # landmark labels are sized in pixels: refit with them in view
+            w, h = max(maxx - minx, 1.0), max(maxy - miny, 1.0)
+            s = min(max(min(vw / w, vh / h), MIN_PPM), MAX_PPM)
+            minx, miny, maxx, maxy = self._with_labels(bounds(self.scene_value), s)
         self.setTransform(QTransform.fromScale(s, -s))
         cx = (minx + maxx) / 2 + room / 2 / s
         cy = (miny + maxy) / 2 + 15.0 / s
         self.centerOn(QPointF(cx, cy))
         self.zoomChanged.emit(s)
+
+    def _with_labels(
+        self, box: tuple[float, float, float, float], scale: float
+    ) -> tuple[float, float, float, float]:
+        """``box`` grown to hold the landmark labels as drawn at ``scale`` px/m."""
+        from arena_studio.render.scene_painter import label_places
+
+        assert self.scene_value is not None
+        minx, miny, maxx, maxy = box
+        view = ViewTransform(scale, 0.0, 0.0)
+        for place in label_places(self.scene_value, view, 1.0, None, False):
+            x0, y0, x1, y1 = place.box
+            minx, miny, maxx, maxy = min(minx, x0), min(miny, y0), max(maxx, x1), max(maxy, y1)
+        return minx, miny, maxx, maxy
 
     def resizeEvent(self, event) -> None:
         super().resizeEvent(event)
@@ -240,6 +267,8 @@ class ReplayCanvas(SceneCanvas):
     def mousePressEvent(self, event: QMouseEvent) -> None:
         if self._starts_pan(event):
             self.auto_fit = False
+        elif event.button() == Qt.MouseButton.LeftButton and self.prepared is not None:
+            self.agentClicked.emit(self.agent_at(event.position()))
         super().mousePressEvent(event)
 
     # -- overlays in screen pixels -----------------------------------------------------
@@ -253,7 +282,10 @@ class ReplayCanvas(SceneCanvas):
             w = self.viewport().width()
             ui = 1.0
             if self.show_clock:
-                self._clock.paint(painter, QRectF(0, 0, 320, 60), ep, self.step, self.theme, ui)
+                self._clock.paint(
+                    painter, QRectF(0, 0, 320, 60), ep, self.step, self.theme, ui,
+                    self.shared_steps,
+                )  # fmt: skip
             legend = self.legend_rect()
             if legend is not None:
                 top_left = legend.topLeft().toPoint()
@@ -365,16 +397,43 @@ class ReplayCanvas(SceneCanvas):
         self._hover_agent = None
         super().leaveEvent(event)
 
-    def _show_tooltip(self, agent: int, global_pos) -> None:
-        """Show (or refresh, while playing) the hover card; ``None`` reuses the last spot."""
-        if global_pos is None:
-            global_pos = self._hover_pos
-        if global_pos is None:
+    def _recheck_hover(self) -> None:
+        """After a time change the card stays only while the pointer is still on the same
+        agent: a card that followed an agent away from the pointer covered other things."""
+        if self._hover_pos is None:
             return
-        self._hover_pos = global_pos
+        local = QPointF(self.viewport().mapFromGlobal(self._hover_pos))
+        agent = self.agent_at(local)
+        if agent != self._hover_agent:
+            self._hover_agent = agent
+            self.agentHovered.emit(agent)
+        if agent is None:
+            QToolTip.hideText()
+        else:
+            self._show_tooltip(agent, None)
+
+    def card_anchor(self, agent: int) -> QPoint | None:
+        """Viewport point for the hover card: beside the agent's body, up and right, kept
+        inside the canvas (never down over the explanation line under it)."""
+        xy = self.agent_positions()
+        if xy is None or agent >= len(xy) or not np.isfinite(xy[agent]).all():
+            return None
+        at = self.mapFromScene(QPointF(float(xy[agent, 0]), float(xy[agent, 1])))
+        vp = self.viewport().rect()
+        x = min(max(at.x() + 18, 4), max(vp.width() - CARD_W, 4))
+        y = min(max(at.y() - CARD_H // 2, 4), max(vp.height() - CARD_H, 4))
+        return QPoint(int(x), int(y))
+
+    def _show_tooltip(self, agent: int, global_pos) -> None:
+        """Show (or refresh, while playing) the hover card at once, beside the body."""
+        if global_pos is not None:
+            self._hover_pos = global_pos
+        if self._hover_pos is None:
+            return
         text = self.agent_tooltip(agent)
-        if text is not None:
-            QToolTip.showText(global_pos, text, self.viewport())
+        anchor = self.card_anchor(agent)
+        if text is not None and anchor is not None:
+            QToolTip.showText(self.viewport().mapToGlobal(anchor), text, self.viewport())
 
     def agent_tooltip(self, agent: int) -> str | None:
         """Pose, speed, role and reward so far of ``agent`` at the current step."""

@@ -101,6 +101,8 @@ class ReplayWindow(QMainWindow):
         self.canvas = ReplayCanvas(self.theme, self.split)
         self.canvas_b = ReplayCanvas(self.theme, self.split)
         self.canvas_b.setVisible(False)
+        for c in (self.canvas, self.canvas_b):
+            c.agentClicked.connect(self.focus_agent)
         self.split.addWidget(self.canvas)
         self.split.addWidget(self.canvas_b)
         layout.addWidget(self.split, 1)
@@ -186,6 +188,9 @@ class ReplayWindow(QMainWindow):
         self.action_compare = action(
             "Compare with selected episode", "C", self.compare_with_selected
         )
+        self.action_compare_best = action(
+            "Compare with best success of the same goal", "Shift+C", self.compare_with_best_success
+        )
         self.action_scene_copy = action("Open scene in editor", None, self.open_scene_copy)
         self.action_check_scene = action(
             "Check a scene file against this tape…", None, self.check_scene_file_dialog
@@ -215,6 +220,7 @@ class ReplayWindow(QMainWindow):
             a["loop_clear"],
             None,
             self.action_compare,
+            self.action_compare_best,
             self.action_fit,
             None,
             self.action_scene_copy,
@@ -227,6 +233,7 @@ class ReplayWindow(QMainWindow):
         for a in (
             self.action_diagnosis,
             self.action_compare,
+            self.action_compare_best,
             self.action_scene_copy,
             self.action_check_scene,
         ):
@@ -468,17 +475,53 @@ class ReplayWindow(QMainWindow):
     def compare_with_selected(self) -> None:
         """Compare the shown episode with the one selected in the list."""
         index = self._list_current()
-        if self.session is None or index is None:
+        if self.session is None or index is None or self._refuse_self(index):
             return
         if self.compare_mode == "off":
             self.set_compare_mode("ghost")
         self.session.request_compare(index)
 
-    def compare_with(self, index: int, mode: str = "ghost") -> None:
-        if self.session is None:
-            return
+    def compare_with(self, index: int, mode: str = "ghost") -> bool:
+        """Compare with episode ``index``; False (and a status line) when it is the one shown."""
+        if self.session is None or self._refuse_self(index):
+            return False
         self.set_compare_mode(mode)
         self.session.request_compare(index)
+        return True
+
+    def compare_with_best_success(self) -> bool:
+        """Side by side with the best success of the shown episode's goal (see
+        :func:`.partner.best_success`); a status line says so when there is none."""
+        if self.prepared is None or self.session is None:
+            return False
+        from arena_studio.app.replay.partner import best_success
+
+        rows = self.episode_list.model.summaries()
+        index = best_success(rows, self.prepared.episode.index)
+        if index is None:
+            self.statusMessage.emit(
+                f"No other episode of the goal of episode {self.prepared.episode.index}"
+                " succeeded: nothing to compare it with yet."
+            )
+            return False
+        return self.compare_with(index, "side")
+
+    def _refuse_self(self, index: int) -> bool:
+        """An episode compared with itself shows nothing new: say so and offer a partner."""
+        if self.prepared is None or index != self.prepared.episode.index:
+            return False
+        from arena_studio.app.replay.partner import best_success
+
+        best = best_success(self.episode_list.model.summaries(), index)
+        offer = (
+            f" Shift+C compares it with episode {best}, the best success of its goal."
+            if best is not None
+            else ""
+        )
+        self.statusMessage.emit(
+            f"Episode {index} is the one shown: select another episode to compare with.{offer}"
+        )
+        return True
 
     def set_compare_mode(self, mode: str) -> None:
         if mode not in {m for _, m in COMPARE_MODES}:
@@ -511,15 +554,30 @@ class ReplayWindow(QMainWindow):
                 f" with episode {other.episode.index} as ghost" if mode == "ghost" else ""
             )
             longest = max(self.prepared.episode.steps, other.episode.steps)
+            self.canvas.shared_steps = self.canvas_b.shared_steps = longest
+            self.timeline.set_compared_events(other.events)
             if longest != self.clock.steps:  # shared timeline spans the longer episode
                 step = self.clock.step
                 self.clock.set_episode(longest, self.prepared.episode.dt, self.prepared.event_steps)
                 self.clock.seek(step)
         else:
             self.canvas.caption = None
+            self.canvas.shared_steps = self.canvas_b.shared_steps = None
+            self.timeline.set_compared_events(())
         self.canvas.viewport().update()
 
     # -- options, theme ----------------------------------------------------------------
+    def focus_agent(self, agent: int | None) -> None:
+        """Draw ``agent`` strong over a dimmed rest (None: everyone alike); clicking the
+        focused agent again, or beside every agent, clears it."""
+        if agent is not None and agent == self.canvas.options.focus:
+            agent = None
+        opts = replace(self.canvas.options, focus=agent)
+        self.canvas.set_options(opts)
+        self.canvas_b.set_options(opts)
+        self.canvas.viewport().update()
+        self.canvas_b.viewport().update()
+
     def _apply_options(self) -> None:
         bar = self.view_toolbar
         opts = replace(

@@ -94,7 +94,7 @@ def _load_prepared(scene: Scene, episode: Episode) -> PreparedEpisode:
         distances=prepared.distances,
         events=tuple(sorted(events, key=lambda m: m.step)),
         metrics=metrics,
-        extra={"findings": findings},
+        extra={**prepared.extra, "findings": findings},
     )
     cache = episode_cache(scene, episode)  # built here, off the UI thread; frames only slice it
     # par-time paths plan routes with shapely; compute them here (under CORE_LOCK) so that

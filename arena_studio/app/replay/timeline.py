@@ -31,6 +31,23 @@ from arena_studio.render.theme import Theme, load_theme
 
 MARGIN_X = 14.0
 TEAM_KINDS = ("success", "diagnosis", "collision", "message", "other")
+#: half size of an event glyph (pixels)
+GLYPH_R = 6.5
+#: least distance between glyph centres in one lane: a pile-up is spread sideways
+GLYPH_GAP = 2 * GLYPH_R + 1.5
+
+
+def spread(xs: list[float], gap: float, left: float, right: float) -> list[float]:
+    """Glyph centres for marks at ``xs`` (sorted) in one lane: each at least ``gap`` from
+    its neighbour, as near its own time as that allows, inside [left, right]. A pile at
+    the end of an episode spreads leftwards instead of off the bar."""
+    out: list[float] = []
+    for x in xs:
+        out.append(max(x, out[-1] + gap) if out else x)
+    for k in range(len(out) - 1, -1, -1):
+        limit = right if k == len(out) - 1 else out[k + 1] - gap
+        out[k] = min(out[k], limit)
+    return [max(v, left) for v in out]
 HIT_RADIUS_PX = 6.0
 CURSOR_HALF_PX = 8  # half the strip repainted around the cursor when the step changes
 
@@ -56,9 +73,11 @@ class TimelineBar(QWidget):
         self._theme = theme or load_theme("light")
         self._events: tuple[EventMark, ...] = ()
         self._agent_count = 0
+        self._compared: tuple[EventMark, ...] = ()
         self._static: tuple[tuple, QPixmap] | None = None
         self._cursor_painted_x: float | None = None  # where the last paint put the cursor
-        self.setMinimumHeight(58)
+        self.setMinimumHeight(64)
+        self._glyph_x: dict[int, float] = {}  # id(mark) -> where its glyph was drawn
         self.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Fixed)
         self.setMouseTracking(True)
         self.setFocusPolicy(Qt.FocusPolicy.NoFocus)  # keys go to the window's actions
@@ -79,6 +98,16 @@ class TimelineBar(QWidget):
         self._events = tuple(events)
         self._agent_count = agent_count
         self.update()
+
+    def set_compared_events(self, events: tuple[EventMark, ...]) -> None:
+        """The compared episode's events, drawn faint among the shown one's on the shared
+        timeline (both episodes' moments on one ruler)."""
+        self._compared = tuple(events)
+        self.update()
+
+    @property
+    def compared_events(self) -> tuple[EventMark, ...]:
+        return self._compared
 
     @property
     def events(self) -> tuple[EventMark, ...]:
@@ -123,7 +152,7 @@ class TimelineBar(QWidget):
     def event_at(self, pos: QPointF) -> EventMark | None:
         best, best_d = None, HIT_RADIUS_PX
         for mark in self._events:
-            dx = abs(self.x_of_step(mark.step) - pos.x())
+            dx = abs(self._glyph_x.get(id(mark), self.x_of_step(mark.step)) - pos.x())
             dy = abs(self._lane_y(mark.kind) - pos.y())
             track = self._track()
             if mark.kind == "diagnosis" and track.top() <= pos.y() <= track.bottom():
@@ -163,6 +192,7 @@ class TimelineBar(QWidget):
             self.height(),
             dpr,
             id(self._events),  # the tuple is held, so its id cannot be reused
+            id(self._compared),
             self._theme.name,
             self._clock.steps,
             self._clock.dt,
@@ -194,8 +224,32 @@ class TimelineBar(QWidget):
         p.drawLine(QPointF(track.left(), mid), QPointF(track.right(), mid))
         self._paint_loop(p, track)
         self._paint_ruler(p, track)
-        for mark in self._events:
+        p.setOpacity(0.45)  # the compared episode's marks, faint under the shown one's
+        for mark in self._compared:
             self._paint_mark(p, mark, track)
+        p.setOpacity(1.0)
+        self._glyph_x = self._place_glyphs(self._events, track)
+        for mark in self._events:
+            self._paint_mark(p, mark, track, self._glyph_x.get(id(mark)))
+
+    def _place_glyphs(self, events: tuple[EventMark, ...], track: QRectF) -> dict[int, float]:
+        """Per lane, glyph centres spread so none covers another (see :func:`spread`); the
+        diagnosis pennant keeps its true place (its pole marks the moment)."""
+        placed: dict[int, float] = {}
+        for upper in (True, False):
+            lane = [
+                m for m in events
+                if (m.kind in TEAM_KINDS) == upper and m.kind != "diagnosis"
+            ]  # fmt: skip
+            lane.sort(key=lambda m: m.step)
+            xs = spread(
+                [self.x_of_step(m.step) for m in lane],
+                GLYPH_GAP,
+                track.left() + GLYPH_R,
+                track.right() - GLYPH_R,
+            )
+            placed.update({id(m): x for m, x in zip(lane, xs, strict=True)})
+        return placed
 
     def _paint_loop(self, p: QPainter, track: QRectF) -> None:
         loop = self._clock.loop
@@ -239,11 +293,18 @@ class TimelineBar(QWidget):
             return theme.agent_color(mark.agent)
         return theme.qcolor("text_muted")
 
-    def _paint_mark(self, p: QPainter, mark: EventMark, track: QRectF) -> None:
-        x = self.x_of_step(mark.step)
+    def _paint_mark(
+        self, p: QPainter, mark: EventMark, track: QRectF, x: float | None = None
+    ) -> None:
+        true_x = self.x_of_step(mark.step)
+        x = true_x if x is None else x
         y = self._lane_y(mark.kind)
         color = self._mark_color(mark)
-        r = 5.0
+        r = GLYPH_R
+        if abs(x - true_x) > 0.5 and mark.kind != "diagnosis":  # spread: a tick at its time
+            p.setPen(QPen(color, 1.0))
+            lane_edge = track.top() + 1 if mark.kind in TEAM_KINDS else track.bottom() - 1
+            p.drawLine(QPointF(true_x, lane_edge), QPointF(x, y))
         edge = QPen(self._theme.qcolor("text"), 0.8)
         if mark.kind == "reached":  # filled wedge pointing up: arrived at a target
             path = QPainterPath(QPointF(x, y - r))
@@ -280,9 +341,10 @@ class TimelineBar(QWidget):
         elif mark.kind == "diagnosis":  # a pennant on a pole through both lanes
             p.setPen(QPen(color, 2.0))
             p.drawLine(QPointF(x, track.top() + 1), QPointF(x, track.bottom() - 1))
+            side = -1.0 if x + 13 > track.right() else 1.0  # at the end: the flag points in
             flag = QPainterPath(QPointF(x, track.top() + 2))
-            flag.lineTo(x + 11, track.top() + 6.5)
-            flag.lineTo(x, track.top() + 11)
+            flag.lineTo(x + side * 13, track.top() + 7.5)
+            flag.lineTo(x, track.top() + 13)
             flag.closeSubpath()
             p.setPen(Qt.PenStyle.NoPen)
             p.setBrush(color)

@@ -45,12 +45,18 @@ def describe(
     """Rich text for one episode; ``link`` adds "go there" until ``step`` reaches it. The
     simulator's reported outcome, when the tape has one, follows. A misaligned failure gets
     ``explain(episode)``'s sentences (what was announced and who followed it)."""
-    text = _verdict(p, theme, lead, step, link)
+    text = _verdict(p, theme, lead, step, link) + where_words(p)
     if explain is not None and getattr(p.metrics, "diagnosis_code", None) == "misaligned":
         said = explain(p.episode)
         if said:
             text += "<br>Messages: " + html.escape("; ".join(said)) + "."
     return text + outcome_words(p.episode.outcome)
+
+
+def where_words(p: PreparedEpisode) -> str:
+    """Who went where (core.analysis.who_went_where), as escaped rich text, or ""."""
+    text = p.extra.get("who_went_where", "")
+    return f"<br>Who went where: {html.escape(text)}." if text else ""
 
 
 def _verdict(p: PreparedEpisode, theme: Theme, lead: str, step: int, link: bool) -> str:

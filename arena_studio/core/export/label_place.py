@@ -10,7 +10,9 @@ the eight compass positions at one and at two distances, the nearest in angle to
 first. A candidate is *clear* when its box lies inside the open area (rooms minus obstacles)
 in sight of its mark (no wall between them), or, for a mark on a wall line, entirely outside
 every room just beyond that wall; when it stays inside the frame; and when it overlaps
-neither a label already placed nor another landmark's mark (nor a box the caller avoids).
+neither a label already placed nor another landmark's mark (nor a box the caller avoids);
+and when no other landmark's mark is nearer to it than its own (so a reader pairs it with
+the right mark).
 Labels are placed most-constrained first (fewest clear candidates before any label is
 placed; ties in scene order). Each takes its first clear candidate: inside the rooms before
 outside, and one that leaves the usual place of every label still to come free before one
@@ -166,6 +168,21 @@ def _inside_frame_area(boxes: np.ndarray, frame: Box) -> np.ndarray:
     return np.clip(dx, 0.0, None) * np.clip(dy, 0.0, None)
 
 
+def _nearest_own(flat: np.ndarray, pos: np.ndarray, per: int) -> np.ndarray:
+    """Per candidate box (N, 4): no other landmark's mark is nearer the box than its own
+    (row k belongs to landmark k // per), so a reader pairs the label with its own mark.
+    One nearest-neighbour query on an R-tree: no (N, L) table for thousands of marks."""
+    if len(pos) < 2 or len(flat) == 0:
+        return np.ones(len(flat), bool)
+    geoms = shapely.box(*flat.T)
+    points = shapely.points(pos)
+    own = shapely.distance(geoms, points[np.arange(len(flat)) // per])
+    _pairs, nearest = shapely.STRtree(points).query_nearest(
+        geoms, return_distance=True, all_matches=False
+    )
+    return np.asarray(own <= nearest + 1e-9, bool)
+
+
 @dataclass
 class _Walls:
     """The open area (shrunk by the clearance) and the rooms (grown by it), prepared."""
@@ -319,7 +336,8 @@ def place_labels(
     fixed = np.concatenate([marks, np.asarray(avoid, dtype=np.float64).reshape(-1, 4)])
     # overlap of each candidate with every mark and avoided box (own mark excluded)
     fixed_cost = _fixed_cost(flat, fixed, per).reshape(-1, per)
-    statically_clear = (inside | outside) & (fixed_cost <= 1e-12)
+    own = _nearest_own(flat, pos, per).reshape(-1, per)
+    statically_clear = (inside | outside) & (fixed_cost <= 1e-12) & own
     order = sorted(range(len(landmarks)), key=lambda i: (int(statically_clear[i].sum()), i))
 
     # a label still to come whose usual place is clear keeps it if it can: a moving label
@@ -349,6 +367,7 @@ def place_labels(
                 + fixed_cost[i]
                 + 2.0 * label_cost  # text over text is the worst to read
                 + hidden[i] * areas[i]  # a wall between label and mark: as bad as covered
+                + ~own[i] * areas[i]  # nearer another mark: read as that landmark's
             )
             pick = int(np.argmin(cost))  # first of equals: deterministic
         cand = cands[i][pick]

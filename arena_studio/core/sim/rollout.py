@@ -47,7 +47,7 @@ diagnoses and step counts, every pose within :data:`REGENERATED_POSE_TOLERANCE`.
 from __future__ import annotations
 
 import math
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Literal
@@ -265,7 +265,10 @@ class Rollout:
         par_limit: tuple[float, float] | None = None,
         skill: float = 1.0,
         talk: MessageOptions | None = None,
+        pool: Sequence[int] | None = None,
     ) -> EpisodeRun:
+        """One episode; ``pool``: goal indices the team goal cycles through by ``index``
+        (the random draws stay the same, so the rest of the episode is drawn as before)."""
         if mode not in MODES:
             raise ValueError(f"unknown goal mode {mode!r} (expected {', '.join(MODES)})")
         if not 0 < skill <= 1:
@@ -275,6 +278,8 @@ class Rollout:
         scene = self.scene
         n_agents = len(scene.agents)
         team = int(self.table.sample(rng, 1)[0])
+        if pool:
+            team = int(pool[index % len(pool)])
         start = self.start_poses(rng)
         if mode == "independent":
             pursued = [int(g) for g in self.table.sample(rng, n_agents)]
@@ -453,6 +458,17 @@ class Rollout:
         )
 
 
+def cooperative_pool(sim: Rollout, seed: int, size: int) -> list[int]:
+    """``size`` cooperative goals (two targets or more) drawn once per seed, so a tape shows
+    each of them several times: successes and failures of one goal, side by side."""
+    coop = [g for g in range(len(sim.table.vectors)) if len(sim.table.targets(g)) >= 2]
+    if not coop:
+        raise ValueError("the scene has no cooperative goal for a goal pool")
+    rng = np.random.default_rng([seed, 7919])
+    picked = rng.choice(len(coop), size=min(size, len(coop)), replace=False)
+    return [coop[int(k)] for k in sorted(picked.tolist())]
+
+
 def run_rollout(
     scene: Scene,
     out: str | Path,
@@ -469,6 +485,8 @@ def run_rollout(
     shared_share: float | None = None,
     metadata: Mapping[str, Any] | None = None,
     talk: MessageOptions | None = None,
+    goal_pool: int | None = None,
+    every_other: Mode | None = None,
 ) -> int:
     """Simulate ``episodes`` episodes into the tape ``out``; returns the episodes written.
 
@@ -481,6 +499,7 @@ def run_rollout(
     if shared_share is not None and not 0 <= shared_share <= 1:
         raise ValueError(f"shared_share must be in [0, 1], got {shared_share}")
     sim = Rollout(scene, dt=dt, max_time=max_time)
+    pool = cooperative_pool(sim, seed, goal_pool) if goal_pool else None
     meta: dict[str, Any] = {
         "generator": "arena-studio rollout",
         "mode": mode,
@@ -492,6 +511,12 @@ def run_rollout(
         meta["par_limit"] = [float(par_limit[0]), float(par_limit[1])]
     if skill != 1:
         meta["skill"] = float(skill)
+    if goal_pool:
+        meta["goal_pool"] = int(goal_pool)
+    if every_other is not None:
+        if every_other not in MODES:
+            raise ValueError(f"unknown goal mode {every_other!r} (expected {', '.join(MODES)})")
+        meta["every_other"] = every_other
     if shared_share is not None:
         meta["shared_share"] = float(shared_share)
     if talk is not None:
@@ -508,7 +533,11 @@ def run_rollout(
             if shared_share is not None:
                 draw = float(np.random.default_rng([seed, i, 1]).random())
                 mode_i = "shared" if draw < shared_share else "independent"
-            run = sim.episode(seed, i, mode_i, par_limit=par_limit, skill=skill, talk=talk)
+            elif every_other is not None and i % 2 == 1:
+                mode_i = every_other  # odd episodes: e.g. a coordinated team beside a greedy one
+            run = sim.episode(
+                seed, i, mode_i, par_limit=par_limit, skill=skill, pool=pool, talk=talk
+            )
             writer.begin_episode(
                 team_goal=run.team_goal,
                 pursued_goals=run.pursued_goals,

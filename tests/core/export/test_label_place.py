@@ -265,14 +265,21 @@ def test_random_layouts_never_overlap_where_a_free_place_existed(
                 if j != i and q.clear:
                     assert not g.relate_pattern(geoms[j], INTERIORS_MEET), (i, j)
         else:
-            # no candidate was free: each one crosses a wall, covers a mark or meets a
-            # label (the labels placed before it are among the final ones)
+            # no candidate was free: each one crosses a wall, covers a mark, meets a
+            # label (the labels placed before it are among the final ones) or lies nearer
+            # another landmark than its own (shapely distances)
+            own = Point(scene.landmarks[i].position)
             for cand in candidates(scene.landmarks[i], normals[i], sizes[i], MARK, GAP):
                 g = box(*cand.box)
                 assert (
                     not _clear_of_walls(g, scene, on_wall=False)
                     or any(g.relate_pattern(m, INTERIORS_MEET) for m in other_marks)
                     or any(g.relate_pattern(o, INTERIORS_MEET) for o in others)
+                    or any(
+                        g.distance(Point(lm.position)) < g.distance(own) - 1e-9
+                        for j, lm in enumerate(scene.landmarks)
+                        if j != i
+                    )
                 )
 
 
