@@ -72,6 +72,11 @@ def make_window(qtbot, tmp_path: Path, settings_path: Path):
 
     yield make
     for win in windows:
+        # work a replay left running holds the core lock; let it end before the next test
+        page = getattr(win, "replay_page", None)
+        session = getattr(page, "session", None)
+        if session is not None:
+            session.wait_idle()
         win.document.undo_stack.setClean()
         win.document._restored_dirty = False
         win.close()  # stops the checker thread and any mode's background work

@@ -236,6 +236,13 @@ class ReplaySession(QObject):
     def wait_summaries(self, timeout_ms: int = 60000) -> bool:
         return self._worker is None or self._worker.wait(timeout_ms)
 
+    def wait_idle(self, timeout_s: float = 120.0) -> None:
+        """Wait for every background computation of this session (tests and shutdown):
+        they share the core lock, so work left running would hold up the next session."""
+        self.wait_summaries(int(timeout_s * 1000))
+        for call in (self._episode_call, self._compare_call, self._message_call):
+            call.wait_idle(timeout_s)
+
     # -- episodes ----------------------------------------------------------------------
     def request_episode(self, index: int) -> int:
         """Prepare episode ``index`` off the UI thread; ``episodeReady`` brings the
