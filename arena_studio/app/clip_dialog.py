@@ -335,6 +335,7 @@ class ClipDialog(QDialog):
             roles=self.roles.currentText(),
             title=self.title.text().strip() or None,
             caption=self.caption_text(self.episode.value()),
+            statement=self.statement.isChecked(),  # who went where, under the frame
             **c,
         )
 

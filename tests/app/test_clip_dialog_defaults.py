@@ -84,3 +84,11 @@ def test_demo_tapes_export_outside_the_package(monkeypatch, tmp_path):
     beside = tmp_path / "runs" / "mine.tape"
     beside.parent.mkdir()
     assert default_folder(beside) == beside.parent
+
+
+def test_the_statement_box_also_hides_who_went_where(qtbot, tape):
+    dialog = ClipDialog(None, tape, 0)
+    qtbot.addWidget(dialog)
+    assert dialog.frame_options().statement  # on by default
+    dialog.statement.setChecked(False)
+    assert not dialog.frame_options().statement
