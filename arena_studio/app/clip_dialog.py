@@ -313,7 +313,7 @@ class ClipDialog(QDialog):
         stem = text.with_suffix("") if text.suffix else text
         self.path.setText(str(stem) + ext)
         still = ext in (".png", ".svg")
-        for w in (self.start, self.end, self.fps, self.speed, self.title_seconds, self.mode):
+        for w in (self.start, self.end, self.fps, self.speed, self.title_seconds):
             w.setEnabled(not still)
         self.moment.setEnabled(still)
 
@@ -386,13 +386,22 @@ class ClipDialog(QDialog):
         options = self.frame_options()
         size = self.frame_size()
         if target.suffix.lower() in (".png", ".svg"):
+            from arena_studio.render.compare_still import save_compare_png, save_compare_svg
             from arena_studio.render.frame import save_png_still, save_svg_still
 
             if not target.parent.is_dir():
                 raise ClipError(f"{target.parent}: folder does not exist")
             step = episodes[0].step_at(self.moment.value())
-            writer = save_png_still if target.suffix.lower() == ".png" else save_svg_still
-            writer(target, self.tape.scene, episodes[0], step, options, size)
+            png = target.suffix.lower() == ".png"
+            if self.mode.currentIndex() == 2:  # both at the same moment, side by side
+                steps = [step, episodes[1].step_at(self.moment.value())]
+                compare_writer = save_compare_png if png else save_compare_svg
+                compare_writer(target, self.tape.scene, episodes, steps, options, size)
+            elif len(episodes) > 1:
+                raise ClipError("a still shows this episode, or two compared side by side")
+            else:
+                writer = save_png_still if png else save_svg_still
+                writer(target, self.tape.scene, episodes[0], step, options, size)
             self.progress.setRange(0, 1)
             self.progress.setValue(1)
             return None

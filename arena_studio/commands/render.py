@@ -186,7 +186,7 @@ def _run(args: argparse.Namespace) -> int:
 
     ensure_gui_app()
     if suffix in (".png", ".svg"):
-        return _still(args, out, tape.scene, episodes[0], options, size)
+        return _still(args, out, tape.scene, episodes, options, size)
     spec = ClipSpec(
         start=args.start,
         end=args.end,
@@ -241,12 +241,23 @@ def still_step(scene, episode) -> int:
     return 0 if step is None else int(min(max(step, 0), episode.steps - 1))
 
 
-def _still(args, out, scene, episode, options, size) -> int:
+def _still(args, out, scene, episodes, options, size) -> int:
+    """One episode, or with ``--compare`` two side by side at the same time (the partner at
+    its end when it is shorter)."""
+    from arena_studio.render.compare_still import save_compare_png, save_compare_svg
     from arena_studio.render.frame import save_png_still, save_svg_still
 
+    episode = episodes[0]
     step = episode.step_at(args.time) if args.time is not None else still_step(scene, episode)
+    png = out.suffix.lower() == ".png"
     try:
-        if out.suffix.lower() == ".png":
+        if args.compare:
+            steps = [step, episodes[1].step_at(step * episode.dt)]
+            if png:
+                save_compare_png(out, scene, episodes, steps, options, size, args.scale, args.dpi)
+            else:
+                save_compare_svg(out, scene, episodes, steps, options, size)
+        elif png:
             save_png_still(out, scene, episode, step, options, size, args.scale, args.dpi)
         else:
             save_svg_still(out, scene, episode, step, options, size)

@@ -30,6 +30,7 @@ from arena_studio.core.child_process import die_with_parent
 from arena_studio.core.limits import FRAME_SIDE, MAX_CLIP_FRAMES, RangeError
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.episode import Episode
+from arena_studio.render.compare_still import side_title
 from arena_studio.render.episode_painter import FrameOptions
 from arena_studio.render.frame import IMAGE_FORMAT, FrameRenderer, png_bytes
 
@@ -220,7 +221,9 @@ class ClipPainter:
             half = w // 2
             # each half names its episode (under the title when there is one)
             self.parts = [
-                FrameRenderer(scene, (width, h), replace(spec.frame, title=_side_title(spec, ep)))
+                FrameRenderer(
+                    scene, (width, h), replace(spec.frame, title=side_title(spec.frame, ep))
+                )
                 for width, ep in ((half, episodes[0]), (w - half, episodes[1]))
             ]
         else:
@@ -254,12 +257,6 @@ class ClipPainter:
         finally:
             painter.end()
         return image
-
-
-def _side_title(spec: ClipSpec, ep: Episode) -> str:
-    return (
-        f"{spec.frame.title}  ·  episode {ep.index}" if spec.frame.title else f"episode {ep.index}"
-    )
 
 
 def _subtitle(ep: Episode) -> str:

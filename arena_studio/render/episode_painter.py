@@ -272,17 +272,30 @@ def paint_targets(
         order = agents[: min(bisect.bisect_right(firsts, step), 12)]
         text = f"{names[order[0]]} {firsts[0] * cache.episode.dt:.1f} s" if order else ""
         up = above[l_idx]
+        shift = _text_shift(c.x(), text, ui, float(device.width()))
         if not raster:
-            _draw_target(painter, c, r, covered, order, text, theme, ui, up)
+            _draw_target(painter, c, r, covered, order, text, theme, ui, up, shift)
             continue
-        key = (theme.name, round(c.x(), 4), round(c.y(), 4), r, ui, covered, order, text, up)
+        key = (theme.name, round(c.x(), 4), round(c.y(), 4), r, ui, covered, order, text, up,
+               round(shift, 4))  # fmt: skip
         sprite = _TARGET_SPRITES.get(key)
         if sprite is None:
-            sprite = _target_sprite(c, r, covered, order, text, theme, ui, up)
+            sprite = _target_sprite(c, r, covered, order, text, theme, ui, up, shift)
             if len(_TARGET_SPRITES) > 512:
                 _TARGET_SPRITES.clear()
             _TARGET_SPRITES[key] = sprite
         painter.drawImage(sprite[0], sprite[1])
+
+
+def _text_shift(x: float, text: str, ui: float, width: float) -> float:
+    """Pixels to move a target's "n at t s" text sideways so it stays inside the frame (a
+    wall landmark's target sits at the frame's edge); 0 when it fits centred."""
+    if not text or width <= 0:
+        return 0.0
+    half = QFontMetricsF(font(11 * ui, bold=True)).horizontalAdvance(text) / 2 + 4.0
+    if 2 * half >= width:
+        return 0.0
+    return max(half - x, 0.0) - max(x + half - width, 0.0)
 
 
 _TARGET_SPRITES: dict[tuple[Any, ...], tuple[QPoint, QImage]] = {}
@@ -332,6 +345,7 @@ def _target_sprite(
     theme: Theme,
     ui: float,
     above: bool = False,
+    shift: float = 0.0,
 ) -> tuple[QPoint, QImage]:
     """The target drawn into a transparent image at whole-pixel ``origin``: painting uses the
     frame's own (fractional) coordinates, so the blit lands exactly where direct drawing
@@ -340,7 +354,7 @@ def _target_sprite(
     half_w, below, over = ring, ring, ring
     if text:
         metrics = QFontMetricsF(font(11 * ui, bold=True))
-        half_w = max(half_w, metrics.horizontalAdvance(text) / 2 + 4.0)
+        half_w = max(half_w, metrics.horizontalAdvance(text) / 2 + 4.0 + abs(shift))
         if above:
             over = max(over, _arrival_offset(r, ui, True) + metrics.height() / 2 + 4.0)
         else:
@@ -353,7 +367,7 @@ def _target_sprite(
     try:
         p.setRenderHint(QPainter.RenderHint.Antialiasing, True)
         p.translate(-x0, -y0)
-        _draw_target(p, c, r, covered, order, text, theme, ui, above)
+        _draw_target(p, c, r, covered, order, text, theme, ui, above, shift)
     finally:
         p.end()
     return QPoint(x0, y0), img
@@ -369,9 +383,10 @@ def _draw_target(
     theme: Theme,
     ui: float,
     above: bool = False,
+    shift: float = 0.0,
 ) -> None:
     """Ring, visitor pips and the first arrival's "n at t s", below the ring or ``above``
-    it (past the pips) when the landmark's label is below."""
+    it (past the pips) when the landmark's label is below, ``shift`` pixels sideways."""
     hi = theme.qcolor("target_highlight")
     painter.setBrush(theme.qcolor("target_highlight", alpha=0.22 if covered else 0.1))
     pen = QPen(hi, (3.0 if covered else 2.2) * ui)
@@ -391,7 +406,7 @@ def _draw_target(
     label(
         painter,
         text,
-        QPointF(c.x(), c.y() - offset if above else c.y() + offset),
+        QPointF(c.x() + shift, c.y() - offset if above else c.y() + offset),
         font(11 * ui, bold=True),
         theme.qcolor("text"),
         theme.qcolor("room_fill", alpha=0.8),

@@ -55,8 +55,11 @@ class FrameLayout:
 STATEMENT_LINES = 2
 
 
-def statement_height(ui: float) -> float:
-    return (STATEMENT_LINES * 16.0 + 8.0) * ui
+def statement_height(ui: float, width: float) -> float:
+    """Room for the who-went-where lines: one more line in narrow frames (a side-by-side
+    half), where the same sentence wraps more often."""
+    lines = STATEMENT_LINES if width >= 1000.0 * ui else STATEMENT_LINES + 1
+    return (lines * 16.0 + 8.0) * ui
 
 
 def ui_scale_for(size: tuple[int, int], options: FrameOptions) -> float:
@@ -75,7 +78,7 @@ def frame_layout(scene: Scene, size: tuple[int, int], options: FrameOptions) -> 
     ui = ui_scale_for(size, options)
     top = 36.0 * ui if options.title else 0.0
     bottom = 30.0 * ui if options.caption else 0.0
-    said = statement_height(ui) if options.statement and h - top - bottom > 200 * ui else 0.0
+    said = statement_height(ui, w) if options.statement and h - top - bottom > 200 * ui else 0.0
     body_h = h - top - bottom - said
     margin = 14.0 * ui
     title_rect = QRectF(0, 0, w, top) if top else None

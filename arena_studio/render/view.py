@@ -64,8 +64,15 @@ class ViewTransform:
         margin_px: float = 24.0,
         world_margin: float = 0.3,
     ) -> ViewTransform:
-        """Fit the scene's bounds (plus ``world_margin`` metres for labels and rings)."""
-        return cls.fit(bounds(scene, world_margin), rect, margin_px)
+        """Fit the scene's bounds (plus ``world_margin`` metres for labels), with every
+        landmark's reach ring inside: a wall landmark's ring reaches past the wall."""
+        minx, miny, maxx, maxy = bounds(scene, world_margin)
+        for lm in scene.landmarks:
+            (x, y), reach = lm.position, lm.reach_radius + world_margin
+            if np.isfinite(x) and np.isfinite(y) and np.isfinite(reach):
+                minx, maxx = min(minx, x - reach), max(maxx, x + reach)
+                miny, maxy = min(miny, y - reach), max(maxy, y + reach)
+        return cls.fit((minx, miny, maxx, maxy), rect, margin_px)
 
     # -- mapping -----------------------------------------------------------------------
     def to_px(self, x: float, y: float) -> QPointF:

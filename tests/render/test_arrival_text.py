@@ -45,3 +45,19 @@ def test_arrival_text_never_covers_the_landmark_label(qapp, name):
         label_box = shapely.box(tl.x(), tl.y(), br.x(), br.y())
         assert not text.intersects(label_box), f"{lm.id}: arrival text over its label"
     assert any(above) or name != "greenhouse"  # the north sensor's label is below it
+
+
+@pytest.mark.parametrize("x", [0.0, 5.0, 640.0, 1275.0, 1280.0])
+def test_arrival_text_moves_inside_the_frame(qapp, x):
+    """A target at the frame's edge (a wall landmark) keeps its "n at t s" text whole.
+
+    Reference: shapely ``contains`` of the text's box in the frame's box."""
+    from arena_studio.render.episode_painter import _text_shift
+
+    text = "rover-2 3.2 s"
+    half = QFontMetricsF(font(11, bold=True)).horizontalAdvance(text) / 2 + 2.0
+    shift = _text_shift(x, text, 1.0, SIZE[0])
+    box = shapely.box(x + shift - half, 0.0, x + shift + half, 10.0)
+    assert shapely.box(0.0, -1.0, SIZE[0], 11.0).contains(box)
+    if half + 2.0 <= x <= SIZE[0] - half - 2.0:
+        assert shift == 0.0  # centred whenever it fits

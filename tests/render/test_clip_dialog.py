@@ -127,3 +127,21 @@ def test_dialog_boxes_take_the_command_line_ranges(qtbot, tape):
         assert (box.minimum(), box.maximum()) == (limit.low, limit.high)
         box.setValue(limit.high * 10 + 1)  # Qt clamps typed values into the range
         assert box.value() == limit.high
+
+
+def test_still_of_two_episodes_side_by_side(qtbot, tape, tmp_path):
+    dialog = ClipDialog(None, tape, 0, time=1.0)
+    qtbot.addWidget(dialog)
+    _small(dialog, ".png", tmp_path / "pair.png")
+    assert dialog.mode.isEnabled()  # a still may compare two episodes
+    dialog.mode.setCurrentIndex(2)
+    dialog.more.setText("1")
+    assert dialog.export()
+    with Image.open(tmp_path / "pair.png") as im:
+        assert im.size == (320, 180)
+    dialog.mode.setCurrentIndex(1)  # a sequence has no single moment
+    dialog.more.setText("1")
+    dialog.path.setText(str(tmp_path / "seq.png"))
+    assert not dialog.export()
+    assert "two compared side by side" in dialog.status.text()
+    assert not (tmp_path / "seq.png").exists()

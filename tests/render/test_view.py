@@ -98,3 +98,26 @@ def test_segments_and_non_finite_points():
     broken = polylines_path(xy, np.array([True, False, False, False, False]))
     assert [e[0] for e in _elements(broken)] == [0, 1, 0, 1]
     assert polylines_path(np.zeros((0, 2)), np.zeros(0, bool)).elementCount() == 0
+
+
+def test_fit_scene_keeps_every_reach_ring_inside(qapp):
+    """A wall landmark's reach ring pokes out of the room; the fitted frame still holds it.
+
+    Reference: shapely's ``contains`` (OGC Simple Features) of each ring's pixel box in the
+    frame's rectangle less its margin."""
+    import shapely
+
+    from arena_studio.core.resources import demo_path
+    from arena_studio.core.scene.model import load_scene
+
+    rect = (0.0, 0.0, 1000.0, 560.0)
+    margin = 14.0
+    for name in ("greenhouse", "lab-wing", "parking-level"):
+        scene = load_scene(demo_path(f"{name}.scene.json"))
+        view = ViewTransform.fit_scene(scene, rect, margin_px=margin)
+        frame = shapely.box(margin - 1e-6, margin - 1e-6, 1000 - margin + 1e-6, 560 - margin + 1e-6)
+        for lm in scene.landmarks:
+            (x, y), r = lm.position, lm.reach_radius
+            a, b = view.to_px(x - r, y + r), view.to_px(x + r, y - r)
+            ring = shapely.box(a.x(), a.y(), b.x(), b.y())
+            assert frame.contains(ring), f"{name}: {lm.id}'s ring leaves the frame"
