@@ -143,3 +143,28 @@ def test_screens(make_window, sweep_copy: Path, tmp_path: Path, theme: str, size
     keep = os.environ.get("ARENA_STUDIO_KEEP_SCREENS")
     if keep:  # developers look at every screen: set this to a folder to keep them
         shutil.copy(out, Path(keep) / out.name)
+
+
+@pytest.mark.parametrize("theme", ["light", "dark"])
+def test_legend_and_titles_are_readable(main_window, sweep_copy: Path, theme: str) -> None:
+    """Reference: WCAG 2.1 contrast ratio, at least 4.5:1 for normal text (SC 1.4.3)."""
+    import pyqtgraph as pg
+    from PySide6.QtGui import QColor
+
+    from tests.app.test_dropdown_contrast import contrast
+
+    main_window.open_path(sweep_copy)
+    page = main_window.runs_page
+    assert page.wait_loaded()
+    page.set_theme(theme)
+    background = page.theme.qcolor("room_fill").getRgb()[:3]
+    colours = []
+    for widget in (page.curves, page.pair):
+        legend = widget.getPlotItem().legend
+        colours += [label.opts["color"] for _sample, label in legend.items]
+    colours += [w.getPlotItem().titleLabel.opts["color"] for w in (page.pair, page.heat)]
+    assert len(colours) >= 4
+    for colour in colours:
+        # None means pyqtgraph's default foreground, as LabelItem.setText resolves it
+        rgb = QColor(pg.mkColor(colour or pg.getConfigOption("foreground"))).getRgb()[:3]
+        assert contrast(rgb, background) >= 4.5, (theme, colour)

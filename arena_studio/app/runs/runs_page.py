@@ -316,7 +316,9 @@ class RunsPage(QWidget):
         plot = self.pair.getPlotItem()
         plot.clear()
         group = self.group_box.currentText()
-        plot.setTitle(f"success and alignment of {group} (IQM)", size="9pt")
+        plot.setTitle(
+            f"success and alignment of {group} (IQM)", size="9pt", color=self.theme.hex("text")
+        )
         mine = [r for r in self.runs if str(r.key("condition")) == group]
         for i, metric in enumerate(("success", "alignment")):
             rows = curve_rows(mine, metric, "condition", Settings(reps=1))
@@ -366,7 +368,8 @@ class RunsPage(QWidget):
         self.heat_data = goal_matrix(self.runs, group)
         m = self.heat_data
         plot = self.heat.getPlotItem()
-        plot.setTitle(f"success per goal, {group} (0 pale, 1 strong)", size="9pt")
+        title = f"success per goal, {group} (0 pale, 1 strong)"
+        plot.setTitle(title, size="9pt", color=self.theme.hex("text"))
         if not m.goals or not m.steps:
             self.heat_image.clear()
             return
@@ -453,5 +456,7 @@ class RunsPage(QWidget):
                 item.getAxis(axis).setPen(fg)
                 item.getAxis(axis).setTextPen(fg)
             item.showGrid(x=w is not self.heat, y=w is not self.heat, alpha=0.15)
+            if item.legend is not None:  # pyqtgraph's default grey reads faintly on white
+                item.legend.setLabelTextColor(fg)
         if self.runs:
             self._refresh()
