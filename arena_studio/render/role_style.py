@@ -15,6 +15,7 @@ from PySide6.QtCore import QPointF, QRectF, Qt
 from PySide6.QtGui import QColor, QPainter, QPen, QPolygonF
 
 from arena_studio.core.analysis.roles import HEADING, HOLDING, IDLE, MOVING, OFF_GOAL, ROLE_NAMES
+from arena_studio.core.wording import LandmarkNames
 from arena_studio.render.episode_cache import EpisodeCache
 from arena_studio.render.options import FrameOptions
 from arena_studio.render.theme import Theme
@@ -48,8 +49,10 @@ def role_legend(cache: EpisodeCache, options: FrameOptions) -> list[tuple[int, s
     if source == "derived":
         return [(DERIVED_STYLE[c], ROLE_NAMES[c]) for c in range(len(ROLE_NAMES))]
     if source == "tape":
+        names = LandmarkNames.of(cache.scene)  # "heads to valve-west" -> "heads to West valve"
         return [
-            (TAPE_STYLES[i % len(TAPE_STYLES)], name) for i, name in enumerate(cache.tape_labels)
+            (TAPE_STYLES[i % len(TAPE_STYLES)], names.text(name))
+            for i, name in enumerate(cache.tape_labels)
         ]
     return []
 
