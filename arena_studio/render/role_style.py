@@ -5,7 +5,7 @@ hollow body with a dotted ring = idle; triangle badge = off the team goal. Rings
 hard to tell apart at body size, so each role also carries a glyph badge outside the body,
 at its lower right: an arrowhead (heading), a filled square (holding), two pause bars
 (idle). Tape labels take the styles in :data:`TAPE_STYLES` order (plus a plus badge and a
-dashed ring).
+dashed ring), the idle and off-goal looks last.
 """
 
 from __future__ import annotations
@@ -31,8 +31,10 @@ DERIVED_STYLE = {
     IDLE: STYLE_HOLLOW,
     OFF_GOAL: STYLE_BADGE,
 }
-#: tape labels take these styles in order of first appearance
-TAPE_STYLES = (STYLE_RING, STYLE_DOUBLE, STYLE_HOLLOW, STYLE_BADGE, STYLE_SQUARE, STYLE_DASH)
+#: tape labels take these styles in order of first appearance; the looks that say "idle"
+#: (hollow body, pause bars) and "off the team goal" (warning triangle) come last, so a
+#: tape's third or fourth label (say "heads to Potting bench") does not look idle
+TAPE_STYLES = (STYLE_RING, STYLE_DOUBLE, STYLE_SQUARE, STYLE_DASH, STYLE_BADGE, STYLE_HOLLOW)
 #: above this many agents, bodies carry their number
 NUMBER_ABOVE = 6
 
