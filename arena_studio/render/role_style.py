@@ -131,7 +131,7 @@ def paint_role_mark(
         painter.setPen(QPen(color, 1.2 * ui))
         painter.setBrush(theme.qcolor("info"))
         painter.drawEllipse(QPointF(bx, by), s, s)
-        painter.setPen(QPen(color, 1.6 * ui))
+        painter.setPen(QPen(ink_for(theme.qcolor("info")), 1.6 * ui))  # readable on the disc
         painter.drawLine(QPointF(bx - 0.6 * s, by), QPointF(bx + 0.6 * s, by))
         painter.drawLine(QPointF(bx, by - 0.6 * s), QPointF(bx, by + 0.6 * s))
 
