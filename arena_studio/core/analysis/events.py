@@ -51,7 +51,6 @@ def episode_events(
     ids = [a.id for a in scene.agents]
     lm_name = [lm.id if names is None else names.name(lm.id) for lm in scene.landmarks]
     goal = m.goal_key if names is None else names.goal(m.goal_key)
-    said = m.diagnosis if names is None else diagnosis_words(m.diagnosis, names, m.diagnosis_code)
     out: list[Event] = []
     cover = coverage(scene, episode.poses[:, :, :2])  # (T, A, L)
     prev = np.concatenate([np.zeros_like(cover[:1]), cover[:-1]], axis=0)
@@ -79,6 +78,9 @@ def episode_events(
                 shown = label if names is None else names.text(label)
                 out.append(Event(step, "role", a, None, f"{ids[a]} now {shown}"))
     if m.diagnosis is not None and m.diagnosis_step is not None:
+        said = m.diagnosis
+        if names is not None:
+            said = diagnosis_words(said, names, m.diagnosis_code)
         out.append(Event(m.diagnosis_step, "diagnosis", None, None, said))
     order = {k: i for i, k in enumerate(KINDS)}
     out.sort(key=lambda e: (e.step, order[e.kind], -1 if e.agent is None else e.agent))
