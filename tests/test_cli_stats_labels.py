@@ -54,3 +54,12 @@ def test_json_csv_and_parquet_keep_ids(capsys, tmp_path):
     table = pq.read_table(out).to_pydict()
     assert table["goal_key"][0] == "valve-west+potting-bench"
     assert table["diagnosis"][0] == "targets left empty at the end: valve-west+potting-bench"
+
+
+def test_follow_lines_name_landmarks_by_label_and_its_json_keeps_ids(capsys):
+    out = _run(capsys, "--follow")
+    assert "episode    0: failed" in out
+    assert "targets left empty at the end: West valve + Potting bench" in out
+    assert "valve-west" not in out and "potting-bench" not in out
+    first = json.loads(_run(capsys, "--follow", "--json").splitlines()[0])
+    assert first["diagnosis"] == "targets left empty at the end: valve-west+potting-bench"

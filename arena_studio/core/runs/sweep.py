@@ -263,18 +263,18 @@ def _sweep_tape(root: Path, path: Path, pattern: re.Pattern[str] | None) -> Swee
 
 def landmark_names(tapes: list[SweepTape]) -> LandmarkNames:
     """The landmark names of a sweep's tapes, for goals shown by label: read from the header
-    of the first tape of each task (the scene travels in the header); the first label seen
-    for an id is kept, and a header that cannot be read adds nothing."""
+    of the first readable tape of each task (the scene travels in the header); the first
+    label seen for an id is kept, and a header that cannot be read adds nothing."""
     seen: dict[str, str | None] = {}
     tasks: set[str | None] = set()
     for tape in tapes:
         if tape.place.task in tasks:
             continue
-        tasks.add(tape.place.task)
         try:
             header = msgpack.unpackb(read_header_bytes(tape.path), raw=False, strict_map_key=False)
-        except Exception:  # unreadable (msgpack raises several types): no names from it
+        except Exception:  # unreadable (msgpack raises several types): the next tape says
             continue
+        tasks.add(tape.place.task)
         scene = header.get("scene") if isinstance(header, dict) else None
         marks = scene.get("landmarks") if isinstance(scene, dict) else None
         for lm in marks if isinstance(marks, list) else ():
