@@ -76,6 +76,10 @@ def test_ignored_announcement_shows_in_panel_verdict_and_scrub_bar(qtbot, theme)
     # the failed episode's line says what was announced and that the listeners chose else
     verdict = w.verdict_text()
     assert f"announced {said['value']}" in verdict and "although" in verdict
+    # ... naming the goals by label, as the canvas does, in the line and in the heat maps
+    assert names.goal(meaning) in verdict and meaning not in verdict
+    rows = w.messages.cards[0][1].rows
+    assert names.goal(meaning) in rows and meaning not in rows
 
 
 def test_tape_without_structured_messages_keeps_the_panel_hidden(qtbot) -> None:
