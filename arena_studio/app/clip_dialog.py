@@ -33,6 +33,8 @@ from PySide6.QtWidgets import (
 )
 
 from arena_studio.core import limits
+from arena_studio.core.analysis.diagnosis_words import diagnosis_words
+from arena_studio.core.wording import LandmarkNames
 from arena_studio.render.clip import SIZE_PRESETS, ClipCancelled, ClipError, ClipSpec, export_clip
 from arena_studio.render.episode_painter import FrameOptions
 from arena_studio.render.theme import load_theme
@@ -75,17 +77,23 @@ def default_folder(tape_path: Path | None) -> Path:
     return Path.home()
 
 
-def outcome_statement(metrics: Any, index: int, dt: float) -> str:
+def outcome_statement(
+    metrics: Any, index: int, dt: float, names: LandmarkNames | None = None
+) -> str:
     """One plain line on how the episode went, from the metrics' own words (the replay's
-    outcome line says the same): success and time, or the diagnosis and when it happened."""
+    outcome line says the same): success and time, or the diagnosis and when it happened,
+    the landmarks named by ``names`` (the scene's labels)."""
     if metrics is None:
         return ""
-    goal = getattr(metrics, "goal_key", None) or "-"
+    names = names or LandmarkNames(())
+    goal = names.goal(getattr(metrics, "goal_key", None))
     if getattr(metrics, "success", False):
         t = getattr(metrics, "time_to_success", None)
         took = "" if t is None else f" in {t:.1f} s"
         return f"Episode {index} succeeded at goal {goal}{took}."
-    diag = getattr(metrics, "diagnosis", None)
+    diag = diagnosis_words(
+        getattr(metrics, "diagnosis", None), names, getattr(metrics, "diagnosis_code", None)
+    )
     if not diag:
         return f"Episode {index} failed goal {goal}."
     step = getattr(metrics, "diagnosis_step", None)
@@ -278,7 +286,8 @@ class ClipDialog(QDialog):
         """The caption line drawn: the typed caption, then the outcome statement."""
         parts = [self.caption.text().strip()]
         if self.statement.isChecked():
-            parts.append(outcome_statement(self._metrics(index), index, float(self.tape.dt)))
+            names = LandmarkNames.of(self.tape.scene)
+            parts.append(outcome_statement(self._metrics(index), index, float(self.tape.dt), names))
         text = "  ·  ".join(p for p in parts if p)
         return text or None
 

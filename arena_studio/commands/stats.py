@@ -23,6 +23,7 @@ from arena_studio.commands.progress import progress_bar
 from arena_studio.core import limits as lim
 from arena_studio.core.errors import ArenaError
 from arena_studio.core.export.text_safety import csv_cell
+from arena_studio.core.wording import LandmarkNames
 
 HELP = "summarise a tape: success by goal and kind, alignment, diagnoses, per-episode rows"
 
@@ -154,7 +155,9 @@ def run(args: argparse.Namespace) -> int:
 
         ids = [a.id for a in tape.scene.agents]
         lms = [lm.id for lm in tape.scene.landmarks]
-        events = episode_events(tape.scene, tape.episode(args.episode), metrics[0])
+        # JSON keeps the texts by landmark id (as the columns); the text output names them
+        said = None if args.json or args.csv else LandmarkNames.of(tape.scene)
+        events = episode_events(tape.scene, tape.episode(args.episode), metrics[0], said)
         rows[0]["events"] = [
             {
                 "step": e.step,
@@ -229,7 +232,12 @@ def _num(value: float | None, unit: str = "") -> str:
 
 
 def _print_text(tape: Any, summary: dict[str, Any], rows: list[dict[str, Any]]) -> None:
+    """The lines a person reads: goals and diagnoses name landmarks by label (JSON, CSV and
+    Parquet keep the ids)."""
+    from arena_studio.core.analysis.diagnosis_words import diagnosis_words
+
     out = sys.stdout
+    names = LandmarkNames.of(tape.scene)
     hurt = f" and {summary['damaged']} damaged" if summary["damaged"] else ""
     out.write(f"{tape.path}: {summary['episodes']} episode(s){hurt} of '{tape.scene.name}'\n")
     out.write(
@@ -243,7 +251,7 @@ def _print_text(tape: Any, summary: dict[str, Any], rows: list[dict[str, Any]]) 
         spec = summary["specialisation"].get(key)
         extra = f", specialisation {spec:.2f}" if spec is not None else ""
         out.write(
-            f"    {key}: {group['successes']}/{group['episodes']}, mean time "
+            f"    {names.goal(key)}: {group['successes']}/{group['episodes']}, mean time "
             f"{_num(group['mean_time_to_success'], ' s')}{extra}\n"
         )
     if summary["diagnoses"]:
@@ -260,11 +268,11 @@ def _print_text(tape: Any, summary: dict[str, Any], rows: list[dict[str, Any]]) 
             continue
         ok = "yes" if r["success"] else "no"
         aligned = "-" if r["aligned"] is None else ("yes" if r["aligned"] else "no")
-        diag = r["diagnosis"] or ""
+        diag = diagnosis_words(r["diagnosis"], names, r.get("diagnosis_code"))
         if r["diagnosis_step"] is not None:
             diag = f"{diag} (step {r['diagnosis_step']})"
         out.write(
-            f"{r['index']:>3}  {(r['goal_key'] or '-')[:30]:<30} {ok:<4} "
+            f"{r['index']:>3}  {names.goal(r['goal_key'])[:30]:<30} {ok:<4} "
             f"{_num(r['time_to_success']):>6} {_num(r['par_ratio']):>6}  {aligned:<7}  {diag}\n"
         )
         for e in r.get("events", ()):

@@ -20,6 +20,7 @@ from typing import Any
 from arena_studio.commands.common import EXIT_OK, CommandError, warning_line
 from arena_studio.core.errors import ArenaError
 from arena_studio.core.export.text_safety import csv_cell
+from arena_studio.core.wording import LandmarkNames
 
 Sleep = Callable[[float], None]
 
@@ -51,12 +52,13 @@ def run_follow(args: argparse.Namespace, sleep: Sleep | None = None) -> int:
         state = "being written" if tape.path != tape.final else "finished"
         print(f"{tape.path}: following ({state}); Ctrl+C stops", file=sys.stderr)
     metrics: list[Any] = []
+    names = LandmarkNames.of(tape.scene)  # the lines a person reads name landmarks by label
     try:
         while True:
             for i in tape.poll():
                 m = episode_metrics(tape.scene, tape.episode(i))
                 metrics.append(m)
-                _emit(args, table, m.to_dict(), metrics, ROW_FIELDS, _clean)
+                _emit(args, table, m.to_dict(), metrics, ROW_FIELDS, _clean, names)
             out.flush()
             if not tape.recording:
                 break
@@ -82,6 +84,7 @@ def _emit(
     metrics: list[Any],
     fields: tuple[str, ...],
     clean: Callable[[Any], Any],
+    names: LandmarkNames,
 ) -> None:
     if table is not None:
         table.writerow(["" if row.get(k) is None else csv_cell(row[k]) for k in fields])
@@ -90,7 +93,10 @@ def _emit(
     else:
         ok = sum(1 for m in metrics if m.success)
         aligned = [m.aligned for m in metrics if m.aligned is not None]
-        diag = f", {row['diagnosis']}" if row["diagnosis"] else ""
+        from arena_studio.core.analysis.diagnosis_words import diagnosis_words
+
+        said = diagnosis_words(row["diagnosis"], names, row.get("diagnosis_code"))
+        diag = f", {said}" if said else ""
         rate = f"{100 * sum(aligned) / len(aligned):.0f}%" if aligned else "-"
         print(
             f"episode {row['index']:>4}: {'success' if row['success'] else 'failed '} "

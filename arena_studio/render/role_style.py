@@ -5,7 +5,7 @@ hollow body with a dotted ring = idle; triangle badge = off the team goal. Rings
 hard to tell apart at body size, so each role also carries a glyph badge outside the body,
 at its lower right: an arrowhead (heading), a filled square (holding), two pause bars
 (idle). Tape labels take the styles in :data:`TAPE_STYLES` order (plus a plus badge and a
-dashed ring).
+dashed ring), the idle and off-goal looks last.
 """
 
 from __future__ import annotations
@@ -15,6 +15,7 @@ from PySide6.QtCore import QPointF, QRectF, Qt
 from PySide6.QtGui import QColor, QPainter, QPen, QPolygonF
 
 from arena_studio.core.analysis.roles import HEADING, HOLDING, IDLE, MOVING, OFF_GOAL, ROLE_NAMES
+from arena_studio.core.wording import LandmarkNames
 from arena_studio.render.episode_cache import EpisodeCache
 from arena_studio.render.options import FrameOptions
 from arena_studio.render.theme import Theme
@@ -30,8 +31,10 @@ DERIVED_STYLE = {
     IDLE: STYLE_HOLLOW,
     OFF_GOAL: STYLE_BADGE,
 }
-#: tape labels take these styles in order of first appearance
-TAPE_STYLES = (STYLE_RING, STYLE_DOUBLE, STYLE_HOLLOW, STYLE_BADGE, STYLE_SQUARE, STYLE_DASH)
+#: tape labels take these styles in order of first appearance; the looks that say "idle"
+#: (hollow body, pause bars) and "off the team goal" (warning triangle) come last, so a
+#: tape's third or fourth label (say "heads to Potting bench") does not look idle
+TAPE_STYLES = (STYLE_RING, STYLE_DOUBLE, STYLE_SQUARE, STYLE_DASH, STYLE_BADGE, STYLE_HOLLOW)
 #: above this many agents, bodies carry their number
 NUMBER_ABOVE = 6
 
@@ -48,8 +51,10 @@ def role_legend(cache: EpisodeCache, options: FrameOptions) -> list[tuple[int, s
     if source == "derived":
         return [(DERIVED_STYLE[c], ROLE_NAMES[c]) for c in range(len(ROLE_NAMES))]
     if source == "tape":
+        names = LandmarkNames.of(cache.scene)  # "heads to valve-west" -> "heads to West valve"
         return [
-            (TAPE_STYLES[i % len(TAPE_STYLES)], name) for i, name in enumerate(cache.tape_labels)
+            (TAPE_STYLES[i % len(TAPE_STYLES)], names.text(name))
+            for i, name in enumerate(cache.tape_labels)
         ]
     return []
 
@@ -126,7 +131,7 @@ def paint_role_mark(
         painter.setPen(QPen(color, 1.2 * ui))
         painter.setBrush(theme.qcolor("info"))
         painter.drawEllipse(QPointF(bx, by), s, s)
-        painter.setPen(QPen(color, 1.6 * ui))
+        painter.setPen(QPen(ink_for(theme.qcolor("info")), 1.6 * ui))  # readable on the disc
         painter.drawLine(QPointF(bx - 0.6 * s, by), QPointF(bx + 0.6 * s, by))
         painter.drawLine(QPointF(bx, by - 0.6 * s), QPointF(bx, by + 0.6 * s))
 

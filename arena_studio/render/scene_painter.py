@@ -30,6 +30,7 @@ from arena_studio.core.geometry.regions import (
     walkable_area,
 )
 from arena_studio.core.scene.model import Landmark, Scene
+from arena_studio.core.wording import LandmarkNames
 from arena_studio.render.drawing import font, geometry_path, label, nice_step
 from arena_studio.render.paint_guard import guarded, saved
 from arena_studio.render.theme import Theme
@@ -306,7 +307,8 @@ def paint_landmark_labels(
     qfont = font(12 * ui_scale)
     backdrop = theme.qcolor("room_fill", alpha=0.8)
     color = theme.qcolor("landmark_text")
-    texts = [lm.label or lm.id for lm in scene.landmarks]
+    names = LandmarkNames.of(scene)  # as every sentence names them (duplicates told apart)
+    texts = [names.name(lm.id) for lm in scene.landmarks]
     places = label_places(scene, view, ui_scale, size, starts, keep_out)
     for place, text in zip(places, texts, strict=True):
         x0, y0, x1, y1 = place.box
@@ -338,9 +340,10 @@ def label_places(
     ``keep_out``: pixel rectangles (x0, y0, x1, y1) to keep clear of."""
     metrics = QFontMetricsF(font(12 * ui_scale))
     px = 1.0 / view.scale  # metres per pixel
+    names = LandmarkNames.of(scene)
     sizes = [
         (
-            (metrics.horizontalAdvance(lm.label or lm.id) + 2 * LABEL_PAD) * px,
+            (metrics.horizontalAdvance(names.name(lm.id)) + 2 * LABEL_PAD) * px,
             (metrics.height() + 2 * LABEL_PAD) * px,
         )
         for lm in scene.landmarks

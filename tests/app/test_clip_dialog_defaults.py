@@ -12,9 +12,11 @@ import pytest
 from PIL import Image
 
 from arena_studio.app.clip_dialog import HINT, KINDS, ClipDialog, default_folder
+from arena_studio.core.analysis.diagnosis_words import diagnosis_words
 from arena_studio.core.analysis.metrics import episode_metrics
 from arena_studio.core.resources import demo_path
 from arena_studio.core.tape import open_tape
+from arena_studio.core.wording import LandmarkNames
 
 from .test_replay_support import write_test_tape
 
@@ -31,7 +33,10 @@ def test_a_failed_episode_defaults_to_its_diagnosis(qtbot, tape):
     qtbot.addWidget(dialog)
     assert dialog.moment.value() == pytest.approx(m.diagnosis_step * tape.dt, abs=0.01)
     caption = dialog.frame_options().caption
-    assert caption is not None and "failed" in caption and m.diagnosis in caption
+    # the statement says the metrics' diagnosis with the landmarks named by label
+    said = diagnosis_words(m.diagnosis, LandmarkNames.of(tape.scene), m.diagnosis_code)
+    assert caption is not None and "failed" in caption and said in caption
+    assert m.goal_key not in caption and "West valve + East valve" in caption
     dialog.caption.setText("Run 12")
     assert dialog.frame_options().caption.startswith("Run 12")
     dialog.statement.setChecked(False)

@@ -18,6 +18,7 @@ from arena_studio.app.replay.summary import summarise_episode
 from arena_studio.core.analysis.events import episode_events
 from arena_studio.core.analysis.metrics import episode_metrics, summarize_metrics
 from arena_studio.core.tape import open_tape
+from arena_studio.core.wording import LandmarkNames
 
 from .test_replay_support import small_scene, straight_episode
 
@@ -52,7 +53,7 @@ def test_timeline_marks_are_the_core_event_list():
     ep = tape.episode(2)
     m = episode_metrics(tape.scene, ep)
     marks = episode_event_marks(tape.scene, ep, m)
-    ref = episode_events(tape.scene, ep, m)
+    ref = episode_events(tape.scene, ep, m, LandmarkNames.of(tape.scene))  # labels, as shown
     key = lambda e: (e.step, -1 if e.agent is None else e.agent, e.landmark or -1, e.text)  # noqa: E731
     assert sorted(map(key, ref)) == sorted(map(key, marks))
     assert {normalise_kind(e.kind) for e in ref} == {k.kind for k in marks}

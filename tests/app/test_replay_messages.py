@@ -17,6 +17,7 @@ from arena_studio.app.replay.replay_window import ReplayWindow
 from arena_studio.core.analysis.messages import message_report
 from arena_studio.core.analysis.metrics import episode_metrics
 from arena_studio.core.tape import open_tape
+from arena_studio.core.wording import LandmarkNames
 from arena_studio.render.theme import load_theme
 
 REPO = Path(__file__).resolve().parents[2]
@@ -62,8 +63,11 @@ def test_ignored_announcement_shows_in_panel_verdict_and_scrub_bar(qtbot, theme)
     lms = [lm.id for lm in tape.scene.landmarks]
     ref = message_report(list(tape), ids, lms, permutations=50, resamples=50)
     meaning = ref.meaning_of(said["from"], said["value"])
+    names = LandmarkNames.of(tape.scene)
     text = w.messages.episode_label.text()
-    assert f"<b>{said['value']}</b>" in text and meaning in text
+    # the usual meaning is a goal key (ids); the panel names its landmarks by label
+    assert f"<b>{said['value']}</b>" in text and names.goal(meaning) in text
+    assert meaning not in text
     assert "did not follow" in text
     # the overview: one speaker card and one per listener, ignored pairs flagged
     assert len(w.messages.cards) == 1 + len(ref.pairs)
@@ -72,6 +76,10 @@ def test_ignored_announcement_shows_in_panel_verdict_and_scrub_bar(qtbot, theme)
     # the failed episode's line says what was announced and that the listeners chose else
     verdict = w.verdict_text()
     assert f"announced {said['value']}" in verdict and "although" in verdict
+    # ... naming the goals by label, as the canvas does, in the line and in the heat maps
+    assert names.goal(meaning) in verdict and meaning not in verdict
+    rows = w.messages.cards[0][1].rows
+    assert names.goal(meaning) in rows and meaning not in rows
 
 
 def test_tape_without_structured_messages_keeps_the_panel_hidden(qtbot) -> None:

@@ -7,6 +7,7 @@ agent's position is compared with the theme's identity colour read from the pale
 
 from __future__ import annotations
 
+import html
 from pathlib import Path
 
 import numpy as np
@@ -14,8 +15,10 @@ import pytest
 from PySide6.QtCore import QPoint, QPointF, Qt
 
 from arena_studio.app.replay.replay_window import ReplayWindow
+from arena_studio.core.analysis.diagnosis_words import diagnosis_words
 from arena_studio.core.analysis.metrics import episode_metrics
 from arena_studio.core.tape import open_tape
+from arena_studio.core.wording import LandmarkNames
 
 from .test_replay_support import write_test_tape
 
@@ -69,7 +72,8 @@ def test_failed_cooperative_episode_diagnosis_and_canvas_state(qtbot, tmp_path):
         qtbot.keyClick(w, Qt.Key.Key_D)  # go to diagnosis
         ref = episode_metrics(tape.scene, tape.episode(row.index))
         assert w.clock.step == ref.diagnosis_step == row.diagnosis_step
-        assert ref.diagnosis in w.verdict.text()
+        said = diagnosis_words(ref.diagnosis, LandmarkNames.of(tape.scene), ref.diagnosis_code)
+        assert html.escape(said) in w.verdict.text()
         w.canvas.viewport().repaint()
         assert w.canvas.layer_episode.painted_step == ref.diagnosis_step
         poses = tape.episode(row.index).poses[ref.diagnosis_step]

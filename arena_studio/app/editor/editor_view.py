@@ -11,6 +11,7 @@ from PySide6.QtCore import QObject, Signal
 
 from arena_studio.app.editor.document import SceneDocument
 from arena_studio.core.scene.model import Scene
+from arena_studio.core.wording import LandmarkNames
 from arena_studio.editing import edits as edits
 from arena_studio.editing.edits import ObjKey, Point
 from arena_studio.editing.snapping import Snap, SnapSettings, snap_point
@@ -122,11 +123,9 @@ class Editor(QObject):
         picks = list(self.goal_picks)
         picks.remove(landmark_id) if landmark_id in picks else picks.append(landmark_id)
         self.goal_picks = tuple(picks)
-        names = {lm.id: lm.label or lm.id for lm in self.scene.landmarks}
         if picks:
-            self.message(
-                "New goal: " + " + ".join(names.get(i, i) for i in picks) + " (Enter adds it)"
-            )
+            names = LandmarkNames.of(self.scene)
+            self.message(f"New goal: {names.goal(picks)} (Enter adds it)")
         else:
             self.message("No landmarks picked")
         self.goalPicksChanged.emit()

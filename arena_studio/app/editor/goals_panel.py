@@ -29,6 +29,7 @@ from PySide6.QtWidgets import (
 from arena_studio.app.editor.editor_view import Editor
 from arena_studio.app.editor.fields import NumberField
 from arena_studio.core.scene.model import RULES, Scene
+from arena_studio.core.wording import LandmarkNames
 from arena_studio.editing import edits as edits
 from arena_studio.editing.goal_rows import goal_rows
 
@@ -228,7 +229,8 @@ class GoalsPanel(QWidget):
             header.setSectionResizeMode(c, QHeaderView.ResizeMode.Interactive)
         self.table.setUpdatesEnabled(False)
         self.table.setRowCount(shown)
-        names = [lm.label or lm.id for lm in scene.landmarks]
+        named = LandmarkNames.of(scene)
+        names = [named.name(lm.id) for lm in scene.landmarks]
         for i, row in enumerate(rows[:shown]):
             targets = " + ".join(names[t] for t in row.targets if t < len(names))
             plan = plans[i] if plans else None
@@ -271,9 +273,9 @@ class GoalsPanel(QWidget):
         picked = self.editor.goal_picks
         picking = self.editor.tool.name == "tool.goal_pick"
         self.add_button.setEnabled(picking and bool(picked))  # only in pick mode, with picks
-        names = {lm.id: lm.label or lm.id for lm in self.editor.scene.landmarks}
+        names = LandmarkNames.of(self.editor.scene)
         if picked:
-            text = "New goal: " + " + ".join(names.get(i, i) for i in picked)
+            text = "New goal: " + names.goal(picked)
         elif picking:
             text = "New goal: click landmarks on the canvas."
         else:

@@ -17,6 +17,7 @@ from PySide6.QtWidgets import QHBoxLayout, QSizePolicy, QWidget
 
 from arena_studio.app.replay.batch_stats import BatchStats, GoalStat, Occupancy
 from arena_studio.core.scene.model import Scene
+from arena_studio.core.wording import LandmarkNames
 from arena_studio.render.paint_guard import guarded_paint_event
 from arena_studio.render.scene_painter import SceneOptions, paint_scene
 from arena_studio.render.theme import Theme, load_theme
@@ -124,7 +125,8 @@ class GoalGrid(QWidget):
             p.drawText(self.rect(), Qt.AlignmentFlag.AlignCenter, "No scored episodes yet")
             p.end()
             return
-        labels = [lm.label or lm.id for lm in self._scene.landmarks]
+        names = LandmarkNames.of(self._scene)  # labels, told apart when two are the same
+        labels = [names.name(lm.id) for lm in self._scene.landmarks]
         n = len(labels)
         small = [g for g in self._stats.goals if len(g.goal) <= 2]
         large = [g for g in self._stats.goals if len(g.goal) > 2]

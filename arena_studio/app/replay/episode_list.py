@@ -254,7 +254,7 @@ class EpisodeFilterProxy(QSortFilterProxyModel):
         if self._goal is not None and s.goal != self._goal:
             return False
         if self._text:
-            hay = f"{s.goal_label} {s.diagnosis or ''} {s.damage or ''}".lower()
+            hay = f"{s.goal_label} {s.diagnosis or ''} {s.search_ids} {s.damage or ''}".lower()
             if not all(word in hay for word in self._text.split()):
                 return False
         p = self._preset

@@ -13,6 +13,7 @@ from arena_studio.core.analysis.events import episode_events
 from arena_studio.core.analysis.messages import episode_messages, value_text
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.episode import Episode
+from arena_studio.core.wording import LandmarkNames
 
 MAX_EVENTS = 5000  # beyond this the timeline would be a solid bar; keep the first ones
 
@@ -20,8 +21,9 @@ MAX_EVENTS = 5000  # beyond this the timeline would be a solid bar; keep the fir
 def episode_event_marks(
     scene: Scene, episode: Episode, metrics: Any = None
 ) -> tuple[EventMark, ...]:
+    names = LandmarkNames.of(scene)  # the timeline names landmarks as the canvas does
     marks = message_marks(scene, episode) + event_marks(
-        scene, episode_events(scene, episode, metrics)
+        scene, episode_events(scene, episode, metrics, names)
     )
     return marks[:MAX_EVENTS]
 

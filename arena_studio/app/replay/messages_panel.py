@@ -30,6 +30,7 @@ from arena_studio.core.analysis.messages import (
     value_text,
 )
 from arena_studio.core.scene.model import Scene
+from arena_studio.core.wording import LandmarkNames
 from arena_studio.render.paint_guard import guarded_paint_event
 from arena_studio.render.theme import Theme
 
@@ -80,11 +81,13 @@ class HeatMap(QWidget):
         counts: Any,
         meaning: dict[str, str],
         axis: str,
+        names: LandmarkNames | None = None,
     ) -> None:
-        """``counts[value][goal]`` as the report stores it; drawn goals x values."""
+        """``counts[value][goal]`` as the report stores it (goals by landmark ids); drawn
+        goals x values, the goals named by ``names``."""
         cols = value_order(values)
         rows = goal_order(goals, values, meaning)
-        self.rows = [goals[i] for i in rows]
+        self.rows = [goals[i] if names is None else names.goal(goals[i]) for i in rows]
         self.cols = [values[j] for j in cols]
         self.counts = [[int(counts[j][i]) for j in cols] for i in rows]
         self.axis = axis
@@ -263,7 +266,8 @@ class MessagesPanel(QWidget):
         label = self._label()
         label.setText(text)
         heat = HeatMap(self.theme, self.body)
-        heat.set_table(goals, values, counts, meaning, axis)
+        names = None if self.scene is None else LandmarkNames.of(self.scene)
+        heat.set_table(goals, values, counts, meaning, axis, names)
         self.layout_.insertWidget(at, label)
         self.layout_.insertWidget(at + 1, heat)
         self.cards.append((label, heat))
@@ -306,6 +310,7 @@ class MessagesPanel(QWidget):
         self.episode_label.setText(self.episode_text(scene, episode))
 
     def episode_text(self, scene: Scene, episode: Any) -> str:
+        names = LandmarkNames.of(scene)
         ids = [a.id for a in scene.agents]
         lms = [lm.id for lm in scene.landmarks]
         msgs = episode_messages(episode, ids, strict=False)
@@ -318,7 +323,7 @@ class MessagesPanel(QWidget):
             when = "before the episode" if m.step is None else f"at step {m.step}"
             usual = None if self.report is None else self.report.meaning_of(m.sender, m.value)
             means = (
-                f" \u2014 across the tape it usually means <b>{html.escape(usual)}</b>"
+                f" \u2014 across the tape it usually means <b>{html.escape(names.goal(usual))}</b>"
                 if usual
                 else ""
             )
@@ -327,12 +332,18 @@ class MessagesPanel(QWidget):
                 f"<b>{html.escape(value_text(m.value))}</b>{means}."
             )
             if m.step is None and announcement(msgs, m.sender, None) is m:
-                line += self._choices(episode, ids, lms, m, usual)
+                line += self._choices(episode, ids, lms, m, usual, names)
             rows.append(f"<li>{line}</li>")
         return head + "<ul style='margin-left:-20px'>" + "".join(rows) + "</ul>"
 
     def _choices(
-        self, episode: Any, ids: list[str], lms: list[str], m: Any, usual: str | None
+        self,
+        episode: Any,
+        ids: list[str],
+        lms: list[str],
+        m: Any,
+        usual: str | None,
+        names: LandmarkNames,
     ) -> str:
         parts = []
         for a, agent in enumerate(ids):
@@ -344,7 +355,7 @@ class MessagesPanel(QWidget):
             if usual is not None and agent != m.sender:
                 mark = " (followed)" if chose == usual else " (<b>did not follow</b>)"
             who = "itself pursued" if agent == m.sender else "chose"
-            parts.append(f"{html.escape(agent)} {who} {html.escape(chose)}{mark}")
+            parts.append(f"{html.escape(agent)} {who} {html.escape(names.goal(chose))}{mark}")
         return "<br>&nbsp;&nbsp;" + "; ".join(parts) if parts else ""
 
 

@@ -16,6 +16,7 @@ from PySide6.QtWidgets import QLabel, QVBoxLayout, QWidget
 from arena_studio.app.replay.prepared import PreparedEpisode
 from arena_studio.app.replay.transport import PlaybackClock
 from arena_studio.core.scene.model import Scene
+from arena_studio.core.wording import LandmarkNames
 from arena_studio.render.theme import Theme, load_theme
 
 MAX_PLOT_POINTS = 4000  # long episodes are decimated for drawing (the data stay intact)
@@ -83,9 +84,9 @@ class PlotsPanel(QWidget):
         dist = self._add_plot("distance", "to target (m)", first)
         first = dist
         styles = (Qt.PenStyle.SolidLine, Qt.PenStyle.DashLine, Qt.PenStyle.DotLine)
+        names = LandmarkNames.of(scene)
         for (agent, lm), d in sorted(prepared.distances.items()):
-            landmark = scene.landmarks[lm]
-            name = f"{_agent_name(scene, agent)} → {landmark.label or landmark.id}"
+            name = f"{_agent_name(scene, agent)} → {names.name(scene.landmarks[lm].id)}"
             k = prepared.targets[agent].index(lm) if lm in prepared.targets[agent] else 0
             pen = pg.mkPen(self._theme.agent_color(agent), width=2, style=styles[k % 3])
             tt, dd = decimate(t, d)

@@ -14,6 +14,7 @@ import numpy as np
 
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.episode import Episode
+from arena_studio.core.wording import LandmarkNames
 
 #: event kinds the timeline knows how to draw; anything else is drawn as "other"
 EVENT_KINDS: tuple[str, ...] = (
@@ -103,11 +104,8 @@ def goal_label(scene: Scene, goal: np.ndarray | None) -> str:
     targets = goal_targets(goal)
     if not targets:
         return "-"
-    return " + ".join(
-        scene.landmarks[i].label or scene.landmarks[i].id
-        for i in targets
-        if i < len(scene.landmarks)
-    )
+    lms = scene.landmarks
+    return LandmarkNames.of(scene).goal([lms[i].id for i in targets if i < len(lms)])
 
 
 @dataclass(frozen=True, eq=False)
@@ -177,7 +175,10 @@ def prepare_episode(
         distances=distances,
         events=event_marks(scene, events),
         metrics=metrics,
-        extra={"who_went_where": _who_went_where(scene, episode, metrics)},
+        extra={
+            "who_went_where": _who_went_where(scene, episode, metrics),
+            "names": LandmarkNames.of(scene),  # landmarks as every sentence names them
+        },
     )
 
 

@@ -32,6 +32,7 @@ from arena_studio.app.scene_items import WORLD
 from arena_studio.core.analysis.roles import ROLE_NAMES
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.episode import Episode
+from arena_studio.core.wording import LandmarkNames
 from arena_studio.render.episode_cache import episode_cache
 from arena_studio.render.episode_painter import FrameOptions, paint_episode_frame, paint_legend
 from arena_studio.render.paint_guard import guarded, saved
@@ -444,8 +445,11 @@ class ReplayCanvas(SceneCanvas):
         step = min(max(self.step, 0), ep.steps - 1)
         x, y, heading = (float(v) for v in ep.poses[step, agent])
         name = scene.agents[agent].id if agent < len(scene.agents) else f"agent {agent + 1}"
+        names = LandmarkNames.of(scene)
         role = ep.role_at(agent, step)
-        if role is None:
+        if role is not None:
+            role = names.text(role)  # a tape's own label may name landmarks by id
+        else:
             cache = episode_cache(scene, ep)
             role = f"{ROLE_NAMES[int(cache.roles[step, agent])]} (derived)"
         lines = [
@@ -458,6 +462,6 @@ class ReplayCanvas(SceneCanvas):
             lines.append(f"reward so far {prep.reward_so_far[step, agent]:.3g}")
         targets = prep.targets[agent] if agent < len(prep.targets) else ()
         if targets:
-            names = ", ".join(scene.landmarks[i].label or scene.landmarks[i].id for i in targets)
-            lines.append(f"pursues {names}")
+            lms = scene.landmarks
+            lines.append(f"pursues {names.goal([lms[i].id for i in targets if i < len(lms)])}")
         return "<br>".join(lines)

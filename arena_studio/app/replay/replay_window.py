@@ -459,10 +459,12 @@ class ReplayWindow(QMainWindow):
             self.verdict.explain = None
         else:
             from arena_studio.core.analysis.messages import explain_choice
+            from arena_studio.core.wording import LandmarkNames
 
             ids = [a.id for a in scene.agents]
             lms = [lm.id for lm in scene.landmarks]
-            self.verdict.explain = lambda ep: explain_choice(report, ep, ids, lms)
+            said = LandmarkNames.of(scene).names()  # landmarks by label, as on the canvas
+            self.verdict.explain = lambda ep: explain_choice(report, ep, ids, lms, said)
         if self.prepared is not None:
             self.messages.set_episode(scene, self.prepared.episode)
         self._update_verdict()

@@ -12,8 +12,10 @@ from typing import Any
 import numpy as np
 
 from arena_studio.app.replay.prepared import goal_label, goal_targets
+from arena_studio.core.analysis.diagnosis_words import diagnosis_words
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.episode import Episode
+from arena_studio.core.wording import LandmarkNames
 
 
 @dataclass(frozen=True)
@@ -26,7 +28,9 @@ class EpisodeSummary:
     time_to_success: float | None = None
     par_ratio: float | None = None
     aligned: bool | None = None
-    diagnosis: str | None = None
+    diagnosis: str | None = None  # as a person reads it: landmarks by label
+    #: the goal and diagnosis by landmark id, so a search for an id finds the row too
+    search_ids: str = ""
     diagnosis_step: int | None = None
     steps: int | None = None
     loaded: bool = False  # False: placeholder row while metrics are being computed
@@ -71,7 +75,8 @@ def _opt_bool(value: Any) -> bool | None:
 
 def summary_from_metrics(scene: Scene, episode: Episode, metrics: Any) -> EpisodeSummary:
     """Build a row from an ``EpisodeMetrics`` (read by attribute name, per api_contracts)."""
-    diag = getattr(metrics, "diagnosis", None)
+    names = LandmarkNames.of(scene)
+    diag, code = getattr(metrics, "diagnosis", None), getattr(metrics, "diagnosis_code", None)
     diag_step = getattr(metrics, "diagnosis_step", None)
     # the goal the metrics judged (the team goal, or the shared pursued goal when none)
     goal = getattr(metrics, "goal", None)
@@ -90,7 +95,8 @@ def summary_from_metrics(scene: Scene, episode: Episode, metrics: Any) -> Episod
         time_to_success=_opt_float(getattr(metrics, "time_to_success", None)),
         par_ratio=_opt_float(getattr(metrics, "par_ratio", None)),
         aligned=_opt_bool(getattr(metrics, "aligned", None)),
-        diagnosis=None if diag is None else str(diag),
+        diagnosis=None if diag is None else diagnosis_words(str(diag), names, code),
+        search_ids=f"{getattr(metrics, 'goal_key', None) or ''} {diag or ''}",
         diagnosis_step=None if diag_step is None else int(diag_step),
         steps=episode.steps,
         loaded=True,

@@ -17,6 +17,8 @@ from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QLabel, QWidget
 
 from arena_studio.app.replay.prepared import PreparedEpisode
+from arena_studio.core.analysis.diagnosis_words import diagnosis_words
+from arena_studio.core.wording import LandmarkNames
 from arena_studio.render.theme import Theme
 
 #: longest outcome text shown (characters); a simulator may report a lot
@@ -64,17 +66,18 @@ def _verdict(p: PreparedEpisode, theme: Theme, lead: str, step: int, link: bool)
     if m is None:
         return f"{lead} {ep.index}: {ep.steps} steps, {ep.duration:.1f} s."
     err = theme.hex("error")[:7]
-    goal = getattr(m, "goal_key", None) or "-"
+    names = p.extra.get("names") or LandmarkNames(())
+    goal = names.goal(getattr(m, "goal_key", None))
     if getattr(m, "success", False):
         t = getattr(m, "time_to_success", None)
         ratio = getattr(m, "par_ratio", None)
         extra = f" (par time / time taken = {ratio:.2f})" if ratio else ""
         took = "" if t is None else f" in {t:.1f} s"
-        return f"{lead} {ep.index} <b>succeeded</b> at goal {goal}{took}{extra}."
-    diag = getattr(m, "diagnosis", None)
+        return f"{lead} {ep.index} <b>succeeded</b> at goal {html.escape(goal)}{took}{extra}."
+    diag = diagnosis_words(getattr(m, "diagnosis", None), names, getattr(m, "diagnosis_code", None))
     dstep = getattr(m, "diagnosis_step", None)
     if not diag:
-        return f"{lead} {ep.index} <b style='color:{err}'>failed</b> goal {goal}."
+        return f"{lead} {ep.index} <b style='color:{err}'>failed</b> goal {html.escape(goal)}."
     when = "" if dstep is None else f" at {dstep * ep.dt:.1f} s"
     seen = dstep is not None and step >= dstep
     ink = theme.hex("text")[:7]  # the default link blue is unreadable on a dark red band
@@ -83,7 +86,8 @@ def _verdict(p: PreparedEpisode, theme: Theme, lead: str, step: int, link: bool)
         if link and not seen
         else ""
     )
-    return f"{lead} {ep.index} <b style='color:{err}'>failed</b> goal {goal}: {diag}{when}.{go}"
+    said = f"{html.escape(goal)}: {html.escape(diag)}"
+    return f"{lead} {ep.index} <b style='color:{err}'>failed</b> goal {said}{when}.{go}"
 
 
 class VerdictLine(QLabel):

@@ -20,6 +20,7 @@ from typing import Any
 from PySide6.QtCore import QObject, QTimer, Signal
 
 from arena_studio.core.errors import ArenaError
+from arena_studio.core.wording import LandmarkNames
 
 
 @dataclass
@@ -31,6 +32,7 @@ class SweepData:
     problems: list[str] = field(default_factory=list)
     recording: list[Path] = field(default_factory=list)
     folders: list[Path] = field(default_factory=list)  # to watch for new tapes
+    names: LandmarkNames = field(default_factory=lambda: LandmarkNames(()))  # goals by label
 
 
 class SweepLoader(QObject):
@@ -80,6 +82,7 @@ class SweepLoader(QObject):
 
     def _run(self, token: int, path: Path) -> None:
         from arena_studio.core.runs import Execution, FigureCache, load_runs, scan_sweep
+        from arena_studio.core.runs.sweep import landmark_names
 
         try:
             sweep = scan_sweep(path)
@@ -93,6 +96,7 @@ class SweepLoader(QObject):
 
             cache = FigureCache(sweep.root) if self.use_cache else None
             runs, problems = load_runs(sweep, Execution(processes=1), cache, advance)
+            names = landmark_names(sweep.ready)
         except (ArenaError, OSError) as exc:
             self._news.put(("failed", token, str(exc)))
             return
@@ -106,5 +110,6 @@ class SweepLoader(QObject):
             problems=problems,
             recording=[t.path for t in sweep.recording],
             folders=folders,
+            names=names,
         )
         self._news.put(("loaded", token, data))

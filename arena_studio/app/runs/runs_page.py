@@ -37,6 +37,7 @@ from PySide6.QtWidgets import (
 from arena_studio.app.runs.loading import SweepData, SweepLoader
 from arena_studio.core.runs import Settings, curve_rows, final_comparison, metric_names
 from arena_studio.core.runs.analysis import Run, goal_matrix
+from arena_studio.core.wording import LandmarkNames
 from arena_studio.render.theme import Theme, load_theme
 
 #: bootstrap replicates drawn at once after every change (the app stays responsive) ...
@@ -375,7 +376,8 @@ class RunsPage(QWidget):
             return
         self.heat_image.setImage(self._heat_rgba(m.values), autoLevels=False)
         self.heat_image.setRect(0, 0, len(m.steps), len(m.goals))
-        plot.getAxis("left").setTicks([[(i + 0.5, g) for i, g in enumerate(m.goals)]])
+        names = self._names()
+        plot.getAxis("left").setTicks([[(i + 0.5, names.goal(g)) for i, g in enumerate(m.goals)]])
         every = max(1, len(m.steps) // 6)
         plot.getAxis("bottom").setTicks(
             [[(j + 0.5, str(s)) for j, s in enumerate(m.steps) if j % every == 0]]
@@ -419,18 +421,28 @@ class RunsPage(QWidget):
         for r in runs:
             failed = r.figures.failed_cooperative
             text = (
-                f"seed {r.key('seed')}  {metric} {_fmt(r.value(metric))}  "
+                f"seed {r.key('seed')}  {self._metric_words(metric)} {_fmt(r.value(metric))}  "
                 f"{len(failed)} failed cooperative  {r.tape.path.name}"
             )
             item = QListWidgetItem(text)
             item.setData(Qt.ItemDataRole.UserRole, (str(r.tape.path), list(failed)))
             item.setToolTip(str(r.tape.path))
             self.tape_list.addItem(item)
-        where = f"{group} at step {step}" + (f", goal {goal}" if goal else "")
+        where = f"{group} at step {step}" + (f", goal {self._names().goal(goal)}" if goal else "")
         self.tapes_label.setText(f"{len(runs)} tape(s) of {where}, worst first")
         if runs:
             self.tape_list.setCurrentRow(0)
         return runs
+
+    def _names(self) -> LandmarkNames:
+        """The sweep's landmark names (goals are stored as ids joined by "+")."""
+        return LandmarkNames(()) if self.data is None else self.data.names
+
+    def _metric_words(self, metric: str) -> str:
+        """A figure's name as a person reads it: "goal:a+b" -> "goal A + B"."""
+        if metric.startswith("goal:"):
+            return f"goal {self._names().goal(metric[5:])}"
+        return metric
 
     def open_selected_tape(self) -> None:
         item = self.tape_list.currentItem()

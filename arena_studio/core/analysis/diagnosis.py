@@ -32,6 +32,16 @@ if TYPE_CHECKING:
 
 STUCK_SECONDS = 2.0
 CODES = ("misaligned", "duplicate-target", "not-together", "time-ran-out", "stuck", "uncovered")
+#: each diagnosis's sentence with its slots; landmarks go in by id (the diagnosis is data
+#: that tables and exports keep), and ``diagnosis_words.diagnosis_words`` puts the labels
+#: into the same slots for a person to read
+SENTENCES = {
+    "misaligned": "agents pursued different goals ({wanted})",
+    "duplicate-target": "{agents} went to {target} while {empty} stayed empty",
+    "time-ran-out": "time ran out while {agents} still moved towards {empty}",
+    "stuck": "{agents} stopped at {at} away from every target while {empty} stayed empty",
+    "uncovered": "targets left empty at the end: {empty}",
+}
 
 
 @dataclass(frozen=True)
@@ -96,7 +106,7 @@ def diagnose(
         lead = f"team goal {_goal_words(scene, team)}; " if team is not None else ""
         return Diagnosis(
             "misaligned",
-            f"agents pursued different goals ({lead}{wanted})",
+            SENTENCES["misaligned"].format(wanted=f"{lead}{wanted}"),
             int(off[0]) if off.size else 0,
         )
 
@@ -110,8 +120,9 @@ def diagnose(
             who = " and ".join(ids[a] for a in np.flatnonzero(tc[-1, :, k_dup]))
             return Diagnosis(
                 "duplicate-target",
-                f"{who} went to {lm_ids[targets[k_dup]]} while "
-                f"{lm_ids[targets[k_empty]]} stayed empty",
+                SENTENCES["duplicate-target"].format(
+                    agents=who, target=lm_ids[targets[k_dup]], empty=lm_ids[targets[k_empty]]
+                ),
                 _final_run_start(dup),
             )
         ever = count > 0  # (T, K)
@@ -137,7 +148,9 @@ def diagnose(
         names = ", ".join(ids[a] for a in np.flatnonzero(approaching))
         return Diagnosis(
             "time-ran-out",
-            f"time ran out while {names} still moved towards " + "+".join(lm_ids[i] for i in empty),
+            SENTENCES["time-ran-out"].format(
+                agents=names, empty="+".join(lm_ids[i] for i in empty)
+            ),
             last,
         )
 
@@ -149,13 +162,15 @@ def diagnose(
                 x, y = episode.poses[start, a, :2]
                 return Diagnosis(
                     "stuck",
-                    f"{ids[a]} stopped at ({x:.2f}, {y:.2f}) away from every target while "
-                    + "+".join(lm_ids[i] for i in empty)
-                    + " stayed empty",
+                    SENTENCES["stuck"].format(
+                        agents=ids[a],
+                        at=f"({x:.2f}, {y:.2f})",
+                        empty="+".join(lm_ids[i] for i in empty),
+                    ),
                     start,
                 )
     return Diagnosis(
-        "uncovered", "targets left empty at the end: " + "+".join(lm_ids[i] for i in empty), last
+        "uncovered", SENTENCES["uncovered"].format(empty="+".join(lm_ids[i] for i in empty)), last
     )
 
 
@@ -374,7 +389,7 @@ class _Wording:
         lead = f"team goal {_goal_words(self.scene, team)}; " if team is not None else ""
         return Diagnosis(
             "misaligned",
-            f"agents pursued different goals ({lead}{wanted})",
+            SENTENCES["misaligned"].format(wanted=f"{lead}{wanted}"),
             first if first <= t_end else 0,
         )
 
@@ -398,7 +413,9 @@ class _Wording:
                 who = " and ".join(ids[a] for a in range(n_agents) if end.cover(e)[a][lm_dup])
                 return Diagnosis(
                     "duplicate-target",
-                    f"{who} went to {lm_ids[lm_dup]} while {lm_ids[targets[k_empty]]} stayed empty",
+                    SENTENCES["duplicate-target"].format(
+                        agents=who, target=lm_ids[lm_dup], empty=lm_ids[targets[k_empty]]
+                    ),
                     runs.dup_start[e],
                 )
             if self.simultaneous and runs.all_reached[e]:
@@ -415,7 +432,7 @@ class _Wording:
             names = ", ".join(ids[a] for a in approaching)
             return Diagnosis(
                 "time-ran-out",
-                f"time ran out while {names} still moved towards {empty_words}",
+                SENTENCES["time-ran-out"].format(agents=names, empty=empty_words),
                 t_end,
             )
         for a in range(n_agents):
@@ -425,11 +442,12 @@ class _Wording:
                     x, y = ep.poses[start, a, :2]
                     return Diagnosis(
                         "stuck",
-                        f"{ids[a]} stopped at ({x:.2f}, {y:.2f}) away from every target while "
-                        f"{empty_words} stayed empty",
+                        SENTENCES["stuck"].format(
+                            agents=ids[a], at=f"({x:.2f}, {y:.2f})", empty=empty_words
+                        ),
                         start,
                     )
-        return Diagnosis("uncovered", f"targets left empty at the end: {empty_words}", t_end)
+        return Diagnosis("uncovered", SENTENCES["uncovered"].format(empty=empty_words), t_end)
 
 
 def _approaching(
@@ -478,4 +496,4 @@ def _any_row(mask: np.ndarray) -> np.ndarray:
     return out
 
 
-__all__ = ["CODES", "BlockArrays", "Diagnosis", "diagnose", "diagnose_block"]
+__all__ = ["CODES", "SENTENCES", "BlockArrays", "Diagnosis", "diagnose", "diagnose_block"]

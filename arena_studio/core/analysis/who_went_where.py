@@ -24,6 +24,7 @@ from arena_studio.core.analysis.roles import _coverage, team_mask
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.episode import Episode
 from arena_studio.core.tape.episode_scene import episode_scene
+from arena_studio.core.wording import LandmarkNames
 
 
 @dataclass(frozen=True)
@@ -80,7 +81,8 @@ def who_went_where(scene: Scene, episode: Episode, upto: int | None = None) -> W
     xy = poses[: end + 1, :, :2]
     team = np.flatnonzero(team_mask(scene, episode))
     cover = _coverage(scene, xy)[:, :, team]  # (t, A, K)
-    labels = [scene.landmarks[i].label or scene.landmarks[i].id for i in team]
+    names = LandmarkNames.of(scene)  # labels, told apart when two landmarks share one
+    labels = [names.name(scene.landmarks[i].id) for i in team]
     pos = np.array([scene.landmarks[i].position for i in team], dtype=np.float64).reshape(-1, 2)
     reach = np.array([scene.landmarks[i].reach_radius for i in team], dtype=np.float64)
     rows = []

@@ -27,6 +27,7 @@ import msgpack
 
 from arena_studio.core.errors import ArenaError
 from arena_studio.core.tape.format import FRAME_HEAD, KIND_HEADER, MAGIC
+from arena_studio.core.wording import LandmarkNames
 
 TAPE_SUFFIX = ".tape"
 PARTIAL_SUFFIX = ".tape.partial"
@@ -260,6 +261,29 @@ def _sweep_tape(root: Path, path: Path, pattern: re.Pattern[str] | None) -> Swee
     return SweepTape(path, st.st_size, st.st_mtime_ns, header_hash(payload), place, problem=problem)
 
 
+def landmark_names(tapes: list[SweepTape]) -> LandmarkNames:
+    """The landmark names of a sweep's tapes, for goals shown by label: read from the header
+    of the first readable tape of each task (the scene travels in the header); the first
+    label seen for an id is kept, and a header that cannot be read adds nothing."""
+    seen: dict[str, str | None] = {}
+    tasks: set[str | None] = set()
+    for tape in tapes:
+        if tape.place.task in tasks:
+            continue
+        try:
+            header = msgpack.unpackb(read_header_bytes(tape.path), raw=False, strict_map_key=False)
+        except Exception:  # unreadable (msgpack raises several types): the next tape says
+            continue
+        tasks.add(tape.place.task)
+        scene = header.get("scene") if isinstance(header, dict) else None
+        marks = scene.get("landmarks") if isinstance(scene, dict) else None
+        for lm in marks if isinstance(marks, list) else ():
+            if isinstance(lm, dict) and isinstance(lm.get("id"), str):
+                label = lm.get("label")
+                seen.setdefault(lm["id"], label if isinstance(label, str) else None)
+    return LandmarkNames(seen.items())
+
+
 def _placement(found: dict[str, Any]) -> Placement:
     task = found.get("task") or found.get("scene")
     return Placement(
@@ -278,6 +302,7 @@ __all__ = [
     "compile_layout",
     "find_files",
     "header_hash",
+    "landmark_names",
     "read_header_bytes",
     "scan_sweep",
 ]
