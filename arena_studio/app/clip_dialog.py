@@ -33,8 +33,6 @@ from PySide6.QtWidgets import (
 )
 
 from arena_studio.core import limits
-from arena_studio.core.analysis.diagnosis_words import diagnosis_words
-from arena_studio.core.wording import LandmarkNames
 from arena_studio.render.clip import SIZE_PRESETS, ClipCancelled, ClipError, ClipSpec, export_clip
 from arena_studio.render.episode_painter import FrameOptions
 from arena_studio.render.theme import load_theme
@@ -75,30 +73,6 @@ def default_folder(tape_path: Path | None) -> Path:
         if place and Path(place).is_dir() and os.access(place, os.W_OK):
             return Path(place)
     return Path.home()
-
-
-def outcome_statement(
-    metrics: Any, index: int, dt: float, names: LandmarkNames | None = None
-) -> str:
-    """One plain line on how the episode went, from the metrics' own words (the replay's
-    outcome line says the same): success and time, or the diagnosis and when it happened,
-    the landmarks named by ``names`` (the scene's labels)."""
-    if metrics is None:
-        return ""
-    names = names or LandmarkNames(())
-    goal = names.goal(getattr(metrics, "goal_key", None))
-    if getattr(metrics, "success", False):
-        t = getattr(metrics, "time_to_success", None)
-        took = "" if t is None else f" in {t:.1f} s"
-        return f"Episode {index} succeeded at goal {goal}{took}."
-    diag = diagnosis_words(
-        getattr(metrics, "diagnosis", None), names, getattr(metrics, "diagnosis_code", None)
-    )
-    if not diag:
-        return f"Episode {index} failed goal {goal}."
-    step = getattr(metrics, "diagnosis_step", None)
-    when = "" if step is None else f" at {step * dt:.1f} s"
-    return f"Episode {index} failed goal {goal}: {diag}{when}."
 
 
 class ClipDialog(QDialog):
@@ -194,11 +168,11 @@ class ClipDialog(QDialog):
         self.title_seconds = _seconds(2.0, limits.TITLE_SECONDS)
         self.caption = QLineEdit()
         self.caption.setPlaceholderText("optional caption line")
-        self.statement = QCheckBox("Say how the episode went (what failed, and when)")
+        self.statement = QCheckBox("Say how the episode went and who went where")
         self.statement.setChecked(True)
         self.statement.setToolTip(
-            "The outcome line of the replay, drawn at the bottom of the still or clip; "
-            "a caption typed above comes first"
+            "The replay's outcome line (what failed, and when) and who went where, drawn "
+            "under each episode's frame"
         )
 
         out_box = QGroupBox("Output")
@@ -282,14 +256,10 @@ class ClipDialog(QDialog):
             return None
         return float(step) * float(self.tape.dt)
 
-    def caption_text(self, index: int) -> str | None:
-        """The caption line drawn: the typed caption, then the outcome statement."""
-        parts = [self.caption.text().strip()]
-        if self.statement.isChecked():
-            names = LandmarkNames.of(self.tape.scene)
-            parts.append(outcome_statement(self._metrics(index), index, float(self.tape.dt), names))
-        text = "  ·  ".join(p for p in parts if p)
-        return text or None
+    def caption_text(self) -> str | None:
+        """The typed caption line; how the episode went is the statement's (under the frame,
+        render.frame.paint_statement), so it is said once per episode, also side by side."""
+        return self.caption.text().strip() or None
 
     def _duration(self, index: int) -> float:
         try:
@@ -343,7 +313,7 @@ class ClipDialog(QDialog):
             trail_seconds=self.trail.value() or 4.0,
             roles=self.roles.currentText(),
             title=self.title.text().strip() or None,
-            caption=self.caption_text(self.episode.value()),
+            caption=self.caption_text(),
             statement=self.statement.isChecked(),  # who went where, under the frame
             **c,
         )

@@ -91,7 +91,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     look.add_argument(
         "--no-statement",
         action="store_true",
-        help="leave out the who-went-where line under the scene",
+        help="leave out how the episode went and who went where, under the scene",
     )
     clip = parser.add_argument_group("clip timing and stills")
     clip.add_argument(

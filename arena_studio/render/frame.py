@@ -52,7 +52,7 @@ class FrameLayout:
 
 
 #: lines of the who-went-where statement a frame has room for
-STATEMENT_LINES = 2
+STATEMENT_LINES = 3
 
 
 def statement_height(ui: float, width: float) -> float:
@@ -205,22 +205,16 @@ def paint_static(
 def paint_statement(
     painter: QPainter, rect: QRectF, scene: Scene, episode: Episode, theme: Theme, ui: float
 ) -> None:
-    """Who went where (core.analysis.who_went_where), wrapped into the strip's lines."""
+    """How the episode went and who went where (core.analysis.statement), wrapped into the
+    strip's lines at the largest size that fits."""
     from PySide6.QtCore import Qt
 
-    from arena_studio.core.analysis.metrics import episode_metrics
-    from arena_studio.core.analysis.who_went_where import who_went_where
+    from arena_studio.core.analysis.statement import episode_statement
     from arena_studio.render.drawing import font
 
-    try:
-        m = episode_metrics(scene, episode)
-        upto = m.success_step if m.success else None
-    except (ValueError, IndexError):  # the statement alone can still be said
-        upto = None
-    text = who_went_where(scene, episode, upto).text()
+    text = episode_statement(scene, episode)
     if not text:
         return
-    text = f"Who went where: {text}."
     box = rect.adjusted(14 * ui, 4 * ui, -14 * ui, -4 * ui)
     with saved(painter):
         painter.fillRect(rect, theme.qcolor("room_fill"))

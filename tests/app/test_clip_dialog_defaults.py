@@ -1,5 +1,5 @@
 """The clip dialog's defaults: never into the bundled demo folder, a failed episode's still
-at the moment the metrics diagnose, the outcome drawn into the caption line (with a switch),
+at the moment the metrics diagnose, the outcome drawn under the frame (with a switch),
 and the "where to save" hint only while no path is set.
 
 The expected diagnosis and its time come from core.analysis.metrics.episode_metrics, the
@@ -14,6 +14,7 @@ from PIL import Image
 from arena_studio.app.clip_dialog import HINT, KINDS, ClipDialog, default_folder
 from arena_studio.core.analysis.diagnosis_words import diagnosis_words
 from arena_studio.core.analysis.metrics import episode_metrics
+from arena_studio.core.analysis.statement import episode_statement
 from arena_studio.core.resources import demo_path
 from arena_studio.core.tape import open_tape
 from arena_studio.core.wording import LandmarkNames
@@ -32,24 +33,23 @@ def test_a_failed_episode_defaults_to_its_diagnosis(qtbot, tape):
     dialog = ClipDialog(None, tape, 1, time=0.0)
     qtbot.addWidget(dialog)
     assert dialog.moment.value() == pytest.approx(m.diagnosis_step * tape.dt, abs=0.01)
-    caption = dialog.frame_options().caption
-    # the statement says the metrics' diagnosis with the landmarks named by label
+    assert dialog.frame_options().statement
+    # what the frame says under the scene: the metrics' diagnosis, landmarks named by label
     said = diagnosis_words(m.diagnosis, LandmarkNames.of(tape.scene), m.diagnosis_code)
-    assert caption is not None and "failed" in caption and said in caption
-    assert m.goal_key not in caption and "West valve + East valve" in caption
-    dialog.caption.setText("Run 12")
-    assert dialog.frame_options().caption.startswith("Run 12")
-    dialog.statement.setChecked(False)
-    assert dialog.frame_options().caption == "Run 12"
-    dialog.caption.setText("")
+    statement = episode_statement(tape.scene, tape.episode(1))
+    assert "failed" in statement and said in statement and "Who went where" in statement
+    assert m.goal_key not in statement and "West valve + East valve" in statement
+    # the caption line is only what the user typed
     assert dialog.frame_options().caption is None
+    dialog.caption.setText("Run 12")
+    assert dialog.frame_options().caption == "Run 12"
 
 
 def test_a_success_keeps_the_playhead_and_says_it_succeeded(qtbot, tape):
     dialog = ClipDialog(None, tape, 0, time=1.5)
     qtbot.addWidget(dialog)
     assert dialog.moment.value() == pytest.approx(1.5)
-    assert "succeeded" in dialog.frame_options().caption
+    assert "succeeded" in episode_statement(tape.scene, tape.episode(0))
 
 
 def test_the_still_carries_the_statement(qtbot, tape, tmp_path):

@@ -14,12 +14,12 @@ from pathlib import Path
 import pytest
 from PySide6.QtCore import Qt
 
-from arena_studio.app.clip_dialog import outcome_statement
 from arena_studio.app.replay.batch_stats import batch_stats
 from arena_studio.app.replay.episode_list import COL
 from arena_studio.app.replay.prepared import prepare_episode
 from arena_studio.app.replay.verdict import describe
 from arena_studio.core.analysis.metrics import episode_metrics
+from arena_studio.core.analysis.statement import outcome_statement
 from arena_studio.core.tape import open_tape
 from arena_studio.core.wording import LandmarkNames
 from arena_studio.render.theme import load_theme
