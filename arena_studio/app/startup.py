@@ -1,0 +1,96 @@
+"""Start-up ordering: the window paints first, the rest of the work follows.
+
+``arena-studio`` shows its window before it builds what is not on screen (the replay page of
+a start without a tape) and before background threads (scene checks, episode metrics) start:
+Python threads share one interpreter lock, so work started earlier delays the first paint.
+:func:`after_first_paint` runs callbacks once the main window has finished its first paint;
+:data:`FIRST_PAINT` is set then, and :func:`wait_for_first_paint` holds worker threads
+until it is (at most :data:`HOLD_LIMIT_S`). The event is set unless :func:`hold_background`
+cleared it, so windows built by tests, screenshots and scripts never wait.
+
+Measuring hook (off by default; ``tests/bench/bench_startup.py`` uses it):
+``ARENA_STUDIO_REPORT_SHOWN=FILE`` writes ``{"shown": time.time(), "modules": [...]}`` to FILE
+(JSON: the wall time of the main window's first completed paint and the modules imported by
+then); with ``ARENA_STUDIO_QUIT_AFTER_SHOWN=1`` the app then quits.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import sys
+import threading
+import time
+from collections.abc import Callable
+from pathlib import Path
+
+from PySide6.QtCore import QEvent, QObject, QTimer
+from PySide6.QtWidgets import QWidget
+
+REPORT_ENV = "ARENA_STUDIO_REPORT_SHOWN"
+QUIT_ENV = "ARENA_STUDIO_QUIT_AFTER_SHOWN"
+#: longest a worker waits for the first paint (a window never shown must not stall work)
+HOLD_LIMIT_S = 3.0
+
+FIRST_PAINT = threading.Event()
+FIRST_PAINT.set()
+
+
+def hold_background() -> None:
+    """Make worker threads wait (see :func:`wait_for_first_paint`) until the first paint."""
+    FIRST_PAINT.clear()
+
+
+def release_background() -> None:
+    FIRST_PAINT.set()
+
+
+def wait_for_first_paint() -> None:
+    """Called by worker threads before they start: returns at once unless start-up holds."""
+    FIRST_PAINT.wait(HOLD_LIMIT_S)
+
+
+class _FirstPaint(QObject):
+    """Event filter on the main window: after its first paint event has been handled (and
+    the frame flushed), runs the callbacks once."""
+
+    def __init__(self, window: QWidget, callbacks: list[Callable[[], object]]) -> None:
+        super().__init__(window)
+        self._callbacks = callbacks
+        self._seen = False
+
+    def eventFilter(self, watched: QObject, event: QEvent) -> bool:
+        if event.type() == QEvent.Type.Paint and not self._seen:
+            self._seen = True
+            # a zero timer runs after the paint event and the flush of the whole window
+            QTimer.singleShot(0, self._fire)
+        return False
+
+    def _fire(self) -> None:
+        watched = self.parent()
+        if isinstance(watched, QWidget):
+            watched.removeEventFilter(self)
+        callbacks, self._callbacks = self._callbacks, []
+        for callback in callbacks:
+            callback()
+
+
+def after_first_paint(window: QWidget, *callbacks: Callable[[], object]) -> None:
+    """Run ``callbacks`` (in order) right after ``window``'s first completed paint; the
+    background is released first and the measuring hook, when asked for, runs last."""
+    todo: list[Callable[[], object]] = [release_background, *callbacks]
+    report = os.environ.get(REPORT_ENV)
+    if report:
+        todo.insert(0, lambda: write_report(Path(report)))  # the paint time, before the rest
+        if os.environ.get(QUIT_ENV) == "1":
+            todo.append(lambda: QTimer.singleShot(0, window.close))
+    window.installEventFilter(_FirstPaint(window, todo))
+
+
+def write_report(path: Path, now: Callable[[], float] = time.time) -> None:
+    """The measuring hook's file: first-paint wall time and the modules loaded by then."""
+    data = {"shown": now(), "modules": sorted(sys.modules)}
+    tmp = path.with_name(path.name + ".tmp")
+    tmp.write_text(json.dumps(data), encoding="utf-8")
+    os.replace(tmp, path)
+
