@@ -31,7 +31,12 @@ DEFERRED = (
     "arena_studio.core.analysis.diagnosis",
 )
 #: with no argument the replay page (and the demo tape) come after the paint as well
-DEFERRED_WITHOUT_TAPE = ("arena_studio.app.replay.replay_window", "arena_studio.app.replay.session")
+DEFERRED_WITHOUT_TAPE = (
+    "arena_studio.app.replay.replay_window",
+    "arena_studio.app.replay.session",
+    "arena_studio.render.episode_painter",
+    "arena_studio.core.tape",
+)
 
 
 def _first_paint_modules(tmp_path: Path, *args: str) -> list[str]:
