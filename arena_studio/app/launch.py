@@ -12,7 +12,6 @@ from __future__ import annotations
 import argparse
 import os
 import sys
-from collections.abc import Callable
 from pathlib import Path
 
 from arena_studio.core.atomic import write_bytes_atomic
@@ -127,7 +126,6 @@ def launch_app(args: argparse.Namespace) -> int:
     from arena_studio.app.startup import after_first_paint, hold_background
 
     # a screenshot or a --episode/--time run waits for loads before any paint: no hold there
-    later: list[Callable[[], object]] = []
     if not screenshot and not _wants_moment(args):
         hold_background()
     app = QApplication.instance() or QApplication(sys.argv[:1])
@@ -141,7 +139,7 @@ def launch_app(args: argparse.Namespace) -> int:
         dialogs=quiet,  # type: ignore[arg-type]
     )
     if not screenshot:
-        after_first_paint(window, lambda: [fn() for fn in later])
+        after_first_paint(window)  # watches for the first paint (and the measuring hook)
     if interactive:
         window.show()  # dialogs about the file below sit on a visible window
         window.offer_recovery()
@@ -170,7 +168,7 @@ def launch_app(args: argparse.Namespace) -> int:
     elif not window.document.dirty:
         window.open_demo()
         if not screenshot:
-            later.append(lambda: _open_demo_tape(window))
+            after_first_paint(window, lambda: _open_demo_tape(window))
     if screenshot:
         return _screenshot(app, window, Path(screenshot))
     window.show()

@@ -54,39 +54,50 @@ def wait_for_first_paint() -> None:
 
 class _FirstPaint(QObject):
     """Event filter on the main window: after its first paint event has been handled (and
-    the frame flushed), runs the callbacks once."""
+    the frame flushed), writes the measuring report (when asked for), releases the workers,
+    runs the callbacks once, then closes the window when the hook asks for that."""
 
-    def __init__(self, window: QWidget, callbacks: list[Callable[[], object]]) -> None:
+    def __init__(self, window: QWidget) -> None:
         super().__init__(window)
-        self._callbacks = callbacks
-        self._seen = False
+        self.window = window
+        self.callbacks: list[Callable[[], object]] = []
+        self.seen = False
+        self.done = False
 
     def eventFilter(self, watched: QObject, event: QEvent) -> bool:
-        if event.type() == QEvent.Type.Paint and not self._seen:
-            self._seen = True
+        if event.type() == QEvent.Type.Paint and not self.seen:
+            self.seen = True
             # a zero timer runs after the paint event and the flush of the whole window
             QTimer.singleShot(0, self._fire)
         return False
 
     def _fire(self) -> None:
-        watched = self.parent()
-        if isinstance(watched, QWidget):
-            watched.removeEventFilter(self)
-        callbacks, self._callbacks = self._callbacks, []
+        self.window.removeEventFilter(self)
+        report = os.environ.get(REPORT_ENV)
+        if report:
+            write_report(Path(report))  # the paint time, before any other work
+        release_background()
+        self.done = True
+        callbacks, self.callbacks = self.callbacks, []
         for callback in callbacks:
             callback()
+        if report and os.environ.get(QUIT_ENV) == "1":
+            QTimer.singleShot(0, self.window.close)
 
 
 def after_first_paint(window: QWidget, *callbacks: Callable[[], object]) -> None:
-    """Run ``callbacks`` (in order) right after ``window``'s first completed paint; the
-    background is released first and the measuring hook, when asked for, runs last."""
-    todo: list[Callable[[], object]] = [release_background, *callbacks]
-    report = os.environ.get(REPORT_ENV)
-    if report:
-        todo.insert(0, lambda: write_report(Path(report)))  # the paint time, before the rest
-        if os.environ.get(QUIT_ENV) == "1":
-            todo.append(lambda: QTimer.singleShot(0, window.close))
-    window.installEventFilter(_FirstPaint(window, todo))
+    """Run ``callbacks`` (in order) right after ``window``'s first completed paint, or on the
+    next turn of the event loop when that paint is already past (e.g. a dialog at start-up
+    let the window paint). The first call also installs the measuring hook."""
+    watcher = window.findChild(_FirstPaint)
+    if watcher is None:
+        watcher = _FirstPaint(window)
+        window.installEventFilter(watcher)
+    if watcher.done:
+        for callback in callbacks:
+            QTimer.singleShot(0, callback)
+    else:
+        watcher.callbacks.extend(callbacks)
 
 
 def write_report(path: Path) -> None:

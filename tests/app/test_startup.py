@@ -58,6 +58,20 @@ def test_callbacks_run_once_after_the_first_paint_and_release_workers(qtbot, hel
     assert calls == ["first", "second"]
 
 
+def test_work_added_after_the_first_paint_still_runs(qtbot, held, monkeypatch) -> None:
+    """A dialog at start-up (a recovery question) lets the window paint before the rest of
+    the start-up has queued its work: that work runs on the next turn of the event loop."""
+    monkeypatch.delenv(startup.REPORT_ENV, raising=False)
+    calls: list[str] = []
+    w = _window(qtbot)
+    startup.after_first_paint(w)
+    w.show()
+    qtbot.waitUntil(startup.FIRST_PAINT.is_set)
+    startup.after_first_paint(w, lambda: calls.append("late"))
+    assert calls == []  # never inside the caller
+    qtbot.waitUntil(lambda: calls == ["late"])
+
+
 def test_workers_never_wait_unless_start_up_holds() -> None:
     assert startup.FIRST_PAINT.is_set()
     startup.wait_for_first_paint()  # returns at once (the hold limit would take seconds)
