@@ -27,6 +27,7 @@ DEFERRED = (
     "arena_studio.app.clip_dialog",
     "arena_studio.app.runs",
     "arena_studio.core.checks.checker",
+    "arena_studio.core.geometry.paths",
     "arena_studio.core.planning.partime",
     "arena_studio.core.analysis.diagnosis",
 )
