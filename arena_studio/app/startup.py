@@ -63,6 +63,9 @@ class _FirstPaint(QObject):
         self.callbacks: list[Callable[[], object]] = []
         self.seen = False
         self.done = False
+        # a window that never paints (hidden, minimised, a platform without exposes) must
+        # not keep the queued work and the workers waiting for ever
+        QTimer.singleShot(int(HOLD_LIMIT_S * 1000), self, self._without_paint)
 
     def eventFilter(self, watched: QObject, event: QEvent) -> bool:
         if event.type() == QEvent.Type.Paint and not self.seen:
@@ -71,9 +74,14 @@ class _FirstPaint(QObject):
             QTimer.singleShot(0, self._fire)
         return False
 
-    def _fire(self) -> None:
+    def _without_paint(self) -> None:
+        if not self.seen:
+            self.seen = True
+            self._fire(painted=False)
+
+    def _fire(self, painted: bool = True) -> None:
         self.window.removeEventFilter(self)
-        report = os.environ.get(REPORT_ENV)
+        report = os.environ.get(REPORT_ENV) if painted else None
         if report:
             write_report(Path(report))  # the paint time, before any other work
         release_background()

@@ -72,6 +72,19 @@ def test_work_added_after_the_first_paint_still_runs(qtbot, held, monkeypatch) -
     qtbot.waitUntil(lambda: calls == ["late"])
 
 
+def test_a_window_that_never_paints_still_runs_its_work(qtbot, held, monkeypatch, tmp_path):
+    """Hidden for good: after the hold limit the work runs and the workers go, but no paint
+    time is reported (there was none)."""
+    out = tmp_path / "shown.json"
+    monkeypatch.setenv(startup.REPORT_ENV, str(out))
+    monkeypatch.setattr(startup, "HOLD_LIMIT_S", 0.05)
+    calls: list[str] = []
+    w = _window(qtbot)  # never shown
+    startup.after_first_paint(w, lambda: calls.append("ran"))
+    qtbot.waitUntil(lambda: calls == ["ran"])
+    assert startup.FIRST_PAINT.is_set() and not out.exists()
+
+
 def test_workers_never_wait_unless_start_up_holds() -> None:
     assert startup.FIRST_PAINT.is_set()
     startup.wait_for_first_paint()  # returns at once (the hold limit would take seconds)
