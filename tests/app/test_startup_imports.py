@@ -28,6 +28,8 @@ DEFERRED = (
     "arena_studio.app.runs",
     "arena_studio.core.checks.checker",
     "arena_studio.core.geometry.paths",
+    "arena_studio.commands.check",  # the app command builds only its own parser
+    "arena_studio.commands.stats",
     "arena_studio.core.planning.partime",
     "arena_studio.core.analysis.diagnosis",
 )
