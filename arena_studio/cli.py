@@ -27,7 +27,9 @@ class _OneLineParser(argparse.ArgumentParser):
         self.exit(2, f"{self.prog}: error: {message} (see '{self.prog} --help')\n")
 
 
-def _command_parser() -> argparse.ArgumentParser:
+def _command_parser(app_only: bool = False) -> argparse.ArgumentParser:
+    """The whole command line; ``app_only``: just the ``app`` command (the window opens
+    sooner without loading every other command's module)."""
     parser = _OneLineParser(
         prog="arena-studio",
         description=(
@@ -41,7 +43,7 @@ def _command_parser() -> argparse.ArgumentParser:
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", title="commands")
     app = sub.add_parser("app", help="open the desktop app (the default with no command)")
     add_app_arguments(app)
-    for name in COMMANDS:
+    for name in () if app_only else COMMANDS:
         module = load_command(name)
         cmd = sub.add_parser(name, help=module.HELP, description=module.HELP)
         module.add_arguments(cmd)
@@ -67,7 +69,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         args_list[0] not in COMMANDS and args_list[0] not in ("-h", "--help", "--version", "app")
     ):
         args_list = ["app", *args_list]
-    parser = _command_parser()
+    parser = _command_parser(app_only=args_list[0] == "app")
     try:
         args = parser.parse_args(args_list)
     except SystemExit as exc:  # argparse already printed one line of usage error

@@ -28,8 +28,8 @@ from arena_studio.app.scene_items import WORLD, SceneLayer
 from arena_studio.core.geometry.regions import bounds
 from arena_studio.core.scene.model import Scene
 from arena_studio.render.drawing import nice_step
-from arena_studio.render.episode_painter import blits_exactly
 from arena_studio.render.paint_guard import guarded
+from arena_studio.render.raster import blits_exactly
 from arena_studio.render.scene_painter import paint_scale_bar
 from arena_studio.render.theme import Theme
 from arena_studio.render.view import ViewTransform

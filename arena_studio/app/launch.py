@@ -1,8 +1,10 @@
 """Starts the desktop app for ``arena-studio [PATH] [--screenshot OUT.png] [--theme ...]``.
 
 Arguments are checked before any window exists, so a bad path or option is one line on stderr
-and exit 2. Runs nobody watches (``--screenshot``, an offscreen platform) get
-:class:`~arena_studio.app.dialogs.QuietDialogs`: an error can never wait on a modal box there.
+and exit 2. The window paints before the rest of the start-up work (the demo tape's replay
+page, background threads; see :mod:`arena_studio.app.startup`). Runs nobody watches
+(``--screenshot``, an offscreen platform) get :class:`~arena_studio.app.dialogs.QuietDialogs`:
+an error can never wait on a modal box there.
 """
 
 from __future__ import annotations
@@ -121,7 +123,11 @@ def launch_app(args: argparse.Namespace) -> int:
 
     from arena_studio.app.dialogs import QuietDialogs
     from arena_studio.app.main_window import MainWindow
+    from arena_studio.app.startup import after_first_paint, hold_background
 
+    # a screenshot or a --episode/--time run waits for loads before any paint: no hold there
+    if not screenshot and not _wants_moment(args):
+        hold_background()
     app = QApplication.instance() or QApplication(sys.argv[:1])
     app.setOrganizationName("arena_studio")
     app.setApplicationName("arena-studio")
@@ -132,6 +138,8 @@ def launch_app(args: argparse.Namespace) -> int:
         theme=getattr(args, "theme", None),
         dialogs=quiet,  # type: ignore[arg-type]
     )
+    if not screenshot:
+        after_first_paint(window)  # watches for the first paint (and the measuring hook)
     if interactive:
         window.show()  # dialogs about the file below sit on a visible window
         window.offer_recovery()
@@ -158,9 +166,9 @@ def launch_app(args: argparse.Namespace) -> int:
                 _close_quietly(window)
                 return 2
     elif not window.document.dirty:
-        if not screenshot:
-            _open_demo_tape(window)
         window.open_demo()
+        if not screenshot:
+            after_first_paint(window, lambda: _open_demo_tape(window))
     if screenshot:
         return _screenshot(app, window, Path(screenshot))
     window.show()
@@ -199,7 +207,8 @@ def _close_quietly(window: object) -> None:
 
 
 def _open_demo_tape(window: object) -> None:
-    """With no argument the replay page also gets the demo tape (the editor stays in front)."""
+    """With no argument the replay page also gets the demo tape, after the first paint; the
+    editor stays in front."""
     from arena_studio.core.resources import demo_path
 
     tape = demo_path(DEMO_TAPE)
@@ -207,7 +216,7 @@ def _open_demo_tape(window: object) -> None:
         return
     from arena_studio.app.replay import open_tape
 
-    open_tape(window, tape)
+    open_tape(window, tape, show=False)
 
 
 def _screenshot(app: object, window: object, out: Path) -> int:

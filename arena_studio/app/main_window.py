@@ -498,7 +498,8 @@ class MainWindow(RobotCommands, QMainWindow):
         super().showEvent(event)
         if not self._docks_sized:
             self._docks_sized = True
-            QTimer.singleShot(0, self._size_docks)
+            self._size_docks()  # in the first frame already (the window paints, then loads)
+            QTimer.singleShot(0, self._size_docks)  # again once the layout has settled
 
     def _size_docks(self) -> None:
         """Right column about 30 % of the width (320-440 px), findings strip about 150 px."""

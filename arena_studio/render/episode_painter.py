@@ -32,11 +32,9 @@ from PySide6.QtCore import QPoint, QPointF, QRectF, Qt
 from PySide6.QtGui import (
     QFontMetricsF,
     QImage,
-    QPaintEngine,
     QPainter,
     QPen,
     QPolygonF,
-    QTransform,
 )
 
 from arena_studio.core.scene.model import Scene
@@ -54,6 +52,7 @@ from arena_studio.render.legend import paint_banner, paint_clock, paint_legend
 from arena_studio.render.name_tags import paint_name_tags, tag_names, wants_tags
 from arena_studio.render.options import FrameOptions
 from arena_studio.render.paint_guard import guarded, saved
+from arena_studio.render.raster import blits_exactly
 from arena_studio.render.scene_painter import label_places
 from arena_studio.render.theme import Theme
 from arena_studio.render.trail_blocks import paint_wide_trails, prefill_blocks
@@ -213,18 +212,6 @@ def text_boxes(
             boxes.append((c.x() - half_w, cy - half_h, c.x() + half_w, cy + half_h))
     cache.memo[key] = boxes
     return boxes
-
-
-def blits_exactly(painter: QPainter) -> bool:
-    """True when pre-drawn sprites can stand in for shapes: a raster device (image, widget
-    backing store) with no scaling between painter and pixels. Vector output (SVG keeps text
-    as text), printers and HiDPI or zoomed painters draw every shape instead."""
-    engine = painter.paintEngine()
-    return (
-        engine is not None
-        and engine.type() == QPaintEngine.Type.Raster
-        and painter.deviceTransform().type() == QTransform.TransformationType.TxNone
-    )
 
 
 # -- overlays ----------------------------------------------------------------------------------

@@ -1,6 +1,7 @@
 """Runs the scene checker (and par times) after edits: debounced, off the UI thread.
 
-Results for a scene that is no longer current are dropped. When ``core.checks`` or
+Results for a scene that is no longer current are dropped. While the app starts, the first
+check waits for the window's first paint (:mod:`arena_studio.app.startup`). When ``core.checks`` or
 ``core.partime`` are missing from this build, the panels say so instead of failing.
 """
 
@@ -13,6 +14,7 @@ from typing import Any
 
 from PySide6.QtCore import QObject, QTimer, Signal
 
+from arena_studio.app.startup import wait_for_first_paint
 from arena_studio.core.scene.model import Scene
 from arena_studio.editing.goal_rows import goal_rows
 
@@ -103,6 +105,7 @@ class CheckRunner(QObject):
         self._pool.submit(self._work, scene)
 
     def _work(self, scene: Scene) -> None:
+        wait_for_first_paint()
         t0 = time.perf_counter()
         findings, error = check(scene)
         self.last_seconds = time.perf_counter() - t0

@@ -12,11 +12,12 @@ from pathlib import Path
 from typing import Any
 
 
-def open_tape(window: Any, path: str | Path) -> bool:
-    """Open ``path`` in the replay page of ``window`` (created on first use)."""
+def open_tape(window: Any, path: str | Path, show: bool = True) -> bool:
+    """Open ``path`` in the replay page of ``window`` (created on first use); with ``show``
+    false the page is filled but the page on screen stays."""
     from arena_studio.app.replay.integration import open_tape_in_window
 
-    return open_tape_in_window(window, Path(path))
+    return open_tape_in_window(window, Path(path), show)
 
 
 def prepare_screenshot(window: Any, episode: int | None, seconds: float | None) -> str | None:

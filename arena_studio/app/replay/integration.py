@@ -78,11 +78,11 @@ def _clip_action(window: Any, page: ReplayWindow):
     """'Export Clip…': the clip and still dialog at the current episode and time."""
     from PySide6.QtGui import QAction
 
-    from arena_studio.app.clip_dialog import open_clip_dialog
-
     action = QAction("Export Clip…", page)
 
     def run() -> None:
+        from arena_studio.app.clip_dialog import open_clip_dialog  # lazy: loaded when used
+
         if page.session is None or page.prepared is None:
             return
         page.clock.pause()
@@ -106,16 +106,22 @@ def _sync_enabled(window: Any, page: ReplayWindow) -> None:
         page.clock.pause()
 
 
-def open_tape_in_window(window: Any, path: Path) -> bool:
+def open_tape_in_window(window: Any, path: Path, show: bool = True) -> bool:
+    """Open ``path`` in the replay page; ``show``: switch to it and say so in the status bar
+    (else the page on screen stays, and a scene open in the editor is checked against it)."""
     page = replay_page(window)
     try:
         page.open_tape(path)
     except (ArenaError, OSError, ValueError) as exc:
         window.dialogs.error("Cannot open tape", f"{exc}\n\nNothing else was changed.")
         return False
-    window.set_mode(MODE)
+    if show:
+        window.set_mode(MODE)
     _sync_enabled(window, page)
-    window.show_message(f"Opened {path.name}: {len(page.session)} episodes")
+    if show:
+        window.show_message(f"Opened {path.name}: {len(page.session)} episodes")
+    elif getattr(window, "sceneOpened", None) is not None:
+        _on_document_path(window)  # as if the scene had been opened after the tape
     return True
 
 

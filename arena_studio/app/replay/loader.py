@@ -3,6 +3,8 @@
 Both run Python callables on worker threads and hand results back through queued Qt signals,
 so the window keeps repainting while a 2,000-episode tape is summarised or a long episode is
 decoded. Stale results (the user already picked another episode) are dropped by a token.
+While the app starts, both wait for the window's first paint
+(:func:`arena_studio.app.startup.wait_for_first_paint`).
 """
 
 from __future__ import annotations
@@ -17,6 +19,7 @@ from typing import Any
 
 from PySide6.QtCore import QObject, QThread, Signal
 
+from arena_studio.app.startup import wait_for_first_paint
 from arena_studio.core.errors import ArenaError
 
 #: held around every core computation the viewer runs off the UI thread (metrics, planning,
@@ -59,6 +62,7 @@ class StreamWorker(QThread):
     def run(self) -> None:
         batch: list[Any] = []
         done = 0
+        wait_for_first_paint()
         last = time.monotonic()
         try:
             for item in self._produce(self.isInterruptionRequested):
@@ -118,6 +122,7 @@ class BackgroundCall(QObject):
         return self._token
 
     def _loop(self) -> None:
+        wait_for_first_paint()
         while True:
             with self._wake:
                 while self._job is None and not self._stop:

@@ -3,12 +3,16 @@
 pyqtgraph plots share one x axis in seconds. A vertical cursor follows the playback clock;
 dragging it or clicking anywhere in a plot seeks the replay. Each distance curve is drawn in
 its agent's identity colour, with a dashed reach-radius line so "reached" reads at a glance.
+
+pyqtgraph takes ~0.2 s to import, so it is imported, and its widget made, with the first
+episode shown (after the window's first paint), never when the panel is built.
 """
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING, Any
+
 import numpy as np
-import pyqtgraph as pg
 from PySide6.QtCore import Qt, QTimer
 from PySide6.QtGui import QShowEvent
 from PySide6.QtWidgets import QLabel, QVBoxLayout, QWidget
@@ -18,6 +22,9 @@ from arena_studio.app.replay.transport import PlaybackClock
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.wording import LandmarkNames
 from arena_studio.render.theme import Theme, load_theme
+
+if TYPE_CHECKING:
+    import pyqtgraph as pg
 
 MAX_PLOT_POINTS = 4000  # long episodes are decimated for drawing (the data stay intact)
 
@@ -41,11 +48,11 @@ class PlotsPanel(QWidget):
         self._theme = theme or load_theme("light")
         self._prepared: PreparedEpisode | None = None
         self._scene: Scene | None = None
-        layout = QVBoxLayout(self)
+        self._layout = QVBoxLayout(self)
+        layout = self._layout
         layout.setContentsMargins(2, 2, 2, 2)
-        self.graphics = pg.GraphicsLayoutWidget(self)
-        layout.addWidget(self.graphics, 1)
-        self.graphics.setMinimumHeight(100)
+        #: pyqtgraph's GraphicsLayoutWidget, made by :meth:`_ensure_graphics` when needed
+        self.graphics: Any = None
         self.empty_label = QLabel("Select an episode to see its plots.", self)
         self.empty_label.setAlignment(Qt.AlignmentFlag.AlignCenter)
         layout.addWidget(self.empty_label)
@@ -70,13 +77,17 @@ class PlotsPanel(QWidget):
 
     def set_episode(self, scene: Scene, prepared: PreparedEpisode | None) -> None:
         self._scene, self._prepared = scene, prepared
-        self.graphics.clear()
+        if self.graphics is not None:
+            self.graphics.clear()
         self.plots.clear()
         self.cursors.clear()
         self.legends.clear()
         self.empty_label.setVisible(prepared is None)
         if prepared is None:
             return
+        import pyqtgraph as pg
+
+        self._ensure_graphics()
         ep = prepared.episode
         t = np.arange(ep.steps) * ep.dt
         first: pg.PlotItem | None = None
@@ -134,7 +145,20 @@ class PlotsPanel(QWidget):
         self._on_step(self._clock.step)
 
     # -- internals ---------------------------------------------------------------------
+    def _ensure_graphics(self) -> Any:
+        """pyqtgraph's plot area above the empty-panel line, made once."""
+        if self.graphics is None:
+            import pyqtgraph as pg
+
+            self.graphics = pg.GraphicsLayoutWidget(self)
+            self.graphics.setMinimumHeight(100)
+            self._layout.insertWidget(0, self.graphics, 1)
+            self._apply_theme()
+        return self.graphics
+
     def _add_plot(self, key: str, title: str, link: pg.PlotItem | None) -> pg.PlotItem:
+        import pyqtgraph as pg
+
         row = len(self.plots)
         plot = self.graphics.addPlot(row=row, col=0)
         plot.setLabel("left", title)
@@ -159,6 +183,8 @@ class PlotsPanel(QWidget):
         named = [item for item in plot.listDataItems() if item.name()]
         if not named:
             return
+        import pyqtgraph as pg
+
         legend = pg.LegendItem(
             labelTextSize="8pt",
             labelTextColor=self._theme.qcolor("text"),
@@ -213,6 +239,8 @@ class PlotsPanel(QWidget):
             cursor.blockSignals(False)
 
     def _apply_theme(self) -> None:
+        if self.graphics is None:
+            return
         self.graphics.setBackground(self._theme.qcolor("room_fill"))
         fg = self._theme.qcolor("text")
         for plot in self.plots.values():

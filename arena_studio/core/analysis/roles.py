@@ -34,7 +34,6 @@ import math
 
 import numpy as np
 
-from arena_studio.core.geometry.waypoints import next_waypoints
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.sim.observe import coverage
 from arena_studio.core.tape.episode import Episode
@@ -169,6 +168,10 @@ def _aims(
     every ``every``-th moving step, and at every step between two planned ones whose
     waypoints differ; between two planned steps with the same waypoint every step aims at
     it (its path length adjusted by the straight part)."""
+    # lazy: the path planner's modules load with the first roles derived (off the UI
+    # thread in the viewer), not with the viewer's first paint
+    from arena_studio.core.geometry.waypoints import next_waypoints
+
     way = np.broadcast_to(lm[None, None], (*p.shape[:2], *lm.shape)).copy()
     dist = np.linalg.norm(way - p[:, :, None, :], axis=-1)
     for a in range(min(p.shape[1], len(scene.agents))):

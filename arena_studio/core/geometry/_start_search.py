@@ -27,8 +27,6 @@ from dataclasses import dataclass
 
 import numpy as np
 import shapely
-from scipy.sparse import coo_matrix
-from scipy.sparse.csgraph import dijkstra
 from shapely.geometry.base import BaseGeometry
 
 from arena_studio.core.geometry.visibility import EDGE_EPSILON, VisibilityGraph
@@ -79,6 +77,9 @@ def build_start_search(graph: VisibilityGraph, samples: np.ndarray) -> StartSear
     seen = graph.clear(a, b).reshape(s, v)
     legs = np.hypot(*(b - a).T).reshape(s, v)
     rows, cols = np.nonzero(seen)
+    from scipy.sparse import coo_matrix  # lazy: scipy loads on the first search
+    from scipy.sparse.csgraph import dijkstra
+
     coo = graph.matrix.tocoo()
     # sources are nodes v .. v + s - 1; a zero-length first leg (a sample on a node) keeps
     # a tiny weight so the sparse matrix keeps the edge (as the graph's own edges do)

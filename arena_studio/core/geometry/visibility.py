@@ -21,15 +21,18 @@ from contextlib import contextmanager
 from contextvars import ContextVar
 from dataclasses import dataclass
 from functools import cached_property
+from typing import TYPE_CHECKING
 
 import numpy as np
 import shapely
-from scipy.sparse import csr_matrix
 from shapely.geometry import MultiPolygon, Polygon
 from shapely.geometry.base import BaseGeometry
 from shapely.geometry.polygon import orient
 
 from arena_studio.core.errors import ArenaError
+
+if TYPE_CHECKING:
+    from scipy.sparse import csr_matrix
 
 #: Growth (m) of the free space used for visibility tests; far below any drawing precision.
 VISIBILITY_SLACK = 1e-7
@@ -213,6 +216,8 @@ class VisibilityGraph:
 
 def build_visibility_graph(free: BaseGeometry, radius: float) -> VisibilityGraph:
     """Reduced visibility graph of ``free`` (the free space of an agent of ``radius``)."""
+    from scipy.sparse import csr_matrix  # lazy: scipy loads when a graph is first built
+
     if free.is_empty:
         test_area: BaseGeometry = free
     else:

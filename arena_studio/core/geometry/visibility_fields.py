@@ -11,8 +11,6 @@ from dataclasses import dataclass
 
 import numpy as np
 import shapely
-from scipy.sparse import coo_matrix
-from scipy.sparse.csgraph import dijkstra
 from shapely.geometry.base import BaseGeometry
 
 from arena_studio.core.geometry.visibility import EDGE_EPSILON, VisibilityGraph, polygons_of
@@ -115,6 +113,9 @@ def build_target_field(
     rows = np.concatenate([coo.row, src, np.full(src.size, v)])
     cols = np.concatenate([coo.col, np.full(src.size, v), src])
     w = np.concatenate([coo.data, leg[src] + EDGE_EPSILON, leg[src] + EDGE_EPSILON])
+    from scipy.sparse import coo_matrix  # lazy: scipy loads on the first field built
+    from scipy.sparse.csgraph import dijkstra
+
     matrix = coo_matrix((w, (rows, cols)), shape=(v + 1, v + 1)).tocsr()
     dist, pred = dijkstra(matrix, directed=True, indices=v, return_predecessors=True)
     toward = pred[:v].astype(np.int64)

@@ -17,9 +17,6 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.optimize import linear_sum_assignment
-from scipy.sparse import csr_matrix
-from scipy.sparse.csgraph import maximum_bipartite_matching
 
 
 @dataclass(frozen=True)
@@ -46,6 +43,8 @@ def _check(cost: np.ndarray) -> np.ndarray:
 
 def _min_sum_on(c: np.ndarray, allowed: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
     """linear_sum_assignment over targets using only ``allowed`` entries (None: impossible)."""
+    from scipy.optimize import linear_sum_assignment  # lazy: scipy.optimize loads slowly
+
     finite = c[allowed]
     big = (float(finite.sum()) if finite.size else 0.0) * 2.0 + 1.0
     work = np.where(allowed, c, big).T  # (K, A): every target row gets a distinct agent
@@ -75,6 +74,9 @@ def min_sum_assignment(cost: np.ndarray) -> Assignment | None:
 
 def _covers_all(allowed: np.ndarray) -> bool:
     """A matching under ``allowed`` (A, K) gives every target its own agent."""
+    from scipy.sparse import csr_matrix
+    from scipy.sparse.csgraph import maximum_bipartite_matching
+
     graph = csr_matrix(allowed.T.astype(np.int8))  # rows: targets, columns: agents
     match = maximum_bipartite_matching(graph, perm_type="column")
     return bool(np.all(match >= 0))
