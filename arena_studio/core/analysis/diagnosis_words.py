@@ -12,7 +12,6 @@ from __future__ import annotations
 import re
 from functools import cache
 
-from arena_studio.core.analysis.diagnosis import SENTENCES
 from arena_studio.core.wording import LandmarkNames
 
 #: slots holding a landmark or a goal key
@@ -24,6 +23,8 @@ _NO_GOAL = ("nothing recorded", "no target")
 @cache
 def _pattern(code: str) -> re.Pattern[str]:
     """The template of ``code`` as a regular expression with one named group per slot."""
+    from arena_studio.core.analysis.diagnosis import SENTENCES  # heavy: after the first paint
+
     parts = re.split(r"\{(\w+)\}", SENTENCES[code])
     rx = "".join(re.escape(p) if i % 2 == 0 else f"(?P<{p}>.+?)" for i, p in enumerate(parts))
     return re.compile(f"^{rx}$")
@@ -34,6 +35,8 @@ def diagnosis_words(text: str | None, names: LandmarkNames, code: str | None = N
     template (None: the first that fits). A text no template fits is returned unchanged."""
     if not text:
         return text or ""
+    from arena_studio.core.analysis.diagnosis import SENTENCES
+
     codes = (code,) if code is not None and code in SENTENCES else tuple(SENTENCES)
     for c in codes:
         m = _pattern(c).match(text)
