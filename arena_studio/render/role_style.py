@@ -4,8 +4,10 @@ no ring = moving; thin solid ring = heading to a target; double ring = holding a
 hollow body with a dotted ring = idle; triangle badge = off the team goal. Rings alone are
 hard to tell apart at body size, so each role also carries a glyph badge outside the body,
 at its lower right: an arrowhead (heading), a filled square (holding), two pause bars
-(idle). Tape labels take the styles in :data:`TAPE_STYLES` order (plus a plus badge and a
-dashed ring), the idle and off-goal looks last.
+(idle). A tape label that says one of those things in plain words ("heads to …", "holds …",
+"waits at …", "waits") gets that look, so the glyph means the same as in derived roles; any
+other label takes a look of its own in :data:`TAPE_STYLES` order (a plus badge and a dashed
+ring first), never one a meaning above already took in that episode.
 """
 
 from __future__ import annotations
@@ -31,10 +33,40 @@ DERIVED_STYLE = {
     IDLE: STYLE_HOLLOW,
     OFF_GOAL: STYLE_BADGE,
 }
-#: tape labels take these styles in order of first appearance; the looks that say "idle"
-#: (hollow body, pause bars) and "off the team goal" (warning triangle) come last, so a
-#: tape's third or fourth label (say "heads to Potting bench") does not look idle
-TAPE_STYLES = (STYLE_RING, STYLE_DOUBLE, STYLE_SQUARE, STYLE_DASH, STYLE_BADGE, STYLE_HOLLOW)
+#: other tape labels take these styles in order of first appearance; the looks that say
+#: "idle" (hollow body, pause bars) and "off the team goal" (warning triangle) come last
+TAPE_STYLES = (STYLE_SQUARE, STYLE_DASH, STYLE_RING, STYLE_DOUBLE, STYLE_BADGE, STYLE_HOLLOW)
+#: plain words that give a tape label a derived role's look (lower case; a label matches when
+#: it starts with one followed by a space, or is one). Our own rollout writes these.
+LABEL_MEANINGS: tuple[tuple[tuple[str, ...], int], ...] = (
+    (("heads to", "heading to", "goes to", "going to", "moves to", "moving to"), STYLE_RING),
+    (("holds", "holding", "waits at", "waiting at", "stays at", "staying at"), STYLE_DOUBLE),
+    (("waits", "waiting", "idle", "stopped", "resting"), STYLE_HOLLOW),
+)
+
+
+def meaning_style(label: str) -> int | None:
+    """The derived look a tape label's words ask for, or None for a label of its own."""
+    words = " ".join(label.lower().split())
+    for prefixes, style in LABEL_MEANINGS:
+        for p in prefixes:
+            if words == p or words.startswith(p + " "):
+                # "waits" alone is idle; "waits at X" is matched by the holding row first
+                return style
+    return None
+
+
+def tape_style_table(labels: tuple[str, ...]) -> tuple[int, ...]:
+    """One style per tape label: its meaning's look, else the next look no meaning took."""
+    meant = [meaning_style(label) for label in labels]
+    taken = {m for m in meant if m is not None}
+    free = [st for st in TAPE_STYLES if st not in taken] or list(TAPE_STYLES)
+    styles, k = [], 0
+    for m in meant:
+        if m is None:
+            m, k = free[k % len(free)], k + 1
+        styles.append(m)
+    return tuple(styles)
 #: above this many agents, bodies carry their number
 NUMBER_ABOVE = 6
 
@@ -52,10 +84,8 @@ def role_legend(cache: EpisodeCache, options: FrameOptions) -> list[tuple[int, s
         return [(DERIVED_STYLE[c], ROLE_NAMES[c]) for c in range(len(ROLE_NAMES))]
     if source == "tape":
         names = LandmarkNames.of(cache.scene)  # "heads to valve-west" -> "heads to West valve"
-        return [
-            (TAPE_STYLES[i % len(TAPE_STYLES)], names.text(name))
-            for i, name in enumerate(cache.tape_labels)
-        ]
+        styles = tape_style_table(cache.tape_labels)
+        return [(st, names.text(name)) for st, name in zip(styles, cache.tape_labels, strict=True)]
     return []
 
 
@@ -67,9 +97,21 @@ def agent_styles(cache: EpisodeCache, step: int, options: FrameOptions) -> np.nd
         return lut[cache.roles[step]]
     if source == "tape":
         codes = cache.tape_codes[step]
-        lut = np.array(TAPE_STYLES, dtype=np.int16)
-        return np.where(codes >= 0, lut[np.maximum(codes, 0) % len(TAPE_STYLES)], STYLE_PLAIN)
+        lut = _tape_lut(cache)
+        if not len(lut):
+            return np.full(cache.agents, STYLE_PLAIN, dtype=np.int16)
+        return np.where(codes >= 0, lut[np.clip(codes, 0, len(lut) - 1)], STYLE_PLAIN)
     return np.full(cache.agents, STYLE_PLAIN, dtype=np.int16)
+
+
+def _tape_lut(cache: EpisodeCache) -> np.ndarray:
+    """The tape labels' styles as a lookup array, worked out once per episode."""
+    key = ("role_style.tape_lut",)
+    lut = cache.memo.get(key)
+    if lut is None:
+        lut = np.array(tape_style_table(cache.tape_labels), dtype=np.int16)
+        cache.memo[key] = lut
+    return lut
 
 
 def show_numbers(agents: int, options: FrameOptions) -> bool:

@@ -1,5 +1,6 @@
 """The "Roles (tape)" legend: each entry's glyph is the look the bodies carrying that label
-get, the entries name landmarks by label, and no tape label borrows the idle look.
+get, the entries name landmarks by label, a label that says a role gets that role's look and
+any other label a look of its own.
 
 Reference: the tape's own role records (``Episode.role_at``, read back by the tape reader)
 say which label each agent carries at each step; the legend and the body painter must agree
@@ -10,11 +11,17 @@ from __future__ import annotations
 
 import pytest
 
-from arena_studio.core.analysis.roles import IDLE, OFF_GOAL
+from arena_studio.core.analysis.roles import HEADING, HOLDING, IDLE, OFF_GOAL
 from arena_studio.core.tape import open_tape
 from arena_studio.render.episode_cache import episode_cache
 from arena_studio.render.options import FrameOptions
-from arena_studio.render.role_style import DERIVED_STYLE, agent_styles, role_legend
+from arena_studio.render.role_style import (
+    DERIVED_STYLE,
+    agent_styles,
+    meaning_style,
+    role_legend,
+    tape_style_table,
+)
 from tests.conftest import SCENES
 
 
@@ -46,13 +53,29 @@ def test_each_legend_glyph_is_the_look_of_the_bodies_with_that_label(greedy):
     assert checked == set(cache.tape_labels)  # every entry was seen on a body
 
 
-def test_tape_labels_do_not_take_the_idle_or_off_goal_look(greedy):
+def test_labels_that_say_a_role_get_that_roles_look(greedy):
+    # the words are those our own rollout writes (core.sim.controller: "heads to X",
+    # "waits at X" once the target is reached, "holds X"; core.sim.rollout: "waits")
     scene, ep = greedy
     legend = role_legend(episode_cache(scene, ep), FrameOptions())
-    styles = [style for style, _name in legend]
-    assert len(set(styles)) == len(styles)  # told apart
-    for style in styles[:4]:
-        assert style not in (DERIVED_STYLE[IDLE], DERIVED_STYLE[OFF_GOAL])
+    assert [style for style, _name in legend] == [
+        DERIVED_STYLE[HEADING],
+        DERIVED_STYLE[HOLDING],
+        DERIVED_STYLE[HEADING],  # the line, not the look, says which target
+    ]
+    assert meaning_style("holds Tool rack") == DERIVED_STYLE[HOLDING]
+    assert meaning_style("  Waits ") == DERIVED_STYLE[IDLE]
+    assert meaning_style("waits at the door") == DERIVED_STYLE[HOLDING]
+    assert meaning_style("headstrong") is None  # whole words only
+
+
+def test_labels_of_their_own_are_told_apart_and_never_look_idle():
+    labels = ("scout", "carrier", "heads to dock", "relay")
+    styles = tape_style_table(labels)
+    own = [st for st, label in zip(styles, labels, strict=True) if meaning_style(label) is None]
+    assert len(set(own)) == len(own) == 3
+    assert DERIVED_STYLE[HEADING] not in own  # taken by "heads to dock" in this episode
+    assert DERIVED_STYLE[IDLE] not in own and DERIVED_STYLE[OFF_GOAL] not in own
 
 
 def test_legend_entries_name_landmarks_by_label(greedy):
