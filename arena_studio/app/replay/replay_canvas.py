@@ -25,6 +25,8 @@ from PySide6.QtWidgets import (
 )
 
 from arena_studio.app.canvas import SceneCanvas
+from arena_studio.app.replay import canvas_room
+from arena_studio.app.replay.canvas_room import LEGEND_W, LegendPlace, Room
 from arena_studio.app.replay.clock_overlay import ClockOverlay
 from arena_studio.app.replay.prepared import PreparedEpisode
 from arena_studio.app.replay.trail_prefill import TrailPrefill
@@ -34,11 +36,12 @@ from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.episode import Episode
 from arena_studio.render.episode_cache import episode_cache
 from arena_studio.render.episode_painter import FrameOptions, paint_episode_frame, paint_legend
+from arena_studio.render.legend_compact import agent_at as compact_agent_at
+from arena_studio.render.legend_compact import paint_compact_legend
 from arena_studio.render.paint_guard import guarded, saved
 from arena_studio.render.theme import Theme
 from arena_studio.render.view import ViewTransform
 
-LEGEND_W = 200.0
 HOVER_SLACK_PX = 6.0
 #: room the hover card takes (pixels), for keeping it inside the canvas
 CARD_W, CARD_H = 300, 120
@@ -113,8 +116,12 @@ class ReplayCanvas(SceneCanvas):
         self.trail_prefill = TrailPrefill(self.viewport())
         self.layer_episode.prefill = self.layer_ghost.prefill = self.trail_prefill
         self.prepared: PreparedEpisode | None = None
-        self.caption: str | None = None  # e.g. "episode 12 (aligned success)" in compare mode
-        self.show_legend = True
+        self._caption: str | None = None
+        self.caption_box: QRectF | None = None  # where the caption was last drawn (pixels)
+        self._show_legend = True
+        self._place: tuple[tuple, LegendPlace | None] | None = None  # (key, place)
+        #: agent rows of the full legend as last painted, (agent, rect in viewport pixels)
+        self._legend_hits: list[tuple[int, QRectF]] = []
         self.show_clock = True
         #: in compare mode: the shared timeline's length in steps, so both panes read the
         #: same "t / total" as the transport (None: this episode's own length)
@@ -152,8 +159,7 @@ class ReplayCanvas(SceneCanvas):
             self.resetCachedContent()
         self.prepared = prepared
         self.layer_episode.set_content(scene, None if prepared is None else prepared.episode)
-        self._keep_labels_off_the_legend()
-        self.viewport().update()
+        self._relayout()
 
     def set_ghost(self, episode: Episode | None) -> None:
         self.layer_ghost.set_content(self.scene_value if episode else None, episode)
@@ -168,6 +174,8 @@ class ReplayCanvas(SceneCanvas):
             self._recheck_hover()
 
     def set_options(self, options: FrameOptions) -> None:
+        self.layer_episode.options = options  # the overlays' places depend on the options
+        options = replace(options, tag_keep_out=self._overlay_boxes())
         self.layer_episode.options = options
         self.layer_ghost.options = FrameOptions(
             theme=options.theme,
@@ -182,6 +190,35 @@ class ReplayCanvas(SceneCanvas):
         self.layer_episode.update()
         self.layer_ghost.update()
         self._keep_labels_off_the_legend()  # the legend may have been switched on or off
+
+    @property
+    def caption(self) -> str | None:
+        """Which episode this pane shows (compare mode), e.g. "compared: episode 3"."""
+        return self._caption
+
+    @caption.setter
+    def caption(self, text: str | None) -> None:
+        if text != self._caption:
+            self._caption = text
+            self._relayout()
+
+    @property
+    def show_legend(self) -> bool:
+        return self._show_legend
+
+    @show_legend.setter
+    def show_legend(self, shown: bool) -> None:
+        if shown != self._show_legend:
+            self._show_legend = shown
+            self._relayout()
+
+    def _relayout(self) -> None:
+        """The overlays' places changed (episode, caption, legend, size): refit the scene
+        while it follows the view, and keep labels and tags clear of the overlays."""
+        if self.auto_fit and self.scene_value is not None and self.viewport().width() > 50:
+            self.fit_scene()
+        self.set_options(self.layer_episode.options)
+        self.viewport().update()
 
     @property
     def options(self) -> FrameOptions:
@@ -212,53 +249,41 @@ class ReplayCanvas(SceneCanvas):
             self.layer.paint(painter, QStyleOptionGraphicsItem(), None)
 
     # -- fitting -----------------------------------------------------------------------
+    def header_height(self) -> float:
+        """Pixels the clock (and the caption under it) take at the top."""
+        return canvas_room.header_height(self.viewport().width(), bool(self.caption))
+
+    def room(self) -> Room:
+        """Pixels the overlays take on each side of the scene."""
+        place = self.legend_place()
+        return place.room if place is not None else Room(self.header_height())
+
     def legend_room(self) -> float:
         """Pixels kept free on the right for the legend."""
-        ep = self.layer_episode.episode
-        shown = self.show_legend and ep is not None and self.viewport().width() > 520
-        return LEGEND_W + 60.0 if shown else 0.0
+        return self.room().right
 
-    def fit_scene(self, margin_px: float = 36.0) -> None:
-        """Fit the scene into the part of the view the legend leaves free."""
+    def fit_scene(self, margin_px: float | None = None) -> None:
+        """Fit the scene into the part of the view the overlays leave free."""
         from PySide6.QtGui import QTransform
 
-        from arena_studio.app.canvas import MAX_PPM, MIN_PPM
-        from arena_studio.core.geometry.regions import bounds
-
-        room = self.legend_room()
-        minx, miny, maxx, maxy = bounds(self.scene_value)
-        vw = max(self.viewport().width() - room - 2 * margin_px, 40.0)
-        vh = max(self.viewport().height() - 2 * margin_px - 30.0, 40.0)  # 30: clock line
-        s = 1.0
-        for _ in range(3):  # landmark labels are sized in pixels: refit with them in view
-            w, h = max(maxx - minx, 1.0), max(maxy - miny, 1.0)
-            s = min(max(min(vw / w, vh / h), MIN_PPM), MAX_PPM)
-            minx, miny, maxx, maxy = self._with_labels(bounds(self.scene_value), s)
+        if self.scene_value is None:
+            return
+        s, cx, cy = self._fit(self.room(), margin_px)
         self.setTransform(QTransform.fromScale(s, -s))
-        cx = (minx + maxx) / 2 + room / 2 / s
-        cy = (miny + maxy) / 2 + 15.0 / s
         self.centerOn(QPointF(cx, cy))
         self.zoomChanged.emit(s)
 
-    def _with_labels(
-        self, box: tuple[float, float, float, float], scale: float
-    ) -> tuple[float, float, float, float]:
-        """``box`` grown to hold the landmark labels as drawn at ``scale`` px/m."""
-        from arena_studio.render.scene_painter import label_places
+    def _fit(self, room: Room, margin_px: float | None = None) -> tuple[float, float, float]:
+        from arena_studio.app.canvas import MAX_PPM, MIN_PPM
 
         assert self.scene_value is not None
-        minx, miny, maxx, maxy = box
-        view = ViewTransform(scale, 0.0, 0.0)
-        for place in label_places(self.scene_value, view, 1.0, None, False):
-            x0, y0, x1, y1 = place.box
-            minx, miny, maxx, maxy = min(minx, x0), min(miny, y0), max(maxx, x1), max(maxy, y1)
-        return minx, miny, maxx, maxy
+        size = (float(self.viewport().width()), float(self.viewport().height()))
+        margin = canvas_room.margin_for(size) if margin_px is None else margin_px
+        return canvas_room.fit(self.scene_value, size, room, margin, (MIN_PPM, MAX_PPM))
 
     def resizeEvent(self, event) -> None:
         super().resizeEvent(event)
-        self._keep_labels_off_the_legend()
-        if self.auto_fit and self.viewport().width() > 50:
-            self.fit_scene()
+        self._relayout()
 
     def zoom_by(self, factor: float) -> None:
         self.auto_fit = False
@@ -268,6 +293,13 @@ class ReplayCanvas(SceneCanvas):
         if self._starts_pan(event):
             self.auto_fit = False
         elif event.button() == Qt.MouseButton.LeftButton and self.prepared is not None:
+            legend = self.legend_rect()
+            if legend is not None and legend.contains(event.position()):
+                agent = self.legend_agent_at(event.position())
+                if agent is not None:  # a click on a title or a key row changes nothing
+                    self.agentClicked.emit(agent)
+                event.accept()
+                return
             self.agentClicked.emit(self.agent_at(event.position()))
         super().mousePressEvent(event)
 
@@ -286,10 +318,14 @@ class ReplayCanvas(SceneCanvas):
                     painter, QRectF(0, 0, 320, 60), ep, self.step, self.theme, ui,
                     self.shared_steps,
                 )  # fmt: skip
-            legend = self.legend_rect()
-            if legend is not None:
-                top_left = legend.topLeft().toPoint()
-                painter.drawPixmap(top_left, self._legend_pixmap(ep, legend.height()))
+            place = self.legend_place()
+            if place is not None and place.compact is not None:
+                paint_compact_legend(
+                    painter, place.rect.topLeft(), place.compact, self.theme, self.options
+                )
+            elif place is not None:
+                top_left = place.rect.topLeft().toPoint()
+                painter.drawPixmap(top_left, self._legend_pixmap(ep, place.rect.height()))
             if self.caption:
                 self._paint_caption(painter, w)
             self._paint_mismatches(painter)
@@ -308,21 +344,69 @@ class ReplayCanvas(SceneCanvas):
             at = self.mapFromScene(QPointF(*f.point))
             painter.drawRect(QRectF(at.x() - 7, at.y() - 7, 14, 14))
 
-    def legend_rect(self) -> QRectF | None:
-        """Where the legend goes in the viewport (top right), or None when it is not shown."""
-        ep = self.layer_episode.episode
+    def legend_place(self) -> LegendPlace | None:
+        """Where the legend goes and how (full or compact), or None when it is not shown."""
+        ep, scene = self.layer_episode.episode, self.scene_value
         w, h = self.viewport().width(), self.viewport().height()
-        if ep is None or not self.show_legend or w <= 520:
+        if ep is None or scene is None or not self.show_legend or w < 160 or h < 120:
             return None
-        height = min(h - 20.0, 150.0 + 20.0 * (ep.agent_count + 9))
-        return QRectF(int(w - LEGEND_W - 10), 10, LEGEND_W, height)
+        plain = replace(self.options, focus=None, tag_keep_out=())
+        key = (w, h, id(ep), id(scene), plain, bool(self.caption))
+        if self._place is not None and self._place[0] == key:
+            return self._place[1]
+        top = self.header_height()
+        place = canvas_room.place_legend(
+            scene, ep, plain, (float(w), float(h)), top, lambda room: self._fit(room)[0]
+        )
+        self._place = (key, place)
+        return place
+
+    def legend_rect(self) -> QRectF | None:
+        """Where the legend goes in the viewport, or None when it is not shown."""
+        place = self.legend_place()
+        return None if place is None else place.rect
+
+    def legend_agent_rows(self) -> list[tuple[int, QRectF]]:
+        """Each agent row of the legend as drawn: (agent, rectangle in viewport pixels)."""
+        place = self.legend_place()
+        ep = self.layer_episode.episode
+        if place is None or ep is None:
+            return []
+        at = place.rect.topLeft()
+        if place.compact is not None:
+            chips = place.compact.chips
+            return [(int(str(c.arg)), c.rect.translated(at)) for c in chips if c.kind == "agent"]
+        self._legend_pixmap(ep, place.rect.height())  # the rows are recorded as painted
+        return [(a, r.translated(at)) for a, r in self._legend_hits]
+
+    def legend_agent_at(self, pos: QPointF) -> int | None:
+        """The agent whose legend row is under the viewport point ``pos``, or None."""
+        place = self.legend_place()
+        if place is not None and place.compact is not None:
+            return compact_agent_at(place.compact, pos - place.rect.topLeft())
+        for agent, rect in self.legend_agent_rows():
+            if rect.contains(pos):
+                return agent
+        return None
+
+    def _overlay_boxes(self) -> tuple[tuple[float, float, float, float], ...]:
+        """Pixel boxes the overlays cover (clock and caption, legend): name tags and
+        landmark labels keep clear of them."""
+        w = float(self.viewport().width())
+        boxes = []
+        if self.layer_episode.episode is not None:
+            head_w = w if self.caption and w >= canvas_room.CAPTION_CENTRED_FROM_PX else 240.0
+            boxes.append((0.0, 0.0, min(head_w, w), self.header_height()))
+        legend = self.legend_rect()
+        if legend is not None:
+            boxes.append((legend.left() - 4, legend.top() - 4, legend.right() + 10,
+                          legend.bottom() + 4))  # fmt: skip
+        return tuple(boxes)
 
     def _keep_labels_off_the_legend(self) -> None:
-        """Landmark labels are placed clear of the legend: its rectangle goes to the scene
-        layer, whose cached background is redrawn when the rectangle changes."""
-        legend = self.legend_rect()
-        keep = () if legend is None else ((legend.left() - 4, 0.0, legend.right() + 10,
-                                           legend.bottom() + 4),)  # fmt: skip
+        """Landmark labels are placed clear of the legend and the clock: their rectangles go
+        to the scene layer, whose cached background is redrawn when they change."""
+        keep = self.layer_episode.options.tag_keep_out
         if keep != self.layer.options.label_keep_out:
             self.layer.options = replace(self.layer.options, label_keep_out=keep)
             self.resetCachedContent()
@@ -331,17 +415,21 @@ class ReplayCanvas(SceneCanvas):
     def _legend_pixmap(self, ep: Episode, height: float) -> QPixmap:
         """The legend does not change with the step: paint it once per episode/theme/size."""
         dpr = self.devicePixelRatioF()
-        key = (ep, self.theme.name, self.options, int(height), dpr)  # Episode: eq by identity
+        plain = replace(self.options, tag_keep_out=())
+        key = (ep, self.theme.name, plain, int(height), dpr)  # Episode: eq by identity
         if self._legend_cache is not None and self._legend_cache[0] == key:
             return self._legend_cache[1]
         pm = QPixmap(int(LEGEND_W * dpr), int(height * dpr))
         pm.setDevicePixelRatio(dpr)
         pm.fill(Qt.GlobalColor.transparent)
         p = QPainter(pm)
+        hits: list[tuple[int, QRectF]] = []
         paint_legend(
-            p, QRectF(0, 0, LEGEND_W, height), self.scene_value, ep, self.theme, self.options, 1.0
-        )
+            p, QRectF(0, 0, LEGEND_W, height), self.scene_value, ep, self.theme, plain, 1.0,
+            hits=hits,
+        )  # fmt: skip
         p.end()
+        self._legend_hits = hits
         self._legend_cache = (key, pm)
         return pm
 
@@ -350,9 +438,10 @@ class ReplayCanvas(SceneCanvas):
         when the view is too narrow for both."""
         from arena_studio.render.drawing import font, label
 
-        wide = width >= 760
-        anchor = QPointF(width / 2, 18) if wide else QPointF(10, 84)
-        label(
+        wide = width >= canvas_room.CAPTION_CENTRED_FROM_PX
+        below = canvas_room.CLOCK_H + canvas_room.CAPTION_H / 2 - 2
+        anchor = QPointF(width / 2, 18) if wide else QPointF(10, below)
+        self.caption_box = label(
             painter,
             self.caption or "",
             anchor,

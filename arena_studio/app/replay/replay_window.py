@@ -36,12 +36,16 @@ from arena_studio.app.replay.summary import damaged_summary
 from arena_studio.app.replay.timeline import TimelineBar
 from arena_studio.app.replay.transport import PlaybackClock
 from arena_studio.app.replay.transport_bar import TransportBar
-from arena_studio.app.replay.verdict import VerdictLine
+from arena_studio.app.replay.verdict import LINK_COMPARED, BoundedLine, VerdictLine
 from arena_studio.app.replay.view_toolbar import COMPARE_MODES, ViewToolbar
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.damage import Damage
 from arena_studio.core.tape.episode_scene import episode_scene
 from arena_studio.render.theme import Theme, load_theme
+
+#: replay pages shorter than this (a 1280x800 screen) get a smaller Plots dock and a
+#: shorter explanation line, so the canvas keeps the height it needs
+SMALL_WINDOW_H = 820
 
 
 class ReplayWindow(QMainWindow):
@@ -107,8 +111,9 @@ class ReplayWindow(QMainWindow):
         self.split.addWidget(self.canvas_b)
         layout.addWidget(self.split, 1)
         self.verdict = VerdictLine(self.theme, central)
-        self.verdict.linkActivated.connect(lambda _l: self.go_to_diagnosis())
-        layout.addWidget(self.verdict)
+        self.verdict.linkActivated.connect(self._on_verdict_link)
+        self.verdict_box = BoundedLine(self.verdict, parent=central)
+        layout.addWidget(self.verdict_box)
         self.timeline = TimelineBar(self.clock, self.theme, central)
         layout.addWidget(self.timeline)
         self.transport = TransportBar(self.clock, self.replay_actions, self.theme, central)
@@ -151,9 +156,11 @@ class ReplayWindow(QMainWindow):
             self._docks_sized = False
             return
         h, w = self.height(), self.width()
+        small = h < SMALL_WINDOW_H  # a 1280x800 screen: the canvas needs every line
+        self.verdict_box.set_max_lines(5 if small else 7)
         self.resizeDocks(
             [self.dock_plots, self.dock_batch],
-            [max(int(h * 0.27), 170)] * 2,
+            [max(int(h * 0.21), 150) if small else max(int(h * 0.27), 170)] * 2,
             Qt.Orientation.Vertical,
         )
         self.resizeDocks(
@@ -433,6 +440,12 @@ class ReplayWindow(QMainWindow):
     def verdict_text(self) -> str:
         """What the line under the canvas says now (rich text)."""
         return self.verdict.text()
+
+    def _on_verdict_link(self, link: str) -> None:
+        if link == LINK_COMPARED:
+            self.verdict.toggle_compared_details()
+        else:
+            self.go_to_diagnosis()
 
     def _update_verdict(self) -> None:
         compared = self.compare if self.compare_mode != "off" else None
