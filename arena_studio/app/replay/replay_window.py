@@ -126,7 +126,7 @@ class ReplayWindow(QMainWindow):
         self.dock_episodes = self._dock(
             "Episodes", self.episode_list, Qt.DockWidgetArea.LeftDockWidgetArea
         )
-        self.episode_list.setMinimumWidth(260)
+        self.episode_list.setMinimumWidth(240)
         self.episode_list.set_theme(self.theme)
         self.plots = PlotsPanel(self.clock, self.theme, self)
         self.dock_plots = self._dock("Plots", self.plots, Qt.DockWidgetArea.BottomDockWidgetArea)
@@ -163,8 +163,12 @@ class ReplayWindow(QMainWindow):
             [max(int(h * 0.21), 150) if small else max(int(h * 0.27), 170)] * 2,
             Qt.Orientation.Vertical,
         )
+        # the list's own width (every column whole), within a third of a small window
+        wanted = self.episode_list.preferred_width()
         self.resizeDocks(
-            [self.dock_episodes], [min(max(int(w * 0.35), 340), 560)], Qt.Orientation.Horizontal
+            [self.dock_episodes],
+            [min(max(wanted, int(w * 0.28)), max(int(w * 0.36), wanted if w > 1400 else 0), 560)],
+            Qt.Orientation.Horizontal,
         )
         self.fit_views()
 

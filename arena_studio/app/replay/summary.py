@@ -28,6 +28,7 @@ class EpisodeSummary:
     aligned: bool | None = None
     diagnosis: str | None = None
     diagnosis_step: int | None = None
+    diagnosis_code: str | None = None  # core.analysis.diagnosis.CODES, for a short word
     steps: int | None = None
     loaded: bool = False  # False: placeholder row while metrics are being computed
     damage: str | None = None  # why the episode cannot be read (where and what), else None
@@ -73,6 +74,7 @@ def summary_from_metrics(scene: Scene, episode: Episode, metrics: Any) -> Episod
     """Build a row from an ``EpisodeMetrics`` (read by attribute name, per api_contracts)."""
     diag = getattr(metrics, "diagnosis", None)
     diag_step = getattr(metrics, "diagnosis_step", None)
+    code = getattr(metrics, "diagnosis_code", None)
     # the goal the metrics judged (the team goal, or the shared pursued goal when none)
     goal = getattr(metrics, "goal", None)
     if goal is None and episode.team_goal is not None:
@@ -92,6 +94,7 @@ def summary_from_metrics(scene: Scene, episode: Episode, metrics: Any) -> Episod
         aligned=_opt_bool(getattr(metrics, "aligned", None)),
         diagnosis=None if diag is None else str(diag),
         diagnosis_step=None if diag_step is None else int(diag_step),
+        diagnosis_code=None if code is None else str(code),
         steps=episode.steps,
         loaded=True,
     )

@@ -47,7 +47,12 @@ def describe(
     """Rich text for one episode; ``link`` adds "go there" until ``step`` reaches it. The
     simulator's reported outcome, when the tape has one, follows. A misaligned failure gets
     ``explain(episode)``'s sentences (what was announced and who followed it)."""
-    text = _verdict(p, theme, lead, step, link) + where_words(p)
+    return _verdict(p, theme, lead, step, link) + details(p, explain)
+
+
+def details(p: PreparedEpisode, explain: Callable[[Any], list[str]] | None = None) -> str:
+    """What follows the verdict: who went where, the messages, the simulator's report."""
+    text = where_words(p)
     if explain is not None and getattr(p.metrics, "diagnosis_code", None) == "misaligned":
         said = explain(p.episode)
         if said:
@@ -118,17 +123,18 @@ class VerdictLine(QLabel):
     def show_episodes(
         self, shown: PreparedEpisode | None, compared: PreparedEpisode | None, step: int
     ) -> None:
-        """The shown episode in full; the compared one in one line, its who-went-where and
-        the simulator's report behind a link (``compared_details`` toggles them)."""
+        """The shown episode in full; the compared one in one line right under its verdict
+        (read first when the line scrolls), its who-went-where and the simulator's report
+        behind a link (``compared_details`` toggles them)."""
         self._last = (shown, compared, step)
         if shown is None:
             self.setText("")
             state = "none"
         else:
-            text = describe(shown, self.theme, "Episode", step, link=True, explain=self.explain)
+            text = _verdict(shown, self.theme, "Episode", step, True)
             if compared is not None:
                 text += "<br>" + self._compared_words(compared, step)
-            self.setText(text)
+            self.setText(text + details(shown, self.explain))
             m = shown.metrics
             state = "none" if m is None else ("ok" if getattr(m, "success", False) else "failed")
         if state != self._state:
