@@ -175,10 +175,7 @@ class ReplaySession(QObject):
                     )
                 if episode.messages:
                     self.message_inputs[i] = MessageInput(
-                        i,
-                        episode.messages,
-                        episode.pursued_goals,
-                        bool(row.success),
+                        i, episode.messages, episode.pursued_goals, bool(row.success),
                         row.aligned is True,
                     )
                 yield row

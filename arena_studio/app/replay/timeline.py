@@ -48,8 +48,6 @@ def spread(xs: list[float], gap: float, left: float, right: float) -> list[float
         limit = right if k == len(out) - 1 else out[k + 1] - gap
         out[k] = min(out[k], limit)
     return [max(v, left) for v in out]
-
-
 HIT_RADIUS_PX = 6.0
 CURSOR_HALF_PX = 8  # half the strip repainted around the cursor when the step changes
 
