@@ -62,14 +62,16 @@ def compact_layout(
     width: float,
     max_height: float,
     ui: float = 1.0,
+    sections_up_to: int = 3,
 ) -> CompactLayout:
-    """Chips flowing within ``width``; each section starts a new line. Roles, then marks, are
-    left out when the legend would be taller than ``max_height``."""
+    """Chips flowing within ``width``; each section starts a new line. At most
+    ``sections_up_to`` sections (agents, roles, marks); marks, then roles, are left out
+    when the legend would be taller than ``max_height``."""
     cache = episode_cache(scene, episode)
     row, r, pad, gap, fm = _metrics(ui)
     tall = QRectF(0, 0, width, row * (MAX_AGENT_CHIPS + 1) / 0.45)  # room for the agent cap
     sections = [rows for _title, rows in _sections(cache, scene, options, ui, tall, row, False)]
-    for keep in range(len(sections), 0, -1):
+    for keep in range(min(len(sections), max(sections_up_to, 1)), 0, -1):
         chips: list[Chip] = []
         x, y, right = pad, pad, 0.0
         for k, rows in enumerate(sections[:keep]):

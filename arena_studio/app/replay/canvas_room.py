@@ -28,6 +28,8 @@ CLOCK_H = 50.0
 CAPTION_H = 24.0
 #: the view width from which the caption sits top centre instead of under the clock
 CAPTION_CENTRED_FROM_PX = 760
+#: how much scene scale one more legend section (roles, marks) is worth, as a share
+SECTION_WORTH = 0.06
 #: the compact legend may take this share of the view's height (strip) or width (column)
 STRIP_SHARE, COLUMN_SHARE = 0.3, 0.34
 
@@ -47,6 +49,12 @@ class LegendPlace:
     rect: QRectF  # in viewport pixels
     compact: CompactLayout | None
     room: Room
+
+
+def scale_bar_room(width: float) -> float:
+    """Pixels the scale bar takes at the bottom left: its bar (render.scene_painter makes
+    it at most a sixth of the view) from 16 px in, and its "10 m" label."""
+    return 16.0 + width / 6 + 44.0
 
 
 def header_height(width: float, caption: bool) -> float:
@@ -70,18 +78,26 @@ def place_legend(
         height = min(h - 20.0, 150.0 + 20.0 * (episode.agent_count + 9))
         rect = QRectF(int(w - LEGEND_W - 10), 10, LEGEND_W, height)
         return LegendPlace("full", rect, None, Room(top, LEGEND_W + 60.0))
-    strip = compact_layout(scene, episode, options, w - 20.0, h * STRIP_SHARE)
-    column = compact_layout(scene, episode, options, w * COLUMN_SHARE, h - 20.0)
-    below = Room(top, 0.0, strip.size.height() + 8.0)
-    beside = Room(top, column.size.width() + 16.0, 0.0)
-    # more of the legend wins a tie; a strip that had to drop sections loses to a column
-    strip_score = scale_for(below) * (1.0 if len(strip.chips) >= len(column.chips) else 0.9)
-    if strip_score >= scale_for(beside):
+    # a strip bottom right, beside the scale bar (bottom left, at most w/6 long), or a
+    # column top right; with every section, or fewer when they cost the scene much room
+    best: tuple[float, LegendPlace] | None = None
+    strip_w = w - 20.0 - scale_bar_room(w)
+    for keep in (3, 2, 1):
+        strip = compact_layout(scene, episode, options, strip_w, h * STRIP_SHARE, 1.0, keep)
+        column = compact_layout(scene, episode, options, w * COLUMN_SHARE, h - 20.0, 1.0, keep)
         sw, sh = strip.size.width(), strip.size.height()
-        rect = QRectF(int(w - sw - 10), int(h - sh - 8), sw, sh)
-        return LegendPlace("compact", rect, strip, below)
-    cw, ch = column.size.width(), column.size.height()
-    return LegendPlace("compact", QRectF(int(w - cw - 8), 10, cw, ch), column, beside)
+        cw, ch = column.size.width(), column.size.height()
+        for layout, rect, room in (
+            (strip, QRectF(int(w - sw - 10), int(h - sh - 8), sw, sh), Room(top, 0.0, sh + 8)),
+            (column, QRectF(int(w - cw - 8), 10, cw, ch), Room(top, cw + 16.0, 0.0)),
+        ):
+            # each section beyond the agents is worth SECTION_WORTH of the scene's scale
+            shown = len({c.kind for c in layout.chips} - {"more"})
+            score = scale_for(room) * (1.0 + SECTION_WORTH * (shown - 1))
+            if best is None or score > best[0]:
+                best = (score, LegendPlace("compact", rect, layout, room))
+    assert best is not None
+    return best[1]
 
 
 def margin_for(size: tuple[float, float]) -> float:
