@@ -114,3 +114,20 @@ def test_explanation_height_is_bounded_and_the_canvas_keeps_its_share(make_windo
     assert line.height() <= line.cap()
     # the panes get at least 40 % of the replay page's height (they had 35 % before)
     assert page.canvas.height() >= 0.4 * page.height(), (page.canvas.height(), page.height())
+
+
+def test_the_overview_tab_gets_its_own_height_and_plots_theirs_back(make_window, qtbot):
+    win = make_window()
+    win.resize(first_size(QRect(0, 0, 1280, 800)))
+    assert win.open_path(GREEDY)
+    page = win.replay_page
+    assert page.wait_loaded()
+    qtbot.waitUntil(lambda: bool(page.tab_heights), timeout=5000)  # first-show sizing done
+    plots = page.dock_plots.height()
+    page.dock_batch.raise_()
+    qtbot.waitUntil(lambda: page.dock_batch.height() > plots + 20, timeout=5000)
+    # a line per landmark in the goal grid (its rows are at least 16 px: batch_view)
+    rows = len(page.scene_value.landmarks)
+    assert page.batch.height() >= 16 * rows + 42
+    page.dock_plots.raise_()
+    qtbot.waitUntil(lambda: abs(page.dock_plots.height() - plots) <= 15, timeout=5000)

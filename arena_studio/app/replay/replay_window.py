@@ -46,6 +46,8 @@ from arena_studio.render.theme import Theme, load_theme
 #: replay pages shorter than this (a 1280x800 screen) get a smaller Plots dock and a
 #: shorter explanation line, so the canvas keeps the height it needs
 SMALL_WINDOW_H = 820
+#: a bottom tab this much taller or shorter than asked for was resized by the user
+USER_RESIZE_PX = 40
 
 
 class ReplayWindow(QMainWindow):
@@ -144,6 +146,11 @@ class ReplayWindow(QMainWindow):
         self.dock_plots.raise_()
         self.setCorner(Qt.Corner.BottomLeftCorner, Qt.DockWidgetArea.LeftDockWidgetArea)
         self._docks_sized = False
+        #: the bottom tabs' own heights: the plots are read beside the canvas, the overview
+        #: needs more lines (a small window gives each its own; a resize is remembered)
+        self.tab_heights: dict[QDockWidget, int] = {}
+        for dock in (self.dock_plots, self.dock_batch):
+            dock.visibilityChanged.connect(lambda shown, d=dock: self._on_tab_shown(d, shown))
 
     def showEvent(self, event) -> None:
         super().showEvent(event)
@@ -158,11 +165,10 @@ class ReplayWindow(QMainWindow):
         h, w = self.height(), self.width()
         small = h < SMALL_WINDOW_H  # a 1280x800 screen: the canvas needs every line
         self.verdict_box.set_max_lines(5 if small else 7)
-        self.resizeDocks(
-            [self.dock_plots, self.dock_batch],
-            [max(int(h * 0.21), 150) if small else max(int(h * 0.27), 170)] * 2,
-            Qt.Orientation.Vertical,
-        )
+        plots = max(int(h * 0.21), 150) if small else max(int(h * 0.27), 170)
+        self.resizeDocks([self.dock_plots, self.dock_batch], [plots] * 2, Qt.Orientation.Vertical)
+        # the overview's goal grid needs a line per landmark: more room when it is raised
+        self.tab_heights = {self.dock_plots: plots, self.dock_batch: max(plots, int(h * 0.33))}
         # the list's own width (every column whole), within a third of a small window
         wanted = self.episode_list.preferred_width()
         self.resizeDocks(
@@ -171,6 +177,20 @@ class ReplayWindow(QMainWindow):
             Qt.Orientation.Horizontal,
         )
         self.fit_views()
+
+    def _on_tab_shown(self, dock: QDockWidget, shown: bool) -> None:
+        """A bottom tab was raised (or left): keep each tab's height apart."""
+        if not self._docks_sized or dock.isFloating():
+            return
+        want = self.tab_heights.get(dock)
+        if want is None:
+            return
+        if not shown:  # a height far from the one asked for is the user's: keep it
+            if dock.height() > 0 and abs(dock.height() - want) > USER_RESIZE_PX:
+                self.tab_heights[dock] = dock.height()
+            return
+        if abs(want - dock.height()) > USER_RESIZE_PX // 2:
+            QTimer.singleShot(0, lambda: self.resizeDocks([dock], [want], Qt.Orientation.Vertical))
 
     def _dock(self, title: str, widget: QWidget, area: Qt.DockWidgetArea) -> QDockWidget:
         dock = QDockWidget(title, self)
