@@ -14,9 +14,8 @@ from dataclasses import replace
 
 import numpy as np
 from PySide6.QtCore import QPoint, QPointF, QRectF, Qt, Signal
-from PySide6.QtGui import QMouseEvent, QPainter, QPen, QPixmap
+from PySide6.QtGui import QMouseEvent, QPainter, QPen
 from PySide6.QtWidgets import (
-    QGraphicsItem,
     QGraphicsScene,
     QGraphicsView,
     QStyleOptionGraphicsItem,
@@ -26,79 +25,23 @@ from PySide6.QtWidgets import (
 
 from arena_studio.app.canvas import SceneCanvas
 from arena_studio.app.replay import canvas_room
-from arena_studio.app.replay.canvas_room import LEGEND_W, LegendPlace, Room
+from arena_studio.app.replay.canvas_legend import CanvasLegend
+from arena_studio.app.replay.canvas_room import LegendPlace, Room
 from arena_studio.app.replay.clock_overlay import ClockOverlay
+from arena_studio.app.replay.episode_layer import EpisodeLayer
 from arena_studio.app.replay.prepared import PreparedEpisode
 from arena_studio.app.replay.trail_prefill import TrailPrefill
-from arena_studio.app.scene_items import WORLD
 from arena_studio.core.analysis.roles import ROLE_NAMES
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.episode import Episode
 from arena_studio.render.episode_cache import episode_cache
-from arena_studio.render.episode_painter import FrameOptions, paint_episode_frame, paint_legend
-from arena_studio.render.legend_compact import agent_at as compact_agent_at
-from arena_studio.render.legend_compact import paint_compact_legend
-from arena_studio.render.paint_guard import guarded, saved
+from arena_studio.render.episode_painter import FrameOptions
+from arena_studio.render.paint_guard import guarded
 from arena_studio.render.theme import Theme
-from arena_studio.render.view import ViewTransform
 
 HOVER_SLACK_PX = 6.0
 #: room the hover card takes (pixels), for keeping it inside the canvas
 CARD_W, CARD_H = 300, 120
-
-
-def view_from_painter(painter: QPainter) -> ViewTransform:
-    """The ViewTransform equal to the painter's metre -> pixel mapping (no rotation)."""
-    t = painter.worldTransform()
-    scale = math.hypot(t.m11(), t.m12())
-    return ViewTransform(scale=scale, offset_x=t.dx(), offset_y=t.dy())
-
-
-class EpisodeLayer(QGraphicsItem):
-    """Paints one episode at one step through the shared frame painter."""
-
-    def __init__(self, theme: Theme, ghost: bool = False) -> None:
-        super().__init__()
-        self.theme = theme
-        self.scene_value: Scene | None = None
-        self.episode: Episode | None = None
-        self.step = 0
-        self.options = FrameOptions()
-        self.painted_step: int | None = None  # what the last paint() drew (for tests)
-        self.prefill: TrailPrefill | None = None  # draws trail blocks ahead when idle
-        self.setZValue(30 if not ghost else 25)
-        if ghost:
-            self.setOpacity(0.38)
-
-    def boundingRect(self) -> QRectF:
-        return WORLD
-
-    def set_content(self, scene: Scene | None, episode: Episode | None) -> None:
-        self.scene_value, self.episode = scene, episode
-        self.painted_step = None
-        self.update()
-
-    def set_step(self, step: int) -> None:
-        if step != self.step:
-            self.step = step
-            self.update()
-
-    def paint(
-        self, painter: QPainter, option: QStyleOptionGraphicsItem, widget: QWidget | None = None
-    ) -> None:
-        if self.scene_value is None or self.episode is None:
-            return
-        view = view_from_painter(painter)
-        with saved(painter):
-            painter.resetTransform()
-            paint_episode_frame(
-                painter, self.scene_value, self.episode, self.step, view, self.theme, self.options
-            )
-        self.painted_step = self.step
-        if self.prefill is not None:
-            self.prefill.request(
-                self, self.scene_value, self.episode, self.step, view, self.theme, self.options
-            )
 
 
 class ReplayCanvas(SceneCanvas):
@@ -119,16 +62,13 @@ class ReplayCanvas(SceneCanvas):
         self._caption: str | None = None
         self.caption_box: QRectF | None = None  # where the caption was last drawn (pixels)
         self._show_legend = True
-        self._place: tuple[tuple, LegendPlace | None] | None = None  # (key, place)
-        #: agent rows of the full legend as last painted, (agent, rect in viewport pixels)
-        self._legend_hits: list[tuple[int, QRectF]] = []
+        self.legend = CanvasLegend(self)
         self.show_clock = True
         #: in compare mode: the shared timeline's length in steps, so both panes read the
         #: same "t / total" as the transport (None: this episode's own length)
         self.shared_steps: int | None = None
         self._hover_agent: int | None = None
         self._hover_pos = None
-        self._legend_cache: tuple[tuple, QPixmap] | None = None
         self._clock = ClockOverlay()  # render.legend.paint_clock with fonts made once
         self.auto_fit = True  # keep the scene fitted on resize until the user zooms or pans
         # the scene never changes during a replay: keep the background (floor, grid) and the
@@ -268,12 +208,13 @@ class ReplayCanvas(SceneCanvas):
 
         if self.scene_value is None:
             return
-        s, cx, cy = self._fit(self.room(), margin_px)
+        s, cx, cy = self.fit_for(self.room(), margin_px)
         self.setTransform(QTransform.fromScale(s, -s))
         self.centerOn(QPointF(cx, cy))
         self.zoomChanged.emit(s)
 
-    def _fit(self, room: Room, margin_px: float | None = None) -> tuple[float, float, float]:
+    def fit_for(self, room: Room, margin_px: float | None = None) -> tuple[float, float, float]:
+        """Scale and centre that fit the scene into what ``room`` leaves of the view."""
         from arena_studio.app.canvas import MAX_PPM, MIN_PPM
 
         assert self.scene_value is not None
@@ -318,14 +259,7 @@ class ReplayCanvas(SceneCanvas):
                     painter, QRectF(0, 0, 320, 60), ep, self.step, self.theme, ui,
                     self.shared_steps,
                 )  # fmt: skip
-            place = self.legend_place()
-            if place is not None and place.compact is not None:
-                paint_compact_legend(
-                    painter, place.rect.topLeft(), place.compact, self.theme, self.options
-                )
-            elif place is not None:
-                top_left = place.rect.topLeft().toPoint()
-                painter.drawPixmap(top_left, self._legend_pixmap(ep, place.rect.height()))
+            self.legend.paint(painter, ep)
             if self.caption:
                 self._paint_caption(painter, w)
             self._paint_mismatches(painter)
@@ -346,48 +280,20 @@ class ReplayCanvas(SceneCanvas):
 
     def legend_place(self) -> LegendPlace | None:
         """Where the legend goes and how (full or compact), or None when it is not shown."""
-        ep, scene = self.layer_episode.episode, self.scene_value
-        w, h = self.viewport().width(), self.viewport().height()
-        if ep is None or scene is None or not self.show_legend or w < 160 or h < 120:
-            return None
-        plain = replace(self.options, focus=None, tag_keep_out=())
-        key = (w, h, id(ep), id(scene), plain, bool(self.caption))
-        if self._place is not None and self._place[0] == key:
-            return self._place[1]
-        top = self.header_height()
-        place = canvas_room.place_legend(
-            scene, ep, plain, (float(w), float(h)), top, lambda room: self._fit(room)[0]
-        )
-        self._place = (key, place)
-        return place
+        return self.legend.place()
 
     def legend_rect(self) -> QRectF | None:
         """Where the legend goes in the viewport, or None when it is not shown."""
-        place = self.legend_place()
+        place = self.legend.place()
         return None if place is None else place.rect
 
     def legend_agent_rows(self) -> list[tuple[int, QRectF]]:
         """Each agent row of the legend as drawn: (agent, rectangle in viewport pixels)."""
-        place = self.legend_place()
-        ep = self.layer_episode.episode
-        if place is None or ep is None:
-            return []
-        at = place.rect.topLeft()
-        if place.compact is not None:
-            chips = place.compact.chips
-            return [(int(str(c.arg)), c.rect.translated(at)) for c in chips if c.kind == "agent"]
-        self._legend_pixmap(ep, place.rect.height())  # the rows are recorded as painted
-        return [(a, r.translated(at)) for a, r in self._legend_hits]
+        return self.legend.agent_rows()
 
     def legend_agent_at(self, pos: QPointF) -> int | None:
         """The agent whose legend row is under the viewport point ``pos``, or None."""
-        place = self.legend_place()
-        if place is not None and place.compact is not None:
-            return compact_agent_at(place.compact, pos - place.rect.topLeft())
-        for agent, rect in self.legend_agent_rows():
-            if rect.contains(pos):
-                return agent
-        return None
+        return self.legend.agent_at(pos)
 
     def _overlay_boxes(self) -> tuple[tuple[float, float, float, float], ...]:
         """Pixel boxes the overlays cover (clock and caption, legend): name tags and
@@ -411,27 +317,6 @@ class ReplayCanvas(SceneCanvas):
             self.layer.options = replace(self.layer.options, label_keep_out=keep)
             self.resetCachedContent()
             self.viewport().update()
-
-    def _legend_pixmap(self, ep: Episode, height: float) -> QPixmap:
-        """The legend does not change with the step: paint it once per episode/theme/size."""
-        dpr = self.devicePixelRatioF()
-        plain = replace(self.options, tag_keep_out=())
-        key = (ep, self.theme.name, plain, int(height), dpr)  # Episode: eq by identity
-        if self._legend_cache is not None and self._legend_cache[0] == key:
-            return self._legend_cache[1]
-        pm = QPixmap(int(LEGEND_W * dpr), int(height * dpr))
-        pm.setDevicePixelRatio(dpr)
-        pm.fill(Qt.GlobalColor.transparent)
-        p = QPainter(pm)
-        hits: list[tuple[int, QRectF]] = []
-        paint_legend(
-            p, QRectF(0, 0, LEGEND_W, height), self.scene_value, ep, self.theme, plain, 1.0,
-            hits=hits,
-        )  # fmt: skip
-        p.end()
-        self._legend_hits = hits
-        self._legend_cache = (key, pm)
-        return pm
 
     def _paint_caption(self, painter: QPainter, width: int) -> None:
         """Which episode this view shows (compare mode): top centre, or under the clock
