@@ -1,5 +1,5 @@
 """Side by side on a 1280x800 screen: both panes keep a legend, inside the pane and off the
-scene; the panes' captions and legends stay clear of the name tags; the explanation line
+scene; team targets' arrival texts in view; captions and legends clear of the name tags; the explanation line
 keeps its height bounded so the canvas keeps its share.
 
 References: rectangles compared with shapely/GEOS (OGC Simple Features ``intersects`` and
@@ -15,11 +15,12 @@ from pathlib import Path
 
 import shapely
 from PySide6.QtCore import QPointF, QRect
-from PySide6.QtGui import QImage, QPainter
+from PySide6.QtGui import QFontMetricsF, QImage, QPainter
 
 from arena_studio.app.replay.partner import best_success
 from arena_studio.app.window_size import first_size
 from arena_studio.core.geometry.regions import bounds
+from arena_studio.render.drawing import font
 from arena_studio.render.episode_cache import episode_cache
 from arena_studio.render.episode_painter import text_boxes
 from arena_studio.render.name_tags import paint_name_tags
@@ -70,6 +71,14 @@ def test_both_panes_keep_a_legend_inside_the_pane_and_off_the_scene(make_window,
         assert not scene_px.intersects(_box(legend)), (canvas.caption, legend, scene_px.bounds)
         agents = [a for a, _r in canvas.legend_agent_rows()]
         assert agents == list(range(page.prepared.episode.agent_count))  # every agent listed
+        # each team target's arrival text ("rover-2 3.2 s", centred under it) stays in view
+        metrics = QFontMetricsF(font(11, bold=True))
+        half = max(metrics.horizontalAdvance(f"{a.id} 99.9 s") for a in page.scene_value.agents)
+        cache = episode_cache(canvas.scene_value, canvas.layer_episode.episode)
+        assert cache.team_indices()
+        for i in cache.team_indices():
+            at = canvas.mapFromScene(QPointF(*canvas.scene_value.landmarks[i].position))
+            assert at.x() - half / 2 >= 0 and at.x() + half / 2 <= vp.width(), (i, at)
 
 
 def _tag_boxes(canvas, step: int) -> list[shapely.Polygon]:

@@ -126,9 +126,11 @@ def fit(
     room: Room,
     margin: float,
     limits: tuple[float, float],
+    texts: tuple[tuple[float, float, float], ...] = (),
 ) -> tuple[float, float, float]:
     """Scale (px/m) and the world point to centre the view on, so the scene and its labels
-    fill what ``room`` leaves of a ``size`` view, ``margin`` px inside it."""
+    fill what ``room`` leaves of a ``size`` view, ``margin`` px inside it. ``texts``: (x, y,
+    half width in px) of texts centred on world points, kept in view too."""
     from arena_studio.core.geometry.regions import bounds
 
     w, h = size
@@ -141,6 +143,8 @@ def fit(
         bw, bh = max(maxx - minx, 1.0), max(maxy - miny, 1.0)
         s = min(max(min(vw / bw, vh / bh), limits[0]), limits[1])
         minx, miny, maxx, maxy = with_labels(scene, bounds(scene), s)
+        for x, _y, half in texts:
+            minx, maxx = min(minx, x - half / s), max(maxx, x + half / s)
     # the free area's centre in pixels -> the world point at the view's centre (y up)
     px = margin + vw / 2
     py = top + vh / 2

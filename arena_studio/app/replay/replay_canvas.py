@@ -220,7 +220,28 @@ class ReplayCanvas(SceneCanvas):
         assert self.scene_value is not None
         size = (float(self.viewport().width()), float(self.viewport().height()))
         margin = canvas_room.margin_for(size) if margin_px is None else margin_px
-        return canvas_room.fit(self.scene_value, size, room, margin, (MIN_PPM, MAX_PPM))
+        texts = self._arrival_texts()
+        return canvas_room.fit(self.scene_value, size, room, margin, (MIN_PPM, MAX_PPM), texts)
+
+    def _arrival_texts(self) -> tuple[tuple[float, float, float], ...]:
+        """Team-goal targets and half the width of their "rover-2 8.2 s" texts (pixels),
+        which are centred under them and may reach past the scene's edge."""
+        ep, scene = self.layer_episode.episode, self.scene_value
+        if ep is None or scene is None or not self.options.team_goal:
+            return ()
+        from PySide6.QtGui import QFontMetricsF
+
+        from arena_studio.render.drawing import font
+
+        cache = episode_cache(scene, ep)
+        metrics = QFontMetricsF(font(11, bold=True))
+        names = [a.id for a in scene.agents] or ["agent 99"]
+        half = max(metrics.horizontalAdvance(f"{n} 99.9 s") for n in names) / 2 + 4.0
+        out = []
+        for i in cache.team_indices():
+            x, y = scene.landmarks[i].position
+            out.append((float(x), float(y), half))
+        return tuple(out)
 
     def resizeEvent(self, event) -> None:
         super().resizeEvent(event)
