@@ -1,6 +1,6 @@
 """Side by side on a 1280x800 screen: both panes keep a legend, inside the pane and off the
-scene; team targets' arrival texts in view; captions and legends clear of the name tags; the explanation line
-keeps its height bounded so the canvas keeps its share.
+scene; team targets' arrival texts stay in view; captions and legends stay clear of the name
+tags; the explanation line keeps its height bounded so the canvas keeps its share.
 
 References: rectangles compared with shapely/GEOS (OGC Simple Features ``intersects`` and
 ``contains``); the scene's bounds from core.geometry.regions.bounds mapped to pixels by Qt's
