@@ -344,8 +344,9 @@ class EpisodeListPanel(QWidget):
         self.table.setTextElideMode(Qt.TextElideMode.ElideMiddle)  # "Water…bench", tooltip full
         header = self.table.horizontalHeader()
         header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
-        header.setStretchLastSection(True)  # Diagnosis takes what is left
         self._size_columns()
+        # the goal takes what is left: its labels are the long texts (diagnoses are a word)
+        header.setSectionResizeMode(COL["goal_label"], QHeaderView.ResizeMode.Stretch)
         layout.addWidget(self.table, 1)
         self.count_label = QLabel(self)
         layout.addWidget(self.count_label)

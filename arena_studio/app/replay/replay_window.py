@@ -169,13 +169,10 @@ class ReplayWindow(QMainWindow):
         self.resizeDocks([self.dock_plots, self.dock_batch], [plots] * 2, Qt.Orientation.Vertical)
         # the overview's goal grid needs a line per landmark: more room when it is raised
         self.tab_heights = {self.dock_plots: plots, self.dock_batch: max(plots, int(h * 0.33))}
-        # the list's own width (every column whole), within a third of a small window
+        # the list's own width (every column whole); a wide window gives the goals more
         wanted = self.episode_list.preferred_width()
-        self.resizeDocks(
-            [self.dock_episodes],
-            [min(max(wanted, int(w * 0.28)), max(int(w * 0.36), wanted if w > 1400 else 0), 560)],
-            Qt.Orientation.Horizontal,
-        )
+        width = min(max(wanted, int(w * 0.3)), 560)
+        self.resizeDocks([self.dock_episodes], [width], Qt.Orientation.Horizontal)
         self.fit_views()
 
     def _on_tab_shown(self, dock: QDockWidget, shown: bool) -> None:
