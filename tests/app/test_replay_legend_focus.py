@@ -79,3 +79,12 @@ def test_compact_legend_rows_focus_in_both_panes(make_window, qtbot):
         assert page.canvas.options.focus == page.canvas_b.options.focus == agent
         qtbot.mouseClick(canvas.viewport(), Qt.MouseButton.LeftButton, pos=at)
         assert page.canvas.options.focus is None and page.canvas_b.options.focus is None
+
+
+def test_the_legend_box_hides_the_legend_in_both_panes(make_window, qtbot):
+    _win, page = compare_at_1280(make_window, qtbot)
+    page.view_toolbar.legend_box.setChecked(False)
+    qtbot.waitUntil(lambda: page.canvas.legend_rect() is None, timeout=2000)
+    assert page.canvas_b.legend_rect() is None
+    page.view_toolbar.legend_box.setChecked(True)
+    qtbot.waitUntil(lambda: page.canvas_b.legend_rect() is not None, timeout=2000)

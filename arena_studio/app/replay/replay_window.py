@@ -622,7 +622,7 @@ class ReplayWindow(QMainWindow):
             pursued=bar.pursued_box.isChecked(),
             par_paths=bar.par_box.isChecked(),
         )
-        self.canvas.show_legend = bar.legend_box.isChecked()
+        self.canvas.show_legend = self.canvas_b.show_legend = bar.legend_box.isChecked()
         self.canvas.set_options(opts)
         self.canvas_b.set_options(opts)
         self.canvas.viewport().update()
