@@ -28,6 +28,8 @@ CLOCK_H = 50.0
 CAPTION_H = 24.0
 #: the view width from which the caption sits top centre instead of under the clock
 CAPTION_CENTRED_FROM_PX = 760
+#: the scale bar and its text under the scene (render.scene_painter puts it 28 px below)
+SCALE_BAR_PX = 36.0
 #: how much scene scale one more legend section (roles, marks) is worth, as a share
 SECTION_WORTH = 0.06
 #: the compact legend may take this share of the view's height (strip) or width (column)
@@ -136,7 +138,10 @@ def fit(
     w, h = size
     top = max(room.top + 6.0, margin)
     vw = max(w - room.right - 2 * margin, 40.0)
-    vh = max(h - top - room.bottom - margin, 40.0)
+    # the scale bar hangs 28 px under the scene: room for it, unless a legend strip is there
+    # (the bar then sits beside the strip)
+    below = room.bottom + margin if room.bottom else max(margin, SCALE_BAR_PX)
+    vh = max(h - top - below, 40.0)
     minx, miny, maxx, maxy = bounds(scene)
     s = 1.0
     for _ in range(3):  # landmark labels are sized in pixels: refit with them in view
