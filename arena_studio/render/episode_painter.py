@@ -136,7 +136,7 @@ def _paint_episode_frame(
             with guarded(painter, "the name tags", theme=theme):
                 dev = painter.device()
                 size = (float(dev.width()), float(dev.height()))
-                blocked = text_boxes(cache, view, ui, opts, size)
+                blocked = text_boxes(cache, view, ui, opts, size) + list(opts.tag_keep_out)
                 paint_name_tags(painter, cache, step, view, theme, opts, ui, blocked)
 
 

@@ -67,11 +67,14 @@ def paint_legend(
     options: FrameOptions,
     ui: float,
     columns: bool = False,
+    hits: list[tuple[int, QRectF]] | None = None,
 ) -> None:
     """Identity colours, role glyphs and overlay keys inside ``rect``.
 
     Sections stack top-down, or sit side by side when ``columns`` (a strip under the scene).
     Rows that do not fit are left out; agents beyond the room say how many more there are.
+    The focused agent's row (``options.focus``) is highlighted. ``hits`` receives each agent
+    row as drawn, (agent, rectangle), so a click on the legend can find the row under it.
     """
     cache = episode_cache(scene, episode)
     with saved(painter):
@@ -117,24 +120,48 @@ def paint_legend(
                     break
                 c = QPointF(x + r + 2 * ui, y)
                 if kind == "agent":
-                    painter.setPen(QPen(theme.qcolor("background"), 1.0))
-                    painter.setBrush(theme.agent_color(int(cast(int, arg))))
-                    painter.drawEllipse(c, r, r)
-                elif kind == "role":
-                    hollow = arg == STYLE_HOLLOW
-                    painter.setPen(
-                        QPen(theme.qcolor("text_muted"), 2.0 * ui)
-                        if hollow
-                        else QPen(theme.qcolor("background"), 1.0)
-                    )
-                    painter.setBrush(theme.qcolor("text_muted", alpha=0.35 if hollow else 1.0))
-                    painter.drawEllipse(c, r, r)
-                    paint_role_mark(painter, c, r, int(cast(int, arg)), text, theme, ui)
-                elif kind == "mark":
-                    _paint_key(painter, str(arg), c, r, theme, ui)
+                    hit = QRectF(x - 6 * ui, y - row / 2, rect.right() - x, row)
+                    paint_agent_row_state(painter, hit, int(cast(int, arg)), theme, options, ui)
+                    if hits is not None:
+                        hits.append((int(cast(int, arg)), hit))
+                paint_row_glyph(painter, kind, arg, c, r, theme, ui)
                 color = muted if kind == "more" else text
                 label(painter, name, QPointF(x + 2 * r + 12 * ui, y), body, color, None)
                 y += row
+
+
+def paint_row_glyph(
+    painter: QPainter, kind: str, arg: object, c: QPointF, r: float, theme: Theme, ui: float
+) -> None:
+    """The glyph at the start of a legend row: an agent's colour, a role mark, an overlay key."""
+    if kind == "agent":
+        painter.setPen(QPen(theme.qcolor("background"), 1.0))
+        painter.setBrush(theme.agent_color(int(cast(int, arg))))
+        painter.drawEllipse(c, r, r)
+    elif kind == "role":
+        hollow = arg == STYLE_HOLLOW
+        painter.setPen(
+            QPen(theme.qcolor("text_muted"), 2.0 * ui)
+            if hollow
+            else QPen(theme.qcolor("background"), 1.0)
+        )
+        painter.setBrush(theme.qcolor("text_muted", alpha=0.35 if hollow else 1.0))
+        painter.drawEllipse(c, r, r)
+        paint_role_mark(painter, c, r, int(cast(int, arg)), theme.qcolor("text"), theme, ui)
+    elif kind == "mark":
+        _paint_key(painter, str(arg), c, r, theme, ui)
+
+
+def paint_agent_row_state(
+    painter: QPainter, box: QRectF, agent: int, theme: Theme, options: FrameOptions, ui: float
+) -> None:
+    """The focused agent's legend row: a band in the selection colour with an outline."""
+    if options.focus != agent:
+        return
+    with saved(painter):
+        painter.setPen(QPen(theme.qcolor("selection"), 1.5 * ui))
+        painter.setBrush(theme.qcolor("selection", alpha=0.22))
+        painter.drawRoundedRect(box.adjusted(1, 1, -1, -1), 4 * ui, 4 * ui)
 
 
 Row = tuple[str, object, str]

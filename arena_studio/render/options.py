@@ -22,6 +22,8 @@ class FrameOptions:
     numbers: str = "auto"  # "auto" (beyond 6 agents), "always", "never"
     name_tags: bool = True  # a name beside each moving body (teams of up to 12)
     focus: int | None = None  # one agent drawn strong over a dimmed rest (big teams)
+    #: pixel boxes (x0, y0, x1, y1) name tags keep clear of: overlays drawn over the frame
+    tag_keep_out: tuple[tuple[float, float, float, float], ...] = ()
     legend: bool = True
     clock: bool = True
     title: str | None = None

@@ -36,7 +36,7 @@ def test_labels_are_placed_clear_of_the_legend(qtbot):
     legend = canvas.legend_rect()
     assert legend is not None
     keep = canvas.layer.options.label_keep_out
-    assert len(keep) == 1 and keep[0][0] < legend.left() and keep[0][3] > legend.bottom()
+    assert any(k[0] < legend.left() and k[3] > legend.bottom() for k in keep)
     t = canvas.viewportTransform()
     view = ViewTransform(math.hypot(t.m11(), t.m12()), t.dx(), t.dy())
     size = (float(canvas.viewport().width()), float(canvas.viewport().height()))
@@ -48,4 +48,6 @@ def test_labels_are_placed_clear_of_the_legend(qtbot):
         assert not label.intersects(legend_box)
     canvas.show_legend = False
     canvas.set_options(canvas.options)
-    assert canvas.layer.options.label_keep_out == ()  # no legend, nothing kept out
+    legend_box = shapely.box(legend.left(), legend.top(), legend.right(), legend.bottom())
+    for x0, y0, x1, y1 in canvas.layer.options.label_keep_out:  # no legend: its place is free
+        assert not shapely.box(x0, y0, x1, y1).intersects(legend_box)

@@ -137,11 +137,10 @@ class GoalGrid(QWidget):
         ch = max(min((rows_h - 4) / max(n, 1), 60.0), 16.0)  # wider than tall
         x0, y0 = head_w, 24.0
         p.setPen(theme.qcolor("text"))
-        p.drawText(
-            QRectF(4, 2, self.width() - 8, 20),
-            Qt.AlignmentFlag.AlignLeft,
-            "Success by goal (row + column: a two-target goal)",
-        )
+        title = "Success by goal (row + column: a two-target goal)"
+        if fm.horizontalAdvance(title) > self.width() - 8:  # a narrow panel: the short title
+            title = "Success by goal"
+        p.drawText(QRectF(4, 2, self.width() - 8, 20), Qt.AlignmentFlag.AlignLeft, title)
         y0 += 18.0  # column heads
         p.setPen(theme.qcolor("text_muted"))
         # column heads that do not fit become numbers, and the rows carry the same numbers:

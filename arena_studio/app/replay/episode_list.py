@@ -40,10 +40,10 @@ COLUMNS: tuple[tuple[str, str], ...] = (
     ("index", "#"),
     ("goal_label", "Goal"),
     ("kind", "Kind"),
-    ("success", "Success"),
-    ("time_to_success", "Time (s)"),
-    ("par_ratio", "vs par"),
-    ("aligned", "Aligned"),
+    ("success", "OK"),
+    ("time_to_success", "Time"),
+    ("par_ratio", "Par"),
+    ("aligned", "Align"),
     ("diagnosis", "Diagnosis"),
 )
 COL = {key: i for i, (key, _) in enumerate(COLUMNS)}
@@ -52,24 +52,35 @@ HEADER_TIPS = {
     "index": "Episode number in the tape",
     "goal_label": "Team goal: the targets the team must cover",
     "kind": "coop = cooperative goal (two or more targets), indiv = individual goal (one)",
-    "success": "Whether the episode reached its goal",
+    "success": "Whether the episode reached its goal (yes / no)",
     "time_to_success": "Time to success in seconds",
     "par_ratio": "Par time divided by time to success (1.00 = as fast as the par time)",
-    "aligned": "Every agent pursued the same goal, and it was the team goal",
-    "diagnosis": "What went wrong, in a few words",
+    "aligned": "Aligned: every agent pursued the same goal, and it was the team goal",
+    "diagnosis": "What went wrong, in a word; hover a cell for the full diagnosis",
+}
+#: the Diagnosis column's word for each diagnosis code (the full text is the cell's tooltip)
+DIAGNOSIS_WORDS = {
+    "misaligned": "misaligned",
+    "duplicate-target": "same target",
+    "not-together": "not together",
+    "time-ran-out": "out of time",
+    "stuck": "stuck",
+    "uncovered": "left empty",
 }
 #: the Kind column's compact words (the summary keeps the full ones)
 KIND_SHORT = {"cooperative": "coop", "individual": "indiv"}
 #: sample cell text per column: default widths fit the wider of this and the header
 WIDTH_SAMPLES = {
-    "index": "0000",
+    "index": "000",
     "goal_label": "Water tank",
     "kind": "indiv",
     "success": "yes",
-    "time_to_success": "000.0",
+    "time_to_success": "00.0",
     "par_ratio": "0.00",
     "aligned": "yes",
 }
+#: the Diagnosis column's least width shows its longest word
+DIAGNOSIS_SAMPLE = max(DIAGNOSIS_WORDS.values(), key=len)
 SORT_ROLE = Qt.ItemDataRole.UserRole + 1
 SUMMARY_ROLE = Qt.ItemDataRole.UserRole + 2
 
@@ -178,6 +189,8 @@ class EpisodeTableModel(QAbstractTableModel):
                 return "-" if value is None else f"{value:.2f}"
             if key == "kind":
                 return KIND_SHORT.get(value, "-" if value in (None, "") else str(value))
+            if key == "diagnosis" and s.diagnosis_code in DIAGNOSIS_WORDS:
+                return DIAGNOSIS_WORDS[s.diagnosis_code]
             return "-" if value in (None, "") else str(value)
         if role == Qt.ItemDataRole.ToolTipRole and key == "diagnosis" and s.diagnosis:
             return s.diagnosis
@@ -328,23 +341,12 @@ class EpisodeListPanel(QWidget):
         self.table.verticalHeader().setVisible(False)
         self.table.verticalHeader().setDefaultSectionSize(22)
         self.table.setWordWrap(False)
+        self.table.setTextElideMode(Qt.TextElideMode.ElideMiddle)  # "Water…bench", tooltip full
         header = self.table.horizontalHeader()
         header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
-        header.setStretchLastSection(True)
-        # widths from the fonts in use, so the columns up to Aligned fit a ~380 px dock
-        bold = QFont(header.font())
-        bold.setBold(True)  # some styles draw header titles bold
-        cell, head = self.table.fontMetrics(), QFontMetrics(bold)
-        style = header.style()
-        margin = style.pixelMetric(QStyle.PixelMetric.PM_HeaderMargin, None, header)
-        mark = style.pixelMetric(QStyle.PixelMetric.PM_HeaderMarkSize, None, header)
-        for key, sample in WIDTH_SAMPLES.items():
-            title = COLUMNS[COL[key]][1]
-            width = max(
-                cell.horizontalAdvance(sample) + 12,
-                head.horizontalAdvance(title) + 2 * margin + mark // 2 + 4,
-            )
-            self.table.setColumnWidth(COL[key], width)
+        self._size_columns()
+        # the goal takes what is left: its labels are the long texts (diagnoses are a word)
+        header.setSectionResizeMode(COL["goal_label"], QHeaderView.ResizeMode.Stretch)
         layout.addWidget(self.table, 1)
         self.count_label = QLabel(self)
         layout.addWidget(self.count_label)
@@ -354,6 +356,33 @@ class EpisodeListPanel(QWidget):
         self.proxy.modelReset.connect(self._update_count)
         self.proxy.layoutChanged.connect(self._update_count)
         self._update_count()
+
+    def _size_columns(self) -> None:
+        """Widths from the fonts in use: each column as wide as its sample text or its
+        header, whichever is wider, so the list fits a ~400 px dock with Diagnosis shown."""
+        header = self.table.horizontalHeader()
+        bold = QFont(header.font())
+        bold.setBold(True)  # some styles draw header titles bold
+        cell, head = self.table.fontMetrics(), QFontMetrics(bold)
+        style = header.style()
+        margin = style.pixelMetric(QStyle.PixelMetric.PM_HeaderMargin, None, header)
+        mark = style.pixelMetric(QStyle.PixelMetric.PM_HeaderMarkSize, None, header)
+        samples = {**WIDTH_SAMPLES, "diagnosis": DIAGNOSIS_SAMPLE}
+        for key, sample in samples.items():
+            title = COLUMNS[COL[key]][1]
+            width = max(
+                cell.horizontalAdvance(sample) + 12,
+                head.horizontalAdvance(title) + 2 * margin + mark // 2 + 4,
+            )
+            self.table.setColumnWidth(COL[key], width)
+        header.setMinimumSectionSize(min(self.table.columnWidth(c) for c in range(len(COLUMNS))))
+
+    def preferred_width(self) -> int:
+        """Width the panel needs to show every column whole (the dock's first width)."""
+        columns = sum(self.table.columnWidth(c) for c in range(len(COLUMNS)))
+        scroll = self.table.verticalScrollBar().sizeHint().width()
+        m = self.layout().contentsMargins()
+        return columns + scroll + 2 * self.table.frameWidth() + m.left() + m.right() + 2
 
     def set_theme(self, theme) -> None:
         self.model.fail_color = theme.qcolor("error")

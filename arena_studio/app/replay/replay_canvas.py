@@ -14,9 +14,8 @@ from dataclasses import replace
 
 import numpy as np
 from PySide6.QtCore import QPoint, QPointF, QRectF, Qt, Signal
-from PySide6.QtGui import QMouseEvent, QPainter, QPen, QPixmap
+from PySide6.QtGui import QMouseEvent, QPainter, QPen
 from PySide6.QtWidgets import (
-    QGraphicsItem,
     QGraphicsScene,
     QGraphicsView,
     QStyleOptionGraphicsItem,
@@ -25,78 +24,25 @@ from PySide6.QtWidgets import (
 )
 
 from arena_studio.app.canvas import SceneCanvas
+from arena_studio.app.replay import canvas_room
+from arena_studio.app.replay.canvas_legend import CanvasLegend
+from arena_studio.app.replay.canvas_room import LegendPlace, Room
 from arena_studio.app.replay.clock_overlay import ClockOverlay
+from arena_studio.app.replay.episode_layer import EpisodeLayer
 from arena_studio.app.replay.prepared import PreparedEpisode
 from arena_studio.app.replay.trail_prefill import TrailPrefill
-from arena_studio.app.scene_items import WORLD
 from arena_studio.core.analysis.roles import ROLE_NAMES
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.episode import Episode
 from arena_studio.core.wording import LandmarkNames
 from arena_studio.render.episode_cache import episode_cache
-from arena_studio.render.episode_painter import FrameOptions, paint_episode_frame, paint_legend
-from arena_studio.render.paint_guard import guarded, saved
+from arena_studio.render.episode_painter import FrameOptions
+from arena_studio.render.paint_guard import guarded
 from arena_studio.render.theme import Theme
-from arena_studio.render.view import ViewTransform
 
-LEGEND_W = 200.0
 HOVER_SLACK_PX = 6.0
 #: room the hover card takes (pixels), for keeping it inside the canvas
 CARD_W, CARD_H = 300, 120
-
-
-def view_from_painter(painter: QPainter) -> ViewTransform:
-    """The ViewTransform equal to the painter's metre -> pixel mapping (no rotation)."""
-    t = painter.worldTransform()
-    scale = math.hypot(t.m11(), t.m12())
-    return ViewTransform(scale=scale, offset_x=t.dx(), offset_y=t.dy())
-
-
-class EpisodeLayer(QGraphicsItem):
-    """Paints one episode at one step through the shared frame painter."""
-
-    def __init__(self, theme: Theme, ghost: bool = False) -> None:
-        super().__init__()
-        self.theme = theme
-        self.scene_value: Scene | None = None
-        self.episode: Episode | None = None
-        self.step = 0
-        self.options = FrameOptions()
-        self.painted_step: int | None = None  # what the last paint() drew (for tests)
-        self.prefill: TrailPrefill | None = None  # draws trail blocks ahead when idle
-        self.setZValue(30 if not ghost else 25)
-        if ghost:
-            self.setOpacity(0.38)
-
-    def boundingRect(self) -> QRectF:
-        return WORLD
-
-    def set_content(self, scene: Scene | None, episode: Episode | None) -> None:
-        self.scene_value, self.episode = scene, episode
-        self.painted_step = None
-        self.update()
-
-    def set_step(self, step: int) -> None:
-        if step != self.step:
-            self.step = step
-            self.update()
-
-    def paint(
-        self, painter: QPainter, option: QStyleOptionGraphicsItem, widget: QWidget | None = None
-    ) -> None:
-        if self.scene_value is None or self.episode is None:
-            return
-        view = view_from_painter(painter)
-        with saved(painter):
-            painter.resetTransform()
-            paint_episode_frame(
-                painter, self.scene_value, self.episode, self.step, view, self.theme, self.options
-            )
-        self.painted_step = self.step
-        if self.prefill is not None:
-            self.prefill.request(
-                self, self.scene_value, self.episode, self.step, view, self.theme, self.options
-            )
 
 
 class ReplayCanvas(SceneCanvas):
@@ -114,15 +60,16 @@ class ReplayCanvas(SceneCanvas):
         self.trail_prefill = TrailPrefill(self.viewport())
         self.layer_episode.prefill = self.layer_ghost.prefill = self.trail_prefill
         self.prepared: PreparedEpisode | None = None
-        self.caption: str | None = None  # e.g. "episode 12 (aligned success)" in compare mode
-        self.show_legend = True
+        self._caption: str | None = None
+        self.caption_box: QRectF | None = None  # where the caption was last drawn (pixels)
+        self._show_legend = True
+        self.legend = CanvasLegend(self)
         self.show_clock = True
         #: in compare mode: the shared timeline's length in steps, so both panes read the
         #: same "t / total" as the transport (None: this episode's own length)
         self.shared_steps: int | None = None
         self._hover_agent: int | None = None
         self._hover_pos = None
-        self._legend_cache: tuple[tuple, QPixmap] | None = None
         self._clock = ClockOverlay()  # render.legend.paint_clock with fonts made once
         self.auto_fit = True  # keep the scene fitted on resize until the user zooms or pans
         # the scene never changes during a replay: keep the background (floor, grid) and the
@@ -153,8 +100,7 @@ class ReplayCanvas(SceneCanvas):
             self.resetCachedContent()
         self.prepared = prepared
         self.layer_episode.set_content(scene, None if prepared is None else prepared.episode)
-        self._keep_labels_off_the_legend()
-        self.viewport().update()
+        self._relayout()
 
     def set_ghost(self, episode: Episode | None) -> None:
         self.layer_ghost.set_content(self.scene_value if episode else None, episode)
@@ -169,6 +115,8 @@ class ReplayCanvas(SceneCanvas):
             self._recheck_hover()
 
     def set_options(self, options: FrameOptions) -> None:
+        self.layer_episode.options = options  # the overlays' places depend on the options
+        options = replace(options, tag_keep_out=self._overlay_boxes())
         self.layer_episode.options = options
         self.layer_ghost.options = FrameOptions(
             theme=options.theme,
@@ -183,6 +131,35 @@ class ReplayCanvas(SceneCanvas):
         self.layer_episode.update()
         self.layer_ghost.update()
         self._keep_labels_off_the_legend()  # the legend may have been switched on or off
+
+    @property
+    def caption(self) -> str | None:
+        """Which episode this pane shows (compare mode), e.g. "compared: episode 3"."""
+        return self._caption
+
+    @caption.setter
+    def caption(self, text: str | None) -> None:
+        if text != self._caption:
+            self._caption = text
+            self._relayout()
+
+    @property
+    def show_legend(self) -> bool:
+        return self._show_legend
+
+    @show_legend.setter
+    def show_legend(self, shown: bool) -> None:
+        if shown != self._show_legend:
+            self._show_legend = shown
+            self._relayout()
+
+    def _relayout(self) -> None:
+        """The overlays' places changed (episode, caption, legend, size): refit the scene
+        while it follows the view, and keep labels and tags clear of the overlays."""
+        if self.auto_fit and self.scene_value is not None and self.viewport().width() > 50:
+            self.fit_scene()
+        self.set_options(self.layer_episode.options)
+        self.viewport().update()
 
     @property
     def options(self) -> FrameOptions:
@@ -213,53 +190,63 @@ class ReplayCanvas(SceneCanvas):
             self.layer.paint(painter, QStyleOptionGraphicsItem(), None)
 
     # -- fitting -----------------------------------------------------------------------
+    def header_height(self) -> float:
+        """Pixels the clock (and the caption under it) take at the top."""
+        return canvas_room.header_height(self.viewport().width(), bool(self.caption))
+
+    def room(self) -> Room:
+        """Pixels the overlays take on each side of the scene."""
+        place = self.legend_place()
+        return place.room if place is not None else Room(self.header_height())
+
     def legend_room(self) -> float:
         """Pixels kept free on the right for the legend."""
-        ep = self.layer_episode.episode
-        shown = self.show_legend and ep is not None and self.viewport().width() > 520
-        return LEGEND_W + 60.0 if shown else 0.0
+        return self.room().right
 
-    def fit_scene(self, margin_px: float = 36.0) -> None:
-        """Fit the scene into the part of the view the legend leaves free."""
+    def fit_scene(self, margin_px: float | None = None) -> None:
+        """Fit the scene into the part of the view the overlays leave free."""
         from PySide6.QtGui import QTransform
 
-        from arena_studio.app.canvas import MAX_PPM, MIN_PPM
-        from arena_studio.core.geometry.regions import bounds
-
-        room = self.legend_room()
-        minx, miny, maxx, maxy = bounds(self.scene_value)
-        vw = max(self.viewport().width() - room - 2 * margin_px, 40.0)
-        vh = max(self.viewport().height() - 2 * margin_px - 30.0, 40.0)  # 30: clock line
-        s = 1.0
-        for _ in range(3):  # landmark labels are sized in pixels: refit with them in view
-            w, h = max(maxx - minx, 1.0), max(maxy - miny, 1.0)
-            s = min(max(min(vw / w, vh / h), MIN_PPM), MAX_PPM)
-            minx, miny, maxx, maxy = self._with_labels(bounds(self.scene_value), s)
+        if self.scene_value is None:
+            return
+        s, cx, cy = self.fit_for(self.room(), margin_px)
         self.setTransform(QTransform.fromScale(s, -s))
-        cx = (minx + maxx) / 2 + room / 2 / s
-        cy = (miny + maxy) / 2 + 15.0 / s
         self.centerOn(QPointF(cx, cy))
         self.zoomChanged.emit(s)
 
-    def _with_labels(
-        self, box: tuple[float, float, float, float], scale: float
-    ) -> tuple[float, float, float, float]:
-        """``box`` grown to hold the landmark labels as drawn at ``scale`` px/m."""
-        from arena_studio.render.scene_painter import label_places
+    def fit_for(self, room: Room, margin_px: float | None = None) -> tuple[float, float, float]:
+        """Scale and centre that fit the scene into what ``room`` leaves of the view."""
+        from arena_studio.app.canvas import MAX_PPM, MIN_PPM
 
         assert self.scene_value is not None
-        minx, miny, maxx, maxy = box
-        view = ViewTransform(scale, 0.0, 0.0)
-        for place in label_places(self.scene_value, view, 1.0, None, False):
-            x0, y0, x1, y1 = place.box
-            minx, miny, maxx, maxy = min(minx, x0), min(miny, y0), max(maxx, x1), max(maxy, y1)
-        return minx, miny, maxx, maxy
+        size = (float(self.viewport().width()), float(self.viewport().height()))
+        margin = canvas_room.margin_for(size) if margin_px is None else margin_px
+        texts = self._arrival_texts()
+        return canvas_room.fit(self.scene_value, size, room, margin, (MIN_PPM, MAX_PPM), texts)
+
+    def _arrival_texts(self) -> tuple[tuple[float, float, float], ...]:
+        """Team-goal targets and half the width of their "rover-2 8.2 s" texts (pixels),
+        which are centred under them and may reach past the scene's edge."""
+        ep, scene = self.layer_episode.episode, self.scene_value
+        if ep is None or scene is None or not self.options.team_goal:
+            return ()
+        from PySide6.QtGui import QFontMetricsF
+
+        from arena_studio.render.drawing import font
+
+        cache = episode_cache(scene, ep)
+        metrics = QFontMetricsF(font(11, bold=True))
+        names = [a.id for a in scene.agents] or ["agent 99"]
+        half = max(metrics.horizontalAdvance(f"{n} 99.9 s") for n in names) / 2 + 4.0
+        out = []
+        for i in cache.team_indices():
+            x, y = scene.landmarks[i].position
+            out.append((float(x), float(y), half))
+        return tuple(out)
 
     def resizeEvent(self, event) -> None:
         super().resizeEvent(event)
-        self._keep_labels_off_the_legend()
-        if self.auto_fit and self.viewport().width() > 50:
-            self.fit_scene()
+        self._relayout()
 
     def zoom_by(self, factor: float) -> None:
         self.auto_fit = False
@@ -269,6 +256,13 @@ class ReplayCanvas(SceneCanvas):
         if self._starts_pan(event):
             self.auto_fit = False
         elif event.button() == Qt.MouseButton.LeftButton and self.prepared is not None:
+            legend = self.legend_rect()
+            if legend is not None and legend.contains(event.position()):
+                agent = self.legend_agent_at(event.position())
+                if agent is not None:  # a click on a title or a key row changes nothing
+                    self.agentClicked.emit(agent)
+                event.accept()
+                return
             self.agentClicked.emit(self.agent_at(event.position()))
         super().mousePressEvent(event)
 
@@ -287,10 +281,7 @@ class ReplayCanvas(SceneCanvas):
                     painter, QRectF(0, 0, 320, 60), ep, self.step, self.theme, ui,
                     self.shared_steps,
                 )  # fmt: skip
-            legend = self.legend_rect()
-            if legend is not None:
-                top_left = legend.topLeft().toPoint()
-                painter.drawPixmap(top_left, self._legend_pixmap(ep, legend.height()))
+            self.legend.paint(painter, ep)
             if self.caption:
                 self._paint_caption(painter, w)
             self._paint_mismatches(painter)
@@ -309,51 +300,55 @@ class ReplayCanvas(SceneCanvas):
             at = self.mapFromScene(QPointF(*f.point))
             painter.drawRect(QRectF(at.x() - 7, at.y() - 7, 14, 14))
 
+    def legend_place(self) -> LegendPlace | None:
+        """Where the legend goes and how (full or compact), or None when it is not shown."""
+        return self.legend.place()
+
     def legend_rect(self) -> QRectF | None:
-        """Where the legend goes in the viewport (top right), or None when it is not shown."""
-        ep = self.layer_episode.episode
-        w, h = self.viewport().width(), self.viewport().height()
-        if ep is None or not self.show_legend or w <= 520:
-            return None
-        height = min(h - 20.0, 150.0 + 20.0 * (ep.agent_count + 9))
-        return QRectF(int(w - LEGEND_W - 10), 10, LEGEND_W, height)
+        """Where the legend goes in the viewport, or None when it is not shown."""
+        place = self.legend.place()
+        return None if place is None else place.rect
+
+    def legend_agent_rows(self) -> list[tuple[int, QRectF]]:
+        """Each agent row of the legend as drawn: (agent, rectangle in viewport pixels)."""
+        return self.legend.agent_rows()
+
+    def legend_agent_at(self, pos: QPointF) -> int | None:
+        """The agent whose legend row is under the viewport point ``pos``, or None."""
+        return self.legend.agent_at(pos)
+
+    def _overlay_boxes(self) -> tuple[tuple[float, float, float, float], ...]:
+        """Pixel boxes the overlays cover (clock and caption, legend): name tags and
+        landmark labels keep clear of them."""
+        w = float(self.viewport().width())
+        boxes = []
+        if self.layer_episode.episode is not None:
+            head_w = w if self.caption and w >= canvas_room.CAPTION_CENTRED_FROM_PX else 240.0
+            boxes.append((0.0, 0.0, min(head_w, w), self.header_height()))
+        legend = self.legend_rect()
+        if legend is not None:
+            boxes.append((legend.left() - 4, legend.top() - 4, legend.right() + 10,
+                          legend.bottom() + 4))  # fmt: skip
+        return tuple(boxes)
 
     def _keep_labels_off_the_legend(self) -> None:
-        """Landmark labels are placed clear of the legend: its rectangle goes to the scene
-        layer, whose cached background is redrawn when the rectangle changes."""
-        legend = self.legend_rect()
-        keep = () if legend is None else ((legend.left() - 4, 0.0, legend.right() + 10,
-                                           legend.bottom() + 4),)  # fmt: skip
+        """Landmark labels are placed clear of the legend and the clock: their rectangles go
+        to the scene layer, whose cached background is redrawn when they change."""
+        keep = self.layer_episode.options.tag_keep_out
         if keep != self.layer.options.label_keep_out:
             self.layer.options = replace(self.layer.options, label_keep_out=keep)
             self.resetCachedContent()
             self.viewport().update()
-
-    def _legend_pixmap(self, ep: Episode, height: float) -> QPixmap:
-        """The legend does not change with the step: paint it once per episode/theme/size."""
-        dpr = self.devicePixelRatioF()
-        key = (ep, self.theme.name, self.options, int(height), dpr)  # Episode: eq by identity
-        if self._legend_cache is not None and self._legend_cache[0] == key:
-            return self._legend_cache[1]
-        pm = QPixmap(int(LEGEND_W * dpr), int(height * dpr))
-        pm.setDevicePixelRatio(dpr)
-        pm.fill(Qt.GlobalColor.transparent)
-        p = QPainter(pm)
-        paint_legend(
-            p, QRectF(0, 0, LEGEND_W, height), self.scene_value, ep, self.theme, self.options, 1.0
-        )
-        p.end()
-        self._legend_cache = (key, pm)
-        return pm
 
     def _paint_caption(self, painter: QPainter, width: int) -> None:
         """Which episode this view shows (compare mode): top centre, or under the clock
         when the view is too narrow for both."""
         from arena_studio.render.drawing import font, label
 
-        wide = width >= 760
-        anchor = QPointF(width / 2, 18) if wide else QPointF(10, 84)
-        label(
+        wide = width >= canvas_room.CAPTION_CENTRED_FROM_PX
+        below = canvas_room.CLOCK_H + canvas_room.CAPTION_H / 2 - 2
+        anchor = QPointF(width / 2, 18) if wide else QPointF(10, below)
+        self.caption_box = label(
             painter,
             self.caption or "",
             anchor,

@@ -36,12 +36,18 @@ from arena_studio.app.replay.summary import damaged_summary
 from arena_studio.app.replay.timeline import TimelineBar
 from arena_studio.app.replay.transport import PlaybackClock
 from arena_studio.app.replay.transport_bar import TransportBar
-from arena_studio.app.replay.verdict import VerdictLine
+from arena_studio.app.replay.verdict import LINK_COMPARED, BoundedLine, VerdictLine
 from arena_studio.app.replay.view_toolbar import COMPARE_MODES, ViewToolbar
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.damage import Damage
 from arena_studio.core.tape.episode_scene import episode_scene
 from arena_studio.render.theme import Theme, load_theme
+
+#: replay pages shorter than this (a 1280x800 screen) get a smaller Plots dock and a
+#: shorter explanation line, so the canvas keeps the height it needs
+SMALL_WINDOW_H = 820
+#: a bottom tab this much taller or shorter than asked for was resized by the user
+USER_RESIZE_PX = 40
 
 
 class ReplayWindow(QMainWindow):
@@ -107,8 +113,9 @@ class ReplayWindow(QMainWindow):
         self.split.addWidget(self.canvas_b)
         layout.addWidget(self.split, 1)
         self.verdict = VerdictLine(self.theme, central)
-        self.verdict.linkActivated.connect(lambda _l: self.go_to_diagnosis())
-        layout.addWidget(self.verdict)
+        self.verdict.linkActivated.connect(self._on_verdict_link)
+        self.verdict_box = BoundedLine(self.verdict, parent=central)
+        layout.addWidget(self.verdict_box)
         self.timeline = TimelineBar(self.clock, self.theme, central)
         layout.addWidget(self.timeline)
         self.transport = TransportBar(self.clock, self.replay_actions, self.theme, central)
@@ -121,7 +128,7 @@ class ReplayWindow(QMainWindow):
         self.dock_episodes = self._dock(
             "Episodes", self.episode_list, Qt.DockWidgetArea.LeftDockWidgetArea
         )
-        self.episode_list.setMinimumWidth(260)
+        self.episode_list.setMinimumWidth(240)
         self.episode_list.set_theme(self.theme)
         self.plots = PlotsPanel(self.clock, self.theme, self)
         self.dock_plots = self._dock("Plots", self.plots, Qt.DockWidgetArea.BottomDockWidgetArea)
@@ -139,6 +146,11 @@ class ReplayWindow(QMainWindow):
         self.dock_plots.raise_()
         self.setCorner(Qt.Corner.BottomLeftCorner, Qt.DockWidgetArea.LeftDockWidgetArea)
         self._docks_sized = False
+        #: the bottom tabs' own heights: the plots are read beside the canvas, the overview
+        #: needs more lines (a small window gives each its own; a resize is remembered)
+        self.tab_heights: dict[QDockWidget, int] = {}
+        for dock in (self.dock_plots, self.dock_batch):
+            dock.visibilityChanged.connect(lambda shown, d=dock: self._on_tab_shown(d, shown))
 
     def showEvent(self, event) -> None:
         super().showEvent(event)
@@ -151,15 +163,31 @@ class ReplayWindow(QMainWindow):
             self._docks_sized = False
             return
         h, w = self.height(), self.width()
-        self.resizeDocks(
-            [self.dock_plots, self.dock_batch],
-            [max(int(h * 0.27), 170)] * 2,
-            Qt.Orientation.Vertical,
-        )
-        self.resizeDocks(
-            [self.dock_episodes], [min(max(int(w * 0.35), 340), 560)], Qt.Orientation.Horizontal
-        )
+        small = h < SMALL_WINDOW_H  # a 1280x800 screen: the canvas needs every line
+        self.verdict_box.set_max_lines(5 if small else 7)
+        plots = max(int(h * 0.21), 150) if small else max(int(h * 0.27), 170)
+        self.resizeDocks([self.dock_plots, self.dock_batch], [plots] * 2, Qt.Orientation.Vertical)
+        # the overview's goal grid needs a line per landmark: more room when it is raised
+        self.tab_heights = {self.dock_plots: plots, self.dock_batch: max(plots, int(h * 0.33))}
+        # the list's own width (every column whole); a wide window gives the goals more
+        wanted = self.episode_list.preferred_width()
+        width = min(max(wanted, int(w * 0.3)), 560)
+        self.resizeDocks([self.dock_episodes], [width], Qt.Orientation.Horizontal)
         self.fit_views()
+
+    def _on_tab_shown(self, dock: QDockWidget, shown: bool) -> None:
+        """A bottom tab was raised (or left): keep each tab's height apart."""
+        if not self._docks_sized or dock.isFloating():
+            return
+        want = self.tab_heights.get(dock)
+        if want is None:
+            return
+        if not shown:  # a height far from the one asked for is the user's: keep it
+            if dock.height() > 0 and abs(dock.height() - want) > USER_RESIZE_PX:
+                self.tab_heights[dock] = dock.height()
+            return
+        if abs(want - dock.height()) > USER_RESIZE_PX // 2:
+            QTimer.singleShot(0, lambda: self.resizeDocks([dock], [want], Qt.Orientation.Vertical))
 
     def _dock(self, title: str, widget: QWidget, area: Qt.DockWidgetArea) -> QDockWidget:
         dock = QDockWidget(title, self)
@@ -434,6 +462,12 @@ class ReplayWindow(QMainWindow):
         """What the line under the canvas says now (rich text)."""
         return self.verdict.text()
 
+    def _on_verdict_link(self, link: str) -> None:
+        if link == LINK_COMPARED:
+            self.verdict.toggle_compared_details()
+        else:
+            self.go_to_diagnosis()
+
     def _update_verdict(self) -> None:
         compared = self.compare if self.compare_mode != "off" else None
         self.verdict.show_episodes(self.prepared, compared, self.clock.step)
@@ -590,7 +624,7 @@ class ReplayWindow(QMainWindow):
             pursued=bar.pursued_box.isChecked(),
             par_paths=bar.par_box.isChecked(),
         )
-        self.canvas.show_legend = bar.legend_box.isChecked()
+        self.canvas.show_legend = self.canvas_b.show_legend = bar.legend_box.isChecked()
         self.canvas.set_options(opts)
         self.canvas_b.set_options(opts)
         self.canvas.viewport().update()

@@ -32,6 +32,7 @@ class EpisodeSummary:
     #: the goal and diagnosis by landmark id, so a search for an id finds the row too
     search_ids: str = ""
     diagnosis_step: int | None = None
+    diagnosis_code: str | None = None  # core.analysis.diagnosis.CODES, for a short word
     steps: int | None = None
     loaded: bool = False  # False: placeholder row while metrics are being computed
     damage: str | None = None  # why the episode cannot be read (where and what), else None
@@ -78,6 +79,7 @@ def summary_from_metrics(scene: Scene, episode: Episode, metrics: Any) -> Episod
     names = LandmarkNames.of(scene)
     diag, code = getattr(metrics, "diagnosis", None), getattr(metrics, "diagnosis_code", None)
     diag_step = getattr(metrics, "diagnosis_step", None)
+    code = getattr(metrics, "diagnosis_code", None)
     # the goal the metrics judged (the team goal, or the shared pursued goal when none)
     goal = getattr(metrics, "goal", None)
     if goal is None and episode.team_goal is not None:
@@ -98,6 +100,7 @@ def summary_from_metrics(scene: Scene, episode: Episode, metrics: Any) -> Episod
         diagnosis=None if diag is None else diagnosis_words(str(diag), names, code),
         search_ids=f"{getattr(metrics, 'goal_key', None) or ''} {diag or ''}",
         diagnosis_step=None if diag_step is None else int(diag_step),
+        diagnosis_code=None if code is None else str(code),
         steps=episode.steps,
         loaded=True,
     )
