@@ -129,6 +129,9 @@ def launch_app(args: argparse.Namespace) -> int:
     if not screenshot and not _wants_moment(args):
         hold_background()
     app = QApplication.instance() or QApplication(sys.argv[:1])
+    from arena_studio.app.gui_gc import GuiThreadCollector
+
+    GuiThreadCollector(app)  # Qt objects die on the GUI thread only (a child of the app)
     app.setOrganizationName("arena_studio")
     app.setApplicationName("arena-studio")
     quiet = None if interactive else QuietDialogs()
