@@ -9,18 +9,23 @@ from __future__ import annotations
 
 from PySide6.QtCore import QRect, QSize
 
-#: the size the window prefers on a large screen
+#: the smallest size the window prefers (what it gets with no screen to measure)
 PREFERRED = QSize(1400, 900)
-#: part of the available area the first window may take
+#: part of a large screen's available area the first window takes (room for other windows)
+ROOMY = 0.85
+#: part of the available area the first window may take at most
 SHARE = 0.96
 
 
 def first_size(available: QRect | None, preferred: QSize = PREFERRED) -> QSize:
-    """``preferred`` shrunk into ``share`` of ``available`` (None: no screen, keep it)."""
+    """``ROOMY`` of ``available`` but at least ``preferred``, shrunk into ``SHARE`` of it
+    (None: no screen, ``preferred``)."""
     if available is None or available.isEmpty():
         return QSize(preferred)
-    w = min(preferred.width(), int(available.width() * SHARE))
-    h = min(preferred.height(), int(available.height() * SHARE))
+    w = max(preferred.width(), int(available.width() * ROOMY))
+    h = max(preferred.height(), int(available.height() * ROOMY))
+    w = min(w, int(available.width() * SHARE))
+    h = min(h, int(available.height() * SHARE))
     return QSize(max(w, 640), max(h, 480))
 
 

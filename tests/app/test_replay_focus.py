@@ -8,9 +8,10 @@ palette file (resources/palettes/light.json) and its background colour.
 from __future__ import annotations
 
 import json
+import math
 from pathlib import Path
 
-from PySide6.QtCore import QPointF, Qt
+from PySide6.QtCore import QPoint, QPointF, Qt
 
 from arena_studio.core.tape import open_tape
 
@@ -30,7 +31,13 @@ def test_click_focuses_an_agent_and_dims_the_others(qtbot, written_tape):  # noq
     w.select_episode(0)
     assert w.wait_loaded()
     w.clock.seek(10)
-    spots = [w.canvas.mapFromScene(QPointF(*ep.poses[10, a, :2])) for a in (0, 1)]
+    centres = [w.canvas.mapFromScene(QPointF(*ep.poses[10, a, :2])) for a in (0, 1)]
+    # read the body 4 px behind its centre: the heading tick starts at the centre
+    headings = [float(ep.poses[10, a, 2]) for a in (0, 1)]
+    spots = [
+        QPoint(round(c.x() - 4 * math.cos(h)), round(c.y() + 4 * math.sin(h)))
+        for c, h in zip(centres, headings, strict=True)
+    ]
 
     def colour_at(a: int) -> tuple[int, int, int]:
         img = w.canvas.viewport().grab().toImage()

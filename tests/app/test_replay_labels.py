@@ -90,8 +90,10 @@ def test_episode_list_shows_labels_and_finds_rows_by_label_or_id(window):
     model = window.episode_list.model
     row = next(r for r in range(model.rowCount()) if model.summaries()[r].index == 0)
     goal = model.data(model.index(row, COL["goal_label"]), Qt.ItemDataRole.DisplayRole)
-    diag = model.data(model.index(row, COL["diagnosis"]), Qt.ItemDataRole.DisplayRole)
+    cell = model.index(row, COL["diagnosis"])
+    diag = model.data(cell, Qt.ItemDataRole.ToolTipRole)  # the column shows a short word
     assert goal == "West valve + Potting bench"
+    assert model.data(cell, Qt.ItemDataRole.DisplayRole) == "left empty"
     assert diag == "targets left empty at the end: West valve + Potting bench"
     lst = window.episode_list
     found = {}

@@ -113,3 +113,30 @@ def test_heat_map_counts_are_the_report_table_transposed(qtbot) -> None:
     panel.set_report(tape.scene, report)
     panel.set_report(tape.scene, None)
     assert panel.cards == []
+
+
+@pytest.mark.parametrize("width, area", [(1230, "bottom"), (1700, "right")])
+def test_messages_dock_leaves_a_narrow_window_its_canvas(qtbot, width, area) -> None:
+    """At 1280x800 the Messages dock beside the canvas left the scene a few pixels a metre;
+    there it is a bottom tab behind the Plots (one click away), on a wide window beside."""
+    from PySide6.QtCore import Qt
+
+    w = ReplayWindow("light")
+    qtbot.addWidget(w)
+    w.resize(width, 770)
+    w.show()
+    w.open_tape(IGNORED)
+    assert w.wait_loaded() and w.session.wait_summaries(60000)
+    qtbot.waitUntil(lambda: w.session.message_report is not None, timeout=30000)
+    qtbot.waitUntil(lambda: not w.dock_messages.isHidden(), timeout=5000)
+    where = w.dockWidgetArea(w.dock_messages)
+    if area == "bottom":
+        assert where == Qt.DockWidgetArea.BottomDockWidgetArea
+        assert w.dock_messages in w.tabifiedDockWidgets(w.dock_plots)
+        assert w.plots.isVisible()  # the plots stay in front
+        w.dock_messages.raise_()
+        qtbot.waitUntil(lambda: w.messages.isVisible(), timeout=5000)
+    else:
+        assert where == Qt.DockWidgetArea.RightDockWidgetArea
+        assert w.messages.isVisible()
+    w.session.wait_idle()

@@ -17,8 +17,12 @@ def test_small_screen_gets_a_window_inside_its_free_area():
     assert size.width() <= 1280 and size.height() <= 773
 
 
-def test_large_screen_keeps_the_preferred_size():
-    assert first_size(QRect(0, 0, 1920, 1080)) == PREFERRED
+def test_large_screens_get_most_of_their_area():
+    # 85 % of 1920x1080 (2 px of rounding) and of 2560x1440, never under the preferred size
+    assert first_size(QRect(0, 0, 1920, 1080)) == QSize(1632, 918)
+    assert first_size(QRect(0, 0, 2560, 1440)) == QSize(2176, 1224)
+    assert first_size(QRect(0, 0, 1500, 1000)) == PREFERRED
+    assert first_size(QRect(0, 0, 1440, 900)) == QSize(1382, 864)  # 96 % caps it
     assert first_size(None) == PREFERRED
 
 

@@ -48,6 +48,9 @@ from arena_studio.render.theme import Theme, load_theme
 SMALL_WINDOW_H = 820
 #: a bottom tab this much taller or shorter than asked for was resized by the user
 USER_RESIZE_PX = 40
+#: narrower windows take the Messages dock as a bottom tab: beside the canvas it left the
+#: scene a few pixels a metre and squeezed the episode list at 1280x800
+NARROW_WINDOW_W = 1600
 
 
 class ReplayWindow(QMainWindow):
@@ -143,13 +146,14 @@ class ReplayWindow(QMainWindow):
             "Messages", self.messages, Qt.DockWidgetArea.RightDockWidgetArea
         )
         self.dock_messages.setVisible(False)  # shown when the tape has structured messages
+        self._messages_placed = False
         self.dock_plots.raise_()
         self.setCorner(Qt.Corner.BottomLeftCorner, Qt.DockWidgetArea.LeftDockWidgetArea)
         self._docks_sized = False
         #: the bottom tabs' own heights: the plots are read beside the canvas, the overview
         #: needs more lines (a small window gives each its own; a resize is remembered)
         self.tab_heights: dict[QDockWidget, int] = {}
-        for dock in (self.dock_plots, self.dock_batch):
+        for dock in (self.dock_plots, self.dock_batch, self.dock_messages):
             dock.visibilityChanged.connect(lambda shown, d=dock: self._on_tab_shown(d, shown))
 
     def showEvent(self, event) -> None:
@@ -169,6 +173,8 @@ class ReplayWindow(QMainWindow):
         self.resizeDocks([self.dock_plots, self.dock_batch], [plots] * 2, Qt.Orientation.Vertical)
         # the overview's goal grid needs a line per landmark: more room when it is raised
         self.tab_heights = {self.dock_plots: plots, self.dock_batch: max(plots, int(h * 0.33))}
+        if self.dockWidgetArea(self.dock_messages) == Qt.DockWidgetArea.BottomDockWidgetArea:
+            self.tab_heights[self.dock_messages] = self.tab_heights[self.dock_batch]
         # the list's own width (every column whole); a wide window gives the goals more
         wanted = self.episode_list.preferred_width()
         width = min(max(wanted, int(w * 0.3)), 560)
@@ -188,6 +194,18 @@ class ReplayWindow(QMainWindow):
             return
         if abs(want - dock.height()) > USER_RESIZE_PX // 2:
             QTimer.singleShot(0, lambda: self.resizeDocks([dock], [want], Qt.Orientation.Vertical))
+
+    def _place_messages_dock(self) -> None:
+        """The first time a tape has messages: a bottom tab beside Plots on a narrow window
+        (the Plots stay in front), the right side on a wide one."""
+        self._messages_placed = True
+        if self.width() >= NARROW_WINDOW_W or self.dock_messages.isFloating():
+            return
+        self.tabifyDockWidget(self.dock_plots, self.dock_messages)
+        overview = self.tab_heights.get(self.dock_batch)
+        if overview is not None:
+            self.tab_heights[self.dock_messages] = overview
+        self.dock_plots.raise_()
 
     def _dock(self, title: str, widget: QWidget, area: Qt.DockWidgetArea) -> QDockWidget:
         dock = QDockWidget(title, self)
@@ -488,6 +506,8 @@ class ReplayWindow(QMainWindow):
             return
         scene = self.session.scene
         self.messages.set_report(scene, report)
+        if report is not None and not self._messages_placed:
+            self._place_messages_dock()
         self.dock_messages.setVisible(report is not None)
         if report is None:
             self.verdict.explain = None
