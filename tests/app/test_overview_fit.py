@@ -27,3 +27,27 @@ def test_cell_text_fits_its_cell(qapp, w, h, text):
     lines = text.split("\n")
     assert max(metrics.horizontalAdvance(line) for line in lines) <= w
     assert metrics.height() * len(lines) <= h + 1
+
+
+@pytest.mark.parametrize("width", [250, 320, 600])
+def test_every_goal_cell_is_inside_a_narrow_grid(qtbot, width):
+    """Seven landmarks in a grid a 1280 screen leaves narrow: row names give up width, so
+    no column is cut. Reference: QRectF.contains (Qt geometry) of each cell in the widget."""
+    from arena_studio.app.replay.batch_stats import BatchStats, GoalStat
+    from arena_studio.app.replay.batch_view import GoalGrid
+    from arena_studio.core.resources import demo_path
+    from arena_studio.core.scene.model import load_scene
+
+    scene = load_scene(demo_path("parking-level.scene.json"))
+    n = len(scene.landmarks)
+    assert n == 7
+    pairs = {(i,) if i == j else (i, j) for i in range(n) for j in (i, n - 1)}
+    goals = tuple(GoalStat(goal, "", 4, 2) for goal in sorted(pairs))
+    stats = BatchStats(8, 8, 4, 0.5, 0.5, (2, 4), (2, 4), goals)
+    grid = GoalGrid()
+    qtbot.addWidget(grid)
+    grid.resize(width, 260)
+    grid.set_data(scene, stats)
+    grid.grab()  # paints, laying out the cells
+    frame = QRectF(grid.rect())
+    assert grid.cells() and all(frame.contains(rect) for rect, _stat in grid.cells())

@@ -68,6 +68,10 @@ def _luminance(c: QColor) -> float:
     return 0.2126 * lin(c.redF()) + 0.7152 * lin(c.greenF()) + 0.0722 * lin(c.blueF())
 
 
+#: the narrowest goal cell ("100%" at the smallest text size)
+MIN_CELL_W = 22.0
+
+
 class GoalGrid(QWidget):
     goalClicked = Signal(object, str)  # goal tuple, label
 
@@ -132,8 +136,10 @@ class GoalGrid(QWidget):
         large = [g for g in self._stats.goals if len(g.goal) > 2]
         fm = p.fontMetrics()
         head_w = min(max((fm.horizontalAdvance(f"{n}  {t}") for t in labels), default=40) + 10, 150)
+        # the cells come first: row names give up width (and shrink) before a column is cut
+        head_w = max(min(head_w, self.width() - 8 - MIN_CELL_W * max(n, 1)), 28.0)
         rows_h = self.height() - 24 - 18 - (34 if large else 0)
-        cw = max(min((self.width() - head_w - 8) / max(n, 1), 90.0), 22.0)  # cells may be
+        cw = max(min((self.width() - head_w - 8) / max(n, 1), 90.0), MIN_CELL_W)  # cells may be
         ch = max(min((rows_h - 4) / max(n, 1), 60.0), 16.0)  # wider than tall
         x0, y0 = head_w, 24.0
         p.setPen(theme.qcolor("text"))
