@@ -23,6 +23,8 @@ from arena_studio.render.view import ViewTransform
 LEGEND_W = 200.0
 #: views at least this wide get the full legend; narrower ones the compact one
 FULL_LEGEND_FROM_PX = 520
+#: ...as long as it leaves the scene this share of the scale the compact legend would
+FULL_LEGEND_KEEPS = 0.8
 #: the clock's two lines (render.legend.paint_clock at ui 1.0), and a caption line under it
 CLOCK_H = 50.0
 CAPTION_H = 24.0
@@ -76,10 +78,27 @@ def place_legend(
     """The legend's place in a ``size`` view; ``scale_for(room)`` says how large the scene
     would be drawn with that room taken (the compact legend goes where it is larger)."""
     w, h = size
+    compact = _best_compact(scene, episode, options, size, top, scale_for)
     if w >= FULL_LEGEND_FROM_PX:
+        # the full legend unless it shrinks the scene much more than the compact one would
+        # (a wide but short compare pane on a large screen)
         height = min(h - 20.0, 150.0 + 20.0 * (episode.agent_count + 9))
         rect = QRectF(int(w - LEGEND_W - 10), 10, LEGEND_W, height)
-        return LegendPlace("full", rect, None, Room(top, LEGEND_W + 60.0))
+        full = LegendPlace("full", rect, None, Room(top, LEGEND_W + 60.0))
+        if scale_for(full.room) >= FULL_LEGEND_KEEPS * scale_for(compact.room):
+            return full
+    return compact
+
+
+def _best_compact(
+    scene: Scene,
+    episode: Episode,
+    options: FrameOptions,
+    size: tuple[float, float],
+    top: float,
+    scale_for: Callable[[Room], float],
+) -> LegendPlace:
+    w, h = size
     # a strip bottom right, beside the scale bar (bottom left, at most w/6 long), or a
     # column top right; with every section, or fewer when they cost the scene much room
     best: tuple[float, LegendPlace] | None = None
