@@ -30,7 +30,6 @@ from arena_studio.core.child_process import die_with_parent
 from arena_studio.core.limits import FRAME_SIDE, MAX_CLIP_FRAMES, RangeError
 from arena_studio.core.scene.model import Scene
 from arena_studio.core.tape.episode import Episode
-from arena_studio.render.compare_still import side_title
 from arena_studio.render.episode_painter import FrameOptions
 from arena_studio.render.frame import IMAGE_FORMAT, FrameRenderer, png_bytes
 
@@ -218,13 +217,12 @@ class ClipPainter:
         self.size = size
         w, h = size
         if spec.compare:
-            half = w // 2
             # each half names its episode (under the title when there is one)
             self.parts = [
                 FrameRenderer(
                     scene, (width, h), replace(spec.frame, title=side_title(spec.frame, ep))
                 )
-                for width, ep in ((half, episodes[0]), (w - half, episodes[1]))
+                for (_x, width), ep in zip(halves(w), episodes, strict=True)
             ]
         else:
             self.parts = [FrameRenderer(scene, size, spec.frame)]
@@ -257,6 +255,19 @@ class ClipPainter:
         finally:
             painter.end()
         return image
+
+
+def side_title(options: FrameOptions, episode: Episode) -> str:
+    """Each half names its episode (after the frame's title when there is one)."""
+    if options.title:
+        return f"{options.title}  ·  episode {episode.index}"
+    return f"episode {episode.index}"
+
+
+def halves(width: int) -> tuple[tuple[int, int], tuple[int, int]]:
+    """``(x, width)`` of the left and right half; the right one takes an odd pixel."""
+    half = width // 2
+    return (0, half), (half, width - half)
 
 
 def _subtitle(ep: Episode) -> str:

@@ -9,6 +9,7 @@ same inputs, same pixels (no clock, no randomness, one font family).
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass, replace
 from pathlib import Path
 
@@ -360,13 +361,61 @@ def save_png_still(
     dpi: float | None = None,
 ) -> Path:
     """A PNG still of ``size`` x ``scale`` pixels (``dpi`` stored in the file), atomic write."""
-    opts = options or FrameOptions()
-    w, h = round(size[0] * scale), round(size[1] * scale)
-    ui = ui_scale_for(size, opts) * scale
-    image = render_frame(scene, episode, step, replace(opts, ui_scale=ui), (w, h))
+    pixels, opts = scaled(size, options or FrameOptions(), scale)
+    image = render_frame(scene, episode, step, opts, pixels)
     target = Path(path)
     write_bytes_atomic(target, png_bytes(image, dpi, STILL_MARK))
     return target
+
+
+def scaled(
+    size: tuple[int, int], options: FrameOptions, scale: float
+) -> tuple[tuple[int, int], FrameOptions]:
+    """Pixels and options of a still drawn ``scale`` times ``size``: everything grows, the
+    layout stays that of ``size``."""
+    ui = ui_scale_for(size, options) * scale
+    return (round(size[0] * scale), round(size[1] * scale)), replace(options, ui_scale=ui)
+
+
+def paint_still(
+    painter: QPainter,
+    scene: Scene,
+    episode: Episode,
+    step: int,
+    size: tuple[int, int],
+    theme: Theme,
+    options: FrameOptions,
+) -> None:
+    """One frame of ``size`` painted straight onto ``painter`` (vector output)."""
+    layout = frame_layout(scene, size, options)
+    own = episode_scene(scene, episode)  # its own landmark positions, if it recorded them
+    paint_static(painter, own, episode, layout, theme, options)
+    paint_dynamic(painter, own, episode, step, layout, theme, options)
+
+
+def svg_document(
+    size: tuple[int, int], title: str, description: str, paint: Callable[[QPainter], None]
+) -> bytes:
+    """An SVG of ``size`` that ``paint`` draws into: vector shapes, text kept as text
+    (QSvgGenerator)."""
+    from PySide6.QtSvg import QSvgGenerator
+
+    data = QByteArray()
+    buffer = QBuffer(data)
+    buffer.open(QIODevice.OpenModeFlag.WriteOnly)
+    gen = QSvgGenerator()
+    gen.setOutputDevice(buffer)
+    gen.setSize(QSize(*size))
+    gen.setViewBox(QRectF(0, 0, *size))
+    gen.setTitle(title)
+    gen.setDescription(description)
+    painter = QPainter(gen)
+    try:
+        paint(painter)
+    finally:
+        painter.end()
+    buffer.close()
+    return bytes(data.data())
 
 
 def svg_bytes(
@@ -378,30 +427,15 @@ def svg_bytes(
     title: str = "arena_studio frame",
 ) -> bytes:
     """The frame as SVG: vector shapes, text kept as text (QSvgGenerator)."""
-    from PySide6.QtSvg import QSvgGenerator
-
     opts = options or FrameOptions()
     theme = load_theme(opts.theme)
-    layout = frame_layout(scene, size, opts)
-    scene = episode_scene(scene, episode)  # its own landmark positions, if it recorded them
-    data = QByteArray()
-    buffer = QBuffer(data)
-    buffer.open(QIODevice.OpenModeFlag.WriteOnly)
-    gen = QSvgGenerator()
-    gen.setOutputDevice(buffer)
-    gen.setSize(QSize(*size))
-    gen.setViewBox(QRectF(0, 0, *size))
-    gen.setTitle(title)
-    gen.setDescription(f"{STILL_MARK}: {scene.name}, episode {episode.index}, step {step}")
-    painter = QPainter(gen)
-    try:
+
+    def paint(painter: QPainter) -> None:
         painter.fillRect(QRectF(0, 0, *size), theme.qcolor("background"))
-        paint_static(painter, scene, episode, layout, theme, opts)
-        paint_dynamic(painter, scene, episode, step, layout, theme, opts)
-    finally:
-        painter.end()
-    buffer.close()
-    return bytes(data.data())
+        paint_still(painter, scene, episode, step, size, theme, opts)
+
+    described = f"{STILL_MARK}: {scene.name}, episode {episode.index}, step {step}"
+    return svg_document(size, title, described, paint)
 
 
 def save_svg_still(

@@ -15,8 +15,8 @@ from PIL import Image
 
 from arena_studio.cli import main
 from arena_studio.core.tape import open_tape
-from arena_studio.render.clip import ClipPainter, ClipSpec, Shot
-from arena_studio.render.compare_still import halves, render_compare, save_compare_png
+from arena_studio.render.clip import ClipPainter, ClipSpec, Shot, halves
+from arena_studio.render.compare_still import render_compare, save_compare_png
 from arena_studio.render.episode_painter import FrameOptions
 from arena_studio.render.frame import ui_scale_for
 
