@@ -129,6 +129,18 @@ def build_target_field(
 LEG_BATCH = 24
 
 
+def first_node_bounds(
+    starts: np.ndarray, graph: VisibilityGraph, field: TargetField
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """The nodes that reach the target (indices), each start's lower bound |s v| + dist(v)
+    via each of them (starts x nodes), and each start's nodes in order of that bound."""
+    finite = np.flatnonzero(np.isfinite(field.dist))
+    nodes = graph.nodes[finite]
+    diff = starts[:, None, :] - nodes[None, :, :]
+    bound = np.hypot(diff[..., 0], diff[..., 1]) + field.dist[finite][None, :]
+    return finite, bound, np.argsort(bound, axis=1, kind="stable")
+
+
 def best_first_node(
     graph: VisibilityGraph, field: TargetField, starts: np.ndarray, limit: np.ndarray
 ) -> tuple[np.ndarray, np.ndarray]:
@@ -142,13 +154,9 @@ def best_first_node(
     n = starts.shape[0]
     via = np.full(n, np.inf)
     via_node = np.full(n, -1, dtype=np.int64)
-    finite = np.flatnonzero(np.isfinite(field.dist))
+    finite, bound, order = first_node_bounds(starts, graph, field)
     if finite.size == 0 or n == 0:
         return via, via_node
-    nodes = graph.nodes[finite]
-    diff = starts[:, None, :] - nodes[None, :, :]
-    bound = np.hypot(diff[..., 0], diff[..., 1]) + field.dist[finite][None, :]
-    order = np.argsort(bound, axis=1, kind="stable")
     pending = np.arange(n)
     for first in range(0, finite.size, LEG_BATCH):
         if pending.size:
@@ -157,7 +165,7 @@ def best_first_node(
             break
         cols = order[pending, first : first + LEG_BATCH]
         a = np.repeat(starts[pending], cols.shape[1], axis=0)
-        ok = graph.clear(a, nodes[cols.ravel()]).reshape(cols.shape)
+        ok = graph.clear(a, graph.nodes[finite[cols.ravel()]]).reshape(cols.shape)
         hit = ok.any(axis=1)
         pick = cols[hit, ok[hit].argmax(axis=1)]
         rows = pending[hit]
@@ -173,6 +181,7 @@ __all__ = [
     "best_first_node",
     "best_straight_leg",
     "build_target_field",
+    "first_node_bounds",
     "nearest_points_of",
     "target_corners",
 ]

@@ -20,7 +20,7 @@ from shapely.geometry.base import BaseGeometry
 
 from arena_studio.core.geometry.paths import shared_planner
 from arena_studio.core.geometry.visibility import VisibilityGraph
-from arena_studio.core.geometry.visibility_fields import TargetField
+from arena_studio.core.geometry.visibility_fields import TargetField, first_node_bounds
 from arena_studio.core.scene.model import Scene
 
 
@@ -91,13 +91,9 @@ def _first_nodes(
     n = starts.shape[0]
     via = np.full(n, np.inf)
     via_node = np.full(n, -1, dtype=np.int64)
-    finite = np.flatnonzero(np.isfinite(field.dist))
+    finite, bound, order = first_node_bounds(starts, graph, field)
     if finite.size == 0 or n == 0:
         return via, via_node
-    nodes = graph.nodes[finite]
-    diff = starts[:, None, :] - nodes[None, :, :]
-    bound = np.hypot(diff[..., 0], diff[..., 1]) + field.dist[finite][None, :]
-    order = np.argsort(bound, axis=1, kind="stable")
     pending = np.arange(n)
     first = 0
     round_ = 0
@@ -105,7 +101,7 @@ def _first_nodes(
         size = _ROUNDS[min(round_, len(_ROUNDS) - 1)]
         cols = order[pending, first : first + size]
         a = np.repeat(starts[pending], cols.shape[1], axis=0)
-        ok = graph.clear(a, nodes[cols.ravel()]).reshape(cols.shape)
+        ok = graph.clear(a, graph.nodes[finite[cols.ravel()]]).reshape(cols.shape)
         hit = ok.any(axis=1)
         pick = cols[hit, ok[hit].argmax(axis=1)]
         rows = pending[hit]
