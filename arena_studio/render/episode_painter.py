@@ -22,6 +22,7 @@ Visual language (our own design):
 from __future__ import annotations
 
 import bisect
+import functools
 import math
 import time
 from collections.abc import Callable
@@ -274,12 +275,18 @@ def paint_targets(
         painter.drawImage(sprite[0], sprite[1])
 
 
+@functools.lru_cache(maxsize=256)
+def _arrival_half_width(text: str, ui: float) -> float:
+    """Half an arrival text's width plus its backdrop: measured once per text, not per frame."""
+    return QFontMetricsF(font(11 * ui, bold=True)).horizontalAdvance(text) / 2 + 4.0
+
+
 def _text_shift(x: float, text: str, ui: float, width: float) -> float:
     """Pixels to move a target's "n at t s" text sideways so it stays inside the frame (a
     wall landmark's target sits at the frame's edge); 0 when it fits centred."""
     if not text or width <= 0:
         return 0.0
-    half = QFontMetricsF(font(11 * ui, bold=True)).horizontalAdvance(text) / 2 + 4.0
+    half = _arrival_half_width(text, ui)
     if 2 * half >= width:
         return 0.0
     return max(half - x, 0.0) - max(x + half - width, 0.0)
